@@ -1,0 +1,33 @@
+// @ts-check
+import { defineConfig } from 'astro/config';
+import node from '@astrojs/node';
+import react from '@astrojs/react';
+import tailwindcss from '@tailwindcss/vite';
+import auth from 'auth-astro';
+
+/**
+ * Host names the server answers to. Astro only trusts a request's host when it is listed here;
+ * add the public host of a deployment through PUBLIC_HOSTNAMES (comma separated) at build time.
+ */
+const extraHosts = (process.env.PUBLIC_HOSTNAMES ?? '')
+  .split(',')
+  .map((h) => h.trim())
+  .filter(Boolean);
+
+export default defineConfig({
+  output: 'server',
+  adapter: node({ mode: 'standalone' }),
+  outDir: process.env.ASTRO_OUT_DIR ?? './dist',
+  server: { host: '127.0.0.1', port: 4321 },
+  integrations: [react(), auth({ injectEndpoints: false })],
+  security: {
+    checkOrigin: true,
+    allowedDomains: [{ hostname: '127.0.0.1' }, { hostname: 'localhost' }, ...extraHosts.map((hostname) => ({ hostname }))],
+  },
+  vite: {
+    plugins: [tailwindcss()],
+    ssr: {
+      external: ['@node-rs/argon2', 'sharp', 'pg', 'knex', 'pg-boss'],
+    },
+  },
+});

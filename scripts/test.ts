@@ -1,0 +1,74 @@
+/**
+ * npm test: the same services as npm start, on their own ports, data folder and database (never the
+ * demo's), then every test — unit, integration (real PostgreSQL) and end-to-end (headless Chromium).
+ * Works whether or not `npm start` is running. Exits with the test runner's code.
+ */
+import path from 'node:path';
+import { spawn } from 'node:child_process';
+import {
+  ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
+  recreateDatabase, runNode, say, spawnService, startFakes, stopPostgres, stopServices, superuserUrl, waitForPort,
+} from './lib/stack';
+
+const cfg = readConfig(
+  'test',
+  {
+    dataDir: 'TEST_DATA_DIR', appPort: 'TEST_PORT', pgPort: 'TEST_PG_PORT', smtpPort: 'TEST_SMTP_PORT',
+    mailWebPort: 'TEST_MAIL_WEB_PORT', stripePort: 'TEST_STRIPE_PORT', s3Port: 'TEST_S3_PORT',
+  },
+  { dataDir: '.data/test', appPort: 4331, pgPort: 54339, smtpPort: 1125, mailWebPort: 1180, stripePort: 12121, s3Port: 4579, dbName: 'beamwarden_test' },
+);
+
+let pgData: string | undefined;
+let pgStartedHere = false;
+
+async function cleanup(): Promise<void> {
+  await stopServices();
+  if (pgData && pgStartedHere && !process.env.TEST_KEEP_PG) stopPostgres(pgData);
+}
+process.on('SIGINT', () => void cleanup().then(() => process.exit(130)));
+process.on('SIGTERM', () => void cleanup().then(() => process.exit(143)));
+
+if (!process.env.TEST_SKIP_TYPECHECK) runNode(['--import', 'tsx', 'scripts/check.ts'], {}, 'The TypeScript check');
+await assertPortFree(cfg.appPort, 'the test app (TEST_PORT)');
+const secrets = loadSecrets(cfg);
+const pgInfo = await ensurePostgres(cfg, secrets);
+pgData = pgInfo.pgData;
+pgStartedHere = pgInfo.startedHere;
+
+say(`Recreating the test database ${cfg.dbName}`);
+await recreateDatabase(cfg, secrets, cfg.dbName);
+
+const env = appEnv(cfg, secrets, {
+  // seen by the tests only
+  APP_URL: `http://${HOST}:${cfg.appPort}`,
+  TEST_SUPERUSER_URL: superuserUrl(cfg, secrets),
+  TEST_SCRATCH_DB_URL: databaseUrl(cfg, secrets, `${cfg.dbName}_scratch`),
+  TEST_DATA_DIR: cfg.dataDir,
+  TEST_PG_DATA: pgData,
+  TEST_STRIPE_PORT: String(cfg.stripePort),
+  TEST_S3_PORT: String(cfg.s3Port),
+  TEST_SMTP_PORT: String(cfg.smtpPort),
+  TEST_MAIL_WEB_PORT: String(cfg.mailWebPort),
+  CHROMIUM_PATH: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
+});
+
+runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the test database');
+await startFakes(cfg);
+buildApp(path.join(ROOT, 'dist-test'), env);
+
+const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-test/server/entry.mjs')], env);
+const worker = spawnService(cfg, 'worker', ['--import', 'tsx', path.join(ROOT, 'scripts/worker.ts')], env);
+await waitForPort(cfg.appPort, 'the test app', app.child);
+if (worker.child.exitCode !== null) console.error('✖ The worker exited early; see .data/test/logs/worker.log');
+
+say(`Running the tests against http://${HOST}:${cfg.appPort} (logs in ${path.relative(ROOT, cfg.dataDir)}/logs)`);
+const args = [path.join(ROOT, 'node_modules/vitest/vitest.mjs'), 'run', ...process.argv.slice(2)];
+const code: number = await new Promise((resolve) => {
+  const child = spawn(process.execPath, args, { cwd: ROOT, env: { ...process.env, ...env, NODE_ENV: 'test' }, stdio: 'inherit' });
+  child.once('exit', (c, signal) => resolve(c ?? (signal ? 1 : 0)));
+});
+
+await cleanup();
+say(code === 0 ? 'All tests passed' : `Tests failed (exit code ${code})`);
+process.exit(code);

@@ -1,0 +1,168 @@
+/** Admin › People: search, sort and page through people; grant or remove roles (each change is audited). */
+import { useCallback, useEffect, useId, useState } from 'react';
+import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
+import { api, ApiError } from './ui/api';
+
+interface PersonRow {
+  id: string;
+  email: string;
+  name: string;
+  roles: Role[];
+  active: boolean;
+  createdAt: string;
+}
+interface PageData {
+  total: number;
+  page: number;
+  pageSize: number;
+  rows: PersonRow[];
+}
+type Sort = 'name' | 'email' | 'created';
+
+export default function PeopleAdmin({ selfId }: { selfId: string }) {
+  const [q, setQ] = useState('');
+  const [query, setQuery] = useState('');
+  const [roleFilter, setRoleFilter] = useState<Role | ''>('');
+  const [sort, setSort] = useState<Sort>('name');
+  const [dir, setDir] = useState<'asc' | 'desc'>('asc');
+  const [page, setPage] = useState(1);
+  const [data, setData] = useState<PageData | null>(null);
+  const [loading, setLoading] = useState(true);
+  const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
+  const [busy, setBusy] = useState<string | null>(null);
+  const searchId = useId();
+  const pageSize = 20;
+
+  useEffect(() => {
+    const t = setTimeout(() => {
+      setQuery(q.trim());
+      setPage(1);
+    }, 250);
+    return () => clearTimeout(t);
+  }, [q]);
+
+  const load = useCallback(async () => {
+    setLoading(true);
+    const params = new URLSearchParams({ page: String(page), pageSize: String(pageSize), sort, dir });
+    if (query) params.set('q', query);
+    if (roleFilter) params.set('role', roleFilter);
+    try {
+      setData(await api<PageData>(`/api/people?${params}`));
+    } catch (e) {
+      setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'Could not load people.' });
+    } finally {
+      setLoading(false);
+    }
+  }, [page, sort, dir, query, roleFilter]);
+
+  useEffect(() => {
+    void load();
+  }, [load]);
+
+  async function toggle(person: PersonRow, role: Role, on: boolean) {
+    const roles = on ? [...person.roles, role] : person.roles.filter((r) => r !== role);
+    setBusy(`${person.id}:${role}`);
+    setMessage(null);
+    try {
+      const updated = await api<PersonRow>(`/api/people/${person.id}/roles`, { method: 'PUT', json: { roles } });
+      setData((d) => (d ? { ...d, rows: d.rows.map((r) => (r.id === person.id ? { ...r, roles: updated.roles } : r)) } : d));
+      setMessage({ tone: 'ok', text: `${person.name}: ${on ? 'granted' : 'removed'} ${ROLE_LABELS[role]}.` });
+    } catch (e) {
+      setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'The change was not saved.' });
+    } finally {
+      setBusy(null);
+    }
+  }
+
+  function sortBy(column: Sort) {
+    if (sort === column) setDir(dir === 'asc' ? 'desc' : 'asc');
+    else {
+      setSort(column);
+      setDir('asc');
+    }
+    setPage(1);
+  }
+
+  const pages = data ? Math.max(1, Math.ceil(data.total / pageSize)) : 1;
+  const sortMark = (c: Sort) => (sort === c ? (dir === 'asc' ? ' ▲' : ' ▼') : '');
+  const ariaSort = (c: Sort) => (sort === c ? (dir === 'asc' ? 'ascending' : 'descending') : 'none');
+
+  return (
+    <div className="space-y-4">
+      <div className="flex flex-wrap items-end gap-3">
+        <label className="field min-w-64 flex-1" htmlFor={searchId}>
+          <span>Search by name or e-mail</span>
+          <input id={searchId} className="input" type="search" value={q} onChange={(e) => setQ(e.target.value)} maxLength={200} />
+        </label>
+        <label className="field">
+          <span>Role</span>
+          <select className="input" value={roleFilter} onChange={(e) => { setRoleFilter(e.target.value as Role | ''); setPage(1); }}>
+            <option value="">Any role</option>
+            {ROLES.map((r) => (
+              <option key={r} value={r}>{ROLE_LABELS[r]}</option>
+            ))}
+          </select>
+        </label>
+      </div>
+      <p aria-live="polite" className={message ? `notice notice-${message.tone}` : 'sr-only'}>{message?.text ?? ''}</p>
+      <div className="card overflow-x-auto">
+        <table className="table" aria-busy={loading}>
+          <caption className="sr-only">People and their roles</caption>
+          <thead>
+            <tr>
+              <th aria-sort={ariaSort('name')}><button type="button" className="font-semibold" onClick={() => sortBy('name')}>Name{sortMark('name')}</button></th>
+              <th className="hidden md:table-cell" aria-sort={ariaSort('email')}><button type="button" className="font-semibold" onClick={() => sortBy('email')}>E-mail{sortMark('email')}</button></th>
+              <th>Roles</th>
+              <th className="hidden md:table-cell" aria-sort={ariaSort('created')}><button type="button" className="font-semibold" onClick={() => sortBy('created')}>Joined{sortMark('created')}</button></th>
+            </tr>
+          </thead>
+          <tbody>
+            {data?.rows.map((p) => (
+              <tr key={p.id} data-person={p.email}>
+                <td className="font-medium">
+                  {p.name}{!p.active && <span className="status status-stop ml-2">Deactivated</span>}
+                  <span className="block break-all text-sm font-normal text-charcoal-soft md:hidden">{p.email}</span>
+                </td>
+                <td className="hidden break-all md:table-cell">{p.email}</td>
+                <td>
+                  <fieldset className="flex flex-wrap gap-x-4 gap-y-1">
+                    <legend className="sr-only">Roles of {p.name}</legend>
+                    {ROLES.map((r) => {
+                      const checked = p.roles.includes(r);
+                      const lockSelf = p.id === selfId && r === 'admin' && checked;
+                      return (
+                        <label key={r} className="inline-flex min-h-8 items-center gap-1.5 text-sm">
+                          <input
+                            type="checkbox"
+                            className="h-4 w-4 accent-[var(--color-ember)]"
+                            checked={checked}
+                            disabled={busy !== null || lockSelf}
+                            title={lockSelf ? 'You cannot remove your own admin role' : undefined}
+                            onChange={(e) => void toggle(p, r, e.target.checked)}
+                          />
+                          {ROLE_LABELS[r]}
+                        </label>
+                      );
+                    })}
+                  </fieldset>
+                </td>
+                <td className="hidden whitespace-nowrap text-sm md:table-cell">{new Date(p.createdAt).toLocaleDateString()}</td>
+              </tr>
+            ))}
+            {data && data.rows.length === 0 && (
+              <tr><td colSpan={4} className="text-center text-charcoal-soft">Nobody matches.</td></tr>
+            )}
+          </tbody>
+        </table>
+      </div>
+      <nav aria-label="Pages" className="flex items-center justify-between gap-3 text-sm">
+        <span>{data ? `${data.total} ${data.total === 1 ? 'person' : 'people'}` : 'Loading…'}</span>
+        <span className="flex items-center gap-2">
+          <button type="button" className="btn btn-quiet" disabled={page <= 1} onClick={() => setPage(page - 1)}>Previous</button>
+          <span>Page {page} of {pages}</span>
+          <button type="button" className="btn btn-quiet" disabled={page >= pages} onClick={() => setPage(page + 1)}>Next</button>
+        </span>
+      </nav>
+    </div>
+  );
+}

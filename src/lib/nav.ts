@@ -1,0 +1,26 @@
+/**
+ * The screens in the navigation, and who sees each. A screen appears here once it exists; its page
+ * checks the same roles on the server (see src/lib/server/guards.ts).
+ */
+import { hasAnyRole, type Role } from './roles';
+
+export interface NavItem {
+  label: string;
+  href: string;
+  roles: Role[];
+  group: 'everyone' | 'teaching' | 'upkeep' | 'admin';
+}
+
+export const NAV: NavItem[] = [
+  { label: 'Floor', href: '/', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
+  { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
+];
+
+export function navFor(roles: readonly Role[]): NavItem[] {
+  return NAV.filter((item) => hasAnyRole(roles, item.roles));
+}
+
+/** True when `href` is the current page or a section above it. */
+export function isCurrent(href: string, pathname: string): boolean {
+  return href === '/' ? pathname === '/' : pathname === href || pathname.startsWith(`${href}/`);
+}

@@ -1,0 +1,67 @@
+/**
+ * The one connection pool of this process. Only modules in src/lib/server import it; pages and API
+ * routes call those modules.
+ */
+import knexFactory, { type Knex } from 'knex';
+import pg from 'pg';
+import { env } from './env';
+
+// timestamptz → JS Date (the default); bigint counts (COUNT(*)) → number when they fit.
+pg.types.setTypeParser(pg.types.builtins.INT8, (v: string) => {
+  const n = Number(v);
+  return Number.isSafeInteger(n) ? n : v;
+});
+// numeric → number (rates and measurements here stay well inside double precision; money is integer minor units)
+pg.types.setTypeParser(pg.types.builtins.NUMERIC, (v: string) => Number(v));
+
+let instance: Knex | undefined;
+
+export function db(): Knex {
+  if (!instance) {
+    instance = knexFactory({
+      client: 'pg',
+      connection: env().DATABASE_URL,
+      pool: {
+        min: 0,
+        max: env().DATABASE_POOL_MAX,
+        // a connection broken by a database restart is dropped instead of handed out again
+        afterCreate: (conn: pg.Client, done: (err: Error | null, conn: pg.Client) => void) => {
+          conn.on('error', () => undefined);
+          conn.query("SET TIME ZONE 'UTC'", (err) => done(err ?? null, conn));
+        },
+      },
+      acquireConnectionTimeout: 10_000,
+    });
+  }
+  return instance;
+}
+
+export type Trx = Knex.Transaction;
+export type Db = Knex | Knex.Transaction;
+
+/** Runs `work` in one transaction: everything or nothing is written. */
+export function transaction<T>(work: (trx: Knex.Transaction) => Promise<T>, config?: Knex.TransactionConfig): Promise<T> {
+  return db().transaction(work, config);
+}
+
+export async function closeDb(): Promise<void> {
+  if (instance) {
+    const i = instance;
+    instance = undefined;
+    await i.destroy();
+  }
+}
+
+/** PostgreSQL error codes the modules map to HTTP answers. */
+export const PG = {
+  uniqueViolation: '23505',
+  foreignKeyViolation: '23503',
+  checkViolation: '23514',
+  exclusionViolation: '23P01',
+  serializationFailure: '40001',
+  deadlockDetected: '40P01',
+} as const;
+
+export function pgCode(err: unknown): string | undefined {
+  return typeof err === 'object' && err !== null && 'code' in err ? String((err as { code: unknown }).code) : undefined;
+}

@@ -1,0 +1,117 @@
+/**
+ * Conventions of every JSON API route: errors as
+ * {"error": {"code", "message", "fields"?}} with a 4xx status, never a stack trace.
+ */
+import type { APIContext, APIRoute } from 'astro';
+import { z, type ZodType } from 'zod';
+import { hasAnyRole, type Role } from '../roles';
+import type { SignedInPerson } from './session';
+
+export class HttpError extends Error {
+  constructor(
+    public readonly status: number,
+    public readonly code: string,
+    message: string,
+    public readonly fields?: Record<string, string>,
+    public readonly headers?: Record<string, string>,
+  ) {
+    super(message);
+  }
+}
+
+const NO_STORE = { 'cache-control': 'no-store' };
+
+export function json(data: unknown, status = 200, headers: Record<string, string> = {}): Response {
+  return new Response(JSON.stringify(data), {
+    status,
+    headers: { 'content-type': 'application/json; charset=utf-8', ...NO_STORE, ...headers },
+  });
+}
+
+export function errorResponse(status: number, code: string, message: string, fields?: Record<string, string>, headers?: Record<string, string>): Response {
+  return json({ error: { code, message, ...(fields ? { fields } : {}) } }, status, headers);
+}
+
+/** Field messages keyed by dotted path, from a zod error. */
+export function fieldMessages(error: z.ZodError): Record<string, string> {
+  const fields: Record<string, string> = {};
+  for (const issue of error.issues) {
+    const key = issue.path.length ? issue.path.map(String).join('.') : '_';
+    fields[key] ??= issue.message;
+  }
+  return fields;
+}
+
+/** Wraps a route: maps HttpError and validation errors to their answers; anything else is a logged 500 without details. */
+export function route(handler: (ctx: APIContext) => Promise<Response> | Response): APIRoute {
+  return async (ctx) => {
+    try {
+      return await handler(ctx);
+    } catch (err) {
+      if (err instanceof HttpError) return errorResponse(err.status, err.code, err.message, err.fields, err.headers);
+      if (err instanceof z.ZodError) return errorResponse(422, 'invalid', 'Some fields are not valid; see fields.', fieldMessages(err));
+      console.error(`[api] ${ctx.request.method} ${ctx.url.pathname}:`, err);
+      return errorResponse(500, 'internal_error', 'Something went wrong on our side. Try again; if it persists, tell a steward.');
+    }
+  };
+}
+
+const MAX_JSON_BYTES = 256 * 1024;
+
+/** Reads and validates a JSON body: 415 when it is not JSON, 413 when too large, 400 when unparsable, 422 when invalid. */
+export async function readJson<T>(request: Request, schema: ZodType<T>): Promise<T> {
+  const type = request.headers.get('content-type') ?? '';
+  if (!/^application\/json\b/i.test(type)) throw new HttpError(415, 'unsupported_media_type', 'Send the body as JSON (Content-Type: application/json).');
+  const declared = Number(request.headers.get('content-length') ?? '0');
+  if (declared > MAX_JSON_BYTES) throw new HttpError(413, 'body_too_large', `The body is larger than ${MAX_JSON_BYTES / 1024} KB.`);
+  const text = await readLimited(request, MAX_JSON_BYTES);
+  let data: unknown;
+  try {
+    data = JSON.parse(text);
+  } catch {
+    throw new HttpError(400, 'bad_json', 'The body is not valid JSON.');
+  }
+  return parseWith(schema, data);
+}
+
+async function readLimited(request: Request, limit: number): Promise<string> {
+  if (!request.body) return '';
+  const reader = request.body.getReader();
+  const chunks: Uint8Array[] = [];
+  let size = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) break;
+    size += value.byteLength;
+    if (size > limit) {
+      await reader.cancel();
+      throw new HttpError(413, 'body_too_large', `The body is larger than ${limit / 1024} KB.`);
+    }
+    chunks.push(value);
+  }
+  return Buffer.concat(chunks).toString('utf8');
+}
+
+export function parseWith<T>(schema: ZodType<T>, data: unknown): T {
+  const parsed = schema.safeParse(data);
+  if (!parsed.success) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', fieldMessages(parsed.error));
+  return parsed.data;
+}
+
+/** Validates the query string (every value a string; repeated keys keep the last). */
+export function readQuery<T>(url: URL, schema: ZodType<T>): T {
+  return parseWith(schema, Object.fromEntries(url.searchParams.entries()));
+}
+
+export function requireSignedIn(locals: App.Locals): SignedInPerson {
+  if (!locals.person) throw new HttpError(401, 'sign_in_required', 'Sign in first.');
+  return locals.person;
+}
+
+export function requireRole(locals: App.Locals, ...roles: Role[]): SignedInPerson {
+  const person = requireSignedIn(locals);
+  if (!hasAnyRole(person.roles, roles)) {
+    throw new HttpError(403, 'forbidden', `This needs the ${roles.join(' or ')} role.`);
+  }
+  return person;
+}

@@ -1,0 +1,76 @@
+/**
+ * Background work through pg-boss (queues kept in PostgreSQL, so nothing is lost when a process or a
+ * service stops). Modules enqueue inside their own transaction: the job exists only if the change
+ * that asked for it was committed.
+ */
+import PgBoss from 'pg-boss';
+import type { Knex } from 'knex';
+import { env } from './env';
+
+/** Every queue, with its retry policy. Add a queue here, then its handler in src/lib/server/worker.ts. */
+export const QUEUES = {
+  'mail.send': { retryLimit: 30, retryDelay: 10, retryBackoff: true, expireInSeconds: 300 },
+} as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
+
+export type QueueName = keyof typeof QUEUES;
+
+let boss: PgBoss | undefined;
+let starting: Promise<PgBoss> | undefined;
+
+/** The app's handle on the queues: it sends, it does not supervise or run schedules. */
+export function jobs(): Promise<PgBoss> {
+  if (boss) return Promise.resolve(boss);
+  starting ??= (async () => {
+    const b = new PgBoss({
+      connectionString: env().DATABASE_URL,
+      max: 2,
+      supervise: false,
+      schedule: false,
+      migrate: false,
+    });
+    b.on('error', (err) => console.error('[jobs]', err.message));
+    await b.start();
+    boss = b;
+    return b;
+  })().catch((err) => {
+    starting = undefined;
+    throw err;
+  });
+  return starting;
+}
+
+/** Installs pg-boss's schema and creates every queue (run by the migrate script and the worker). */
+export async function installQueues(connectionString: string): Promise<PgBoss> {
+  const b = new PgBoss({ connectionString, max: 4 });
+  b.on('error', (err) => console.error('[jobs]', err.message));
+  await b.start();
+  for (const [name, options] of Object.entries(QUEUES)) {
+    const existing = await b.getQueue(name);
+    if (existing) await b.updateQueue(name, { name, ...options });
+    else await b.createQueue(name, { name, ...options });
+  }
+  return b;
+}
+
+/** pg-boss runs its insert on the caller's transaction, so the job commits or rolls back with it. */
+function onTransaction(trx: Knex.Transaction): PgBoss.Db {
+  return {
+    async executeSql(text: string, values: unknown[]) {
+      const conn = (await trx.client.acquireConnection()) as { query: (t: string, v: unknown[]) => Promise<{ rows: unknown[] }> };
+      const result = await conn.query(text, values);
+      return { rows: result.rows as never[] };
+    },
+  };
+}
+
+export async function enqueue<T extends object>(trx: Knex.Transaction | null, name: QueueName, data: T, options: PgBoss.SendOptions = {}): Promise<string | null> {
+  const b = await jobs();
+  return b.send(name, data, trx ? { ...options, db: onTransaction(trx) } : options);
+}
+
+export async function stopJobs(): Promise<void> {
+  const b = boss;
+  boss = undefined;
+  starting = undefined;
+  if (b) await b.stop({ graceful: false, wait: true });
+}

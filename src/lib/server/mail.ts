@@ -1,0 +1,62 @@
+/**
+ * Outgoing e-mail. Modules call queueMail inside their transaction; the worker sends through SMTP
+ * (maildev locally) with retries, so a mail server that is down delays a message but never loses it.
+ */
+import nodemailer, { type Transporter } from 'nodemailer';
+import type { Knex } from 'knex';
+import { env } from './env';
+import { enqueue } from './jobs';
+import { renderEmail, type EmailContent } from '../email-layout';
+
+export interface MailAttachment {
+  filename: string;
+  contentType: string;
+  /** base64 */
+  content: string;
+}
+
+export interface MailMessage {
+  to: string;
+  subject: string;
+  text: string;
+  html: string;
+  attachments?: MailAttachment[];
+}
+
+/** Queue a message built from the shared layout (HTML and plain text). */
+export async function queueMail(trx: Knex.Transaction | null, to: string, subject: string, content: EmailContent, attachments?: MailAttachment[]): Promise<void> {
+  const { html, text } = renderEmail(subject, content);
+  const message: MailMessage = { to, subject, html, text, ...(attachments ? { attachments } : {}) };
+  await enqueue(trx, 'mail.send', message);
+}
+
+let transport: Transporter | undefined;
+
+function smtp(): Transporter {
+  transport ??= nodemailer.createTransport({
+    host: env().SMTP_HOST,
+    port: env().SMTP_PORT,
+    secure: false,
+    ignoreTLS: env().SMTP_HOST === '127.0.0.1',
+    connectionTimeout: 5000,
+    greetingTimeout: 5000,
+    socketTimeout: 10000,
+  });
+  return transport;
+}
+
+/** Sends one message now; throws when the server is unreachable (the worker retries). */
+export async function sendMailNow(message: MailMessage): Promise<void> {
+  await smtp().sendMail({
+    from: env().MAIL_FROM,
+    to: message.to,
+    subject: message.subject,
+    text: message.text,
+    html: message.html,
+    attachments: message.attachments?.map((a) => ({
+      filename: a.filename,
+      contentType: a.contentType,
+      content: Buffer.from(a.content, 'base64'),
+    })),
+  });
+}

@@ -1,0 +1,122 @@
+/** People and their roles: all SQL for this area. */
+import type { Knex } from 'knex';
+import { db, pgCode, PG, transaction } from './db';
+import { recordAudit } from './audit';
+import { hashPassword } from './passwords';
+import { normaliseRoles, type Role } from '../roles';
+import { HttpError } from './http';
+
+export interface Person {
+  id: string;
+  email: string;
+  name: string;
+  roles: Role[];
+  active: boolean;
+  createdAt: Date;
+}
+
+type Row = { id: string; email: string; name: string; active: boolean; created_at: Date; roles: string[] | null };
+
+function toPerson(r: Row): Person {
+  return { id: r.id, email: r.email, name: r.name, active: r.active, createdAt: r.created_at, roles: normaliseRoles(r.roles ?? []) };
+}
+
+function withRoles(q: Knex | Knex.Transaction) {
+  return q('people as p')
+    .leftJoin('role_grants as g', 'g.person_id', 'p.id')
+    .groupBy('p.id')
+    .select('p.id', 'p.email', 'p.name', 'p.active', 'p.created_at', q.raw("coalesce(array_agg(g.role ORDER BY g.role) FILTER (WHERE g.role IS NOT NULL), '{}') AS roles"));
+}
+
+export async function getPerson(id: string, trx: Knex | Knex.Transaction = db()): Promise<Person | null> {
+  const row = (await withRoles(trx).where('p.id', id).first()) as Row | undefined;
+  return row ? toPerson(row) : null;
+}
+
+export async function getPersonByEmail(email: string): Promise<Person | null> {
+  const row = (await withRoles(db()).whereRaw('lower(p.email) = lower(?)', [email]).first()) as Row | undefined;
+  return row ? toPerson(row) : null;
+}
+
+export async function findForSignIn(email: string): Promise<{ id: string; email: string; name: string; passwordHash: string; active: boolean } | null> {
+  const row = await db()('people').whereRaw('lower(email) = lower(?)', [email]).first('id', 'email', 'name', 'password_hash', 'active');
+  return row ? { id: row.id, email: row.email, name: row.name, passwordHash: row.password_hash, active: row.active } : null;
+}
+
+export class EmailTaken extends Error {}
+
+/** Creates a person with the given roles (sign-up gives `member`). Throws EmailTaken on a duplicate. */
+export async function createPerson(input: { email: string; name: string; password: string; roles: Role[]; actorId?: string | null }): Promise<Person> {
+  const passwordHash = await hashPassword(input.password);
+  try {
+    return await transaction(async (trx) => {
+      const [row] = await trx('people').insert({ email: input.email.toLowerCase(), name: input.name, password_hash: passwordHash }).returning('id');
+      const id = row.id as string;
+      if (input.roles.length) {
+        await trx('role_grants').insert(input.roles.map((role) => ({ person_id: id, role, granted_by: input.actorId ?? null })));
+      }
+      await recordAudit(trx, {
+        actorId: input.actorId ?? id,
+        kind: 'person.created',
+        subjectType: 'person',
+        subjectId: id,
+        summary: `${input.name} <${input.email}> joined with roles ${input.roles.join(', ') || 'none'}`,
+        after: { email: input.email, name: input.name, roles: input.roles },
+      });
+      const person = await getPerson(id, trx);
+      if (!person) throw new Error('person vanished inside its own transaction');
+      return person;
+    });
+  } catch (err) {
+    if (pgCode(err) === PG.uniqueViolation) throw new EmailTaken();
+    throw err;
+  }
+}
+
+export type PeopleSort = 'name' | 'email' | 'created';
+
+export async function listPeople(opts: { q?: string; role?: Role; page: number; pageSize: number; sort: PeopleSort; dir: 'asc' | 'desc' }): Promise<{ rows: Person[]; total: number }> {
+  const base = db()('people as p');
+  if (opts.q) {
+    const like = `%${opts.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
+    base.where((w) => w.whereILike('p.name', like).orWhereILike('p.email', like));
+  }
+  if (opts.role) base.whereExists(db()('role_grants as r').whereRaw('r.person_id = p.id').where('r.role', opts.role));
+  const [{ count }] = (await base.clone().count({ count: '*' })) as [{ count: number }];
+  const column = { name: 'p.name', email: 'p.email', created: 'p.created_at' }[opts.sort];
+  const ids = await base.clone().select('p.id').orderBy(column, opts.dir).orderBy('p.id').limit(opts.pageSize).offset((opts.page - 1) * opts.pageSize);
+  const rows = (await withRoles(db()).whereIn('p.id', ids.map((r) => r.id))) as Row[];
+  const byId = new Map(rows.map((r) => [r.id, toPerson(r)]));
+  return { total: Number(count), rows: ids.map((r) => byId.get(r.id)).filter((p): p is Person => Boolean(p)) };
+}
+
+/** Replaces a person's roles; each grant and removal is audited. An admin cannot remove their own admin role. */
+export async function setRoles(actorId: string, personId: string, roles: Role[]): Promise<Person> {
+  const wanted = normaliseRoles(roles);
+  return transaction(async (trx) => {
+    const target = await trx('people').where({ id: personId }).forUpdate().first('id', 'name');
+    if (!target) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    const current = normaliseRoles((await trx('role_grants').where({ person_id: personId }).pluck('role')) as string[]);
+    if (actorId === personId && current.includes('admin') && !wanted.includes('admin')) {
+      throw new HttpError(409, 'cannot_remove_own_admin', 'You cannot remove your own admin role; ask another admin to do it.');
+    }
+    const added = wanted.filter((r) => !current.includes(r));
+    const removed = current.filter((r) => !wanted.includes(r));
+    if (removed.length) await trx('role_grants').where({ person_id: personId }).whereIn('role', removed).delete();
+    if (added.length) await trx('role_grants').insert(added.map((role) => ({ person_id: personId, role, granted_by: actorId })));
+    if (added.length || removed.length) {
+      await recordAudit(trx, {
+        actorId,
+        kind: 'role.changed',
+        subjectType: 'person',
+        subjectId: personId,
+        summary: `Roles of ${target.name}: ${[...added.map((r) => `+${r}`), ...removed.map((r) => `−${r}`)].join(' ')}`,
+        before: { roles: current },
+        after: { roles: wanted },
+      });
+    }
+    const person = await getPerson(personId, trx);
+    if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    return person;
+  });
+}

@@ -1,0 +1,25 @@
+/** Resolves the Auth.js session of a request into the signed-in person (fresh roles, active only). */
+import { getSession } from 'auth-astro/server';
+import { getPerson } from './people';
+import type { Role } from '../roles';
+
+export interface SignedInPerson {
+  id: string;
+  email: string;
+  name: string;
+  roles: Role[];
+}
+
+export async function resolvePerson(request: Request): Promise<SignedInPerson | null> {
+  let session;
+  try {
+    session = await getSession(request);
+  } catch {
+    return null;
+  }
+  const id = (session?.user as { id?: string } | undefined)?.id;
+  if (!id || !/^[0-9a-f-]{36}$/i.test(id)) return null;
+  const person = await getPerson(id);
+  if (!person || !person.active) return null;
+  return { id: person.id, email: person.email, name: person.name, roles: person.roles };
+}

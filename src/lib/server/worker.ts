@@ -1,0 +1,24 @@
+/**
+ * The background worker (run by `npm start` and `npm test` as its own process: scripts/worker.ts).
+ * One handler per queue of jobs.ts; schedules (cron, in the site's zone where it matters) go here too.
+ */
+import type PgBoss from 'pg-boss';
+import { env } from './env';
+import { installQueues, type QueueName } from './jobs';
+import { sendMailNow, type MailMessage } from './mail';
+
+type Handler = (data: unknown) => Promise<void>;
+
+const handlers: Record<QueueName, Handler> = {
+  'mail.send': async (data) => sendMailNow(data as MailMessage),
+};
+
+export async function startWorker(): Promise<PgBoss> {
+  const boss = await installQueues(env().DATABASE_URL);
+  for (const [name, handle] of Object.entries(handlers)) {
+    await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1 }, async (batch) => {
+      for (const job of batch) await handle(job.data);
+    });
+  }
+  return boss;
+}

@@ -1,0 +1,95 @@
+/** Sign-in through the real Auth.js endpoint, the throttle (kept in PostgreSQL), sign-up and sign-out. */
+import { afterAll, afterEach, describe, expect, it } from 'vitest';
+import { Client, body } from '../support/client';
+import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { DEMO, DEMO_PASSWORD } from '../support/env';
+
+afterEach(clearSignInLimits);
+afterAll(closeTestDb);
+
+describe('sign-in', () => {
+  it('a right password gives a session cookie that is HttpOnly and SameSite=Lax', async () => {
+    const c = new Client();
+    const csrf = await body(await c.get('/api/auth/csrf'));
+    const form = new URLSearchParams({ csrfToken: csrf.csrfToken, email: DEMO.member, password: DEMO_PASSWORD, callbackUrl: '/' });
+    const res = await c.fetch('/api/auth/callback/credentials', { method: 'POST', body: form, headers: { 'content-type': 'application/x-www-form-urlencoded' } });
+    expect(res.status).toBe(302);
+    const cookie = res.headers.getSetCookie().find((s) => s.startsWith('authjs.session-token='));
+    expect(cookie).toBeDefined();
+    expect(cookie).toMatch(/HttpOnly/i);
+    expect(cookie).toMatch(/SameSite=Lax/i);
+    expect((await c.get('/api/me')).status).toBe(200);
+  });
+
+  it('e-mail is matched without regard to case', async () => {
+    const c = new Client();
+    const r = await c.signInAs(DEMO.instructor.toUpperCase(), DEMO_PASSWORD);
+    expect(r.location).not.toContain('error');
+    expect((await body(await c.get('/api/me'))).roles).toEqual(['instructor']);
+  });
+
+  it('a wrong password and an unknown e-mail get the same answer', async () => {
+    const wrong = await new Client().signInAs(DEMO.member, 'not-the-password');
+    const unknown = await new Client().signInAs('nobody@tidewater.example', 'not-the-password');
+    expect(wrong.location).toContain('error=CredentialsSignin');
+    expect(new URL(wrong.location).search).toBe(new URL(unknown.location).search);
+  });
+
+  it('after 5 failures for one e-mail, even the right password is refused with the throttle code', async () => {
+    const victim = DEMO.newbie;
+    for (let i = 0; i < 5; i++) {
+      const r = await new Client().signInAs(victim, `wrong-${i}`);
+      expect(r.location).toContain('code=credentials');
+    }
+    const r = await new Client().signInAs(victim, DEMO_PASSWORD);
+    expect(r.location).toContain('code=throttled');
+    // the counter is in PostgreSQL, where every app process sees it
+    const row = await testDb()('sign_in_limits').where('key', 'like', `email:${victim}`).first();
+    expect(row?.points).toBeGreaterThanOrEqual(5);
+    // the page shows a clear message for that code
+    const page = await new Client().get('/signin?error=CredentialsSignin&code=throttled');
+    expect(await page.text()).toContain('Too many failed sign-ins');
+  });
+
+  it('after 30 failures from one address, every e-mail from there is refused', async () => {
+    for (let i = 0; i < 30; i++) await new Client().signInAs(`guess${i}@tidewater.example`, 'wrong-password');
+    const r = await new Client().signInAs(DEMO.steward, DEMO_PASSWORD);
+    expect(r.location).toContain('code=throttled');
+  });
+
+  it('a successful sign-in clears the e-mail counter', async () => {
+    for (let i = 0; i < 3; i++) await new Client().signInAs(DEMO.student, 'wrong-password');
+    expect((await new Client().signInAs(DEMO.student, DEMO_PASSWORD)).location).not.toContain('error');
+    const row = await testDb()('sign_in_limits').where('key', `email:${DEMO.student}`).first();
+    expect(row).toBeUndefined();
+  });
+});
+
+describe('sign-up and sign-out', () => {
+  it('a new person gets the member role only, is signed in, and can sign out', async () => {
+    const c = new Client();
+    await c.get('/signup');
+    const email = `new-${Date.now()}@example.org`;
+    const form = new URLSearchParams({ name: 'Ana Test', email, password: 'a long enough phrase' });
+    const res = await c.fetch('/signup', { method: 'POST', body: form, headers: { 'content-type': 'application/x-www-form-urlencoded' } });
+    expect(res.status).toBe(303);
+    const me = await body(await c.get('/api/me'));
+    expect(me).toMatchObject({ email, name: 'Ana Test', roles: ['member'] });
+    const stored = await testDb()('people').where({ email }).first();
+    expect(stored.password_hash).toMatch(/^\$argon2id\$/);
+
+    const out = await c.fetch('/signout', { method: 'POST' });
+    expect(out.status).toBe(303);
+    expect((await c.get('/api/me')).status).toBe(401);
+  });
+
+  it('refuses a weak password with a message and stores nothing', async () => {
+    const c = new Client();
+    const email = `weak-${Date.now()}@example.org`;
+    const form = new URLSearchParams({ name: 'Weak Pass', email, password: 'password1' });
+    const res = await c.fetch('/signup', { method: 'POST', body: form, headers: { 'content-type': 'application/x-www-form-urlencoded' } });
+    expect(res.status).toBe(422);
+    expect(await res.text()).toMatch(/at least 10 characters/);
+    expect(await testDb()('people').where({ email }).first()).toBeUndefined();
+  });
+});

@@ -1,0 +1,52 @@
+/** Headless Chromium from Debian's package, driven by playwright-core (no browser download). */
+import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
+import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
+
+export async function launch(): Promise<Browser> {
+  return chromium.launch({
+    executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
+    headless: true,
+    args: [
+      '--no-sandbox',
+      '--disable-gpu',
+      '--disable-quic',
+      '--no-first-run',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
+      '--disable-dev-shm-usage',
+    ],
+  });
+}
+
+export const PHONE = { width: 390, height: 844 };
+export const DESK = { width: 1280, height: 800 };
+
+export async function newContext(browser: Browser, viewport = DESK): Promise<BrowserContext> {
+  return browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-NZ' });
+}
+
+/** Signs in through the real form, as a person would. */
+export async function signIn(page: Page, who: DemoPerson | string, password = DEMO_PASSWORD): Promise<void> {
+  const email = who in DEMO ? DEMO[who as DemoPerson] : who;
+  if (!page.url().includes('/signin')) await page.goto('/signin');
+  await page.getByLabel('E-mail').fill(email);
+  await page.getByLabel('Password').fill(password);
+  await Promise.all([page.waitForLoadState('load'), page.getByRole('button', { name: 'Sign in' }).click()]);
+  await page.waitForLoadState('networkidle');
+}
+
+/** Collects uncaught page errors and console errors, so a spec can assert there were none. */
+export function watchErrors(page: Page): string[] {
+  const errors: string[] = [];
+  page.on('pageerror', (e) => errors.push(`pageerror: ${e.message}`));
+  page.on('console', (m) => {
+    if (m.type() === 'error') errors.push(`console: ${m.text()}`);
+  });
+  return errors;
+}
+
+/** Screenshots go to the git-ignored screenshots/ folder, to be looked at by people. */
+export async function shot(page: Page, name: string): Promise<void> {
+  await page.screenshot({ path: `screenshots/${name}.png`, fullPage: true });
+}

@@ -1,0 +1,36 @@
+/**
+ * Three projects: unit (pure modules, fast, parallel), integration (the running app and the real
+ * PostgreSQL started by scripts/test.ts) and e2e (headless Chromium through playwright-core).
+ * Files run one at a time: integration and e2e files share one database and one app (unit files are
+ * quick, so serialising them costs little).
+ */
+import { defineConfig } from 'vitest/config';
+
+export default defineConfig({
+  test: {
+    fileParallelism: false,
+    projects: [
+      {
+        test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node' },
+      },
+      {
+        test: {
+          name: 'integration',
+          include: ['tests/integration/**/*.test.ts'],
+          environment: 'node',
+          testTimeout: 30_000,
+          hookTimeout: 60_000,
+        },
+      },
+      {
+        test: {
+          name: 'e2e',
+          include: ['tests/e2e/**/*.spec.ts'],
+          environment: 'node',
+          testTimeout: 60_000,
+          hookTimeout: 60_000,
+        },
+      },
+    ],
+  },
+});
