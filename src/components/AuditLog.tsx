@@ -1,5 +1,5 @@
 /** Admin › Audit: the append-only record of changes, filtered by person, kind, text and dates; exported as CSV. */
-import { useCallback, useEffect, useId, useMemo, useState } from 'react';
+import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 
 interface AuditRow {
@@ -43,6 +43,7 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
   const [open, setOpen] = useState<number | null>(null);
   const ids = { search: useId(), actor: useId(), kind: useId(), from: useId(), to: useId() };
   const pageSize = 25;
+  const latest = useRef(0); // only the answer to the newest request is shown
 
   const when = useMemo(
     () => new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'medium', timeStyle: 'medium' }),
@@ -72,6 +73,7 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
   }, [query, actor, kind, from, to]);
 
   const load = useCallback(async () => {
+    const ticket = ++latest.current;
     setLoading(true);
     const params = filterParams();
     params.set('page', String(page));
@@ -79,12 +81,15 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
     params.set('sort', sort);
     params.set('dir', dir);
     try {
-      setData(await api<PageData>(`/api/audit?${params}`));
+      const answer = await api<PageData>(`/api/audit?${params}`);
+      if (ticket !== latest.current) return;
+      setData(answer);
       setProblem(null);
     } catch (e) {
+      if (ticket !== latest.current) return;
       setProblem(e instanceof ApiError ? (e.fields ? Object.values(e.fields).join(' ') : e.message) : 'Could not load the audit log.');
     } finally {
-      setLoading(false);
+      if (ticket === latest.current) setLoading(false);
     }
   }, [filterParams, page, sort, dir]);
 
@@ -118,41 +123,41 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
 
   return (
     <div className="space-y-4">
-      <form className="card grid gap-3 p-4 sm:grid-cols-2 lg:grid-cols-6" role="search" aria-label="Filter the audit log" onSubmit={(e) => e.preventDefault()}>
-        <label className="field lg:col-span-2" htmlFor={ids.search}>
+      <form className="card grid grid-cols-1 gap-3 p-4 sm:grid-cols-2 lg:grid-cols-6" role="search" aria-label="Filter the audit log" onSubmit={(e) => e.preventDefault()}>
+        <label className="field min-w-0 lg:col-span-2" htmlFor={ids.search}>
           <span>Search</span>
-          <input id={ids.search} className="input" type="search" value={q} placeholder="Name, e-mail or words" onChange={(e) => setQ(e.target.value)} maxLength={200} />
+          <input id={ids.search} className="input w-full min-w-0" type="search" value={q} placeholder="Name, e-mail or words" onChange={(e) => setQ(e.target.value)} maxLength={200} />
         </label>
-        <label className="field" htmlFor={ids.actor}>
+        <label className="field min-w-0" htmlFor={ids.actor}>
           <span>Person who acted</span>
-          <select id={ids.actor} className="input" value={actor} onChange={(e) => { setActor(e.target.value); setPage(1); }}>
+          <select id={ids.actor} className="input w-full min-w-0" value={actor} onChange={(e) => { setActor(e.target.value); setPage(1); }}>
             <option value="">Anyone</option>
             {facets.actors.map((a) => (
               <option key={a.id} value={a.id}>{a.name} ({a.email})</option>
             ))}
           </select>
         </label>
-        <label className="field" htmlFor={ids.kind}>
+        <label className="field min-w-0" htmlFor={ids.kind}>
           <span>Kind</span>
-          <select id={ids.kind} className="input" value={kind} onChange={(e) => { setKind(e.target.value); setPage(1); }}>
+          <select id={ids.kind} className="input w-full min-w-0" value={kind} onChange={(e) => { setKind(e.target.value); setPage(1); }}>
             <option value="">Any kind</option>
             {facets.kinds.map((k) => (
               <option key={k} value={k}>{k}</option>
             ))}
           </select>
         </label>
-        <label className="field" htmlFor={ids.from}>
+        <label className="field min-w-0" htmlFor={ids.from}>
           <span>From (day)</span>
-          <input id={ids.from} className="input" type="date" value={from} onChange={(e) => { setFrom(e.target.value); setPage(1); }} />
+          <input id={ids.from} className="input w-full min-w-0" type="date" value={from} onChange={(e) => { setFrom(e.target.value); setPage(1); }} />
         </label>
-        <label className="field" htmlFor={ids.to}>
+        <label className="field min-w-0" htmlFor={ids.to}>
           <span>To (day, included)</span>
-          <input id={ids.to} className="input" type="date" value={to} onChange={(e) => { setTo(e.target.value); setPage(1); }} />
+          <input id={ids.to} className="input w-full min-w-0" type="date" value={to} onChange={(e) => { setTo(e.target.value); setPage(1); }} />
         </label>
         <div className="flex flex-wrap items-center gap-3 sm:col-span-2 lg:col-span-6">
           <button type="button" className="btn btn-quiet" onClick={clear}>Clear filters</button>
           <a className="btn btn-quiet" href={csvHref} download>Download CSV</a>
-          <span className="hint">Days and times are in the site’s time zone, {timeZone}.</span>
+          <span className="hint min-w-0">Days and times are in the site’s time zone, {timeZone}.</span>
         </div>
       </form>
       <p aria-live="polite" className={problem ? 'notice notice-stop' : 'sr-only'}>{problem ?? ''}</p>

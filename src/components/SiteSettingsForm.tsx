@@ -1,6 +1,5 @@
 /** Admin › Site: the site's name, time zone, currency, tax and public address. Each save is audited. */
-import { useId, useMemo, useState, type FormEvent } from 'react';
-import { currencies, siteSettingsInput, timeZones } from '../lib/site-settings';
+import { useEffect, useId, useState, type FormEvent } from 'react';
 import { api, ApiError } from './ui/api';
 
 export interface SiteValues {
@@ -14,7 +13,15 @@ export interface SiteValues {
 
 type Field = keyof SiteValues;
 
-export default function SiteSettingsForm({ initial, environmentBaseUrl }: { initial: SiteValues; environmentBaseUrl: string }) {
+interface Props {
+  initial: SiteValues;
+  environmentBaseUrl: string;
+  /** The server's lists (the server validates against them), so server and browser render the same. */
+  zones: string[];
+  codes: { code: string; label: string }[];
+}
+
+export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, codes }: Props) {
   const [name, setName] = useState(initial.name);
   const [timeZone, setTimeZone] = useState(initial.timeZone);
   const [currency, setCurrency] = useState(initial.currency);
@@ -25,21 +32,13 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl }: { init
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
   const [saving, setSaving] = useState(false);
   const id = useId();
-  const zones = useMemo(() => timeZones(), []);
-  const codes = useMemo(() => {
-    let names: Intl.DisplayNames | null = null;
+  const [now, setNow] = useState<string | null>(null);
+  // the clock in the chosen zone is shown only in the browser (the server's render has none, so both agree)
+  useEffect(() => {
     try {
-      names = new Intl.DisplayNames(['en'], { type: 'currency' });
+      setNow(new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'full', timeStyle: 'short' }).format(new Date()));
     } catch {
-      /* older browsers: codes only */
-    }
-    return currencies().map((c) => ({ code: c, label: names?.of(c) ?? c }));
-  }, []);
-  const now = useMemo(() => {
-    try {
-      return new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'full', timeStyle: 'short' }).format(new Date());
-    } catch {
-      return null;
+      setNow(null);
     }
   }, [timeZone]);
 
@@ -54,10 +53,12 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl }: { init
       pricesIncludeTax: inclusive,
       publicBaseUrl: baseUrl.trim() === '' ? null : baseUrl,
     };
-    const local = siteSettingsInput.safeParse(candidate);
-    if (!local.success) {
-      const f: Partial<Record<Field, string>> = {};
-      for (const issue of local.error.issues) f[String(issue.path[0]) as Field] ??= issue.message;
+    // quick checks here; the server checks everything again and answers per field
+    const f: Partial<Record<Field, string>> = {};
+    if (!name.trim()) f.name = 'Enter the name of the site.';
+    if (!zones.includes(timeZone.trim())) f.timeZone = 'Choose an IANA time zone such as Pacific/Auckland or Europe/London.';
+    if (!Number.isFinite(candidate.taxRatePercent)) f.taxRatePercent = 'Enter the tax rate as a number of percent, e.g. 15.';
+    if (Object.keys(f).length) {
       setErrors(f);
       setMessage({ tone: 'stop', text: 'Please correct the fields marked below.' });
       return;

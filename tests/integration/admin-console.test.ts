@@ -180,8 +180,8 @@ describe('the audit log', () => {
     const created = parsed.data[1]!;
     // the person's name starts with "=", so the cells that carry it start with an apostrophe
     expect(created.actor).toBe(`'=HYPERLINK("http://x.invalid","click") ${tag}`);
-    expect(created.summary.startsWith("'=HYPERLINK")).toBe(true);
-    expect(JSON.parse(parsed.data[0]!.after)).toEqual({ roles: ['member', 'steward'] });
+    expect(created.summary!.startsWith("'=HYPERLINK")).toBe(true);
+    expect(JSON.parse(parsed.data[0]!.after!)).toEqual({ roles: ['member', 'steward'] });
     // the local time is the UTC time moved into Pacific/Auckland (UTC+12 or +13)
     const utc = new Date(created['time (UTC)']!);
     const local = new Date(`${created['time (Pacific/Auckland)']!.replace(' ', 'T')}Z`);
