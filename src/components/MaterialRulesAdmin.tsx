@@ -20,6 +20,7 @@ const EMPTY: Omit<Material, 'id' | 'updatedAt'> = {
   densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: null, soldBySpace: false, sheetPriceMinor: null, sheetSize: null,
 };
 
+const FORM_FIELDS = ['name', 'composition', 'reason', 'modes', 'maxCutMm', 'densityGPerCm3', 'heatOfGasificationJPerG', 'cutEfficiency', 'sheetPriceMinor'];
 const numOrNull = (s: string) => (s.trim() === '' ? null : Number(s));
 
 export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'NZD' }: { currencyExponent?: number; currency?: string }) {
@@ -140,7 +141,7 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
                 {MATERIAL_CATEGORIES.map((c) => <option key={c} value={c}>{c}</option>)}
               </select></label>
             <label className="field"><span>Rule</span>
-              <select className="input" value={editing.rule} onChange={(e) => set('rule', e.target.value as MaterialRule)}>
+              <select className="input" aria-label="Rule" value={editing.rule} onChange={(e) => set('rule', e.target.value as MaterialRule)}>
                 {MATERIAL_RULES.map((r) => <option key={r} value={r}>{RULE_TEXT[r].label}</option>)}
               </select></label>
             <label className="field"><span>Composition (formulas, separated by ;)</span>
@@ -174,6 +175,9 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
             <label className="field"><span>Sheet price ({currency}, minor units)</span><input className="input" type="number" step="1" min="0" value={editing.sheetPriceMinor ?? ''} onChange={(e) => set('sheetPriceMinor', numOrNull(e.target.value))} />{err('sheetPriceMinor')}</label>
             <label className="field"><span>Sheet size</span><input className="input" value={editing.sheetSize ?? ''} onChange={(e) => set('sheetSize', e.target.value || null)} maxLength={60} /></label>
           </fieldset>
+          {Object.keys(fieldErrors).some((k) => !FORM_FIELDS.includes(k)) && (
+            <ul className="notice notice-stop text-sm">{Object.entries(fieldErrors).filter(([k]) => !FORM_FIELDS.includes(k)).map(([k, v]) => <li key={k}>{k}: {v}</li>)}</ul>
+          )}
           <div className="flex gap-3">
             <button type="submit" className="btn btn-primary" disabled={busy}>Save rule</button>
             <button type="button" className="btn btn-quiet" onClick={() => setEditing(null)}>Cancel</button>
@@ -216,7 +220,7 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
                   })}
                 </td>
                 <td className="hidden text-sm md:table-cell">{m.soldBySpace ? <>{money(m.sheetPriceMinor)}<span className="block text-charcoal-soft">{m.sheetSize}</span></> : '—'}</td>
-                <td><button type="button" className="btn btn-quiet" aria-label={`Edit ${m.name}`} onClick={() => { setEditing({ ...m }); setFieldErrors({}); window.scrollTo({ top: 0 }); }}>Edit</button></td>
+                <td><button type="button" className="btn btn-quiet" aria-label={`Edit ${m.name}`} onClick={() => { const { updatedAt: _u, ...rest } = m; setEditing(rest); setFieldErrors({}); window.scrollTo({ top: 0 }); }}>Edit</button></td>
               </tr>
             ))}
             {data && rows.length === 0 && <tr><td colSpan={7} className="text-center text-charcoal-soft">No material matches.</td></tr>}

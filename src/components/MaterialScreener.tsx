@@ -1,9 +1,10 @@
 /** Members: screen a chemical formula for halogens, and ask for a new material to be reviewed (with its safety data sheet). */
 import { useEffect, useRef, useState } from 'react';
 import { MATERIAL_MODES } from '../lib/material-rules';
+import { FormulaError, screenComposition, type ScreenResult } from '../lib/halogen-screen';
 import { api, ApiError } from './ui/api';
 
-interface Screen { elements: Record<string, number>; halogens: string[]; verdict: 'blocked' | 'review'; reason: string }
+type Screen = ScreenResult;
 
 export default function MaterialScreener() {
   const [composition, setComposition] = useState('');
@@ -13,19 +14,17 @@ export default function MaterialScreener() {
   const [busy, setBusy] = useState(false);
   const formRef = useRef<HTMLFormElement>(null);
 
+  // the same pure module the server uses: the verdict shows as the member types, without a round trip
   useEffect(() => {
     const text = composition.trim();
     if (!text) { setResult(null); setError(null); return; }
-    const t = setTimeout(async () => {
-      try {
-        setResult(await api<Screen>('/api/tools/screen-material', { method: 'POST', json: { composition: text } }));
-        setError(null);
-      } catch (e) {
-        setResult(null);
-        setError(e instanceof ApiError ? e.message : 'Could not screen the formula.');
-      }
-    }, 300);
-    return () => clearTimeout(t);
+    try {
+      setResult(screenComposition(text));
+      setError(null);
+    } catch (e) {
+      setResult(null);
+      setError(e instanceof FormulaError ? e.message : 'Could not screen the formula.');
+    }
   }, [composition]);
 
   async function submit(e: React.FormEvent<HTMLFormElement>) {
