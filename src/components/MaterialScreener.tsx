@@ -48,7 +48,7 @@ export default function MaterialScreener() {
       <label className="field">
         <span>Chemical formula (from the safety data sheet)</span>
         <input className="input font-mono" name="composition" value={composition} onChange={(e) => setComposition(e.target.value)} placeholder="(C5H8O2)n" maxLength={200} autoComplete="off" spellCheck={false} />
-        <span className="hint">Repeat units in brackets with n, e.g. (C2H3Cl)n; mixtures with +; hydrates with ·.</span>
+        <small className="hint">Repeat units in brackets with n, e.g. (C2H3Cl)n; mixtures with +; hydrates with ·.</small>
       </label>
       <div aria-live="polite" data-testid="screen-result">
         {error && <p className="notice notice-stop">{error}</p>}

@@ -29,7 +29,7 @@ function requestForm(file: Uint8Array, filename: string, fields: Record<string, 
   const form = new FormData();
   const f = { name: 'Birch veneer sheet', supplier: 'Harbour Timber Co', composition: '(C6H10O5)n', thicknessMm: '1.5', mode: 'cut', ...fields };
   for (const [k, v] of Object.entries(f)) form.set(k, v);
-  form.set('sds', new Blob([file], { type: 'application/pdf' }), filename);
+  form.set('sds', new Blob([file as Uint8Array<ArrayBuffer>], { type: 'application/pdf' }), filename);
   return form;
 }
 
