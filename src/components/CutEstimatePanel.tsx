@@ -30,18 +30,18 @@ export default function CutEstimatePanel({ machines, materials, machineId }: { m
   }, [powerW, material, thickness]);
 
   return (
-    <section className="card space-y-3 p-5" aria-label="Starting cut settings">
+    <section className="card min-w-0 space-y-3 p-5" aria-label="Starting cut settings">
       <h2 className="text-xl">Starting cut settings</h2>
       <p className="notice notice-warn text-sm">A starting point for a test cut, never a setting to trust: cut a small test piece first.</p>
       <div className="grid gap-3 sm:grid-cols-3">
         {!machineId && (
-          <label className="field"><span>Machine</span>
-            <select className="input" value={machine} onChange={(e) => setMachine(e.target.value)}>{machines.map((m) => <option key={m.id} value={m.id}>{m.name} ({m.powerW} W)</option>)}</select></label>
+          <label className="field min-w-0"><span>Machine</span>
+            <select className="input w-full min-w-0" value={machine} onChange={(e) => setMachine(e.target.value)}>{machines.map((m) => <option key={m.id} value={m.id}>{m.name} ({m.powerW} W)</option>)}</select></label>
         )}
-        <label className="field"><span>Material</span>
-          <select className="input" value={material} onChange={(e) => setMaterial(e.target.value)}>{materials.map((m) => <option key={m.id} value={m.id}>{m.name}</option>)}</select></label>
-        <label className="field"><span>Thickness (mm)</span>
-          <input className="input" type="number" min="0.1" max="100" step="0.1" value={thickness} onChange={(e) => setThickness(e.target.value)} /></label>
+        <label className="field min-w-0"><span>Material</span>
+          <select className="input w-full min-w-0" value={material} onChange={(e) => setMaterial(e.target.value)}>{materials.map((m) => <option key={m.id} value={m.id}>{m.name}</option>)}</select></label>
+        <label className="field min-w-0"><span>Thickness (mm)</span>
+          <input className="input w-full min-w-0" type="number" min="0.1" max="100" step="0.1" value={thickness} onChange={(e) => setThickness(e.target.value)} /></label>
       </div>
       <div aria-live="polite">
         {error && <p className="notice notice-stop">{error}</p>}

@@ -45,9 +45,9 @@ export default function MaterialScreener() {
 
   return (
     <form ref={formRef} className="card space-y-4 p-5" onSubmit={(e) => void submit(e)} aria-label="Screen or request a material">
-      <label className="field">
+      <label className="field min-w-0">
         <span>Chemical formula (from the safety data sheet)</span>
-        <input className="input font-mono" name="composition" value={composition} onChange={(e) => setComposition(e.target.value)} placeholder="(C5H8O2)n" maxLength={200} autoComplete="off" spellCheck={false} />
+        <input className="input w-full min-w-0 font-mono" name="composition" value={composition} onChange={(e) => setComposition(e.target.value)} placeholder="(C5H8O2)n" maxLength={200} autoComplete="off" spellCheck={false} />
         <small className="hint">Repeat units in brackets with n, e.g. (C2H3Cl)n; mixtures with +; hydrates with ·.</small>
       </label>
       <div aria-live="polite" data-testid="screen-result">
@@ -63,13 +63,13 @@ export default function MaterialScreener() {
       <details className="space-y-3">
         <summary className="cursor-pointer font-semibold">Ask for this material to be reviewed</summary>
         <div className="mt-3 grid gap-3 md:grid-cols-2">
-          <label className="field"><span>Material name</span><input className="input" name="name" required maxLength={120} /></label>
-          <label className="field"><span>Supplier</span><input className="input" name="supplier" required maxLength={120} /></label>
-          <label className="field"><span>Thickness (mm)</span><input className="input" name="thicknessMm" type="number" step="0.1" min="0.1" max="100" required /></label>
-          <label className="field"><span>Intended use</span>
-            <select className="input" name="mode" defaultValue="cut">{MATERIAL_MODES.map((m) => <option key={m} value={m}>{m}</option>)}</select></label>
-          <label className="field md:col-span-2"><span>Safety data sheet (PDF, at most 10 MB)</span>
-            <input className="input" name="sds" type="file" accept="application/pdf,.pdf" required /></label>
+          <label className="field min-w-0"><span>Material name</span><input className="input w-full min-w-0" name="name" required maxLength={120} /></label>
+          <label className="field min-w-0"><span>Supplier</span><input className="input w-full min-w-0" name="supplier" required maxLength={120} /></label>
+          <label className="field min-w-0"><span>Thickness (mm)</span><input className="input w-full min-w-0" name="thicknessMm" type="number" step="0.1" min="0.1" max="100" required /></label>
+          <label className="field min-w-0"><span>Intended use</span>
+            <select className="input w-full min-w-0" name="mode" defaultValue="cut">{MATERIAL_MODES.map((m) => <option key={m} value={m}>{m}</option>)}</select></label>
+          <label className="field min-w-0 md:col-span-2"><span>Safety data sheet (PDF, at most 10 MB)</span>
+            <input className="input w-full min-w-0" name="sds" type="file" accept="application/pdf,.pdf" required /></label>
         </div>
         <button type="submit" className="btn btn-primary mt-3" disabled={busy}>Send for review</button>
       </details>

@@ -262,4 +262,15 @@ describe('new-material requests', () => {
     expect(subjects).toEqual(expect.arrayContaining(['Material request approved: Bamboo ply', 'Material request refused: Vinyl banner']));
     expect(jobs.rows.every((r: any) => r.data.to === 'member@tidewater.example')).toBe(true);
   });
+  it('a member lists only their own requests; stewards see all; the review screen is for stewards and admins', async () => {
+    const newbie = await Client.as('newbie');
+    expect(await body(await newbie.get('/api/material-requests'))).toEqual([]);
+    const mine = await body(await member.get('/api/material-requests'));
+    expect(mine.length).toBeGreaterThanOrEqual(3);
+    expect((await body(await steward.get('/api/material-requests?status=pending'))).every((r: any) => r.status === 'pending')).toBe(true);
+    expect((await member.get('/materials/requests')).status).toBe(403);
+    expect((await steward.get('/materials/requests')).status).toBe(200);
+    expect((await member.get('/admin/materials')).status).toBe(403);
+    expect((await member.get('/materials')).status).toBe(200);
+  });
 });
