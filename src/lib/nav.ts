@@ -14,6 +14,10 @@ export interface NavItem {
 export const NAV: NavItem[] = [
   { label: 'Floor', href: '/', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
   { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
+  { label: 'Materials', href: '/materials', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
+  { label: 'Hazard sheets', href: '/hazard', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
+  { label: 'Material requests', href: '/materials/requests', roles: ['steward', 'admin'], group: 'upkeep' },
+  { label: 'Material rules', href: '/admin/materials', roles: ['admin'], group: 'admin' },
   { label: 'Admin', href: '/admin', roles: ['admin'], group: 'admin' },
   { label: 'Site', href: '/admin/site', roles: ['admin'], group: 'admin' },
   { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },

@@ -1,0 +1,117 @@
+/**
+ * The material catalogue of the demo workshop: the common allowed and blocked materials, each with the reason
+ * members read (university EHS laser-cutter guidance and chemistry, see REFERENCE.md), cutting figures for the
+ * starting-settings estimate (density: datasheets; heat of gasification: SFPE Handbook fire-properties chapter for
+ * PMMA and POM, effective values for wood and paper; efficiency: common practice, to be calibrated by an admin),
+ * what the space sells by the sheet (NZD cents) and two per-machine overrides.
+ */
+import type { Knex } from 'knex';
+
+type Row = {
+  name: string;
+  category: string;
+  composition: string[];
+  rule: 'allowed' | 'limited' | 'blocked';
+  reason: string;
+  modes: string[];
+  max_cut_mm?: number;
+  density_g_cm3?: number;
+  heat_gasification_j_g?: number;
+  cut_efficiency?: number;
+  sold_by_space?: boolean;
+  sheet_price_minor?: number;
+  sheet_size?: string;
+};
+
+const ALL = ['cut', 'engrave', 'score'];
+
+export const SEED_MATERIALS: Row[] = [
+  // allowed
+  { name: 'Acrylic (PMMA)', category: 'plastic', composition: ['(C5H8O2)n'], rule: 'allowed', modes: ALL,
+    reason: 'Cuts and engraves cleanly. It can flame: stay with the job, keep air assist and extraction on.',
+    density_g_cm3: 1.18, heat_gasification_j_g: 1600, cut_efficiency: 0.25, sold_by_space: true, sheet_price_minor: 2400, sheet_size: '600 × 400 × 3 mm' },
+  { name: 'Plywood (birch or poplar)', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL,
+    reason: 'Cuts well; glue lines char and can flare. Use laser-grade plywood (interior glue), never marine or treated ply.',
+    density_g_cm3: 0.68, heat_gasification_j_g: 2500, cut_efficiency: 0.15, sold_by_space: true, sheet_price_minor: 1200, sheet_size: '600 × 400 × 3 mm' },
+  { name: 'MDF', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL,
+    reason: 'Cuts well but the resin binder smokes heavily: extraction must run, and wipe the lens afterwards.',
+    density_g_cm3: 0.75, heat_gasification_j_g: 2500, cut_efficiency: 0.15, sold_by_space: true, sheet_price_minor: 800, sheet_size: '600 × 400 × 3 mm' },
+  { name: 'Solid wood', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL,
+    reason: 'Thin hardwood and softwood cut and engrave well. Resinous or oily woods flare: watch the job closely.',
+    density_g_cm3: 0.6, heat_gasification_j_g: 2500, cut_efficiency: 0.12 },
+  { name: 'Paper', category: 'paper', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 1,
+    reason: 'Cuts fast at low power. Loose scraps catch fire: hold sheets flat and clear the bed after each job.',
+    density_g_cm3: 0.8, heat_gasification_j_g: 2000, cut_efficiency: 0.3 },
+  { name: 'Card and cardboard', category: 'paper', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 4,
+    reason: 'Cuts well. Corrugated board can smoulder in the flutes: watch the job and never leave it.',
+    density_g_cm3: 0.5, heat_gasification_j_g: 2000, cut_efficiency: 0.3, sold_by_space: true, sheet_price_minor: 300, sheet_size: '600 × 400 × 2 mm' },
+  { name: 'Cork', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 6,
+    reason: 'Cuts and engraves well. Agglomerated cork may hold a binder: ask a steward if the sheet is unlabelled.',
+    density_g_cm3: 0.24, heat_gasification_j_g: 2500, cut_efficiency: 0.15 },
+  { name: 'Natural fabric (cotton, linen, wool, felt)', category: 'textile', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 3,
+    reason: 'Natural fibres cut with sealed, browned edges. Synthetic or blended fabric is not this material: request it.',
+    density_g_cm3: 0.4, heat_gasification_j_g: 2000, cut_efficiency: 0.3 },
+  { name: 'Vegetable-tanned leather', category: 'leather', composition: [], rule: 'allowed', modes: ALL, max_cut_mm: 4,
+    reason: 'Cuts and engraves well and smells strongly: extraction must run. Only vegetable-tanned, uncoated leather.',
+    density_g_cm3: 0.9, heat_gasification_j_g: 2500, cut_efficiency: 0.15 },
+  // limited
+  { name: 'Acetal (POM)', category: 'plastic', composition: ['(CH2O)n'], rule: 'limited', modes: ['cut', 'engrave'], max_cut_mm: 6,
+    reason: 'With caution: it gives off formaldehyde. Extraction must run; keep jobs short and do not lean over the machine.',
+    density_g_cm3: 1.41, heat_gasification_j_g: 2400, cut_efficiency: 0.25 },
+  { name: 'Anodised aluminium', category: 'metal', composition: ['Al2O3', 'Al'], rule: 'limited', modes: ['engrave'],
+    reason: 'Engrave only: the beam marks the anodised layer. The metal beneath reflects the beam and cannot be cut on a CO2 cutter.' },
+  { name: 'Glass', category: 'mineral', composition: ['SiO2'], rule: 'limited', modes: ['engrave'],
+    reason: 'Engrave only (frosting); glass cracks if you try to cut it. Handle engraved pieces with care: small chips are sharp.' },
+  { name: 'Stone, slate and tile', category: 'mineral', composition: ['SiO2', 'CaCO3'], rule: 'limited', modes: ['engrave'],
+    reason: 'Engrave only. Glazed tile may contain lead or other metals: use only tile a steward has checked.' },
+  // blocked: halogens
+  { name: 'PVC and vinyl', category: 'plastic', composition: ['(C2H3Cl)n'], rule: 'blocked', modes: [],
+    reason: 'Contains chlorine: it gives off hydrogen chloride gas, which harms your lungs and corrodes the optics and the machine.' },
+  { name: 'PVDC (food wrap film)', category: 'plastic', composition: ['(C2H2Cl2)n'], rule: 'blocked', modes: [],
+    reason: 'Contains chlorine: it gives off hydrogen chloride gas, which harms your lungs and corrodes the machine.' },
+  { name: 'Neoprene', category: 'rubber', composition: ['(C4H5Cl)n'], rule: 'blocked', modes: [],
+    reason: 'Contains chlorine: it gives off hydrogen chloride gas and burns readily.' },
+  { name: 'PTFE', category: 'plastic', composition: ['(C2F4)n'], rule: 'blocked', modes: [],
+    reason: 'Contains fluorine: it gives off hydrogen fluoride and toxic fluorinated fumes.' },
+  { name: 'PVDF', category: 'plastic', composition: ['(C2H2F2)n'], rule: 'blocked', modes: [],
+    reason: 'Contains fluorine: it gives off hydrogen fluoride, which is highly toxic and etches glass and optics.' },
+  { name: 'FR-4 circuit board', category: 'composite', composition: ['(C18H20O3)n', 'C15H12Br4O2'], rule: 'blocked', modes: [],
+    reason: 'Its flame retardant contains bromine (hydrogen bromide fumes), and the glass-fibre weave does not cut.' },
+  // blocked: other hazards
+  { name: 'ABS', category: 'plastic', composition: ['(C3H3N)n', '(C4H6)n', '(C8H8)n'], rule: 'blocked', modes: [],
+    reason: 'Contains nitrogen: it may give off hydrogen cyanide. It melts into a sticky residue and catches fire.' },
+  { name: 'Polyurethane foam and rubber', category: 'foam', composition: ['(C17H16N2O4)n'], rule: 'blocked', modes: [],
+    reason: 'Contains nitrogen: it gives off hydrogen cyanide and other toxic fumes, and foam burns fast.' },
+  { name: 'Polycarbonate', category: 'plastic', composition: ['(C16H14O3)n'], rule: 'blocked', modes: [],
+    reason: 'Chars and catches fire instead of cutting, with heavy smoke; the edge is brown and poor.' },
+  { name: 'HDPE', category: 'plastic', composition: ['(C2H4)n'], rule: 'blocked', modes: [],
+    reason: 'Melts and drips rather than cutting, and catches fire easily.' },
+  { name: 'Polypropylene', category: 'plastic', composition: ['(C3H6)n'], rule: 'blocked', modes: [],
+    reason: 'Melts and drips rather than cutting, and catches fire easily.' },
+  { name: 'Polystyrene foam', category: 'foam', composition: ['(C8H8)n'], rule: 'blocked', modes: [],
+    reason: 'Melts, drips and burns fast; a fire starts within seconds.' },
+  { name: 'Fibreglass', category: 'composite', composition: ['SiO2', '(C18H20O3)n'], rule: 'blocked', modes: [],
+    reason: 'Epoxy resin fumes and loose glass fibres; glass does not cut cleanly.' },
+  { name: 'Carbon-fibre composite', category: 'composite', composition: ['C', '(C18H20O3)n'], rule: 'blocked', modes: [],
+    reason: 'Epoxy resin fumes and fine carbon-fibre dust that harms lungs and shorts electronics.' },
+  { name: 'Chrome-tanned or coated leather', category: 'leather', composition: ['Cr2O3'], rule: 'blocked', modes: [],
+    reason: 'Chromium compounds go into the smoke, and coatings may be PVC. Only vegetable-tanned, uncoated leather is allowed.' },
+  { name: 'Bare metal (steel, copper, aluminium)', category: 'metal', composition: ['Fe', 'Cu', 'Al'], rule: 'blocked', modes: [],
+    reason: 'Reflects the beam back into the optics; these machines are not built for metal. Anodised aluminium may be engraved.' },
+];
+
+export async function seed(knex: Knex): Promise<void> {
+  const rows = await knex('materials').insert(SEED_MATERIALS.map((m) => ({ sold_by_space: false, ...m }))).returning(['id', 'name']);
+  const id = (name: string) => rows.find((r: { name: string }) => r.name === name)!.id as string;
+  const machine = async (code: string) => ((await knex('machines').where({ code }).first('id')) as { id: string }).id;
+  await knex('material_machine_overrides').insert([
+    {
+      material_id: id('Acrylic (PMMA)'), machine_id: await machine('laser-c'), max_cut_mm: 5,
+      note: 'its 63.5 mm lens tapers thick cuts, so at most 5 mm.',
+    },
+    {
+      material_id: id('MDF'), machine_id: await machine('laser-b'), rule: 'blocked',
+      note: 'the studio extraction is not rated for MDF resin smoke; use Laser A or C.',
+    },
+  ]);
+}

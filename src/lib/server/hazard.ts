@@ -1,0 +1,38 @@
+/** Hazard sheets of stored machines; the figures come from the pure module src/lib/hazard.ts. */
+import { HttpError } from './http';
+import { getMachine, type Machine } from './machines';
+import { hazardSheet, HazardInputError, type HazardInput, type HazardSheet } from '../hazard';
+
+/** Runs the pure computation; an out-of-range number becomes a 422 naming the field. */
+export function hazardOrThrow(input: HazardInput): HazardSheet {
+  try {
+    return hazardSheet(input);
+  } catch (err) {
+    if (err instanceof HazardInputError) throw new HttpError(422, 'invalid', err.message, { [err.field]: err.message });
+    throw err;
+  }
+}
+
+export async function machineHazard(machineId: string, exposureS?: number): Promise<{ machine: Machine; sheet: HazardSheet }> {
+  const machine = /^[0-9a-f-]{36}$/i.test(machineId) ? await getMachine(machineId) : null;
+  if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+  const sheet = hazardOrThrow({
+    powerW: machine.powerW, wavelengthUm: machine.wavelengthUm, beamDiameterMm: machine.beamDiameterMm,
+    divergenceMrad: machine.divergenceMrad, lensFocalMm: machine.lensFocalMm, ...(exposureS !== undefined ? { exposureS } : {}),
+  });
+  return { machine, sheet };
+}
+
+/** The documented response of GET /api/tools/hazard and GET /api/machines/:id/hazard. */
+export function hazardResponse(s: HazardSheet) {
+  return {
+    ...(s.mpeWPerCm2 !== undefined ? { mpeWPerCm2: s.mpeWPerCm2 } : { mpeJPerCm2: s.mpeJPerCm2 }),
+    nohdDirectM: s.nohdDirectM,
+    nohdFocusedM: s.nohdFocusedM,
+    diffuseHazardM: s.diffuseHazardM,
+    opticalDensity: s.opticalDensity,
+    laserClass: s.laserClass,
+    photonEnergyEv: s.photonEnergyEv,
+    sources: s.sources,
+  };
+}

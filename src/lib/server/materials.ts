@@ -1,0 +1,240 @@
+/**
+ * Materials: all SQL of the catalogue, its per-machine overrides, the booking check and the estimate inputs.
+ * Every change to a rule is written to the audit log in the same transaction.
+ */
+import type { Knex } from 'knex';
+import { db, pgCode, PG, transaction } from './db';
+import { recordAudit } from './audit';
+import { HttpError } from './http';
+import { getMachine, listMachines, type Machine } from './machines';
+import {
+  decide, effectiveRule, type EffectiveRule, type MaterialCategory, type MaterialMode, type MaterialRule,
+  type RuleMaterial, type RuleOverride,
+} from '../material-rules';
+import { CutInputError, estimateCut, type CutEstimate } from '../cut-estimate';
+
+export interface Material extends RuleMaterial {
+  category: MaterialCategory;
+  composition: string[];
+  soldBySpace: boolean;
+  sheetPriceMinor: number | null;
+  sheetSize: string | null;
+  updatedAt: Date;
+}
+
+export interface MaterialOverride extends RuleOverride {
+  materialId: string;
+  machineId: string;
+}
+
+type Row = {
+  id: string; name: string; category: MaterialCategory; composition: string[]; rule: MaterialRule; reason: string;
+  modes: MaterialMode[]; max_cut_mm: number | null; density_g_cm3: number | null; heat_gasification_j_g: number | null;
+  cut_efficiency: number | null; sold_by_space: boolean; sheet_price_minor: number | null; sheet_size: string | null;
+  updated_at: Date;
+};
+type OverrideRow = { material_id: string; machine_id: string; rule: MaterialRule | null; modes: MaterialMode[] | null; max_cut_mm: number | null; note: string | null };
+
+const num = (v: unknown) => (v === null || v === undefined ? null : Number(v));
+
+function toMaterial(r: Row): Material {
+  return {
+    id: r.id, name: r.name, category: r.category, composition: r.composition ?? [], rule: r.rule, reason: r.reason,
+    modes: r.modes ?? [], maxCutMm: num(r.max_cut_mm), densityGPerCm3: num(r.density_g_cm3),
+    heatOfGasificationJPerG: num(r.heat_gasification_j_g), cutEfficiency: num(r.cut_efficiency),
+    soldBySpace: r.sold_by_space, sheetPriceMinor: r.sheet_price_minor, sheetSize: r.sheet_size, updatedAt: r.updated_at,
+  };
+}
+
+function toOverride(r: OverrideRow): MaterialOverride {
+  return { materialId: r.material_id, machineId: r.machine_id, rule: r.rule, modes: r.modes, maxCutMm: num(r.max_cut_mm), note: r.note };
+}
+
+export async function listMaterials(trx: Knex | Knex.Transaction = db()): Promise<Material[]> {
+  const rows = (await trx('materials').orderByRaw('lower(name)')) as Row[];
+  return rows.map(toMaterial);
+}
+
+export async function getMaterial(id: string, trx: Knex | Knex.Transaction = db()): Promise<Material | null> {
+  const row = (await trx('materials').where({ id }).first()) as Row | undefined;
+  return row ? toMaterial(row) : null;
+}
+
+export async function listOverrides(trx: Knex | Knex.Transaction = db()): Promise<MaterialOverride[]> {
+  return ((await trx('material_machine_overrides').select('*')) as OverrideRow[]).map(toOverride);
+}
+
+/** The shape of GET /api/materials. */
+export function materialSummary(m: Material) {
+  return { id: m.id, name: m.name, category: m.category, rule: m.rule, reason: m.reason, modes: m.modes, composition: m.composition };
+}
+
+export interface MaterialInput {
+  name: string;
+  category: MaterialCategory;
+  composition: string[];
+  rule: MaterialRule;
+  reason: string;
+  modes: MaterialMode[];
+  maxCutMm: number | null;
+  densityGPerCm3: number | null;
+  heatOfGasificationJPerG: number | null;
+  cutEfficiency: number | null;
+  soldBySpace: boolean;
+  sheetPriceMinor: number | null;
+  sheetSize: string | null;
+}
+
+function toRow(i: MaterialInput) {
+  return {
+    name: i.name, category: i.category, composition: i.composition, rule: i.rule, reason: i.reason,
+    modes: i.rule === 'blocked' ? [] : i.modes, max_cut_mm: i.maxCutMm, density_g_cm3: i.densityGPerCm3,
+    heat_gasification_j_g: i.heatOfGasificationJPerG, cut_efficiency: i.cutEfficiency, sold_by_space: i.soldBySpace,
+    sheet_price_minor: i.sheetPriceMinor, sheet_size: i.sheetSize,
+  };
+}
+
+function auditShape(m: Material) {
+  const { updatedAt: _u, ...rest } = m;
+  return rest;
+}
+
+function mapWriteError(err: unknown): never {
+  if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'material_exists', 'A material with that name is already in the catalogue.', { name: 'Already in the catalogue.' });
+  if (pgCode(err) === PG.checkViolation) throw new HttpError(422, 'invalid', 'A value is out of range.');
+  throw err;
+}
+
+export async function createMaterial(actorId: string, input: MaterialInput, trx?: Knex.Transaction): Promise<Material> {
+  const work = async (t: Knex.Transaction) => {
+    const [row] = (await t('materials').insert(toRow(input)).returning('*')) as Row[];
+    const m = toMaterial(row!);
+    await recordAudit(t, { actorId, kind: 'material.created', subjectType: 'material', subjectId: m.id, summary: `Added ${m.name} to the catalogue as ${m.rule}`, after: auditShape(m) });
+    return m;
+  };
+  try {
+    return trx ? await work(trx) : await transaction(work);
+  } catch (err) {
+    mapWriteError(err);
+  }
+}
+
+export async function updateMaterial(actorId: string, id: string, input: MaterialInput): Promise<Material> {
+  try {
+    return await transaction(async (t) => {
+      const before = (await t('materials').where({ id }).forUpdate().first()) as Row | undefined;
+      if (!before) throw new HttpError(404, 'material_not_found', 'No material has that id.');
+      const [row] = (await t('materials').where({ id }).update({ ...toRow(input), updated_at: t.fn.now() }).returning('*')) as Row[];
+      const b = toMaterial(before);
+      const a = toMaterial(row!);
+      const changed = Object.keys(auditShape(a)).filter((k) => JSON.stringify((auditShape(a) as Record<string, unknown>)[k]) !== JSON.stringify((auditShape(b) as Record<string, unknown>)[k]));
+      await recordAudit(t, {
+        actorId, kind: 'material.updated', subjectType: 'material', subjectId: id,
+        summary: `Changed ${a.name}: ${changed.length ? changed.join(', ') : 'nothing'}${b.rule !== a.rule ? ` (rule ${b.rule} → ${a.rule})` : ''}`,
+        before: auditShape(b), after: auditShape(a),
+      });
+      return a;
+    });
+  } catch (err) {
+    mapWriteError(err);
+  }
+}
+
+/** Sets (or, with null, removes) the override of one material on one machine. */
+export async function setOverride(actorId: string, materialId: string, machineId: string, o: RuleOverride | null): Promise<MaterialOverride | null> {
+  return transaction(async (t) => {
+    const material = await getMaterial(materialId, t);
+    if (!material) throw new HttpError(404, 'material_not_found', 'No material has that id.');
+    const machine = await getMachine(machineId, t);
+    if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+    const beforeRow = (await t('material_machine_overrides').where({ material_id: materialId, machine_id: machineId }).forUpdate().first()) as OverrideRow | undefined;
+    const before = beforeRow ? toOverride(beforeRow) : null;
+    let after: MaterialOverride | null = null;
+    if (o === null || (o.rule === null && o.modes === null && o.maxCutMm === null && !o.note)) {
+      await t('material_machine_overrides').where({ material_id: materialId, machine_id: machineId }).delete();
+    } else {
+      const [row] = (await t('material_machine_overrides')
+        .insert({ material_id: materialId, machine_id: machineId, rule: o.rule, modes: o.modes, max_cut_mm: o.maxCutMm, note: o.note || null, updated_at: t.fn.now() })
+        .onConflict(['material_id', 'machine_id'])
+        .merge()
+        .returning('*')) as OverrideRow[];
+      after = toOverride(row!);
+    }
+    if (before || after) {
+      await recordAudit(t, {
+        actorId, kind: after ? 'material.override_set' : 'material.override_removed', subjectType: 'material', subjectId: materialId,
+        summary: after ? `Set the ${material.name} rule on ${machine.name}` : `Removed the ${material.name} override on ${machine.name}`,
+        before, after,
+      });
+    }
+    return after;
+  });
+}
+
+/** Each material's effective rule on each machine in use (for the Materials screen and the booking form). */
+export async function rulesByMachine(): Promise<{ machines: Machine[]; materials: Material[]; effective: Record<string, Record<string, EffectiveRule>> }> {
+  const [machines, materials, overrides] = await Promise.all([listMachines(), listMaterials(), listOverrides()]);
+  const effective: Record<string, Record<string, EffectiveRule>> = {};
+  for (const m of materials) {
+    effective[m.id] = {};
+    for (const machine of machines) {
+      const o = overrides.find((x) => x.materialId === m.id && x.machineId === machine.id);
+      effective[m.id]![machine.id] = effectiveRule(m, machine, o);
+    }
+  }
+  return { machines, materials, effective };
+}
+
+export interface DeclaredMaterial {
+  materialId: string;
+  thicknessMm: number;
+  mode: 'cut' | 'engrave' | 'score';
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/**
+ * The booking check: every declared material must be allowed on `machineId` in its mode and thickness.
+ * Throws HttpError 422 `material_blocked` (naming the material and the reason), 422 `material_limited` (mode not
+ * allowed, or thicker than the machine may cut, per-machine overrides included), 422 `invalid` for an unknown
+ * material id or a thickness out of range, 404 `machine_not_found`. Resolves when all are fine.
+ */
+export async function checkDeclaredMaterials(machineId: string, materials: DeclaredMaterial[], trx?: Knex | Knex.Transaction): Promise<void> {
+  const q = trx ?? db();
+  const machine = UUID.test(machineId) ? await getMachine(machineId, q) : null;
+  if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+  const ids = [...new Set(materials.map((m) => m.materialId))];
+  const bad = ids.filter((id) => !UUID.test(id));
+  const rows = bad.length ? [] : ((await q('materials').whereIn('id', ids)) as Row[]);
+  const byId = new Map(rows.map((r) => [r.id, toMaterial(r)]));
+  const overrides = rows.length
+    ? ((await q('material_machine_overrides').where({ machine_id: machineId }).whereIn('material_id', ids)) as OverrideRow[]).map(toOverride)
+    : [];
+  for (const [i, d] of materials.entries()) {
+    const material = byId.get(d.materialId);
+    if (!material) throw new HttpError(422, 'invalid', 'A declared material is not in the catalogue.', { [`materials.${i}.materialId`]: 'Unknown material.' });
+    if (!(Number.isFinite(d.thicknessMm) && d.thicknessMm > 0 && d.thicknessMm <= 100)) {
+      throw new HttpError(422, 'invalid', 'A declared thickness is out of range.', { [`materials.${i}.thicknessMm`]: 'Thickness must be above 0 mm and at most 100 mm.' });
+    }
+    const decision = decide(material, machine, d, overrides.find((o) => o.materialId === material.id));
+    if (!decision.ok) throw new HttpError(422, decision.code, decision.message, { [`materials.${i}`]: decision.message });
+  }
+}
+
+/** The starting cut settings for a catalogue material (422 when it cannot be estimated or a number is out of range). */
+export async function cutEstimateFor(materialId: string, powerW: number, thicknessMm: number, kerfMm?: number): Promise<CutEstimate> {
+  const m = await getMaterial(materialId);
+  if (!m) throw new HttpError(422, 'invalid', 'Unknown material.', { materialId: 'Unknown material.' });
+  if (m.densityGPerCm3 == null || m.heatOfGasificationJPerG == null || m.cutEfficiency == null || !m.modes.includes('cut')) {
+    throw new HttpError(422, 'not_estimable', `${m.name} is not cut on these machines, or has no cutting figures on record.`, { materialId: 'No cutting figures for this material.' });
+  }
+  try {
+    return estimateCut(
+      { name: m.name, densityGPerCm3: m.densityGPerCm3, heatOfGasificationJPerG: m.heatOfGasificationJPerG, efficiency: m.cutEfficiency, maxCutMm: m.maxCutMm },
+      { powerW, thicknessMm, ...(kerfMm !== undefined ? { kerfMm } : {}) },
+    );
+  } catch (err) {
+    if (err instanceof CutInputError) throw new HttpError(422, 'invalid', err.message, { [err.field]: err.message });
+    throw err;
+  }
+}

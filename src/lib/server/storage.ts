@@ -1,0 +1,59 @@
+/**
+ * Object storage (S3 API; the local fake is s3rver). Uploaded files — safety data sheets now, fault photos
+ * later — go through putObject/getObject here. The bucket is created on first use if it is missing.
+ */
+import { CreateBucketCommand, GetObjectCommand, HeadBucketCommand, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
+import { env } from './env';
+
+let client: S3Client | undefined;
+let bucketReady: Promise<void> | undefined;
+
+function s3(): S3Client {
+  client ??= new S3Client({
+    endpoint: env().S3_ENDPOINT,
+    region: env().S3_REGION,
+    forcePathStyle: true,
+    credentials: { accessKeyId: env().S3_ACCESS_KEY_ID, secretAccessKey: env().S3_SECRET_ACCESS_KEY },
+  });
+  return client;
+}
+
+/** Creates the bucket when it does not exist yet (once per process). */
+export function ensureBucket(): Promise<void> {
+  bucketReady ??= (async () => {
+    const Bucket = env().S3_BUCKET;
+    try {
+      await s3().send(new HeadBucketCommand({ Bucket }));
+    } catch {
+      try {
+        await s3().send(new CreateBucketCommand({ Bucket }));
+      } catch (err) {
+        const name = (err as { name?: string }).name;
+        if (name !== 'BucketAlreadyOwnedByYou' && name !== 'BucketAlreadyExists') throw err;
+      }
+    }
+  })().catch((err) => {
+    bucketReady = undefined;
+    throw err;
+  });
+  return bucketReady;
+}
+
+export async function putObject(key: string, bytes: Uint8Array, contentType: string): Promise<void> {
+  await ensureBucket();
+  await s3().send(new PutObjectCommand({ Bucket: env().S3_BUCKET, Key: key, Body: bytes, ContentType: contentType, ContentLength: bytes.byteLength }));
+}
+
+/** The stored bytes and their content type, or null when there is no such object. */
+export async function getObject(key: string): Promise<{ bytes: Uint8Array; contentType: string } | null> {
+  await ensureBucket();
+  try {
+    const out = await s3().send(new GetObjectCommand({ Bucket: env().S3_BUCKET, Key: key }));
+    if (!out.Body) return null;
+    return { bytes: await out.Body.transformToByteArray(), contentType: out.ContentType ?? 'application/octet-stream' };
+  } catch (err) {
+    const name = (err as { name?: string }).name;
+    if (name === 'NoSuchKey' || name === 'NotFound') return null;
+    throw err;
+  }
+}

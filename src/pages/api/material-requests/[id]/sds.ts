@@ -1,0 +1,25 @@
+import { HttpError, requireSignedIn, route } from '../../../../lib/server/http';
+import { getRequest, getRequestSds } from '../../../../lib/server/material-requests';
+import { hasAnyRole } from '../../../../lib/roles';
+import { uuid } from '../../../../lib/schemas';
+
+/** GET /api/material-requests/:id/sds → the stored PDF (the requester, stewards and admins). */
+export const GET = route(async ({ locals, params }) => {
+  const person = requireSignedIn(locals);
+  const id = uuid.safeParse(params.id);
+  const r = id.success ? await getRequest(id.data) : null;
+  if (!r || (r.requesterId !== person.id && !hasAnyRole(person.roles, ['steward', 'admin']))) {
+    throw new HttpError(404, 'request_not_found', 'No request has that id.');
+  }
+  const sds = await getRequestSds(r.id);
+  if (!sds) throw new HttpError(404, 'file_not_found', 'The safety data sheet is missing from storage.');
+  return new Response(Buffer.from(sds.bytes), {
+    status: 200,
+    headers: {
+      'content-type': 'application/pdf',
+      'content-disposition': `inline; filename="${sds.filename.replace(/"/g, '')}"`,
+      'x-content-type-options': 'nosniff',
+      'cache-control': 'private, no-store',
+    },
+  });
+});
