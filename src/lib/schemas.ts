@@ -28,3 +28,9 @@ export const page = z.coerce.number().int().min(1).max(100_000).default(1);
 export const pageSize = z.coerce.number().int().min(1).max(200).default(25);
 
 export const searchText = z.string().trim().max(200).optional();
+
+// Billing
+export const tier = z.enum(['student', 'staff', 'community', 'commercial'], { error: 'A tier is one of student, staff, community, commercial.' });
+export const costCentre = z.string().trim().regex(/^[A-Za-z0-9][A-Za-z0-9 ._/-]{0,39}$/, 'A cost centre is 1–40 letters, digits, spaces or . _ / -, e.g. DES101.');
+export const minor = z.number().int('Use whole minor units (cents).').min(0, 'Use zero or more.').max(100_000_000, 'That amount is too large.');
+export const materialsWanted = z.array(z.object({ sku: z.string().trim().min(1).max(40), quantity: z.number().int().min(0).max(1000) }).strict()).max(50);

@@ -329,7 +329,8 @@ async function perform(c: Charge, op: Op): Promise<void> {
       return;
     }
     const amount = op.op === 'hold' ? c.cardAmountMinor : op.amountMinor;
-    const opKey = op.op === 'hold' ? 'hold' : `charge-${amount}`;
+    // the card is part of the key: the same attempt retried is one charge; a new card after a decline is a new attempt
+    const opKey = op.op === 'hold' ? `hold-${card.sourceId}` : `charge-${amount}-${card.sourceId}`;
     if (c.providerChargeId && op.op === 'charge' && c.heldMinor > 0) {
       // a hold was there and the final amount is higher: let the hold go, then take the whole amount anew
       await p.refunds.create({ charge: c.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
@@ -765,8 +766,10 @@ export async function handleWebhook(body: string, signature: string | null): Pro
 
 /** For tests and support: the provider's charges of a person (to check nothing was taken twice). */
 export async function providerChargesOf(personId: string): Promise<{ id: string; amount: number; captured: boolean; refunded: number }[]> {
-  const row = await db()('payment_customers').where({ person_id: personId }).first('provider_customer_id');
-  if (!row) return [];
-  const list = await provider().charges.list({ customer: row.provider_customer_id, limit: 100 });
-  return list.data.map((c) => ({ id: c.id, amount: c.amount, captured: c.captured, refunded: c.amount_refunded }));
+  const out: { id: string; amount: number; captured: boolean; refunded: number }[] = [];
+  // every charge we make carries metadata.personId (the local fake does not filter charges by customer)
+  for await (const c of provider().charges.list({ limit: 100 })) {
+    if (c.metadata?.personId === personId && c.status !== 'failed') out.push({ id: c.id, amount: c.amount, captured: c.captured, refunded: c.amount_refunded });
+  }
+  return out;
 }
