@@ -14,6 +14,8 @@ export interface NavItem {
 export const NAV: NavItem[] = [
   { label: 'Floor', href: '/', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
   { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
+  { label: 'Account', href: '/account', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
+  { label: 'Pricing', href: '/admin/pricing', roles: ['admin'], group: 'admin' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {
