@@ -230,7 +230,7 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
                 <div className="flex flex-wrap items-center justify-between gap-2">
                   <p className="font-semibold">From {fmt.format(new Date(v.effectiveFrom))}</p>
                   <span className={`status ${state === 'In force' ? 'status-ok' : state === 'Scheduled' ? 'status-warn' : ''}`}>
-                    {state === 'In force' ? '✓' : state === 'Scheduled' ? '⏲' : '•'} {state}
+                    {state === 'In force' ? '✓' : state === 'Scheduled' ? '→' : '•'} {state}
                   </span>
                 </div>
                 <p className="hint">{v.note || 'No note'} · by {v.createdByName ?? 'the seed'} · {v.currency}, per started {v.incrementMinutes} min, minimum {formatMoney(v.minimumChargeMinor, v.currency)}

@@ -254,7 +254,8 @@ export async function createVersion(actorId: string, input: NewVersion): Promise
       if (unique.size) {
         await trx('price_rates').insert([...unique.values()].map((r) => ({ version_id: row.id, machine_id: r.machineId, tier: r.tier, per_minute_minor: r.perMinuteMinor })));
       }
-      const [version] = await withRates(trx, [row as Row]);
+      const actor = await trx('people').where({ id: actorId }).first('name');
+      const [version] = await withRates(trx, [{ ...(row as Row), created_by_name: actor?.name ?? null }]);
       const before = await versionAt(new Date(input.effectiveFrom.getTime() - 1), trx);
       await recordAudit(trx, {
         actorId,
