@@ -154,6 +154,11 @@ describe('idempotency', () => {
     const [a, b] = [await chargeBeamTime(input), await chargeBeamTime(input)];
     expect(b.id).toBe(a.id);
     expect(await providerChargesOf(m.id)).toHaveLength(1);
+    // and at the same moment (two check-out requests racing)
+    const racing = { ...input, sessionId: randomUUID() };
+    const [c, d] = await Promise.all([chargeBeamTime(racing), chargeBeamTime(racing)]);
+    expect(d.id).toBe(c.id);
+    expect(await providerChargesOf(m.id)).toHaveLength(2);
   });
 });
 
@@ -203,6 +208,22 @@ describe('webhooks', () => {
     expect(await getCharge(c.id)).toMatchObject({ state: 'refunded', refundedMinor: c.capturedMinor });
     const again = await post(payload, sign(payload));
     expect(await body(again)).toMatchObject({ duplicate: true });
+  });
+
+  it('a signed charge.failed event for a held charge marks it "payment failed" and blocks booking', async () => {
+    const m = await newMember('hookfail');
+    await saveCard(m.id, 'tok_visa');
+    const held = (await holdForBooking({ personId: m.id, machineId: laserA, bookingId: randomUUID(), startsAt: new Date(), minutes: 10 }))!;
+    const payload = JSON.stringify({
+      id: `evt_${randomUUID().replace(/-/g, '')}`, object: 'event', type: 'charge.failed',
+      data: { object: { id: held.providerChargeId, object: 'charge', failure_code: 'card_declined', failure_message: 'Your card was declined.' } },
+    });
+    const res = await post(payload, sign(payload));
+    expect(await body(res)).toMatchObject({ handled: true });
+    expect((await getCharge(held.id))?.state).toBe('payment failed');
+    await expect(assertCanBook(m.id)).rejects.toMatchObject({ status: 402, code: 'payment_required' });
+    const unsigned = await fetch(new URL('/api/webhooks/payments', process.env.APP_URL), { method: 'POST', headers: { 'content-type': 'application/json' }, body: payload });
+    expect(unsigned.status).toBe(400);
   });
 });
 

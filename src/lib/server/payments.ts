@@ -23,7 +23,7 @@ import { createHash, randomUUID } from 'node:crypto';
 import Stripe from 'stripe';
 import type { Knex } from 'knex';
 import { stringify } from 'csv-stringify/sync';
-import { db, transaction } from './db';
+import { db, pgCode, PG, transaction } from './db';
 import { env } from './env';
 import { enqueue } from './jobs';
 import { queueMail } from './mail';
@@ -536,10 +536,18 @@ async function billQuote(
     }
     return run(id, { op: 'capture', amountMinor: s.chargeNowMinor });
   }
-  const [row] = await db()('charges')
-    .insert({ ...base, method: 'card', state, card_amount_minor: s.chargeNowMinor, breakdown })
-    .returning('id');
-  id = row.id;
+  let row: { id: string } | undefined;
+  try {
+    [row] = await db()('charges').insert({ ...base, method: 'card', state, card_amount_minor: s.chargeNowMinor, breakdown }).returning('id');
+  } catch (err) {
+    // the same session checked out twice at once: the other call made the charge
+    if (pgCode(err) === PG.uniqueViolation && ctx.sessionId) {
+      const other = await db()('charges').where({ session_id: ctx.sessionId }).first('id');
+      if (other) return (await getCharge(other.id))!;
+    }
+    throw err;
+  }
+  id = row!.id;
   if (s.chargeNowMinor === 0) return (await getCharge(id))!;
   return run(id, { op: 'charge', amountMinor: s.chargeNowMinor });
 }
