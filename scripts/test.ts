@@ -7,7 +7,7 @@ import path from 'node:path';
 import { spawn } from 'node:child_process';
 import {
   ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
-  recreateDatabase, runNode, say, spawnService, startFakes, stopPostgres, stopServices, superuserUrl, waitForPort,
+  recreateDatabase, runNode, say, spawnService, startFakes, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
 } from './lib/stack';
 
 const cfg = readConfig(
@@ -23,6 +23,8 @@ let pgData: string | undefined;
 let pgStartedHere = false;
 
 async function cleanup(): Promise<void> {
+  // a test may have restarted the payment fake (same PID file): stop whichever one the file names
+  stopLeftover(cfg, 'payments');
   await stopServices();
   if (pgData && pgStartedHere && !process.env.TEST_KEEP_PG) stopPostgres(pgData);
 }

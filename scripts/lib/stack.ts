@@ -315,13 +315,13 @@ export interface Service {
 
 const running: Service[] = [];
 
-export function runDir(cfg: StackConfig): string {
+export function runDir(cfg: Pick<StackConfig, 'dataDir'>): string {
   const dir = path.join(cfg.dataDir, 'run');
   fs.mkdirSync(dir, { recursive: true });
   return dir;
 }
 
-export function logDir(cfg: StackConfig): string {
+export function logDir(cfg: Pick<StackConfig, 'dataDir'>): string {
   const dir = path.join(cfg.dataDir, 'logs');
   fs.mkdirSync(dir, { recursive: true });
   return dir;
@@ -337,7 +337,7 @@ function alive(pid: number): boolean {
 }
 
 /** A process an earlier run left behind (its PID file is still there) is ours to stop. */
-export function stopLeftover(cfg: StackConfig, name: string): void {
+export function stopLeftover(cfg: Pick<StackConfig, 'dataDir'>, name: string): void {
   const pidFile = path.join(runDir(cfg), `${name}.pid`);
   if (!fs.existsSync(pidFile)) return;
   const pid = Number(fs.readFileSync(pidFile, 'utf8').trim());
@@ -390,7 +390,7 @@ export async function waitForPort(portNumber: number, what: string, child?: Chil
 }
 
 /** Spawns a long-running Node program, its output in <dataDir>/logs/<name>.log, its PID recorded. */
-export function spawnService(cfg: StackConfig, name: string, args: string[], extraEnv: Record<string, string> = {}, inheritOutput = false): Service {
+export function spawnService(cfg: Pick<StackConfig, 'dataDir'>, name: string, args: string[], extraEnv: Record<string, string> = {}, inheritOutput = false): Service {
   stopLeftover(cfg, name);
   const log = fs.openSync(path.join(logDir(cfg), `${name}.log`), 'a');
   const child = spawn(process.execPath, args, {
@@ -403,6 +403,16 @@ export function spawnService(cfg: StackConfig, name: string, args: string[], ext
   const service = { name, child, pidFile };
   running.push(service);
   return service;
+}
+
+/**
+ * The payment fake (stripe-stateful-mock on loopback), its PID in <dataDir>/run/payments.pid. Also used by
+ * the tests that stop the provider and start it again (tests/integration/payments.test.ts).
+ */
+export function startPaymentsFake(cfg: Pick<StackConfig, 'dataDir' | 'stripePort'>): Service {
+  return spawnService(cfg, 'payments', ['--import', 'tsx', path.join(ROOT, 'scripts/services/stripe-fake.ts')], {
+    STRIPE_PORT: String(cfg.stripePort),
+  });
 }
 
 export async function startFakes(cfg: StackConfig): Promise<void> {
@@ -426,9 +436,7 @@ export async function startFakes(cfg: StackConfig): Promise<void> {
     '--silent',
   ]);
   const tsx = ['--import', 'tsx'];
-  const payments = spawnService(cfg, 'payments', [...tsx, path.join(ROOT, 'scripts/services/stripe-fake.ts')], {
-    STRIPE_PORT: String(cfg.stripePort),
-  });
+  const payments = startPaymentsFake(cfg);
   const storage = spawnService(cfg, 'storage', [...tsx, path.join(ROOT, 'scripts/services/s3-fake.ts')], {
     S3_PORT: String(cfg.s3Port),
     S3_DIR: s3Dir,

@@ -2,6 +2,7 @@
 import { useCallback, useEffect, useId, useState } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
 import { api, ApiError } from './ui/api';
+import { TIERS, TIER_LABELS, type Tier } from '../lib/pricing';
 
 interface PersonRow {
   id: string;
@@ -10,6 +11,8 @@ interface PersonRow {
   roles: Role[];
   active: boolean;
   createdAt: string;
+  tier: Tier;
+  costCentre: string | null;
 }
 interface PageData {
   total: number;
@@ -91,6 +94,20 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
     }
   }
 
+  async function saveTier(person: PersonRow, tier: Tier, costCentre: string | null) {
+    setBusy(`${person.id}:tier`);
+    setMessage(null);
+    try {
+      const updated = await api<{ tier: Tier; costCentre: string | null }>(`/api/people/${person.id}/tier`, { method: 'PUT', json: { tier, costCentre } });
+      setData((d) => (d ? { ...d, rows: d.rows.map((r) => (r.id === person.id ? { ...r, tier: updated.tier, costCentre: updated.costCentre } : r)) } : d));
+      setMessage({ tone: 'ok', text: `${person.name}: tier ${TIER_LABELS[updated.tier]}${updated.costCentre ? `, cost centre ${updated.costCentre}` : ''}.` });
+    } catch (e) {
+      setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'The change was not saved.' });
+    } finally {
+      setBusy(null);
+    }
+  }
+
   function sortBy(column: Sort) {
     if (sort === column) setDir(dir === 'asc' ? 'desc' : 'asc');
     else {
@@ -130,6 +147,7 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
               <th aria-sort={ariaSort('name')}><button type="button" className="font-semibold" onClick={() => sortBy('name')}>Name{sortMark('name')}</button></th>
               <th className="hidden md:table-cell" aria-sort={ariaSort('email')}><button type="button" className="font-semibold" onClick={() => sortBy('email')}>E-mail{sortMark('email')}</button></th>
               <th>Roles</th>
+              <th>Tier and cost centre</th>
               <th className="hidden md:table-cell" aria-sort={ariaSort('created')}><button type="button" className="font-semibold" onClick={() => sortBy('created')}>Joined{sortMark('created')}</button></th>
             </tr>
           </thead>
@@ -168,11 +186,21 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
                     })}
                   </fieldset>
                 </td>
+                <td>
+                  <div className="flex flex-col gap-1">
+                    <select className="input" aria-label={`Tier of ${p.name}`} value={p.tier} disabled={busy !== null}
+                      onChange={(e) => void saveTier(p, e.target.value as Tier, p.costCentre)}>
+                      {TIERS.map((t) => <option key={t} value={t}>{TIER_LABELS[t]}</option>)}
+                    </select>
+                    <input className="input w-32" aria-label={`Cost centre of ${p.name}`} placeholder="Cost centre" defaultValue={p.costCentre ?? ''} maxLength={40}
+                      onBlur={(e) => { const v = e.target.value.trim() || null; if (v !== p.costCentre) void saveTier(p, p.tier, v); }} />
+                  </div>
+                </td>
                 <td className="hidden whitespace-nowrap text-sm md:table-cell">{new Date(p.createdAt).toLocaleDateString()}</td>
               </tr>
             ))}
             {data && data.rows.length === 0 && (
-              <tr><td colSpan={4} className="text-center text-charcoal-soft">Nobody matches.</td></tr>
+              <tr><td colSpan={5} className="text-center text-charcoal-soft">Nobody matches.</td></tr>
             )}
           </tbody>
         </table>

@@ -21,6 +21,8 @@ export const NAV: NavItem[] = [
   { label: 'Admin', href: '/admin', roles: ['admin'], group: 'admin' },
   { label: 'Site', href: '/admin/site', roles: ['admin'], group: 'admin' },
   { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },
+  { label: 'Account', href: '/account', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
+  { label: 'Pricing', href: '/admin/pricing', roles: ['admin'], group: 'admin' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {

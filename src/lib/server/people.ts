@@ -5,6 +5,7 @@ import { recordAudit } from './audit';
 import { hashPassword } from './passwords';
 import { normaliseRoles, type Role } from '../roles';
 import { HttpError } from './http';
+import type { Tier } from '../pricing';
 
 export interface Person {
   id: string;
@@ -13,19 +14,23 @@ export interface Person {
   roles: Role[];
   active: boolean;
   createdAt: Date;
+  /** pricing tier (billing) */
+  tier: Tier;
+  /** course code or department a recharge tier is billed to */
+  costCentre: string | null;
 }
 
-type Row = { id: string; email: string; name: string; active: boolean; created_at: Date; roles: string[] | null };
+type Row = { id: string; email: string; name: string; active: boolean; created_at: Date; roles: string[] | null; tier: Tier; cost_centre: string | null };
 
 function toPerson(r: Row): Person {
-  return { id: r.id, email: r.email, name: r.name, active: r.active, createdAt: r.created_at, roles: normaliseRoles(r.roles ?? []) };
+  return { id: r.id, email: r.email, name: r.name, active: r.active, createdAt: r.created_at, roles: normaliseRoles(r.roles ?? []), tier: r.tier, costCentre: r.cost_centre };
 }
 
 function withRoles(q: Knex | Knex.Transaction) {
   return q('people as p')
     .leftJoin('role_grants as g', 'g.person_id', 'p.id')
     .groupBy('p.id')
-    .select('p.id', 'p.email', 'p.name', 'p.active', 'p.created_at', q.raw("coalesce(array_agg(g.role ORDER BY g.role) FILTER (WHERE g.role IS NOT NULL), '{}') AS roles"));
+    .select('p.id', 'p.email', 'p.name', 'p.active', 'p.created_at', 'p.tier', 'p.cost_centre', q.raw("coalesce(array_agg(g.role ORDER BY g.role) FILTER (WHERE g.role IS NOT NULL), '{}') AS roles"));
 }
 
 export async function getPerson(id: string, trx: Knex | Knex.Transaction = db()): Promise<Person | null> {
@@ -166,5 +171,25 @@ export async function reactivatePerson(actorId: string, personId: string): Promi
   return transaction(async (trx) => {
     await applyActive(trx, actorId, personId, true);
     return mustGetPerson(personId, trx);
+/** Sets a person's pricing tier and cost centre (billing); audited. */
+export async function setTier(actorId: string, personId: string, tier: Tier, costCentre: string | null): Promise<Person> {
+  return transaction(async (trx) => {
+    const target = await trx('people').where({ id: personId }).forUpdate().first('id', 'name', 'tier', 'cost_centre');
+    if (!target) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    if (target.tier !== tier || target.cost_centre !== costCentre) {
+      await trx('people').where({ id: personId }).update({ tier, cost_centre: costCentre, updated_at: trx.fn.now() });
+      await recordAudit(trx, {
+        actorId,
+        kind: 'person.tier_changed',
+        subjectType: 'person',
+        subjectId: personId,
+        summary: `Tier of ${target.name}: ${target.tier} → ${tier}${costCentre !== target.cost_centre ? `, cost centre ${target.cost_centre ?? 'none'} → ${costCentre ?? 'none'}` : ''}`,
+        before: { tier: target.tier, costCentre: target.cost_centre },
+        after: { tier, costCentre },
+      });
+    }
+    const person = await getPerson(personId, trx);
+    if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    return person;
   });
 }

@@ -6,11 +6,13 @@ import type PgBoss from 'pg-boss';
 import { env } from './env';
 import { installQueues, type QueueName } from './jobs';
 import { sendMailNow, type MailMessage } from './mail';
+import { retryQueuedCharge } from './payments';
 
 type Handler = (data: unknown) => Promise<void>;
 
 const handlers: Record<QueueName, Handler> = {
   'mail.send': async (data) => sendMailNow(data as MailMessage),
+  'payments.retry': async (data) => retryQueuedCharge((data as { chargeId: string }).chargeId),
 };
 
 export async function startWorker(): Promise<PgBoss> {

@@ -21,6 +21,6 @@ export const GET = route(async ({ locals, url }) => {
     total,
     page: opts.page,
     pageSize: opts.pageSize,
-    rows: rows.map((p) => ({ id: p.id, email: p.email, name: p.name, roles: p.roles, active: p.active, createdAt: p.createdAt.toISOString() })),
+    rows: rows.map((p) => ({ id: p.id, email: p.email, name: p.name, roles: p.roles, active: p.active, createdAt: p.createdAt.toISOString(), tier: p.tier, costCentre: p.costCentre })),
   });
 });

@@ -1,0 +1,229 @@
+/**
+ * The pricing engine: pure, no I/O, integer minor units of the currency only (never floats).
+ *
+ * Rules (documented in DEVELOPERS.md › Billing, tested in tests/unit/pricing.test.ts):
+ * - Beam time: the minutes are rounded UP to the version's increment (per started block), then priced at
+ *   the per-minute rate of the machine × tier.
+ * - Minimum charge: a session with any beam time costs at least the minimum (a "minimum charge" line tops it up).
+ * - Daily cap per person: beam time of one day never costs more than the cap, given what the person has
+ *   already been charged for beam time that day (a negative "daily cap" line). The cap wins over the minimum.
+ *   Materials and fees are outside the cap.
+ * - Materials: sheets sold by the space, quantity × sheet price.
+ * - Fees: late cancellation and no-show, flat amounts.
+ * - Tax: ONE rounding, on the total (not per line), half-up. Inclusive: the lines already contain tax and
+ *   tax = total × r / (1 + r); exclusive: tax = subtotal × r, added to the total.
+ * - The provider's minimum charge amount: a total below it is not sent to the card; by rule it is either
+ *   carried to the balance owed (charged with the next charge that takes it over the minimum) or waived.
+ */
+
+export const TIERS = ['student', 'staff', 'community', 'commercial'] as const;
+export type Tier = (typeof TIERS)[number];
+export const TIER_LABELS: Record<Tier, string> = { student: 'Student', staff: 'Staff', community: 'Community', commercial: 'Commercial' };
+
+/** Minor-unit exponents from the ISO 4217 currency code list (list one). */
+export const CURRENCY_EXPONENT: Readonly<Record<string, number>> = {
+  AUD: 2, CAD: 2, CHF: 2, EUR: 2, GBP: 2, NZD: 2, USD: 2, SGD: 2, SEK: 2, NOK: 2, DKK: 2,
+  JPY: 0, KRW: 0, ISK: 0, CLP: 0, VND: 0,
+  BHD: 3, KWD: 3, JOD: 3, OMR: 3, TND: 3, IQD: 3, LYD: 3,
+};
+
+export function currencyExponent(currency: string): number {
+  const e = CURRENCY_EXPONENT[currency.toUpperCase()];
+  if (e === undefined) throw new RangeError(`Unknown currency ${currency}: add it with its ISO 4217 exponent.`);
+  return e;
+}
+
+/**
+ * The payment provider's smallest card charge per currency, in minor units. USD 0.50, GBP 0.30 and JPY 50 are from
+ * the provider's supported-currencies table (REFERENCE.md); NZD, AUD, EUR 0.50 from memory of the same table.
+ * Currencies not listed have no provider minimum here (0).
+ */
+export const PROVIDER_MINIMUM_MINOR: Readonly<Record<string, number>> = { USD: 50, GBP: 30, JPY: 50, NZD: 50, AUD: 50, EUR: 50, CAD: 50 };
+
+export type TaxMode = 'inclusive' | 'exclusive';
+export type MinimumRule = 'carry' | 'waive';
+
+export interface Material {
+  sku: string;
+  name: string;
+  /** price of one sheet, minor units, tax treated like every other line */
+  priceMinor: number;
+}
+
+/** One price version, as the engine needs it (the database adds id, effective date and author). */
+export interface PriceTable {
+  currency: string;
+  /** per-minute rate in minor units by machine id, then tier; a missing rate means "not priced" */
+  rates: Record<string, Partial<Record<Tier, number>>>;
+  incrementMinutes: number;
+  minimumChargeMinor: number;
+  /** null: no cap */
+  dailyCapMinor: number | null;
+  lateCancelFeeMinor: number;
+  noShowFeeMinor: number;
+  taxMode: TaxMode;
+  /** basis points: 1500 = 15 % */
+  taxRateBp: number;
+  materials: Material[];
+  minimumRule: MinimumRule;
+}
+
+export type LineKind = 'beam_time' | 'minimum' | 'daily_cap' | 'material' | 'late_cancellation' | 'no_show';
+
+export interface Line {
+  kind: LineKind;
+  label: string;
+  quantity: number;
+  unitMinor: number;
+  amountMinor: number;
+}
+
+export interface QuoteInput {
+  machineId: string;
+  tier: Tier;
+  /** measured (or planned) beam time in minutes, ≥ 0 */
+  minutes: number;
+  materials?: { sku: string; quantity: number }[];
+  /** beam time already charged to this person on the same day (site time zone), minor units */
+  alreadyChargedTodayMinor?: number;
+  lateCancellation?: boolean;
+  noShow?: boolean;
+  machineName?: string;
+}
+
+export interface Quote {
+  currency: string;
+  lines: Line[];
+  /** the sum of the lines */
+  subtotalMinor: number;
+  taxMinor: number;
+  taxMode: TaxMode;
+  taxRateBp: number;
+  /** what is owed: subtotal (inclusive) or subtotal + tax (exclusive) */
+  amountMinor: number;
+  billedMinutes: number;
+}
+
+export class PricingError extends Error {
+  constructor(
+    public readonly code: 'not_priced' | 'unknown_material' | 'bad_input',
+    message: string,
+  ) {
+    super(message);
+  }
+}
+
+const isCount = (n: number) => Number.isSafeInteger(n) && n >= 0;
+
+/** a / b rounded half-up, for non-negative integers (exact integer arithmetic). */
+export function divRoundHalfUp(a: number, b: number): number {
+  if (!isCount(a) || !Number.isSafeInteger(b) || b <= 0) throw new RangeError('divRoundHalfUp needs a ≥ 0 and b > 0 integers');
+  const big = (BigInt(a) * 2n + BigInt(b)) / (BigInt(b) * 2n);
+  return Number(big);
+}
+
+/** Rounds minutes up to the increment (per started block). */
+export function billableMinutes(minutes: number, increment: number): number {
+  if (!(minutes >= 0) || !Number.isFinite(minutes)) throw new PricingError('bad_input', 'Minutes must be zero or more.');
+  if (!Number.isSafeInteger(increment) || increment < 1) throw new PricingError('bad_input', 'The increment must be a whole number of minutes, at least 1.');
+  return Math.ceil(minutes / increment) * increment;
+}
+
+/** Tax contained in / added to an amount, rounded half-up once. */
+export function taxOf(amountMinor: number, rateBp: number, mode: TaxMode): number {
+  if (mode === 'inclusive') return divRoundHalfUp(amountMinor * rateBp, 10_000 + rateBp);
+  return divRoundHalfUp(amountMinor * rateBp, 10_000);
+}
+
+export function quote(table: PriceTable, input: QuoteInput): Quote {
+  const rate = table.rates[input.machineId]?.[input.tier];
+  if (rate === undefined) throw new PricingError('not_priced', `This machine has no ${input.tier} rate in the price version in force.`);
+  const name = input.machineName ?? 'Beam time';
+  const lines: Line[] = [];
+  const minutes = billableMinutes(input.minutes, table.incrementMinutes);
+  const raw = minutes * rate;
+  lines.push({ kind: 'beam_time', label: `${name}: ${minutes} min (per started ${table.incrementMinutes} min)`, quantity: minutes, unitMinor: rate, amountMinor: raw });
+  let beam = raw;
+  if (minutes > 0 && raw < table.minimumChargeMinor) {
+    lines.push({ kind: 'minimum', label: 'Minimum charge', quantity: 1, unitMinor: table.minimumChargeMinor - raw, amountMinor: table.minimumChargeMinor - raw });
+    beam = table.minimumChargeMinor;
+  }
+  if (table.dailyCapMinor !== null) {
+    const already = Math.max(0, input.alreadyChargedTodayMinor ?? 0);
+    const room = Math.max(0, table.dailyCapMinor - already);
+    if (beam > room) {
+      lines.push({ kind: 'daily_cap', label: 'Daily cap reached', quantity: 1, unitMinor: room - beam, amountMinor: room - beam });
+      beam = room;
+    }
+  }
+  for (const m of input.materials ?? []) {
+    if (!isCount(m.quantity)) throw new PricingError('bad_input', 'A material quantity is a whole number of sheets.');
+    if (m.quantity === 0) continue;
+    const mat = table.materials.find((x) => x.sku === m.sku);
+    if (!mat) throw new PricingError('unknown_material', `The space does not sell ${m.sku}.`);
+    lines.push({ kind: 'material', label: `${mat.name} × ${m.quantity}`, quantity: m.quantity, unitMinor: mat.priceMinor, amountMinor: m.quantity * mat.priceMinor });
+  }
+  if (input.lateCancellation) lines.push({ kind: 'late_cancellation', label: 'Late cancellation fee', quantity: 1, unitMinor: table.lateCancelFeeMinor, amountMinor: table.lateCancelFeeMinor });
+  if (input.noShow) lines.push({ kind: 'no_show', label: 'No-show fee', quantity: 1, unitMinor: table.noShowFeeMinor, amountMinor: table.noShowFeeMinor });
+
+  const subtotal = lines.reduce((s, l) => s + l.amountMinor, 0);
+  const tax = taxOf(subtotal, table.taxRateBp, table.taxMode);
+  return {
+    currency: table.currency,
+    lines,
+    subtotalMinor: subtotal,
+    taxMinor: tax,
+    taxMode: table.taxMode,
+    taxRateBp: table.taxRateBp,
+    amountMinor: table.taxMode === 'inclusive' ? subtotal : subtotal + tax,
+    billedMinutes: minutes,
+  };
+}
+
+/** The beam-time part of a quote (what counts toward the daily cap). */
+export function beamTimeMinor(q: Quote): number {
+  return q.lines.filter((l) => l.kind === 'beam_time' || l.kind === 'minimum' || l.kind === 'daily_cap').reduce((s, l) => s + l.amountMinor, 0);
+}
+
+export interface Settlement {
+  /** send this to the card now */
+  chargeNowMinor: number;
+  /** kept on the balance owed, charged with a later charge */
+  carriedMinor: number;
+  /** forgiven */
+  waivedMinor: number;
+}
+
+/**
+ * What to do with `amountMinor` (plus `carriedInMinor` already owed from earlier small sums) given the
+ * provider's minimum for the currency: at or over it, charge everything; under it, carry or waive by rule.
+ */
+export function settle(amountMinor: number, currency: string, rule: MinimumRule, carriedInMinor = 0, providerMinimum = PROVIDER_MINIMUM_MINOR[currency.toUpperCase()] ?? 0): Settlement {
+  const total = amountMinor + carriedInMinor;
+  if (total === 0) return { chargeNowMinor: 0, carriedMinor: 0, waivedMinor: 0 };
+  if (total >= providerMinimum) return { chargeNowMinor: total, carriedMinor: 0, waivedMinor: 0 };
+  return rule === 'carry' ? { chargeNowMinor: 0, carriedMinor: total, waivedMinor: 0 } : { chargeNowMinor: 0, carriedMinor: carriedInMinor, waivedMinor: amountMinor };
+}
+
+/** "12.34" for 1234 NZD, "1234" for 1234 JPY, "1.234" for 1234 BHD — string arithmetic, no floats. */
+export function formatMinor(amountMinor: number, currency: string): string {
+  const e = currencyExponent(currency);
+  const neg = amountMinor < 0;
+  const digits = String(Math.abs(amountMinor)).padStart(e + 1, '0');
+  const body = e === 0 ? digits : `${digits.slice(0, -e)}.${digits.slice(-e)}`;
+  return `${neg ? '−' : ''}${body}`;
+}
+
+export function formatMoney(amountMinor: number, currency: string): string {
+  return `${currency.toUpperCase()} ${formatMinor(amountMinor, currency)}`;
+}
+
+/** "12.3" → 1230 (NZD); refuses more decimals than the currency has. Returns null when not a plain amount. */
+export function parseMajor(text: string, currency: string): number | null {
+  const e = currencyExponent(currency);
+  const m = /^\s*(\d{1,9})(?:\.(\d*))?\s*$/.exec(text);
+  if (!m) return null;
+  const frac = m[2] ?? '';
+  if (frac.length > e) return null;
+  return Number(m[1]) * 10 ** e + Number(frac.padEnd(e, '0') || '0');
+}

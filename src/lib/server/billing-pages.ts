@@ -1,0 +1,36 @@
+/** What the Account and receipt pages need, gathered on the server (pages never import the database). */
+import { env } from './env';
+import { getSettings } from './settings';
+import { accountSummary, getCharge, refundsOf } from './payments';
+import { hasAnyRole } from '../roles';
+import type { SignedInPerson } from './session';
+
+export async function accountPage(personId: string) {
+  const [summary, settings] = await Promise.all([accountSummary(personId), getSettings()]);
+  return { summary, timeZone: settings.timeZone, siteName: settings.name, testMode: env().STRIPE_SECRET_KEY.startsWith('sk_test_') };
+}
+
+/** A receipt is shown to the person charged, and to stewards and admins. */
+export async function receiptPage(viewer: SignedInPerson, chargeId: string) {
+  if (!/^[0-9a-f-]{36}$/i.test(chargeId)) return null;
+  const charge = await getCharge(chargeId);
+  if (!charge) return null;
+  const staff = hasAnyRole(viewer.roles, ['steward', 'admin']);
+  if (charge.personId !== viewer.id && !staff) return null;
+  const settings = await getSettings();
+  return { charge, refunds: await refundsOf(chargeId), timeZone: settings.timeZone, siteName: settings.name, staff };
+}
+
+/** Admin › Pricing: machines, every version (newest first), the one in force, today's date in the site zone. */
+export async function pricingPage() {
+  const [{ listVersions, versionAt }, { listMachines }] = await Promise.all([import('./prices'), import('./machines')]);
+  const [versions, current, machines, settings] = await Promise.all([listVersions(), versionAt(new Date()), listMachines(), getSettings()]);
+  const today = new Intl.DateTimeFormat('en-CA', { timeZone: settings.timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).format(new Date());
+  return {
+    machines: machines.map((m) => ({ id: m.id, name: m.name })),
+    versions: versions.map((v) => ({ ...v, effectiveFrom: v.effectiveFrom.toISOString(), createdAt: v.createdAt.toISOString() })),
+    currentId: current?.id ?? null,
+    timeZone: settings.timeZone,
+    today,
+  };
+}

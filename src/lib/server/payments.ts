@@ -1,0 +1,783 @@
+/**
+ * Payments: our `charges` table is the record of what is owed; this module is the ONLY place that talks
+ * to the payment provider (the Stripe SDK; stripe-stateful-mock locally). Card path: customers + sources
+ * + charges (PaymentIntents are not in the local fake).
+ *
+ * Charge states:
+ *   pending          — written, the provider call is under way
+ *   queued           — the provider was unreachable; a pg-boss job retries `pending_op` with the same key
+ *   held             — authorised (capture: false), not yet taken
+ *   captured         — paid (refunded_minor may be > 0 after a partial refund)
+ *   released         — a hold let go; nothing taken
+ *   payment failed   — declined, or no card to charge: on the balance owed; new bookings refused (402)
+ *   refunded         — fully refunded
+ *   recharged        — billed to a cost centre (internal recharge), no card
+ *   carried          — below the provider's minimum: on the balance owed, charged with a later charge
+ *   waived           — below the provider's minimum with the "waive" rule, or nothing to pay
+ *   settled          — a failed or carried charge paid later as part of another charge (settled_by)
+ *
+ * Every provider call carries an idempotency key built from our charge id and the operation, so a retry
+ * (the worker, a second click, a lost answer) never takes money twice.
+ */
+import { createHash, randomUUID } from 'node:crypto';
+import Stripe from 'stripe';
+import type { Knex } from 'knex';
+import { stringify } from 'csv-stringify/sync';
+import { db, pgCode, PG, transaction } from './db';
+import { env } from './env';
+import { enqueue } from './jobs';
+import { queueMail } from './mail';
+import { recordAudit } from './audit';
+import { HttpError } from './http';
+import { getSettings } from './settings';
+import { quoteFor, zonedMidnight, type PricedQuote } from './prices';
+import { beamTimeMinor, formatMoney, settle, type Tier } from '../pricing';
+
+// ---------------------------------------------------------------------------------------------
+// The provider client
+
+let client: Stripe | undefined;
+
+function provider(): Stripe {
+  client ??= new Stripe(env().STRIPE_SECRET_KEY, {
+    host: env().STRIPE_API_HOST,
+    port: env().STRIPE_API_PORT,
+    protocol: env().STRIPE_API_PROTOCOL,
+    // retries are ours (pg-boss), with the same idempotency key
+    maxNetworkRetries: 0,
+    timeout: 10_000,
+  });
+  return client;
+}
+
+type ProviderError = { type?: string; code?: string; message?: string; statusCode?: number };
+
+function classify(err: unknown): 'card' | 'unreachable' | 'missing' | 'other' {
+  const e = err as ProviderError;
+  if (e?.type === 'StripeCardError') return 'card';
+  if (e?.type === 'StripeConnectionError' || e?.type === 'StripeAPIError' || e?.type === 'StripeRateLimitError') return 'unreachable';
+  if (typeof e?.statusCode === 'number' && e.statusCode >= 500) return 'unreachable';
+  if (e?.code === 'resource_missing') return 'missing';
+  return 'other';
+}
+
+const key = (chargeId: string, op: string) => `beamwarden-charge-${chargeId}-${op}`;
+
+/** Verifies a provider webhook signature; throws HttpError 400 when it does not match. */
+function verifyWebhook(body: string, signature: string | null): { id: string; type: string; data: { object: Record<string, unknown> } } {
+  if (!signature) throw new HttpError(400, 'bad_signature', 'The webhook signature header is missing.');
+  try {
+    return provider().webhooks.constructEvent(body, signature, env().STRIPE_WEBHOOK_SECRET) as never;
+  } catch {
+    throw new HttpError(400, 'bad_signature', 'The webhook signature does not match.');
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Records
+
+export type ChargeState =
+  | 'pending' | 'queued' | 'held' | 'captured' | 'released' | 'payment failed' | 'refunded' | 'recharged' | 'carried' | 'waived' | 'settled';
+export type ChargeKind = 'beam_time' | 'late_cancellation' | 'no_show';
+
+export interface Charge {
+  id: string;
+  personId: string;
+  personName?: string;
+  personEmail?: string;
+  machineId: string | null;
+  machineName: string | null;
+  bookingId: string | null;
+  sessionId: string | null;
+  kind: ChargeKind;
+  method: 'card' | 'recharge';
+  costCentre: string | null;
+  state: ChargeState;
+  currency: string;
+  amountMinor: number;
+  taxMinor: number;
+  cardAmountMinor: number;
+  heldMinor: number;
+  capturedMinor: number;
+  refundedMinor: number;
+  minutes: number | null;
+  startedAt: Date | null;
+  priceVersionId: string | null;
+  breakdown: Breakdown;
+  providerChargeId: string | null;
+  failureMessage: string | null;
+  createdAt: Date;
+  updatedAt: Date;
+}
+
+export interface Breakdown {
+  lines: PricedQuote['lines'];
+  subtotalMinor: number;
+  taxMinor: number;
+  taxMode: 'inclusive' | 'exclusive';
+  taxRateBp: number;
+  amountMinor: number;
+  beamTimeMinor: number;
+  billedMinutes: number;
+  /** small sums carried in from earlier charges and paid with this one */
+  carriedInMinor?: number;
+  estimate?: boolean;
+}
+
+function toCharge(r: Record<string, any>): Charge {
+  return {
+    id: r.id,
+    personId: r.person_id,
+    personName: r.person_name,
+    personEmail: r.person_email,
+    machineId: r.machine_id,
+    machineName: r.machine_name ?? null,
+    bookingId: r.booking_id,
+    sessionId: r.session_id,
+    kind: r.kind,
+    method: r.method,
+    costCentre: r.cost_centre,
+    state: r.state,
+    currency: r.currency,
+    amountMinor: r.amount_minor,
+    taxMinor: r.tax_minor,
+    cardAmountMinor: r.card_amount_minor,
+    heldMinor: r.held_minor,
+    capturedMinor: r.captured_minor,
+    refundedMinor: r.refunded_minor,
+    minutes: r.minutes,
+    startedAt: r.started_at,
+    priceVersionId: r.price_version_id,
+    breakdown: r.breakdown,
+    providerChargeId: r.provider_charge_id,
+    failureMessage: r.failure_message,
+    createdAt: r.created_at,
+    updatedAt: r.updated_at,
+  };
+}
+
+function chargeQuery(trx: Knex | Knex.Transaction = db()) {
+  return trx('charges as c')
+    .leftJoin('machines as m', 'm.id', 'c.machine_id')
+    .leftJoin('people as p', 'p.id', 'c.person_id')
+    .select('c.*', 'm.name as machine_name', 'p.name as person_name', 'p.email as person_email');
+}
+
+export async function getCharge(id: string, trx: Knex | Knex.Transaction = db()): Promise<Charge | null> {
+  const r = await chargeQuery(trx).where('c.id', id).first();
+  return r ? toCharge(r) : null;
+}
+
+async function lockCharge(trx: Knex.Transaction, id: string): Promise<Charge> {
+  await trx('charges').where({ id }).forUpdate().first('id');
+  const c = await getCharge(id, trx);
+  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  return c;
+}
+
+async function update(trx: Knex | Knex.Transaction, id: string, patch: Record<string, unknown>): Promise<void> {
+  await trx('charges').where({ id }).update({ ...patch, updated_at: trx.fn.now() });
+}
+
+function breakdownOf(q: PricedQuote, extra: Partial<Breakdown> = {}): Breakdown {
+  return {
+    lines: q.lines,
+    subtotalMinor: q.subtotalMinor,
+    taxMinor: q.taxMinor,
+    taxMode: q.taxMode,
+    taxRateBp: q.taxRateBp,
+    amountMinor: q.amountMinor,
+    beamTimeMinor: beamTimeMinor(q),
+    billedMinutes: q.billedMinutes,
+    ...extra,
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Customers and cards
+
+export interface SavedCard {
+  brand: string;
+  last4: string;
+}
+
+async function personFor(personId: string, trx: Knex | Knex.Transaction = db()): Promise<{ id: string; email: string; name: string; tier: Tier; costCentre: string | null }> {
+  const p = await trx('people').where({ id: personId }).first('id', 'email', 'name', 'tier', 'cost_centre');
+  if (!p) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  return { id: p.id, email: p.email, name: p.name, tier: p.tier, costCentre: p.cost_centre };
+}
+
+/** The person's customer at the provider, created on first use (and again if the provider lost it). */
+export async function ensureCustomer(personId: string): Promise<string> {
+  const person = await personFor(personId);
+  const row = await db()('payment_customers').where({ person_id: personId }).first();
+  if (row) {
+    try {
+      const c = await provider().customers.retrieve(row.provider_customer_id);
+      if (!(c as { deleted?: boolean }).deleted) return row.provider_customer_id;
+    } catch (err) {
+      if (classify(err) === 'unreachable') throw unreachable();
+      if (classify(err) !== 'missing') throw err;
+    }
+  }
+  let created;
+  try {
+    created = await provider().customers.create(
+      { email: person.email, name: person.name, metadata: { personId } },
+      { idempotencyKey: `beamwarden-person-${personId}-customer-${row?.provider_customer_id ?? 'first'}` },
+    );
+  } catch (err) {
+    if (classify(err) === 'unreachable') throw unreachable();
+    throw err;
+  }
+  await db()('payment_customers')
+    .insert({ person_id: personId, provider_customer_id: created.id })
+    .onConflict('person_id')
+    .merge({ provider_customer_id: created.id, card_source_id: null, card_brand: null, card_last4: null, updated_at: db().fn.now() });
+  return created.id;
+}
+
+const unreachable = () => new HttpError(503, 'provider_unreachable', 'The card service cannot be reached just now. Try again in a minute.');
+
+/**
+ * Saves a card (a provider token) as the person's default source. Then any charge left `payment failed`
+ * or `carried` is retried on the new card. Card errors → 402 card_declined.
+ */
+export async function saveCard(personId: string, token: string): Promise<{ card: SavedCard; settled: number }> {
+  const customerId = await ensureCustomer(personId);
+  let source: { id: string; brand?: string; last4?: string };
+  try {
+    const tokenHash = createHash('sha256').update(token).digest('hex').slice(0, 16);
+    source = (await provider().customers.createSource(
+      customerId,
+      { source: token },
+      { idempotencyKey: `beamwarden-person-${personId}-card-${customerId}-${tokenHash}` },
+    )) as never;
+    await provider().customers.update(customerId, { default_source: source.id }, { idempotencyKey: `beamwarden-person-${personId}-default-${source.id}` });
+  } catch (err) {
+    const kind = classify(err);
+    if (kind === 'card') throw new HttpError(402, 'card_declined', `The card was declined: ${(err as ProviderError).message ?? 'no reason given'}. Try another card.`);
+    if (kind === 'unreachable') throw unreachable();
+    if (kind === 'missing' || (err as ProviderError).type === 'StripeInvalidRequestError') {
+      throw new HttpError(422, 'invalid', 'The card details were not accepted.', { token: (err as ProviderError).message ?? 'Not a card token.' });
+    }
+    throw err;
+  }
+  const card = { brand: source.brand ?? 'Card', last4: source.last4 ?? '????' };
+  await transaction(async (trx) => {
+    await trx('payment_customers').where({ person_id: personId }).update({
+      card_source_id: source.id, card_brand: card.brand, card_last4: card.last4, updated_at: trx.fn.now(),
+    });
+    await recordAudit(trx, { actorId: personId, kind: 'card.saved', subjectType: 'person', subjectId: personId, summary: `Saved a card (${card.brand} •••• ${card.last4})` });
+  });
+  const settled = await settleOwed(personId);
+  return { card, settled };
+}
+
+export async function savedCard(personId: string): Promise<SavedCard | null> {
+  const row = await db()('payment_customers').where({ person_id: personId }).first('card_brand', 'card_last4', 'card_source_id');
+  return row?.card_source_id ? { brand: row.card_brand, last4: row.card_last4 } : null;
+}
+
+async function cardOf(personId: string, trx: Knex | Knex.Transaction = db()): Promise<{ customerId: string; sourceId: string } | null> {
+  const row = await trx('payment_customers').where({ person_id: personId }).first('provider_customer_id', 'card_source_id');
+  return row?.card_source_id ? { customerId: row.provider_customer_id, sourceId: row.card_source_id } : null;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Provider operations on one charge (each with its own idempotency key)
+
+type Op = { op: 'hold' } | { op: 'charge'; amountMinor: number } | { op: 'capture'; amountMinor: number };
+
+const opText = (o: Op) => (o.op === 'hold' ? 'hold' : `${o.op}:${o.amountMinor}`);
+function parseOp(s: string): Op | null {
+  if (s === 'hold') return { op: 'hold' };
+  const m = /^(charge|capture):(\d+)$/.exec(s);
+  return m ? ({ op: m[1] as 'charge' | 'capture', amountMinor: Number(m[2]) } as Op) : null;
+}
+
+/** Runs an operation; on an unreachable provider the charge is queued for the worker. Returns the charge after. */
+async function run(chargeId: string, op: Op, fromWorker = false): Promise<Charge> {
+  const c = await getCharge(chargeId);
+  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  try {
+    await perform(c, op);
+  } catch (err) {
+    const kind = classify(err);
+    if (kind === 'card') {
+      await markFailed(c, (err as ProviderError).code ?? 'card_declined', (err as ProviderError).message ?? 'The card was declined.');
+    } else if (kind === 'unreachable' || (fromWorker && kind === 'missing')) {
+      await transaction(async (trx) => {
+        await update(trx, c.id, { state: 'queued', pending_op: opText(op) });
+        if (!fromWorker) await enqueue(trx, 'payments.retry', { chargeId: c.id });
+      });
+      if (fromWorker) throw new Error(`payment provider not ready for charge ${c.id}: ${(err as ProviderError).message ?? kind}`);
+    } else {
+      throw err;
+    }
+  }
+  return (await getCharge(chargeId))!;
+}
+
+async function perform(c: Charge, op: Op): Promise<void> {
+  const p = provider();
+  const description = `Beamwarden ${c.kind.replace('_', ' ')}${c.machineName ? ` on ${c.machineName}` : ''}`;
+  if (op.op === 'hold' || op.op === 'charge') {
+    const card = await cardOf(c.personId);
+    if (!card) {
+      await markFailed(c, 'no_card', 'No card is saved for this account.');
+      return;
+    }
+    const amount = op.op === 'hold' ? c.cardAmountMinor : op.amountMinor;
+    // the card is part of the key: the same attempt retried is one charge; a new card after a decline is a new attempt
+    const opKey = op.op === 'hold' ? `hold-${card.sourceId}` : `charge-${amount}-${card.sourceId}`;
+    if (c.providerChargeId && op.op === 'charge' && c.heldMinor > 0) {
+      // a hold was there and the final amount is higher: let the hold go, then take the whole amount anew
+      await p.refunds.create({ charge: c.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
+    }
+    const ch = await p.charges.create(
+      {
+        amount,
+        currency: c.currency.toLowerCase(),
+        customer: card.customerId,
+        source: card.sourceId,
+        capture: op.op === 'charge',
+        description,
+        metadata: { chargeId: c.id, personId: c.personId },
+      },
+      { idempotencyKey: key(c.id, opKey) },
+    );
+    await transaction(async (trx) => {
+      if (op.op === 'hold') {
+        await update(trx, c.id, { state: 'held', held_minor: amount, provider_charge_id: ch.id, pending_op: null, failure_code: null, failure_message: null });
+      } else {
+        await update(trx, c.id, { state: 'captured', held_minor: 0, captured_minor: amount, card_amount_minor: amount, provider_charge_id: ch.id, pending_op: null, failure_code: null, failure_message: null });
+        await afterCaptured(trx, c.id);
+      }
+    });
+    return;
+  }
+  // capture a hold
+  if (!c.providerChargeId) throw new Error(`charge ${c.id} has no hold to capture`);
+  if (op.amountMinor === 0) {
+    await p.refunds.create({ charge: c.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
+    await update(db(), c.id, { state: 'released', held_minor: 0, pending_op: null });
+    return;
+  }
+  if (op.amountMinor > c.heldMinor) {
+    await perform(c, { op: 'charge', amountMinor: op.amountMinor });
+    return;
+  }
+  await p.charges.capture(c.providerChargeId, { amount: op.amountMinor }, { idempotencyKey: key(c.id, `capture-${op.amountMinor}`) });
+  await transaction(async (trx) => {
+    await update(trx, c.id, { state: 'captured', held_minor: 0, captured_minor: op.amountMinor, card_amount_minor: op.amountMinor, pending_op: null, failure_code: null, failure_message: null });
+    await afterCaptured(trx, c.id);
+  });
+}
+
+/** Carried and failed sums paid together with this charge are marked settled; a receipt goes out. */
+async function afterCaptured(trx: Knex.Transaction, chargeId: string): Promise<void> {
+  const c = (await getCharge(chargeId, trx))!;
+  const includes = (c.breakdown.carriedInMinor ?? 0) > 0;
+  if (includes) {
+    await trx('charges').where({ person_id: c.personId }).whereIn('state', ['carried']).whereNot('id', c.id).update({ state: 'settled', settled_by: c.id, updated_at: trx.fn.now() });
+  }
+  await queueReceipt(trx, c);
+}
+
+async function markFailed(c: Charge, code: string, message: string): Promise<void> {
+  await transaction(async (trx) => {
+    await update(trx, c.id, { state: 'payment failed', pending_op: null, failure_code: code, failure_message: message, held_minor: 0 });
+    const p = await personFor(c.personId, trx);
+    await queueMail(trx, p.email, 'Payment failed', {
+      greeting: `Kia ora ${p.name},`,
+      paragraphs: [
+        `We could not take ${formatMoney(c.cardAmountMinor || c.amountMinor, c.currency)} for ${c.kind.replace('_', ' ')}${c.machineName ? ` on ${c.machineName}` : ''}: ${message}`,
+        'Until it is settled, new bookings are paused. Save a working card on your Account screen and we will try again straight away.',
+      ],
+      action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
+    });
+    await recordAudit(trx, { actorId: null, kind: 'charge.failed', subjectType: 'charge', subjectId: c.id, summary: `Payment failed for ${p.name}: ${message}` });
+  });
+}
+
+async function queueReceipt(trx: Knex.Transaction, c: Charge): Promise<void> {
+  const p = await personFor(c.personId, trx);
+  const lines = c.breakdown.lines.map((l) => `${l.label}: ${formatMoney(l.amountMinor, c.currency)}`);
+  if (c.breakdown.carriedInMinor) lines.push(`Earlier small sums carried to this charge: ${formatMoney(c.breakdown.carriedInMinor, c.currency)}`);
+  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${c.breakdown.taxRateBp / 100} % tax: ${formatMoney(c.breakdown.taxMinor, c.currency)}`;
+  const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${formatMoney(c.capturedMinor, c.currency)}`;
+  await queueMail(trx, p.email, `Receipt: ${formatMoney(c.amountMinor, c.currency)}`, {
+    greeting: `Kia ora ${p.name},`,
+    paragraphs: [...lines, tax, `Total: ${formatMoney(c.amountMinor, c.currency)}`, paid],
+    action: { label: 'Printable receipt', url: `${env().PUBLIC_BASE_URL}/account/receipts/${c.id}` },
+  });
+}
+
+/** Worker entry point: retries the queued operation of a charge with the same idempotency key. */
+export async function retryQueuedCharge(chargeId: string): Promise<void> {
+  const c = await getCharge(chargeId);
+  if (!c || c.state !== 'queued') return; // settled meanwhile (or released): nothing to do
+  const op = c.breakdown && parseOp((await db()('charges').where({ id: chargeId }).first('pending_op'))?.pending_op ?? '');
+  if (!op) return;
+  await run(chargeId, op, true);
+}
+
+// ---------------------------------------------------------------------------------------------
+// What other areas call
+
+/** Places the hold (capture: false) for a charge row in state `pending`. Idempotent. */
+export async function placeHold(chargeId: string): Promise<Charge> {
+  const c = await getCharge(chargeId);
+  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  if (c.state !== 'pending') return c;
+  return run(chargeId, { op: 'hold' });
+}
+
+/** Takes `amountMinor` from a held charge (releasing and charging anew when it is higher than the hold). */
+export async function capture(chargeId: string, amountMinor: number): Promise<Charge> {
+  const c = await getCharge(chargeId);
+  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  if (c.state !== 'held') return c;
+  return run(chargeId, { op: 'capture', amountMinor });
+}
+
+/**
+ * At booking: estimates the price and holds it on the person's card (paid tiers). Returns null when no
+ * hold is needed (recharge tier, nothing to pay, below the provider minimum). Throws 402 payment_required
+ * when a card is needed and none is saved, or when the person owes a failed payment.
+ */
+export async function holdForBooking(input: { personId: string; machineId: string; bookingId: string; startsAt: Date; minutes: number }): Promise<Charge | null> {
+  await assertCanBook(input.personId);
+  const person = await personFor(input.personId);
+  const q = await quoteFor({ machineId: input.machineId, tier: person.tier, minutes: input.minutes, at: input.startsAt, personId: input.personId });
+  if (q.rechargeTiers.includes(person.tier) && person.costCentre) return null;
+  const s = settle(q.amountMinor, q.currency, q.minimumRule);
+  if (s.chargeNowMinor === 0) return null;
+  if (!(await cardOf(input.personId))) throw new HttpError(402, 'payment_required', 'Save a card on your Account screen before booking paid time.');
+  const [row] = await db()('charges')
+    .insert({
+      person_id: input.personId, machine_id: input.machineId, booking_id: input.bookingId, kind: 'beam_time', method: 'card',
+      state: 'pending', currency: q.currency, amount_minor: q.amountMinor, tax_minor: q.taxMinor, card_amount_minor: s.chargeNowMinor,
+      minutes: input.minutes, started_at: input.startsAt, price_version_id: q.priceVersionId, breakdown: JSON.stringify(breakdownOf(q, { estimate: true })),
+    })
+    .returning('id');
+  return placeHold(row.id);
+}
+
+export interface BeamTimeInput {
+  personId: string;
+  machineId: string;
+  bookingId?: string | null;
+  sessionId: string;
+  startedAt: Date;
+  minutes: number;
+  materials?: { sku: string; quantity: number }[];
+}
+
+/**
+ * At check-out: prices the session by the version in force when it started (daily cap per person, site
+ * day), then recharges the cost centre, or captures the booking's hold (or charges the card), carrying
+ * or waiving sums below the provider minimum. One charge per session: calling again returns the same one.
+ */
+export async function chargeBeamTime(input: BeamTimeInput): Promise<Charge> {
+  const existing = await db()('charges').where({ session_id: input.sessionId }).first('id');
+  if (existing) return (await getCharge(existing.id))!;
+  const person = await personFor(input.personId);
+  const q = await quoteFor({ machineId: input.machineId, tier: person.tier, minutes: input.minutes, at: input.startedAt, materials: input.materials, personId: input.personId });
+  return billQuote(person, q, { kind: 'beam_time', machineId: input.machineId, bookingId: input.bookingId ?? null, sessionId: input.sessionId, startedAt: input.startedAt, minutes: input.minutes });
+}
+
+/** A late-cancellation or no-show fee for a booking (priced by the version in force at the booking's start). */
+export async function chargeBookingFee(input: { personId: string; machineId: string; bookingId: string; startsAt: Date; fee: 'late_cancellation' | 'no_show' }): Promise<Charge> {
+  const person = await personFor(input.personId);
+  const q = await quoteFor({
+    machineId: input.machineId, tier: person.tier, minutes: 0, at: input.startsAt, personId: input.personId,
+    lateCancellation: input.fee === 'late_cancellation', noShow: input.fee === 'no_show',
+  });
+  await releaseHoldsForBooking(input.bookingId, input.fee === 'no_show' ? 'no-show' : 'late cancellation', { notify: false });
+  return billQuote(person, q, { kind: input.fee, machineId: input.machineId, bookingId: input.bookingId, sessionId: null, startedAt: input.startsAt, minutes: 0 });
+}
+
+async function billQuote(
+  person: { id: string; tier: Tier; costCentre: string | null },
+  q: PricedQuote,
+  ctx: { kind: ChargeKind; machineId: string; bookingId: string | null; sessionId: string | null; startedAt: Date; minutes: number },
+): Promise<Charge> {
+  const recharge = q.rechargeTiers.includes(person.tier) && person.costCentre !== null;
+  const base = {
+    person_id: person.id, machine_id: ctx.machineId, booking_id: ctx.bookingId, session_id: ctx.sessionId, kind: ctx.kind,
+    currency: q.currency, amount_minor: q.amountMinor, tax_minor: q.taxMinor, minutes: ctx.minutes, started_at: ctx.startedAt,
+    price_version_id: q.priceVersionId,
+  };
+  if (recharge) {
+    const id = await transaction(async (trx) => {
+      const [row] = await trx('charges')
+        .insert({ ...base, method: 'recharge', cost_centre: person.costCentre, state: 'recharged', breakdown: JSON.stringify(breakdownOf(q)) })
+        .returning('id');
+      await queueReceipt(trx, (await getCharge(row.id, trx))!);
+      return row.id as string;
+    });
+    return (await getCharge(id))!;
+  }
+  const carriedIn = Number((await db()('charges').where({ person_id: person.id, state: 'carried' }).sum({ s: 'amount_minor' }).first())?.s ?? 0);
+  const s = settle(q.amountMinor, q.currency, q.minimumRule, carriedIn);
+  const held = ctx.bookingId ? await db()('charges').where({ booking_id: ctx.bookingId, state: 'held', kind: 'beam_time' }).first('id') : undefined;
+  const breakdown = JSON.stringify(breakdownOf(q, s.chargeNowMinor > 0 && carriedIn > 0 ? { carriedInMinor: carriedIn } : {}));
+  const state: ChargeState = s.chargeNowMinor > 0 ? 'pending' : q.amountMinor === 0 || s.waivedMinor > 0 ? 'waived' : 'carried';
+  let id: string;
+  if (held && ctx.kind === 'beam_time') {
+    id = held.id;
+    await update(db(), id, { ...base, breakdown, method: 'card' });
+    if (s.chargeNowMinor === 0) {
+      await run(id, { op: 'capture', amountMinor: 0 });
+      await update(db(), id, { state });
+      return (await getCharge(id))!;
+    }
+    return run(id, { op: 'capture', amountMinor: s.chargeNowMinor });
+  }
+  let row: { id: string } | undefined;
+  try {
+    [row] = await db()('charges').insert({ ...base, method: 'card', state, card_amount_minor: s.chargeNowMinor, breakdown }).returning('id');
+  } catch (err) {
+    // the same session checked out twice at once: the other call made the charge
+    if (pgCode(err) === PG.uniqueViolation && ctx.sessionId) {
+      const other = await db()('charges').where({ session_id: ctx.sessionId }).first('id');
+      if (other) return (await getCharge(other.id))!;
+    }
+    throw err;
+  }
+  id = row!.id;
+  if (s.chargeNowMinor === 0) return (await getCharge(id))!;
+  return run(id, { op: 'charge', amountMinor: s.chargeNowMinor });
+}
+
+/**
+ * A booking the space could not give (bumped by a `stop` fault, or cancelled in time): its holds are
+ * released and anything already taken is refunded in full, with an e-mail to the member.
+ */
+export async function releaseHoldsForBooking(bookingId: string, reason: string, opts: { notify?: boolean; actorId?: string | null } = {}): Promise<Charge[]> {
+  const rows = await db()('charges').where({ booking_id: bookingId }).whereIn('state', ['pending', 'queued', 'held', 'captured']).select('id');
+  const done: Charge[] = [];
+  for (const { id } of rows) {
+    const c = (await getCharge(id))!;
+    if (c.state === 'held' && c.providerChargeId) {
+      try {
+        await provider().refunds.create({ charge: c.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
+      } catch (err) {
+        if (classify(err) === 'unreachable') throw unreachable();
+        throw err;
+      }
+      await update(db(), c.id, { state: 'released', held_minor: 0, pending_op: null });
+    } else if (c.state === 'pending' || c.state === 'queued') {
+      await update(db(), c.id, { state: 'released', held_minor: 0, pending_op: null });
+    } else if (c.state === 'captured' && c.capturedMinor > c.refundedMinor) {
+      await refund(c.id, c.capturedMinor - c.refundedMinor, reason, opts.actorId ?? null, { notify: false });
+    }
+    done.push((await getCharge(c.id))!);
+  }
+  if (done.length && opts.notify !== false) {
+    const p = await personFor(done[0]!.personId);
+    await queueMail(null, p.email, 'Your booking was released: no charge', {
+      greeting: `Kia ora ${p.name},`,
+      paragraphs: [`Your booking could not go ahead (${reason}). Any hold on your card has been released and anything taken has been refunded. You are not charged for time the space could not give.`],
+      action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
+    });
+  }
+  return done;
+}
+
+/** Refunds `amountMinor` (full or partial) of a captured or recharged charge, with a reason; audited. */
+export async function refund(chargeId: string, amountMinor: number, reason: string, actorId: string | null, opts: { notify?: boolean } = {}): Promise<Charge> {
+  const c = await getCharge(chargeId);
+  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
+  if (!(c.state === 'captured' || c.state === 'recharged')) throw new HttpError(409, 'not_refundable', `A charge in state "${c.state}" cannot be refunded.`);
+  const left = paid - c.refundedMinor;
+  if (amountMinor < 1 || amountMinor > left) {
+    throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${formatMoney(left, c.currency)} is left to refund.` });
+  }
+  const refundId = randomUUID();
+  let providerRefundId: string | null = null;
+  if (c.method === 'card' && c.providerChargeId) {
+    try {
+      const r = await provider().refunds.create(
+        { charge: c.providerChargeId, amount: amountMinor, metadata: { chargeId: c.id, reason: reason.slice(0, 450) } },
+        { idempotencyKey: key(c.id, `refund-${c.refundedMinor}-${amountMinor}`) },
+      );
+      providerRefundId = r.id;
+    } catch (err) {
+      if (classify(err) === 'unreachable') throw unreachable();
+      throw err;
+    }
+  }
+  await transaction(async (trx) => {
+    const now = await lockCharge(trx, c.id);
+    if (now.refundedMinor !== c.refundedMinor) throw new HttpError(409, 'refund_conflict', 'Someone refunded this charge meanwhile; reload and check.');
+    const refunded = now.refundedMinor + amountMinor;
+    await trx('charge_refunds').insert({ id: refundId, charge_id: c.id, amount_minor: amountMinor, reason, actor_id: actorId, provider_refund_id: providerRefundId });
+    await update(trx, c.id, { refunded_minor: refunded, state: refunded === paid ? 'refunded' : now.state });
+    await recordAudit(trx, {
+      actorId,
+      kind: 'charge.refunded',
+      subjectType: 'charge',
+      subjectId: c.id,
+      summary: `Refunded ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName}: ${reason}`,
+      before: { state: now.state, refundedMinor: now.refundedMinor },
+      after: { state: refunded === paid ? 'refunded' : now.state, refundedMinor: refunded },
+    });
+    if (opts.notify !== false) {
+      await queueMail(trx, c.personEmail!, `Refund: ${formatMoney(amountMinor, c.currency)}`, {
+        greeting: `Kia ora ${c.personName},`,
+        paragraphs: [`We refunded ${formatMoney(amountMinor, c.currency)} of your charge of ${formatMoney(c.amountMinor, c.currency)}. Reason: ${reason}`,
+          c.method === 'card' ? 'Card refunds usually show on your statement within 5–10 days.' : `The refund is credited to cost centre ${c.costCentre}.`],
+      });
+    }
+  });
+  return (await getCharge(c.id))!;
+}
+
+/** Retries every failed or carried charge of a person as one charge on the saved card. Returns how many settled. */
+export async function settleOwed(personId: string): Promise<number> {
+  const owed = await db()('charges').where({ person_id: personId }).whereIn('state', ['payment failed', 'carried']).select('id', 'amount_minor', 'card_amount_minor', 'state', 'currency');
+  const failed = owed.filter((o) => o.state === 'payment failed');
+  let n = 0;
+  for (const f of failed) {
+    const amount = f.card_amount_minor || f.amount_minor;
+    const after = await run(f.id, { op: 'charge', amountMinor: amount });
+    if (after.state === 'captured') n++;
+  }
+  return n;
+}
+
+/** Throws 402 payment_required while the person has a failed payment. Booking calls this first. */
+export async function assertCanBook(personId: string): Promise<void> {
+  const failed = await db()('charges').where({ person_id: personId, state: 'payment failed' }).first('id');
+  if (failed) throw new HttpError(402, 'payment_required', 'A payment failed on this account. Save a working card on the Account screen to settle it, then book again.');
+}
+
+// ---------------------------------------------------------------------------------------------
+// Account and reports
+
+export interface AccountSummary {
+  tier: Tier;
+  costCentre: string | null;
+  recharge: boolean;
+  card: SavedCard | null;
+  currency: string;
+  balanceOwedMinor: number;
+  failed: number;
+}
+
+export async function accountSummary(personId: string): Promise<AccountSummary> {
+  const person = await personFor(personId);
+  const { currency } = await getSettings();
+  const owed = await db()('charges').where({ person_id: personId }).whereIn('state', ['payment failed', 'carried'])
+    .select(db().raw('coalesce(sum(amount_minor), 0)::int as owed'), db().raw("count(*) filter (where state = 'payment failed')::int as failed")).first();
+  const v = await db()('price_versions').where('effective_from', '<=', new Date()).orderBy('effective_from', 'desc').first('recharge_tiers');
+  return {
+    tier: person.tier,
+    costCentre: person.costCentre,
+    recharge: Boolean(person.costCentre && (v?.recharge_tiers ?? []).includes(person.tier)),
+    card: await savedCard(personId),
+    currency,
+    balanceOwedMinor: Number(owed?.owed ?? 0),
+    failed: Number(owed?.failed ?? 0),
+  };
+}
+
+export type ChargeSort = 'date' | 'amount' | 'state' | 'machine';
+
+export async function listCharges(personId: string | null, opts: { page: number; pageSize: number; sort: ChargeSort; dir: 'asc' | 'desc' }): Promise<{ rows: Charge[]; total: number }> {
+  const base = db()('charges as c');
+  if (personId) base.where('c.person_id', personId);
+  const [{ count }] = (await base.clone().count({ count: '*' })) as [{ count: number }];
+  const column = { date: 'c.created_at', amount: 'c.amount_minor', state: 'c.state', machine: 'm.name' }[opts.sort];
+  const q = chargeQuery();
+  if (personId) q.where('c.person_id', personId);
+  const rows = await q.orderBy(column, opts.dir).orderBy('c.id').limit(opts.pageSize).offset((opts.page - 1) * opts.pageSize);
+  return { total: Number(count), rows: rows.map(toCharge) };
+}
+
+export async function refundsOf(chargeId: string): Promise<{ amountMinor: number; reason: string; at: Date; actorName: string | null }[]> {
+  const rows = await db()('charge_refunds as r').leftJoin('people as p', 'p.id', 'r.actor_id').where('r.charge_id', chargeId)
+    .orderBy('r.created_at').select('r.amount_minor', 'r.reason', 'r.created_at', 'p.name');
+  return rows.map((r) => ({ amountMinor: r.amount_minor, reason: r.reason, at: r.created_at, actorName: r.name }));
+}
+
+/**
+ * Internal recharge for finance: one line per recharged charge in the month (site time zone), net of
+ * refunds, and a last TOTAL line equal to the sum of the lines.
+ */
+export async function rechargeCsv(month: string, costCentre?: string): Promise<{ csv: string; totalMinor: number; lines: number }> {
+  const { timeZone, currency } = await getSettings();
+  const [y, m] = month.split('-').map(Number) as [number, number];
+  const from = zonedMidnight(`${month}-01`, timeZone);
+  const next = m === 12 ? `${y + 1}-01-01` : `${y}-${String(m + 1).padStart(2, '0')}-01`;
+  const to = zonedMidnight(next, timeZone);
+  const q = chargeQuery().where('c.method', 'recharge').whereIn('c.state', ['recharged', 'refunded'])
+    .where('c.created_at', '>=', from).where('c.created_at', '<', to).orderBy('c.cost_centre').orderBy('c.created_at');
+  if (costCentre) q.where('c.cost_centre', costCentre);
+  const rows = (await q).map(toCharge);
+  const fmtDate = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' });
+  const money = (n: number) => formatMoney(n, currency).split(' ')[1]!.replace('−', '-');
+  let total = 0;
+  const records = rows.map((c) => {
+    const net = c.amountMinor - c.refundedMinor;
+    total += net;
+    return [fmtDate.format(c.createdAt), c.costCentre, c.personName, c.personEmail, c.machineName ?? '', c.kind.replace('_', ' '), c.minutes ?? '', money(net), money(c.taxMinor), currency, c.id];
+  });
+  const csv = stringify([
+    ['date', 'cost_centre', 'person', 'email', 'machine', 'kind', 'minutes', 'amount', 'tax_included', 'currency', 'charge_id'],
+    ...records,
+    ['TOTAL', costCentre ?? 'all', '', '', '', '', '', money(total), '', currency, ''],
+  ]);
+  return { csv, totalMinor: total, lines: records.length };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Webhooks
+
+/** Handles a signed provider event: refunds and failures made elsewhere reach our record. Idempotent by event id. */
+export async function handleWebhook(body: string, signature: string | null): Promise<{ received: true; duplicate: boolean; handled: boolean }> {
+  const event = verifyWebhook(body, signature);
+  return transaction(async (trx) => {
+    const inserted = await trx('payment_events').insert({ id: event.id, type: event.type }).onConflict('id').ignore().returning('id');
+    if (!inserted.length) return { received: true as const, duplicate: true, handled: false };
+    const obj = event.data.object as { id?: string; amount_refunded?: number; amount_captured?: number; failure_message?: string; failure_code?: string };
+    if (!obj.id) return { received: true as const, duplicate: false, handled: false };
+    const row = await trx('charges').where({ provider_charge_id: obj.id }).forUpdate().first();
+    if (!row) return { received: true as const, duplicate: false, handled: false };
+    if (event.type === 'charge.refunded' && typeof obj.amount_refunded === 'number' && obj.amount_refunded > row.refunded_minor) {
+      const full = obj.amount_refunded >= row.captured_minor;
+      await update(trx, row.id, { refunded_minor: Math.min(obj.amount_refunded, row.captured_minor), state: full ? 'refunded' : row.state });
+      await recordAudit(trx, { actorId: null, kind: 'charge.refunded', subjectType: 'charge', subjectId: row.id, summary: `The provider reported a refund: ${formatMoney(obj.amount_refunded, row.currency)} in total` });
+      return { received: true as const, duplicate: false, handled: true };
+    }
+    if (event.type === 'charge.failed' && row.state !== 'payment failed' && row.state !== 'captured') {
+      await update(trx, row.id, { state: 'payment failed', failure_code: obj.failure_code ?? 'failed', failure_message: obj.failure_message ?? 'The provider reported the charge failed.' });
+      const p = await personFor(row.person_id, trx);
+      await queueMail(trx, p.email, 'Payment failed', {
+        greeting: `Kia ora ${p.name},`,
+        paragraphs: [`A payment of ${formatMoney(row.amount_minor, row.currency)} failed. New bookings are paused until it is settled: save a working card on your Account screen.`],
+        action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
+      });
+      return { received: true as const, duplicate: false, handled: true };
+    }
+    if (event.type === 'charge.captured' && row.state === 'held' && typeof obj.amount_captured === 'number') {
+      await update(trx, row.id, { state: 'captured', captured_minor: obj.amount_captured, held_minor: 0 });
+      return { received: true as const, duplicate: false, handled: true };
+    }
+    return { received: true as const, duplicate: false, handled: false };
+  });
+}
+
+/** For tests and support: the provider's charges of a person (to check nothing was taken twice). */
+export async function providerChargesOf(personId: string): Promise<{ id: string; amount: number; captured: boolean; refunded: number }[]> {
+  const out: { id: string; amount: number; captured: boolean; refunded: number }[] = [];
+  // every charge we make carries metadata.personId (the local fake does not filter charges by customer)
+  for await (const c of provider().charges.list({ limit: 100 })) {
+    if (c.metadata?.personId === personId && c.status !== 'failed') out.push({ id: c.id, amount: c.amount, captured: c.captured, refunded: c.amount_refunded });
+  }
+  return out;
+}

@@ -1,0 +1,277 @@
+/**
+ * Price versions and quotes: all SQL of the pricing area. A version is never edited: a change is a new
+ * version with its own effective date, and a session is priced by the version in force when it started.
+ */
+import type { Knex } from 'knex';
+import { db, pgCode, PG, transaction } from './db';
+import { recordAudit } from './audit';
+import { HttpError } from './http';
+import { getSettings } from './settings';
+import {
+  PricingError, TIERS, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode, type Tier,
+} from '../pricing';
+
+export interface PriceVersion {
+  id: string;
+  effectiveFrom: Date;
+  currency: string;
+  incrementMinutes: number;
+  minimumChargeMinor: number;
+  dailyCapMinor: number | null;
+  lateCancelFeeMinor: number;
+  noShowFeeMinor: number;
+  taxMode: TaxMode;
+  taxRateBp: number;
+  minimumRule: MinimumRule;
+  rechargeTiers: Tier[];
+  materials: Material[];
+  note: string;
+  createdBy: string | null;
+  createdByName: string | null;
+  createdAt: Date;
+  /** machine id → tier → per-minute rate in minor units */
+  rates: Record<string, Partial<Record<Tier, number>>>;
+}
+
+type Row = {
+  id: string; effective_from: Date; currency: string; increment_minutes: number; minimum_charge_minor: number;
+  daily_cap_minor: number | null; late_cancel_fee_minor: number; no_show_fee_minor: number; tax_mode: TaxMode;
+  tax_rate_bp: number; minimum_rule: MinimumRule; recharge_tiers: Tier[]; materials: Material[]; note: string;
+  created_by: string | null; created_by_name?: string | null; created_at: Date;
+};
+
+async function withRates(trx: Knex | Knex.Transaction, rows: Row[]): Promise<PriceVersion[]> {
+  if (!rows.length) return [];
+  const rates = await trx('price_rates').whereIn('version_id', rows.map((r) => r.id)).select('version_id', 'machine_id', 'tier', 'per_minute_minor');
+  return rows.map((r) => {
+    const byMachine: Record<string, Partial<Record<Tier, number>>> = {};
+    for (const x of rates.filter((x) => x.version_id === r.id)) (byMachine[x.machine_id] ??= {})[x.tier as Tier] = x.per_minute_minor;
+    return {
+      id: r.id,
+      effectiveFrom: r.effective_from,
+      currency: r.currency,
+      incrementMinutes: r.increment_minutes,
+      minimumChargeMinor: r.minimum_charge_minor,
+      dailyCapMinor: r.daily_cap_minor,
+      lateCancelFeeMinor: r.late_cancel_fee_minor,
+      noShowFeeMinor: r.no_show_fee_minor,
+      taxMode: r.tax_mode,
+      taxRateBp: r.tax_rate_bp,
+      minimumRule: r.minimum_rule,
+      rechargeTiers: r.recharge_tiers,
+      materials: r.materials,
+      note: r.note,
+      createdBy: r.created_by,
+      createdByName: r.created_by_name ?? null,
+      createdAt: r.created_at,
+      rates: byMachine,
+    };
+  });
+}
+
+export function toTable(v: PriceVersion): PriceTable {
+  return {
+    currency: v.currency,
+    rates: v.rates,
+    incrementMinutes: v.incrementMinutes,
+    minimumChargeMinor: v.minimumChargeMinor,
+    dailyCapMinor: v.dailyCapMinor,
+    lateCancelFeeMinor: v.lateCancelFeeMinor,
+    noShowFeeMinor: v.noShowFeeMinor,
+    taxMode: v.taxMode,
+    taxRateBp: v.taxRateBp,
+    materials: v.materials,
+    minimumRule: v.minimumRule,
+  };
+}
+
+/** Every version, newest effective date first, with who made it. */
+export async function listVersions(): Promise<PriceVersion[]> {
+  const rows = (await db()('price_versions as v')
+    .leftJoin('people as p', 'p.id', 'v.created_by')
+    .select('v.*', 'p.name as created_by_name')
+    .orderBy('v.effective_from', 'desc')) as Row[];
+  return withRates(db(), rows);
+}
+
+/** The version in force at `at` (the latest with effective_from ≤ at), or null when none is. */
+export async function versionAt(at: Date, trx: Knex | Knex.Transaction = db()): Promise<PriceVersion | null> {
+  const row = (await trx('price_versions').where('effective_from', '<=', at).orderBy('effective_from', 'desc').first()) as Row | undefined;
+  if (!row) return null;
+  return (await withRates(trx, [row]))[0] ?? null;
+}
+
+async function requireVersionAt(at: Date, trx: Knex | Knex.Transaction = db()): Promise<PriceVersion> {
+  const v = await versionAt(at, trx);
+  if (!v) throw new HttpError(409, 'no_prices', 'No price version is in force at that time; an admin sets prices on the Pricing screen.');
+  return v;
+}
+
+/** The per-minute rate of a machine for a tier in the version in force when the session started. */
+export async function priceFor(machineId: string, tier: Tier, startedAt: Date, trx: Knex | Knex.Transaction = db()): Promise<{ versionId: string; effectiveFrom: Date; currency: string; perMinuteMinor: number; table: PriceTable }> {
+  const v = await requireVersionAt(startedAt, trx);
+  const rate = v.rates[machineId]?.[tier];
+  if (rate === undefined) throw new HttpError(409, 'not_priced', `This machine has no ${tier} rate in the price version in force.`);
+  return { versionId: v.id, effectiveFrom: v.effectiveFrom, currency: v.currency, perMinuteMinor: rate, table: toTable(v) };
+}
+
+/** Start and end (UTC instants) of the calendar day in `timeZone` that contains `at`. */
+export function zonedDayBounds(at: Date, timeZone: string): { from: Date; to: Date } {
+  const parts = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).format(at);
+  const from = zonedMidnight(parts, timeZone);
+  const next = new Date(Date.UTC(Number(parts.slice(0, 4)), Number(parts.slice(5, 7)) - 1, Number(parts.slice(8, 10)) + 1));
+  return { from, to: zonedMidnight(next.toISOString().slice(0, 10), timeZone) };
+}
+
+/** The UTC instant of 00:00 on `date` (YYYY-MM-DD) in `timeZone` (correct across daylight-saving changes). */
+export function zonedMidnight(date: string, timeZone: string): Date {
+  const [y, m, d] = date.split('-').map(Number) as [number, number, number];
+  let guess = Date.UTC(y, m - 1, d);
+  for (let i = 0; i < 3; i++) {
+    const off = offsetMinutes(new Date(guess), timeZone);
+    const next = Date.UTC(y, m - 1, d) - off * 60_000;
+    if (next === guess) break;
+    guess = next;
+  }
+  return new Date(guess);
+}
+
+function offsetMinutes(at: Date, timeZone: string): number {
+  const f = new Intl.DateTimeFormat('en-US', { timeZone, hourCycle: 'h23', year: 'numeric', month: 'numeric', day: 'numeric', hour: 'numeric', minute: 'numeric', second: 'numeric' });
+  const p = Object.fromEntries(f.formatToParts(at).map((x) => [x.type, x.value]));
+  const asUtc = Date.UTC(Number(p.year), Number(p.month) - 1, Number(p.day), Number(p.hour), Number(p.minute), Number(p.second));
+  return Math.round((asUtc - Math.floor(at.getTime() / 1000) * 1000) / 60_000);
+}
+
+/** Beam time already charged to a person on the site-local day of `at` (counts toward the daily cap). */
+export async function beamTimeChargedOnDay(personId: string, at: Date, trx: Knex | Knex.Transaction = db()): Promise<number> {
+  const { timeZone } = await getSettings();
+  const { from, to } = zonedDayBounds(at, timeZone);
+  const row = await trx('charges')
+    .where({ person_id: personId, kind: 'beam_time' })
+    .whereNotIn('state', ['released', 'refunded', 'waived'])
+    .where('started_at', '>=', from)
+    .where('started_at', '<', to)
+    .first(trx.raw("coalesce(sum((breakdown->>'beamTimeMinor')::int), 0)::int as total"));
+  return Number(row?.total ?? 0);
+}
+
+export interface QuoteRequest {
+  machineId: string;
+  tier: Tier;
+  minutes: number;
+  at?: Date;
+  materials?: { sku: string; quantity: number }[];
+  personId?: string;
+  lateCancellation?: boolean;
+  noShow?: boolean;
+}
+
+export interface PricedQuote extends Quote {
+  priceVersionId: string;
+  effectiveFrom: Date;
+  minimumRule: MinimumRule;
+  rechargeTiers: Tier[];
+}
+
+/** Prices a session with the version in force at `at` (default now). */
+export async function quoteFor(req: QuoteRequest, trx: Knex | Knex.Transaction = db()): Promise<PricedQuote> {
+  const at = req.at ?? new Date();
+  const v = await requireVersionAt(at, trx);
+  const machine = await trx('machines').where({ id: req.machineId }).first('name');
+  if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+  const input: QuoteInput = {
+    machineId: req.machineId,
+    machineName: machine.name,
+    tier: req.tier,
+    minutes: req.minutes,
+    materials: req.materials,
+    lateCancellation: req.lateCancellation,
+    noShow: req.noShow,
+    alreadyChargedTodayMinor: req.personId ? await beamTimeChargedOnDay(req.personId, at, trx) : 0,
+  };
+  try {
+    const q = quote(toTable(v), input);
+    return { ...q, priceVersionId: v.id, effectiveFrom: v.effectiveFrom, minimumRule: v.minimumRule, rechargeTiers: v.rechargeTiers };
+  } catch (err) {
+    if (err instanceof PricingError) throw new HttpError(422, err.code, err.message);
+    throw err;
+  }
+}
+
+export interface NewVersion {
+  effectiveFrom: Date;
+  currency: string;
+  incrementMinutes: number;
+  minimumChargeMinor: number;
+  dailyCapMinor: number | null;
+  lateCancelFeeMinor: number;
+  noShowFeeMinor: number;
+  taxMode: TaxMode;
+  taxRateBp: number;
+  minimumRule: MinimumRule;
+  rechargeTiers: Tier[];
+  materials: Material[];
+  note: string;
+  rates: { machineId: string; tier: Tier; perMinuteMinor: number }[];
+}
+
+/** Adds a price version (audited). The effective date may not be in the past: history is never rewritten. */
+export async function createVersion(actorId: string, input: NewVersion): Promise<PriceVersion> {
+  if (input.effectiveFrom.getTime() < Date.now() - 60_000) {
+    throw new HttpError(422, 'invalid', 'A new price version takes effect now or later, never in the past.', { effectiveFrom: 'Choose today or a later date.' });
+  }
+  const skus = new Set<string>();
+  for (const m of input.materials) {
+    if (skus.has(m.sku)) throw new HttpError(422, 'invalid', 'Each material code appears once.', { materials: `${m.sku} appears twice.` });
+    skus.add(m.sku);
+  }
+  try {
+    return await transaction(async (trx) => {
+      const machineIds = new Set((await trx('machines').pluck('id')) as string[]);
+      for (const r of input.rates) {
+        if (!machineIds.has(r.machineId)) throw new HttpError(422, 'invalid', 'A rate names a machine that does not exist.', { rates: r.machineId });
+      }
+      const [row] = await trx('price_versions')
+        .insert({
+          effective_from: input.effectiveFrom,
+          currency: input.currency,
+          increment_minutes: input.incrementMinutes,
+          minimum_charge_minor: input.minimumChargeMinor,
+          daily_cap_minor: input.dailyCapMinor,
+          late_cancel_fee_minor: input.lateCancelFeeMinor,
+          no_show_fee_minor: input.noShowFeeMinor,
+          tax_mode: input.taxMode,
+          tax_rate_bp: input.taxRateBp,
+          minimum_rule: input.minimumRule,
+          recharge_tiers: input.rechargeTiers,
+          materials: JSON.stringify(input.materials),
+          note: input.note,
+          created_by: actorId,
+        })
+        .returning('*');
+      const unique = new Map(input.rates.map((r) => [`${r.machineId}:${r.tier}`, r]));
+      if (unique.size) {
+        await trx('price_rates').insert([...unique.values()].map((r) => ({ version_id: row.id, machine_id: r.machineId, tier: r.tier, per_minute_minor: r.perMinuteMinor })));
+      }
+      const actor = await trx('people').where({ id: actorId }).first('name');
+      const [version] = await withRates(trx, [{ ...(row as Row), created_by_name: actor?.name ?? null }]);
+      const before = await versionAt(new Date(input.effectiveFrom.getTime() - 1), trx);
+      await recordAudit(trx, {
+        actorId,
+        kind: 'price.version_created',
+        subjectType: 'price_version',
+        subjectId: row.id,
+        summary: `New price version from ${input.effectiveFrom.toISOString()} (${input.currency}, ${unique.size} rates)${input.note ? `: ${input.note}` : ''}`,
+        before: before ? toTable(before) : null,
+        after: toTable(version!),
+      });
+      return version!;
+    });
+  } catch (err) {
+    if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'version_exists', 'A price version already starts at that moment; choose another date.');
+    throw err;
+  }
+}
+
+export { TIERS };

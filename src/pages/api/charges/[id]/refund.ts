@@ -1,0 +1,23 @@
+import { z } from 'zod';
+import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
+import { getCharge, refund } from '../../../../lib/server/payments';
+import { chargeJson } from '../../../../lib/server/charge-json';
+import { minor, uuid } from '../../../../lib/schemas';
+
+const body = z.object({
+  amountMinor: minor.optional(),
+  reason: z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(500, 'At most 500 characters.'),
+}).strict();
+
+/** POST /api/charges/:id/refund {amountMinor?, reason} (steward/admin) → the charge; full when amountMinor is left out. Audited. */
+export const POST = route(async ({ locals, params, request }) => {
+  const actor = requireRole(locals, 'steward', 'admin');
+  const id = uuid.safeParse(params.id);
+  if (!id.success) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  const input = await readJson(request, body);
+  const c = await getCharge(id.data);
+  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
+  const amount = input.amountMinor ?? paid - c.refundedMinor;
+  return json(chargeJson(await refund(c.id, amount, input.reason, actor.id)));
+});

@@ -1,0 +1,49 @@
+import { z } from 'zod';
+import { HttpError, json, readJson, requireRole, route } from '../../../lib/server/http';
+import { createVersion, listVersions, type PriceVersion } from '../../../lib/server/prices';
+import { getSettings } from '../../../lib/server/settings';
+import { zonedMidnight } from '../../../lib/server/prices';
+import { minor, tier, uuid } from '../../../lib/schemas';
+import { CURRENCY_EXPONENT } from '../../../lib/pricing';
+
+const body = z.object({
+  /** the version starts at 00:00 of this date in the site's time zone */
+  effectiveDate: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date as YYYY-MM-DD.'),
+  currency: z.string().trim().toUpperCase().refine((c) => c in CURRENCY_EXPONENT, 'Not a currency this site knows (ISO 4217 code).'),
+  incrementMinutes: z.number().int().min(1, 'At least 1 minute.').max(240, 'At most 240 minutes.'),
+  minimumChargeMinor: minor,
+  dailyCapMinor: minor.nullable(),
+  lateCancelFeeMinor: minor,
+  noShowFeeMinor: minor,
+  taxMode: z.enum(['inclusive', 'exclusive']),
+  taxRateBp: z.number().int().min(0).max(10_000, 'At most 100 %.'),
+  minimumRule: z.enum(['carry', 'waive']),
+  rechargeTiers: z.array(tier).max(4),
+  materials: z.array(z.object({ sku: z.string().trim().regex(/^[a-z0-9][a-z0-9-]{0,39}$/, 'A code such as ply-3.'), name: z.string().trim().min(1).max(120), priceMinor: minor }).strict()).max(100),
+  note: z.string().trim().max(500).default(''),
+  rates: z.array(z.object({ machineId: uuid, tier, perMinuteMinor: minor }).strict()).max(400),
+}).strict();
+
+export function versionJson(v: PriceVersion) {
+  return { ...v, effectiveFrom: v.effectiveFrom.toISOString(), createdAt: v.createdAt.toISOString() };
+}
+
+/** GET /api/pricing/versions (admin) → every version, newest first. */
+export const GET = route(async ({ locals }) => {
+  requireRole(locals, 'admin');
+  return json({ versions: (await listVersions()).map(versionJson) });
+});
+
+/** POST /api/pricing/versions {...} (admin) → the new version, in force from 00:00 of effectiveDate (site time zone). Audited. */
+export const POST = route(async ({ locals, request }) => {
+  const admin = requireRole(locals, 'admin');
+  const input = await readJson(request, body);
+  const { timeZone } = await getSettings();
+  const effectiveFrom = zonedMidnight(input.effectiveDate, timeZone);
+  if (Number.isNaN(effectiveFrom.getTime())) throw new HttpError(422, 'invalid', 'Not a date.', { effectiveDate: 'Not a calendar date.' });
+  const today = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).format(new Date());
+  // "today" means: from now (a version cannot start in the past)
+  const from = input.effectiveDate === today ? new Date() : effectiveFrom;
+  const { effectiveDate: _d, ...rest } = input;
+  return json(versionJson(await createVersion(admin.id, { ...rest, effectiveFrom: from })), 201);
+});

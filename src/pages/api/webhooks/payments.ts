@@ -1,0 +1,13 @@
+import { HttpError, json, route } from '../../../lib/server/http';
+import { handleWebhook } from '../../../lib/server/payments';
+
+const MAX = 512 * 1024;
+
+/** POST /api/webhooks/payments: provider events, signature checked against STRIPE_WEBHOOK_SECRET (no session). */
+export const POST = route(async ({ request }) => {
+  const declared = Number(request.headers.get('content-length') ?? '0');
+  if (declared > MAX) throw new HttpError(413, 'body_too_large', 'The event is too large.');
+  const body = await request.text();
+  if (body.length > MAX) throw new HttpError(413, 'body_too_large', 'The event is too large.');
+  return json(await handleWebhook(body, request.headers.get('stripe-signature')));
+});
