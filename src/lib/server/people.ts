@@ -171,6 +171,9 @@ export async function reactivatePerson(actorId: string, personId: string): Promi
   return transaction(async (trx) => {
     await applyActive(trx, actorId, personId, true);
     return mustGetPerson(personId, trx);
+  });
+}
+
 /** Sets a person's pricing tier and cost centre (billing); audited. */
 export async function setTier(actorId: string, personId: string, tier: Tier, costCentre: string | null): Promise<Person> {
   return transaction(async (trx) => {
