@@ -28,3 +28,20 @@ export const page = z.coerce.number().int().min(1).max(100_000).default(1);
 export const pageSize = z.coerce.number().int().min(1).max(200).default(25);
 
 export const searchText = z.string().trim().max(200).optional();
+
+/** A declared material on a booking (the materials area checks it against the machine's material rules). */
+export const materialDeclaration = z
+  .object({
+    materialId: z.uuid('Not a valid material id.'),
+    thicknessMm: z.number().positive('The thickness must be more than 0 mm.').max(100, 'At most 100 mm.'),
+    mode: z.enum(['cut', 'engrave', 'score'], { error: 'The mode is cut, engrave or score.' }),
+  })
+  .strict();
+
+export const bookingNotes = z.string().trim().max(2000, 'Use at most 2000 characters.').default('');
+
+/** Refinement of a body with startsAt and endsAt: the end comes after the start. */
+export function endsAfterStart(v: { startsAt: Date; endsAt: Date }): boolean {
+  return v.endsAt > v.startsAt;
+}
+export const endsAfterStartMessage = { path: ['endsAt'], message: 'The end must be after the start.' };
