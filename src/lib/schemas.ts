@@ -42,6 +42,7 @@ export const bookingNotes = z.string().trim().max(2000, 'Use at most 2000 charac
 
 /** Refinement of a body with startsAt and endsAt: the end comes after the start. */
 export function endsAfterStart(v: { startsAt: Date; endsAt: Date }): boolean {
-  return v.endsAt > v.startsAt;
+  // (zod may run the refinement after a field already failed: only compare real dates)
+  return !(v.startsAt instanceof Date && v.endsAt instanceof Date) || v.endsAt > v.startsAt;
 }
 export const endsAfterStartMessage = { path: ['endsAt'], message: 'The end must be after the start.' };

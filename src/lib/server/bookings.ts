@@ -150,8 +150,14 @@ async function weeklyMinutes(trx: Conn, personId: string, machineId: string, at:
   return Number((r as { minutes?: number } | undefined)?.minutes ?? 0);
 }
 
+/** Site settings read on the caller's connection (inside a transaction, never a second pooled connection). */
+async function siteSettings(trx: Conn): Promise<{ name: string; timeZone: string }> {
+  const row = await trx('site_settings').where({ id: 1 }).first('name', 'time_zone');
+  return row ? { name: row.name, timeZone: row.time_zone } : { name: 'Beamwarden', timeZone: 'UTC' };
+}
+
 async function ruleContext(machineId: string, from: Date, to: Date, trx: Conn) {
-  const [rules, settings, closures] = await Promise.all([getRules(machineId, trx), getSettings(), listClosures(machineId, from, to, trx)]);
+  const [rules, settings, closures] = await Promise.all([getRules(machineId, trx), siteSettings(trx), listClosures(machineId, from, to, trx)]);
   return { rules, hours: rules.hours, timeZone: settings.timeZone, siteName: settings.name, closures };
 }
 
@@ -565,7 +571,7 @@ export async function offerFreedTime(trx: Knex.Transaction, machineId: string, f
     }
     const token = crypto.randomBytes(24).toString('base64url');
     await trx('waitlist_entries').where({ id: c.id }).update({ state: 'offered', hold_booking_id: hold.id, claim_token_hash: hashToken(token), offered_at: now });
-    const settings = await getSettings();
+    const settings = await siteSettings(trx);
     await queueMail(trx, c.email, `A time on ${machine.name} is free: claim it within ${HOLD_MINUTES} minutes`, {
       greeting: `Kia ora ${c.name},`,
       paragraphs: [
@@ -593,7 +599,7 @@ export async function claimWaitlist(actor: Actor, token: string, now = new Date(
     if (machine.status === 'out of service') throw outOfService(machine);
     const verdict = await canOperate(actor.id, machine.id, hold.starts_at, trx);
     if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
-    const settings = await getSettings();
+    const settings = await siteSettings(trx);
     await lockPerson(trx, actor.id);
     const rules = await getRules(machine.id, trx);
     const used = await weeklyMinutes(trx, actor.id, machine.id, hold.starts_at, settings.timeZone, hold.id);

@@ -5,8 +5,8 @@ import { isoInstant, uuid } from '../../../../lib/schemas';
 
 const query = z
   .object({ from: isoInstant, to: isoInstant })
-  .refine((q) => q.to > q.from, { path: ['to'], message: '`to` must be after `from`.' })
-  .refine((q) => q.to.getTime() - q.from.getTime() <= 42 * 86_400_000, { path: ['to'], message: 'Ask for at most 42 days at a time.' });
+  .refine((q) => !(q.to instanceof Date && q.from instanceof Date) || q.to > q.from, { path: ['to'], message: '`to` must be after `from`.' })
+  .refine((q) => !(q.to instanceof Date && q.from instanceof Date) || q.to.getTime() - q.from.getTime() <= 42 * 86_400_000, { path: ['to'], message: 'Ask for at most 42 days at a time.' });
 
 /** GET /api/machines/:id/availability?from=&to= → free ranges by the machine's booking rules. */
 export const GET = route(async ({ locals, params, url }) => {
