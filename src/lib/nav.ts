@@ -14,6 +14,8 @@ export interface NavItem {
 export const NAV: NavItem[] = [
   { label: 'Floor', href: '/', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
   { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
+  { label: 'Book', href: '/book', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
+  { label: 'Machines', href: '/admin/machines', roles: ['admin'], group: 'admin' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {

@@ -319,7 +319,7 @@ export interface Feed {
   timeZone: string;
   bookings: FeedEvent[];
   closures: { id: string; machineId: string | null; startsAt: Date; endsAt: Date; reason: string }[];
-  machines: { id: string; name: string; status: string; open: Interval[]; slotMinutes: number; minMinutes: number; maxMinutes: number; bufferMinutes: number }[];
+  machines: { id: string; name: string; status: string; open: Interval[]; slotMinutes: number; minMinutes: number; maxMinutes: number; bufferMinutes: number; cancelCutoffMinutes: number }[];
 }
 
 /** The calendar feed: active bookings in [from, to) (and the viewer's own, in any state but cancelled), closures, open hours. */
@@ -353,6 +353,7 @@ export async function calendarFeed(viewer: Actor, filter: { machineId?: string; 
       minMinutes: rules.minMinutes,
       maxMinutes: rules.maxMinutes,
       bufferMinutes: rules.bufferMinutes,
+      cancelCutoffMinutes: rules.cancelCutoffMinutes,
     });
   }
   return {
