@@ -362,6 +362,9 @@ function MachineCalendar(p: {
       }
       if (cursor < p.to) out.push({ start: shift(cursor), end: shift(p.to), display: 'background', classNames: ['bw-closed'] });
     }
+    // time already past cannot be booked
+    const now = new Date();
+    if (now > p.from) out.push({ start: shift(p.from), end: shift(now < p.to ? now : p.to), display: 'background', classNames: ['bw-closed'] });
     if (p.machine.status === 'out of service') out.push({ start: shift(p.from), end: shift(p.to), display: 'background', classNames: ['bw-out'], title: 'Out of service' });
     for (const c of p.feed.closures.filter((c) => c.machineId === null || c.machineId === p.machine.id)) {
       out.push({ start: shift(c.startsAt), end: shift(c.endsAt), display: 'background', classNames: ['bw-closure'], title: `Closed: ${c.reason}` });
@@ -393,6 +396,8 @@ function MachineCalendar(p: {
       initialDate={dateKey(p.first)}
       timeZone="UTC"
       headerToolbar={false}
+      stickyHeaderDates={false}
+      now={() => shift(new Date())}
       firstDay={1}
       allDaySlot={false}
       nowIndicator={false}

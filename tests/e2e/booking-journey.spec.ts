@@ -43,6 +43,8 @@ async function openBook(page: Page, day: string) {
 
 /** Drags down one day column from `from` to the slot that starts at `lastSlot` (HH:MM:SS). */
 async function dragSelect(page: Page, day: string, from: string, lastSlot: string) {
+  await page.locator(`td.fc-timegrid-slot-lane[data-time="${lastSlot}"]`).scrollIntoViewIfNeeded();
+  await page.locator(`td.fc-timegrid-slot-lane[data-time="${from}"]`).scrollIntoViewIfNeeded();
   const col = (await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).boundingBox())!;
   const top = (await page.locator(`td.fc-timegrid-slot-lane[data-time="${from}"]`).boundingBox())!;
   const bottom = (await page.locator(`td.fc-timegrid-slot-lane[data-time="${lastSlot}"]`).boundingBox())!;
@@ -124,7 +126,7 @@ describe('booking on the calendar', () => {
     await signIn(page, 'newbie');
     const day = dateOf(siteTime(DAY + 1, 12));
     await openBook(page, day);
-    await dragSelect(page, day, '16:00:00', '16:45:00');
+    await dragSelect(page, day, '11:00:00', '11:45:00');
     const form = page.getByRole('form', { name: 'Confirm your booking' });
     await form.getByRole('button', { name: 'Book', exact: true }).click();
     const notice = page.getByText(/^Not booked:/);
