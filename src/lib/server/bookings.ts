@@ -334,8 +334,7 @@ export async function calendarFeed(viewer: Actor, filter: { machineId?: string; 
   const rows = await db()('bookings as b')
     .join('people as p', 'p.id', 'b.person_id')
     .whereIn('b.machine_id', ids)
-    .where('b.starts_at', '<', filter.to)
-    .where('b.occupied_until', '>', filter.from)
+    .whereRaw("tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)')", [filter.from, filter.to])
     .where((w) => w.whereIn('b.state', ['reserved', 'checked in', 'completed']).orWhere((m) => m.where('b.person_id', viewer.id).whereIn('b.state', ['no-show'])))
     .orderBy('b.starts_at')
     .select('b.*', 'p.name as person_name');
