@@ -43,8 +43,8 @@ async function openBook(page: Page, day: string) {
 
 /** Drags down one day column from `from` to the slot that starts at `lastSlot` (HH:MM:SS). */
 async function dragSelect(page: Page, day: string, from: string, lastSlot: string) {
-  await page.locator(`td.fc-timegrid-slot-lane[data-time="${lastSlot}"]`).scrollIntoViewIfNeeded();
-  await page.locator(`td.fc-timegrid-slot-lane[data-time="${from}"]`).scrollIntoViewIfNeeded();
+  // the range in the middle of the viewport: a drag near its edge would make the calendar scroll on its own
+  await page.locator(`td.fc-timegrid-slot-lane[data-time="${from}"]`).evaluate((el) => el.scrollIntoView({ block: 'center' }));
   const col = (await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).boundingBox())!;
   const top = (await page.locator(`td.fc-timegrid-slot-lane[data-time="${from}"]`).boundingBox())!;
   const bottom = (await page.locator(`td.fc-timegrid-slot-lane[data-time="${lastSlot}"]`).boundingBox())!;
