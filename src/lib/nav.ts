@@ -23,6 +23,8 @@ export const NAV: NavItem[] = [
   { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },
   { label: 'Account', href: '/account', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
   { label: 'Pricing', href: '/admin/pricing', roles: ['admin'], group: 'admin' },
+  { label: 'Book', href: '/book', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
+  { label: 'Machines', href: '/admin/machines', roles: ['admin'], group: 'admin' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {

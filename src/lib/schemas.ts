@@ -37,3 +37,20 @@ export const tier = z.enum(['student', 'staff', 'community', 'commercial'], { er
 export const costCentre = z.string().trim().regex(/^[A-Za-z0-9][A-Za-z0-9 ._/-]{0,39}$/, 'A cost centre is 1–40 letters, digits, spaces or . _ / -, e.g. DES101.');
 export const minor = z.number().int('Use whole minor units (cents).').min(0, 'Use zero or more.').max(100_000_000, 'That amount is too large.');
 export const materialsWanted = z.array(z.object({ sku: z.string().trim().min(1).max(40), quantity: z.number().int().min(0).max(1000) }).strict()).max(50);
+/** A declared material on a booking (the materials area checks it against the machine's material rules). */
+export const materialDeclaration = z
+  .object({
+    materialId: z.uuid('Not a valid material id.'),
+    thicknessMm: z.number().positive('The thickness must be more than 0 mm.').max(100, 'At most 100 mm.'),
+    mode: z.enum(['cut', 'engrave', 'score'], { error: 'The mode is cut, engrave or score.' }),
+  })
+  .strict();
+
+export const bookingNotes = z.string().trim().max(2000, 'Use at most 2000 characters.').default('');
+
+/** Refinement of a body with startsAt and endsAt: the end comes after the start. */
+export function endsAfterStart(v: { startsAt: Date; endsAt: Date }): boolean {
+  // (zod may run the refinement after a field already failed: only compare real dates)
+  return !(v.startsAt instanceof Date && v.endsAt instanceof Date) || v.endsAt > v.startsAt;
+}
+export const endsAfterStartMessage = { path: ['endsAt'], message: 'The end must be after the start.' };

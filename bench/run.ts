@@ -1,0 +1,215 @@
+/**
+ * npm run bench: booking throughput and the week-view feed against 1 M historical bookings, each as a
+ * ratio to the same work done in raw SQL through `pg`. Not a test: it measures, prints, and writes
+ * bench/RESULTS.md. Uses its own PostgreSQL database (beamwarden_bench) on its own ports.
+ *
+ * Environment (all optional): BENCH_PORT, BENCH_PG_PORT, BENCH_DATA_DIR, BENCH_HISTORY (default 1000000),
+ * BENCH_REQUESTS (default 3200), BENCH_SECONDS (default 10), BENCH_CONNECTIONS (default 32).
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import pg from 'pg';
+import autocannon from 'autocannon';
+import {
+  ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig, recreateDatabase,
+  runNode, say, spawnService, stopPostgres, stopServices, waitForPort,
+} from '../scripts/lib/stack';
+
+const cfg = readConfig(
+  'bench',
+  { dataDir: 'BENCH_DATA_DIR', appPort: 'BENCH_PORT', pgPort: 'BENCH_PG_PORT', smtpPort: 'BENCH_SMTP_PORT', mailWebPort: 'BENCH_MAIL_WEB_PORT', stripePort: 'BENCH_STRIPE_PORT', s3Port: 'BENCH_S3_PORT' },
+  { dataDir: '.data/bench', appPort: 4341, pgPort: 54349, smtpPort: 1135, mailWebPort: 1190, stripePort: 12131, s3Port: 4589, dbName: 'beamwarden_bench' },
+);
+const HISTORY = Number(process.env.BENCH_HISTORY ?? 1_000_000);
+const REQUESTS = Number(process.env.BENCH_REQUESTS ?? 3200);
+const SECONDS = Number(process.env.BENCH_SECONDS ?? 10);
+const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 32);
+const PEOPLE = 32;
+const APP = `http://${HOST}:${cfg.appPort}`;
+
+let pgData: string | undefined;
+let pgStartedHere = false;
+async function cleanup() {
+  await stopServices();
+  if (pgData && pgStartedHere) stopPostgres(pgData);
+}
+process.on('SIGINT', () => void cleanup().then(() => process.exit(130)));
+
+await assertPortFree(cfg.appPort, 'the bench app (BENCH_PORT)');
+const secrets = loadSecrets(cfg);
+const info = await ensurePostgres(cfg, secrets);
+pgData = info.pgData;
+pgStartedHere = info.startedHere;
+await recreateDatabase(cfg, secrets, cfg.dbName);
+const env = appEnv(cfg, secrets, { DATABASE_POOL_MAX: '20' });
+runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the bench database');
+
+const pool = new pg.Pool({ connectionString: databaseUrl(cfg, secrets), max: CONNECTIONS });
+const q = (text: string, values: unknown[] = []) => pool.query(text, values);
+
+// --- the data: bench people, open-all-day rules without quotas, then the history ------------------------
+say(`Generating ${HISTORY.toLocaleString('en')} historical bookings with generate_series`);
+await q(`INSERT INTO people (email, name, password_hash, tier)
+         SELECT 'bench' || i || '@tidewater.example', 'Bench person ' || i, (SELECT password_hash FROM people WHERE email = 'member@tidewater.example'), 'commercial'
+         FROM generate_series(1, $1::int) i`, [PEOPLE]);
+await q(`INSERT INTO role_grants (person_id, role) SELECT id, 'member' FROM people WHERE email LIKE 'bench%'`);
+await q(`UPDATE machine_booking_rules SET horizon_days = 365, min_minutes = 15, max_minutes = 180, lead_minutes = 0, buffer_minutes = 10, slot_minutes = 15`);
+await q(`DELETE FROM machine_tier_quotas`);
+await q(`DELETE FROM opening_hours`);
+await q(`INSERT INTO opening_hours (machine_id, weekday, opens_minute, closes_minute) SELECT m.id, d, 0, 1440 FROM machines m, generate_series(1, 7) d`);
+// 17 more machines like Laser A, so the history spreads over 20 machines (about 7 years of 75-minute turns each)
+await q(`INSERT INTO machines (code, name, power_w, tube_type, wavelength_um, bed_width_mm, bed_depth_mm, beam_diameter_mm, divergence_mrad, lens_focal_mm, coolant_type)
+         SELECT 'bench-' || i, 'Bench laser ' || i, power_w, tube_type, wavelength_um, bed_width_mm, bed_depth_mm, beam_diameter_mm, divergence_mrad, lens_focal_mm, coolant_type
+         FROM machines, generate_series(1, 17) i WHERE code = 'laser-a'`);
+const t0 = Date.now();
+await q(`
+  INSERT INTO bookings (machine_id, person_id, kind, state, starts_at, ends_at, occupied_until, checked_in_at, created_at)
+  SELECT m.ids[1 + i % 20], p.ids[1 + i % array_length(p.ids, 1)], 'personal', 'completed',
+         t.s, t.s + interval '1 hour', t.s + interval '70 minutes', t.s, t.s - interval '2 days'
+  FROM generate_series(1, $1::int) i
+  CROSS JOIN (SELECT array_agg(id ORDER BY code) AS ids FROM machines) m
+  CROSS JOIN (SELECT array_agg(id) AS ids FROM people) p
+  CROSS JOIN LATERAL (SELECT date_trunc('hour', now()) - interval '2 days' - (i / 20) * interval '75 minutes' AS s) t`, [HISTORY]);
+await q('ANALYZE bookings');
+const historySeconds = (Date.now() - t0) / 1000;
+const span = (await q(`SELECT min(starts_at) AS a, max(starts_at) AS b, count(*)::int AS n FROM bookings`)).rows[0];
+say(`  ${span.n.toLocaleString('en')} bookings from ${span.a.toISOString().slice(0, 10)} to ${span.b.toISOString().slice(0, 10)} in ${historySeconds.toFixed(1)} s`);
+
+buildApp(path.join(ROOT, 'dist-bench'), env);
+const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-bench/server/entry.mjs')], env);
+await waitForPort(cfg.appPort, 'the bench app', app.child);
+
+// --- sign in the bench people (Auth.js credentials flow) ------------------------------------------------
+async function signIn(email: string): Promise<string> {
+  const jar = new Map<string, string>();
+  const keep = (res: Response) => {
+    for (const raw of res.headers.getSetCookie()) {
+      const [pair] = raw.split(';');
+      const i = pair!.indexOf('=');
+      jar.set(pair!.slice(0, i), pair!.slice(i + 1));
+    }
+  };
+  const cookie = () => [...jar].map(([k, v]) => `${k}=${v}`).join('; ');
+  const r1 = await fetch(`${APP}/api/auth/csrf`);
+  keep(r1);
+  const { csrfToken } = (await r1.json()) as { csrfToken: string };
+  const r2 = await fetch(`${APP}/api/auth/callback/credentials`, {
+    method: 'POST',
+    redirect: 'manual',
+    headers: { 'content-type': 'application/x-www-form-urlencoded', origin: APP, cookie: cookie() },
+    body: new URLSearchParams({ csrfToken, email, password: 'beamwarden-demo', callbackUrl: '/' }),
+  });
+  keep(r2);
+  if (![...jar.keys()].some((k) => k.includes('session-token'))) throw new Error(`sign-in failed for ${email}`);
+  return cookie();
+}
+const cookies: string[] = [];
+for (let i = 1; i <= PEOPLE; i++) cookies.push(await signIn(`bench${i}@tidewater.example`));
+const machines = (await q(`SELECT id FROM machines WHERE code LIKE 'laser-%' ORDER BY code`)).rows.map((r) => r.id as string);
+const people = (await q(`SELECT id FROM people WHERE email LIKE 'bench%' ORDER BY email`)).rows.map((r) => r.id as string);
+
+// booking k: machine k % 3, 15 minutes, slots 30 minutes apart (cool-down 10 min), from a base in the future
+const HOUR = 3_600_000;
+const slot = (base: number, k: number) => {
+  const startsAt = new Date(base + Math.floor(k / 3) * 30 * 60_000);
+  return { machineId: machines[k % 3]!, startsAt, endsAt: new Date(startsAt.getTime() + 15 * 60_000) };
+};
+const baseApi = Math.ceil(Date.now() / HOUR) * HOUR + 24 * HOUR;
+const baseSql = baseApi + 120 * 24 * HOUR;
+
+// --- 1. booking creation: API under autocannon -------------------------------------------------------------
+say(`Booking creation through the API: ${REQUESTS} requests, ${CONNECTIONS} connections`);
+let k = 0;
+const apiCreate = await autocannon({
+  url: APP,
+  connections: CONNECTIONS,
+  amount: REQUESTS,
+  requests: [
+    {
+      method: 'POST',
+      path: '/api/bookings',
+      setupRequest: (req: Record<string, unknown>) => {
+        const n = k++;
+        const s = slot(baseApi, n);
+        return {
+          ...req,
+          headers: { 'content-type': 'application/json', origin: APP, cookie: cookies[n % PEOPLE]! },
+          body: JSON.stringify({ machineId: s.machineId, startsAt: s.startsAt.toISOString(), endsAt: s.endsAt.toISOString(), materials: [], notes: '' }),
+        };
+      },
+    },
+  ],
+});
+const created = Number((await q(`SELECT count(*)::int AS n FROM bookings WHERE state = 'reserved' AND starts_at >= $1 AND starts_at < $2`, [new Date(baseApi), new Date(baseSql)])).rows[0].n);
+
+// --- 1'. the same work in raw SQL through pg: lock, rule reads, overlap, quota, insert, audit ---------------
+say(`Booking creation in raw SQL: ${REQUESTS} transactions, ${CONNECTIONS} clients`);
+async function sqlBooking(n: number): Promise<void> {
+  const s = slot(baseSql, n);
+  const person = people[n % PEOPLE]!;
+  const c = await pool.connect();
+  try {
+    await c.query('BEGIN');
+    await c.query(`SELECT id, status FROM machines WHERE id = $1 FOR SHARE`, [s.machineId]);
+    await c.query(`SELECT * FROM machine_booking_rules WHERE machine_id = $1`, [s.machineId]);
+    await c.query(`SELECT * FROM opening_hours WHERE machine_id = $1`, [s.machineId]);
+    await c.query(`SELECT * FROM closures WHERE (machine_id = $1 OR machine_id IS NULL) AND starts_at < $3 AND ends_at > $2`, [s.machineId, s.startsAt, s.endsAt]);
+    await c.query(`SELECT pg_advisory_xact_lock(hashtextextended('bookings.person:' || $1, 0))`, [person]);
+    await c.query(`SELECT id FROM bookings WHERE machine_id = $1 AND state IN ('reserved','checked in') AND tstzrange(starts_at, occupied_until, '[)') && tstzrange($2, $3, '[)') LIMIT 1`, [s.machineId, s.startsAt, new Date(s.endsAt.getTime() + 600_000)]);
+    await c.query(`SELECT coalesce(sum(extract(epoch FROM ends_at - starts_at) / 60), 0) FROM bookings WHERE person_id = $1 AND machine_id = $2 AND kind IN ('personal','hold') AND state IN ('reserved','checked in','completed','no-show') AND starts_at >= $3 AND starts_at < $4`, [person, s.machineId, new Date(s.startsAt.getTime() - 7 * 24 * HOUR), s.startsAt]);
+    const r = await c.query(`INSERT INTO bookings (machine_id, person_id, starts_at, ends_at, occupied_until) VALUES ($1, $2, $3, $4, $5) RETURNING id`, [s.machineId, person, s.startsAt, s.endsAt, new Date(s.endsAt.getTime() + 600_000)]);
+    await c.query(`INSERT INTO audit_log (actor_id, kind, subject_type, subject_id, summary) VALUES ($1, 'booking.created', 'booking', $2, 'bench')`, [person, r.rows[0].id]);
+    await c.query('COMMIT');
+  } catch (e) {
+    await c.query('ROLLBACK');
+    throw e;
+  } finally {
+    c.release();
+  }
+}
+let next = 0;
+const tSql = Date.now();
+await Promise.all(Array.from({ length: CONNECTIONS }, async () => {
+  for (let n = next++; n < REQUESTS; n = next++) await sqlBooking(n);
+}));
+const sqlCreateSeconds = (Date.now() - tSql) / 1000;
+
+// --- 2. the week-view feed of one machine (Laser A), a week deep in the history -----------------------------
+const weekFrom = new Date(Date.now() - 400 * 24 * HOUR);
+const weekTo = new Date(weekFrom.getTime() + 7 * 24 * HOUR);
+const feedPath = `/api/bookings?machineId=${machines[0]}&from=${weekFrom.toISOString()}&to=${weekTo.toISOString()}`;
+const sample = await (await fetch(`${APP}${feedPath}`, { headers: { cookie: cookies[0]! } })).json() as { bookings: unknown[] };
+say(`Week-view feed through the API for ${SECONDS} s (${sample.bookings.length} bookings in the week)`);
+const apiFeed = await autocannon({ url: `${APP}${feedPath}`, connections: CONNECTIONS, duration: SECONDS, headers: { cookie: cookies[0]! } });
+
+say(`Week-view feed in raw SQL for ${SECONDS} s`);
+let feedCount = 0;
+const until = Date.now() + SECONDS * 1000;
+await Promise.all(Array.from({ length: CONNECTIONS }, async () => {
+  while (Date.now() < until) {
+    await q(`SELECT b.*, p.name AS person_name FROM bookings b JOIN people p ON p.id = b.person_id
+             WHERE b.machine_id = $1 AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange($2, $3, '[)')
+               AND (b.state IN ('reserved','checked in','completed') OR (b.person_id = $4 AND b.state = 'no-show'))
+             ORDER BY b.starts_at`, [machines[0], weekFrom, weekTo, people[0]]);
+    feedCount++;
+  }
+}));
+const sqlFeedRps = feedCount / SECONDS;
+
+// --- results -----------------------------------------------------------------------------------------------
+const apiCreateRps = apiCreate.requests.total / (apiCreate.duration || 1);
+const sqlCreateTps = REQUESTS / sqlCreateSeconds;
+const apiFeedRps = apiFeed.requests.average;
+const lines = [
+  `Run ${new Date().toISOString()} · Node ${process.version} · ${HISTORY.toLocaleString('en')} historical bookings (generated in ${historySeconds.toFixed(1)} s) · ${CONNECTIONS} concurrent clients`,
+  '',
+  '| work | API (Astro + Knex) | raw SQL through pg | API ÷ SQL |',
+  '| --- | --- | --- | --- |',
+  `| booking creation (${REQUESTS} bookings) | ${apiCreateRps.toFixed(0)} req/s, p50 ${apiCreate.latency.p50} ms, p99 ${apiCreate.latency.p99} ms; ${apiCreate['2xx']} × 2xx, ${apiCreate.non2xx} other, ${created} rows | ${sqlCreateTps.toFixed(0)} tx/s | ${(apiCreateRps / sqlCreateTps).toFixed(2)} |`,
+  `| week-view feed (Laser A, ${sample.bookings.length} bookings in the week) | ${apiFeedRps.toFixed(0)} req/s, p50 ${apiFeed.latency.p50} ms, p99 ${apiFeed.latency.p99} ms; ${apiFeed.non2xx} non-2xx | ${sqlFeedRps.toFixed(0)} queries/s | ${(apiFeedRps / sqlFeedRps).toFixed(2)} |`,
+];
+console.log('\n' + lines.join('\n') + '\n');
+fs.writeFileSync(path.join(ROOT, 'bench/RESULTS.md'), `# Latest bench run\n\n${lines.join('\n')}\n`);
+await pool.end();
+await cleanup();
+process.exit(0);

@@ -1,0 +1,8 @@
+#!/usr/bin/env bash
+# npm run bench: the booking benchmark (bench/run.ts) on its own PostgreSQL database and ports.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+. scripts/lib/prepare.sh
+ensure_node_modules
+ensure_postgresql
+exec node --import tsx bench/run.ts "$@"

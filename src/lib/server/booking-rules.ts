@@ -1,0 +1,149 @@
+/** Booking rules of each machine: opening hours, closures, grid, lengths, buffer, lead, horizon, quotas. All SQL of this area. */
+import type { Knex } from 'knex';
+import { db, transaction } from './db';
+import { recordAudit } from './audit';
+import { HttpError } from './http';
+import { DEFAULT_RULES, TIERS, type BookingRules, type Closure, type Tier, type WeeklyHours } from '../availability';
+
+export interface MachineRules extends BookingRules {
+  machineId: string;
+  /** Weekly minutes per tier; null = no limit. */
+  quotas: Record<Tier, number | null>;
+  hours: WeeklyHours[];
+}
+
+export interface ClosureRow extends Closure {
+  id: string;
+  machineId: string | null;
+}
+
+type Conn = Knex | Knex.Transaction;
+
+export async function getRules(machineId: string, trx: Conn = db()): Promise<MachineRules> {
+  const [row, quotaRows, hourRows] = await Promise.all([
+    trx('machine_booking_rules').where({ machine_id: machineId }).first(),
+    trx('machine_tier_quotas').where({ machine_id: machineId }),
+    trx('opening_hours').where({ machine_id: machineId }).orderBy(['weekday', 'opens_minute']),
+  ]);
+  const quotas = Object.fromEntries(TIERS.map((t) => [t, null])) as Record<Tier, number | null>;
+  for (const q of quotaRows as { tier: Tier; weekly_minutes: number }[]) quotas[q.tier] = q.weekly_minutes;
+  return {
+    machineId,
+    slotMinutes: row?.slot_minutes ?? DEFAULT_RULES.slotMinutes,
+    minMinutes: row?.min_minutes ?? DEFAULT_RULES.minMinutes,
+    maxMinutes: row?.max_minutes ?? DEFAULT_RULES.maxMinutes,
+    bufferMinutes: row?.buffer_minutes ?? DEFAULT_RULES.bufferMinutes,
+    leadMinutes: row?.lead_minutes ?? DEFAULT_RULES.leadMinutes,
+    horizonDays: row?.horizon_days ?? DEFAULT_RULES.horizonDays,
+    cancelCutoffMinutes: row?.cancel_cutoff_minutes ?? DEFAULT_RULES.cancelCutoffMinutes,
+    quotas,
+    hours: (hourRows as { weekday: number; opens_minute: number; closes_minute: number }[]).map((h) => ({
+      weekday: h.weekday,
+      opensMinute: h.opens_minute,
+      closesMinute: h.closes_minute,
+    })),
+  };
+}
+
+export interface RulesInput extends BookingRules {
+  quotas: Record<Tier, number | null>;
+  hours: WeeklyHours[];
+}
+
+/** Replaces a machine's rules, quotas and opening hours in one transaction (audited). */
+export async function saveRules(actorId: string, machineId: string, input: RulesInput): Promise<MachineRules> {
+  return transaction(async (trx) => {
+    const machine = await trx('machines').where({ id: machineId }).whereNull('retired_at').first('id', 'name');
+    if (!machine) throw new HttpError(404, 'not_found', 'No such machine.');
+    const before = await getRules(machineId, trx);
+    const row = {
+      machine_id: machineId,
+      slot_minutes: input.slotMinutes,
+      min_minutes: input.minMinutes,
+      max_minutes: input.maxMinutes,
+      buffer_minutes: input.bufferMinutes,
+      lead_minutes: input.leadMinutes,
+      horizon_days: input.horizonDays,
+      cancel_cutoff_minutes: input.cancelCutoffMinutes,
+      updated_at: trx.fn.now(),
+    };
+    await trx('machine_booking_rules').insert(row).onConflict('machine_id').merge();
+    await trx('machine_tier_quotas').where({ machine_id: machineId }).delete();
+    const quotaRows = TIERS.filter((t) => input.quotas[t] !== null).map((t) => ({ machine_id: machineId, tier: t, weekly_minutes: input.quotas[t] }));
+    if (quotaRows.length) await trx('machine_tier_quotas').insert(quotaRows);
+    await trx('opening_hours').where({ machine_id: machineId }).delete();
+    if (input.hours.length) {
+      await trx('opening_hours').insert(
+        input.hours.map((h) => ({ machine_id: machineId, weekday: h.weekday, opens_minute: h.opensMinute, closes_minute: h.closesMinute })),
+      );
+    }
+    const after = await getRules(machineId, trx);
+    await recordAudit(trx, {
+      actorId,
+      kind: 'machine.rules_changed',
+      subjectType: 'machine',
+      subjectId: machineId,
+      summary: `Booking rules of ${machine.name} changed`,
+      before,
+      after,
+    });
+    return after;
+  });
+}
+
+/** Closures of a machine (and of the whole site) that overlap [from, to). */
+export async function listClosures(machineId: string | null, from: Date, to: Date, trx: Conn = db()): Promise<ClosureRow[]> {
+  const q = trx('closures').where('starts_at', '<', to).andWhere('ends_at', '>', from).orderBy('starts_at');
+  if (machineId) q.andWhere((w) => w.where('machine_id', machineId).orWhereNull('machine_id'));
+  const rows = await q;
+  return rows.map((r: { id: string; machine_id: string | null; starts_at: Date; ends_at: Date; reason: string }) => ({
+    id: r.id,
+    machineId: r.machine_id,
+    startsAt: r.starts_at,
+    endsAt: r.ends_at,
+    reason: r.reason,
+  }));
+}
+
+export async function addClosure(actorId: string, input: { machineId: string | null; startsAt: Date; endsAt: Date; reason: string }): Promise<ClosureRow> {
+  if (input.endsAt <= input.startsAt) throw new HttpError(422, 'invalid', 'A closure ends after it starts.', { endsAt: 'Choose an end after the start.' });
+  return transaction(async (trx) => {
+    if (input.machineId) {
+      const m = await trx('machines').where({ id: input.machineId }).first('id');
+      if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+    }
+    const [r] = await trx('closures')
+      .insert({ machine_id: input.machineId, starts_at: input.startsAt, ends_at: input.endsAt, reason: input.reason, created_by: actorId })
+      .returning('*');
+    await recordAudit(trx, {
+      actorId,
+      kind: 'closure.added',
+      subjectType: 'closure',
+      subjectId: r.id,
+      summary: `Closure added: ${input.reason}`,
+      after: { machineId: input.machineId, startsAt: input.startsAt, endsAt: input.endsAt, reason: input.reason },
+    });
+    return { id: r.id, machineId: r.machine_id, startsAt: r.starts_at, endsAt: r.ends_at, reason: r.reason };
+  });
+}
+
+export async function removeClosure(actorId: string, id: string): Promise<void> {
+  await transaction(async (trx) => {
+    const r = await trx('closures').where({ id }).first();
+    if (!r) throw new HttpError(404, 'not_found', 'No such closure.');
+    await trx('closures').where({ id }).delete();
+    await recordAudit(trx, {
+      actorId,
+      kind: 'closure.removed',
+      subjectType: 'closure',
+      subjectId: id,
+      summary: `Closure removed: ${r.reason}`,
+      before: { machineId: r.machine_id, startsAt: r.starts_at, endsAt: r.ends_at, reason: r.reason },
+    });
+  });
+}
+
+export async function getTier(personId: string, trx: Conn = db()): Promise<Tier> {
+  const r = await trx('people').where({ id: personId }).first('tier');
+  return (r?.tier ?? 'community') as Tier;
+}

@@ -1,0 +1,715 @@
+/**
+ * Bookings: creating (the gate and the rules), cancelling, the calendar feed, class blocks, the
+ * waitlist and its 15-minute holds, and the no-show sweep. All SQL of this area.
+ *
+ * No double booking is enforced by PostgreSQL (bookings_no_overlap, an exclusion constraint over the
+ * machine and [starts_at, occupied_until) of active bookings): SQLSTATE 23P01 becomes 409 slot_taken.
+ * The weekly quota is checked under a per-person advisory lock held to the end of the transaction.
+ */
+import crypto from 'node:crypto';
+import type { Knex } from 'knex';
+import { db, pgCode, PG, transaction } from './db';
+import { recordAudit } from './audit';
+import { HttpError } from './http';
+import { canOperate } from './clearances';
+import { getRules, getTier, listClosures, type MachineRules } from './booking-rules';
+import { getSettings } from './settings';
+import { queueMail } from './mail';
+import { env } from './env';
+import { hasAnyRole, type Role } from '../roles';
+import {
+  checkQuota,
+  checkRequest,
+  freeRanges,
+  isLateCancel,
+  localWeek,
+  minutesBetween,
+  NO_SHOW_AFTER_MINUTES,
+  occupiedUntil,
+  openIntervals,
+  type Interval,
+} from '../availability';
+import { buildIcs } from '../ics';
+
+type Conn = Knex | Knex.Transaction;
+
+export const ACTIVE_STATES = ['reserved', 'checked in'] as const;
+/** States that count against the weekly quota. */
+const QUOTA_STATES = ['reserved', 'checked in', 'completed', 'no-show'];
+export const HOLD_MINUTES = 15;
+
+export type BookingState = 'reserved' | 'checked in' | 'completed' | 'cancelled' | 'no-show' | 'bumped';
+export type BookingKind = 'personal' | 'class' | 'hold';
+
+export interface Booking {
+  id: string;
+  machineId: string;
+  personId: string;
+  kind: BookingKind;
+  state: BookingState;
+  startsAt: Date;
+  endsAt: Date;
+  occupiedUntil: Date;
+  courseName: string | null;
+  notes: string;
+  lateCancel: boolean;
+  holdExpiresAt: Date | null;
+  createdAt: Date;
+}
+
+type Row = {
+  id: string; machine_id: string; person_id: string; kind: BookingKind; state: BookingState; starts_at: Date; ends_at: Date;
+  occupied_until: Date; course_name: string | null; notes: string; late_cancel: boolean; hold_expires_at: Date | null; created_at: Date;
+};
+
+function toBooking(r: Row): Booking {
+  return {
+    id: r.id,
+    machineId: r.machine_id,
+    personId: r.person_id,
+    kind: r.kind,
+    state: r.state,
+    startsAt: r.starts_at,
+    endsAt: r.ends_at,
+    occupiedUntil: r.occupied_until,
+    courseName: r.course_name,
+    notes: r.notes,
+    lateCancel: r.late_cancel,
+    holdExpiresAt: r.hold_expires_at,
+    createdAt: r.created_at,
+  };
+}
+
+export interface Actor {
+  id: string;
+  roles: readonly Role[];
+}
+
+export interface MaterialDeclaration {
+  materialId: string;
+  thicknessMm: number;
+  mode: 'cut' | 'engrave' | 'score';
+}
+
+export interface BookingInput {
+  machineId: string;
+  startsAt: Date;
+  endsAt: Date;
+  materials: MaterialDeclaration[];
+  notes: string;
+}
+
+interface MachineRow {
+  id: string;
+  name: string;
+  code: string;
+  status: string;
+}
+
+async function lockMachine(trx: Knex.Transaction, machineId: string): Promise<MachineRow> {
+  // FOR SHARE: a concurrent status change (out of service) waits for this booking, or this booking sees it
+  const m = (await trx('machines').where({ id: machineId }).whereNull('retired_at').forShare().first('id', 'name', 'code', 'status')) as MachineRow | undefined;
+  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  return m;
+}
+
+function outOfService(m: MachineRow): HttpError {
+  return new HttpError(409, 'machine_out_of_service', `${m.name} is out of service and takes no bookings until a steward puts it back in service.`);
+}
+
+/** Serialises quota checks of one person: concurrent bookings by the same person run one after another. */
+async function lockPerson(trx: Knex.Transaction, personId: string): Promise<void> {
+  await trx.raw("SELECT pg_advisory_xact_lock(hashtextextended('bookings.person:' || ?, 0))", [personId]);
+}
+
+async function assertFree(trx: Conn, machineId: string, startsAt: Date, until: Date, exceptId?: string): Promise<void> {
+  const q = trx('bookings')
+    .where({ machine_id: machineId })
+    .whereIn('state', ACTIVE_STATES as unknown as string[])
+    .whereRaw("tstzrange(starts_at, occupied_until, '[)') && tstzrange(?, ?, '[)')", [startsAt, until]);
+  if (exceptId) q.whereNot('id', exceptId);
+  const clash = await q.first('id');
+  if (clash) throw slotTaken();
+}
+
+function slotTaken(): HttpError {
+  return new HttpError(409, 'slot_taken', 'Someone else has that time (or its cool-down) on this machine. Choose another free time.');
+}
+
+/** Minutes the person has booked on the machine in the site's week containing `at`. */
+async function weeklyMinutes(trx: Conn, personId: string, machineId: string, at: Date, tz: string, exceptId?: string): Promise<number> {
+  const week = localWeek(at, tz);
+  const q = trx('bookings')
+    .where({ person_id: personId, machine_id: machineId })
+    .whereIn('kind', ['personal', 'hold'])
+    .whereIn('state', QUOTA_STATES)
+    .where('starts_at', '>=', week.start)
+    .where('starts_at', '<', week.end);
+  if (exceptId) q.whereNot('id', exceptId);
+  const r = await q.first(trx.raw('coalesce(sum(extract(epoch from (ends_at - starts_at)) / 60), 0)::float8 AS minutes'));
+  return Number((r as { minutes?: number } | undefined)?.minutes ?? 0);
+}
+
+/** Site settings read on the caller's connection (inside a transaction, never a second pooled connection). */
+async function siteSettings(trx: Conn): Promise<{ name: string; timeZone: string }> {
+  const row = await trx('site_settings').where({ id: 1 }).first('name', 'time_zone');
+  return row ? { name: row.name, timeZone: row.time_zone } : { name: 'Beamwarden', timeZone: 'UTC' };
+}
+
+async function ruleContext(machineId: string, from: Date, to: Date, trx: Conn) {
+  const [rules, settings, closures] = await Promise.all([getRules(machineId, trx), siteSettings(trx), listClosures(machineId, from, to, trx)]);
+  return { rules, hours: rules.hours, timeZone: settings.timeZone, siteName: settings.name, closures };
+}
+
+async function insertBooking(trx: Knex.Transaction, row: Record<string, unknown>): Promise<Booking> {
+  try {
+    // a savepoint, so a refused insert can be answered without poisoning the caller's transaction
+    const [r] = await trx.transaction(async (sp) => sp('bookings').insert(row).returning('*'));
+    return toBooking(r as Row);
+  } catch (err) {
+    if (pgCode(err) === PG.exclusionViolation) throw slotTaken();
+    throw err;
+  }
+}
+
+/** Creates a booking for `actor` (the gate, the rules, the quota, then the insert). */
+export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<Booking> {
+  return transaction(async (trx) => {
+    const machine = await lockMachine(trx, input.machineId);
+    if (machine.status === 'out of service') throw outOfService(machine);
+    const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
+    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+
+    const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
+    const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'personal' }, { now, ...ctx });
+    if (broken) throw new HttpError(422, broken.code, broken.message);
+
+    const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
+    await lockPerson(trx, actor.id);
+    await assertFree(trx, machine.id, input.startsAt, until);
+    const tier = await getTier(actor.id, trx);
+    const used = await weeklyMinutes(trx, actor.id, machine.id, input.startsAt, ctx.timeZone);
+    const over = checkQuota(used, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[tier]);
+    if (over) throw new HttpError(422, over.code, over.message);
+
+    const booking = await insertBooking(trx, {
+      machine_id: machine.id,
+      person_id: actor.id,
+      kind: 'personal',
+      starts_at: input.startsAt,
+      ends_at: input.endsAt,
+      occupied_until: until,
+      notes: input.notes,
+    });
+
+    // materials check: issue 5 — call checkDeclaredMaterials(machine.id, input.materials, trx) here and
+    // insert the declared materials for booking.id (input.materials is validated by the route, stored nowhere yet).
+
+    await recordAudit(trx, {
+      actorId: actor.id,
+      kind: 'booking.created',
+      subjectType: 'booking',
+      subjectId: booking.id,
+      summary: `Booked ${machine.name}`,
+      after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt },
+    });
+    await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName);
+    return booking;
+  });
+}
+
+function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): string {
+  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' }).format(b.startsAt);
+  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
+  return `${day}, ${t.format(b.startsAt)}–${t.format(b.endsAt)}`;
+}
+
+function bookingIcs(b: Booking, machine: { name: string }, siteName: string, cancelled = false): string {
+  return buildIcs(`${siteName} bookings`, [
+    {
+      id: b.id,
+      startsAt: b.startsAt,
+      endsAt: b.endsAt,
+      summary: b.kind === 'class' ? `${machine.name}: class ${b.courseName}` : `${machine.name} booking`,
+      description: 'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show. Never leave a running job unattended.',
+      location: `${machine.name}, ${siteName}`,
+      cancelled,
+    },
+  ], { method: 'publish' });
+}
+
+async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Booking, machine: MachineRow, tz: string, siteName: string): Promise<void> {
+  const person = await trx('people').where({ id: personId }).first('email', 'name');
+  if (!person) return;
+  const ics = bookingIcs(b, machine, siteName);
+  await queueMail(
+    trx,
+    person.email,
+    `Booking confirmed: ${machine.name}, ${formatRange(b, tz)}`,
+    {
+      greeting: `Kia ora ${person.name},`,
+      paragraphs: [
+        `${machine.name} is booked for you on ${formatRange(b, tz)} (${tz}).`,
+        'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show and the time is released.',
+        'The attached calendar file adds the booking to your calendar.',
+      ],
+      action: { label: 'See your bookings', url: `${env().PUBLIC_BASE_URL}/book` },
+      footnote: 'Class 4 laser: keep the extractor and air assist on and never leave a running job unattended.',
+    },
+    [{ filename: 'booking.ics', contentType: 'text/calendar; charset=utf-8; method=PUBLISH', content: Buffer.from(ics, 'utf8').toString('base64') }],
+  );
+}
+
+export async function getBooking(id: string, trx: Conn = db()): Promise<Booking | null> {
+  const r = (await trx('bookings').where({ id }).first()) as Row | undefined;
+  return r ? toBooking(r) : null;
+}
+
+/** Cancels a booking: the owner, or a steward or admin. After the cut-off it is flagged late. */
+export async function cancelBooking(actor: Actor, id: string, now = new Date()): Promise<Booking> {
+  return transaction(async (trx) => {
+    const r = (await trx('bookings').where({ id }).forUpdate().first()) as Row | undefined;
+    if (!r) throw new HttpError(404, 'not_found', 'No such booking.');
+    const mine = r.person_id === actor.id;
+    if (!mine && !hasAnyRole(actor.roles, ['steward', 'admin'])) throw new HttpError(404, 'not_found', 'No such booking.');
+    if (r.state !== 'reserved') throw new HttpError(409, 'not_cancellable', `This booking is ${r.state} and cannot be cancelled.`);
+    if (r.ends_at <= now) throw new HttpError(409, 'not_cancellable', 'This booking has ended.');
+    const rules = await getRules(r.machine_id, trx);
+    const late = r.kind !== 'hold' && isLateCancel(r.starts_at, now, rules);
+    const [u] = await trx('bookings')
+      .where({ id })
+      .update({ state: 'cancelled', late_cancel: late, cancelled_at: now, cancelled_by: actor.id, updated_at: trx.fn.now() })
+      .returning('*');
+    const booking = toBooking(u as Row);
+    await recordAudit(trx, {
+      actorId: actor.id,
+      kind: 'booking.cancelled',
+      subjectType: 'booking',
+      subjectId: id,
+      summary: late ? 'Booking cancelled after the cut-off (late)' : 'Booking cancelled',
+      before: { state: r.state },
+      after: { state: 'cancelled', lateCancel: late },
+    });
+    if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: id }).update({ state: 'withdrawn' });
+    await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+    return booking;
+  });
+}
+
+// ---------------------------------------------------------------------------------------------
+// Calendar feed and availability
+
+export interface FeedEvent {
+  id: string;
+  machineId: string;
+  startsAt: Date;
+  endsAt: Date;
+  occupiedUntil: Date;
+  state: BookingState;
+  kind: BookingKind;
+  mine: boolean;
+  /** Whose booking: only shown to instructors, stewards and admins (and to the owner). */
+  personName: string | null;
+  courseName: string | null;
+  notes: string | null;
+  lateCancel: boolean;
+}
+
+export interface Feed {
+  timeZone: string;
+  bookings: FeedEvent[];
+  closures: { id: string; machineId: string | null; startsAt: Date; endsAt: Date; reason: string }[];
+  machines: { id: string; name: string; status: string; open: Interval[]; slotMinutes: number; minMinutes: number; maxMinutes: number; bufferMinutes: number; cancelCutoffMinutes: number }[];
+}
+
+/** The calendar feed: active bookings in [from, to) (and the viewer's own, in any state but cancelled), closures, open hours. */
+export async function calendarFeed(viewer: Actor, filter: { machineId?: string; from: Date; to: Date }): Promise<Feed> {
+  const seesNames = hasAnyRole(viewer.roles, ['instructor', 'steward', 'admin']);
+  const settings = await getSettings();
+  const mq = db()('machines').whereNull('retired_at').orderBy('name');
+  if (filter.machineId) mq.where({ id: filter.machineId });
+  const machines = (await mq.select('id', 'name', 'status')) as { id: string; name: string; status: string }[];
+  if (filter.machineId && !machines.length) throw new HttpError(404, 'not_found', 'No such machine.');
+  const ids = machines.map((m) => m.id);
+  const rows = await db()('bookings as b')
+    .join('people as p', 'p.id', 'b.person_id')
+    .whereIn('b.machine_id', ids)
+    .whereRaw("tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)')", [filter.from, filter.to])
+    .where((w) => w.whereIn('b.state', ['reserved', 'checked in', 'completed']).orWhere((m) => m.where('b.person_id', viewer.id).whereIn('b.state', ['no-show'])))
+    .orderBy('b.starts_at')
+    .select('b.*', 'p.name as person_name');
+  const closures = await listClosures(filter.machineId ?? null, filter.from, filter.to);
+  const machinesOut = [];
+  for (const m of machines) {
+    const rules = await getRules(m.id);
+    const mc = closures.filter((c) => c.machineId === null || c.machineId === m.id);
+    machinesOut.push({
+      id: m.id,
+      name: m.name,
+      status: m.status,
+      open: openIntervals(filter.from, filter.to, settings.timeZone, rules.hours, mc),
+      slotMinutes: rules.slotMinutes,
+      minMinutes: rules.minMinutes,
+      maxMinutes: rules.maxMinutes,
+      bufferMinutes: rules.bufferMinutes,
+      cancelCutoffMinutes: rules.cancelCutoffMinutes,
+    });
+  }
+  return {
+    timeZone: settings.timeZone,
+    machines: machinesOut,
+    closures: closures.filter((c) => c.machineId === null || ids.includes(c.machineId)),
+    bookings: (rows as (Row & { person_name: string })[]).map((r) => {
+      const mine = r.person_id === viewer.id;
+      return {
+        id: r.id,
+        machineId: r.machine_id,
+        startsAt: r.starts_at,
+        endsAt: r.ends_at,
+        occupiedUntil: r.occupied_until,
+        state: r.state,
+        kind: r.kind,
+        mine,
+        personName: mine || seesNames ? r.person_name : null,
+        courseName: r.course_name,
+        notes: mine ? r.notes : null,
+        lateCancel: r.late_cancel,
+      };
+    }),
+  };
+}
+
+/** Free ranges of a machine in [from, to), by the same rules createBooking applies. */
+export async function machineAvailability(machineId: string, from: Date, to: Date, now = new Date()) {
+  const m = await db()('machines').where({ id: machineId }).whereNull('retired_at').first('id', 'status');
+  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  const ctx = await ruleContext(machineId, from, to, db());
+  const occupied = (await db()('bookings')
+    .where({ machine_id: machineId })
+    .whereIn('state', ACTIVE_STATES as unknown as string[])
+    .where('starts_at', '<', new Date(to.getTime() + ctx.rules.bufferMinutes * 60_000))
+    .where('occupied_until', '>', from)
+    .select('starts_at', 'occupied_until')) as { starts_at: Date; occupied_until: Date }[];
+  const free =
+    m.status === 'out of service'
+      ? []
+      : freeRanges(from, to, { now, timeZone: ctx.timeZone, rules: ctx.rules, hours: ctx.rules.hours, closures: ctx.closures, occupied: occupied.map((o) => ({ startsAt: o.starts_at, occupiedUntil: o.occupied_until })) });
+  return {
+    machineId,
+    timeZone: ctx.timeZone,
+    status: m.status as string,
+    rules: publicRules(ctx.rules),
+    free: free.map((i) => ({ startsAt: i.start, endsAt: i.end })),
+  };
+}
+
+export function publicRules(r: MachineRules) {
+  return {
+    slotMinutes: r.slotMinutes,
+    minMinutes: r.minMinutes,
+    maxMinutes: r.maxMinutes,
+    bufferMinutes: r.bufferMinutes,
+    leadMinutes: r.leadMinutes,
+    horizonDays: r.horizonDays,
+    cancelCutoffMinutes: r.cancelCutoffMinutes,
+    quotas: r.quotas,
+    hours: r.hours,
+  };
+}
+
+/** The person's upcoming and recent bookings (for the Book screen's list). */
+export async function myBookings(personId: string, from: Date): Promise<(Booking & { machineName: string })[]> {
+  const rows = await db()('bookings as b')
+    .join('machines as m', 'm.id', 'b.machine_id')
+    .where('b.person_id', personId)
+    .where('b.ends_at', '>', from)
+    .orderBy('b.starts_at')
+    .limit(100)
+    .select('b.*', 'm.name as machine_name');
+  return (rows as (Row & { machine_name: string })[]).map((r) => ({ ...toBooking(r), machineName: r.machine_name }));
+}
+
+/** Now and next on each machine, for the Floor. */
+export async function nowAndNext(now = new Date()): Promise<Map<string, { current: { startsAt: Date; endsAt: Date; kind: BookingKind } | null; next: { startsAt: Date; endsAt: Date; kind: BookingKind } | null }>> {
+  const rows = (await db()('bookings')
+    .whereIn('state', ACTIVE_STATES as unknown as string[])
+    .where('ends_at', '>', now)
+    .whereNot('kind', 'hold')
+    .where('starts_at', '<', new Date(now.getTime() + 7 * 86_400_000))
+    .orderBy('starts_at')
+    .select('machine_id', 'starts_at', 'ends_at', 'kind')) as { machine_id: string; starts_at: Date; ends_at: Date; kind: BookingKind }[];
+  const out = new Map<string, { current: { startsAt: Date; endsAt: Date; kind: BookingKind } | null; next: { startsAt: Date; endsAt: Date; kind: BookingKind } | null }>();
+  for (const r of rows) {
+    const e = out.get(r.machine_id) ?? { current: null, next: null };
+    const item = { startsAt: r.starts_at, endsAt: r.ends_at, kind: r.kind };
+    if (r.starts_at <= now) e.current ??= item;
+    else e.next ??= item;
+    out.set(r.machine_id, e);
+  }
+  return out;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Class blocks
+
+export interface ClassBlockInput {
+  machineId: string;
+  startsAt: Date;
+  endsAt: Date;
+  courseName: string;
+  studentEmails: string[];
+  notes: string;
+}
+
+/** An instructor books a teaching block; the instructor must be cleared, the students are supervised. */
+export async function createClassBlock(actor: Actor, input: ClassBlockInput, now = new Date()): Promise<Booking & { students: { id: string; name: string; email: string }[] }> {
+  return transaction(async (trx) => {
+    const machine = await lockMachine(trx, input.machineId);
+    if (machine.status === 'out of service') throw outOfService(machine);
+    const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
+    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+    const emails = [...new Set(input.studentEmails.map((e) => e.toLowerCase()))];
+    const students = emails.length
+      ? ((await trx('people').whereRaw('lower(email) = ANY(?)', [emails]).where({ active: true }).select('id', 'name', 'email')) as { id: string; name: string; email: string }[])
+      : [];
+    const missing = emails.filter((e) => !students.some((s) => s.email.toLowerCase() === e));
+    if (missing.length) {
+      throw new HttpError(422, 'invalid', 'Some students have no account.', { studentEmails: `No active account for: ${missing.join(', ')}` });
+    }
+    const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
+    const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'class' }, { now, ...ctx });
+    if (broken) throw new HttpError(422, broken.code, broken.message);
+    const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
+    await assertFree(trx, machine.id, input.startsAt, until);
+    const booking = await insertBooking(trx, {
+      machine_id: machine.id,
+      person_id: actor.id,
+      kind: 'class',
+      course_name: input.courseName,
+      starts_at: input.startsAt,
+      ends_at: input.endsAt,
+      occupied_until: until,
+      notes: input.notes,
+    });
+    if (students.length) await trx('class_block_students').insert(students.map((s) => ({ booking_id: booking.id, person_id: s.id })));
+    await recordAudit(trx, {
+      actorId: actor.id,
+      kind: 'booking.class_block_created',
+      subjectType: 'booking',
+      subjectId: booking.id,
+      summary: `Class block on ${machine.name}: ${input.courseName} (${students.length} students, supervised)`,
+      after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt, students: students.map((s) => s.id) },
+    });
+    await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName);
+    return { ...booking, students };
+  });
+}
+
+// ---------------------------------------------------------------------------------------------
+// Waitlist
+
+function hashToken(token: string): string {
+  return crypto.createHash('sha256').update(token).digest('hex');
+}
+
+export async function joinWaitlist(actor: Actor, input: { machineId: string; startsAt: Date; endsAt: Date }, now = new Date()) {
+  return transaction(async (trx) => {
+    const machine = await lockMachine(trx, input.machineId);
+    const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
+    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+    const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
+    const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'personal' }, { now, ...ctx });
+    if (broken) throw new HttpError(422, broken.code, broken.message);
+    const dup = await trx('waitlist_entries')
+      .where({ machine_id: machine.id, person_id: actor.id, starts_at: input.startsAt, ends_at: input.endsAt })
+      .whereIn('state', ['waiting', 'offered'])
+      .first('id');
+    if (dup) throw new HttpError(409, 'already_waiting', 'You are already on the waitlist for that time.');
+    const [r] = await trx('waitlist_entries')
+      .insert({ machine_id: machine.id, person_id: actor.id, starts_at: input.startsAt, ends_at: input.endsAt })
+      .returning('*');
+    await recordAudit(trx, { actorId: actor.id, kind: 'waitlist.joined', subjectType: 'waitlist_entry', subjectId: r.id, summary: `Waitlist for ${machine.name}` });
+    return { id: r.id as string, machineId: machine.id, startsAt: r.starts_at as Date, endsAt: r.ends_at as Date, state: r.state as string };
+  });
+}
+
+/**
+ * Time on a machine has been freed: the first waiting person whose range fits inside it (and is still
+ * free) gets a 15-minute hold and an e-mail with a claim link. Runs in the caller's transaction.
+ */
+export async function offerFreedTime(trx: Knex.Transaction, machineId: string, freed: Interval, now: Date): Promise<string | null> {
+  if (freed.end <= freed.start) return null;
+  const candidates = await trx('waitlist_entries as w')
+    .join('people as p', 'p.id', 'w.person_id')
+    .where({ 'w.machine_id': machineId, 'w.state': 'waiting' })
+    .where('w.starts_at', '>=', freed.start)
+    .where('w.ends_at', '<=', freed.end)
+    .where('w.starts_at', '>', now)
+    .orderBy('w.created_at')
+    .forUpdate()
+    .select('w.*', 'p.email', 'p.name');
+  const machine = await trx('machines').where({ id: machineId }).first('name', 'status');
+  if (!machine || machine.status === 'out of service') return null;
+  const rules = await getRules(machineId, trx);
+  for (const c of candidates) {
+    const until = occupiedUntil(c.ends_at, rules.bufferMinutes);
+    let hold: Booking;
+    try {
+      await assertFree(trx, machineId, c.starts_at, until);
+      hold = await insertBooking(trx, {
+        machine_id: machineId,
+        person_id: c.person_id,
+        kind: 'hold',
+        starts_at: c.starts_at,
+        ends_at: c.ends_at,
+        occupied_until: until,
+        hold_expires_at: new Date(now.getTime() + HOLD_MINUTES * 60_000),
+      });
+    } catch (err) {
+      if (err instanceof HttpError && err.code === 'slot_taken') continue;
+      throw err;
+    }
+    const token = crypto.randomBytes(24).toString('base64url');
+    await trx('waitlist_entries').where({ id: c.id }).update({ state: 'offered', hold_booking_id: hold.id, claim_token_hash: hashToken(token), offered_at: now });
+    const settings = await siteSettings(trx);
+    await queueMail(trx, c.email, `A time on ${machine.name} is free: claim it within ${HOLD_MINUTES} minutes`, {
+      greeting: `Kia ora ${c.name},`,
+      paragraphs: [
+        `The time you were waiting for on ${machine.name} is free: ${formatRange({ startsAt: c.starts_at, endsAt: c.ends_at }, settings.timeZone)}.`,
+        `It is held for you for ${HOLD_MINUTES} minutes. After that it goes to the next person waiting.`,
+      ],
+      action: { label: 'Claim this time', url: `${env().PUBLIC_BASE_URL}/book/claim?token=${token}` },
+    });
+    return c.id as string;
+  }
+  return null;
+}
+
+/** Turns a held waitlist offer into a booking for the person it was offered to. */
+export async function claimWaitlist(actor: Actor, token: string, now = new Date()): Promise<Booking> {
+  return transaction(async (trx) => {
+    const e = await trx('waitlist_entries').where({ claim_token_hash: hashToken(token) }).forUpdate().first();
+    if (!e || e.person_id !== actor.id) throw new HttpError(404, 'not_found', 'This claim link is not valid for you.');
+    if (e.state !== 'offered') throw new HttpError(409, 'claim_expired', 'This offer has expired or was already used.');
+    const hold = (await trx('bookings').where({ id: e.hold_booking_id }).forUpdate().first()) as Row | undefined;
+    if (!hold || hold.state !== 'reserved' || hold.kind !== 'hold' || (hold.hold_expires_at && hold.hold_expires_at < now)) {
+      throw new HttpError(409, 'claim_expired', 'The 15 minutes to claim this time have passed.');
+    }
+    const machine = await lockMachine(trx, e.machine_id);
+    if (machine.status === 'out of service') throw outOfService(machine);
+    const verdict = await canOperate(actor.id, machine.id, hold.starts_at, trx);
+    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+    const settings = await siteSettings(trx);
+    await lockPerson(trx, actor.id);
+    const rules = await getRules(machine.id, trx);
+    const used = await weeklyMinutes(trx, actor.id, machine.id, hold.starts_at, settings.timeZone, hold.id);
+    const over = checkQuota(used, minutesBetween(hold.starts_at, hold.ends_at), rules.quotas[await getTier(actor.id, trx)]);
+    if (over) throw new HttpError(422, over.code, over.message);
+    const [u] = await trx('bookings').where({ id: hold.id }).update({ kind: 'personal', hold_expires_at: null, updated_at: trx.fn.now() }).returning('*');
+    await trx('waitlist_entries').where({ id: e.id }).update({ state: 'claimed' });
+    const booking = toBooking(u as Row);
+    await recordAudit(trx, { actorId: actor.id, kind: 'booking.claimed', subjectType: 'booking', subjectId: booking.id, summary: `Claimed a waitlist offer on ${machine.name}` });
+    await sendConfirmation(trx, actor.id, booking, machine, settings.timeZone, settings.name);
+    return booking;
+  });
+}
+
+// ---------------------------------------------------------------------------------------------
+// The sweep (run every minute by the worker): no-shows and expired holds
+
+export async function sweepBookings(now = new Date()): Promise<{ noShows: number; expiredHolds: number }> {
+  return transaction(async (trx) => {
+    const late = (await trx('bookings')
+      .where({ state: 'reserved' })
+      .whereIn('kind', ['personal', 'class'])
+      .whereNull('checked_in_at')
+      .where('starts_at', '<=', new Date(now.getTime() - NO_SHOW_AFTER_MINUTES * 60_000))
+      .forUpdate()
+      .skipLocked()
+      .select('*')) as Row[];
+    for (const r of late) {
+      await trx('bookings').where({ id: r.id }).update({ state: 'no-show', updated_at: trx.fn.now() });
+      await recordAudit(trx, {
+        actorId: null,
+        kind: 'booking.no_show',
+        subjectType: 'booking',
+        subjectId: r.id,
+        summary: 'Not checked in 15 minutes after the start: no-show, remaining time released',
+        before: { state: 'reserved' },
+        after: { state: 'no-show' },
+      });
+      await offerFreedTime(trx, r.machine_id, { start: now, end: r.ends_at }, now);
+    }
+    const holds = (await trx('bookings')
+      .where({ state: 'reserved', kind: 'hold' })
+      .where('hold_expires_at', '<=', now)
+      .forUpdate()
+      .skipLocked()
+      .select('*')) as Row[];
+    for (const h of holds) {
+      await trx('bookings').where({ id: h.id }).update({ state: 'cancelled', cancelled_at: now, updated_at: trx.fn.now() });
+      await trx('waitlist_entries').where({ hold_booking_id: h.id }).update({ state: 'expired' });
+      await offerFreedTime(trx, h.machine_id, { start: h.starts_at > now ? h.starts_at : now, end: h.ends_at }, now);
+    }
+    return { noShows: late.length, expiredHolds: holds.length };
+  });
+}
+
+// ---------------------------------------------------------------------------------------------
+// Private calendar feeds
+
+export async function feedStatus(personId: string): Promise<{ active: boolean; createdAt: Date | null }> {
+  const r = await db()('calendar_feeds').where({ person_id: personId }).first('created_at');
+  return { active: !!r, createdAt: r?.created_at ?? null };
+}
+
+/** Creates (or replaces, revoking the old URL) the person's private feed; the token is shown once. */
+export async function rotateFeedToken(personId: string): Promise<{ url: string; token: string }> {
+  const token = crypto.randomBytes(24).toString('base64url');
+  await transaction(async (trx) => {
+    await trx('calendar_feeds')
+      .insert({ person_id: personId, token_hash: hashToken(token), created_at: trx.fn.now() })
+      .onConflict('person_id')
+      .merge();
+    await recordAudit(trx, { actorId: personId, kind: 'calendar_feed.created', subjectType: 'person', subjectId: personId, summary: 'Private calendar feed URL created (any earlier URL revoked)' });
+  });
+  return { token, url: `${env().PUBLIC_BASE_URL}/api/calendar/${token}.ics` };
+}
+
+export async function revokeFeed(personId: string): Promise<void> {
+  await transaction(async (trx) => {
+    await trx('calendar_feeds').where({ person_id: personId }).delete();
+    await recordAudit(trx, { actorId: personId, kind: 'calendar_feed.revoked', subjectType: 'person', subjectId: personId, summary: 'Private calendar feed URL revoked' });
+  });
+}
+
+/** The .ics document of a feed token (null when the token is unknown or revoked). */
+export async function feedIcs(token: string, now = new Date()): Promise<string | null> {
+  if (!/^[A-Za-z0-9_-]{20,64}$/.test(token)) return null;
+  const f = await db()('calendar_feeds').where({ token_hash: hashToken(token) }).first('person_id');
+  if (!f) return null;
+  const settings = await getSettings();
+  const rows = (await db()('bookings as b')
+    .join('machines as m', 'm.id', 'b.machine_id')
+    .where('b.person_id', f.person_id)
+    .where('b.ends_at', '>', new Date(now.getTime() - 30 * 86_400_000))
+    .whereIn('b.state', ['reserved', 'checked in', 'completed', 'cancelled'])
+    .whereNot('b.kind', 'hold')
+    .orderBy('b.starts_at')
+    .limit(1000)
+    .select('b.*', 'm.name as machine_name')) as (Row & { machine_name: string })[];
+  return buildIcs(
+    `${settings.name}: my bookings`,
+    rows.map((r) => ({
+      id: r.id,
+      startsAt: r.starts_at,
+      endsAt: r.ends_at,
+      summary: r.kind === 'class' ? `${r.machine_name}: class ${r.course_name}` : `${r.machine_name} booking`,
+      location: `${r.machine_name}, ${settings.name}`,
+      cancelled: r.state === 'cancelled',
+    })),
+    { stamp: now },
+  );
+}
+
+export { bookingIcs };
