@@ -14,6 +14,9 @@ export interface NavItem {
 export const NAV: NavItem[] = [
   { label: 'Floor', href: '/', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
   { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
+  { label: 'Clearances', href: '/clearances', roles: ['member', 'instructor', 'steward'], group: 'everyone' },
+  { label: 'Quizzes', href: '/quizzes', roles: ['instructor'], group: 'teaching' },
+  { label: 'Sign-offs', href: '/signoffs', roles: ['instructor'], group: 'teaching' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {

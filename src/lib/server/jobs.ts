@@ -10,6 +10,7 @@ import { env } from './env';
 /** Every queue, with its retry policy. Add a queue here, then its handler in src/lib/server/worker.ts. */
 export const QUEUES = {
   'mail.send': { retryLimit: 30, retryDelay: 10, retryBackoff: true, expireInSeconds: 300 },
+  'clearances.sweep': { retryLimit: 3, retryDelay: 30, expireInSeconds: 600 },
 } as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
 
 export type QueueName = keyof typeof QUEUES;

@@ -6,12 +6,28 @@ import type PgBoss from 'pg-boss';
 import { env } from './env';
 import { installQueues, type QueueName } from './jobs';
 import { sendMailNow, type MailMessage } from './mail';
+import { sweepClearances } from './clearances';
+import { db } from './db';
 
 type Handler = (data: unknown) => Promise<void>;
 
 const handlers: Record<QueueName, Handler> = {
   'mail.send': async (data) => sendMailNow(data as MailMessage),
+  // lapses at expiry and "lapsing in 14 days" warnings (canOperate also computes lapse from the expiry itself)
+  'clearances.sweep': async () => {
+    const r = await sweepClearances(new Date());
+    if (r.lapsed || r.warned) console.log(`worker: clearances lapsed ${r.lapsed}, warned ${r.warned}`);
+  },
 };
+
+/** Scheduled jobs (cron in the site's time zone). */
+async function schedules(boss: PgBoss): Promise<void> {
+  const row = await db()('site_settings').where({ id: 1 }).first('time_zone');
+  const tz = (row?.time_zone as string | undefined) ?? 'UTC';
+  // every five minutes, and at start-up, so a lapse is written within minutes of its instant
+  await boss.schedule('clearances.sweep', '*/5 * * * *', {}, { tz });
+  await boss.send('clearances.sweep', {});
+}
 
 export async function startWorker(): Promise<PgBoss> {
   const boss = await installQueues(env().DATABASE_URL);
@@ -20,5 +36,6 @@ export async function startWorker(): Promise<PgBoss> {
       for (const job of batch) await handle(job.data);
     });
   }
+  await schedules(boss);
   return boss;
 }
