@@ -1,6 +1,6 @@
 import type { Knex } from 'knex';
 
-/** A quiz belongs to a machine group; its questions live in versions. */
+/** Each machine group has one quiz; its questions live in versions. */
 export async function up(knex: Knex): Promise<void> {
   await knex.schema.createTable('quizzes', (t) => {
     t.uuid('id').primary().defaultTo(knex.raw('gen_random_uuid()'));
@@ -9,7 +9,7 @@ export async function up(knex: Knex): Promise<void> {
     t.uuid('created_by').references('people.id');
     t.timestamp('created_at', { useTz: true }).notNullable().defaultTo(knex.fn.now());
     t.timestamp('updated_at', { useTz: true }).notNullable().defaultTo(knex.fn.now());
-    t.index(['group_id']);
+    t.unique(['group_id']);
   });
 }
 

@@ -90,13 +90,14 @@ export default function QuizEditor() {
           </table>
         </div>
       )}
-      <NewQuiz groups={groups} onStart={(groupId) => setEditing({ id: null, groupId })} />
+      <NewQuiz groups={groups.filter((g) => !quizzes?.some((q) => q.groupId === g.id))} onStart={(groupId) => setEditing({ id: null, groupId })} />
     </div>
   );
 }
 
 function NewQuiz({ groups, onStart }: { groups: Group[]; onStart: (groupId: string) => void }) {
   const [groupId, setGroupId] = useState('');
+  if (groups.length === 0) return <p className="hint">Every machine group has its quiz; edit one above to make a new version.</p>;
   return (
     <section className="card flex flex-wrap items-end gap-3 p-4" aria-label="New quiz">
       <label className="field">

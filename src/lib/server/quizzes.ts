@@ -80,6 +80,9 @@ export async function createQuiz(actorId: string, groupId: string, draft: QuizDr
   return transaction(async (trx) => {
     const g = await trx('machine_groups').where({ id: groupId }).first('id', 'name');
     if (!g) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', { groupId: 'No such machine group.' });
+    if (await trx('quizzes').where({ group_id: groupId }).first('id')) {
+      throw new HttpError(409, 'quiz_exists', `${g.name} already has a quiz; edit it to make a new version.`);
+    }
     const [quiz] = await trx('quizzes').insert({ group_id: groupId, title: draft.title, created_by: actorId }).returning('id');
     await trx('quiz_versions').insert({ quiz_id: quiz.id, version: 1, status: 'draft', ...draftColumns(draft), edited_by: actorId });
     await recordAudit(trx, { actorId, kind: 'quiz.created', subjectType: 'quiz', subjectId: quiz.id, summary: `Created the quiz “${draft.title}” for ${g.name}` });
