@@ -109,7 +109,10 @@ function SignoffForm({ entry, onDone }: { entry: QueueEntry; onDone: (text: stri
           {entry.checklist.map((item) => (
             <li key={item}>
               <label className="flex items-start gap-2">
-                <input type="checkbox" className="mt-1 h-4 w-4" checked={Boolean(ticked[item])} onChange={(e) => setTicked((t) => ({ ...t, [item]: e.currentTarget.checked }))} />
+                <input type="checkbox" className="mt-1 h-4 w-4" checked={Boolean(ticked[item])} onChange={(e) => {
+                  const on = e.currentTarget.checked;
+                  setTicked((t) => ({ ...t, [item]: on }));
+                }} />
                 <span>{item}</span>
               </label>
             </li>
