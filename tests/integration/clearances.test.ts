@@ -343,3 +343,24 @@ describe('quiz versions', () => {
     expect(await testDb()('quiz_versions').where({ quiz_id: quizId, status: 'draft' }).first()).toBeUndefined();
   });
 });
+
+describe('group settings', () => {
+  it('an admin sets validity and refresher rule; an instructor may change only the checklist; both audited', async () => {
+    const admin = await Client.as('admin');
+    const g = rf();
+    const res = await admin.send('PATCH', `/api/machine-groups/${g.id}`, { validityDays: 180, refresher: 'quiz' });
+    expect(res.status).toBe(200);
+    expect(await body(res)).toMatchObject({ validityDays: 180, refresher: 'quiz' });
+    const refused = await instructor.send('PATCH', `/api/machine-groups/${g.id}`, { validityDays: 30 });
+    expect(refused.status).toBe(403);
+    const items = [...g.checklist, 'Cleans the bed and the honeycomb after the job'];
+    const ok = await instructor.send('PATCH', `/api/machine-groups/${g.id}`, { checklist: items });
+    expect((await body(ok)).checklist).toEqual(items);
+    expect((await (await Client.as('member')).send('PATCH', `/api/machine-groups/${g.id}`, { checklist: items })).status).toBe(403);
+    expect((await admin.send('PATCH', `/api/machine-groups/${g.id}`, { validityDays: 0 })).status).toBe(422);
+    // back to the seeded settings
+    await admin.send('PATCH', `/api/machine-groups/${g.id}`, { validityDays: g.validityDays, refresher: 'quiz_and_signoff', checklist: g.checklist });
+    const audits = await testDb()('audit_log').where({ kind: 'machine_group.updated', subject_id: g.id }).count<{ n: number }[]>({ n: '*' });
+    expect(Number(audits[0]!.n)).toBeGreaterThanOrEqual(3);
+  });
+});
