@@ -17,6 +17,7 @@ export const NAV: NavItem[] = [
   { label: 'Clearances', href: '/clearances', roles: ['member', 'instructor', 'steward'], group: 'everyone' },
   { label: 'Quizzes', href: '/quizzes', roles: ['instructor'], group: 'teaching' },
   { label: 'Sign-offs', href: '/signoffs', roles: ['instructor'], group: 'teaching' },
+  { label: 'Machine groups', href: '/admin/machine-groups', roles: ['admin', 'instructor'], group: 'admin' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {

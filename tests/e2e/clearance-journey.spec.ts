@@ -147,4 +147,25 @@ describe('clearance journey', () => {
     await ictx.close();
     await mctx.close();
   });
+
+  it('an admin sees the machine groups with their settings; a member is refused the instructor screens', async () => {
+    const actx = await newContext(browser);
+    const apage = await actx.newPage();
+    const errors = watchErrors(apage);
+    await signIn(apage, 'admin');
+    await apage.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Machine groups', exact: true }).click();
+    const glassForm = apage.getByRole('form', { name: 'Glass-tube lasers' });
+    await expect.poll(() => glassForm.getByLabel('Validity (days)').inputValue()).toBe('365');
+    await expect(glassForm.innerText()).resolves.toContain('Laser A, Laser C');
+    await expect(apage.getByRole('form', { name: 'RF laser' }).getByLabel('When it lapses').inputValue()).resolves.toBe('quiz_and_signoff');
+    await shot(apage, 'machine-groups-desk');
+    expect(errors).toEqual([]);
+    await actx.close();
+
+    const mctx = await newContext(browser, PHONE);
+    const mpage = await mctx.newPage();
+    await signIn(mpage, 'member');
+    for (const path of ['/quizzes', '/signoffs', '/admin/machine-groups']) expect((await mpage.goto(path))?.status()).toBe(403);
+    await mctx.close();
+  });
 });
