@@ -4,15 +4,11 @@
  */
 import path from 'node:path';
 import {
-  ROOT, HOST, appEnv, assertPortFree, buildApp, ensurePostgres, loadSecrets, readConfig, runNode,
-  say, spawnService, startFakes, stopPostgres, stopServices, waitForPort,
+  ROOT, HOST, appEnv, assertPortFree, buildApp, ensurePostgres, loadSecrets, runNode,
+  say, spawnService, startFakes, stopPostgres, stopServices, waitForPort, demoConfig,
 } from './lib/stack';
 
-const cfg = readConfig(
-  'demo',
-  { dataDir: 'DATA_DIR', appPort: 'PORT', pgPort: 'PG_PORT', smtpPort: 'SMTP_PORT', mailWebPort: 'MAIL_WEB_PORT', stripePort: 'STRIPE_PORT', s3Port: 'S3_PORT' },
-  { dataDir: '.data', appPort: 4321, pgPort: 54329, smtpPort: 1025, mailWebPort: 1080, stripePort: 12111, s3Port: 4569, dbName: 'beamwarden' },
-);
+const cfg = demoConfig();
 
 let pgData: string | undefined;
 let pgStartedHere = false;

@@ -15,7 +15,7 @@ import { z } from 'zod';
 
 export const ROOT = path.resolve(import.meta.dirname, '..', '..');
 export const HOST = '127.0.0.1';
-const PG_BIN = process.env.PG_BIN ?? '/usr/lib/postgresql/15/bin';
+export const PG_BIN = process.env.PG_BIN ?? '/usr/lib/postgresql/15/bin';
 
 const port = z.coerce.number().int().min(1024).max(65535);
 
@@ -68,6 +68,15 @@ export function readConfig(
     dbName: process.env.PG_DATABASE ?? defaults.dbName,
     dbUser: process.env.PG_USER ?? 'beamwarden',
   };
+}
+
+/** The ports, folder and database of `npm start` (the demo), each overridable from the environment. */
+export function demoConfig(): StackConfig {
+  return readConfig(
+    'demo',
+    { dataDir: 'DATA_DIR', appPort: 'PORT', pgPort: 'PG_PORT', smtpPort: 'SMTP_PORT', mailWebPort: 'MAIL_WEB_PORT', stripePort: 'STRIPE_PORT', s3Port: 'S3_PORT' },
+    { dataDir: '.data', appPort: 4321, pgPort: 54329, smtpPort: 1025, mailWebPort: 1080, stripePort: 12111, s3Port: 4569, dbName: 'beamwarden' },
+  );
 }
 
 export function fail(message: string): never {
@@ -276,6 +285,15 @@ async function createDatabaseIfMissing(c: pg.Client, name: string, owner: string
   if (exists.rowCount === 0) {
     await c.query(`CREATE DATABASE ${pg.escapeIdentifier(name)} OWNER ${pg.escapeIdentifier(owner)} ENCODING 'UTF8' TEMPLATE template0`);
   }
+}
+
+/** Creates a database owned by the app role unless it exists; true when it was created now. */
+export async function ensureDatabase(cfg: StackConfig, secrets: Secrets, name: string): Promise<boolean> {
+  return withSuperuser(cfg, secrets, async (c) => {
+    const exists = await c.query('SELECT 1 FROM pg_database WHERE datname = $1', [name]);
+    await createDatabaseIfMissing(c, name, cfg.dbUser);
+    return exists.rowCount === 0;
+  });
 }
 
 /** Drops and recreates a database owned by the app role (tests start from nothing). */

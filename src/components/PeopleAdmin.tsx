@@ -74,6 +74,23 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
     }
   }
 
+  // Deactivate / reactivate (admin): a deactivated person cannot sign in; their session ends at once.
+  async function setActive(person: PersonRow, active: boolean) {
+    const verb = active ? 'reactivate' : 'deactivate';
+    if (!active && !window.confirm(`Deactivate ${person.name}? They are signed out at once and cannot sign in until reactivated.`)) return;
+    setBusy(`${person.id}:active`);
+    setMessage(null);
+    try {
+      const updated = await api<PersonRow>(`/api/people/${person.id}/${verb}`, { method: 'POST' });
+      setData((d) => (d ? { ...d, rows: d.rows.map((r) => (r.id === person.id ? { ...r, active: updated.active } : r)) } : d));
+      setMessage({ tone: 'ok', text: `${person.name}: ${active ? 'reactivated' : 'deactivated'}.` });
+    } catch (e) {
+      setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'The change was not saved.' });
+    } finally {
+      setBusy(null);
+    }
+  }
+
   function sortBy(column: Sort) {
     if (sort === column) setDir(dir === 'asc' ? 'desc' : 'asc');
     else {
@@ -122,6 +139,11 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
                 <td className="font-medium">
                   {p.name}{!p.active && <span className="status status-stop ml-2">Deactivated</span>}
                   <span className="block break-all text-sm font-normal text-charcoal-soft md:hidden">{p.email}</span>
+                  {p.id !== selfId && (
+                    <button type="button" className="mt-1 inline-flex min-h-8 items-center text-sm font-normal text-ember-dark underline disabled:opacity-50" disabled={busy !== null} onClick={() => void setActive(p, !p.active)}>
+                      {p.active ? 'Deactivate' : 'Reactivate'}<span className="sr-only"> {p.name}</span>
+                    </button>
+                  )}
                 </td>
                 <td className="hidden break-all md:table-cell">{p.email}</td>
                 <td>

@@ -14,6 +14,9 @@ export interface NavItem {
 export const NAV: NavItem[] = [
   { label: 'Floor', href: '/', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
   { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
+  { label: 'Admin', href: '/admin', roles: ['admin'], group: 'admin' },
+  { label: 'Site', href: '/admin/site', roles: ['admin'], group: 'admin' },
+  { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },
   { label: 'Clearances', href: '/clearances', roles: ['member', 'instructor', 'steward'], group: 'everyone' },
   { label: 'Quizzes', href: '/quizzes', roles: ['instructor'], group: 'teaching' },
   { label: 'Sign-offs', href: '/signoffs', roles: ['instructor'], group: 'teaching' },
@@ -22,6 +25,14 @@ export const NAV: NavItem[] = [
 
 export function navFor(roles: readonly Role[]): NavItem[] {
   return NAV.filter((item) => hasAnyRole(roles, item.roles));
+}
+
+/** The one href of `items` to mark as current: the longest that is the page or a section above it. */
+export function currentHref(items: readonly NavItem[], pathname: string): string | undefined {
+  return items
+    .filter((item) => isCurrent(item.href, pathname))
+    .map((item) => item.href)
+    .sort((a, b) => b.length - a.length)[0];
 }
 
 /** True when `href` is the current page or a section above it. */

@@ -2,6 +2,7 @@
 import { z } from 'zod';
 import { PASSWORD_MAX, PASSWORD_MIN } from './password-rules';
 import { ROLES } from './roles';
+import { isCalendarDate } from './zoned-time';
 
 export const email = z
   .string()
@@ -28,3 +29,6 @@ export const page = z.coerce.number().int().min(1).max(100_000).default(1);
 export const pageSize = z.coerce.number().int().min(1).max(200).default(25);
 
 export const searchText = z.string().trim().max(200).optional();
+
+/** A calendar date written YYYY-MM-DD (read in the site's time zone by whoever uses it). */
+export const calendarDate = z.string().trim().refine(isCalendarDate, 'Use a date written YYYY-MM-DD, e.g. 2026-12-02.');

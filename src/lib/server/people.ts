@@ -120,3 +120,51 @@ export async function setRoles(actorId: string, personId: string, roles: Role[])
     return person;
   });
 }
+
+/** Sets `active` on a locked person row and audits the change; false when it was already so. */
+async function applyActive(trx: Knex.Transaction, actorId: string, personId: string, active: boolean): Promise<boolean> {
+  const target = await trx('people').where({ id: personId }).forUpdate().first('id', 'name', 'email', 'active');
+  if (!target) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (target.active === active) return false;
+  await trx('people').where({ id: personId }).update({ active, deactivated_at: active ? null : trx.fn.now(), updated_at: trx.fn.now() });
+  await recordAudit(trx, {
+    actorId,
+    kind: active ? 'person.reactivated' : 'person.deactivated',
+    subjectType: 'person',
+    subjectId: personId,
+    summary: `${target.name} <${target.email}> ${active ? 'reactivated' : 'deactivated'}`,
+    before: { active: target.active },
+    after: { active },
+  });
+  return true;
+}
+
+async function mustGetPerson(personId: string, trx: Knex.Transaction): Promise<Person> {
+  const person = await getPerson(personId, trx);
+  if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  return person;
+}
+
+/**
+ * Deactivates a person (admin): they can no longer sign in, and their current session ends at their
+ * next request (session.ts resolves only active people). Audited as `person.deactivated`. Deactivating
+ * someone already inactive changes nothing. An admin cannot deactivate themselves (409).
+ */
+export async function deactivatePerson(actorId: string, personId: string): Promise<Person> {
+  if (actorId === personId) {
+    throw new HttpError(409, 'cannot_deactivate_self', 'You cannot deactivate your own account; ask another admin to do it.');
+  }
+  return transaction(async (trx) => {
+    await applyActive(trx, actorId, personId, false);
+    // EXTENSION POINT (bookings): cancel this person's future bookings here, in this same transaction (trx).
+    return mustGetPerson(personId, trx);
+  });
+}
+
+/** Lets a deactivated person sign in again (admin). Audited as `person.reactivated`. */
+export async function reactivatePerson(actorId: string, personId: string): Promise<Person> {
+  return transaction(async (trx) => {
+    await applyActive(trx, actorId, personId, true);
+    return mustGetPerson(personId, trx);
+  });
+}

@@ -1,15 +1,114 @@
-/** Site settings (one row): name, IANA time zone, currency. */
-import { db } from './db';
+/** Site settings (one row): name, IANA time zone, currency, tax, public base URL. All SQL of this area. */
+import { db, transaction } from './db';
+import { recordAudit } from './audit';
+import { env } from './env';
+import type { SiteSettingsValues } from '../site-settings';
 
 export interface SiteSettings {
   name: string;
   timeZone: string;
   currency: string;
+  /** Percent, e.g. 15 for 15 % GST. */
+  taxRatePercent: number;
+  /** True: prices are entered and shown with tax included; false: tax is added on top. */
+  pricesIncludeTax: boolean;
+  /** The address printed on QR labels as set by an admin; null means the environment's PUBLIC_BASE_URL. */
+  publicBaseUrl: string | null;
+  updatedAt: Date | null;
 }
 
-const FALLBACK: SiteSettings = { name: 'Beamwarden', timeZone: 'UTC', currency: 'NZD' };
+const FALLBACK: SiteSettings = {
+  name: 'Beamwarden',
+  timeZone: 'UTC',
+  currency: 'NZD',
+  taxRatePercent: 0,
+  pricesIncludeTax: true,
+  publicBaseUrl: null,
+  updatedAt: null,
+};
+
+const COLUMNS = ['name', 'time_zone', 'currency', 'tax_rate_percent', 'prices_include_tax', 'public_base_url', 'updated_at'] as const;
+
+type Row = { name: string; time_zone: string; currency: string; tax_rate_percent: number | string; prices_include_tax: boolean; public_base_url: string | null; updated_at: Date };
+
+function toSettings(row: Row): SiteSettings {
+  return {
+    name: row.name,
+    timeZone: row.time_zone,
+    currency: row.currency,
+    taxRatePercent: Number(row.tax_rate_percent),
+    pricesIncludeTax: row.prices_include_tax,
+    publicBaseUrl: row.public_base_url,
+    updatedAt: row.updated_at,
+  };
+}
 
 export async function getSettings(): Promise<SiteSettings> {
-  const row = await db()('site_settings').where({ id: 1 }).first('name', 'time_zone', 'currency');
-  return row ? { name: row.name, timeZone: row.time_zone, currency: row.currency } : FALLBACK;
+  const row = (await db()('site_settings').where({ id: 1 }).first(...COLUMNS)) as Row | undefined;
+  return row ? toSettings(row) : FALLBACK;
+}
+
+/** The base of every public link (QR labels): the admin's setting, else PUBLIC_BASE_URL. No trailing slash. */
+export async function publicBaseUrl(): Promise<string> {
+  const s = await getSettings();
+  return (s.publicBaseUrl ?? env().PUBLIC_BASE_URL).replace(/\/+$/, '');
+}
+
+const EDITABLE = ['name', 'timeZone', 'currency', 'taxRatePercent', 'pricesIncludeTax', 'publicBaseUrl'] as const;
+type Editable = Pick<SiteSettings, (typeof EDITABLE)[number]>;
+
+function editable(s: SiteSettings): Editable {
+  return {
+    name: s.name,
+    timeZone: s.timeZone,
+    currency: s.currency,
+    taxRatePercent: s.taxRatePercent,
+    pricesIncludeTax: s.pricesIncludeTax,
+    publicBaseUrl: s.publicBaseUrl,
+  };
+}
+
+/**
+ * Saves the site settings (validated by siteSettingsInput). Audited as `site.updated` with the values
+ * before and after; a save that changes nothing writes nothing.
+ */
+export async function updateSettings(actorId: string, input: SiteSettingsValues): Promise<SiteSettings> {
+  return transaction(async (trx) => {
+    const row = (await trx('site_settings').where({ id: 1 }).forUpdate().first(...COLUMNS)) as Row | undefined;
+    const before = row ? editable(toSettings(row)) : null;
+    const after: Editable = {
+      name: input.name,
+      timeZone: input.timeZone,
+      currency: input.currency,
+      taxRatePercent: input.taxRatePercent,
+      pricesIncludeTax: input.pricesIncludeTax,
+      publicBaseUrl: input.publicBaseUrl,
+    };
+    const changed = EDITABLE.filter((k) => !before || before[k] !== after[k]);
+    if (changed.length === 0 && row) return toSettings(row);
+    const values = {
+      name: after.name,
+      time_zone: after.timeZone,
+      currency: after.currency,
+      tax_rate_percent: after.taxRatePercent,
+      prices_include_tax: after.pricesIncludeTax,
+      public_base_url: after.publicBaseUrl,
+      updated_at: trx.fn.now(),
+    };
+    const [saved] = (await trx('site_settings')
+      .insert({ id: 1, ...values })
+      .onConflict('id')
+      .merge()
+      .returning([...COLUMNS])) as Row[];
+    await recordAudit(trx, {
+      actorId,
+      kind: 'site.updated',
+      subjectType: 'site',
+      subjectId: '1',
+      summary: `Site settings changed: ${changed.map((k) => `${k} ${JSON.stringify(before?.[k] ?? null)} → ${JSON.stringify(after[k])}`).join('; ')}`,
+      before: before && Object.fromEntries(changed.map((k) => [k, before[k]])),
+      after: Object.fromEntries(changed.map((k) => [k, after[k]])),
+    });
+    return toSettings(saved!);
+  });
 }

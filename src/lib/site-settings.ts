@@ -1,0 +1,73 @@
+/**
+ * Site settings: the shape an admin edits on the Site screen, validated the same way in the browser
+ * and on the server. Pure (no I/O).
+ */
+import { z } from 'zod';
+
+/** IANA time zones this runtime knows, plus UTC (which Intl lists only under its Etc/ aliases). */
+export function timeZones(): string[] {
+  const list = typeof Intl.supportedValuesOf === 'function' ? Intl.supportedValuesOf('timeZone') : [];
+  return list.includes('UTC') ? list : ['UTC', ...list];
+}
+
+export function isTimeZone(name: string): boolean {
+  return timeZones().includes(name);
+}
+
+/** ISO 4217 currency codes this runtime knows. */
+export function currencies(): string[] {
+  return typeof Intl.supportedValuesOf === 'function' ? Intl.supportedValuesOf('currency') : [];
+}
+
+export function isCurrency(code: string): boolean {
+  return currencies().includes(code);
+}
+
+/** A public base URL: http(s), a host, an optional path; no query or fragment; no trailing slash kept. */
+export function normaliseBaseUrl(raw: string): string | null {
+  let u: URL;
+  try {
+    u = new URL(raw.trim());
+  } catch {
+    return null;
+  }
+  if (u.protocol !== 'http:' && u.protocol !== 'https:') return null;
+  if (u.search || u.hash || u.username || u.password || !u.hostname) return null;
+  const text = `${u.protocol}//${u.host}${u.pathname}`.replace(/\/+$/, '');
+  return text.length <= 300 ? text : null;
+}
+
+export const siteSettingsInput = z
+  .object({
+    name: z.string().trim().min(1, 'Enter the name of the site.').max(120, 'Use at most 120 characters.'),
+    timeZone: z.string().trim().refine(isTimeZone, 'Choose an IANA time zone such as Pacific/Auckland or Europe/London.'),
+    currency: z
+      .string()
+      .trim()
+      .toUpperCase()
+      .refine((c) => /^[A-Z]{3}$/.test(c) && isCurrency(c), 'Use an ISO 4217 currency code such as NZD, EUR or USD.'),
+    taxRatePercent: z
+      .number({ error: 'Enter the tax rate as a number of percent, e.g. 15.' })
+      .min(0, 'The tax rate cannot be negative.')
+      .max(100, 'The tax rate is at most 100 %.')
+      .refine((n) => Math.round(n * 1000) === n * 1000 || Math.abs(Math.round(n * 1000) - n * 1000) < 1e-6, 'Use at most three decimals.'),
+    pricesIncludeTax: z.boolean({ error: 'Say whether prices include tax.' }),
+    publicBaseUrl: z
+      .string()
+      .trim()
+      .max(300, 'Use at most 300 characters.')
+      .nullable()
+      .transform((s, ctx) => {
+        if (s === null || s === '') return null;
+        const n = normaliseBaseUrl(s);
+        if (!n) {
+          ctx.addIssue({ code: 'custom', message: 'Enter an address such as https://laser.example.org (no query or #).' });
+          return z.NEVER;
+        }
+        return n;
+      }),
+  })
+  .strict();
+
+export type SiteSettingsInput = z.input<typeof siteSettingsInput>;
+export type SiteSettingsValues = z.output<typeof siteSettingsInput>;

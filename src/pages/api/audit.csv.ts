@@ -1,0 +1,65 @@
+import { stringify } from 'csv-stringify/sync';
+import { readQuery, requireRole, route } from '../../lib/server/http';
+import { iterateAudit, type AuditRow } from '../../lib/server/audit';
+import { getSettings } from '../../lib/server/settings';
+import { auditFilterQuery, toAuditFilter } from '../../lib/audit-filter';
+import { safeCell } from '../../lib/csv';
+import { formatZoned } from '../../lib/zoned-time';
+
+/**
+ * GET /api/audit.csv?actor=&kind=&q=&from=&to= (admin) → every audit row that matches the filter,
+ * newest first, as CSV (UTF-8), streamed in batches. Times in the site's time zone and in UTC.
+ */
+export const GET = route(async ({ locals, url }) => {
+  requireRole(locals, 'admin');
+  const query = readQuery(url, auditFilterQuery);
+  const { timeZone } = await getSettings();
+  const rows = iterateAudit(toAuditFilter(query, timeZone));
+  const header = [`time (${timeZone})`, 'time (UTC)', 'actor', 'actor id', 'kind', 'subject type', 'subject id', 'summary', 'before', 'after'];
+  const line = (r: AuditRow) => [
+    formatZoned(r.at, timeZone),
+    r.at.toISOString(),
+    safeCell(r.actorName),
+    r.actorId ?? '',
+    safeCell(r.kind),
+    safeCell(r.subjectType),
+    safeCell(r.subjectId),
+    safeCell(r.summary),
+    safeCell(r.before),
+    safeCell(r.after),
+  ];
+  const encoder = new TextEncoder();
+  const body = new ReadableStream<Uint8Array>({
+    start(controller) {
+      controller.enqueue(encoder.encode(stringify([header])));
+    },
+    async pull(controller) {
+      const chunk: string[][] = [];
+      try {
+        while (chunk.length < 500) {
+          const next = await rows.next();
+          if (next.done) break;
+          chunk.push(line(next.value));
+        }
+      } catch (err) {
+        console.error('[api] GET /api/audit.csv:', err);
+        controller.error(err);
+        return;
+      }
+      if (chunk.length) controller.enqueue(encoder.encode(stringify(chunk)));
+      if (chunk.length < 500) controller.close();
+    },
+    async cancel() {
+      await rows.return(undefined);
+    },
+  });
+  const stamp = new Date().toISOString().slice(0, 10);
+  return new Response(body, {
+    status: 200,
+    headers: {
+      'content-type': 'text/csv; charset=utf-8',
+      'content-disposition': `attachment; filename="beamwarden-audit-${stamp}.csv"`,
+      'cache-control': 'no-store',
+    },
+  });
+});

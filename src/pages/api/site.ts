@@ -1,0 +1,32 @@
+import { json, readJson, requireRole, route } from '../../lib/server/http';
+import { getSettings, updateSettings, type SiteSettings } from '../../lib/server/settings';
+import { siteSettingsInput } from '../../lib/site-settings';
+
+function view(s: SiteSettings) {
+  return {
+    name: s.name,
+    timeZone: s.timeZone,
+    currency: s.currency,
+    taxRatePercent: s.taxRatePercent,
+    pricesIncludeTax: s.pricesIncludeTax,
+    publicBaseUrl: s.publicBaseUrl,
+    updatedAt: s.updatedAt ? s.updatedAt.toISOString() : null,
+  };
+}
+
+/** GET /api/site (admin) → the site settings. */
+export const GET = route(async ({ locals }) => {
+  requireRole(locals, 'admin');
+  return json(view(await getSettings()));
+});
+
+/**
+ * PUT /api/site {name, timeZone, currency, taxRatePercent, pricesIncludeTax, publicBaseUrl} (admin) →
+ * the saved settings. Every field is required (publicBaseUrl may be null); the change is audited as
+ * `site.updated` with the values before and after.
+ */
+export const PUT = route(async ({ locals, request }) => {
+  const admin = requireRole(locals, 'admin');
+  const input = await readJson(request, siteSettingsInput);
+  return json(view(await updateSettings(admin.id, input)));
+});

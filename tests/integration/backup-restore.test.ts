@@ -1,0 +1,125 @@
+/**
+ * npm run backup and npm run restore, round trip: the test database is dumped, restored into a new
+ * database, and every table has the same number of rows in both. Runs the real scripts against the
+ * test cluster (DATA_DIR, PG_PORT and PG_DATABASE pointed at what npm test started).
+ */
+import { spawnSync } from 'node:child_process';
+import fs from 'node:fs';
+import path from 'node:path';
+import pg from 'pg';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { closeTestDb } from '../support/db';
+
+const source = new URL(process.env.DATABASE_URL!);
+const sourceDb = source.pathname.slice(1);
+const restoredDb = `${sourceDb}_restored`;
+
+function run(script: 'backup' | 'restore', args: string[] = []): { status: number | null; out: string } {
+  const r = spawnSync(process.execPath, ['--import', 'tsx', `scripts/${script}.ts`, ...args], {
+    env: {
+      ...process.env,
+      DATA_DIR: process.env.TEST_DATA_DIR!,
+      PG_PORT: source.port,
+      PG_DATABASE: sourceDb,
+    },
+    encoding: 'utf8',
+    timeout: 120_000,
+  });
+  return { status: r.status, out: `${r.stdout}${r.stderr}` };
+}
+
+async function withClient<T>(url: string, fn: (c: pg.Client) => Promise<T>): Promise<T> {
+  const c = new pg.Client({ connectionString: url });
+  await c.connect();
+  try {
+    return await fn(c);
+  } finally {
+    await c.end();
+  }
+}
+
+const superuser = <T>(fn: (c: pg.Client) => Promise<T>) => withClient(process.env.TEST_SUPERUSER_URL!, fn);
+const urlOf = (db: string) => Object.assign(new URL(source.href), { pathname: `/${db}` }).href;
+
+/** Exact row counts of every table outside PostgreSQL's own schemas. */
+async function rowCounts(db: string): Promise<Record<string, number>> {
+  return withClient(urlOf(db), async (c) => {
+    const tables = await c.query<{ name: string }>(`
+      SELECT format('%I.%I', n.nspname, c.relname) AS name FROM pg_class c JOIN pg_namespace n ON n.oid = c.relnamespace
+       WHERE c.relkind IN ('r', 'p') AND n.nspname NOT IN ('pg_catalog', 'information_schema') AND n.nspname NOT LIKE 'pg\\_toast%' ORDER BY 1`);
+    const counts: Record<string, number> = {};
+    for (const { name } of tables.rows) counts[name] = Number((await c.query(`SELECT count(*) AS n FROM ${name}`)).rows[0].n);
+    return counts;
+  });
+}
+
+const dropRestored = () => superuser((c) => c.query(`DROP DATABASE IF EXISTS ${pg.escapeIdentifier(restoredDb)} WITH (FORCE)`));
+let dumpFile: string | undefined;
+
+beforeAll(dropRestored);
+afterAll(async () => {
+  await dropRestored();
+  if (dumpFile) fs.rmSync(dumpFile, { force: true });
+  await closeTestDb();
+});
+
+describe('backup and restore', () => {
+  it('round trip: every table has the same row count after restoring into a new database', async () => {
+    const before = await rowCounts(sourceDb);
+    const backup = run('backup');
+    expect(backup.status, backup.out).toBe(0);
+    const after = await rowCounts(sourceDb);
+    const m = /Wrote (\S+beamwarden-\d{8}T\d{6}Z\.dump)/.exec(backup.out);
+    expect(m, backup.out).not.toBeNull();
+    dumpFile = path.resolve(m![1]!);
+    expect(path.dirname(dumpFile)).toBe(path.join(path.resolve(process.env.TEST_DATA_DIR!), 'backups'));
+    expect(fs.statSync(dumpFile).mode & 0o077).toBe(0); // readable by its owner only: it holds password hashes
+    expect(fs.readFileSync(dumpFile).subarray(0, 5).toString()).toBe('PGDMP'); // pg_dump's custom format
+
+    const restore = run('restore', [dumpFile, '--database', restoredDb]);
+    expect(restore.status, restore.out).toBe(0);
+    expect(restore.out).toContain(`Created the empty database ${restoredDb}`);
+
+    const restored = await rowCounts(restoredDb);
+    expect(Object.keys(restored).sort()).toEqual(Object.keys(before).sort());
+    expect(Object.keys(restored)).toContain('public.audit_log');
+    expect(restored['public.people']).toBeGreaterThanOrEqual(6);
+    // tables that nothing wrote to while the dump ran must match exactly; the app's own tables all qualify
+    const steady = Object.keys(before).filter((t) => before[t] === after[t]);
+    expect(steady.filter((t) => t.startsWith('public.')).sort()).toEqual(Object.keys(before).filter((t) => t.startsWith('public.')).sort());
+    for (const t of steady) expect(restored[t], t).toBe(before[t]);
+
+    // the restored audit log is still append-only (its trigger came along)
+    await withClient(urlOf(restoredDb), async (c) => {
+      await expect(c.query('DELETE FROM audit_log')).rejects.toThrow(/append-only/);
+    });
+  });
+
+  it('refuses to restore into a database that holds tables, and changes nothing there', async () => {
+    expect(dumpFile).toBeDefined();
+    const before = await rowCounts(sourceDb);
+    const r = run('restore', [dumpFile!]);
+    expect(r.status).toBe(1);
+    expect(r.out).toMatch(new RegExp(`The database ${sourceDb} already holds \\d+ table`));
+    expect(r.out).toContain('--database');
+    expect(await rowCounts(sourceDb)).toEqual(before);
+  });
+
+  it('refuses a file that is not a backup, and a missing file', async () => {
+    const bogus = path.join(process.env.TEST_DATA_DIR!, 'not-a-backup.dump');
+    fs.writeFileSync(bogus, 'hello');
+    try {
+      const r = run('restore', [bogus, '--database', `${restoredDb}_x`]);
+      expect(r.status).toBe(1);
+      expect(r.out).toContain('is not a backup made by `npm run backup`');
+    } finally {
+      fs.rmSync(bogus, { force: true });
+    }
+    const missing = run('restore', ['no-such-file.dump']);
+    expect(missing.status).toBe(1);
+    expect(missing.out).toContain('does not exist');
+    const none = run('restore');
+    expect(none.status).toBe(1);
+    expect(none.out).toContain('Usage: npm run restore FILE');
+  });
+});
