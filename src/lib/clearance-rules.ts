@@ -179,7 +179,7 @@ export function nextStep(state: ClearanceState | 'none', c: NextStepContext): st
         ? `Your clearance has lapsed. ${quiz.replace('quiz', 'refresher quiz')} to be cleared again.`
         : `Your clearance has lapsed. ${quiz.replace('quiz', 'refresher quiz')}, then book a new practical sign-off with an instructor.`;
     case 'suspended':
-      return 'Your clearance is suspended. Talk to an instructor or the laser safety officer about reinstating it.';
+      return 'Your clearance is suspended. Ask an instructor or the laser safety officer about reinstating it.';
   }
 }
 

@@ -318,7 +318,7 @@ export async function suspend(instructorId: string, clearanceId: string, reason:
       greeting: `Kia ora ${person.name},`,
       paragraphs: [
         `An instructor suspended your ${g.name} clearance. The reason given: “${reason}”.`,
-        'Until it is reinstated you cannot book or run these machines. Talk to an instructor or the laser safety officer about what is needed.',
+        'Until it is reinstated you cannot book or run these machines. Ask an instructor or the laser safety officer what is needed.',
       ],
       action: { label: 'See your clearances', url: link('/clearances') },
     });

@@ -160,7 +160,7 @@ function refuseState(state: ClearanceState): never {
   const why: Partial<Record<ClearanceState, string>> = {
     'awaiting sign-off': 'You have already passed this quiz; the next step is a practical sign-off with an instructor.',
     cleared: 'You are already cleared on these machines; the quiz is taken again when the clearance lapses.',
-    suspended: 'Your clearance is suspended; talk to an instructor about reinstating it.',
+    suspended: 'Your clearance is suspended; ask an instructor about reinstating it.',
   };
   throw new HttpError(409, 'quiz_not_needed', why[state] ?? 'This quiz is not open to you now.');
 }
