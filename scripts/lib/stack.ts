@@ -415,8 +415,18 @@ export function startPaymentsFake(cfg: Pick<StackConfig, 'dataDir' | 'stripePort
   });
 }
 
+/** The mail fake's command line (node arguments), shared by startFakes and the tests that stop and restart it. */
+export function maildevArgs(cfg: Pick<StackConfig, 'dataDir' | 'smtpPort' | 'mailWebPort'>): string[] {
+  return [
+    path.join(ROOT, 'node_modules', 'maildev/dist/bin/maildev.js'),
+    '--ip', HOST, '--smtp', String(cfg.smtpPort),
+    '--web-ip', HOST, '--web', String(cfg.mailWebPort),
+    '--mail-directory', path.join(cfg.dataDir, 'mail'),
+    '--silent',
+  ];
+}
+
 export async function startFakes(cfg: StackConfig): Promise<void> {
-  const bin = (p: string) => path.join(ROOT, 'node_modules', p);
   for (const [name, p] of [['maildev', cfg.smtpPort], ['maildev-web', cfg.mailWebPort], ['payments', cfg.stripePort], ['storage', cfg.s3Port]] as const) {
     stopLeftover(cfg, name);
     await new Promise((r) => setTimeout(r, 50));
@@ -428,13 +438,7 @@ export async function startFakes(cfg: StackConfig): Promise<void> {
   fs.mkdirSync(mailDir, { recursive: true });
   fs.mkdirSync(s3Dir, { recursive: true });
 
-  const mail = spawnService(cfg, 'maildev', [
-    bin('maildev/dist/bin/maildev.js'),
-    '--ip', HOST, '--smtp', String(cfg.smtpPort),
-    '--web-ip', HOST, '--web', String(cfg.mailWebPort),
-    '--mail-directory', mailDir,
-    '--silent',
-  ]);
+  const mail = spawnService(cfg, 'maildev', maildevArgs(cfg));
   const tsx = ['--import', 'tsx'];
   const payments = startPaymentsFake(cfg);
   const storage = spawnService(cfg, 'storage', [...tsx, path.join(ROOT, 'scripts/services/s3-fake.ts')], {
@@ -473,6 +477,33 @@ export function appEnv(cfg: StackConfig, secrets: Secrets, extra: Record<string,
   };
 }
 
+/**
+ * A service a test stopped and started again (e.g. maildev) records its new PID in the same PID
+ * file; when our own child has exited, that replacement is ours to stop.
+ */
+function stopReplacement(s: Service): void {
+  let pid = 0;
+  try {
+    pid = Number(fs.readFileSync(s.pidFile, 'utf8').trim());
+  } catch {
+    return;
+  }
+  if (!Number.isInteger(pid) || pid <= 1 || pid === s.child.pid || !alive(pid)) return;
+  let cmdline = '';
+  try {
+    cmdline = fs.readFileSync(`/proc/${pid}/cmdline`, 'utf8');
+  } catch {
+    return;
+  }
+  if (cmdline.includes(ROOT)) {
+    try {
+      process.kill(pid, 'SIGTERM');
+    } catch {
+      /* gone */
+    }
+  }
+}
+
 /** Stops every child this process started, newest first, by PID; then waits for them to exit. */
 export async function stopServices(): Promise<void> {
   const list = running.splice(0).reverse();
@@ -481,6 +512,7 @@ export async function stopServices(): Promise<void> {
       (s) =>
         new Promise<void>((resolve) => {
           if (s.child.exitCode !== null || s.child.signalCode !== null) {
+            stopReplacement(s);
             fs.rmSync(s.pidFile, { force: true });
             resolve();
             return;

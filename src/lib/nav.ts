@@ -25,6 +25,10 @@ export const NAV: NavItem[] = [
   { label: 'Pricing', href: '/admin/pricing', roles: ['admin'], group: 'admin' },
   { label: 'Book', href: '/book', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
   { label: 'Machines', href: '/admin/machines', roles: ['admin'], group: 'admin' },
+  { label: 'Clearances', href: '/clearances', roles: ['member', 'instructor', 'steward'], group: 'everyone' },
+  { label: 'Quizzes', href: '/quizzes', roles: ['instructor'], group: 'teaching' },
+  { label: 'Sign-offs', href: '/signoffs', roles: ['instructor'], group: 'teaching' },
+  { label: 'Machine groups', href: '/admin/machine-groups', roles: ['admin', 'instructor'], group: 'admin' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {

@@ -115,3 +115,11 @@ export function requireRole(locals: App.Locals, ...roles: Role[]): SignedInPerso
   }
   return person;
 }
+
+const UUID_RE = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** A route's id parameter: a malformed id is simply not found (404), never a database error. */
+export function idParam(value: string | undefined, what = 'record'): string {
+  if (!value || !UUID_RE.test(value)) throw new HttpError(404, 'not_found', `No such ${what}.`);
+  return value.toLowerCase();
+}

@@ -13,6 +13,7 @@ export const QUEUES = {
   // a charge the payment provider could not take yet: retried every 5 s for an hour with the same idempotency key
   'payments.retry': { retryLimit: 720, retryDelay: 5, retryBackoff: false, expireInSeconds: 120 },
   'booking.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 120 },
+  'clearances.sweep': { retryLimit: 3, retryDelay: 30, expireInSeconds: 600 },
 } as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
 
 export type QueueName = keyof typeof QUEUES;

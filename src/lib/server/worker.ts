@@ -8,6 +8,8 @@ import { installQueues, type QueueName } from './jobs';
 import { sendMailNow, type MailMessage } from './mail';
 import { retryQueuedCharge } from './payments';
 import { sweepBookings } from './bookings';
+import { sweepClearances } from './clearances';
+import { db } from './db';
 
 type Handler = (data: unknown) => Promise<void>;
 
@@ -19,10 +21,23 @@ const handlers: Record<QueueName, Handler> = {
     const r = await sweepBookings();
     if (r.noShows || r.expiredHolds) console.log(`booking.sweep: ${r.noShows} no-show(s), ${r.expiredHolds} expired hold(s)`);
   },
+  // lapses at expiry and "lapsing in 14 days" warnings (canOperate also computes lapse from the expiry itself)
+  'clearances.sweep': async () => {
+    const r = await sweepClearances(new Date());
+    if (r.lapsed || r.warned) console.log(`worker: clearances lapsed ${r.lapsed}, warned ${r.warned}`);
+  },
 };
 
-/** Cron schedules (UTC; pg-boss checks them about every 30 seconds). */
-const schedules: { name: QueueName; cron: string }[] = [{ name: 'booking.sweep', cron: '* * * * *' }];
+/** Scheduled jobs (pg-boss checks them about every 30 seconds). */
+async function schedules(boss: PgBoss): Promise<void> {
+  const row = await db()('site_settings').where({ id: 1 }).first('time_zone');
+  const tz = (row?.time_zone as string | undefined) ?? 'UTC';
+  // every minute: no-shows and waitlist holds
+  await boss.schedule('booking.sweep', '* * * * *');
+  // every five minutes in the site's zone, and at start-up, so a lapse is written within minutes of its instant
+  await boss.schedule('clearances.sweep', '*/5 * * * *', {}, { tz });
+  await boss.send('clearances.sweep', {});
+}
 
 export async function startWorker(): Promise<PgBoss> {
   const boss = await installQueues(env().DATABASE_URL);
@@ -31,6 +46,6 @@ export async function startWorker(): Promise<PgBoss> {
       for (const job of batch) await handle(job.data);
     });
   }
-  for (const s of schedules) await boss.schedule(s.name, s.cron);
+  await schedules(boss);
   return boss;
 }

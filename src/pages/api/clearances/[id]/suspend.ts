@@ -1,0 +1,13 @@
+import { z } from 'zod';
+import { idParam, json, readJson, requireRole, route } from '../../../../lib/server/http';
+import { suspend } from '../../../../lib/server/clearances';
+
+const body = z.object({ reason: z.string().trim().min(3, 'Give the reason (at least 3 characters).').max(500, 'Use at most 500 characters.') }).strict();
+
+/** POST /api/clearances/:id/suspend (instructor) { reason } → the clearance is suspended (audited, e-mailed). */
+export const POST = route(async ({ locals, params, request }) => {
+  const person = requireRole(locals, 'instructor');
+  const id = idParam(params.id, 'clearance');
+  const input = await readJson(request, body);
+  return json(await suspend(person.id, id, input.reason));
+});

@@ -1,0 +1,171 @@
+/**
+ * Journey: an instructor publishes a new version of the RF laser quiz → a new member fails once, then
+ * passes → the instructor signs off the practical induction → the member's Clearances screen shows
+ * `cleared` → the e-mails (quiz passed, cleared) arrive in maildev, read through its REST API.
+ */
+import type { Browser, Page } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { closeTestDb, testDb } from '../support/db';
+import { to, waitForMail } from '../support/maildev';
+import type { QuizQuestion } from '../../src/lib/quiz-rules';
+
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launch();
+});
+afterAll(async () => {
+  await browser?.close();
+  await closeTestDb();
+});
+
+const stamp = Date.now().toString(36);
+const member = { name: `Kiri Journey ${stamp}`, email: `journey-${stamp}@tidewater.example`, password: 'a long passphrase for the laser room' };
+const NEW_PROMPT = `Before you leave the laser room after a job (${stamp}), what do you check?`;
+
+async function publishedRfBank(): Promise<QuizQuestion[]> {
+  const row = await testDb()('quiz_versions as v')
+    .join('quizzes as z', 'z.id', 'v.quiz_id')
+    .join('machine_groups as g', 'g.id', 'z.group_id')
+    .where({ 'g.code': 'rf-laser', 'v.status': 'published' })
+    .first('v.questions', 'v.version');
+  return row.questions;
+}
+
+/** Answers every question on the page, rightly or wrongly, by the option texts of the bank. */
+async function answerAll(page: Page, bank: QuizQuestion[], right: boolean): Promise<number> {
+  const sets = page.locator('fieldset[data-question]');
+  const n = await sets.count();
+  for (let i = 0; i < n; i++) {
+    const set = sets.nth(i);
+    const id = await set.getAttribute('data-question');
+    const q = bank.find((b) => b.id === id)!;
+    const pick = right ? q.correct : [q.options.find((o) => !q.correct.includes(o.id))!.id];
+    for (const oid of pick) await set.getByLabel(q.options.find((o) => o.id === oid)!.text, { exact: true }).check();
+  }
+  return n;
+}
+
+describe('clearance journey', () => {
+  it('instructor publishes, member fails then passes, instructor signs off, member is cleared, mail arrives', { timeout: 150_000 }, async () => {
+    // 1. the instructor adds a question to the RF laser quiz, previews it and publishes version 2
+    const ictx = await newContext(browser);
+    const ipage = await ictx.newPage();
+    ipage.setDefaultTimeout(15_000);
+    const ierrors = watchErrors(ipage);
+    await signIn(ipage, 'instructor');
+    await ipage.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Quizzes', exact: true }).click();
+    await ipage.getByRole('button', { name: 'Edit RF laser: safe operation' }).click();
+    await expect.poll(() => ipage.getByLabel('Title', { exact: true }).inputValue()).toBe('RF laser: safe operation');
+    const before = (await publishedRfBank()).length;
+    await ipage.getByLabel('Wait after a missed attempt (minutes)').fill('0');
+    await ipage.getByRole('button', { name: 'Add a question' }).click();
+    const n = before + 1;
+    await ipage.getByLabel(`Question ${n} topic`, { exact: true }).fill('Leaving the room');
+    await ipage.getByLabel(`Question ${n} text`, { exact: true }).fill(NEW_PROMPT);
+    await ipage.getByLabel(`Question ${n} option 1`, { exact: true }).fill('The extractor has cleared the fumes and nothing on the bed is smouldering');
+    await ipage.getByLabel(`Question ${n} option 2`, { exact: true }).fill('Nothing: the machine switches itself off');
+    await ipage.getByLabel(`Question ${n} option 1 is correct`, { exact: true }).check();
+    await ipage.getByRole('tab', { name: 'Preview' }).click();
+    await expect.poll(() => ipage.getByRole('region', { name: 'Preview' }).innerText()).toContain(NEW_PROMPT);
+    await shot(ipage, 'quizzes-preview-desk');
+    await ipage.getByRole('tab', { name: 'Edit' }).click();
+    await ipage.getByRole('button', { name: 'Save and publish' }).click();
+    await expect.poll(() => ipage.getByRole('status').first().innerText().catch(() => '')).toMatch(/Published version 2/);
+    await shot(ipage, 'quizzes-list-desk');
+    const bank = await publishedRfBank();
+    expect(bank).toHaveLength(n);
+    expect(bank.some((q) => q.prompt === NEW_PROMPT)).toBe(true);
+
+    // 2. a new member signs up, fails the quiz once, then passes it
+    const mctx = await newContext(browser, PHONE);
+    const mpage = await mctx.newPage();
+    mpage.setDefaultTimeout(15_000);
+    const merrors = watchErrors(mpage);
+    await mpage.goto('/signup');
+    await mpage.getByLabel('Your name').fill(member.name);
+    await mpage.getByLabel('E-mail').fill(member.email);
+    await mpage.getByLabel('Password').fill(member.password);
+    await Promise.all([mpage.waitForURL(/\/\?welcome=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    await mpage.goto('/clearances');
+    const rfCard = mpage.locator('li[data-group="RF laser"]');
+    await expect(rfCard.locator('[data-state]').getAttribute('data-state')).resolves.toBe('quiz due');
+    await shot(mpage, 'clearances-quiz-due-phone');
+    await rfCard.getByRole('link', { name: 'Take the quiz' }).click();
+    await mpage.getByRole('button', { name: 'Start the quiz' }).click();
+    await mpage.locator('fieldset[data-question]').first().waitFor();
+    expect(await answerAll(mpage, bank, false)).toBe(10);
+    await shot(mpage, 'quiz-attempt-phone');
+    await mpage.getByRole('button', { name: 'Submit answers' }).click();
+    await expect(mpage.getByRole('heading', { name: 'Not passed this time' }).waitFor()).resolves.toBeUndefined();
+    const missed = await mpage.getByRole('list', { name: 'Missed topics' }).innerText();
+    expect(missed.length).toBeGreaterThan(3);
+    await shot(mpage, 'quiz-failed-phone');
+    await mpage.getByRole('button', { name: 'Try again' }).click();
+    await mpage.locator('fieldset[data-question]').first().waitFor();
+    await answerAll(mpage, bank, true);
+    await mpage.getByRole('button', { name: 'Submit answers' }).click();
+    await mpage.getByRole('heading', { name: 'Passed', exact: true }).waitFor();
+    await expect(mpage.locator('main').innerText()).resolves.toMatch(/book a practical sign-off with an instructor/);
+    await shot(mpage, 'quiz-passed-phone');
+    const attempts = await testDb()('quiz_attempts as a').join('people as p', 'p.id', 'a.person_id').join('quiz_versions as v', 'v.id', 'a.quiz_version_id')
+      .where('p.email', member.email).orderBy('a.started_at').select('a.passed', 'v.version');
+    expect(attempts.map((a) => a.passed)).toEqual([false, true]);
+    expect(attempts.every((a) => a.version === 2)).toBe(true);
+
+    // 3. the instructor signs off the practical induction from the queue
+    await ipage.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Sign-offs', exact: true }).click();
+    const entry = ipage.locator(`li[data-person="${member.email}"]`);
+    await entry.waitFor().catch(async (e) => {
+      await shot(ipage, 'signoffs-queue-failure');
+      throw e;
+    });
+    await entry.getByRole('button', { name: `Sign off ${member.name}` }).click();
+    const boxes = entry.getByRole('checkbox');
+    for (let i = 0; i < (await boxes.count()); i++) await boxes.nth(i).check();
+    await entry.getByLabel('Notes').fill('Showed every step calmly; knew the fire routine.');
+    await shot(ipage, 'signoff-form-desk');
+    await entry.getByRole('button', { name: 'Record the sign-off' }).click();
+    await expect.poll(() => ipage.getByRole('status').first().innerText().catch(() => '')).toMatch(/is cleared \(basic\) on RF laser/);
+    expect(ierrors).toEqual([]);
+
+    // 4. the member's Clearances screen shows cleared
+    await mpage.goto('/clearances');
+    await expect(mpage.locator('li[data-group="RF laser"] [data-state]').getAttribute('data-state')).resolves.toBe('cleared');
+    await expect(mpage.locator('li[data-group="RF laser"]').innerText()).resolves.toMatch(/Valid until/);
+    await shot(mpage, 'clearances-cleared-phone');
+    await mpage.setViewportSize(DESK);
+    await shot(mpage, 'clearances-cleared-desk');
+    expect(merrors).toEqual([]);
+
+    // 5. the e-mails arrived, with HTML and plain-text parts
+    const passed = await waitForMail((m) => to(member.email)(m) && m.subject === 'Quiz passed — book your practical sign-off: RF laser');
+    expect(passed.text).toMatch(/practical sign-off/);
+    expect(passed.html).toMatch(/<html/);
+    const cleared = await waitForMail((m) => to(member.email)(m) && m.subject === 'You are cleared: RF laser');
+    expect(cleared.text).toMatch(/cleared \(basic\) on RF laser until/);
+    await ictx.close();
+    await mctx.close();
+  });
+
+  it('an admin sees the machine groups with their settings; a member is refused the instructor screens', async () => {
+    const actx = await newContext(browser);
+    const apage = await actx.newPage();
+    const errors = watchErrors(apage);
+    await signIn(apage, 'admin');
+    await apage.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Machine groups', exact: true }).click();
+    const glassForm = apage.getByRole('form', { name: 'Glass-tube lasers' });
+    await expect.poll(() => glassForm.getByLabel('Validity (days)').inputValue()).toBe('365');
+    await expect(glassForm.innerText()).resolves.toContain('Laser A, Laser C');
+    await expect(apage.getByRole('form', { name: 'RF laser' }).getByLabel('When it lapses').inputValue()).resolves.toBe('quiz_and_signoff');
+    await shot(apage, 'machine-groups-desk');
+    expect(errors).toEqual([]);
+    await actx.close();
+
+    const mctx = await newContext(browser, PHONE);
+    const mpage = await mctx.newPage();
+    await signIn(mpage, 'member');
+    for (const path of ['/quizzes', '/signoffs', '/admin/machine-groups']) expect((await mpage.goto(path))?.status()).toBe(403);
+    await mctx.close();
+  });
+});

@@ -1,0 +1,61 @@
+/**
+ * A mail server that is down delays a message but never loses it: maildev is stopped, a clearance is
+ * suspended (which queues an e-mail), the worker's send fails and is retried, maildev starts again,
+ * and the message arrives.
+ */
+import { afterAll, describe, expect, it } from 'vitest';
+import { Client, body } from '../support/client';
+import { closeTestDb, testDb } from '../support/db';
+import { portOpen } from '../../scripts/lib/stack';
+import { startMaildev, stopMaildev, to, waitForMail } from '../support/maildev';
+
+const LAPSED = 'lapsed@tidewater.example';
+let stopped = false;
+
+afterAll(async () => {
+  // never leave the rest of the run without its mail fake
+  if (stopped && !(await portOpen(Number(process.env.TEST_SMTP_PORT)))) await startMaildev();
+  await closeTestDb();
+});
+
+describe('mail while maildev is stopped', () => {
+  it('is retried by the worker and delivered once maildev is back', { timeout: 120_000 }, async () => {
+    const instructor = await Client.as('instructor');
+    const person = await testDb()('people').where({ email: LAPSED }).first('id');
+    const clearance = await testDb()('clearances').where({ person_id: person.id }).first('id');
+
+    await stopMaildev();
+    stopped = true;
+    expect(await portOpen(Number(process.env.TEST_SMTP_PORT))).toBe(false);
+
+    const reason = `Mail outage check ${Date.now()}`;
+    const res = await instructor.send('POST', `/api/clearances/${clearance.id}/suspend`, { reason });
+    expect(res.status).toBe(200);
+
+    // the worker tried to send and failed: the job waits for a retry, nothing was lost
+    const until = Date.now() + 30_000;
+    let job: { state: string; retry_count: number } | undefined;
+    for (;;) {
+      job = await testDb()
+        .withSchema('pgboss')
+        .table('job')
+        .where({ name: 'mail.send' })
+        .whereRaw("data->>'to' = ?", [LAPSED])
+        .whereRaw("data->>'text' like ?", [`%${reason}%`])
+        .first('state', 'retry_count');
+      if (job && job.state === 'retry' && job.retry_count >= 1) break;
+      if (Date.now() > until) throw new Error(`the send was not retried (job: ${JSON.stringify(job)})`);
+      await new Promise((r) => setTimeout(r, 500));
+    }
+
+    await startMaildev();
+    stopped = false;
+    const mail = await waitForMail((m) => to(LAPSED)(m) && (m.text ?? '').includes(reason), 90_000);
+    expect(mail.subject).toBe('Your clearance is suspended: Glass-tube lasers');
+    expect(mail.html).toContain(reason);
+
+    // put the demo person back as they were
+    const back = await instructor.send('POST', `/api/clearances/${clearance.id}/reinstate`, { reason: 'Mail outage check finished' });
+    expect((await body(back)).state).toBe('lapsed');
+  });
+});
