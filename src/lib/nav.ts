@@ -29,6 +29,8 @@ export const NAV: NavItem[] = [
   { label: 'Quizzes', href: '/quizzes', roles: ['instructor'], group: 'teaching' },
   { label: 'Sign-offs', href: '/signoffs', roles: ['instructor'], group: 'teaching' },
   { label: 'Machine groups', href: '/admin/machine-groups', roles: ['admin', 'instructor'], group: 'admin' },
+  { label: 'Upkeep', href: '/upkeep', roles: ['steward', 'admin'], group: 'upkeep' },
+  { label: 'QR labels', href: '/admin/labels', roles: ['admin'], group: 'admin' },
 ];
 
 export function navFor(roles: readonly Role[]): NavItem[] {

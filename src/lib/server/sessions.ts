@@ -321,3 +321,34 @@ export async function sweepOpenSessions(now = new Date(), graceMinutes = AUTO_CL
   for (const s of closed) await charge(s, []);
   return { closed: closed.length };
 }
+
+export interface SlotOnMachine {
+  bookingId: string;
+  personId: string;
+  personName: string;
+  kind: string;
+  state: string;
+  startsAt: Date;
+  endsAt: Date;
+  courseName: string | null;
+}
+
+/** What is booked on one machine now and next (active bookings, holds left out), with who booked. */
+export async function machineNowAndNext(machineId: string, now = new Date()): Promise<{ current: SlotOnMachine | null; next: SlotOnMachine | null }> {
+  const rows = (await db()('bookings as b')
+    .join('people as p', 'p.id', 'b.person_id')
+    .where('b.machine_id', machineId)
+    .whereIn('b.state', ['reserved', 'checked in'])
+    .whereNot('b.kind', 'hold')
+    .where('b.ends_at', '>', now)
+    .where('b.starts_at', '<', new Date(now.getTime() + 7 * 86_400_000))
+    .orderBy('b.starts_at')
+    .limit(2)
+    .select('b.id', 'b.person_id', 'p.name', 'b.kind', 'b.state', 'b.starts_at', 'b.ends_at', 'b.course_name')) as {
+    id: string; person_id: string; name: string; kind: string; state: string; starts_at: Date; ends_at: Date; course_name: string | null;
+  }[];
+  const slots = rows.map((r) => ({ bookingId: r.id, personId: r.person_id, personName: r.name, kind: r.kind, state: r.state, startsAt: r.starts_at, endsAt: r.ends_at, courseName: r.course_name }));
+  const current = slots[0] && slots[0].startsAt <= now ? slots[0] : null;
+  const next = current ? (slots[1] ?? null) : (slots[0] ?? null);
+  return { current, next };
+}
