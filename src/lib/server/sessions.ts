@@ -245,8 +245,8 @@ export async function openSessionOn(machineId: string): Promise<(MachineSession 
   return r ? { ...toSession(r as Row), personName: r.person_name, bookingEndsAt: r.booking_ends_at } : null;
 }
 
-/** The person's booking on the machine that is now or starting within the check-in window (reserved or checked in). */
-export async function myCurrentBooking(personId: string, machineId: string, now = new Date()): Promise<BookingRow | null> {
+/** The person's booking on the machine that is now or starts within the hour (reserved or checked in). */
+export async function myCurrentBooking(personId: string, machineId: string, now = new Date()): Promise<{ id: string; state: string; startsAt: Date; endsAt: Date } | null> {
   const r = (await db()('bookings')
     .where({ person_id: personId, machine_id: machineId })
     .whereIn('state', ['reserved', 'checked in'])
@@ -254,7 +254,7 @@ export async function myCurrentBooking(personId: string, machineId: string, now 
     .where('starts_at', '<=', new Date(now.getTime() + 60 * 60_000))
     .orderBy('starts_at')
     .first()) as BookingRow | undefined;
-  return r ?? null;
+  return r ? { id: r.id, state: r.state, startsAt: r.starts_at, endsAt: r.ends_at } : null;
 }
 
 /** Sessions that closed themselves (auto check-out) still waiting for a steward, newest first. */
@@ -348,7 +348,8 @@ export async function machineNowAndNext(machineId: string, now = new Date()): Pr
     id: string; person_id: string; name: string; kind: string; state: string; starts_at: Date; ends_at: Date; course_name: string | null;
   }[];
   const slots = rows.map((r) => ({ bookingId: r.id, personId: r.person_id, personName: r.name, kind: r.kind, state: r.state, startsAt: r.starts_at, endsAt: r.ends_at, courseName: r.course_name }));
-  const current = slots[0] && slots[0].startsAt <= now ? slots[0] : null;
+  // a booking checked in a few minutes early is already the current one
+  const current = slots[0] && (slots[0].startsAt <= now || slots[0].state === 'checked in') ? slots[0] : null;
   const next = current ? (slots[1] ?? null) : (slots[0] ?? null);
   return { current, next };
 }
