@@ -14,6 +14,8 @@ export const QUEUES = {
   'payments.retry': { retryLimit: 720, retryDelay: 5, retryBackoff: false, expireInSeconds: 120 },
   'booking.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 120 },
   'clearances.sweep': { retryLimit: 3, retryDelay: 30, expireInSeconds: 600 },
+  // sessions left open past their booking's end (+ grace): closed and flagged for a steward
+  'sessions.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 300 },
 } as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
 
 export type QueueName = keyof typeof QUEUES;

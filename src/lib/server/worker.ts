@@ -9,6 +9,7 @@ import { sendMailNow, type MailMessage } from './mail';
 import { retryQueuedCharge } from './payments';
 import { sweepBookings } from './bookings';
 import { sweepClearances } from './clearances';
+import { sweepOpenSessions } from './sessions';
 import { db } from './db';
 
 type Handler = (data: unknown) => Promise<void>;
@@ -26,6 +27,11 @@ const handlers: Record<QueueName, Handler> = {
     const r = await sweepClearances(new Date());
     if (r.lapsed || r.warned) console.log(`worker: clearances lapsed ${r.lapsed}, warned ${r.warned}`);
   },
+  // sessions still open 30 minutes after their booking's end: closed, charged to the booking's end, flagged for a steward
+  'sessions.sweep': async () => {
+    const r = await sweepOpenSessions(new Date());
+    if (r.closed) console.log(`sessions.sweep: ${r.closed} session(s) closed and flagged for a steward`);
+  },
 };
 
 /** Scheduled jobs (pg-boss checks them about every 30 seconds). */
@@ -34,6 +40,8 @@ async function schedules(boss: PgBoss): Promise<void> {
   const tz = (row?.time_zone as string | undefined) ?? 'UTC';
   // every minute: no-shows and waitlist holds
   await boss.schedule('booking.sweep', '* * * * *');
+  // every minute: open sessions past their booking's end
+  await boss.schedule('sessions.sweep', '* * * * *');
   // every five minutes in the site's zone, and at start-up, so a lapse is written within minutes of its instant
   await boss.schedule('clearances.sweep', '*/5 * * * *', {}, { tz });
   await boss.send('clearances.sweep', {});

@@ -1,0 +1,219 @@
+/**
+ * Upkeep: the log per machine, per-machine intervals (admin), tube hours and the due list (forecast from
+ * the last 30 days' beam time by the pure module src/lib/upkeep-forecast.ts). All SQL of this area.
+ */
+import type { Knex } from 'knex';
+import { db, transaction } from './db';
+import { recordAudit } from './audit';
+import { HttpError } from './http';
+import {
+  byUrgency,
+  defaultIntervals,
+  forecast,
+  tubeHours,
+  UPKEEP_KINDS,
+  UPKEEP_LABELS,
+  type Forecast,
+  type UpkeepInterval,
+  type UpkeepKind,
+} from '../upkeep-forecast';
+
+type Conn = Knex | Knex.Transaction;
+
+export const RECENT_WINDOW_DAYS = 30;
+
+export interface UpkeepEntry {
+  id: string;
+  machineId: string;
+  machineName: string;
+  kind: UpkeepKind;
+  performedBy: string;
+  performedByName: string;
+  performedAt: Date;
+  notes: string;
+  tubeModel: string | null;
+  tubeRatedHours: number | null;
+}
+
+type EntryRow = {
+  id: string; machine_id: string; machine_name: string; kind: UpkeepKind; performed_by: string; performer_name: string;
+  performed_at: Date; notes: string; tube_model: string | null; tube_rated_hours: number | null;
+};
+
+function toEntry(r: EntryRow): UpkeepEntry {
+  return {
+    id: r.id, machineId: r.machine_id, machineName: r.machine_name, kind: r.kind, performedBy: r.performed_by,
+    performedByName: r.performer_name, performedAt: r.performed_at, notes: r.notes, tubeModel: r.tube_model, tubeRatedHours: r.tube_rated_hours,
+  };
+}
+
+type MachineRow = { id: string; name: string; code: string; tube_type: 'dc_glass' | 'rf_metal'; coolant_type: 'water' | 'air'; created_at: Date };
+
+async function machineRow(machineId: string, trx: Conn = db()): Promise<MachineRow> {
+  const m = (await trx('machines').where({ id: machineId }).whereNull('retired_at').first('id', 'name', 'code', 'tube_type', 'coolant_type', 'created_at')) as MachineRow | undefined;
+  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  return m;
+}
+
+/** The upkeep log, newest first (one machine, or all). */
+export async function listUpkeep(filter: { machineId?: string; limit?: number } = {}): Promise<UpkeepEntry[]> {
+  const q = db()('upkeep_entries as u')
+    .join('machines as m', 'm.id', 'u.machine_id')
+    .join('people as p', 'p.id', 'u.performed_by')
+    .orderBy('u.performed_at', 'desc')
+    .limit(filter.limit ?? 100)
+    .select('u.*', 'm.name as machine_name', 'p.name as performer_name');
+  if (filter.machineId) q.where('u.machine_id', filter.machineId);
+  return ((await q) as EntryRow[]).map(toEntry);
+}
+
+export interface UpkeepInput {
+  kind: UpkeepKind;
+  performedAt?: Date;
+  notes: string;
+  tubeModel?: string | null;
+  tubeRatedHours?: number | null;
+}
+
+/** Logs upkeep done on a machine (steward, admin), audited in the same transaction. */
+export async function logUpkeep(actorId: string, machineId: string, input: UpkeepInput, now = new Date()): Promise<UpkeepEntry> {
+  const at = input.performedAt ?? now;
+  if (at.getTime() > now.getTime() + 5 * 60_000) throw new HttpError(422, 'invalid', 'Log upkeep when it is done, not ahead of time.', { performedAt: 'Use a time that has passed.' });
+  if (input.kind !== 'tube_replacement' && (input.tubeModel || input.tubeRatedHours)) {
+    throw new HttpError(422, 'invalid', 'Tube type and rated life belong to a tube replacement.', { tubeModel: 'Only for a tube replacement.' });
+  }
+  if (input.kind === 'tube_replacement' && !input.tubeRatedHours) {
+    throw new HttpError(422, 'invalid', 'Record the new tube\'s rated life (hours, from its data sheet).', { tubeRatedHours: 'Enter the rated life in hours.' });
+  }
+  return transaction(async (trx) => {
+    const m = await machineRow(machineId, trx);
+    const [row] = await trx('upkeep_entries')
+      .insert({
+        machine_id: m.id, kind: input.kind, performed_by: actorId, performed_at: at, notes: input.notes,
+        tube_model: input.tubeModel ?? null, tube_rated_hours: input.tubeRatedHours ?? null,
+      })
+      .returning('id');
+    await recordAudit(trx, {
+      actorId,
+      kind: 'upkeep.logged',
+      subjectType: 'machine',
+      subjectId: m.id,
+      summary: `${UPKEEP_LABELS[input.kind]} logged on ${m.name}`,
+      after: { entryId: row.id, kind: input.kind, performedAt: at.toISOString(), notes: input.notes, tubeModel: input.tubeModel ?? null, tubeRatedHours: input.tubeRatedHours ?? null },
+    });
+    const e = await trx('upkeep_entries as u')
+      .join('machines as m', 'm.id', 'u.machine_id')
+      .join('people as p', 'p.id', 'u.performed_by')
+      .where('u.id', row.id)
+      .first('u.*', 'm.name as machine_name', 'p.name as performer_name');
+    return toEntry(e as EntryRow);
+  });
+}
+
+/** A machine's intervals: the admin's where set, else the common-practice defaults. */
+export async function intervalsFor(machineId: string, trx: Conn = db()): Promise<Record<UpkeepKind, UpkeepInterval & { custom: boolean }>> {
+  const m = await machineRow(machineId, trx);
+  const defaults = defaultIntervals(m.tube_type, m.coolant_type);
+  const rows = (await trx('upkeep_intervals').where({ machine_id: machineId })) as { kind: UpkeepKind; beam_hours: string | null; days: number | null }[];
+  const out = {} as Record<UpkeepKind, UpkeepInterval & { custom: boolean }>;
+  for (const k of UPKEEP_KINDS) {
+    const r = rows.find((x) => x.kind === k);
+    out[k] = r ? { beamHours: r.beam_hours === null ? null : Number(r.beam_hours), days: r.days, custom: true } : { ...defaults[k], custom: false };
+  }
+  return out;
+}
+
+/** Sets one interval of a machine (admin), audited. */
+export async function setUpkeepInterval(actorId: string, machineId: string, kind: UpkeepKind, interval: UpkeepInterval): Promise<UpkeepInterval> {
+  return transaction(async (trx) => {
+    const m = await machineRow(machineId, trx);
+    const before = (await intervalsFor(machineId, trx))[kind];
+    await trx('upkeep_intervals')
+      .insert({ machine_id: machineId, kind, beam_hours: interval.beamHours, days: interval.days, updated_by: actorId, updated_at: trx.fn.now() })
+      .onConflict(['machine_id', 'kind'])
+      .merge(['beam_hours', 'days', 'updated_by', 'updated_at']);
+    await recordAudit(trx, {
+      actorId,
+      kind: 'upkeep.interval_changed',
+      subjectType: 'machine',
+      subjectId: m.id,
+      summary: `${UPKEEP_LABELS[kind]} interval on ${m.name} changed`,
+      before: { beamHours: before.beamHours, days: before.days },
+      after: interval,
+    });
+    return interval;
+  });
+}
+
+export interface DueItem {
+  kind: UpkeepKind;
+  label: string;
+  interval: UpkeepInterval & { custom: boolean };
+  lastDoneAt: Date | null;
+  beamHoursSince: number;
+  forecast: Forecast;
+}
+
+export interface UpkeepStatus {
+  machineId: string;
+  machineName: string;
+  machineCode: string;
+  tubeHours: number;
+  tubeRatedHours: number;
+  tubeFittedAt: Date | null;
+  hoursPerDay: number;
+  due: DueItem[];
+}
+
+async function beamMinutesBetween(trx: Conn, machineId: string, from: Date | null, to: Date): Promise<number> {
+  const q = trx('machine_sessions').where({ machine_id: machineId }).whereNotNull('checked_out_at').where('checked_in_at', '<', to);
+  if (from) q.where('checked_in_at', '>=', from);
+  const r = await q.first(trx.raw('coalesce(sum(beam_minutes), 0)::int as minutes'));
+  return Number((r as { minutes?: number } | undefined)?.minutes ?? 0);
+}
+
+/** Tube hours, the rate of use and the due list of one machine at `now`. */
+export async function upkeepStatus(machineId: string, now = new Date(), trx: Conn = db()): Promise<UpkeepStatus> {
+  const m = await machineRow(machineId, trx);
+  const intervals = await intervalsFor(machineId, trx);
+  const last = (await trx('upkeep_entries')
+    .where({ machine_id: machineId })
+    .where('performed_at', '<=', now)
+    .distinctOn('kind')
+    .orderBy([{ column: 'kind' }, { column: 'performed_at', order: 'desc' }])
+    .select('kind', 'performed_at', 'tube_rated_hours')) as { kind: UpkeepKind; performed_at: Date; tube_rated_hours: number | null }[];
+  const recent = await beamMinutesBetween(trx, machineId, new Date(now.getTime() - RECENT_WINDOW_DAYS * 86_400_000), now);
+  const tube = last.find((l) => l.kind === 'tube_replacement');
+  const tubeMinutes = await beamMinutesBetween(trx, machineId, tube?.performed_at ?? null, now);
+  const rated = tube?.tube_rated_hours ?? intervals.tube_replacement.beamHours ?? defaultIntervals(m.tube_type, m.coolant_type).tube_replacement.beamHours!;
+  const due: DueItem[] = [];
+  for (const kind of UPKEEP_KINDS) {
+    const done = last.find((l) => l.kind === kind);
+    const since = kind === 'tube_replacement' ? tubeMinutes : await beamMinutesBetween(trx, machineId, done?.performed_at ?? null, now);
+    const interval = kind === 'tube_replacement' && tube?.tube_rated_hours ? { ...intervals[kind], beamHours: tube.tube_rated_hours } : intervals[kind];
+    const f = forecast({ interval, lastDoneAt: done?.performed_at ?? null, since: m.created_at, beamMinutesSince: since, recentBeamMinutes: recent, windowDays: RECENT_WINDOW_DAYS, now });
+    due.push({ kind, label: UPKEEP_LABELS[kind], interval, lastDoneAt: done?.performed_at ?? null, beamHoursSince: Math.round((since / 60) * 10) / 10, forecast: f });
+  }
+  return {
+    machineId: m.id, machineName: m.name, machineCode: m.code, tubeHours: tubeHours(tubeMinutes), tubeRatedHours: rated,
+    tubeFittedAt: tube?.performed_at ?? null, hoursPerDay: Math.round((recent / 60 / RECENT_WINDOW_DAYS) * 100) / 100, due: byUrgency(due),
+  };
+}
+
+/** Upkeep status of every machine in use. */
+export async function upkeepOverview(now = new Date()): Promise<UpkeepStatus[]> {
+  const ids = (await db()('machines').whereNull('retired_at').orderBy('name').pluck('id')) as string[];
+  const out: UpkeepStatus[] = [];
+  for (const id of ids) out.push(await upkeepStatus(id, now));
+  return out;
+}
+
+/** Overdue upkeep labels per machine id (for the Floor and the machine page). */
+export async function overdueByMachine(now = new Date()): Promise<Map<string, string[]>> {
+  const map = new Map<string, string[]>();
+  for (const s of await upkeepOverview(now)) {
+    const over = s.due.filter((d) => d.forecast.state === 'overdue').map((d) => d.label);
+    if (over.length) map.set(s.machineId, over);
+  }
+  return map;
+}
