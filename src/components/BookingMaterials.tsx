@@ -77,7 +77,7 @@ export default function BookingMaterials(p: {
   }, [sig]);
 
   return (
-    <fieldset className="space-y-3 rounded-lg border border-line p-3" aria-label="Materials">
+    <fieldset className="min-w-0 space-y-3 rounded-lg border border-line p-3" aria-label="Materials">
       <legend className="px-1 font-semibold">Materials</legend>
       <p className="hint">Declare what goes in the machine. PVC, vinyl and other chlorine-bearing plastics never go in a laser.</p>
       {catalogue.isError && <p className="notice notice-warn text-sm">The material list could not be loaded; the booking still checks your materials.</p>}
@@ -86,26 +86,26 @@ export default function BookingMaterials(p: {
         const v = verdicts[r.key];
         const rt = m ? RULE_TEXT[m.rule] : null;
         return (
-          <div key={r.key} className="space-y-2 rounded-md bg-paper-deep/40 p-2" data-material-row={i}>
-            <div className="grid gap-2 sm:grid-cols-[1fr_7rem_8rem_auto] sm:items-end">
-              <label className="field">
+          <div key={r.key} className="min-w-0 space-y-2 rounded-md bg-paper-deep/40 p-2" data-material-row={i}>
+            <div className="grid min-w-0 grid-cols-2 gap-2 sm:grid-cols-[minmax(0,1fr)_7rem_8rem_auto] sm:items-end">
+              <label className="field col-span-2 min-w-0 sm:col-span-1">
                 <span>Material</span>
-                <select className="input" value={r.materialId} onChange={(e) => set(r.key, { materialId: e.target.value })} aria-label={`Material ${i + 1}`}>
+                <select className="input w-full min-w-0" value={r.materialId} onChange={(e) => set(r.key, { materialId: e.target.value })} aria-label={`Material ${i + 1}`}>
                   <option value="">Choose a material…</option>
                   {list.map((x) => <option key={x.id} value={x.id}>{x.name}{x.rule === 'blocked' ? ' (blocked)' : x.rule === 'limited' ? ' (limited)' : ''}</option>)}
                 </select>
               </label>
-              <label className="field">
+              <label className="field min-w-0">
                 <span>Thickness (mm)</span>
-                <input className="input" type="number" inputMode="decimal" min="0.1" max="100" step="0.1" value={r.thicknessMm} onChange={(e) => set(r.key, { thicknessMm: e.target.value })} aria-label={`Thickness ${i + 1} in mm`} />
+                <input className="input w-full min-w-0" type="number" inputMode="decimal" min="0.1" max="100" step="0.1" value={r.thicknessMm} onChange={(e) => set(r.key, { thicknessMm: e.target.value })} aria-label={`Thickness ${i + 1} in mm`} />
               </label>
-              <label className="field">
+              <label className="field min-w-0">
                 <span>Mode</span>
-                <select className="input" value={r.mode} onChange={(e) => set(r.key, { mode: e.target.value as MaterialMode })} aria-label={`Mode ${i + 1}`}>
+                <select className="input w-full min-w-0" value={r.mode} onChange={(e) => set(r.key, { mode: e.target.value as MaterialMode })} aria-label={`Mode ${i + 1}`}>
                   {MATERIAL_MODES.map((x) => <option key={x} value={x}>{x}</option>)}
                 </select>
               </label>
-              <button type="button" className="btn btn-quiet" onClick={() => p.onChange(p.rows.filter((x) => x.key !== r.key))} aria-label={`Remove material ${i + 1}`}>Remove</button>
+              <button type="button" className="btn btn-quiet col-span-2 sm:col-span-1" onClick={() => p.onChange(p.rows.filter((x) => x.key !== r.key))} aria-label={`Remove material ${i + 1}`}>Remove</button>
             </div>
             {m && rt && (
               <div className="text-sm" data-testid="material-verdict" aria-live="polite">
