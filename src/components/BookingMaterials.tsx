@@ -87,7 +87,7 @@ export default function BookingMaterials(p: {
         const rt = m ? RULE_TEXT[m.rule] : null;
         return (
           <div key={r.key} className="min-w-0 space-y-2 rounded-md bg-paper-deep/40 p-2" data-material-row={i}>
-            <div className="grid min-w-0 grid-cols-2 gap-2 sm:grid-cols-[minmax(0,1fr)_7rem_8rem_auto] sm:items-end">
+            <div className="grid min-w-0 grid-cols-2 gap-2 sm:grid-cols-[minmax(0,1fr)_8rem_8rem_auto] sm:items-end">
               <label className="field col-span-2 min-w-0 sm:col-span-1">
                 <span>Material</span>
                 <select className="input w-full min-w-0" value={r.materialId} onChange={(e) => set(r.key, { materialId: e.target.value })} aria-label={`Material ${i + 1}`}>
@@ -109,7 +109,7 @@ export default function BookingMaterials(p: {
             </div>
             {m && rt && (
               <div className="text-sm" data-testid="material-verdict" aria-live="polite">
-                <p><span className={`status status-${rt.tone}`}>{rt.icon} {rt.label}</span> {m.reason}</p>
+                <p><span className={`status status-${rt.tone}`}>{rt.icon} {rt.label}</span> {v?.state === 'refused' ? null : m.reason}</p>
                 {v?.state === 'checking' && <p className="hint mt-1">Checking this machine’s rules…</p>}
                 {v?.state === 'ok' && <p className="mt-1 text-[var(--color-ok)]">✓ Fine on this machine as {r.mode} at {r.thicknessMm} mm.</p>}
                 {v?.state === 'refused' && <p className="notice notice-stop mt-1" role="alert"><strong>Not on this machine:</strong> {v.message}</p>}
