@@ -55,7 +55,7 @@ async function photoWithGps(): Promise<Buffer> {
 function report(c: Client, code: string, fields: Record<string, string>, files: { bytes: Uint8Array; name: string; type: string }[] = []) {
   const form = new FormData();
   for (const [k, v] of Object.entries(fields)) form.set(k, v);
-  for (const f of files) form.append('photos', new Blob([f.bytes], { type: f.type }), f.name);
+  for (const f of files) form.append('photos', new Blob([new Uint8Array(f.bytes)], { type: f.type }), f.name);
   return c.fetch(`/api/machines/${code}/faults`, { method: 'POST', body: form });
 }
 
