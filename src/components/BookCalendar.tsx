@@ -7,6 +7,7 @@
  * always shows the site's hours whatever the browser's zone; conversions use the pure availability module.
  */
 import { useEffect, useId, useMemo, useRef, useState } from 'react';
+import BookingMaterials, { declared, newRow, type MaterialRow } from './BookingMaterials';
 import { QueryClient, QueryClientProvider, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import FullCalendar from '@fullcalendar/react';
 import timeGridPlugin from '@fullcalendar/timegrid';
@@ -109,10 +110,10 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine }: BookProp
   });
 
   const create = useMutation({
-    mutationFn: (v: { machineId: string; startsAt: Date; endsAt: Date; notes: string; classBlock?: { courseName: string; studentEmails: string[] } }) =>
+    mutationFn: (v: { machineId: string; startsAt: Date; endsAt: Date; notes: string; materials: ReturnType<typeof declared>; classBlock?: { courseName: string; studentEmails: string[] } }) =>
       v.classBlock
         ? api<FeedBooking>('/api/class-blocks', { method: 'POST', json: { machineId: v.machineId, startsAt: v.startsAt.toISOString(), endsAt: v.endsAt.toISOString(), notes: v.notes, ...v.classBlock } })
-        : api<FeedBooking>('/api/bookings', { method: 'POST', json: { machineId: v.machineId, startsAt: v.startsAt.toISOString(), endsAt: v.endsAt.toISOString(), materials: [], notes: v.notes } }),
+        : api<FeedBooking & { paymentNotice?: string | null }>('/api/bookings', { method: 'POST', json: { machineId: v.machineId, startsAt: v.startsAt.toISOString(), endsAt: v.endsAt.toISOString(), materials: v.materials, notes: v.notes } }),
     onMutate: async (v) => {
       setMessage(null);
       await qc.cancelQueries({ queryKey: feedKey });
@@ -145,7 +146,8 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine }: BookProp
     },
     onSuccess: (b) => {
       setDraft(null);
-      setMessage({ tone: 'ok', text: `Booked: ${machineName(b.machineId)}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), tz)}. A confirmation with a calendar file is on its way by e-mail.` });
+      const notice = (b as { paymentNotice?: string | null }).paymentNotice;
+      setMessage({ tone: notice ? 'warn' : 'ok', text: `Booked: ${machineName(b.machineId)}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), tz)}. A confirmation with a calendar file is on its way by e-mail.${notice ? ` ${notice}` : ''}` });
     },
     onSettled: () => qc.invalidateQueries({ queryKey: ['feed'] }),
   });
@@ -490,7 +492,7 @@ function BookingForm(p: {
   today: LocalDate;
   isInstructor: boolean;
   busy: boolean;
-  onSubmit: (v: { machineId: string; startsAt: Date; endsAt: Date; notes: string; classBlock?: { courseName: string; studentEmails: string[] } }) => void;
+  onSubmit: (v: { machineId: string; startsAt: Date; endsAt: Date; notes: string; materials: ReturnType<typeof declared>; classBlock?: { courseName: string; studentEmails: string[] } }) => void;
   onClear: () => void;
 }) {
   const [machineId, setMachineId] = useState(p.machines[0]?.id ?? '');
@@ -502,6 +504,8 @@ function BookingForm(p: {
   const [course, setCourse] = useState('');
   const [students, setStudents] = useState('');
   const [error, setError] = useState<string | null>(null);
+  const [materials, setMaterials] = useState<MaterialRow[]>(() => [newRow()]);
+  const [materialRefused, setMaterialRefused] = useState(false);
   const formRef = useRef<HTMLFormElement>(null);
   const headingId = useId();
 
@@ -531,7 +535,8 @@ function BookingForm(p: {
       ? { courseName: course.trim(), studentEmails: students.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean) }
       : undefined;
     if (isClass && !classBlock!.courseName) return setError('Name the course.');
-    p.onSubmit({ machineId, startsAt, endsAt, notes: notes.trim(), ...(classBlock ? { classBlock } : {}) });
+    if (!isClass && materialRefused) return setError('One of the materials is not allowed on this machine as declared: change it or remove it.');
+    p.onSubmit({ machineId, startsAt, endsAt, notes: notes.trim(), materials: isClass ? [] : declared(materials), ...(classBlock ? { classBlock } : {}) });
   }
 
   return (
@@ -570,7 +575,7 @@ function BookingForm(p: {
         <span>Notes for the steward (optional)</span>
         <textarea className="input min-h-20" value={notes} maxLength={2000} onChange={(e) => setNotes(e.target.value)} placeholder="What you will cut or engrave" />
       </label>
-      <p className="hint">Materials: you declare what goes in the machine when the material list is set up for this site. PVC, vinyl and other chlorine-bearing plastics never go in a laser.</p>
+      {!isClass && <BookingMaterials machineId={machineId} rows={materials} onChange={setMaterials} onVerdicts={setMaterialRefused} />}
       {p.isInstructor && (
         <fieldset className="space-y-3 rounded-lg border border-line p-3">
           <legend className="px-1 font-semibold">Class block</legend>

@@ -26,6 +26,7 @@ export const NAV: NavItem[] = [
   { label: 'Account', href: '/account', roles: ALL, group: 'everyone' },
   { label: 'Quizzes', href: '/quizzes', roles: ['instructor'], group: 'teaching' },
   { label: 'Sign-offs', href: '/signoffs', roles: ['instructor'], group: 'teaching' },
+  { label: 'Faults', href: '/faults', roles: ['steward', 'admin'], group: 'upkeep' },
   { label: 'Upkeep', href: '/upkeep', roles: ['steward', 'admin'], group: 'upkeep' },
   { label: 'Material requests', href: '/materials/requests', roles: ['steward', 'admin'], group: 'upkeep' },
   { label: 'Overview', href: '/admin', roles: ['admin'], group: 'admin' },

@@ -53,7 +53,7 @@ describe('POST /api/bookings', () => {
     const sent = new Date();
     const res = await book(member, lasers['laser-a'].id, startsAt, endsAt, {
       notes: 'Acrylic coasters',
-      materials: [{ materialId: '3f1c2a4e-8b7d-4c1a-9e2f-0a1b2c3d4e5f', thicknessMm: 3, mode: 'cut' }],
+      materials: [{ materialId: (await testDb()('materials').where({ name: 'Acrylic (PMMA)' }).first('id')).id, thicknessMm: 3, mode: 'cut' }],
     });
     const b = await body(res);
     expect(res.status, JSON.stringify(b)).toBe(201);
@@ -233,6 +233,13 @@ describe('cancelling', () => {
     r = await body(await member.send('POST', `/api/bookings/${soon.id}/cancel`));
     expect(r).toMatchObject({ state: 'cancelled', lateCancel: true });
     expect((await testDb()('bookings').where({ id: soon.id }).first()).late_cancel).toBe(true);
+    // billing: the late-cancellation fee is charged — captured from a saved card (the account journey may have saved
+    // one), or a failed payment without one, which would pause member@'s bookings: settled by hand for this file
+    const fee = await testDb()('charges').where({ booking_id: soon.id, kind: 'late_cancellation' }).first();
+    expect(['captured', 'payment failed']).toContain(fee?.state);
+    expect(fee.amount_minor).toBeGreaterThan(0);
+    expect(await testDb()('charges').where({ booking_id: b.id, kind: 'late_cancellation' }).first()).toBeUndefined();
+    if (fee.state === 'payment failed') await testDb()('charges').where({ id: fee.id }).update({ state: 'waived' });
     await setTestRules(admin, c);
   });
 
@@ -327,6 +334,15 @@ describe('the no-show sweep', () => {
       expect((await testDb()('bookings').where({ id: late.id }).first()).state).toBe('no-show');
       expect((await testDb()('bookings').where({ id: recent.id }).first()).state).toBe('reserved');
       expect(await testDb()('audit_log').where({ subject_id: late.id, kind: 'booking.no_show' }).first()).toBeTruthy();
+      // billing: the no-show fee is charged after the sweep commits (by this call or the worker's own sweep)
+      let fee: { id: string; state: string } | undefined;
+      for (let i = 0; i < 40 && !fee; i++) {
+        fee = await testDb()('charges').where({ booking_id: late.id, kind: 'no_show' }).first('id', 'state');
+        if (!fee) await new Promise((r) => setTimeout(r, 250));
+      }
+      // captured from a saved card, or a failed payment without one (settled by hand so member@ can book again)
+      expect(['captured', 'payment failed']).toContain(fee?.state);
+      if (fee!.state === 'payment failed') await testDb()('charges').where({ id: fee!.id }).update({ state: 'waived' });
     } finally {
       await testDb()('bookings').where({ id: recent.id }).update({ state: 'cancelled' });
       await stopJobs();

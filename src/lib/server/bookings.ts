@@ -30,6 +30,8 @@ import {
   type Interval,
 } from '../availability';
 import { buildIcs } from '../ics';
+import { checkDeclaredMaterials } from './materials';
+import { assertCanBook, chargeBookingFee, holdForBooking, releaseHoldsForBooking } from './payments';
 
 type Conn = Knex | Knex.Transaction;
 
@@ -172,8 +174,36 @@ async function insertBooking(trx: Knex.Transaction, row: Record<string, unknown>
   }
 }
 
-/** Creates a booking for `actor` (the gate, the rules, the quota, then the insert). */
-export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<Booking> {
+/** What POST /api/bookings answers: the booking, and a notice when no card hold could be placed. */
+export type CreatedBooking = Booking & { paymentNotice: string | null };
+
+/**
+ * Creates a booking for `actor` (a failed payment blocks first with 402 payment_required; then the gate,
+ * the rules, the quota, the declared materials, the insert). After the commit the card hold is placed for
+ * paid tiers; with no saved card the booking stands and beam time is charged at check-out (paymentNotice).
+ */
+export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<CreatedBooking> {
+  await assertCanBook(actor.id);
+  const booking = await createBookingRow(actor, input, now);
+  return { ...booking, paymentNotice: await placeHold(booking) };
+}
+
+/** Places the card hold for a committed booking; a problem with the card never undoes the booking. */
+async function placeHold(b: Booking): Promise<string | null> {
+  try {
+    await holdForBooking({ personId: b.personId, machineId: b.machineId, bookingId: b.id, startsAt: b.startsAt, minutes: minutesBetween(b.startsAt, b.endsAt) });
+    return null;
+  } catch (err) {
+    if (err instanceof HttpError && err.status === 402) {
+      return 'No card is saved on your account, so nothing is held now: beam time is charged at check-out. Save a card on the Account screen to pay by card.';
+    }
+    if (err instanceof HttpError && err.status === 503) return 'The payment service is not answering; the hold is retried and your booking stands.';
+    console.error('booking hold failed', err);
+    return 'The card hold could not be placed; your booking stands and beam time is charged at check-out.';
+  }
+}
+
+async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<Booking> {
   return transaction(async (trx) => {
     const machine = await lockMachine(trx, input.machineId);
     if (machine.status === 'out of service') throw outOfService(machine);
@@ -192,6 +222,9 @@ export async function createBooking(actor: Actor, input: BookingInput, now = new
     const over = checkQuota(used, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[tier]);
     if (over) throw new HttpError(422, over.code, over.message);
 
+    // materials check (issue 5): every declared material must be allowed on this machine, mode and thickness
+    await checkDeclaredMaterials(machine.id, input.materials, trx);
+
     const booking = await insertBooking(trx, {
       machine_id: machine.id,
       person_id: actor.id,
@@ -201,9 +234,11 @@ export async function createBooking(actor: Actor, input: BookingInput, now = new
       occupied_until: until,
       notes: input.notes,
     });
-
-    // materials check: issue 5 — call checkDeclaredMaterials(machine.id, input.materials, trx) here and
-    // insert the declared materials for booking.id (input.materials is validated by the route, stored nowhere yet).
+    if (input.materials.length) {
+      await trx('booking_materials').insert(
+        input.materials.map((m) => ({ booking_id: booking.id, material_id: m.materialId, mode: m.mode, thickness_mm: m.thicknessMm })),
+      );
+    }
 
     await recordAudit(trx, {
       actorId: actor.id,
@@ -211,7 +246,7 @@ export async function createBooking(actor: Actor, input: BookingInput, now = new
       subjectType: 'booking',
       subjectId: booking.id,
       summary: `Booked ${machine.name}`,
-      after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt },
+      after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt, materials: input.materials },
     });
     await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName);
     return booking;
@@ -267,6 +302,28 @@ export async function getBooking(id: string, trx: Conn = db()): Promise<Booking 
 
 /** Cancels a booking: the owner, or a steward or admin. After the cut-off it is flagged late. */
 export async function cancelBooking(actor: Actor, id: string, now = new Date()): Promise<Booking> {
+  const booking = await cancelBookingRow(actor, id, now);
+  await settleCancelled(booking, actor.id);
+  return booking;
+}
+
+/**
+ * After a cancellation has committed: a late one is charged the late-cancellation fee (which releases the
+ * hold first); an in-time one only releases the hold. Billing trouble is logged, never undoes the cancel.
+ */
+async function settleCancelled(b: Booking, actorId: string | null): Promise<void> {
+  try {
+    if (b.lateCancel && b.kind === 'personal') {
+      await chargeBookingFee({ personId: b.personId, machineId: b.machineId, bookingId: b.id, startsAt: b.startsAt, fee: 'late_cancellation' });
+    } else {
+      await releaseHoldsForBooking(b.id, 'cancelled in time', { notify: false, actorId });
+    }
+  } catch (err) {
+    console.error(`billing after cancelling booking ${b.id} failed`, err);
+  }
+}
+
+async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Booking> {
   return transaction(async (trx) => {
     const r = (await trx('bookings').where({ id }).forUpdate().first()) as Row | undefined;
     if (!r) throw new HttpError(404, 'not_found', 'No such booking.');
@@ -294,6 +351,56 @@ export async function cancelBooking(actor: Actor, id: string, now = new Date()):
     await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
     return booking;
   });
+}
+
+/**
+ * Deactivation (people.ts): cancels the person's reserved bookings that have not ended yet, in the caller's
+ * transaction, audited one by one, and offers the freed time to the waitlist. Returns the cancelled ids;
+ * the caller releases their card holds after the commit (releaseHoldsAfterCancel).
+ */
+export async function cancelFutureBookingsOf(trx: Knex.Transaction, actorId: string, personId: string, now = new Date()): Promise<string[]> {
+  const rows = (await trx('bookings')
+    .where({ person_id: personId, state: 'reserved' })
+    .where('ends_at', '>', now)
+    .orderBy('starts_at')
+    .forUpdate()
+    .select('*')) as Row[];
+  for (const r of rows) {
+    await trx('bookings').where({ id: r.id }).update({ state: 'cancelled', late_cancel: false, cancelled_at: now, cancelled_by: actorId, updated_at: trx.fn.now() });
+    if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: 'withdrawn' });
+    await recordAudit(trx, {
+      actorId,
+      kind: 'booking.cancelled',
+      subjectType: 'booking',
+      subjectId: r.id,
+      summary: 'Booking cancelled: the person was deactivated',
+      before: { state: 'reserved' },
+      after: { state: 'cancelled', lateCancel: false, reason: 'person deactivated' },
+    });
+    await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+  }
+  return rows.map((r) => r.id);
+}
+
+/** After a commit that cancelled or bumped bookings: releases their card holds (no fee). Errors are logged. */
+export async function releaseHoldsAfterCancel(bookingIds: readonly string[], reason: string, actorId: string | null, notify = false): Promise<void> {
+  for (const id of bookingIds) {
+    try {
+      await releaseHoldsForBooking(id, reason, { notify, actorId });
+    } catch (err) {
+      console.error(`releasing the holds of booking ${id} failed`, err);
+    }
+  }
+}
+
+/** The materials a booking declared. */
+export async function bookingMaterials(bookingId: string, trx: Conn = db()): Promise<{ materialId: string; name: string; mode: string; thicknessMm: number }[]> {
+  const rows = await trx('booking_materials as bm')
+    .join('materials as m', 'm.id', 'bm.material_id')
+    .where('bm.booking_id', bookingId)
+    .orderBy('bm.id')
+    .select('bm.material_id', 'm.name', 'bm.mode', 'bm.thickness_mm');
+  return rows.map((r: { material_id: string; name: string; mode: string; thickness_mm: string }) => ({ materialId: r.material_id, name: r.name, mode: r.mode, thicknessMm: Number(r.thickness_mm) }));
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -618,6 +725,20 @@ export async function claimWaitlist(actor: Actor, token: string, now = new Date(
 // The sweep (run every minute by the worker): no-shows and expired holds
 
 export async function sweepBookings(now = new Date()): Promise<{ noShows: number; expiredHolds: number }> {
+  const r = await sweepRows(now);
+  // after the commit: each no-show is charged the no-show fee (which releases its hold first)
+  for (const b of r.noShowBookings) {
+    if (b.kind !== 'personal') continue;
+    try {
+      await chargeBookingFee({ personId: b.person_id, machineId: b.machine_id, bookingId: b.id, startsAt: b.starts_at, fee: 'no_show' });
+    } catch (err) {
+      console.error(`no-show fee for booking ${b.id} failed`, err);
+    }
+  }
+  return { noShows: r.noShows, expiredHolds: r.expiredHolds };
+}
+
+async function sweepRows(now: Date): Promise<{ noShows: number; expiredHolds: number; noShowBookings: Row[] }> {
   return transaction(async (trx) => {
     const late = (await trx('bookings')
       .where({ state: 'reserved' })
@@ -651,7 +772,7 @@ export async function sweepBookings(now = new Date()): Promise<{ noShows: number
       await trx('waitlist_entries').where({ hold_booking_id: h.id }).update({ state: 'expired' });
       await offerFreedTime(trx, h.machine_id, { start: h.starts_at > now ? h.starts_at : now, end: h.ends_at }, now);
     }
-    return { noShows: late.length, expiredHolds: holds.length };
+    return { noShows: late.length, expiredHolds: holds.length, noShowBookings: late };
   });
 }
 

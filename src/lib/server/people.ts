@@ -6,6 +6,7 @@ import { hashPassword } from './passwords';
 import { normaliseRoles, type Role } from '../roles';
 import { HttpError } from './http';
 import type { Tier } from '../pricing';
+import { cancelFutureBookingsOf, releaseHoldsAfterCancel } from './bookings';
 
 export interface Person {
   id: string;
@@ -159,11 +160,14 @@ export async function deactivatePerson(actorId: string, personId: string): Promi
   if (actorId === personId) {
     throw new HttpError(409, 'cannot_deactivate_self', 'You cannot deactivate your own account; ask another admin to do it.');
   }
-  return transaction(async (trx) => {
-    await applyActive(trx, actorId, personId, false);
-    // EXTENSION POINT (bookings): cancel this person's future bookings here, in this same transaction (trx).
-    return mustGetPerson(personId, trx);
+  const { person, cancelled } = await transaction(async (trx) => {
+    const changed = await applyActive(trx, actorId, personId, false);
+    // bookings: the person's reserved bookings that have not ended are cancelled in this same transaction
+    const cancelled = changed ? await cancelFutureBookingsOf(trx, actorId, personId) : [];
+    return { person: await mustGetPerson(personId, trx), cancelled };
   });
+  await releaseHoldsAfterCancel(cancelled, 'account deactivated', actorId);
+  return person;
 }
 
 /** Lets a deactivated person sign in again (admin). Audited as `person.reactivated`. */

@@ -1,0 +1,83 @@
+/**
+ * Journey: in the booking form the member picks PVC and sees, before submitting, that it is blocked and why;
+ * picks plywood 3 mm cut and sees it is fine on Laser A; after the admin blocks plywood on Laser A the form
+ * follows the new rule, and a booking with a fine material goes through. Screenshot: the form with materials.
+ */
+import type { Browser } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DESK, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { Client } from '../support/client';
+import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { wallClock } from '../../src/lib/availability';
+
+let browser: Browser;
+let admin: Client;
+let laserA: MachineRef;
+let plywood: string;
+const DAY = 26; // clear of the demo seed and of the other booking tests
+
+beforeAll(async () => {
+  browser = await launch();
+  admin = await Client.as('admin');
+  const all = await machines(admin);
+  laserA = all['laser-a'];
+  for (const m of Object.values(all)) await setTestRules(admin, m.id);
+  plywood = (await testDb()('materials').where({ name: 'Plywood (birch or poplar)' }).first('id')).id;
+});
+afterAll(async () => {
+  await admin?.send('DELETE', `/api/material-rules/${plywood}/overrides/${laserA.id}`);
+  await browser?.close();
+  await clearSignInLimits();
+  await closeTestDb();
+});
+
+describe('materials in the booking form', () => {
+  it('shows why PVC is refused, follows a rule change, and books with a fine material', async () => {
+    const ctx = await newContext(browser, DESK);
+    const page = await ctx.newPage();
+    const errors = watchErrors(page);
+    await signIn(page, 'member');
+    await page.goto(`/book?machine=${laserA.id}`);
+    const form = page.getByRole('form', { name: 'Book by date and time' });
+    await form.waitFor();
+    const w = wallClock(siteTime(DAY, 12), SITE_TZ);
+    await form.getByLabel('Date').fill(`${w.year}-${String(w.month).padStart(2, '0')}-${String(w.day).padStart(2, '0')}`);
+    await form.getByLabel('From').selectOption('13:00');
+    await form.getByLabel('Until').selectOption('14:00');
+
+    const row = form.locator('[data-material-row="0"]');
+    await row.getByLabel('Material 1', { exact: true }).selectOption({ label: 'PVC and vinyl (blocked)' });
+    const verdict = row.getByTestId('material-verdict');
+    await verdict.getByText('Not on this machine:').waitFor();
+    expect(await verdict.textContent()).toMatch(/chlorine|hydrogen chloride|HCl/i);
+    await shot(page, 'booking-form-materials-desk');
+    // submitting is refused in the form, before any request
+    await form.getByRole('button', { name: 'Book', exact: true }).click();
+    await form.getByText(/not allowed on this machine as declared/).waitFor();
+
+    await row.getByLabel('Material 1', { exact: true }).selectOption({ label: 'Plywood (birch or poplar)' });
+    await row.getByLabel('Thickness 1 in mm').fill('3');
+    await row.getByLabel('Mode 1').selectOption('cut');
+    await verdict.getByText(/Fine on this machine as cut at 3 mm/).waitFor();
+
+    // the admin blocks plywood on Laser A; the form checks against the server's rules, so it follows at once
+    const put = await admin.send('PUT', `/api/material-rules/${plywood}/overrides/${laserA.id}`, { rule: 'blocked', modes: null, maxCutMm: null, note: 'Bed out for cleaning: no wood on Laser A this week.' });
+    expect(put.status, await put.clone().text()).toBe(200);
+    await row.getByLabel('Mode 1').selectOption('engrave');
+    await verdict.getByText('Not on this machine:').waitFor();
+
+    await row.getByLabel('Material 1', { exact: true }).selectOption({ label: 'Acrylic (PMMA)' });
+    await row.getByLabel('Mode 1').selectOption('cut');
+    await verdict.getByText(/Fine on this machine/).waitFor();
+    await form.getByRole('button', { name: 'Book', exact: true }).click();
+    await page.getByText(/^Booked: Laser A/).waitFor();
+    const booking = await testDb()('bookings as b').join('people as p', 'p.id', 'b.person_id')
+      .where({ 'p.email': 'member@tidewater.example', 'b.machine_id': laserA.id, 'b.starts_at': siteTime(DAY, 13) }).first('b.id');
+    const declared = await testDb()('booking_materials').where({ booking_id: booking.id });
+    expect(declared).toHaveLength(1);
+    expect(declared[0]).toMatchObject({ mode: 'cut' });
+    expect(errors.filter((e) => !/422/.test(e))).toEqual([]);
+    await ctx.close();
+  });
+});
