@@ -367,7 +367,7 @@ export async function noShowReport(scope: ReportScope): Promise<NoShowReport> {
      WHERE b.kind = 'personal' AND b.starts_at >= ? AND b.starts_at < ? ${machineClause}
      GROUP BY p.id, p.name, p.email
      HAVING count(*) FILTER (WHERE b.state = 'no-show' OR (b.state = 'cancelled' AND b.late_cancel)) > 0
-     ORDER BY no_shows + late_cancellations DESC, p.name`,
+     ORDER BY count(*) FILTER (WHERE b.state = 'no-show' OR (b.state = 'cancelled' AND b.late_cancel)) DESC, p.name`,
     params,
   );
   const rows: NoShowRow[] = (result.rows as Record<string, unknown>[]).map((r) => ({
