@@ -197,7 +197,7 @@ export default function ReportsPanel(props: Props) {
               )}
               {util.data.rows.length === 0 ? <Empty what="machines" /> : (
                 <Scroll>
-                  <table className="table">
+                  <table className="table whitespace-nowrap">
                     <thead><tr><th>Machine</th><th>Week from</th><th className="text-right">Open</th><th className="text-right">Booked</th><th className="text-right">Beam time</th></tr></thead>
                     <tbody>
                       {util.data.rows.map((r) => (
@@ -246,7 +246,7 @@ export default function ReportsPanel(props: Props) {
               )}
               {revenue.data.rows.length === 0 ? <Empty what="charges" /> : (
                 <Scroll>
-                  <table className="table">
+                  <table className="table whitespace-nowrap">
                     <thead><tr><th>Month</th><th>Machine</th><th>Tier</th><th>Method</th><th className="text-right">Charges</th><th className="text-right">Net</th><th className="text-right">Tax</th></tr></thead>
                     <tbody>
                       {revenue.data.rows.map((r) => (
@@ -271,7 +271,7 @@ export default function ReportsPanel(props: Props) {
           intro="People per machine group who, in this period, started a quiz, passed it, were signed off at the machine, and whose clearance lapsed without renewal.">
           {clear.data && (clear.data.rows.length === 0 ? <Empty what="machine groups" /> : (
             <Scroll>
-              <table className="table">
+              <table className="table whitespace-nowrap">
                 <thead><tr><th>Group</th><th className="text-right">Quiz started</th><th className="text-right">Passed</th><th className="text-right">Signed off</th><th className="text-right">Lapsed</th></tr></thead>
                 <tbody>
                   {clear.data.rows.map((r) => (
@@ -298,7 +298,7 @@ export default function ReportsPanel(props: Props) {
                 {faults.data.totals.meanMinutesToReturn === null ? '—' : hours(faults.data.totals.meanMinutesToReturn)}
               </p>
               <Scroll>
-                <table className="table">
+                <table className="table whitespace-nowrap">
                   <thead><tr><th>Machine</th><th className="text-right">Stop</th><th className="text-right">Degraded</th><th className="text-right">Note</th><th className="text-right">Open now</th><th className="text-right">Out of service</th><th className="text-right">Mean to return</th></tr></thead>
                   <tbody>
                     {faults.data.rows.map((r) => (
@@ -321,7 +321,7 @@ export default function ReportsPanel(props: Props) {
           intro="People with a no-show or a late cancellation among their personal bookings that started in this period: a starting point for a fair-use conversation, not a verdict.">
           {noShows.data && (noShows.data.rows.length === 0 ? <Empty what="no-shows or late cancellations" /> : (
             <Scroll>
-              <table className="table">
+              <table className="table whitespace-nowrap">
                 <thead><tr><th>Person</th><th className="text-right">Bookings</th><th className="text-right">No-shows</th><th className="text-right">Late cancellations</th></tr></thead>
                 <tbody>
                   {noShows.data.rows.map((r) => (
