@@ -158,7 +158,7 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
                   {p.name}{!p.active && <span className="status status-stop ml-2">Deactivated</span>}
                   <span className="block break-all text-sm font-normal text-charcoal-soft md:hidden">{p.email}</span>
                   {p.id !== selfId && (
-                    <button type="button" className="mt-1 inline-flex min-h-8 items-center text-sm font-normal text-ember-dark underline disabled:opacity-50" disabled={busy !== null} onClick={() => void setActive(p, !p.active)}>
+                    <button type="button" className="mt-1 flex min-h-8 items-center text-sm font-normal text-ember-dark underline disabled:opacity-50" disabled={busy !== null} onClick={() => void setActive(p, !p.active)}>
                       {p.active ? 'Deactivate' : 'Reactivate'}<span className="sr-only"> {p.name}</span>
                     </button>
                   )}

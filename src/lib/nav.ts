@@ -11,26 +11,48 @@ export interface NavItem {
   group: 'everyone' | 'teaching' | 'upkeep' | 'admin';
 }
 
+const ALL: Role[] = ['member', 'instructor', 'steward', 'admin'];
+
+/**
+ * In the order they are shown. `everyone` screens form the main row; the screens of the teaching, upkeep and
+ * admin roles form a second row, one labelled group each.
+ */
 export const NAV: NavItem[] = [
-  { label: 'Floor', href: '/', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
-  { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
-  { label: 'Materials', href: '/materials', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
-  { label: 'Hazard sheets', href: '/hazard', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
-  { label: 'Material requests', href: '/materials/requests', roles: ['steward', 'admin'], group: 'upkeep' },
-  { label: 'Material rules', href: '/admin/materials', roles: ['admin'], group: 'admin' },
-  { label: 'Admin', href: '/admin', roles: ['admin'], group: 'admin' },
-  { label: 'Site', href: '/admin/site', roles: ['admin'], group: 'admin' },
-  { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },
-  { label: 'Account', href: '/account', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
-  { label: 'Pricing', href: '/admin/pricing', roles: ['admin'], group: 'admin' },
-  { label: 'Book', href: '/book', roles: ['member', 'instructor', 'steward', 'admin'], group: 'everyone' },
-  { label: 'Machines', href: '/admin/machines', roles: ['admin'], group: 'admin' },
+  { label: 'Floor', href: '/', roles: ALL, group: 'everyone' },
+  { label: 'Book', href: '/book', roles: ALL, group: 'everyone' },
   { label: 'Clearances', href: '/clearances', roles: ['member', 'instructor', 'steward'], group: 'everyone' },
+  { label: 'Materials', href: '/materials', roles: ALL, group: 'everyone' },
+  { label: 'Hazard sheets', href: '/hazard', roles: ALL, group: 'everyone' },
+  { label: 'Account', href: '/account', roles: ALL, group: 'everyone' },
   { label: 'Quizzes', href: '/quizzes', roles: ['instructor'], group: 'teaching' },
   { label: 'Sign-offs', href: '/signoffs', roles: ['instructor'], group: 'teaching' },
+  { label: 'Material requests', href: '/materials/requests', roles: ['steward', 'admin'], group: 'upkeep' },
+  { label: 'Overview', href: '/admin', roles: ['admin'], group: 'admin' },
+  { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
+  { label: 'Machines', href: '/admin/machines', roles: ['admin'], group: 'admin' },
   { label: 'Machine groups', href: '/admin/machine-groups', roles: ['admin', 'instructor'], group: 'admin' },
+  { label: 'Pricing', href: '/admin/pricing', roles: ['admin'], group: 'admin' },
+  { label: 'Material rules', href: '/admin/materials', roles: ['admin'], group: 'admin' },
+  { label: 'Site', href: '/admin/site', roles: ['admin'], group: 'admin' },
+  { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },
   { label: 'Reports', href: '/reports', roles: ['admin', 'instructor'], group: 'admin' },
 ];
+
+export const GROUP_LABELS: Record<NavItem['group'], string> = {
+  everyone: 'Everyone',
+  teaching: 'Teaching',
+  upkeep: 'Upkeep',
+  admin: 'Admin',
+};
+
+/** The person's screens, split into the main row and the labelled groups of their other roles. */
+export function navGroups(roles: readonly Role[]): { main: NavItem[]; groups: { group: NavItem['group']; label: string; items: NavItem[] }[] } {
+  const items = navFor(roles);
+  const groups = (['teaching', 'upkeep', 'admin'] as const)
+    .map((group) => ({ group, label: GROUP_LABELS[group], items: items.filter((i) => i.group === group) }))
+    .filter((g) => g.items.length > 0);
+  return { main: items.filter((i) => i.group === 'everyone'), groups };
+}
 
 export function navFor(roles: readonly Role[]): NavItem[] {
   return NAV.filter((item) => hasAnyRole(roles, item.roles));

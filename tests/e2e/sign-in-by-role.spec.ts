@@ -83,7 +83,7 @@ describe('signing in as each role', () => {
       const row = page.getByRole('row').filter({ hasText: 'newbie@tidewater.example' });
       await row.waitFor();
       // the search is applied as the admin types (debounced): the table narrows to the one match
-      await expect.poll(() => page.getByRole('row').count(), { timeout: 5000 }).toBe(2); // header + one person
+      await expect.poll(() => page.getByRole('row').count(), { timeout: 20_000 }).toBe(2); // header + one person
       await shot(page, `people-${label}`);
       if (label === 'desk') {
         const steward = row.getByRole('checkbox', { name: 'Steward' });

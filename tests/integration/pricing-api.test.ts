@@ -71,7 +71,10 @@ describe('price versions', () => {
     expect(later.priceVersionId).toBe(v.id);
     const list = await body(await admin.get('/api/pricing/versions'));
     expect(list.versions.length).toBeGreaterThanOrEqual(2);
-    expect(list.versions[0].id).toBe(v.id);
+    expect(list.versions.map((x: { id: string }) => x.id)).toContain(v.id);
+    // the history is newest effective date first
+    const starts = list.versions.map((x: { effectiveFrom: string }) => Date.parse(x.effectiveFrom));
+    expect(starts).toEqual([...starts].sort((a: number, b: number) => b - a));
     const audit = await testDb()('audit_log').where({ kind: 'price.version_created', subject_id: v.id }).first();
     expect(audit?.summary).toContain('Tube replacement costs');
     const dup = await admin.send('POST', '/api/pricing/versions', draft());
