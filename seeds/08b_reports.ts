@@ -9,7 +9,6 @@ import type { Knex } from 'knex';
 import { addDays, localToInstant, wallClock } from '../src/lib/availability';
 import { beamTimeMinor, quote, type PriceTable } from '../src/lib/pricing';
 import type { Tier } from '../src/lib/pricing';
-import { drawQuestions, type QuizQuestion } from '../src/lib/quiz-rules';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 const MIN = 60_000;
@@ -19,45 +18,6 @@ export async function seed(knex: Knex): Promise<void> {
   const now = new Date();
   await seedSessionsAndCharges(knex, tz, now);
   await seedFaults(knex, tz, now);
-  await seedQuizAttempts(knex);
-}
-
-/**
- * The quiz attempts behind a clearance that is awaiting sign-off (the earlier seed records the pass on the
- * clearance only): one missed attempt a day before, then the pass at the recorded time.
- */
-async function seedQuizAttempts(knex: Knex): Promise<void> {
-  const existing = await knex('quiz_attempts').count({ n: '*' }).first();
-  if (Number(existing?.n ?? 0) > 0) return;
-  const waiting = (await knex('clearances').where({ state: 'awaiting sign-off' }).whereNotNull('quiz_passed_at').select('person_id', 'group_id', 'quiz_passed_at')) as {
-    person_id: string;
-    group_id: string;
-    quiz_passed_at: Date;
-  }[];
-  let seed = 7;
-  const random = () => ((seed = (seed * 16807) % 2147483647) - 1) / 2147483646;
-  for (const c of waiting) {
-    const version = await knex('quiz_versions as v').join('quizzes as z', 'z.id', 'v.quiz_id').where({ 'z.group_id': c.group_id, 'v.status': 'published' }).first('v.id', 'v.questions', 'v.questions_per_attempt');
-    if (!version) continue;
-    const bank = version.questions as QuizQuestion[];
-    const attempt = (submittedAt: Date, passed: boolean, score: number) => {
-      const drawn = drawQuestions(bank, version.questions_per_attempt, random);
-      const missed = passed ? [] : [...new Set(drawn.slice(0, 2).map((d) => bank.find((q) => q.id === d.id)?.topic).filter(Boolean))];
-      return {
-        quiz_version_id: version.id,
-        person_id: c.person_id,
-        group_id: c.group_id,
-        drawn: JSON.stringify(drawn),
-        started_at: new Date(submittedAt.getTime() - 12 * MIN),
-        submitted_at: submittedAt,
-        answers: JSON.stringify({}),
-        score_pct: score,
-        passed,
-        missed_topics: JSON.stringify(missed),
-      };
-    };
-    await knex('quiz_attempts').insert([attempt(new Date(c.quiz_passed_at.getTime() - 24 * 60 * MIN), false, 60), attempt(c.quiz_passed_at, true, 90)]);
-  }
 }
 
 async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promise<void> {
