@@ -1,0 +1,200 @@
+/**
+ * Demo history for Reports (invented), only where the earlier seeds left none: a session at the machine
+ * with measured beam time for every completed past booking (except member@'s, whose account starts without
+ * charges), and the charge for it (priced by the pure
+ * pricing engine with the seeded price version: recharged to the cost centre for recharge tiers, captured by
+ * card otherwise); and last week's faults with the machine status changes they caused.
+ */
+import type { Knex } from 'knex';
+import { addDays, localToInstant, wallClock } from '../src/lib/availability';
+import { beamTimeMinor, quote, type PriceTable } from '../src/lib/pricing';
+import type { Tier } from '../src/lib/pricing';
+
+const TZ_FALLBACK = 'Pacific/Auckland';
+const MIN = 60_000;
+
+export async function seed(knex: Knex): Promise<void> {
+  const tz = ((await knex('site_settings').where({ id: 1 }).first('time_zone'))?.time_zone as string | undefined) ?? TZ_FALLBACK;
+  const now = new Date();
+  await seedSessionsAndCharges(knex, tz, now);
+  await seedFaults(knex, tz, now);
+}
+
+async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promise<void> {
+  const existing = await knex('machine_sessions').count({ n: '*' }).first();
+  if (Number(existing?.n ?? 0) > 0) return;
+  const version = await knex('price_versions').where('effective_from', '<=', now).orderBy('effective_from', 'desc').first();
+  if (!version) return;
+  const rates = (await knex('price_rates').where({ version_id: version.id }).select('machine_id', 'tier', 'per_minute_minor')) as {
+    machine_id: string;
+    tier: Tier;
+    per_minute_minor: number;
+  }[];
+  const table: PriceTable = {
+    currency: version.currency,
+    rates: {},
+    incrementMinutes: version.increment_minutes,
+    minimumChargeMinor: version.minimum_charge_minor,
+    dailyCapMinor: version.daily_cap_minor,
+    lateCancelFeeMinor: version.late_cancel_fee_minor,
+    noShowFeeMinor: version.no_show_fee_minor,
+    taxMode: version.tax_mode,
+    taxRateBp: version.tax_rate_bp,
+    materials: typeof version.materials === 'string' ? JSON.parse(version.materials) : version.materials,
+    minimumRule: version.minimum_rule,
+  };
+  for (const r of rates) (table.rates[r.machine_id] ??= {})[r.tier] = r.per_minute_minor;
+  const rechargeTiers: string[] = version.recharge_tiers ?? [];
+
+  const bookings = (await knex('bookings as b')
+    .join('people as p', 'p.id', 'b.person_id')
+    .join('machines as m', 'm.id', 'b.machine_id')
+    .where('b.state', 'completed')
+    .where('b.ends_at', '<', now)
+    // member@ is the card holder of the account journey: their charge list starts empty (seeds/07_pricing.ts)
+    .whereNot('p.email', 'member@tidewater.example')
+    .orderBy('b.starts_at')
+    .select('b.id', 'b.machine_id', 'b.person_id', 'b.starts_at', 'b.ends_at', 'p.tier', 'p.cost_centre', 'm.name as machine_name')) as {
+    id: string;
+    machine_id: string;
+    person_id: string;
+    starts_at: Date;
+    ends_at: Date;
+    tier: Tier;
+    cost_centre: string | null;
+    machine_name: string;
+  }[];
+
+  const chargedToday = new Map<string, number>(); // person + site day → beam time charged
+  let i = 0;
+  for (const b of bookings) {
+    i++;
+    const length = (b.ends_at.getTime() - b.starts_at.getTime()) / MIN;
+    const checkedIn = new Date(b.starts_at.getTime() + 3 * MIN);
+    const checkedOut = new Date(b.ends_at.getTime() - 4 * MIN);
+    // beam time is part of the session: 45–75 % of the booked length (set-up and unloading take the rest)
+    const beam = Math.max(1, Math.round(length * (0.45 + ((i * 7) % 31) / 100)));
+    const [session] = await knex('machine_sessions')
+      .insert({
+        booking_id: b.id,
+        machine_id: b.machine_id,
+        person_id: b.person_id,
+        checked_in_at: checkedIn,
+        checked_out_at: checkedOut,
+        beam_minutes: beam,
+        job_timer_minutes: beam,
+        checklist: JSON.stringify({ seeded: true }),
+        checkout: JSON.stringify({ seeded: true }),
+      })
+      .returning('id');
+    if (!table.rates[b.machine_id]?.[b.tier]) continue;
+    const w = wallClock(checkedIn, tz);
+    const dayKey = `${b.person_id} ${w.year}-${w.month}-${w.day}`;
+    const q = quote(table, { machineId: b.machine_id, tier: b.tier, minutes: beam, alreadyChargedTodayMinor: chargedToday.get(dayKey) ?? 0, machineName: b.machine_name });
+    chargedToday.set(dayKey, (chargedToday.get(dayKey) ?? 0) + beamTimeMinor(q));
+    const recharge = rechargeTiers.includes(b.tier) && b.cost_centre !== null;
+    const breakdown = {
+      lines: q.lines,
+      subtotalMinor: q.subtotalMinor,
+      taxMinor: q.taxMinor,
+      taxMode: q.taxMode,
+      taxRateBp: q.taxRateBp,
+      amountMinor: q.amountMinor,
+      beamTimeMinor: beamTimeMinor(q),
+      billedMinutes: q.billedMinutes,
+    };
+    await knex('charges').insert({
+      person_id: b.person_id,
+      machine_id: b.machine_id,
+      booking_id: b.id,
+      session_id: session.id,
+      kind: 'beam_time',
+      method: recharge ? 'recharge' : 'card',
+      cost_centre: recharge ? b.cost_centre : null,
+      state: recharge ? 'recharged' : 'captured',
+      currency: q.currency,
+      amount_minor: q.amountMinor,
+      tax_minor: q.taxMinor,
+      card_amount_minor: recharge ? 0 : q.amountMinor,
+      captured_minor: recharge ? 0 : q.amountMinor,
+      minutes: beam,
+      started_at: checkedIn,
+      price_version_id: version.id,
+      breakdown: JSON.stringify(breakdown),
+      created_at: checkedOut,
+      updated_at: checkedOut,
+    });
+  }
+}
+
+async function seedFaults(knex: Knex, tz: string, now: Date): Promise<void> {
+  const existing = await knex('faults').count({ n: '*' }).first();
+  if (Number(existing?.n ?? 0) > 0) return;
+  const machines = (await knex('machines').select('id', 'code')) as { id: string; code: string }[];
+  const people = (await knex('people').select('id', 'email')) as { id: string; email: string }[];
+  const m = (code: string) => machines.find((x) => x.code === code)?.id;
+  const p = (local: string) => people.find((x) => x.email === `${local}@tidewater.example`)?.id;
+  const laserA = m('laser-a');
+  const laserB = m('laser-b');
+  const member = p('member');
+  const steward = p('steward');
+  if (!laserA || !laserB || !member || !steward) return;
+  const today = wallClock(now, tz);
+  const at = (dayOffset: number, hour: number, minute = 0) => {
+    const d = addDays(today.year, today.month, today.day, dayOffset);
+    return localToInstant(d.year, d.month, d.day, hour * 60 + minute, tz);
+  };
+
+  // A stop fault on Laser B six days ago after its last booking; back in service the next morning before the first.
+  const stopAt = at(-6, 17, 5);
+  const [stop] = await knex('faults')
+    .insert({
+      machine_id: laserB,
+      reported_by: member,
+      severity: 'stop',
+      summary: 'Air assist stopped; small flare-up on the honeycomb bed',
+      details: 'Flame went out when the lid was opened and the job stopped. Extinguisher not used.',
+      status: 'resolved',
+      resolution: 'Air-assist pump fuse replaced; honeycomb cleaned; test cut on 3 mm ply was clean.',
+      resolved_by: steward,
+      created_at: stopAt,
+      triaged_at: new Date(stopAt.getTime() + 20 * MIN),
+      resolved_at: at(-5, 10, 30),
+    })
+    .returning('id');
+  await knex('machine_status_changes').insert([
+    { machine_id: laserB, from_status: 'in service', to_status: 'out of service', changed_at: new Date(stopAt.getTime() + 5 * MIN), actor_id: steward, fault_id: stop.id, reason: 'Stop fault: air assist' },
+    { machine_id: laserB, from_status: 'out of service', to_status: 'in service', changed_at: at(-5, 10, 30), actor_id: steward, fault_id: stop.id, reason: 'Pump fuse replaced, test cut clean' },
+  ]);
+
+  // A degraded fault on Laser A three days ago, fixed the same evening.
+  const degradedAt = at(-3, 12, 40);
+  const [degraded] = await knex('faults')
+    .insert({
+      machine_id: laserA,
+      reported_by: member,
+      severity: 'degraded',
+      summary: 'Cuts not going through 3 mm ply at the usual settings',
+      status: 'resolved',
+      resolution: 'Lens cleaned; power back to normal.',
+      resolved_by: steward,
+      created_at: degradedAt,
+      triaged_at: new Date(degradedAt.getTime() + 30 * MIN),
+      resolved_at: at(-3, 21, 15),
+    })
+    .returning('id');
+  await knex('machine_status_changes').insert([
+    { machine_id: laserA, from_status: 'in service', to_status: 'degraded', changed_at: new Date(degradedAt.getTime() + 30 * MIN), actor_id: steward, fault_id: degraded.id, reason: 'Weak cuts' },
+    { machine_id: laserA, from_status: 'degraded', to_status: 'in service', changed_at: at(-3, 21, 15), actor_id: steward, fault_id: degraded.id, reason: 'Lens cleaned' },
+  ]);
+
+  // A note that is still open.
+  await knex('faults').insert({
+    machine_id: laserA,
+    reported_by: member,
+    severity: 'note',
+    summary: 'The bed light flickers now and then',
+    status: 'open',
+    created_at: at(-1, 15, 10),
+  });
+}

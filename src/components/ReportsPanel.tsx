@@ -1,0 +1,342 @@
+/**
+ * Reports: a period (site time zone) and machines, then one section per report, each fetched from its
+ * API route, with a chart where a chart helps and a CSV download of exactly the rows in the table.
+ */
+import { useEffect, useId, useMemo, useState, type ReactNode } from 'react';
+import { Bar, BarChart, CartesianGrid, Legend, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
+import { api, ApiError } from './ui/api';
+import { formatMoney } from '../lib/pricing';
+import type { ClearanceRow, FaultRow, NoShowRow, ReportName, RevenueRow, UtilisationRow } from '../lib/reports';
+
+interface Machine {
+  id: string;
+  name: string;
+  retired: boolean;
+}
+interface Props {
+  timeZone: string;
+  currency: string;
+  machines: Machine[];
+  defaultFrom: string;
+  defaultTo: string;
+  sections: ReportName[];
+}
+interface Answer<R, T> {
+  period: { from: string; to: string; timeZone: string };
+  rows: R[];
+  totals: T;
+}
+
+const COLORS = ['#b3370f', '#262522', '#2b6a3c', '#875500', '#8c2a0a', '#4f4a42'];
+const pct = (v: number | null) => (v === null ? '—' : `${(v * 100).toFixed(1)} %`);
+const hours = (minutes: number) => `${(minutes / 60).toFixed(1)} h`;
+
+function useReport<R, T>(name: ReportName, params: string, enabled: boolean) {
+  const [data, setData] = useState<Answer<R, T> | null>(null);
+  const [problem, setProblem] = useState<string | null>(null);
+  const [loading, setLoading] = useState(false);
+  useEffect(() => {
+    if (!enabled) return;
+    let live = true;
+    setLoading(true);
+    setProblem(null);
+    api<Answer<R, T>>(`/api/reports/${name}?${params}`).then(
+      (d) => live && (setData(d), setLoading(false)),
+      (e: unknown) => live && (setProblem(e instanceof ApiError ? e.message : 'The report could not be loaded.'), setLoading(false)),
+    );
+    return () => {
+      live = false;
+    };
+  }, [name, params, enabled]);
+  return { data, problem, loading };
+}
+
+function Section(props: { id: string; title: string; intro: string; csvHref: string; loading: boolean; problem: string | null; children: ReactNode }) {
+  return (
+    <section className="card mb-6 p-4 sm:p-5" aria-labelledby={props.id} aria-busy={props.loading}>
+      <div className="mb-2 flex flex-wrap items-baseline justify-between gap-2">
+        <h2 id={props.id} className="text-xl">{props.title}</h2>
+        <a className="btn" href={props.csvHref} download>
+          Download CSV
+        </a>
+      </div>
+      <p className="hint mb-3">{props.intro}</p>
+      {props.problem && <p className="notice notice-stop mb-3" role="alert">{props.problem}</p>}
+      {props.children}
+    </section>
+  );
+}
+
+function Scroll({ children }: { children: ReactNode }) {
+  return <div className="overflow-x-auto">{children}</div>;
+}
+
+function Empty({ what }: { what: string }) {
+  return <p className="hint">No {what} in this period.</p>;
+}
+
+export default function ReportsPanel(props: Props) {
+  const ids = { from: useId(), to: useId() };
+  const [from, setFrom] = useState(props.defaultFrom);
+  const [to, setTo] = useState(props.defaultTo);
+  const [chosen, setChosen] = useState<string[]>([]);
+  const [applied, setApplied] = useState({ from: props.defaultFrom, to: props.defaultTo, machines: [] as string[] });
+  const [formProblem, setFormProblem] = useState<string | null>(null);
+  const params = useMemo(() => {
+    const p = new URLSearchParams({ from: applied.from, to: applied.to });
+    if (applied.machines.length) p.set('machineId', applied.machines.join(','));
+    return p.toString();
+  }, [applied]);
+  const has = (n: ReportName) => props.sections.includes(n);
+  const util = useReport<UtilisationRow, { openMinutes: number; bookedMinutes: number; beamMinutes: number; bookedShare: number | null; beamShare: number | null }>('utilisation', params, has('utilisation'));
+  const revenue = useReport<RevenueRow, { charges: number; grossMinor: number; refundedMinor: number; netMinor: number; taxMinor: number; cardNetMinor: number; rechargeNetMinor: number }>('revenue', params, has('revenue'));
+  const clear = useReport<ClearanceRow, { quizStarted: number; quizPassed: number; signedOff: number; lapsed: number }>('clearances', params, has('clearances'));
+  const faults = useReport<FaultRow, { note: number; degraded: number; stop: number; openNow: number; outOfServiceMinutes: number; returnsToService: number; meanMinutesToReturn: number | null }>('faults', params, has('faults'));
+  const noShows = useReport<NoShowRow, { bookings: number; noShows: number; lateCancellations: number }>('no-shows', params, has('no-shows'));
+  const money = (m: number) => formatMoney(m, props.currency);
+  const csv = (n: ReportName) => `/api/reports/${n}.csv?${params}`;
+
+  function apply(e: React.FormEvent) {
+    e.preventDefault();
+    if (!from || !to) return setFormProblem('Choose both dates.');
+    if (from > to) return setFormProblem('The end date is before the start date.');
+    setFormProblem(null);
+    setApplied({ from, to, machines: chosen });
+  }
+
+  // utilisation chart: per week, all chosen machines together
+  const utilChart = useMemo(() => {
+    const byWeek = new Map<string, { week: string; open: number; booked: number; beam: number }>();
+    for (const r of util.data?.rows ?? []) {
+      const w = byWeek.get(r.week_start) ?? { week: r.week_start, open: 0, booked: 0, beam: 0 };
+      w.open += r.open_minutes;
+      w.booked += r.booked_minutes;
+      w.beam += r.beam_minutes;
+      byWeek.set(r.week_start, w);
+    }
+    return [...byWeek.values()].map((w) => ({
+      week: w.week.slice(5),
+      Booked: w.open ? Math.round((w.booked / w.open) * 1000) / 10 : 0,
+      'Beam time': w.open ? Math.round((w.beam / w.open) * 1000) / 10 : 0,
+    }));
+  }, [util.data]);
+
+  // revenue chart: net per month, stacked by machine
+  const { revenueChart, revenueMachines } = useMemo(() => {
+    const names = [...new Set((revenue.data?.rows ?? []).map((r) => r.machine || 'No machine'))];
+    const byMonth = new Map<string, Record<string, number | string>>();
+    for (const r of revenue.data?.rows ?? []) {
+      const row = byMonth.get(r.month) ?? { month: r.month };
+      const key = r.machine || 'No machine';
+      row[key] = Number(row[key] ?? 0) + r.net_minor / 100;
+      byMonth.set(r.month, row);
+    }
+    return { revenueChart: [...byMonth.values()], revenueMachines: names };
+  }, [revenue.data]);
+
+  return (
+    <div>
+      <form className="card mb-6 flex flex-wrap items-end gap-4 p-4" onSubmit={apply} aria-label="Report period and machines">
+        <label className="field" htmlFor={ids.from}>
+          <span>From</span>
+          <input id={ids.from} className="input" type="date" value={from} onChange={(e) => setFrom(e.target.value)} required />
+        </label>
+        <label className="field" htmlFor={ids.to}>
+          <span>To</span>
+          <input id={ids.to} className="input" type="date" value={to} onChange={(e) => setTo(e.target.value)} required />
+        </label>
+        {has('utilisation') && (
+          <fieldset className="field min-w-0">
+            <legend className="mb-1 font-semibold">Machines</legend>
+            <div className="flex flex-wrap gap-x-4 gap-y-1">
+              {props.machines.map((m) => (
+                <label key={m.id} className="inline-flex items-center gap-2">
+                  <input
+                    type="checkbox"
+                    checked={chosen.includes(m.id)}
+                    onChange={(e) => setChosen((c) => (e.target.checked ? [...c, m.id] : c.filter((x) => x !== m.id)))}
+                  />
+                  {m.name}
+                  {m.retired && <span className="hint">(retired)</span>}
+                </label>
+              ))}
+            </div>
+            <span className="hint">None ticked: every machine in use.</span>
+          </fieldset>
+        )}
+        <button className="btn btn-primary" type="submit">Show</button>
+        {formProblem && <p className="notice notice-stop w-full" role="alert">{formProblem}</p>}
+        <p className="hint w-full">
+          Showing {applied.from} to {applied.to} (both days included, {props.timeZone}).
+        </p>
+      </form>
+
+      {has('utilisation') && (
+        <Section id="r-util" title="Utilisation" csvHref={csv('utilisation')} loading={util.loading} problem={util.problem}
+          intro="Booked time (reservations, check-ins, completed bookings and no-shows) and measured beam time, as a share of the open hours (weekly hours minus closures), per machine and week.">
+          {util.data && (
+            <>
+              <p className="mb-3" data-testid="util-totals">
+                Open {hours(util.data.totals.openMinutes)} · booked {hours(util.data.totals.bookedMinutes)} ({pct(util.data.totals.bookedShare)}) · beam time{' '}
+                {hours(util.data.totals.beamMinutes)} ({pct(util.data.totals.beamShare)})
+              </p>
+              {utilChart.length > 0 && (
+                <figure className="mb-4 h-64" aria-label="Utilisation by week, percent of open hours">
+                  <ResponsiveContainer width="100%" height="100%">
+                    <BarChart data={utilChart} margin={{ top: 8, right: 8, bottom: 0, left: -16 }}>
+                      <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
+                      <XAxis dataKey="week" fontSize={12} />
+                      <YAxis unit="%" fontSize={12} />
+                      <Tooltip formatter={(v) => `${v} %`} />
+                      <Legend />
+                      <Bar dataKey="Booked" fill={COLORS[0]} isAnimationActive={false} />
+                      <Bar dataKey="Beam time" fill={COLORS[1]} isAnimationActive={false} />
+                    </BarChart>
+                  </ResponsiveContainer>
+                </figure>
+              )}
+              {util.data.rows.length === 0 ? <Empty what="machines" /> : (
+                <Scroll>
+                  <table className="table whitespace-nowrap">
+                    <thead><tr><th>Machine</th><th>Week from</th><th className="text-right">Open</th><th className="text-right">Booked</th><th className="text-right">Beam time</th></tr></thead>
+                    <tbody>
+                      {util.data.rows.map((r) => (
+                        <tr key={`${r.machine_id}-${r.week_start}`}>
+                          <td>{r.machine}</td><td>{r.week_start}</td>
+                          <td className="text-right">{hours(r.open_minutes)}</td>
+                          <td className="text-right">{hours(r.booked_minutes)} <span className="hint">{pct(r.booked_share)}</span></td>
+                          <td className="text-right">{hours(r.beam_minutes)} <span className="hint">{pct(r.beam_share)}</span></td>
+                        </tr>
+                      ))}
+                    </tbody>
+                  </table>
+                </Scroll>
+              )}
+            </>
+          )}
+        </Section>
+      )}
+
+      {has('revenue') && (
+        <Section id="r-revenue" title="Revenue and recharge" csvHref={csv('revenue')} loading={revenue.loading} problem={revenue.problem}
+          intro="Charges taken by card (captured, refunded, settled) and billed to cost centres (recharged), by the month they were made, machine, tier and method. Net is after refunds; tax is included in the amounts. Holds, failed payments and small carried amounts are not revenue until paid.">
+          {revenue.data && (
+            <>
+              <dl className="mb-3 grid grid-cols-2 gap-2 sm:grid-cols-4" data-testid="revenue-totals">
+                <div><dt className="hint">Net</dt><dd className="text-lg font-semibold" data-testid="revenue-net">{money(revenue.data.totals.netMinor)}</dd></div>
+                <div><dt className="hint">Card</dt><dd>{money(revenue.data.totals.cardNetMinor)}</dd></div>
+                <div><dt className="hint">Recharge</dt><dd>{money(revenue.data.totals.rechargeNetMinor)}</dd></div>
+                <div><dt className="hint">Refunded</dt><dd>{money(revenue.data.totals.refundedMinor)}</dd></div>
+              </dl>
+              {revenueChart.length > 0 && (
+                <figure className="mb-4 h-64" aria-label={`Net revenue by month and machine, ${props.currency}`}>
+                  <ResponsiveContainer width="100%" height="100%">
+                    <BarChart data={revenueChart} margin={{ top: 8, right: 8, bottom: 0, left: 0 }}>
+                      <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
+                      <XAxis dataKey="month" fontSize={12} />
+                      <YAxis fontSize={12} />
+                      <Tooltip formatter={(v) => `${props.currency} ${Number(v).toFixed(2)}`} />
+                      <Legend />
+                      {revenueMachines.map((m, i) => (
+                        <Bar key={m} dataKey={m} stackId="net" fill={COLORS[i % COLORS.length]} isAnimationActive={false} />
+                      ))}
+                    </BarChart>
+                  </ResponsiveContainer>
+                </figure>
+              )}
+              {revenue.data.rows.length === 0 ? <Empty what="charges" /> : (
+                <Scroll>
+                  <table className="table whitespace-nowrap">
+                    <thead><tr><th>Month</th><th>Machine</th><th>Tier</th><th>Method</th><th className="text-right">Charges</th><th className="text-right">Net</th><th className="text-right">Tax</th></tr></thead>
+                    <tbody>
+                      {revenue.data.rows.map((r) => (
+                        <tr key={`${r.month}-${r.machine_id}-${r.tier}-${r.method}-${r.currency}`}>
+                          <td>{r.month}</td><td>{r.machine || '—'}</td><td>{r.tier}</td><td>{r.method}</td>
+                          <td className="text-right">{r.charges}</td>
+                          <td className="text-right">{formatMoney(r.net_minor, r.currency)}</td>
+                          <td className="text-right">{formatMoney(r.tax_minor, r.currency)}</td>
+                        </tr>
+                      ))}
+                    </tbody>
+                  </table>
+                </Scroll>
+              )}
+            </>
+          )}
+        </Section>
+      )}
+
+      {has('clearances') && (
+        <Section id="r-clear" title="Clearance funnel" csvHref={csv('clearances')} loading={clear.loading} problem={clear.problem}
+          intro="People per machine group who, in this period, started a quiz, passed it, were signed off at the machine, and whose clearance lapsed without renewal.">
+          {clear.data && (clear.data.rows.length === 0 ? <Empty what="machine groups" /> : (
+            <Scroll>
+              <table className="table whitespace-nowrap">
+                <thead><tr><th>Group</th><th className="text-right">Quiz started</th><th className="text-right">Passed</th><th className="text-right">Signed off</th><th className="text-right">Lapsed</th></tr></thead>
+                <tbody>
+                  {clear.data.rows.map((r) => (
+                    <tr key={r.group_id}>
+                      <td>{r.group}</td><td className="text-right">{r.quiz_started}</td><td className="text-right">{r.quiz_passed}</td>
+                      <td className="text-right">{r.signed_off}</td><td className="text-right">{r.lapsed}</td>
+                    </tr>
+                  ))}
+                </tbody>
+              </table>
+            </Scroll>
+          ))}
+        </Section>
+      )}
+
+      {has('faults') && (
+        <Section id="r-faults" title="Faults and time out of service" csvHref={csv('faults')} loading={faults.loading} problem={faults.problem}
+          intro="Faults reported in this period by severity, faults still open, time each machine was out of service, and the mean time from going out of service to running again.">
+          {faults.data && (
+            <>
+              <p className="mb-3" data-testid="fault-totals">
+                {faults.data.totals.stop} stop · {faults.data.totals.degraded} degraded · {faults.data.totals.note} note · out of service{' '}
+                {hours(faults.data.totals.outOfServiceMinutes)} · mean time to return{' '}
+                {faults.data.totals.meanMinutesToReturn === null ? '—' : hours(faults.data.totals.meanMinutesToReturn)}
+              </p>
+              <Scroll>
+                <table className="table whitespace-nowrap">
+                  <thead><tr><th>Machine</th><th className="text-right">Stop</th><th className="text-right">Degraded</th><th className="text-right">Note</th><th className="text-right">Open now</th><th className="text-right">Out of service</th><th className="text-right">Mean to return</th></tr></thead>
+                  <tbody>
+                    {faults.data.rows.map((r) => (
+                      <tr key={r.machine_id}>
+                        <td>{r.machine}</td><td className="text-right">{r.stop}</td><td className="text-right">{r.degraded}</td><td className="text-right">{r.note}</td>
+                        <td className="text-right">{r.open_now}</td><td className="text-right">{hours(r.out_of_service_minutes)}</td>
+                        <td className="text-right">{r.mean_minutes_to_return === null ? '—' : hours(r.mean_minutes_to_return)}</td>
+                      </tr>
+                    ))}
+                  </tbody>
+                </table>
+              </Scroll>
+            </>
+          )}
+        </Section>
+      )}
+
+      {has('no-shows') && (
+        <Section id="r-noshow" title="No-shows and late cancellations" csvHref={csv('no-shows')} loading={noShows.loading} problem={noShows.problem}
+          intro="People with a no-show or a late cancellation among their personal bookings that started in this period: a starting point for a fair-use conversation, not a verdict.">
+          {noShows.data && (noShows.data.rows.length === 0 ? <Empty what="no-shows or late cancellations" /> : (
+            <Scroll>
+              <table className="table whitespace-nowrap">
+                <thead><tr><th>Person</th><th className="text-right">Bookings</th><th className="text-right">No-shows</th><th className="text-right">Late cancellations</th></tr></thead>
+                <tbody>
+                  {noShows.data.rows.map((r) => (
+                    <tr key={r.person_id}>
+                      <td>{r.person} <span className="hint">{r.email}</span></td><td className="text-right">{r.bookings}</td>
+                      <td className="text-right">{r.no_shows} <span className="hint">{pct(r.no_show_share)}</span></td>
+                      <td className="text-right">{r.late_cancellations}</td>
+                    </tr>
+                  ))}
+                </tbody>
+              </table>
+            </Scroll>
+          ))}
+        </Section>
+      )}
+    </div>
+  );
+}

@@ -1,0 +1,61 @@
+/**
+ * The ten report routes (`/api/reports/<name>` and `<name>.csv`) share one handler: role check, query
+ * (period in the site's time zone, machines), the report from src/lib/server/reports.ts, then JSON or CSV.
+ */
+import type { APIRoute } from 'astro';
+import { stringify } from 'csv-stringify/sync';
+import { HttpError, json, readQuery, requireRole, route } from './http';
+import { getSettings } from './settings';
+import { clearanceReport, faultReport, noShowReport, revenueReport, utilisationReport, type ReportScope } from './reports';
+import { COLUMNS, PeriodError, reportQuery, resolvePeriod, type ReportName } from '../reports';
+import { safeCell } from '../csv';
+import { zonedDate } from '../zoned-time';
+
+const RUN: Record<ReportName, (scope: ReportScope) => Promise<{ rows: object[]; totals: object }>> = {
+  utilisation: utilisationReport,
+  revenue: revenueReport,
+  clearances: clearanceReport,
+  faults: faultReport,
+  'no-shows': noShowReport,
+};
+
+/** Who may read each report: admins all; instructors the clearance funnel (their teaching). */
+export const REPORT_ROLES: Record<ReportName, ('admin' | 'instructor')[]> = {
+  utilisation: ['admin'],
+  revenue: ['admin'],
+  clearances: ['admin', 'instructor'],
+  faults: ['admin'],
+  'no-shows': ['admin'],
+};
+
+export function reportRoute(name: ReportName, format: 'json' | 'csv'): APIRoute {
+  return route(async ({ locals, url }) => {
+    requireRole(locals, ...REPORT_ROLES[name]);
+    const q = readQuery(url, reportQuery);
+    const { timeZone } = await getSettings();
+    let period;
+    try {
+      period = resolvePeriod(q, zonedDate(new Date(), timeZone), timeZone);
+    } catch (err) {
+      if (err instanceof PeriodError) throw new HttpError(422, 'invalid', err.message, { [err.field]: err.message });
+      throw err;
+    }
+    const report = await RUN[name]({ period, timeZone, ...(q.machineId ? { machineIds: q.machineId } : {}) });
+    if (format === 'json') {
+      return json({ report: name, period: { from: period.from, to: period.to, timeZone }, machineIds: q.machineId ?? null, ...report });
+    }
+    const columns = COLUMNS[name] as readonly string[];
+    const lines = report.rows.map((row) => columns.map((c) => {
+      const v = (row as Record<string, unknown>)[c];
+      return typeof v === 'number' ? String(v) : safeCell(v);
+    }));
+    const csv = stringify([[...columns], ...lines]);
+    return new Response(csv, {
+      headers: {
+        'content-type': 'text/csv; charset=utf-8',
+        'content-disposition': `attachment; filename="beamwarden-${name}-${period.from}-to-${period.to}.csv"`,
+        'cache-control': 'no-store',
+      },
+    });
+  });
+}
