@@ -20,9 +20,13 @@ beforeAll(async () => {
   admin = await Client.as('admin');
   member = await Client.as('member');
   laser = (await machines(admin))['laser-a'];
-  await setTestRules(admin, laser.id);
+  // a weekly quota large enough for every booking of this file (restored afterwards)
+  await setTestRules(admin, laser.id, { quotas: { student: 6000, staff: 6000, community: 6000, commercial: 6000 } });
 });
-afterAll(closeTestDb);
+afterAll(async () => {
+  await setTestRules(admin, laser.id);
+  await closeTestDb();
+});
 
 async function waitUntil(what: string, ok: () => Promise<boolean>, timeoutMs = 30_000): Promise<number> {
   const start = Date.now();
@@ -72,7 +76,7 @@ describe('PostgreSQL restarted while requests flow', () => {
 
     for (const r of results) {
       expect(r.text).not.toMatch(/\bat [\w.<>]+ \(|node_modules/);
-      expect([201, 409, 500, 503]).toContain(r.status);
+      expect([201, 500, 503], r.text).toContain(r.status);
     }
     // whole or absent: every stored booking has its audit entry (same transaction), and every 201 was stored
     const rows = (await testDb()('bookings').where({ machine_id: laser.id, notes: 'fault test' }).select('id', 'starts_at')) as { id: string; starts_at: Date }[];
