@@ -14,7 +14,7 @@ const PHOTO_TYPES = ['image/jpeg', 'image/png', 'image/webp', 'image/heic', 'ima
 
 export async function safePhoto(bytes: Uint8Array, maxEdge = 2000): Promise<{ bytes: Uint8Array; contentType: 'image/jpeg'; width: number; height: number }> {
   await checkUpload(bytes, PHOTO_TYPES, 'photo', PHOTO_MAX_BYTES);
-  let meta: sharp.Metadata;
+  let meta: Awaited<ReturnType<ReturnType<typeof sharp>['metadata']>>;
   try {
     meta = await sharp(bytes, { limitInputPixels: PHOTO_MAX_PIXELS }).metadata();
   } catch {
