@@ -426,6 +426,21 @@ export function maildevArgs(cfg: Pick<StackConfig, 'dataDir' | 'smtpPort' | 'mai
   ];
 }
 
+/** The storage fake (s3rver on loopback), its PID in <dataDir>/run/storage.pid; also restarted by the service-fault tests. */
+export function startStorageFake(cfg: Pick<StackConfig, 'dataDir' | 's3Port'>): Service {
+  const s3Dir = path.join(cfg.dataDir, 's3');
+  fs.mkdirSync(s3Dir, { recursive: true });
+  return spawnService(cfg, 'storage', ['--import', 'tsx', path.join(ROOT, 'scripts/services/s3-fake.ts')], {
+    S3_PORT: String(cfg.s3Port),
+    S3_DIR: s3Dir,
+  });
+}
+
+/** Restarts the cluster (fast shutdown, same options), as an operator or a crash would; used by the service-fault tests. */
+export function restartPostgres(pgData: string): void {
+  runPg('pg_ctl', ['restart', '-D', pgData, '-m', 'fast', '-w', '-t', '60', '-l', path.join(pgData, 'server.log')]);
+}
+
 export async function startFakes(cfg: StackConfig): Promise<void> {
   for (const [name, p] of [['maildev', cfg.smtpPort], ['maildev-web', cfg.mailWebPort], ['payments', cfg.stripePort], ['storage', cfg.s3Port]] as const) {
     stopLeftover(cfg, name);
@@ -433,18 +448,11 @@ export async function startFakes(cfg: StackConfig): Promise<void> {
     if (await portOpen(p)) await new Promise((r) => setTimeout(r, 1000));
     await assertPortFree(p, name);
   }
-  const mailDir = path.join(cfg.dataDir, 'mail');
-  const s3Dir = path.join(cfg.dataDir, 's3');
-  fs.mkdirSync(mailDir, { recursive: true });
-  fs.mkdirSync(s3Dir, { recursive: true });
+  fs.mkdirSync(path.join(cfg.dataDir, 'mail'), { recursive: true });
 
   const mail = spawnService(cfg, 'maildev', maildevArgs(cfg));
-  const tsx = ['--import', 'tsx'];
   const payments = startPaymentsFake(cfg);
-  const storage = spawnService(cfg, 'storage', [...tsx, path.join(ROOT, 'scripts/services/s3-fake.ts')], {
-    S3_PORT: String(cfg.s3Port),
-    S3_DIR: s3Dir,
-  });
+  const storage = startStorageFake(cfg);
   await Promise.all([
     waitForPort(cfg.smtpPort, 'maildev (SMTP)', mail.child),
     waitForPort(cfg.mailWebPort, 'maildev (web)', mail.child),

@@ -430,7 +430,12 @@ function MachineCalendar(p: {
         if (b) {
           info.el.setAttribute('tabindex', '0');
           info.el.setAttribute('role', 'button');
-          info.el.setAttribute('aria-label', `${info.event.title}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), p.tz)}`);
+          // the accessible name is what is shown plus the full time in hidden text (no aria-label that
+          // differs from the visible words, which voice-control users say to pick the event)
+          const full = document.createElement('span');
+          full.className = 'sr-only';
+          full.textContent = `, ${info.event.title}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), p.tz)}`;
+          info.el.appendChild(full);
           info.el.addEventListener('keydown', (e) => {
             if (e.key === 'Enter' || e.key === ' ') {
               e.preventDefault();

@@ -86,7 +86,8 @@ describe('clearance journey', () => {
     await mpage.getByLabel('Your name').fill(member.name);
     await mpage.getByLabel('E-mail').fill(member.email);
     await mpage.getByLabel('Password').fill(member.password);
-    await Promise.all([mpage.waitForURL(/\/\?welcome=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    await Promise.all([mpage.waitForURL(/\/signup\?sent=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    await signIn(mpage, member.email, member.password);
     await mpage.goto('/clearances');
     const rfCard = mpage.locator('li[data-group="RF laser"]');
     await expect(rfCard.locator('[data-state]').getAttribute('data-state')).resolves.toBe('quiz due');

@@ -19,6 +19,8 @@ async function newMember(name: string): Promise<{ client: Client; id: string; em
   const password = 'a long enough phrase';
   const res = await client.fetch('/signup', { method: 'POST', body: new URLSearchParams({ name, email, password }), headers: { 'content-type': 'application/x-www-form-urlencoded' } });
   expect(res.status).toBe(303);
+  // sign-up starts no session (it answers the same for taken addresses): sign in as the person would
+  expect((await client.signInAs(email, password)).location).not.toContain('error');
   const me = await body(await client.get('/api/me'));
   return { client, id: me.id, email, password };
 }

@@ -66,13 +66,16 @@ describe('sign-in', () => {
 });
 
 describe('sign-up and sign-out', () => {
-  it('a new person gets the member role only, is signed in, and can sign out', async () => {
+  it('a new person gets the member role only, signs in with their password, and can sign out', async () => {
     const c = new Client();
     await c.get('/signup');
     const email = `new-${Date.now()}@example.org`;
     const form = new URLSearchParams({ name: 'Ana Test', email, password: 'a long enough phrase' });
     const res = await c.fetch('/signup', { method: 'POST', body: form, headers: { 'content-type': 'application/x-www-form-urlencoded' } });
     expect(res.status).toBe(303);
+    expect(res.headers.get('location')).toBe('/signup?sent=1');
+    expect((await c.get('/api/me')).status).toBe(401);
+    expect((await c.signInAs(email, 'a long enough phrase')).location).not.toContain('error');
     const me = await body(await c.get('/api/me'));
     expect(me).toMatchObject({ email, name: 'Ana Test', roles: ['member'] });
     const stored = await testDb()('people').where({ email }).first();

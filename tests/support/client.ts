@@ -7,7 +7,12 @@ import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
 export class Client {
   private jar = new Map<string, string>();
 
-  constructor() {}
+  /** `base`: another app process's address (tests of several processes); the test app by default. */
+  constructor(private readonly base?: string) {}
+
+  private url(): string {
+    return this.base ?? APP_URL();
+  }
 
   private store(res: Response): void {
     for (const raw of res.headers.getSetCookie()) {
@@ -32,13 +37,13 @@ export class Client {
     const headers = new Headers(init.headers);
     if (this.jar.size) headers.set('cookie', this.cookieHeader());
     const method = (init.method ?? 'GET').toUpperCase();
-    if (method !== 'GET' && method !== 'HEAD' && !headers.has('origin')) headers.set('origin', APP_URL());
+    if (method !== 'GET' && method !== 'HEAD' && !headers.has('origin')) headers.set('origin', this.url());
     let body = init.body;
     if (init.json !== undefined) {
       headers.set('content-type', 'application/json');
       body = JSON.stringify(init.json);
     }
-    const res = await fetch(new URL(path, APP_URL()), { ...init, method, headers, body, redirect: 'manual' });
+    const res = await fetch(new URL(path, this.url()), { ...init, method, headers, body, redirect: 'manual' });
     this.store(res);
     return res;
   }
@@ -63,8 +68,8 @@ export class Client {
     return { status: res.status, location: res.headers.get('location') ?? '' };
   }
 
-  static async as(who: DemoPerson): Promise<Client> {
-    const c = new Client();
+  static async as(who: DemoPerson, base?: string): Promise<Client> {
+    const c = new Client(base);
     const r = await c.signInAs(DEMO[who], DEMO_PASSWORD);
     if (r.location.includes('error')) throw new Error(`sign-in as ${who} failed: ${r.location}`);
     return c;

@@ -16,5 +16,8 @@ export async function signUpNew(label: string): Promise<{ client: Client; email:
     headers: { 'content-type': 'application/x-www-form-urlencoded' },
   });
   if (res.status !== 303) throw new Error(`sign-up for ${email} answered ${res.status}`);
+  // sign-up answers the same for new and taken addresses and starts no session: sign in as the person would
+  const signedIn = await client.signInAs(email, password);
+  if (signedIn.location.includes('error')) throw new Error(`sign-in after sign-up for ${email} failed: ${signedIn.location}`);
   return { client, email, name, password };
 }

@@ -4,6 +4,7 @@
  */
 import { CreateBucketCommand, GetObjectCommand, HeadBucketCommand, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import { env } from './env';
+import { HttpError } from './http';
 
 let client: S3Client | undefined;
 let bucketReady: Promise<void> | undefined;
@@ -40,13 +41,34 @@ export function ensureBucket(): Promise<void> {
 }
 
 export async function putObject(key: string, bytes: Uint8Array, contentType: string): Promise<void> {
-  await ensureBucket();
-  await s3().send(new PutObjectCommand({ Bucket: env().S3_BUCKET, Key: key, Body: bytes, ContentType: contentType, ContentLength: bytes.byteLength }));
+  await unavailableAs503(async () => {
+    await ensureBucket();
+    await s3().send(new PutObjectCommand({ Bucket: env().S3_BUCKET, Key: key, Body: bytes, ContentType: contentType, ContentLength: bytes.byteLength }));
+  });
+}
+
+/**
+ * Storage that does not answer (connection refused, time-out, a 5xx) becomes a clear 503 for the caller,
+ * thrown before anything is written to the database, instead of an unexplained 500.
+ */
+async function unavailableAs503<T>(fn: () => Promise<T>): Promise<T> {
+  try {
+    return await fn();
+  } catch (err) {
+    const e = err as { name?: string; code?: string; $metadata?: { httpStatusCode?: number }; cause?: { code?: string } };
+    const status = e.$metadata?.httpStatusCode;
+    const network = ['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EHOSTUNREACH', 'ENOTFOUND', 'EPIPE'].includes(e.code ?? e.cause?.code ?? '');
+    if (network || e.name === 'TimeoutError' || (status !== undefined && status >= 500) || (status === undefined && !e.name?.startsWith('NoSuch'))) {
+      console.error('[storage] unavailable:', e.code ?? e.name);
+      throw new HttpError(503, 'storage_unavailable', 'File storage is not answering just now, so nothing was saved. Try again in a few minutes.', undefined, { 'retry-after': '60' });
+    }
+    throw err;
+  }
 }
 
 /** The stored bytes and their content type, or null when there is no such object. */
 export async function getObject(key: string): Promise<{ bytes: Uint8Array; contentType: string } | null> {
-  await ensureBucket();
+  await unavailableAs503(ensureBucket);
   try {
     const out = await s3().send(new GetObjectCommand({ Bucket: env().S3_BUCKET, Key: key }));
     if (!out.Body) return null;

@@ -1,0 +1,90 @@
+/**
+ * The main screens in Chromium at phone and desk widths: the islands run under the Content-Security-Policy
+ * (no violation, no page error), and axe-core finds no serious or critical accessibility violation.
+ * axe is evaluated through the browser's debugging protocol, which the page's policy does not govern.
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import type { Browser, Page } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { clearSignInLimits, closeTestDb } from '../support/db';
+import type { DemoPerson } from '../support/env';
+
+const AXE = fs.readFileSync(path.resolve(import.meta.dirname, '..', '..', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
+
+/** Screen, who sees it, and what shows that its island has run. */
+const SCREENS: { path: string; who: DemoPerson | null; ready: string }[] = [
+  { path: '/signin', who: null, ready: 'form' },
+  { path: '/', who: 'member', ready: 'main' },
+  { path: '/book', who: 'member', ready: '.fc-timegrid, .fc' },
+  { path: '/clearances', who: 'member', ready: 'main' },
+  { path: '/account', who: 'member', ready: 'main' },
+  { path: '/quizzes', who: 'instructor', ready: 'main' },
+  { path: '/admin/people', who: 'admin', ready: 'table' },
+  { path: '/admin/materials', who: 'admin', ready: 'main' },
+];
+
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launch();
+});
+afterAll(async () => {
+  await browser?.close();
+  await clearSignInLimits();
+  await closeTestDb();
+});
+
+interface AxeResult {
+  violations: { id: string; impact: string | null; help: string; nodes: { target: string[] }[] }[];
+}
+
+async function axe(page: Page): Promise<AxeResult['violations']> {
+  await page.evaluate(AXE);
+  const result = (await page.evaluate(`axe.run(document, { resultTypes: ['violations'] })`)) as AxeResult;
+  return result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
+}
+
+async function cspViolations(page: Page): Promise<string[]> {
+  return page.evaluate(() => (window as unknown as { __csp?: string[] }).__csp ?? []);
+}
+
+describe('main screens under the Content-Security-Policy, checked with axe-core at phone and desk widths', () => {
+  const byWho = new Map<string, typeof SCREENS>();
+  for (const s of SCREENS) byWho.set(s.who ?? 'out', [...(byWho.get(s.who ?? 'out') ?? []), s]);
+  for (const [who, screens] of byWho) {
+    it(`${who}: ${screens.map((s) => s.path).join(', ')} — no policy violation, no page error, no serious or critical violation`, async () => {
+      const problems: string[] = [];
+      // one page load per screen: checked at desk width, then resized to phone width and checked again
+      const ctx = await newContext(browser, DESK);
+      await ctx.addInitScript(() => {
+        const w = window as unknown as { __csp: string[] };
+        w.__csp = [];
+        document.addEventListener('securitypolicyviolation', (e) => w.__csp.push(`${e.violatedDirective} ${e.blockedURI} ${e.sourceFile}:${e.lineNumber}`));
+      });
+      const page = await ctx.newPage();
+      page.setDefaultTimeout(20_000);
+      const errors = watchErrors(page);
+      if (who !== 'out') await signIn(page, who);
+      for (const s of screens) {
+        await page.setViewportSize(DESK);
+        await page.goto(s.path);
+        await page.locator(s.ready).first().waitFor();
+        await page.waitForLoadState('networkidle');
+        const name = s.path.replace(/\W+/g, '-').replace(/^-|-$/g, '') || 'floor';
+        for (const [label, viewport] of [['desk', DESK], ['phone', PHONE]] as const) {
+          if (label === 'phone') {
+            await page.setViewportSize(viewport);
+            await page.waitForTimeout(200);
+          }
+          for (const v of await axe(page)) problems.push(`${s.path} (${label}): ${v.impact} ${v.id} — ${v.help} at ${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join(', ')}`);
+          await shot(page, `a11y-${name}-${label}`);
+        }
+        for (const v of await cspViolations(page)) problems.push(`${s.path}: policy violation ${v}`);
+      }
+      for (const e of errors) problems.push(`${who}: ${e}`);
+      await ctx.close();
+      expect(problems, problems.join('\n')).toEqual([]);
+    }, 120_000);
+  }
+});

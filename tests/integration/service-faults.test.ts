@@ -1,0 +1,132 @@
+/**
+ * Faults of the services while the app runs (mail and payment outages have their own files):
+ * PostgreSQL restarted under load — the app recovers by itself and no request leaves half a write;
+ * the storage fake stopped — a material request with its file is answered with a clear 503 and nothing
+ * is saved, and works again once storage is back. Uses the stack's own code (scripts/lib/stack.ts).
+ */
+import fs from 'node:fs';
+import path from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { portOpen, restartPostgres, startStorageFake } from '../../scripts/lib/stack';
+import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { Client } from '../support/client';
+import { closeTestDb, testDb } from '../support/db';
+
+let admin: Client;
+let member: Client;
+let laser: MachineRef;
+
+beforeAll(async () => {
+  admin = await Client.as('admin');
+  member = await Client.as('member');
+  laser = (await machines(admin))['laser-a'];
+  // a weekly quota large enough for every booking of this file (restored afterwards)
+  await setTestRules(admin, laser.id, { quotas: { student: 6000, staff: 6000, community: 6000, commercial: 6000 } });
+});
+afterAll(async () => {
+  await setTestRules(admin, laser.id);
+  await closeTestDb();
+});
+
+async function waitUntil(what: string, ok: () => Promise<boolean>, timeoutMs = 30_000): Promise<number> {
+  const start = Date.now();
+  for (;;) {
+    try {
+      if (await ok()) return Date.now() - start;
+    } catch {
+      /* not yet */
+    }
+    if (Date.now() - start > timeoutMs) throw new Error(`${what} did not happen within ${timeoutMs / 1000} s`);
+    await new Promise((r) => setTimeout(r, 200));
+  }
+}
+
+describe('PostgreSQL restarted while requests flow', () => {
+  it('the app answers again without a restart, and every booking is whole or absent', async () => {
+    // one-hour slots on laser-a, 26–27 days ahead: clear of the seed's and other files' bookings
+    const slots = Array.from({ length: 12 }, (_, i) => ({ startsAt: siteTime(26 + (i % 2), 8 + Math.floor(i / 2) * 2), endsAt: siteTime(26 + (i % 2), 9 + Math.floor(i / 2) * 2) }));
+    const book = (s: (typeof slots)[number]) =>
+      member.send('POST', '/api/bookings', { machineId: laser.id, startsAt: iso(s.startsAt), endsAt: iso(s.endsAt), materials: [], notes: 'fault test' });
+    const results: { slot: number; status: number; text: string }[] = [];
+    const reads: number[] = [];
+    let flowing = true;
+    const readLoop = (async () => {
+      while (flowing) {
+        const r = await member.get('/api/machines').catch(() => null);
+        reads.push(r?.status ?? 0);
+        await r?.text();
+      }
+    })();
+    const writes = slots.map(async (s, i) => {
+      await new Promise((r) => setTimeout(r, i * 60));
+      const r = await book(s);
+      results.push({ slot: i, status: r.status, text: await r.text() });
+    });
+    await new Promise((r) => setTimeout(r, 250));
+    restartPostgres(process.env.TEST_PG_DATA!); // fast shutdown: in-flight transactions are rolled back
+    await closeTestDb(); // the test's own pool held connections to the old server
+    await Promise.all(writes);
+    const recoveredMs = await waitUntil('the app answering /api/me', async () => (await member.get('/api/me')).status === 200);
+    flowing = false;
+    await readLoop;
+
+    // the app did not restart: it serves reads and writes again
+    const after = await book({ startsAt: siteTime(28, 10), endsAt: siteTime(28, 11) });
+    expect(after.status, await after.text()).toBe(201);
+
+    for (const r of results) {
+      expect(r.text).not.toMatch(/\bat [\w.<>]+ \(|node_modules/);
+      expect([201, 500, 503], r.text).toContain(r.status);
+    }
+    // whole or absent: every stored booking has its audit entry (same transaction), and every 201 was stored
+    const rows = (await testDb()('bookings').where({ machine_id: laser.id, notes: 'fault test' }).select('id', 'starts_at')) as { id: string; starts_at: Date }[];
+    for (const row of rows) {
+      const audit = await testDb()('audit_log').where({ kind: 'booking.created', subject_id: row.id }).first();
+      expect(audit, `booking ${row.id} has its audit entry`).toBeDefined();
+    }
+    for (const r of results.filter((x) => x.status === 201)) {
+      expect(rows.some((row) => row.starts_at.getTime() === slots[r.slot]!.startsAt.getTime()), `slot ${r.slot} answered 201 and is stored`).toBe(true);
+    }
+    const stored201 = results.filter((x) => x.status === 201).length;
+    expect(rows.length).toBeGreaterThanOrEqual(stored201);
+    console.log(`PostgreSQL restart: ${results.length} bookings in flight (${stored201} stored), ${reads.length} reads; answering again after ${recoveredMs} ms`);
+  }, 90_000);
+});
+
+describe('the storage fake stopped', () => {
+  const pdf = '%PDF-1.4\n1 0 obj <<>> endobj\ntrailer <<>>\n%%EOF\n';
+  async function request(name: string): Promise<Response> {
+    const f = new FormData();
+    f.set('name', name);
+    f.set('supplier', 'Fault Test Ltd');
+    f.set('composition', 'C5H8O2');
+    f.set('thicknessMm', '3');
+    f.set('mode', 'cut');
+    f.set('sds', new Blob([pdf], { type: 'application/pdf' }), 'sheet.pdf');
+    const req = new Request('http://x/', { method: 'POST', body: f });
+    return member.fetch('/api/material-requests', { method: 'POST', body: Buffer.from(await req.arrayBuffer()), headers: { 'content-type': req.headers.get('content-type')! } });
+  }
+
+  it('a request with its file is answered 503 storage_unavailable and nothing is saved; it works once storage is back', async () => {
+    const dataDir = process.env.TEST_DATA_DIR!;
+    const s3Port = Number(process.env.TEST_S3_PORT);
+    const pidFile = path.join(dataDir, 'run', 'storage.pid');
+    const pid = Number(fs.readFileSync(pidFile, 'utf8').trim());
+    process.kill(pid, 'SIGTERM');
+    await waitUntil('the storage fake stopping', async () => !(await portOpen(s3Port)), 10_000);
+    try {
+      const name = `Fault sheet ${Date.now()}`;
+      const res = await request(name);
+      const b = (await res.json()) as { error: { code: string; message: string } };
+      expect(res.status).toBe(503);
+      expect(b.error.code).toBe('storage_unavailable');
+      expect(b.error.message).toMatch(/nothing was saved/i);
+      expect(await testDb()('material_requests').where({ name }).first()).toBeUndefined();
+    } finally {
+      startStorageFake({ dataDir, s3Port });
+      await waitUntil('the storage fake listening', () => portOpen(s3Port), 20_000);
+    }
+    const again = await request(`Fault sheet back ${Date.now()}`);
+    expect(again.status, await again.clone().text()).toBe(201);
+  }, 60_000);
+});
