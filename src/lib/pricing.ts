@@ -221,7 +221,7 @@ export function formatMoney(amountMinor: number, currency: string): string {
 /** "12.3" → 1230 (NZD); refuses more decimals than the currency has. Returns null when not a plain amount. */
 export function parseMajor(text: string, currency: string): number | null {
   const e = currencyExponent(currency);
-  const m = /^\s*(\d{1,9})(?:\.(\d*))?\s*$/.exec(text);
+  const m = /^\s*(\d{1,12})(?:\.(\d*))?\s*$/.exec(text); // up to 10^12 major units stays a safe integer in minor units
   if (!m) return null;
   const frac = m[2] ?? '';
   if (frac.length > e) return null;
