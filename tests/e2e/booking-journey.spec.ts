@@ -146,7 +146,8 @@ describe('booking on the calendar', () => {
     await signIn(page, 'member');
     await page.goto(`/book?machine=${laserA.id}`);
     await page.locator('.fc-timegrid-slot-lane').first().waitFor();
-    expect(await page.getByRole('button', { name: 'Day', exact: true }).getAttribute('aria-pressed')).toBe('true');
+    // the island switches to the day view after it mounts on a narrow screen: wait for it
+    await expect.poll(() => page.getByRole('button', { name: 'Day', exact: true }).getAttribute('aria-pressed'), { timeout: 20_000 }).toBe('true');
     // the seed books Laser A most days: go to tomorrow (site time) so the day shows bookings
     await page.getByRole('button', { name: 'Next day' }).click();
     await page.waitForLoadState('networkidle');
