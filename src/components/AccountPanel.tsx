@@ -1,4 +1,5 @@
 /** Account: tier, balance owed, the saved card (test mode offers the provider's test tokens), and the charges table. */
+import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useState, type FormEvent } from 'react';
 import { TIER_LABELS, formatMoney, type Tier } from '../lib/pricing';
 import { api, ApiError } from './ui/api';
@@ -171,14 +172,7 @@ export default function AccountPanel({ initial, timeZone, testMode }: { initial:
             </tbody>
           </table>
         </div>
-        <nav aria-label="Pages" className="flex items-center justify-between gap-3 text-sm">
-          <span>{data ? `${data.total} ${data.total === 1 ? 'charge' : 'charges'}` : 'Loading…'}</span>
-          <span className="flex items-center gap-2">
-            <button type="button" className="btn btn-quiet" disabled={page <= 1} onClick={() => setPage(page - 1)}>Previous</button>
-            <span>Page {page} of {pages}</span>
-            <button type="button" className="btn btn-quiet" disabled={page >= pages} onClick={() => setPage(page + 1)}>Next</button>
-          </span>
-        </nav>
+        <Pager total={data ? data.total : null} noun={['charge', 'charges']} page={page} pages={pages} onPage={setPage} />
       </section>
     </div>
   );

@@ -1,4 +1,5 @@
 /** Admin › Audit: the append-only record of changes, filtered by person, kind, text and dates; exported as CSV. */
+import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 
@@ -209,14 +210,7 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
           </tbody>
         </table>
       </div>
-      <nav aria-label="Pages" className="flex flex-wrap items-center justify-between gap-3 text-sm">
-        <span>{data ? `${data.total} ${data.total === 1 ? 'entry' : 'entries'}` : 'Loading…'}</span>
-        <span className="flex items-center gap-2">
-          <button type="button" className="btn btn-quiet" disabled={page <= 1} onClick={() => setPage(page - 1)}>Previous</button>
-          <span>Page {page} of {pages}</span>
-          <button type="button" className="btn btn-quiet" disabled={page >= pages} onClick={() => setPage(page + 1)}>Next</button>
-        </span>
-      </nav>
+      <Pager total={data ? data.total : null} noun={['entry', 'entries']} page={page} pages={pages} onPage={setPage} />
     </div>
   );
 }

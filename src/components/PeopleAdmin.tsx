@@ -1,4 +1,5 @@
 /** Admin › People: search, sort and page through people; grant or remove roles (each change is audited). */
+import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useState } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
 import { api, ApiError } from './ui/api';
@@ -205,14 +206,7 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
           </tbody>
         </table>
       </div>
-      <nav aria-label="Pages" className="flex items-center justify-between gap-3 text-sm">
-        <span>{data ? `${data.total} ${data.total === 1 ? 'person' : 'people'}` : 'Loading…'}</span>
-        <span className="flex items-center gap-2">
-          <button type="button" className="btn btn-quiet" disabled={page <= 1} onClick={() => setPage(page - 1)}>Previous</button>
-          <span>Page {page} of {pages}</span>
-          <button type="button" className="btn btn-quiet" disabled={page >= pages} onClick={() => setPage(page + 1)}>Next</button>
-        </span>
-      </nav>
+      <Pager total={data ? data.total : null} noun={['person', 'people']} page={page} pages={pages} onPage={setPage} />
     </div>
   );
 }
