@@ -235,7 +235,12 @@ describe('cancelling', () => {
     expect((await testDb()('bookings').where({ id: soon.id }).first()).late_cancel).toBe(true);
     // billing: the late-cancellation fee is charged — captured from a saved card (the account journey may have saved
     // one), or a failed payment without one, which would pause member@'s bookings: settled by hand for this file
-    const fee = await testDb()('charges').where({ booking_id: soon.id, kind: 'late_cancellation' }).first();
+    // (the fee is taken after the cancel commits: wait while the provider call is in flight)
+    let fee = await testDb()('charges').where({ booking_id: soon.id, kind: 'late_cancellation' }).first();
+    for (let i = 0; i < 80 && (!fee || fee.state === 'pending'); i++) {
+      await new Promise((r) => setTimeout(r, 250));
+      fee = await testDb()('charges').where({ booking_id: soon.id, kind: 'late_cancellation' }).first();
+    }
     expect(['captured', 'payment failed']).toContain(fee?.state);
     expect(fee.amount_minor).toBeGreaterThan(0);
     expect(await testDb()('charges').where({ booking_id: b.id, kind: 'late_cancellation' }).first()).toBeUndefined();
@@ -336,9 +341,9 @@ describe('the no-show sweep', () => {
       expect(await testDb()('audit_log').where({ subject_id: late.id, kind: 'booking.no_show' }).first()).toBeTruthy();
       // billing: the no-show fee is charged after the sweep commits (by this call or the worker's own sweep)
       let fee: { id: string; state: string } | undefined;
-      for (let i = 0; i < 40 && !fee; i++) {
+      for (let i = 0; i < 80 && (!fee || fee.state === 'pending'); i++) {
         fee = await testDb()('charges').where({ booking_id: late.id, kind: 'no_show' }).first('id', 'state');
-        if (!fee) await new Promise((r) => setTimeout(r, 250));
+        if (!fee || fee.state === 'pending') await new Promise((r) => setTimeout(r, 250));
       }
       // captured from a saved card, or a failed payment without one (settled by hand so member@ can book again)
       expect(['captured', 'payment failed']).toContain(fee?.state);

@@ -313,7 +313,7 @@ describe('the provider unreachable, then back', () => {
     const done = await waitFor('the queued charge to be captured', async () => {
       const now = await getCharge(c.id);
       return now?.state === 'captured' ? now : null;
-    }, 45_000);
+    }, 90_000);
     expect(done.capturedMinor).toBe(1800);
     const provider = await providerChargesOf(m.id);
     expect(provider).toHaveLength(1);
