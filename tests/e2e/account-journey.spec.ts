@@ -46,7 +46,8 @@ describe('account and pricing', () => {
     expect(charge.state).toBe('captured');
     await page.reload();
     await page.waitForLoadState('networkidle');
-    const row = page.locator('tbody tr', { hasText: 'Laser B' });
+    // newest first: the charge this journey just made (other files may have charged member@ on Laser B too)
+    const row = page.locator('tbody tr', { hasText: 'Laser B' }).first();
     // 18 → 20 min × NZD 0.75 + one MDF sheet 4.00 = 19.00 (seeded prices)
     expect(await row.innerText()).toContain('NZD 19.00');
     expect(await row.innerText()).toContain('captured');

@@ -76,7 +76,8 @@ describe('PostgreSQL restarted while requests flow', () => {
 
     for (const r of results) {
       expect(r.text).not.toMatch(/\bat [\w.<>]+ \(|node_modules/);
-      expect([201, 500, 503], r.text).toContain(r.status);
+      // stored, refused because another file already holds the slot (409), or failed while the database was down
+      expect([201, 409, 500, 503], r.text).toContain(r.status);
     }
     // whole or absent: every stored booking has its audit entry (same transaction), and every 201 was stored
     const rows = (await testDb()('bookings').where({ machine_id: laser.id, notes: 'fault test' }).select('id', 'starts_at')) as { id: string; starts_at: Date }[];
