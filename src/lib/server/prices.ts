@@ -11,9 +11,8 @@ import {
   PricingError, TIERS, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode, type Tier,
 } from '../pricing';
 
-export interface PriceVersion {
-  id: string;
-  effectiveFrom: Date;
+/** The terms a price version sets, shared by a stored version and a new one. */
+interface VersionTerms {
   currency: string;
   incrementMinutes: number;
   minimumChargeMinor: number;
@@ -26,6 +25,11 @@ export interface PriceVersion {
   rechargeTiers: Tier[];
   materials: Material[];
   note: string;
+}
+
+export interface PriceVersion extends VersionTerms {
+  id: string;
+  effectiveFrom: Date;
   createdBy: string | null;
   createdByName: string | null;
   createdAt: Date;
@@ -199,20 +203,8 @@ export async function quoteFor(req: QuoteRequest, trx: Knex | Knex.Transaction =
   }
 }
 
-export interface NewVersion {
+export interface NewVersion extends VersionTerms {
   effectiveFrom: Date;
-  currency: string;
-  incrementMinutes: number;
-  minimumChargeMinor: number;
-  dailyCapMinor: number | null;
-  lateCancelFeeMinor: number;
-  noShowFeeMinor: number;
-  taxMode: TaxMode;
-  taxRateBp: number;
-  minimumRule: MinimumRule;
-  rechargeTiers: Tier[];
-  materials: Material[];
-  note: string;
   rates: { machineId: string; tier: Tier; perMinuteMinor: number }[];
 }
 
