@@ -29,8 +29,8 @@ interface Closure {
 
 const WEEKDAYS = ['Monday', 'Tuesday', 'Wednesday', 'Thursday', 'Friday', 'Saturday', 'Sunday'];
 
-export default function MachineRulesAdmin({ machines, timeZone }: { machines: MachineInfo[]; timeZone: string }) {
-  const [machineId, setMachineId] = useState(machines[0]?.id ?? '');
+export default function MachineRulesAdmin({ machines, timeZone, initialId }: { machines: MachineInfo[]; timeZone: string; initialId?: string }) {
+  const [machineId, setMachineId] = useState(initialId ?? machines[0]?.id ?? '');
   const [rules, setRules] = useState<Rules | null>(null);
   const [hoursText, setHoursText] = useState<{ weekday: number; opens: string; closes: string }[]>([]);
   const [quotaText, setQuotaText] = useState<Record<Tier, string>>({ student: '', staff: '', community: '', commercial: '' });
@@ -116,7 +116,7 @@ export default function MachineRulesAdmin({ machines, timeZone }: { machines: Ma
       <div role="status" aria-live="polite">{message && <p className={`notice notice-${message.tone}`}>{message.text}</p>}</div>
       {rules && (
         <form className="card space-y-5 p-4" onSubmit={save}>
-          <h2 className="text-lg">Booking rules</h2>
+          <h3 className="text-lg">Booking rules of {machines.find((m) => m.id === machineId)?.name}</h3>
           <div className="grid gap-4 sm:grid-cols-2 lg:grid-cols-4">
             <label className="field">
               <span>Slot grid (minutes)</span>
@@ -209,7 +209,7 @@ function Closures(p: { machineId: string; timeZone: string; closures: Closure[];
 
   return (
     <section className="card space-y-3 p-4" aria-label="Closures">
-      <h2 className="text-lg">Closures</h2>
+      <h3 className="text-lg">Closures</h3>
       {p.closures.length === 0 ? (
         <p className="hint">No closures ahead.</p>
       ) : (

@@ -3,6 +3,8 @@ import { z } from 'zod';
 import { PASSWORD_MAX, PASSWORD_MIN } from './password-rules';
 import { ROLES } from './roles';
 import { isCalendarDate } from './zoned-time';
+import { LEVELS } from './clearance-rules';
+import { TUBE_TYPES } from './machines-shared';
 
 export const email = z
   .string()
@@ -54,3 +56,32 @@ export function endsAfterStart(v: { startsAt: Date; endsAt: Date }): boolean {
   return !(v.startsAt instanceof Date && v.endsAt instanceof Date) || v.endsAt > v.startsAt;
 }
 export const endsAfterStartMessage = { path: ['endsAt'], message: 'The end must be after the start.' };
+
+/**
+ * A machine's fields as an admin sets them (POST /api/machines, PATCH /api/machines/:id and the Machines form).
+ * The ranges match the database's checks; the code is the one in the QR label and is set once.
+ */
+export const machineCode = z.string().trim().toLowerCase().regex(/^[a-z0-9][a-z0-9-]{1,31}$/, 'A code is 2–32 lower-case letters, digits or dashes, starting with a letter or digit, e.g. laser-d.');
+const decimal = (min: number, max: number, unit: string, places: number) =>
+  z.number({ error: `A number of ${unit}.` }).gt(min, `More than ${min} ${unit}.`).max(max, `At most ${max} ${unit}.`)
+    .refine((v) => Math.abs(Math.round(v * 10 ** places) - v * 10 ** places) < 1e-6, `At most ${places} decimal place(s).`);
+const coolantC = z.number({ error: 'A temperature in °C.' }).min(0, 'At least 0 °C.').max(40, 'At most 40 °C.').multipleOf(0.1, 'One decimal place at most.').nullable();
+export const machineFields = z
+  .object({
+    name: z.string().trim().min(1, 'Give the machine a name.').max(80, 'Use at most 80 characters.'),
+    groupId: uuid,
+    requiredLevel: z.enum(LEVELS, { error: 'The level is basic or advanced.' }),
+    powerW: decimal(0, 1000, 'W', 2),
+    tubeType: z.enum(TUBE_TYPES, { error: 'The tube is dc_glass or rf_metal.' }),
+    wavelengthUm: z.union([z.literal(10.6), z.literal(9.6)], { error: 'A CO2 laser here runs at 10.6 or 9.6 µm.' }),
+    bedWidthMm: z.number().int('Whole millimetres.').min(1, 'At least 1 mm.').max(10_000, 'At most 10 000 mm.'),
+    bedDepthMm: z.number().int('Whole millimetres.').min(1, 'At least 1 mm.').max(10_000, 'At most 10 000 mm.'),
+    beamDiameterMm: decimal(0, 1000, 'mm', 2),
+    divergenceMrad: decimal(0, 100, 'mrad', 3),
+    lensFocalMm: decimal(0, 10_000, 'mm', 2),
+    coolantType: z.enum(['water', 'air'], { error: 'Cooling is water or air.' }),
+    coolantMinC: coolantC,
+    coolantMaxC: coolantC,
+  })
+  .strict();
+export type MachineFieldsInput = z.infer<typeof machineFields>;

@@ -7,7 +7,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 import type { DemoPerson } from '../support/env';
 
@@ -69,6 +69,7 @@ describe('main screens under the Content-Security-Policy, checked with axe-core 
       for (const s of screens) {
         await page.setViewportSize(DESK);
         await page.goto(s.path);
+        await hydrated(page);
         await page.locator(s.ready).first().waitFor();
         await page.waitForLoadState('networkidle');
         const name = s.path.replace(/\W+/g, '-').replace(/^-|-$/g, '') || 'floor';

@@ -6,7 +6,7 @@ import fs from 'node:fs';
 import Papa from 'papaparse';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 import { nextDate, zonedDate } from '../../src/lib/zoned-time';
@@ -42,6 +42,7 @@ afterAll(async () => {
 
 async function findPerson(page: Page, text: string) {
   await page.goto('/admin/people');
+  await hydrated(page);
   await page.getByText(/^\d+ (person|people)$/).waitFor(); // the island has loaded (and hydrated)
   await page.getByRole('searchbox').fill(text);
   const row = page.getByRole('row').filter({ hasText: text });
@@ -61,6 +62,7 @@ describe('the admin console', () => {
 
     // the dashboard leads to every admin screen
     await page.goto('/admin');
+    await hydrated(page);
     for (const label of ['People', 'Site', 'Audit']) {
       await expect(page.getByRole('list', { name: 'Admin screens' }).getByRole('link', { name: new RegExp(`^${label}`) }).count()).resolves.toBe(1);
     }
@@ -140,6 +142,7 @@ describe('the admin console', () => {
     await expect(page.locator('header').innerText()).resolves.toContain('Tidewater Laser Room');
     await shot(page, 'site-desk');
     await page.goto('/');
+    await hydrated(page);
     await expect(page.locator('header').innerText()).resolves.toContain('Tidewater Laser Room');
     expect(errors).toEqual([]);
     await ctx.close();

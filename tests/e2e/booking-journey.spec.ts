@@ -4,15 +4,16 @@
  */
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
-import { DEMO } from '../support/env';
+import { clearedNew } from '../support/people';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { wallClock } from '../../src/lib/availability';
 
 let browser: Browser;
 let laserA: MachineRef;
+let who: { email: string; password: string };
 const DAY = 23; // clear of the demo seed (≤ 7 days ahead) and of the integration tests (15–22, 29)
 
 beforeAll(async () => {
@@ -21,6 +22,7 @@ beforeAll(async () => {
   const all = await machines(admin);
   laserA = all['laser-a'];
   for (const m of Object.values(all)) await setTestRules(admin, m.id);
+  who = await clearedNew('calendar', ['laser-a']); // its own person: no other file's bookings count against its quota
 });
 afterAll(async () => {
   await browser?.close();
@@ -35,6 +37,7 @@ function dateOf(d: Date): string {
 
 async function openBook(page: Page, day: string) {
   await page.goto(`/book?machine=${laserA.id}`);
+  await hydrated(page);
   await page.locator('.fc-timegrid-slot-lane').first().waitFor();
   await page.getByLabel('Go to date').fill(day);
   await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).waitFor();
@@ -61,7 +64,7 @@ describe('booking on the calendar', () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, 'member');
+    await signIn(page, who.email, who.password);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
 
@@ -78,7 +81,7 @@ describe('booking on the calendar', () => {
     await mine.first().waitFor();
     const row = await testDb()('bookings as b')
       .join('people as p', 'p.id', 'b.person_id')
-      .where({ 'p.email': DEMO.member, 'b.machine_id': laserA.id, 'b.state': 'reserved' })
+      .where({ 'p.email': who.email, 'b.machine_id': laserA.id, 'b.state': 'reserved' })
       .where('b.starts_at', siteTime(DAY, 10))
       .first('b.id', 'b.ends_at', 'b.notes');
     expect(row?.notes).toBe('Birch plywood name tags');
@@ -103,7 +106,7 @@ describe('booking on the calendar', () => {
     expect(res.status).toBe(201);
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
-    await signIn(page, 'member');
+    await signIn(page, who.email, who.password);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
     // the keyboard path: the form below the calendar
@@ -145,6 +148,7 @@ describe('booking on the calendar', () => {
     const errors = watchErrors(page);
     await signIn(page, 'member');
     await page.goto(`/book?machine=${laserA.id}`);
+    await hydrated(page);
     await page.locator('.fc-timegrid-slot-lane').first().waitFor();
     // the island switches to the day view after it mounts on a narrow screen: wait for it
     await expect.poll(() => page.getByRole('button', { name: 'Day', exact: true }).getAttribute('aria-pressed'), { timeout: 20_000 }).toBe('true');
@@ -166,9 +170,11 @@ describe('booking on the calendar', () => {
     await signIn(page, 'admin');
     expect(await page.locator('[data-machine="laser-a"] [data-next]').innerText()).not.toBe('');
     await page.goto('/admin/machines');
+    await hydrated(page);
     await page.getByRole('button', { name: 'Save rules' }).waitFor();
     await shot(page, 'machines-desk');
     await page.goto('/book');
+    await hydrated(page);
     await page.getByLabel('Machine', { exact: true }).first().selectOption('all');
     await expect.poll(() => page.locator('[data-machine-calendar]').count()).toBe(3);
     await page.waitForLoadState('networkidle');

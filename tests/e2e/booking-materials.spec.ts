@@ -5,9 +5,10 @@
  */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { clearedNew } from '../support/people';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { wallClock } from '../../src/lib/availability';
 
@@ -15,7 +16,8 @@ let browser: Browser;
 let admin: Client;
 let laserA: MachineRef;
 let plywood: string;
-const DAY = 26; // clear of the demo seed and of the other booking tests
+let who: { email: string; password: string };
+const DAY = 31; // a day no other file books on Laser A
 
 beforeAll(async () => {
   browser = await launch();
@@ -23,6 +25,7 @@ beforeAll(async () => {
   const all = await machines(admin);
   laserA = all['laser-a'];
   for (const m of Object.values(all)) await setTestRules(admin, m.id);
+  who = await clearedNew('materials', ['laser-a']); // its own person: no other file's bookings count against its quota
   plywood = (await testDb()('materials').where({ name: 'Plywood (birch or poplar)' }).first('id')).id;
 });
 afterAll(async () => {
@@ -37,8 +40,9 @@ describe('materials in the booking form', () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, 'member');
+    await signIn(page, who.email, who.password);
     await page.goto(`/book?machine=${laserA.id}`);
+    await hydrated(page);
     const form = page.getByRole('form', { name: 'Book by date and time' });
     await form.waitFor();
     const w = wallClock(siteTime(DAY, 12), SITE_TZ);
@@ -73,7 +77,7 @@ describe('materials in the booking form', () => {
     await form.getByRole('button', { name: 'Book', exact: true }).click();
     await page.getByText(/^Booked: Laser A/).waitFor();
     const booking = await testDb()('bookings as b').join('people as p', 'p.id', 'b.person_id')
-      .where({ 'p.email': 'member@tidewater.example', 'b.machine_id': laserA.id, 'b.starts_at': siteTime(DAY, 13) }).first('b.id');
+      .where({ 'p.email': who.email, 'b.machine_id': laserA.id, 'b.starts_at': siteTime(DAY, 13) }).first('b.id');
     const declared = await testDb()('booking_materials').where({ booking_id: booking.id });
     expect(declared).toHaveLength(1);
     expect(declared[0]).toMatchObject({ mode: 'cut' });

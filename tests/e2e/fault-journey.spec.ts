@@ -6,7 +6,7 @@
 import sharp from 'sharp';
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 
 let browser: Browser;
@@ -30,6 +30,7 @@ describe('a stop fault from the phone to the steward', () => {
     const errors = watchErrors(page);
     // signed out: sign in first, then back to the same page
     await page.goto('/m/laser-c/fault');
+    await hydrated(page);
     expect(page.url()).toContain('/signin');
     await signIn(page, 'member');
     expect(new URL(page.url()).pathname).toBe('/m/laser-c/fault');

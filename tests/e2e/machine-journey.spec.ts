@@ -6,7 +6,7 @@
  */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { TEST_RULES, machines, setTestRules, type MachineRef } from '../support/booking';
@@ -55,6 +55,7 @@ describe('at the machine', () => {
 
     // scanning the label opens the machine page: signed out → sign in → back on the same page
     await page.goto('/m/laser-a');
+    await hydrated(page);
     expect(new URL(page.url()).pathname).toBe('/signin');
     await signIn(page, 'member');
     expect(new URL(page.url()).pathname).toBe('/m/laser-a');
@@ -101,10 +102,12 @@ describe('at the machine', () => {
 
     // the receipt is on Account
     await page.goto('/account');
+    await hydrated(page);
     await page.waitForLoadState('networkidle');
     await page.locator(`a[href="${href}"]`).first().waitFor();
     await shot(page, 'account-after-check-out-phone');
     await page.goto(href!);
+    await hydrated(page);
     expect(await page.locator('main').innerText()).toMatch(/Laser A/);
     // the refused check-in is answered 422 on purpose (the browser logs that status); nothing else may fail
     expect(errors.filter((e) => !e.includes('status of 422'))).toEqual([]);
@@ -118,6 +121,7 @@ describe('at the machine', () => {
     const errors = watchErrors(page);
     await signIn(page, 'admin');
     await page.goto('/admin/labels');
+    await hydrated(page);
     expect(await page.locator('li.label').count()).toBe(3);
     expect(await page.locator('li.label .label-art > svg').count()).toBe(3);
     await shot(page, 'labels-desk');

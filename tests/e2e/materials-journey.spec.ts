@@ -5,7 +5,7 @@
  */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { Client, body } from '../support/client';
 import { closeTestDb } from '../support/db';
 
@@ -32,6 +32,7 @@ describe('materials journey', () => {
     const errors = watchErrors(page);
     await signIn(page, 'admin');
     await page.goto('/admin/materials');
+    await hydrated(page);
     await page.getByRole('row').filter({ hasText: 'PVC and vinyl' }).waitFor();
     await shot(page, 'material-rules-desk');
     await page.getByLabel('Search name or formula').fill('cork');
@@ -66,6 +67,7 @@ describe('materials journey', () => {
       const errors = watchErrors(page);
       await signIn(page, 'member');
       await page.goto('/materials');
+      await hydrated(page);
       const pvc = page.locator('[data-material="PVC and vinyl"]');
       expect(await pvc.innerText()).toMatch(/hydrogen chloride/);
       await page.getByLabel('Chemical formula (from the safety data sheet)').fill('(C2H3Cl)n');
@@ -92,6 +94,7 @@ describe('materials journey', () => {
       const errors = watchErrors(page);
       await signIn(page, 'steward');
       await page.goto('/hazard');
+      await hydrated(page);
       await page.getByRole('link', { name: 'Laser A' }).click();
       await page.getByRole('heading', { level: 1, name: /Laser A — beam hazard figures/ }).waitFor();
       const table = await page.getByRole('table').innerText();

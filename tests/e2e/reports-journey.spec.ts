@@ -7,7 +7,7 @@ import fs from 'node:fs';
 import Papa from 'papaparse';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { zonedDate } from '../../src/lib/zoned-time';
 
@@ -43,6 +43,7 @@ describe('reports', () => {
     const errors = watchErrors(page);
     await signIn(page, 'admin');
     await page.goto('/admin');
+    await hydrated(page);
     await page.getByRole('navigation').getByRole('link', { name: 'Reports' }).first().click();
     await page.waitForURL('**/reports');
     await waitForReports(page);
@@ -79,6 +80,7 @@ describe('reports', () => {
     const errors = watchErrors(page);
     await signIn(page, 'admin');
     await page.goto('/reports');
+    await hydrated(page);
     await waitForReports(page);
     const overflow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
     expect(overflow).toBeLessThanOrEqual(0);
@@ -92,6 +94,7 @@ describe('reports', () => {
     const page = await ctx.newPage();
     await signIn(page, 'instructor');
     await page.goto('/reports');
+    await hydrated(page);
     await page.getByRole('heading', { name: 'Clearance funnel' }).waitFor();
     expect(await page.getByRole('heading', { name: 'Revenue and recharge' }).count()).toBe(0);
     expect(await page.getByRole('heading', { name: 'Utilisation' }).count()).toBe(0);

@@ -1,7 +1,7 @@
 /** Journey: each demo person signs in through the real form and sees the screens of their roles. */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 
 let browser: Browser;
@@ -64,6 +64,7 @@ describe('signing in as each role', () => {
     const ctx = await newContext(browser);
     const page = await ctx.newPage();
     await page.goto('/admin/people?q=ste');
+    await hydrated(page);
     expect(new URL(page.url()).pathname).toBe('/signin');
     await signIn(page, 'admin');
     const url = new URL(page.url());
@@ -79,6 +80,7 @@ describe('signing in as each role', () => {
       await signIn(page, 'admin');
       await shot(page, `floor-${label}`);
       await page.goto('/admin/people');
+      await hydrated(page);
       await page.getByRole('searchbox').fill('newbie');
       const row = page.getByRole('row').filter({ hasText: 'newbie@tidewater.example' });
       await row.waitFor();
@@ -104,6 +106,7 @@ describe('signing in as each role', () => {
     const ctx = await newContext(browser, PHONE);
     const page = await ctx.newPage();
     await page.goto('/signin');
+    await hydrated(page);
     await shot(page, 'signin-phone');
     await page.setViewportSize(DESK);
     await shot(page, 'signin-desk');

@@ -11,6 +11,7 @@ import { portOpen, restartPostgres, startStorageFake } from '../../scripts/lib/s
 import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
+import { clearedNew } from '../support/people';
 
 let admin: Client;
 let member: Client;
@@ -18,7 +19,8 @@ let laser: MachineRef;
 
 beforeAll(async () => {
   admin = await Client.as('admin');
-  member = await Client.as('member');
+  // its own cleared person: the twelve hours booked here must not use up the demo member's weekly quota
+  member = (await clearedNew('faults', ['laser-a'])).client;
   laser = (await machines(admin))['laser-a'];
   // a weekly quota large enough for every booking of this file (restored afterwards)
   await setTestRules(admin, laser.id, { quotas: { student: 6000, staff: 6000, community: 6000, commercial: 6000 } });

@@ -65,7 +65,7 @@ export async function inbox(): Promise<Mail[]> {
 }
 
 /** The newest message matching `match` that arrived after `since` (the fake's inbox keeps older runs' mail). */
-export async function waitForMail(match: (m: Mail) => boolean, since: Date, timeoutMs = 20_000): Promise<Mail> {
+export async function waitForMail(match: (m: Mail) => boolean, since: Date, timeoutMs = 60_000): Promise<Mail> {
   const until = Date.now() + timeoutMs;
   for (;;) {
     const found = (await inbox())

@@ -50,3 +50,11 @@ export function watchErrors(page: Page): string[] {
 export async function shot(page: Page, name: string): Promise<void> {
   await page.screenshot({ path: `screenshots/${name}.png`, fullPage: true });
 }
+
+/**
+ * Waits until every island on the page has hydrated (Astro drops the `ssr` attribute when it has). Typing into a
+ * server-rendered island before then is lost: React takes over the input without having seen the change.
+ */
+export async function hydrated(page: Page, timeoutMs = 30_000): Promise<void> {
+  await page.waitForFunction(() => document.querySelectorAll('astro-island[ssr]').length === 0, undefined, { timeout: timeoutMs });
+}

@@ -1,4 +1,8 @@
-/** Direct database access for tests: to look at what a request wrote, never to set up what the API can. */
+/**
+ * Direct database access for tests: to look at what a request wrote, never to set up what the API can — with one
+ * exception, a current clearance for a test's own booking person (support/people.ts `clearedNew`), whose API path
+ * (a quiz, then an in-person sign-off) is the subject of the clearance tests, not of every booking test.
+ */
 import knexFactory, { type Knex } from 'knex';
 import { DATABASE_URL } from './env';
 

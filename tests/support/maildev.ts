@@ -29,7 +29,7 @@ export async function inbox(): Promise<MailItem[]> {
 }
 
 /** Waits until a message matching `match` is in the inbox (polls the REST API). */
-export async function waitForMail(match: (m: MailItem) => boolean, timeoutMs = 30_000): Promise<MailItem> {
+export async function waitForMail(match: (m: MailItem) => boolean, timeoutMs = 60_000): Promise<MailItem> {
   const until = Date.now() + timeoutMs;
   for (;;) {
     try {

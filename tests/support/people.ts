@@ -1,5 +1,6 @@
 /** New people for a test, created the way a person would: through the sign-up form. */
 import { Client } from './client';
+import { testDb } from './db';
 
 let n = 0;
 
@@ -20,4 +21,31 @@ export async function signUpNew(label: string): Promise<{ client: Client; email:
   const signedIn = await client.signInAs(email, password);
   if (signedIn.location.includes('error')) throw new Error(`sign-in after sign-up for ${email} failed: ${signedIn.location}`);
   return { client, email, name, password };
+}
+
+/**
+ * A new person (through sign-up) who holds a current clearance for the groups of the given machines, written
+ * straight into the test database: for tests whose subject is booking, not the clearance path. Each test file
+ * that books takes its own person, so no file eats another's weekly quota, whatever weekday the suite runs on.
+ */
+export async function clearedNew(label: string, machineCodes: string[]): Promise<{ client: Client; email: string; name: string; password: string; id: string }> {
+  const made = await signUpNew(label);
+  const db = testDb();
+  const person = await db('people').where({ email: made.email }).first('id');
+  if (!person) throw new Error(`no person row for ${made.email}`);
+  const groups = (await db('machines').whereIn('code', machineCodes).distinct('group_id')) as { group_id: string | null }[];
+  const now = new Date();
+  for (const { group_id } of groups) {
+    if (!group_id) continue;
+    await db('clearances').insert({
+      person_id: person.id,
+      group_id,
+      state: 'cleared',
+      level: 'advanced',
+      quiz_passed_at: now,
+      cleared_at: now,
+      expires_at: new Date(now.getTime() + 365 * 86_400_000),
+    });
+  }
+  return { ...made, id: person.id };
 }

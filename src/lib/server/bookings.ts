@@ -359,8 +359,47 @@ async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Bo
  * the caller releases their card holds after the commit (releaseHoldsAfterCancel).
  */
 export async function cancelFutureBookingsOf(trx: Knex.Transaction, actorId: string, personId: string, now = new Date()): Promise<string[]> {
+  return cancelFutureBookings(trx, actorId, { person_id: personId }, { summary: 'Booking cancelled: the person was deactivated', reason: 'person deactivated' }, now);
+}
+
+/**
+ * Retirement (machines.ts): cancels every reserved booking on the machine that has not ended yet, in the caller's
+ * transaction, audited one by one; the people whose bookings they were are e-mailed (queued in the transaction)
+ * with the admin's reason; nothing is offered to the waitlist (the machine takes no more bookings) and its waitlist
+ * entries are withdrawn. Returns the cancelled ids for releaseHoldsAfterCancel after the commit.
+ */
+export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actorId: string, machine: { id: string; name: string }, why: string, now = new Date()): Promise<string[]> {
+  const ids = await cancelFutureBookings(trx, actorId, { machine_id: machine.id }, { summary: `Booking cancelled: ${machine.name} was retired`, reason: 'machine retired', offer: false }, now);
+  await trx('waitlist_entries').where({ machine_id: machine.id }).whereIn('state', ['waiting', 'offered']).update({ state: 'withdrawn' });
+  if (!ids.length) return ids;
+  const site = await siteSettings(trx);
+  const rows = (await trx('bookings as b').join('people as p', 'p.id', 'b.person_id').whereIn('b.id', ids).whereNot('b.kind', 'hold')
+    .select('b.id', 'b.kind', 'b.course_name', 'b.starts_at', 'b.ends_at', 'b.person_id', 'p.email', 'p.name')) as {
+    id: string; kind: BookingKind; course_name: string | null; starts_at: Date; ends_at: Date; person_id: string; email: string; name: string;
+  }[];
+  for (const r of rows) {
+    await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is retired`, {
+      greeting: `Kia ora ${r.name},`,
+      paragraphs: [
+        `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
+        `The reason given: ${why}`,
+        'You are not charged for it: any hold on your card is released.',
+      ],
+      action: { label: 'Book another machine', url: `${env().PUBLIC_BASE_URL}/book` },
+    });
+  }
+  return ids;
+}
+
+async function cancelFutureBookings(
+  trx: Knex.Transaction,
+  actorId: string,
+  where: { person_id: string } | { machine_id: string },
+  how: { summary: string; reason: string; offer?: boolean },
+  now: Date,
+): Promise<string[]> {
   const rows = (await trx('bookings')
-    .where({ person_id: personId, state: 'reserved' })
+    .where({ ...where, state: 'reserved' })
     .where('ends_at', '>', now)
     .orderBy('starts_at')
     .forUpdate()
@@ -373,11 +412,11 @@ export async function cancelFutureBookingsOf(trx: Knex.Transaction, actorId: str
       kind: 'booking.cancelled',
       subjectType: 'booking',
       subjectId: r.id,
-      summary: 'Booking cancelled: the person was deactivated',
+      summary: how.summary,
       before: { state: 'reserved' },
-      after: { state: 'cancelled', lateCancel: false, reason: 'person deactivated' },
+      after: { state: 'cancelled', lateCancel: false, reason: how.reason },
     });
-    await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+    if (how.offer !== false) await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
   }
   return rows.map((r) => r.id);
 }

@@ -1,7 +1,11 @@
-/** Machines: all SQL for this area. */
+/** Machines: all SQL for this area — the list, one machine, and adding, editing and retiring (admin, audited). */
 import type { Knex } from 'knex';
-import { db } from './db';
+import { db, pgCode, PG, transaction } from './db';
+import { recordAudit } from './audit';
+import { HttpError } from './http';
+import { cancelFutureBookingsOnMachine, releaseHoldsAfterCancel } from './bookings';
 import type { MachineStatus, TubeType } from '../machines-shared';
+import type { ClearanceLevel } from '../clearance-rules';
 
 export interface Machine {
   id: string;
@@ -16,14 +20,24 @@ export interface Machine {
   divergenceMrad: number;
   lensFocalMm: number;
   coolantType: 'water' | 'air';
+  /** The chiller range a check-in accepts (°C); null: the common-practice default. */
+  coolantMinC: number | null;
+  coolantMaxC: number | null;
   status: MachineStatus;
+  /** The machine group whose clearance lets a person run it (null: nobody can book it yet). */
+  groupId: string | null;
+  requiredLevel: ClearanceLevel;
+  retiredAt: Date | null;
 }
 
 type Row = {
   id: string; code: string; name: string; power_w: number; tube_type: TubeType; wavelength_um: number;
   bed_width_mm: number; bed_depth_mm: number; beam_diameter_mm: number; divergence_mrad: number;
-  lens_focal_mm: number; coolant_type: 'water' | 'air'; status: MachineStatus;
+  lens_focal_mm: number; coolant_type: 'water' | 'air'; coolant_min_c: string | null; coolant_max_c: string | null;
+  status: MachineStatus; group_id: string | null; required_level: ClearanceLevel; retired_at: Date | null;
 };
+
+const num = (v: string | number | null): number | null => (v === null ? null : Number(v));
 
 function toMachine(r: Row): Machine {
   return {
@@ -39,7 +53,12 @@ function toMachine(r: Row): Machine {
     divergenceMrad: Number(r.divergence_mrad),
     lensFocalMm: Number(r.lens_focal_mm),
     coolantType: r.coolant_type,
+    coolantMinC: num(r.coolant_min_c),
+    coolantMaxC: num(r.coolant_max_c),
     status: r.status,
+    groupId: r.group_id,
+    requiredLevel: r.required_level,
+    retiredAt: r.retired_at,
   };
 }
 
@@ -62,4 +81,153 @@ export async function getMachineByCode(code: string, trx: Knex | Knex.Transactio
 /** The public shape of GET /api/machines. */
 export function machineSummary(m: Machine) {
   return { id: m.id, code: m.code, name: m.name, powerW: m.powerW, tubeType: m.tubeType, wavelengthUm: m.wavelengthUm, status: m.status };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Adding, editing and retiring (admin)
+
+/** What an admin sets on a machine. The code is fixed at creation: it is printed in the QR label. */
+export interface MachineFields {
+  name: string;
+  groupId: string;
+  requiredLevel: ClearanceLevel;
+  powerW: number;
+  tubeType: TubeType;
+  wavelengthUm: number;
+  bedWidthMm: number;
+  bedDepthMm: number;
+  beamDiameterMm: number;
+  divergenceMrad: number;
+  lensFocalMm: number;
+  coolantType: 'water' | 'air';
+  coolantMinC: number | null;
+  coolantMaxC: number | null;
+}
+
+const COLUMNS: Record<keyof MachineFields, string> = {
+  name: 'name', groupId: 'group_id', requiredLevel: 'required_level', powerW: 'power_w', tubeType: 'tube_type',
+  wavelengthUm: 'wavelength_um', bedWidthMm: 'bed_width_mm', bedDepthMm: 'bed_depth_mm', beamDiameterMm: 'beam_diameter_mm',
+  divergenceMrad: 'divergence_mrad', lensFocalMm: 'lens_focal_mm', coolantType: 'coolant_type', coolantMinC: 'coolant_min_c', coolantMaxC: 'coolant_max_c',
+};
+
+function toColumns(fields: Partial<MachineFields>): Record<string, unknown> {
+  const out: Record<string, unknown> = {};
+  for (const [k, column] of Object.entries(COLUMNS)) {
+    const v = fields[k as keyof MachineFields];
+    if (v !== undefined) out[column] = v;
+  }
+  // an air-cooled machine has no chiller to read
+  if (fields.coolantType === 'air') Object.assign(out, { coolant_min_c: null, coolant_max_c: null });
+  return out;
+}
+
+function fieldsOf(m: Machine): MachineFields {
+  return {
+    name: m.name, groupId: m.groupId ?? '', requiredLevel: m.requiredLevel, powerW: m.powerW, tubeType: m.tubeType, wavelengthUm: m.wavelengthUm,
+    bedWidthMm: m.bedWidthMm, bedDepthMm: m.bedDepthMm, beamDiameterMm: m.beamDiameterMm, divergenceMrad: m.divergenceMrad,
+    lensFocalMm: m.lensFocalMm, coolantType: m.coolantType, coolantMinC: m.coolantMinC, coolantMaxC: m.coolantMaxC,
+  };
+}
+
+/** Opening hours a new machine starts with (Monday–Friday 09:00–17:00, site time) until the admin sets its rules. */
+export const NEW_MACHINE_HOURS = [1, 2, 3, 4, 5].map((weekday) => ({ weekday, opens_minute: 9 * 60, closes_minute: 17 * 60 }));
+
+async function mustHaveGroup(trx: Knex.Transaction, groupId: string): Promise<void> {
+  if (!(await trx('machine_groups').where({ id: groupId }).first('id'))) {
+    throw new HttpError(422, 'group_not_found', 'Choose one of the machine groups (Admin › Machine groups).', { groupId: 'No such machine group.' });
+  }
+}
+
+function duplicateCode(err: unknown, code: string): never {
+  if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'code_taken', `Another machine (perhaps a retired one) already has the code “${code}”; label codes are never reused.`, { code: 'Taken.' });
+  throw err;
+}
+
+/**
+ * Adds a machine (admin): in service, with the default booking rules and weekday opening hours, so it can be
+ * booked by people cleared for its group at once. Audited as `machine.created`.
+ */
+export async function createMachine(actorId: string, input: MachineFields & { code: string }): Promise<Machine> {
+  return transaction(async (trx) => {
+    await mustHaveGroup(trx, input.groupId);
+    let id: string;
+    try {
+      const [row] = await trx('machines').insert({ code: input.code, ...toColumns(input) }).returning('id');
+      id = (row as { id: string }).id;
+    } catch (err) {
+      duplicateCode(err, input.code);
+    }
+    await trx('machine_booking_rules').insert({ machine_id: id });
+    await trx('opening_hours').insert(NEW_MACHINE_HOURS.map((h) => ({ machine_id: id, ...h })));
+    const machine = (await getMachine(id, trx))!;
+    await recordAudit(trx, {
+      actorId,
+      kind: 'machine.created',
+      subjectType: 'machine',
+      subjectId: id,
+      summary: `${machine.name} (${machine.code}) added`,
+      after: { code: machine.code, ...fieldsOf(machine) },
+    });
+    return machine;
+  });
+}
+
+/** Edits a machine (admin); only the fields given change. Audited as `machine.updated` with before and after. */
+export async function updateMachine(actorId: string, id: string, input: Partial<MachineFields>): Promise<Machine> {
+  return transaction(async (trx) => {
+    const row = (await trx('machines').where({ id }).whereNull('retired_at').forUpdate().first()) as Row | undefined;
+    if (!row) throw new HttpError(404, 'machine_not_found', 'No machine in use has that id.');
+    const before = fieldsOf(toMachine(row));
+    if (input.groupId) await mustHaveGroup(trx, input.groupId);
+    const merged = { ...before, ...input };
+    if (merged.coolantMinC !== null && merged.coolantMaxC !== null && merged.coolantMinC >= merged.coolantMaxC) {
+      throw new HttpError(422, 'invalid', 'The lowest coolant temperature must be below the highest.', { coolantMaxC: 'Above the lowest.' });
+    }
+    const changed = Object.fromEntries(Object.entries(input).filter(([k, v]) => v !== undefined && before[k as keyof MachineFields] !== v)) as Partial<MachineFields>;
+    if (!Object.keys(changed).length) return toMachine(row);
+    await trx('machines').where({ id }).update({ ...toColumns(changed), updated_at: trx.fn.now() });
+    const machine = (await getMachine(id, trx))!;
+    const after = fieldsOf(machine);
+    await recordAudit(trx, {
+      actorId,
+      kind: 'machine.updated',
+      subjectType: 'machine',
+      subjectId: id,
+      summary: `${machine.name}: ${Object.keys(changed).join(', ')} changed`.slice(0, 500),
+      before: Object.fromEntries(Object.keys(changed).map((k) => [k, before[k as keyof MachineFields]])),
+      after: Object.fromEntries(Object.keys(changed).map((k) => [k, after[k as keyof MachineFields]])),
+    });
+    return machine;
+  });
+}
+
+/**
+ * Retires a machine (admin): it leaves every list, its label page and the booking calendar, and takes no more
+ * bookings; its reserved bookings that have not ended are cancelled (the people are e-mailed, holds released after
+ * the commit) and its waitlist is withdrawn. Its history stays for the reports and the audit log. Refused (409)
+ * while someone is checked in on it. Audited as `machine.retired`.
+ */
+export async function retireMachine(actorId: string, id: string, reason: string, now = new Date()): Promise<{ machine: Machine; cancelledBookings: number }> {
+  const { machine, cancelled } = await transaction(async (trx) => {
+    // FOR UPDATE: a booking being made holds the machine row FOR SHARE, so it commits first (and is cancelled here) or sees the retirement
+    const row = (await trx('machines').where({ id }).forUpdate().first()) as Row | undefined;
+    if (!row) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+    if (row.retired_at) throw new HttpError(409, 'machine_retired', `${row.name} is already retired.`);
+    const open = await trx('machine_sessions').where({ machine_id: id }).whereNull('checked_out_at').first('id');
+    if (open) throw new HttpError(409, 'machine_in_use', `Someone is checked in on ${row.name}; retire it after they check out (or a steward closes the session).`);
+    await trx('machines').where({ id }).update({ retired_at: now, updated_at: trx.fn.now() });
+    const cancelled = await cancelFutureBookingsOnMachine(trx, actorId, { id, name: row.name }, reason, now);
+    await recordAudit(trx, {
+      actorId,
+      kind: 'machine.retired',
+      subjectType: 'machine',
+      subjectId: id,
+      summary: `${row.name} (${row.code}) retired: ${reason}`.slice(0, 500),
+      before: { retiredAt: null },
+      after: { retiredAt: now, reason, cancelledBookings: cancelled.length },
+    });
+    return { machine: (await getMachine(id, trx))!, cancelled };
+  });
+  await releaseHoldsAfterCancel(cancelled, 'machine retired', actorId);
+  return { machine, cancelledBookings: cancelled.length };
 }

@@ -47,12 +47,22 @@ async function schedules(boss: PgBoss): Promise<void> {
   await boss.send('clearances.sweep', {});
 }
 
+/**
+ * Polling loops per queue. A pg-boss loop waits out its polling interval even after it found a job, so one loop
+ * sends about one message a second: a stop fault that bumps a day of bookings (a mail to each person and to every
+ * steward) would queue for minutes. Mail gets several loops (jobs are fetched with SKIP LOCKED, so none is sent twice);
+ * each loop takes one job at a time, so a failed send retries that message alone.
+ */
+const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4 };
+
 export async function startWorker(): Promise<PgBoss> {
   const boss = await installQueues(env().DATABASE_URL);
-  for (const [name, handle] of Object.entries(handlers)) {
-    await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1 }, async (batch) => {
-      for (const job of batch) await handle(job.data);
-    });
+  for (const [name, handle] of Object.entries(handlers) as [QueueName, Handler][]) {
+    for (let i = 0; i < (LOOPS[name] ?? 1); i++) {
+      await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1 }, async (batch) => {
+        for (const job of batch) await handle(job.data);
+      });
+    }
   }
   await schedules(boss);
   return boss;

@@ -1,0 +1,16 @@
+import { z } from 'zod';
+import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
+import { retireMachine } from '../../../../lib/server/machines';
+
+const body = z.object({ reason: z.string().trim().min(3, 'Say why the machine is retired (the people whose bookings are cancelled read it).').max(500, 'Use at most 500 characters.') }).strict();
+
+/**
+ * POST /api/machines/:id/retire → the retired machine and how many bookings were cancelled (admin; audited).
+ * 409 `machine_in_use` while someone is checked in; 409 `machine_retired` the second time.
+ */
+export const POST = route(async ({ locals, params, request }) => {
+  const person = requireRole(locals, 'admin');
+  const id = idParam(params.id, 'machine');
+  const { reason } = await readJson(request, body);
+  return json(await retireMachine(person.id, id, reason));
+});
