@@ -1,7 +1,7 @@
 /**
- * Demo history for Reports (invented), only where the earlier seeds left none: a session at the machine
- * with measured beam time for every completed past booking (except member@'s, whose account starts without
- * charges), and the charge for it (priced by the pure
+ * Demo history for Reports (invented), only where the earlier seeds left none: for every completed past booking
+ * (except member@'s, whose account starts without charges) its session at the machine (06_sessions' when it made
+ * one, else a new one with measured beam time) and the charge for it (priced by the pure
  * pricing engine with the seeded price version: recharged to the cost centre for recharge tiers, captured by
  * card otherwise); and last week's faults with the machine status changes they caused.
  */
@@ -21,7 +21,8 @@ export async function seed(knex: Knex): Promise<void> {
 }
 
 async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promise<void> {
-  const existing = await knex('machine_sessions').count({ n: '*' }).first();
+  // only on a database without charges; the sessions of completed bookings usually come from 06_sessions
+  const existing = await knex('charges').count({ n: '*' }).first();
   if (Number(existing?.n ?? 0) > 0) return;
   const version = await knex('price_versions').where('effective_from', '<=', now).orderBy('effective_from', 'desc').first();
   if (!version) return;
@@ -70,11 +71,21 @@ async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promis
   for (const b of bookings) {
     i++;
     const length = (b.ends_at.getTime() - b.starts_at.getTime()) / MIN;
-    const checkedIn = new Date(b.starts_at.getTime() + 3 * MIN);
-    const checkedOut = new Date(b.ends_at.getTime() - 4 * MIN);
+    let checkedIn = new Date(b.starts_at.getTime() + 3 * MIN);
+    let checkedOut = new Date(b.ends_at.getTime() - 4 * MIN);
     // beam time is part of the session: 45–75 % of the booked length (set-up and unloading take the rest)
-    const beam = Math.max(1, Math.round(length * (0.45 + ((i * 7) % 31) / 100)));
-    const [session] = await knex('machine_sessions')
+    let beam = Math.max(1, Math.round(length * (0.45 + ((i * 7) % 31) / 100)));
+    const held = (await knex('machine_sessions').where({ booking_id: b.id }).first('id', 'checked_in_at', 'checked_out_at', 'beam_minutes')) as
+      | { id: string; checked_in_at: Date; checked_out_at: Date | null; beam_minutes: number | null }
+      | undefined;
+    if (held) {
+      checkedIn = held.checked_in_at;
+      checkedOut = held.checked_out_at ?? checkedOut;
+      // the beam fires for part of a session only: the same 45–75 % share, within the session's length
+      beam = Math.min(beam, Math.max(1, Math.round((checkedOut.getTime() - checkedIn.getTime()) / MIN)));
+      await knex('machine_sessions').where({ id: held.id }).update({ beam_minutes: beam, job_timer_minutes: beam });
+    }
+    const [session] = held ? [held] : await knex('machine_sessions')
       .insert({
         booking_id: b.id,
         machine_id: b.machine_id,
