@@ -8,19 +8,22 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { portOpen, restartPostgres, startStorageFake } from '../../scripts/lib/stack';
-import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { iso, machines, setTestRules, siteTime, waitForMail, type MachineRef } from '../support/booking';
 import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
 
 let admin: Client;
 let member: Client;
+let memberEmail: string;
 let laser: MachineRef;
 
 beforeAll(async () => {
   admin = await Client.as('admin');
   // its own cleared person: the twelve hours booked here must not use up the demo member's weekly quota
-  member = (await clearedNew('faults', ['laser-a'])).client;
+  const who = await clearedNew('faults', ['laser-a']);
+  member = who.client;
+  memberEmail = who.email;
   laser = (await machines(admin))['laser-a'];
   // a weekly quota large enough for every booking of this file (restored afterwards)
   await setTestRules(admin, laser.id, { quotas: { student: 6000, staff: 6000, community: 6000, commercial: 6000 } });
@@ -73,8 +76,11 @@ describe('PostgreSQL restarted while requests flow', () => {
     await readLoop;
 
     // the app did not restart: it serves reads and writes again
+    const sent = new Date();
     const after = await book({ startsAt: siteTime(28, 19, 15), endsAt: siteTime(28, 20, 15) }); // a time no other file books
     expect(after.status, await after.text()).toBe(201);
+    // and the worker came through the restart too: the confirmation it sends for that booking arrives
+    await waitForMail((m) => m.subject.startsWith('Booking confirmed: Laser A') && m.to.some((t) => t.address === memberEmail), sent);
 
     for (const r of results) {
       expect(r.text).not.toMatch(/\bat [\w.<>]+ \(|node_modules/);
