@@ -116,6 +116,7 @@ async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promis
     };
     await knex('charges').insert({
       person_id: b.person_id,
+      tier: b.tier,
       machine_id: b.machine_id,
       booking_id: b.id,
       session_id: session.id,

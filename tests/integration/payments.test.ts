@@ -235,6 +235,8 @@ describe('internal recharge', () => {
     const b = await chargeBeamTime({ personId: m.id, machineId: laserC, sessionId: randomUUID(), startedAt: new Date(), minutes: 33, materials: [{ sku: 'ply-3', quantity: 2 }] });
     expect(a).toMatchObject({ method: 'recharge', state: 'recharged', costCentre: 'TESTCC-7', amountMinor: 600 }); // 15 min × 40 (student)
     expect(b.amountMinor).toBe(35 * 25 + 2 * 650);
+    // the charge keeps the tier it was priced at (revenue by tier does not move when the person's tier changes)
+    expect(await testDb()('charges').whereIn('id', [a.id, b.id]).pluck('tier')).toEqual(['student', 'student']);
     const month = new Intl.DateTimeFormat('en-CA', { timeZone: 'Pacific/Auckland', year: 'numeric', month: '2-digit' }).format(new Date()).slice(0, 7);
     const admin = await Client.as('admin');
     const res = await admin.get(`/api/reports/recharge.csv?month=${month}&costCentre=TESTCC-7`);

@@ -56,12 +56,12 @@ beforeAll(async () => {
   await k('machine_sessions').insert({ machine_id: machineId, person_id: ids.student, checked_in_at: mar(6, 16), checked_out_at: mar(6, 16, 50), beam_minutes: 33 });
 
   const charge = (state: string, amount: number, extra: Record<string, unknown> = {}) => ({
-    person_id: ids.member, machine_id: machineId, kind: 'beam_time', method: 'card', state, currency: 'NZD', amount_minor: amount,
+    person_id: ids.member, tier: 'staff', machine_id: machineId, kind: 'beam_time', method: 'card', state, currency: 'NZD', amount_minor: amount,
     tax_minor: Math.round((amount * 15) / 115), breakdown: '{}', created_at: mar(3, 12), ...extra,
   });
   await k('charges').insert([
     charge('captured', 1000, { captured_minor: 1000, refunded_minor: 200, session_id: s1.id }), // net 800
-    charge('recharged', 500, { method: 'recharge', cost_centre: 'RPT-1', person_id: ids.student }), // net 500
+    charge('recharged', 500, { method: 'recharge', cost_centre: 'RPT-1', person_id: ids.student, tier: 'student' }), // net 500
     charge('held', 700, { held_minor: 700 }), // not revenue yet
     charge('carried', 300), // owed, not yet paid
     charge('payment failed', 900), // owed, not paid
@@ -163,8 +163,19 @@ describe('revenue and recharge', () => {
     // captured 1000 − 200 refunded = 800 (card) + recharged 500; held, carried, failed and February left out
     expect(r.totals).toMatchObject({ charges: 2, grossMinor: 1500, refundedMinor: 200, netMinor: 1300, cardNetMinor: 800, rechargeNetMinor: 500 });
     expect(r.rows.map((x: any) => [x.month, x.method, x.tier, x.net_minor])).toEqual(
-      expect.arrayContaining([['2026-03', 'card', expect.any(String), 800], ['2026-03', 'recharge', expect.any(String), 500]]),
+      expect.arrayContaining([['2026-03', 'card', 'staff', 800], ['2026-03', 'recharge', 'student', 500]]),
     );
+  });
+
+  it('groups by the tier a charge was priced at, not the tier the person holds today', async () => {
+    const before = (await testDb()('people').where({ id: ids.member }).first('tier')).tier as string;
+    await testDb()('people').where({ id: ids.member }).update({ tier: 'commercial' }); // (the People screen's change, without its audit)
+    try {
+      const r = await report('revenue', `${WEEK}&machineId=${machineId}`);
+      expect(r.rows.filter((x: any) => x.method === 'card').map((x: any) => x.tier)).toEqual(['staff']);
+    } finally {
+      await testDb()('people').where({ id: ids.member }).update({ tier: before });
+    }
   });
 
   it('the total over every machine equals a direct SUM over the charges table for the same period', async () => {

@@ -19,6 +19,7 @@ import { env } from './env';
 import { checkUpload } from './file-types';
 import { getObject, putObject } from './storage';
 import { offerFreedTime, releaseHoldsAfterCancel } from './bookings';
+import { activeWithRole } from './people';
 import { hasAnyRole, type Role } from '../roles';
 import type { FaultSeverity, FaultStatus, MachineStatus } from '../faults-shared';
 
@@ -102,11 +103,8 @@ function formatRange(startsAt: Date, endsAt: Date, tz: string): string {
   return `${day}, ${t.format(startsAt)}–${t.format(endsAt)}`;
 }
 
-async function stewardEmails(trx: Conn): Promise<{ email: string; name: string }[]> {
-  return trx('people as p')
-    .join('role_grants as g', 'g.person_id', 'p.id')
-    .where({ 'g.role': 'steward', 'p.active': true })
-    .distinct('p.email', 'p.name');
+function stewardEmails(trx: Conn): Promise<{ email: string; name: string }[]> {
+  return activeWithRole('steward', trx);
 }
 
 // ---------------------------------------------------------------------------------------------

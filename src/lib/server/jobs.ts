@@ -16,6 +16,8 @@ export const QUEUES = {
   'clearances.sweep': { retryLimit: 3, retryDelay: 30, expireInSeconds: 600 },
   // sessions left open past their booking's end (+ grace): closed and flagged for a steward
   'sessions.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 300 },
+  // upkeep that has fallen due: one e-mail to the stewards per item, state and service cycle
+  'upkeep.remind': { retryLimit: 2, retryDelay: 60, expireInSeconds: 300 },
 } as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
 
 export type QueueName = keyof typeof QUEUES;

@@ -457,7 +457,7 @@ export async function holdForBooking(input: { personId: string; machineId: strin
   if (!(await cardOf(input.personId))) throw new HttpError(402, 'payment_required', 'Save a card on your Account screen before booking paid time.');
   const [row] = await db()('charges')
     .insert({
-      person_id: input.personId, machine_id: input.machineId, booking_id: input.bookingId, kind: 'beam_time', method: 'card',
+      person_id: input.personId, tier: person.tier, machine_id: input.machineId, booking_id: input.bookingId, kind: 'beam_time', method: 'card',
       state: 'pending', currency: q.currency, amount_minor: q.amountMinor, tax_minor: q.taxMinor, card_amount_minor: s.chargeNowMinor,
       minutes: input.minutes, started_at: input.startsAt, price_version_id: q.priceVersionId, breakdown: JSON.stringify(breakdownOf(q, { estimate: true })),
     })
@@ -506,7 +506,7 @@ async function billQuote(
 ): Promise<Charge> {
   const recharge = q.rechargeTiers.includes(person.tier) && person.costCentre !== null;
   const base = {
-    person_id: person.id, machine_id: ctx.machineId, booking_id: ctx.bookingId, session_id: ctx.sessionId, kind: ctx.kind,
+    person_id: person.id, tier: person.tier, machine_id: ctx.machineId, booking_id: ctx.bookingId, session_id: ctx.sessionId, kind: ctx.kind,
     currency: q.currency, amount_minor: q.amountMinor, tax_minor: q.taxMinor, minutes: ctx.minutes, started_at: ctx.startedAt,
     price_version_id: q.priceVersionId,
   };

@@ -200,3 +200,12 @@ export async function setTier(actorId: string, personId: string, tier: Tier, cos
     return person;
   });
 }
+
+/** Active people holding `role`, for the e-mails sent to a role (stewards on a fault, upkeep falling due). */
+export async function activeWithRole(role: Role, trx: Knex | Knex.Transaction = db()): Promise<{ email: string; name: string }[]> {
+  return trx('people as p')
+    .join('role_grants as g', 'g.person_id', 'p.id')
+    .where({ 'g.role': role, 'p.active': true })
+    .distinct('p.email', 'p.name')
+    .orderBy('p.email');
+}

@@ -150,7 +150,7 @@ export interface RevenueReport {
 
 /**
  * Charges in a revenue state (REVENUE_STATES) created in the period, by site month, machine, the
- * person's tier and method (card or recharge). gross = amount_minor; net = amount − refunded.
+ * tier the charge was priced at and method (card or recharge). gross = amount_minor; net = amount − refunded.
  */
 export async function revenueReport(scope: ReportScope): Promise<RevenueReport> {
   const params: Knex.RawBinding[] = [scope.timeZone, scope.period.start, scope.period.end];
@@ -161,14 +161,13 @@ export async function revenueReport(scope: ReportScope): Promise<RevenueReport> 
   }
   const result = await db().raw(
     `SELECT to_char(c.created_at AT TIME ZONE ?, 'YYYY-MM') AS month,
-            c.machine_id, coalesce(m.name, '') AS machine, p.tier, c.method, c.currency,
+            c.machine_id, coalesce(m.name, '') AS machine, c.tier, c.method, c.currency,
             count(*)::int AS charges,
             sum(c.amount_minor)::bigint AS gross_minor,
             sum(c.refunded_minor)::bigint AS refunded_minor,
             sum(c.amount_minor - c.refunded_minor)::bigint AS net_minor,
             sum(c.tax_minor)::bigint AS tax_minor
      FROM charges c
-     JOIN people p ON p.id = c.person_id
      LEFT JOIN machines m ON m.id = c.machine_id
      WHERE c.state IN (${REVENUE_STATES.map((s) => `'${s}'`).join(', ')}) AND c.created_at >= ? AND c.created_at < ? ${machineClause}
      GROUP BY 1, 2, 3, 4, 5, 6

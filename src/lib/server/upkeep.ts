@@ -6,6 +6,9 @@ import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './http';
+import { queueMail } from './mail';
+import { env } from './env';
+import { activeWithRole } from './people';
 import {
   byUrgency,
   defaultIntervals,
@@ -216,4 +219,69 @@ export async function overdueByMachine(now = new Date()): Promise<Map<string, st
     if (over.length) map.set(s.machineId, over);
   }
   return map;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Reminders to the stewards
+
+export interface UpkeepReminder {
+  machineId: string;
+  machineName: string;
+  kind: UpkeepKind;
+  label: string;
+  state: 'due soon' | 'overdue';
+  dueAt: Date | null;
+}
+
+const NEVER = new Date(0);
+
+/**
+ * The upkeep sweep (worker, hourly): every upkeep item that has become `due soon` or `overdue` since it was last
+ * done is e-mailed to the active stewards once — one message listing what is new, with everything overdue
+ * repeated beneath. A reminder is remembered per machine, kind, state and service cycle (upkeep_reminders), so
+ * logging the work starts a new cycle and nothing is sent twice, whichever process runs the sweep.
+ */
+export async function remindUpkeep(opts: { now?: Date; machineIds?: string[] } = {}): Promise<{ reminders: UpkeepReminder[]; stewards: number }> {
+  const now = opts.now ?? new Date();
+  const statuses = (await upkeepOverview(now)).filter((s) => !opts.machineIds || opts.machineIds.includes(s.machineId));
+  const candidates: (UpkeepReminder & { cycleFrom: Date })[] = [];
+  for (const s of statuses) {
+    for (const d of s.due) {
+      if (d.forecast.state !== 'due soon' && d.forecast.state !== 'overdue') continue;
+      candidates.push({ machineId: s.machineId, machineName: s.machineName, kind: d.kind, label: d.label, state: d.forecast.state, dueAt: d.forecast.dueAt, cycleFrom: d.lastDoneAt ?? NEVER });
+    }
+  }
+  if (!candidates.length) return { reminders: [], stewards: 0 };
+  return transaction(async (trx) => {
+    const fresh: UpkeepReminder[] = [];
+    for (const c of candidates) {
+      const inserted = await trx('upkeep_reminders')
+        .insert({ machine_id: c.machineId, kind: c.kind, state: c.state, cycle_from: c.cycleFrom, due_at: c.dueAt, sent_at: now })
+        .onConflict(['machine_id', 'kind', 'state', 'cycle_from'])
+        .ignore()
+        .returning('id');
+      if (inserted.length) fresh.push({ machineId: c.machineId, machineName: c.machineName, kind: c.kind, label: c.label, state: c.state, dueAt: c.dueAt });
+    }
+    if (!fresh.length) return { reminders: [], stewards: 0 };
+    const tz = ((await trx('site_settings').where({ id: 1 }).first('time_zone'))?.time_zone as string | undefined) ?? 'UTC';
+    const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'short', day: 'numeric', month: 'short' });
+    const line = (r: UpkeepReminder) => `${r.machineName}: ${r.label.toLowerCase()} — ${r.state === 'overdue' ? `overdue${r.dueAt ? ` since ${day.format(r.dueAt)}` : ''}` : `due${r.dueAt ? ` by ${day.format(r.dueAt)}` : ' soon'}`}`;
+    const isFresh = (c: { machineId: string; kind: string; state: string }) => fresh.some((f) => f.machineId === c.machineId && f.kind === c.kind && f.state === c.state);
+    const stillOverdue = candidates.filter((c) => c.state === 'overdue' && !isFresh(c));
+    const stewards = await activeWithRole('steward', trx);
+    const overdue = fresh.filter((r) => r.state === 'overdue').length;
+    for (const st of stewards) {
+      await queueMail(trx, st.email, `Upkeep: ${fresh.length} item${fresh.length === 1 ? '' : 's'} ${overdue ? 'overdue or due' : 'due soon'}`, {
+        greeting: `Kia ora ${st.name},`,
+        paragraphs: [
+          `New on the upkeep list: ${fresh.map(line).join('; ')}.`,
+          ...(stillOverdue.length ? [`Still overdue: ${stillOverdue.map(line).join('; ')}.`] : []),
+          'Log the work on the Upkeep screen when it is done; the next reminder comes when the item falls due again.',
+        ],
+        action: { label: 'Open the Upkeep screen', url: `${env().PUBLIC_BASE_URL}/upkeep` },
+        footnote: 'Work on the optics, the tube or the chiller with the machine switched off and isolated, as the manufacturer’s manual and your laser safety officer say.',
+      });
+    }
+    return { reminders: fresh, stewards: stewards.length };
+  });
 }

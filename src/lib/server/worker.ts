@@ -10,6 +10,7 @@ import { retryQueuedCharge } from './payments';
 import { sweepBookings } from './bookings';
 import { sweepClearances } from './clearances';
 import { sweepOpenSessions } from './sessions';
+import { remindUpkeep } from './upkeep';
 import { db } from './db';
 
 type Handler = (data: unknown) => Promise<void>;
@@ -32,6 +33,10 @@ const handlers: Record<QueueName, Handler> = {
     const r = await sweepOpenSessions(new Date());
     if (r.closed) console.log(`sessions.sweep: ${r.closed} session(s) closed and flagged for a steward`);
   },
+  'upkeep.remind': async () => {
+    const r = await remindUpkeep();
+    if (r.reminders.length) console.log(`upkeep.remind: ${r.reminders.length} item(s) e-mailed to ${r.stewards} steward(s)`);
+  },
 };
 
 /** Scheduled jobs (pg-boss checks them about every 30 seconds). */
@@ -45,6 +50,9 @@ async function schedules(boss: PgBoss): Promise<void> {
   // every five minutes in the site's zone, and at start-up, so a lapse is written within minutes of its instant
   await boss.schedule('clearances.sweep', '*/5 * * * *', {}, { tz });
   await boss.send('clearances.sweep', {});
+  // hourly, and at start-up: upkeep that has fallen due is e-mailed to the stewards once per service cycle
+  await boss.schedule('upkeep.remind', '20 * * * *');
+  await boss.send('upkeep.remind', {});
 }
 
 /**
