@@ -145,9 +145,9 @@ export default function MachineRulesAdmin({ machines, timeZone, initialId }: { m
             </div>
           </fieldset>
 
-          <fieldset className="space-y-2">
+          <fieldset className="min-w-0 space-y-2">
             <legend className="font-semibold">Opening hours ({timeZone}, 24-hour clock)</legend>
-            <div className="overflow-x-auto">
+            <div className="relative overflow-x-auto">
             <table className="table">
               <thead><tr><th>Day</th><th>Opens</th><th>Closes</th><th><span className="sr-only">Remove</span></th></tr></thead>
               <tbody>
@@ -160,7 +160,7 @@ export default function MachineRulesAdmin({ machines, timeZone, initialId }: { m
                     </td>
                     <td><input className="input w-[4.5rem] sm:w-24" aria-label={`Opens on ${WEEKDAYS[h.weekday - 1]}`} value={h.opens} onChange={(e) => setHoursText(hoursText.map((x, j) => (j === i ? { ...x, opens: e.target.value } : x)))} /></td>
                     <td><input className="input w-[4.5rem] sm:w-24" aria-label={`Closes on ${WEEKDAYS[h.weekday - 1]}`} value={h.closes} onChange={(e) => setHoursText(hoursText.map((x, j) => (j === i ? { ...x, closes: e.target.value } : x)))} /></td>
-                    <td><button type="button" className="btn btn-quiet" onClick={() => setHoursText(hoursText.filter((_, j) => j !== i))}><span aria-hidden="true" className="sm:hidden">✕</span><span className="sr-only sm:not-sr-only">Remove</span><span className="sr-only"> {WEEKDAYS[h.weekday - 1]} {h.opens}–{h.closes}</span></button></td>
+                    <td><button type="button" className="btn btn-quiet relative" onClick={() => setHoursText(hoursText.filter((_, j) => j !== i))}><span aria-hidden="true" className="sm:hidden">✕</span><span className="sr-only sm:not-sr-only">Remove</span><span className="sr-only"> {WEEKDAYS[h.weekday - 1]} {h.opens}–{h.closes}</span></button></td>
                   </tr>
                 ))}
               </tbody>
