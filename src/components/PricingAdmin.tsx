@@ -29,12 +29,14 @@ interface Props {
   currentId: string | null;
   timeZone: string;
   today: string;
+  /** the site's currency and tax (Admin › Site): every charge uses them */
+  site: { currency: string; taxRatePercent: number; pricesIncludeTax: boolean };
 }
 
-export default function PricingAdmin({ machines, versions: initialVersions, currentId, timeZone, today }: Props) {
+export default function PricingAdmin({ machines, versions: initialVersions, currentId, timeZone, today, site }: Props) {
   const [versions, setVersions] = useState(initialVersions);
   const base = versions.find((v) => v.id === currentId) ?? versions[0];
-  const cur = base?.currency ?? 'NZD';
+  const cur = site.currency;
   const m = (n: number | null | undefined) => (n === null || n === undefined ? '' : formatMinor(n, cur));
   const [effectiveDate, setEffectiveDate] = useState(today);
   const [increment, setIncrement] = useState(String(base?.incrementMinutes ?? 5));
@@ -42,8 +44,6 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
   const [cap, setCap] = useState(m(base?.dailyCapMinor));
   const [lateFee, setLateFee] = useState(m(base?.lateCancelFeeMinor ?? 0));
   const [noShowFee, setNoShowFee] = useState(m(base?.noShowFeeMinor ?? 0));
-  const [taxMode, setTaxMode] = useState<'inclusive' | 'exclusive'>(base?.taxMode ?? 'inclusive');
-  const [taxPercent, setTaxPercent] = useState(base ? String(base.taxRateBp / 100) : '15');
   const [minimumRule, setMinimumRule] = useState<'carry' | 'waive'>(base?.minimumRule ?? 'carry');
   const [rechargeTiers, setRechargeTiers] = useState<Tier[]>(base?.rechargeTiers ?? []);
   const [note, setNote] = useState('');
@@ -76,18 +76,13 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
         rateList.push({ machineId: mc.id, tier: t, perMinuteMinor: money(`rate ${mc.name} ${t}`, text) });
       }
     }
-    const taxBp = Math.round(Number(taxPercent) * 100);
-    if (!/^\d{1,3}(\.\d{1,2})?$/.test(taxPercent.trim())) bad.tax = 'Enter a percentage such as 15.';
     const payload = {
       effectiveDate,
-      currency: cur,
       incrementMinutes: Number(increment),
       minimumChargeMinor: money('minimum', minimum),
       dailyCapMinor: cap.trim() === '' ? null : money('cap', cap),
       lateCancelFeeMinor: money('late fee', lateFee),
       noShowFeeMinor: money('no-show fee', noShowFee),
-      taxMode,
-      taxRateBp: taxBp,
       minimumRule,
       rechargeTiers,
       materials: materials.filter((x) => x.sku.trim()).map((x) => ({ sku: x.sku.trim(), name: x.name.trim(), priceMinor: money(`material ${x.sku}`, x.price) })),
@@ -151,17 +146,11 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
             <span>No-show fee ({cur})</span>
             <input className="input" inputMode="decimal" value={noShowFee} onChange={(e) => setNoShowFee(e.target.value)} required />
           </label>
-          <label className="field">
-            <span>Tax</span>
-            <select className="input" value={taxMode} onChange={(e) => setTaxMode(e.target.value as 'inclusive' | 'exclusive')}>
-              <option value="inclusive">Included in prices</option>
-              <option value="exclusive">Added to prices</option>
-            </select>
-          </label>
-          <label className="field">
-            <span>Tax rate (%)</span>
-            <input className="input" inputMode="decimal" value={taxPercent} onChange={(e) => setTaxPercent(e.target.value)} required />
-          </label>
+          <div className="field">
+            <span>Currency and tax</span>
+            <p className="py-2">{cur}; {site.taxRatePercent} % tax {site.pricesIncludeTax ? 'included in' : 'added to'} these prices.</p>
+            <small className="hint">Set on <a href="/admin/site">Site</a>; a charge uses the tax in force when it is made, and its receipt shows it.</small>
+          </div>
           <label className="field">
             <span>Sums below the card minimum</span>
             <select className="input" value={minimumRule} onChange={(e) => setMinimumRule(e.target.value as 'carry' | 'waive')}>
@@ -234,7 +223,7 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
                   </span>
                 </div>
                 <p className="hint">{v.note || 'No note'} · by {v.createdByName ?? 'the seed'} · {v.currency}, per started {v.incrementMinutes} min, minimum {formatMoney(v.minimumChargeMinor, v.currency)}
-                  {v.dailyCapMinor !== null ? `, daily cap ${formatMoney(v.dailyCapMinor, v.currency)}` : ''}, tax {v.taxRateBp / 100} % {v.taxMode === 'inclusive' ? 'included' : 'added'}</p>
+                  {v.dailyCapMinor !== null ? `, daily cap ${formatMoney(v.dailyCapMinor, v.currency)}` : ''}</p>
                 <details className="mt-2">
                   <summary className="cursor-pointer text-sm">Rates</summary>
                   <ul className="mt-1 text-sm">

@@ -109,7 +109,7 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
           {codes.map((c) => <option key={c.code} value={c.code}>{c.code} — {c.label}</option>)}
         </select>
         {fieldError('currency')}
-        <span className="hint font-normal">Changing the currency does not convert prices already set; review the Pricing screen afterwards.</span>
+        <span className="hint font-normal">Prices are kept in this currency. It can change only until the first charge is made, and prices are not converted: make a new price version on Pricing afterwards.</span>
       </label>
       <fieldset className="grid gap-4 sm:grid-cols-2">
         <legend className="sr-only">Tax</legend>
@@ -129,6 +129,7 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
             before tax (tax added on top)
           </label>
         </div>
+        <p className="hint sm:col-span-2">Every charge uses the tax set here at the moment it is made (beam time, fees, sheets); each receipt shows the rate it used. Charges already made keep theirs.</p>
       </fieldset>
       <label className="field">
         <span>Public address (printed on QR labels)</span>

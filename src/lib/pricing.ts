@@ -129,10 +129,20 @@ export function billableMinutes(minutes: number, increment: number): number {
   return Math.ceil(minutes / increment) * increment;
 }
 
-/** Tax contained in / added to an amount, rounded half-up once. */
+/**
+ * Tax contained in / added to an amount, rounded half-up once. The rate is in basis points with at most one
+ * decimal (a thousandth of a percent, as in 8.875 % = 887.5 bp), worked in integers ten times finer.
+ */
 export function taxOf(amountMinor: number, rateBp: number, mode: TaxMode): number {
-  if (mode === 'inclusive') return divRoundHalfUp(amountMinor * rateBp, 10_000 + rateBp);
-  return divRoundHalfUp(amountMinor * rateBp, 10_000);
+  const r = Math.round(rateBp * 10);
+  if (!(r >= 0) || Math.abs(r - rateBp * 10) > 1e-6) throw new PricingError('bad_input', 'A tax rate has at most three decimals of a percent.');
+  if (mode === 'inclusive') return divRoundHalfUp(amountMinor * r, 100_000 + r);
+  return divRoundHalfUp(amountMinor * r, 100_000);
+}
+
+/** A tax rate in percent (as the Site screen holds it) in basis points. */
+export function percentToBp(percent: number): number {
+  return Math.round(percent * 1000) / 10;
 }
 
 export function quote(table: PriceTable, input: QuoteInput): Quote {

@@ -123,7 +123,7 @@ describe('deactivation', () => {
       ])
       .returning('id');
     const [pending] = await testDb()('charges')
-      .insert({ person_id: p.id, machine_id: m, booking_id: f1.id, kind: 'beam_time', method: 'card', state: 'pending', currency: 'NZD', amount_minor: 1000, breakdown: '{}' })
+      .insert({ person_id: p.id, machine_id: m, booking_id: f1.id, tier: 'community', kind: 'beam_time', method: 'card', state: 'pending', currency: 'NZD', amount_minor: 1000, breakdown: '{}' })
       .returning('id');
 
     const res = await admin.send('POST', `/api/people/${p.id}/deactivate`);

@@ -44,14 +44,11 @@ describe('price versions', () => {
   const future = new Date(Date.now() + 30 * 86_400_000).toISOString().slice(0, 10);
   const draft = (over: Record<string, unknown> = {}) => ({
     effectiveDate: future,
-    currency: 'NZD',
     incrementMinutes: 5,
     minimumChargeMinor: 500,
     dailyCapMinor: 12000,
     lateCancelFeeMinor: 1000,
     noShowFeeMinor: 1500,
-    taxMode: 'inclusive',
-    taxRateBp: 1500,
     minimumRule: 'carry',
     rechargeTiers: ['student', 'staff'],
     materials: [{ sku: 'ply-3', name: '3 mm plywood', priceMinor: 700 }],
@@ -82,13 +79,40 @@ describe('price versions', () => {
   });
   it('refuses a past date, bad fields, and anyone but an admin', async () => {
     expect((await admin.send('POST', '/api/pricing/versions', draft({ effectiveDate: '2020-01-01' }))).status).toBe(422);
-    const bad = await admin.send('POST', '/api/pricing/versions', draft({ taxRateBp: 20000, incrementMinutes: 0, minimumChargeMinor: 1.5 }));
+    const bad = await admin.send('POST', '/api/pricing/versions', draft({ lateCancelFeeMinor: -1, incrementMinutes: 0, minimumChargeMinor: 1.5 }));
     expect(bad.status).toBe(422);
-    expect(Object.keys((await body(bad)).error.fields)).toEqual(expect.arrayContaining(['taxRateBp', 'incrementMinutes', 'minimumChargeMinor']));
+    expect(Object.keys((await body(bad)).error.fields)).toEqual(expect.arrayContaining(['lateCancelFeeMinor', 'incrementMinutes', 'minimumChargeMinor']));
+    // currency and tax are the site's: a version body cannot carry them
+    const taxed = await admin.send('POST', '/api/pricing/versions', draft({ taxRateBp: 1000, currency: 'EUR' }));
+    expect(taxed.status).toBe(422);
     expect((await member.send('POST', '/api/pricing/versions', draft())).status).toBe(403);
     expect((await member.get('/api/pricing/versions')).status).toBe(403);
     const steward = await Client.as('steward');
     expect((await steward.send('POST', '/api/pricing/versions', draft())).status).toBe(403);
+  });
+});
+
+describe('the site\'s tax and currency', () => {
+  it('a tax change on Site applies to the next quote; the currency cannot change once charges exist', async () => {
+    const site = await body(await admin.get('/api/site'));
+    const { updatedAt: _u, ...restore } = site;
+    try {
+      const put = await admin.send('PUT', '/api/site', { ...restore, taxRatePercent: 8.875, pricesIncludeTax: false });
+      expect(put.status, await put.clone().text()).toBe(200);
+      const q = await body(await member.send('POST', '/api/tools/quote', { machineId: laserB, tier: 'commercial', minutes: 7, materials: [{ sku: 'mdf-3', quantity: 1 }] }));
+      // 1900 before tax; 8.875 % added = 168.625 → 169 (half-up); the breakdown names the rate it used
+      expect(q).toMatchObject({ subtotalMinor: 1900, taxMinor: 169, amountMinor: 2069, taxMode: 'exclusive', taxRateBp: 887.5 });
+
+      expect(await testDb()('charges').whereNot('currency', 'EUR').first('id')).toBeTruthy(); // the seeded history charged NZD
+      const eur = await admin.send('PUT', '/api/site', { ...restore, currency: 'EUR' });
+      expect(eur.status).toBe(409);
+      expect((await body(eur)).error.code).toBe('currency_in_use');
+      expect((await body(await admin.get('/api/site'))).currency).toBe('NZD');
+    } finally {
+      expect((await admin.send('PUT', '/api/site', restore)).status).toBe(200);
+    }
+    const back = await body(await member.send('POST', '/api/tools/quote', { machineId: laserB, tier: 'commercial', minutes: 7, materials: [{ sku: 'mdf-3', quantity: 1 }] }));
+    expect(back).toMatchObject({ amountMinor: 1900, taxMinor: 248, taxMode: 'inclusive', taxRateBp: 1500 });
   });
 });
 

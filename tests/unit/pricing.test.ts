@@ -3,7 +3,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
   PROVIDER_MINIMUM_MINOR, TIERS, beamTimeMinor, billableMinutes, currencyExponent, divRoundHalfUp, formatMinor, parseMajor,
-  quote, settle, taxOf, type PriceTable,
+  percentToBp, quote, settle, taxOf, type PriceTable,
 } from '../../src/lib/pricing';
 
 const table = (over: Partial<PriceTable> = {}): PriceTable => ({
@@ -90,6 +90,15 @@ describe('worked examples (invented rates)', () => {
     expect(taxOf(10, 1500, 'exclusive')).toBe(2); // 1.5 → 2 (half-up)
     expect(taxOf(230, 1500, 'inclusive')).toBe(30); // 230 × 15/115 = 30 exactly
   });
+  it('takes a rate with three decimals of a percent, as the Site screen allows (8.875 %: a US city sales tax, from memory)', () => {
+    expect(percentToBp(8.875)).toBe(887.5);
+    expect(percentToBp(15)).toBe(1500);
+    expect(percentToBp(12.5)).toBe(1250);
+    expect(taxOf(10_000, 887.5, 'exclusive')).toBe(888); // 887.5 → 888 (half-up)
+    expect(taxOf(1000, 887.5, 'exclusive')).toBe(89); // 88.75
+    expect(taxOf(10_887, 887.5, 'inclusive')).toBe(887); // 10887 × 8.875/108.875 = 887.45…
+    expect(() => taxOf(100, 887.55, 'exclusive')).toThrow(/three decimals/);
+  });
   it('carries or waives sums below the provider minimum (NZD 0.50 from memory; USD 0.50, GBP 0.30, JPY 50 from REFERENCE.md)', () => {
     expect(PROVIDER_MINIMUM_MINOR.USD).toBe(50);
     expect(PROVIDER_MINIMUM_MINOR.GBP).toBe(30);
@@ -148,10 +157,11 @@ describe('properties', () => {
     }));
   });
   it('tax rounding is exact: within half a minor unit of the true value, ties up', () => {
-    fc.assert(fc.property(fc.integer({ min: 0, max: 10 ** 9 }), fc.integer({ min: 0, max: 5000 }), fc.constantFrom('inclusive' as const, 'exclusive' as const), (amt, bp, mode) => {
-      const tax = taxOf(amt, bp, mode);
-      const num = BigInt(amt) * BigInt(bp);
-      const den = BigInt(mode === 'inclusive' ? 10_000 + bp : 10_000);
+    // rates in tenths of a basis point (a thousandth of a percent), 0–50 %
+    fc.assert(fc.property(fc.integer({ min: 0, max: 10 ** 9 }), fc.integer({ min: 0, max: 50_000 }), fc.constantFrom('inclusive' as const, 'exclusive' as const), (amt, tenths, mode) => {
+      const tax = taxOf(amt, tenths / 10, mode);
+      const num = BigInt(amt) * BigInt(tenths);
+      const den = BigInt(mode === 'inclusive' ? 100_000 + tenths : 100_000);
       // |tax − num/den| ≤ 1/2, and exactly 1/2 only when rounding up: 2·tax·den − 2·num ∈ (−den, den]
       const diff = 2n * BigInt(tax) * den - 2n * num;
       return diff > -den && diff <= den;

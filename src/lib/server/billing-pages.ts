@@ -32,5 +32,6 @@ export async function pricingPage() {
     currentId: current?.id ?? null,
     timeZone: settings.timeZone,
     today,
+    site: { currency: settings.currency, taxRatePercent: settings.taxRatePercent, pricesIncludeTax: settings.pricesIncludeTax },
   };
 }

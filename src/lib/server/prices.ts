@@ -1,6 +1,9 @@
 /**
  * Price versions and quotes: all SQL of the pricing area. A version is never edited: a change is a new
  * version with its own effective date, and a session is priced by the version in force when it started.
+ * Tax is the site's (Admin › Site: one rate, included in or added to prices), applied when the charge is made;
+ * each charge's breakdown records the rate it used. A version records the site's currency and tax of the day it
+ * was made, for the history only.
  */
 import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
@@ -8,7 +11,7 @@ import { recordAudit } from './audit';
 import { HttpError } from './http';
 import { getSettings } from './settings';
 import {
-  PricingError, TIERS, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode, type Tier,
+  PricingError, TIERS, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode, type Tier,
 } from '../pricing';
 
 /** The terms a price version sets, shared by a stored version and a new one. */
@@ -73,7 +76,32 @@ async function withRates(trx: Knex | Knex.Transaction, rows: Row[]): Promise<Pri
   });
 }
 
-export function toTable(v: PriceVersion): PriceTable {
+/** The site's tax as the pricing engine takes it (Admin › Site), and the site's currency. */
+export interface SiteTax {
+  taxMode: TaxMode;
+  taxRateBp: number;
+  currency: string;
+}
+
+export async function siteTax(trx: Knex | Knex.Transaction = db()): Promise<SiteTax> {
+  const row = (await trx('site_settings').where({ id: 1 }).first('tax_rate_percent', 'prices_include_tax', 'currency')) as
+    | { tax_rate_percent: string | number; prices_include_tax: boolean; currency: string }
+    | undefined;
+  if (!row) return { taxMode: 'inclusive', taxRateBp: 0, currency: 'NZD' };
+  return { taxMode: row.prices_include_tax ? 'inclusive' : 'exclusive', taxRateBp: percentToBp(Number(row.tax_rate_percent)), currency: row.currency };
+}
+
+/** The site's tax for pricing `v`; refused (409) when the version's amounts are in another currency than the site's. */
+async function taxFor(v: PriceVersion, trx: Knex | Knex.Transaction): Promise<SiteTax> {
+  const tax = await siteTax(trx);
+  if (v.currency !== tax.currency) {
+    throw new HttpError(409, 'no_prices', `The price version in force is in ${v.currency} but the site's currency is ${tax.currency}; an admin makes a new price version on the Pricing screen.`);
+  }
+  return tax;
+}
+
+/** The price table of a version with the site's tax of now. */
+export function toTable(v: PriceVersion, tax: SiteTax): PriceTable {
   return {
     currency: v.currency,
     rates: v.rates,
@@ -82,8 +110,8 @@ export function toTable(v: PriceVersion): PriceTable {
     dailyCapMinor: v.dailyCapMinor,
     lateCancelFeeMinor: v.lateCancelFeeMinor,
     noShowFeeMinor: v.noShowFeeMinor,
-    taxMode: v.taxMode,
-    taxRateBp: v.taxRateBp,
+    taxMode: tax.taxMode,
+    taxRateBp: tax.taxRateBp,
     materials: v.materials,
     minimumRule: v.minimumRule,
   };
@@ -116,7 +144,7 @@ export async function priceFor(machineId: string, tier: Tier, startedAt: Date, t
   const v = await requireVersionAt(startedAt, trx);
   const rate = v.rates[machineId]?.[tier];
   if (rate === undefined) throw new HttpError(409, 'not_priced', `This machine has no ${tier} rate in the price version in force.`);
-  return { versionId: v.id, effectiveFrom: v.effectiveFrom, currency: v.currency, perMinuteMinor: rate, table: toTable(v) };
+  return { versionId: v.id, effectiveFrom: v.effectiveFrom, currency: v.currency, perMinuteMinor: rate, table: toTable(v, await taxFor(v, trx)) };
 }
 
 /** Start and end (UTC instants) of the calendar day in `timeZone` that contains `at`. */
@@ -195,7 +223,7 @@ export async function quoteFor(req: QuoteRequest, trx: Knex | Knex.Transaction =
     alreadyChargedTodayMinor: req.personId ? await beamTimeChargedOnDay(req.personId, at, trx) : 0,
   };
   try {
-    const q = quote(toTable(v), input);
+    const q = quote(toTable(v, await taxFor(v, trx)), input);
     return { ...q, priceVersionId: v.id, effectiveFrom: v.effectiveFrom, minimumRule: v.minimumRule, rechargeTiers: v.rechargeTiers };
   } catch (err) {
     if (err instanceof PricingError) throw new HttpError(422, err.code, err.message);
@@ -203,7 +231,8 @@ export async function quoteFor(req: QuoteRequest, trx: Knex | Knex.Transaction =
   }
 }
 
-export interface NewVersion extends VersionTerms {
+/** A new version: its currency and tax are the site's (set on Admin › Site), not part of the input. */
+export interface NewVersion extends Omit<VersionTerms, 'currency' | 'taxMode' | 'taxRateBp'> {
   effectiveFrom: Date;
   rates: { machineId: string; tier: Tier; perMinuteMinor: number }[];
 }
@@ -220,6 +249,8 @@ export async function createVersion(actorId: string, input: NewVersion): Promise
   }
   try {
     return await transaction(async (trx) => {
+      const tax = await siteTax(trx);
+      const currency = tax.currency;
       const machineIds = new Set((await trx('machines').pluck('id')) as string[]);
       for (const r of input.rates) {
         if (!machineIds.has(r.machineId)) throw new HttpError(422, 'invalid', 'A rate names a machine that does not exist.', { rates: r.machineId });
@@ -227,14 +258,15 @@ export async function createVersion(actorId: string, input: NewVersion): Promise
       const [row] = await trx('price_versions')
         .insert({
           effective_from: input.effectiveFrom,
-          currency: input.currency,
+          currency,
           increment_minutes: input.incrementMinutes,
           minimum_charge_minor: input.minimumChargeMinor,
           daily_cap_minor: input.dailyCapMinor,
           late_cancel_fee_minor: input.lateCancelFeeMinor,
           no_show_fee_minor: input.noShowFeeMinor,
-          tax_mode: input.taxMode,
-          tax_rate_bp: input.taxRateBp,
+          // the site's tax on the day (a record: quotes read the site's tax when they are made)
+          tax_mode: tax.taxMode,
+          tax_rate_bp: Math.round(tax.taxRateBp),
           minimum_rule: input.minimumRule,
           recharge_tiers: input.rechargeTiers,
           materials: JSON.stringify(input.materials),
@@ -254,9 +286,9 @@ export async function createVersion(actorId: string, input: NewVersion): Promise
         kind: 'price.version_created',
         subjectType: 'price_version',
         subjectId: row.id,
-        summary: `New price version from ${input.effectiveFrom.toISOString()} (${input.currency}, ${unique.size} rates)${input.note ? `: ${input.note}` : ''}`,
-        before: before ? toTable(before) : null,
-        after: toTable(version!),
+        summary: `New price version from ${input.effectiveFrom.toISOString()} (${currency}, ${unique.size} rates)${input.note ? `: ${input.note}` : ''}`,
+        before: before ? toTable(before, tax) : null,
+        after: toTable(version!, tax),
       });
       return version!;
     });

@@ -1,6 +1,7 @@
 /** Site settings (one row): name, IANA time zone, currency, tax, public base URL. All SQL of this area. */
 import { db, transaction } from './db';
 import { recordAudit } from './audit';
+import { HttpError } from './http';
 import { env } from './env';
 import type { SiteSettingsValues } from '../site-settings';
 
@@ -86,6 +87,10 @@ export async function updateSettings(actorId: string, input: SiteSettingsValues)
     };
     const changed = EDITABLE.filter((k) => !before || before[k] !== after[k]);
     if (changed.length === 0 && row) return toSettings(row);
+    // amounts are integers of the currency's minor unit: once money has been charged, the currency stays
+    if (before && changed.includes('currency') && (await trx('charges').whereNot('currency', after.currency).first('id'))) {
+      throw new HttpError(409, 'currency_in_use', `Charges have been made in ${before.currency}; the site's currency cannot change any more (amounts are not converted).`, { currency: `Charges exist in ${before.currency}.` });
+    }
     const values = {
       name: after.name,
       time_zone: after.timeZone,

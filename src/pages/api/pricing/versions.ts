@@ -4,19 +4,15 @@ import { createVersion, listVersions, type PriceVersion } from '../../../lib/ser
 import { getSettings } from '../../../lib/server/settings';
 import { zonedMidnight } from '../../../lib/server/prices';
 import { minor, tier, uuid } from '../../../lib/schemas';
-import { CURRENCY_EXPONENT } from '../../../lib/pricing';
 
 const body = z.object({
   /** the version starts at 00:00 of this date in the site's time zone */
   effectiveDate: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date as YYYY-MM-DD.'),
-  currency: z.string().trim().toUpperCase().refine((c) => c in CURRENCY_EXPONENT, 'Not a currency this site knows (ISO 4217 code).'),
   incrementMinutes: z.number().int().min(1, 'At least 1 minute.').max(240, 'At most 240 minutes.'),
   minimumChargeMinor: minor,
   dailyCapMinor: minor.nullable(),
   lateCancelFeeMinor: minor,
   noShowFeeMinor: minor,
-  taxMode: z.enum(['inclusive', 'exclusive']),
-  taxRateBp: z.number().int().min(0).max(10_000, 'At most 100 %.'),
   minimumRule: z.enum(['carry', 'waive']),
   rechargeTiers: z.array(tier).max(4),
   materials: z.array(z.object({ sku: z.string().trim().regex(/^[a-z0-9][a-z0-9-]{0,39}$/, 'A code such as ply-3.'), name: z.string().trim().min(1).max(120), priceMinor: minor }).strict()).max(100),
@@ -34,7 +30,10 @@ export const GET = route(async ({ locals }) => {
   return json({ versions: (await listVersions()).map(versionJson) });
 });
 
-/** POST /api/pricing/versions {...} (admin) → the new version, in force from 00:00 of effectiveDate (site time zone). Audited. */
+/**
+ * POST /api/pricing/versions {...} (admin) → the new version, in force from 00:00 of effectiveDate (site time zone).
+ * Audited. Currency and tax are the site's (Admin › Site), so they are not in the body.
+ */
 export const POST = route(async ({ locals, request }) => {
   const admin = requireRole(locals, 'admin');
   const input = await readJson(request, body);
