@@ -42,7 +42,7 @@ export default function QuizTaker({ quizId }: { quizId: string }) {
     setResult(null);
     setAnswers({});
     try {
-      setAttempt(await api<Attempt>(`/api/quizzes/${quizId}/attempt`));
+      setAttempt(await api<Attempt>(`/api/quizzes/${quizId}/attempt`, { method: 'POST' }));
     } catch (e) {
       if (e instanceof ApiError && e.code === 'attempt_limit' && e.fields?.nextAllowedAt) {
         setError(`${e.fields.reason === 'cooldown' ? 'Take a break after a missed attempt.' : 'You have used today’s attempts.'} You can try again from ${when(e.fields.nextAllowedAt)}.`);

@@ -144,7 +144,7 @@ const MATRIX: Record<string, Row> = {
   'POST /api/quizzes': api(422, 'instructor'),
   'GET /api/quizzes/[id]': api(200, 'instructor'),
   // starts an attempt (a write): called with a missing quiz id
-  'GET /api/quizzes/[id]/attempt': missing(api(404)),
+  'POST /api/quizzes/[id]/attempt': api(404),
   'POST /api/quizzes/[id]/attempts/[attemptId]': api(422),
   'PUT /api/quizzes/[id]/draft': api(422, 'instructor'),
   'POST /api/quizzes/[id]/publish': api(404, 'instructor'),

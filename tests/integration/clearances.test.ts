@@ -47,7 +47,7 @@ async function bankOf(attemptId: string): Promise<QuizQuestion[]> {
 }
 
 async function takeQuiz(c: Client, quizId: string, right: boolean) {
-  const start = await c.get(`/api/quizzes/${quizId}/attempt`);
+  const start = await c.send('POST', `/api/quizzes/${quizId}/attempt`);
   expect(start.status).toBe(201);
   const attempt = await body(start);
   const bank = await bankOf(attempt.attemptId);
@@ -114,7 +114,7 @@ describe('roles on the clearance routes', () => {
   it('signed out gets 401; a malformed id is 404, never a 500', async () => {
     expect((await new Client().get('/api/clearances/me')).status).toBe(401);
     expect((await instructor.send('POST', '/api/clearances/not-an-id/suspend', { reason: 'testing' })).status).toBe(404);
-    expect((await instructor.get('/api/quizzes/123/attempt')).status).toBe(404);
+    expect((await instructor.send('POST', '/api/quizzes/123/attempt')).status).toBe(404);
   });
 });
 
@@ -143,7 +143,7 @@ describe('taking a quiz', () => {
   it('after a fail the next attempt waits for the cooldown: 429 attempt_limit with the time', async () => {
     const p = await signUpNew('cooldown');
     await takeQuiz(p.client, glass().publishedQuizId!, false);
-    const res = await p.client.get(`/api/quizzes/${glass().publishedQuizId}/attempt`);
+    const res = await p.client.send('POST', `/api/quizzes/${glass().publishedQuizId}/attempt`);
     expect(res.status).toBe(429);
     const b = await body(res);
     expect(b.error.code).toBe('attempt_limit');
@@ -157,8 +157,8 @@ describe('taking a quiz', () => {
 
   it('allows 3 starts in 24 hours, then 429 daily_limit', async () => {
     const p = await signUpNew('daily');
-    for (let i = 0; i < 3; i++) expect((await p.client.get(`/api/quizzes/${rf().publishedQuizId}/attempt`)).status).toBe(201);
-    const res = await p.client.get(`/api/quizzes/${rf().publishedQuizId}/attempt`);
+    for (let i = 0; i < 3; i++) expect((await p.client.send('POST', `/api/quizzes/${rf().publishedQuizId}/attempt`)).status).toBe(201);
+    const res = await p.client.send('POST', `/api/quizzes/${rf().publishedQuizId}/attempt`);
     expect(res.status).toBe(429);
     const b = await body(res);
     expect(b.error.fields.reason).toBe('daily_limit');
@@ -168,7 +168,7 @@ describe('taking a quiz', () => {
   it('refuses answers to someone else’s attempt, a second submission, and questions not drawn', async () => {
     const a = await signUpNew('owner');
     const b = await signUpNew('other');
-    const attempt = await body(await a.client.get(`/api/quizzes/${glass().publishedQuizId}/attempt`));
+    const attempt = await body(await a.client.send('POST', `/api/quizzes/${glass().publishedQuizId}/attempt`));
     const url = `/api/quizzes/${glass().publishedQuizId}/attempts/${attempt.attemptId}`;
     expect((await b.client.send('POST', url, { answers: {} })).status).toBe(404);
     expect((await a.client.send('POST', url, { answers: { nope: ['a'] } })).status).toBe(422);
@@ -198,7 +198,7 @@ describe('the journey through the states, over the API', () => {
     const { result } = await takeQuiz(person.client, glass().publishedQuizId!, true);
     expect(result).toMatchObject({ passed: true, scorePct: 100, missedTopics: [], clearanceState: 'awaiting sign-off' });
     expect(result.nextStep).toMatch(/practical sign-off/);
-    const again = await person.client.get(`/api/quizzes/${glass().publishedQuizId}/attempt`);
+    const again = await person.client.send('POST', `/api/quizzes/${glass().publishedQuizId}/attempt`);
     expect(again.status).toBe(409);
     expect((await body(again)).error.code).toBe('quiz_not_needed');
     const v = await canOperate(personId, machines['laser-a']!, new Date());
@@ -265,7 +265,7 @@ describe('the journey through the states, over the API', () => {
     expect((await instructor.send('POST', `/api/clearances/${clearanceId}/suspend`, { reason: 'again' })).status).toBe(409);
     const me = (await body(await person.client.get('/api/clearances/me'))).clearances.find((c: any) => c.groupId === glass().id);
     expect(me).toMatchObject({ state: 'suspended', suspendedReason: 'Left a job running unattended' });
-    expect((await person.client.get(`/api/quizzes/${glass().publishedQuizId}/attempt`)).status).toBe(409);
+    expect((await person.client.send('POST', `/api/quizzes/${glass().publishedQuizId}/attempt`)).status).toBe(409);
     const r = await instructor.send('POST', `/api/clearances/${clearanceId}/reinstate`, { reason: 'Went over the fire routine again' });
     expect(await body(r)).toMatchObject({ state: 'cleared' });
     expect(await canOperate(personId, machines['laser-a']!, new Date())).toEqual({ ok: true });
@@ -318,10 +318,10 @@ describe('quiz versions', () => {
     const draftVersion = (await body(saved)).version;
     expect(draftVersion).toBe(v1.version + 1);
     const p = await signUpNew('versions');
-    const before = await body(await p.client.get(`/api/quizzes/${quizId}/attempt`));
+    const before = await body(await p.client.send('POST', `/api/quizzes/${quizId}/attempt`));
     expect(before.version).toBe(v1.version);
     expect((await instructor.send('POST', `/api/quizzes/${quizId}/publish`)).status).toBe(200);
-    const after = await body(await p.client.get(`/api/quizzes/${quizId}/attempt`));
+    const after = await body(await p.client.send('POST', `/api/quizzes/${quizId}/attempt`));
     expect(after.version).toBe(draftVersion);
     expect(after.title).toMatch(/\(revised\)$/);
     // the earlier attempt still points at the version it took
