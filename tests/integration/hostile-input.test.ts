@@ -31,7 +31,7 @@ beforeAll(async () => {
   const row = (await testDb()('people').where({ email: p.email }).first('id')) as { id: string };
   const res = await admin.send('PUT', `/api/people/${row.id}/roles`, { roles: ['member', 'instructor', 'steward', 'admin'] });
   expect(res.status).toBe(200);
-  machineId = ((await testDb()('machines').orderBy('code').first('id')) as { id: string }).id;
+  machineId = ((await testDb()('machines').whereNull('retired_at').orderBy('code').first('id')) as { id: string }).id;
 });
 afterAll(closeTestDb);
 
