@@ -1,27 +1,9 @@
 /** Admin › Machines: the machines in use — add one, edit what it is (group, clearance level, tube, optics, cooling), retire it. */
 import { useId, useState } from 'react';
-import { TUBE_LABELS, TUBE_TYPES, STATUS_TEXT, type MachineStatus, type TubeType } from '../lib/machines-shared';
+import { TUBE_LABELS, TUBE_TYPES, STATUS_TEXT, type MachineRecord } from '../lib/machines-shared';
 import { api, ApiError } from './ui/api';
 
-export interface AdminMachine {
-  id: string;
-  code: string;
-  name: string;
-  groupId: string | null;
-  requiredLevel: 'basic' | 'advanced';
-  powerW: number;
-  tubeType: TubeType;
-  wavelengthUm: number;
-  bedWidthMm: number;
-  bedDepthMm: number;
-  beamDiameterMm: number;
-  divergenceMrad: number;
-  lensFocalMm: number;
-  coolantType: 'water' | 'air';
-  coolantMinC: number | null;
-  coolantMaxC: number | null;
-  status: MachineStatus;
-}
+export type AdminMachine = MachineRecord;
 interface Group {
   id: string;
   name: string;

@@ -15,7 +15,7 @@ import { stopJobs } from '../../src/lib/server/jobs';
 import { HttpError } from '../../src/lib/server/http';
 import { createPerson, setTier } from '../../src/lib/server/people';
 import {
-  assertCanBook, chargeBeamTime, getCharge, holdForBooking, placeHold, providerChargesOf, releaseHoldsForBooking, saveCard,
+  assertCanBook, chargeBeamTime, chargeBookingFee, getCharge, holdForBooking, placeHold, providerChargesOf, releaseHoldsForBooking, saveCard,
 } from '../../src/lib/server/payments';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
@@ -294,6 +294,26 @@ describe('sums below the provider minimum', () => {
 });
 
 // Last: restarting the fake forgets every customer the earlier tests made.
+describe('a saved card the provider no longer knows', () => {
+  it('a fee fails in the open (not left pending), the stale card is forgotten, and a hold is simply not placed', async () => {
+    const m = await newMember('stale');
+    await saveCard(m.id, 'tok_visa');
+    // the provider lost the customer (deleted there, or a fake restarted): only the database can make this state
+    await testDb()('payment_customers').where({ person_id: m.id }).update({ provider_customer_id: `cus_gone${Date.now()}` });
+    const fee = await chargeBookingFee({ personId: m.id, machineId: laserA, bookingId: randomUUID(), startsAt: new Date(), fee: 'no_show' });
+    expect(fee).toMatchObject({ state: 'payment failed', failureMessage: expect.stringMatching(/no longer knows your saved card/) });
+    expect(await testDb()('payment_customers').where({ person_id: m.id }).first()).toBeUndefined();
+
+    // saving a card again takes what is owed at once
+    await saveCard(m.id, 'tok_visa');
+    expect((await getCharge(fee.id))?.state).toBe('captured');
+    await testDb()('payment_customers').where({ person_id: m.id }).update({ provider_customer_id: `cus_gone${Date.now()}` });
+    const hold = await holdForBooking({ personId: m.id, machineId: laserA, bookingId: randomUUID(), startsAt: new Date(Date.now() + 86_400_000), minutes: 60 });
+    expect(hold).toMatchObject({ state: 'released', heldMinor: 0 });
+    expect(await testDb()('charges').where({ person_id: m.id, state: 'pending' }).first()).toBeUndefined();
+  });
+});
+
 describe('the provider unreachable, then back', () => {
   it('queues the charge, retries it in the worker, and takes it exactly once', async () => {
     const m = await newMember('outage');

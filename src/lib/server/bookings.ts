@@ -191,7 +191,9 @@ export async function createBooking(actor: Actor, input: BookingInput, now = new
 /** Places the card hold for a committed booking; a problem with the card never undoes the booking. */
 async function placeHold(b: Booking): Promise<string | null> {
   try {
-    await holdForBooking({ personId: b.personId, machineId: b.machineId, bookingId: b.id, startsAt: b.startsAt, minutes: minutesBetween(b.startsAt, b.endsAt) });
+    const hold = await holdForBooking({ personId: b.personId, machineId: b.machineId, bookingId: b.id, startsAt: b.startsAt, minutes: minutesBetween(b.startsAt, b.endsAt) });
+    // the provider no longer knew the saved card: it was forgotten and nothing is held (payments.ts)
+    if (hold?.state === 'released' && hold.failureMessage) return `${hold.failureMessage} Nothing is held now; beam time is charged at check-out.`;
     return null;
   } catch (err) {
     if (err instanceof HttpError && err.status === 402) {

@@ -4,29 +4,10 @@ import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './http';
 import { cancelFutureBookingsOnMachine, releaseHoldsAfterCancel } from './bookings';
-import type { MachineStatus, TubeType } from '../machines-shared';
+import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '../machines-shared';
 import type { ClearanceLevel } from '../clearance-rules';
 
-export interface Machine {
-  id: string;
-  code: string;
-  name: string;
-  powerW: number;
-  tubeType: TubeType;
-  wavelengthUm: number;
-  bedWidthMm: number;
-  bedDepthMm: number;
-  beamDiameterMm: number;
-  divergenceMrad: number;
-  lensFocalMm: number;
-  coolantType: 'water' | 'air';
-  /** The chiller range a check-in accepts (°C); null: the common-practice default. */
-  coolantMinC: number | null;
-  coolantMaxC: number | null;
-  status: MachineStatus;
-  /** The machine group whose clearance lets a person run it (null: nobody can book it yet). */
-  groupId: string | null;
-  requiredLevel: ClearanceLevel;
+export interface Machine extends MachineRecord {
   retiredAt: Date | null;
 }
 
@@ -86,23 +67,7 @@ export function machineSummary(m: Machine) {
 // ---------------------------------------------------------------------------------------------
 // Adding, editing and retiring (admin)
 
-/** What an admin sets on a machine. The code is fixed at creation: it is printed in the QR label. */
-export interface MachineFields {
-  name: string;
-  groupId: string;
-  requiredLevel: ClearanceLevel;
-  powerW: number;
-  tubeType: TubeType;
-  wavelengthUm: number;
-  bedWidthMm: number;
-  bedDepthMm: number;
-  beamDiameterMm: number;
-  divergenceMrad: number;
-  lensFocalMm: number;
-  coolantType: 'water' | 'air';
-  coolantMinC: number | null;
-  coolantMaxC: number | null;
-}
+export type { MachineFields };
 
 const COLUMNS: Record<keyof MachineFields, string> = {
   name: 'name', groupId: 'group_id', requiredLevel: 'required_level', powerW: 'power_w', tubeType: 'tube_type',

@@ -312,7 +312,16 @@ async function run(chargeId: string, op: Op, fromWorker = false): Promise<Charge
         if (!fromWorker) await enqueue(trx, 'payments.retry', { chargeId: c.id });
       });
       if (fromWorker) throw new Error(`payment provider not ready for charge ${c.id}: ${(err as ProviderError).message ?? kind}`);
+    } else if (kind === 'missing' && op.op !== 'capture') {
+      // the provider no longer knows the saved customer or card (deleted there): a stale record, not a decline.
+      // Forget it, so the person is asked for a card again; nothing is left pending.
+      await db()('payment_customers').where({ person_id: c.personId }).delete();
+      const message = 'The payment provider no longer knows your saved card. Save a card again on the Account screen.';
+      if (op.op === 'hold') await update(db(), c.id, { state: 'released', held_minor: 0, pending_op: null, failure_code: 'card_missing', failure_message: message });
+      else await markFailed(c, 'card_missing', message);
     } else {
+      // anything else (the hold to capture is gone, or a request the provider refused): failed in the open, never left pending
+      await markFailed(c, kind === 'missing' ? 'hold_missing' : 'provider_error', (err as ProviderError).message ?? 'The payment provider refused the request.');
       throw err;
     }
   }
@@ -329,8 +338,10 @@ async function perform(c: Charge, op: Op): Promise<void> {
       return;
     }
     const amount = op.op === 'hold' ? c.cardAmountMinor : op.amountMinor;
-    // the card is part of the key: the same attempt retried is one charge; a new card after a decline is a new attempt
-    const opKey = op.op === 'hold' ? `hold-${card.sourceId}` : `charge-${amount}-${card.sourceId}`;
+    // the card (and its customer) is part of the key: the same attempt retried is one charge; a new card after a
+    // decline, or the same card saved again after the provider lost it, is a new attempt
+    const cardKey = `${card.customerId}-${card.sourceId}`;
+    const opKey = op.op === 'hold' ? `hold-${cardKey}` : `charge-${amount}-${cardKey}`;
     if (c.providerChargeId && op.op === 'charge' && c.heldMinor > 0) {
       // a hold was there and the final amount is higher: let the hold go, then take the whole amount anew
       await p.refunds.create({ charge: c.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
