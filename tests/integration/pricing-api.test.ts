@@ -41,7 +41,8 @@ describe('POST /api/tools/quote', () => {
 });
 
 describe('price versions', () => {
-  const future = new Date(Date.now() + 30 * 86_400_000).toISOString().slice(0, 10);
+  // far past every booking other files make (at most 35 days ahead): this version prices only Laser A for community
+  const future = new Date(Date.now() + 200 * 86_400_000).toISOString().slice(0, 10);
   const draft = (over: Record<string, unknown> = {}) => ({
     effectiveDate: future,
     incrementMinutes: 5,
