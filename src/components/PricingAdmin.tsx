@@ -114,8 +114,16 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
   const now = Date.now();
   const inForce = versions.filter((v) => Date.parse(v.effectiveFrom) <= now).sort((a, b) => b.effectiveFrom.localeCompare(a.effectiveFrom))[0];
 
+  // machines in use with no rate at all in the version in force: their beam time is not charged
+  const unpriced = machines.filter((mc) => !inForce || TIERS.every((t) => inForce.rates[mc.id]?.[t] === undefined));
+
   return (
     <div className="space-y-8">
+      {unpriced.length > 0 && (
+        <p className="notice notice-warn" data-testid="unpriced">
+          {unpriced.map((mc) => mc.name).join(', ')} {unpriced.length === 1 ? 'has' : 'have'} no rates in the prices in force, so {unpriced.length === 1 ? 'its' : 'their'} beam time is not charged. Enter rates below and save a new version from today.
+        </p>
+      )}
       <form onSubmit={submit} className="card space-y-5 p-4" aria-labelledby="new-version">
         <h2 id="new-version" className="text-lg font-semibold">New price version</h2>
         <p className="hint">Prices are never edited in place. Sessions are priced by the version in force when they started.</p>

@@ -54,6 +54,13 @@ describe('the Machines screen', () => {
     await page.getByRole('heading', { name: 'Booking rules of Laser D' }).waitFor();
     await shot(page, 'machines-added-desk');
 
+    // until it has rates, the Pricing screen says its beam time is not charged
+    await page.goto('/admin/pricing');
+    await hydrated(page);
+    expect(await page.getByTestId('unpriced').innerText()).toMatch(/Laser D has no rates in the prices in force/);
+    await page.goto('/admin/machines');
+    await hydrated(page);
+
     await row.getByRole('button', { name: 'Edit Laser D' }).click();
     const edit = page.getByRole('form', { name: 'Edit the machine' });
     await edit.getByLabel('Clearance level needed').selectOption('advanced');

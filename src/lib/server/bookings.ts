@@ -200,6 +200,7 @@ async function placeHold(b: Booking): Promise<string | null> {
       return 'No card is saved on your account, so nothing is held now: beam time is charged at check-out. Save a card on the Account screen to pay by card.';
     }
     if (err instanceof HttpError && err.status === 503) return 'The payment service is not answering; the hold is retried and your booking stands.';
+    if (err instanceof HttpError && err.code === 'not_priced') return 'This machine has no price for your tier yet, so nothing is held now; your booking stands.';
     console.error('booking hold failed', err);
     return 'The card hold could not be placed; your booking stands and beam time is charged at check-out.';
   }
