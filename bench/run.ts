@@ -201,6 +201,37 @@ await Promise.all(Array.from({ length: CONNECTIONS }, async () => {
 }));
 const sqlFeedRps = feedCount / SECONDS;
 
+// --- 3. the reports (admin) over the same history: each answered alone, one after another ------------------
+// periods in site dates (the app's zone): the default four weeks, and a whole year of the history
+const siteZone = (await q(`SELECT time_zone FROM site_settings WHERE id = 1`)).rows[0]?.time_zone ?? 'UTC';
+const siteDate = (d: Date) => new Intl.DateTimeFormat('en-CA', { timeZone: siteZone, year: 'numeric', month: '2-digit', day: '2-digit' }).format(d);
+const adminCookie = await signIn('admin@tidewater.example');
+const REPORTS = ['utilisation', 'revenue', 'clearances', 'faults', 'no-shows'] as const;
+const PERIODS = [
+  { label: '4 weeks', from: siteDate(new Date(Date.now() - 27 * 24 * HOUR)), to: siteDate(new Date()) },
+  { label: '1 year', from: siteDate(new Date(Date.now() - 364 * 24 * HOUR)), to: siteDate(new Date()) },
+];
+const RUNS = 10;
+say(`Reports: ${REPORTS.length} reports × ${PERIODS.length} periods, ${RUNS} requests each, one at a time`);
+const reportRows: string[] = [];
+for (const period of PERIODS) {
+  for (const name of REPORTS) {
+    const times: number[] = [];
+    let status = 0;
+    for (let i = 0; i < RUNS; i++) {
+      const t = performance.now();
+      const res = await fetch(`${APP}/api/reports/${name}?from=${period.from}&to=${period.to}`, { headers: { cookie: adminCookie } });
+      await res.text();
+      times.push(performance.now() - t);
+      status = res.status;
+    }
+    times.sort((a, b) => a - b);
+    const median = times[Math.floor(times.length / 2)]!;
+    const worst = times[times.length - 1]!;
+    reportRows.push(`| ${name} | ${period.label} (${period.from} to ${period.to}) | ${status} | ${median.toFixed(0)} ms | ${worst.toFixed(0)} ms | ${worst < 300 ? 'yes' : 'no'} |`);
+  }
+}
+
 // --- results -----------------------------------------------------------------------------------------------
 const apiCreateRps = apiCreate.requests.total / (apiCreate.duration || 1);
 const sqlCreateTps = REQUESTS / sqlCreateSeconds;
@@ -215,6 +246,12 @@ const lines = [
   '| --- | --- | --- | --- |',
   `| booking creation (${REQUESTS} bookings) | ${apiCreateRps.toFixed(0)} req/s, p50 ${apiCreate.latency.p50} ms, p99 ${apiCreate.latency.p99} ms; ${apiCreate['2xx']} × 2xx, other: ${others(apiCreate)}, ${created} rows | ${sqlCreateTps.toFixed(0)} tx/s | ${(apiCreateRps / sqlCreateTps).toFixed(2)} |`,
   `| week-view feed (Laser A, ${sample.bookings.length} bookings in the week) | ${apiFeedRps.toFixed(0)} req/s, p50 ${apiFeed.latency.p50} ms, p99 ${apiFeed.latency.p99} ms; non-2xx: ${others(apiFeed)} | ${sqlFeedRps.toFixed(0)} queries/s | ${(apiFeedRps / sqlFeedRps).toFixed(2)} |`,
+  '',
+  `Reports on the same ${HISTORY.toLocaleString('en')}-booking history, all machines, ${RUNS} requests each (goal: under 300 ms):`,
+  '',
+  '| report | period | status | median | slowest | under 300 ms |',
+  '| --- | --- | --- | --- | --- | --- |',
+  ...reportRows,
 ];
 console.log('\n' + lines.join('\n') + '\n');
 fs.writeFileSync(path.join(ROOT, 'bench/RESULTS.md'), `# Latest bench run\n\n${lines.join('\n')}\n`);

@@ -131,6 +131,21 @@ export function zoneOffsetMinutes(instant: Date, tz: string): number {
  * gap, as clocks do.
  */
 export function localToInstant(year: number, month: number, day: number, minuteOfDay: number, tz: string): Date {
+  // a pure function of its arguments, asked for the same days again and again (every machine, every week of a
+  // report): remembered, since each answer costs several Intl look-ups
+  const key = `${tz}|${year}|${month}|${day}|${minuteOfDay}`;
+  const known = instantCache.get(key);
+  if (known !== undefined) return new Date(known);
+  const t = computeLocalToInstant(year, month, day, minuteOfDay, tz);
+  if (instantCache.size >= INSTANT_CACHE_MAX) instantCache.clear();
+  instantCache.set(key, t);
+  return new Date(t);
+}
+
+const INSTANT_CACHE_MAX = 50_000;
+const instantCache = new Map<string, number>();
+
+function computeLocalToInstant(year: number, month: number, day: number, minuteOfDay: number, tz: string): number {
   const wall = Date.UTC(year, month - 1, day) + minuteOfDay * MIN;
   const offsets = new Set([zoneOffsetMinutes(new Date(wall - DAY), tz), zoneOffsetMinutes(new Date(wall), tz), zoneOffsetMinutes(new Date(wall + DAY), tz)]);
   const valid: number[] = [];
@@ -138,10 +153,10 @@ export function localToInstant(year: number, month: number, day: number, minuteO
     const t = wall - off * MIN;
     if (zoneOffsetMinutes(new Date(t), tz) === off) valid.push(t);
   }
-  if (valid.length) return new Date(Math.min(...valid));
+  if (valid.length) return Math.min(...valid);
   // in a gap: use the offset in force before it, which lands after the gap
   const before = zoneOffsetMinutes(new Date(wall - DAY), tz);
-  return new Date(wall - before * MIN);
+  return wall - before * MIN;
 }
 
 /** The local calendar date `days` after the given one (plain calendar arithmetic). */
