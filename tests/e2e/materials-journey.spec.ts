@@ -95,7 +95,7 @@ describe('materials journey', () => {
       await signIn(page, 'steward');
       await page.goto('/hazard');
       await hydrated(page);
-      await page.getByRole('link', { name: 'Laser A' }).click();
+      await page.getByRole('link', { name: 'Laser A', exact: true }).click();
       await page.getByRole('heading', { level: 1, name: /Laser A — beam hazard figures/ }).waitFor();
       const table = await page.getByRole('table').innerText();
       expect(table).toContain('ANSI Z136.1');

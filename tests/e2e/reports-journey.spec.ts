@@ -55,8 +55,8 @@ describe('reports', () => {
     // the last two weeks only
     const from = daysAgo(13);
     const to = daysAgo(0);
-    await page.getByLabel('From').fill(from);
-    await page.getByLabel('To').fill(to);
+    await page.getByLabel('From', { exact: true }).fill(from);
+    await page.getByLabel('To', { exact: true }).fill(to); // (exact: a machine's name may contain "to")
     await page.getByRole('button', { name: 'Show' }).click();
     await page.getByText(`Showing ${from} to ${to}`).waitFor();
     await waitForReports(page);

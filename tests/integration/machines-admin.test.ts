@@ -18,7 +18,8 @@ const stamp = Date.now().toString(36);
 /** A machine body as the admin form sends it; `over` changes fields. */
 function machineBody(code: string, over: Record<string, unknown> = {}) {
   return {
-    code, name: `Laser ${code.toUpperCase()}`, groupId, requiredLevel: 'basic', powerW: 60, tubeType: 'dc_glass', wavelengthUm: 10.6,
+    // a plain name (the code carries the unique stamp): other screens list retired machines by name
+    code, name: `Test laser ${code.split('-')[1]}`, groupId, requiredLevel: 'basic', powerW: 60, tubeType: 'dc_glass', wavelengthUm: 10.6,
     bedWidthMm: 600, bedDepthMm: 400, beamDiameterMm: 6, divergenceMrad: 3, lensFocalMm: 50.8, coolantType: 'water', coolantMinC: null, coolantMaxC: null,
     ...over,
   };

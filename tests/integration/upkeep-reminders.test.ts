@@ -24,7 +24,7 @@ beforeAll(async () => {
   const groupId = ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
   const code = `t-upkeep-${Date.now().toString(36)}`;
   const res = await admin.send('POST', '/api/machines', {
-    code, name: `Upkeep test ${code.slice(-6)}`, groupId, requiredLevel: 'basic', powerW: 50, tubeType: 'dc_glass', wavelengthUm: 10.6,
+    code, name: 'Upkeep test laser', groupId, requiredLevel: 'basic', powerW: 50, tubeType: 'dc_glass', wavelengthUm: 10.6,
     bedWidthMm: 500, bedDepthMm: 300, beamDiameterMm: 6, divergenceMrad: 3, lensFocalMm: 50.8, coolantType: 'water', coolantMinC: null, coolantMaxC: null,
   });
   const m = await body(res);
