@@ -50,7 +50,8 @@ beforeAll(async () => {
   const mon = booking('member', mar(2, 10), 120, 'completed'); // booked 120
   const tue = booking('member', mar(3, 14), 90, 'no-show'); // booked 90 (the machine was held)
   const thu = booking('student', mar(5, 9), 60, 'cancelled', true); // not booked time; a late cancellation
-  const fri = booking('student', mar(6, 16), 60, 'reserved'); // booked 60
+  // booked 60 (completed: a past booking left `reserved` would be turned into a no-show by the worker's minute sweep)
+  const fri = booking('student', mar(6, 16), 60, 'completed');
   await k('bookings').insert([mon, tue, thu, fri]);
   const [s1] = await k('machine_sessions').insert({ booking_id: mon.id, machine_id: machineId, person_id: ids.member, checked_in_at: mar(2, 10, 2), checked_out_at: mar(2, 11, 55), beam_minutes: 75 }).returning('id');
   await k('machine_sessions').insert({ machine_id: machineId, person_id: ids.student, checked_in_at: mar(6, 16), checked_out_at: mar(6, 16, 50), beam_minutes: 33 });
@@ -140,7 +141,7 @@ describe('utilisation', () => {
     expect(row.week_start).toBe('2026-03-02');
     // by hand: 5 × 8 h = 2400 min open, minus the 4 h closure = 2160
     expect(row.open_minutes).toBe(2160);
-    // 120 (completed) + 90 (no-show) + 60 (reserved); the cancelled booking does not count
+    // 120 (completed) + 90 (no-show) + 60 (completed); the cancelled booking does not count
     expect(row.booked_minutes).toBe(270);
     expect(row.booked_share).toBe(0.125); // 270 / 2160
     expect(row.beam_minutes).toBe(108); // 75 + 33
