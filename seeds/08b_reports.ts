@@ -7,7 +7,7 @@
  */
 import type { Knex } from 'knex';
 import { addDays, localToInstant, wallClock } from '../src/lib/availability';
-import { beamTimeMinor, quote, type PriceTable } from '../src/lib/pricing';
+import { beamTimeMinor, breakdownOf, quote, type PriceTable } from '../src/lib/pricing';
 import type { Tier } from '../src/lib/pricing';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
@@ -104,16 +104,7 @@ async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promis
     const q = quote(table, { machineId: b.machine_id, tier: b.tier, minutes: beam, alreadyChargedTodayMinor: chargedToday.get(dayKey) ?? 0, machineName: b.machine_name });
     chargedToday.set(dayKey, (chargedToday.get(dayKey) ?? 0) + beamTimeMinor(q));
     const recharge = rechargeTiers.includes(b.tier) && b.cost_centre !== null;
-    const breakdown = {
-      lines: q.lines,
-      subtotalMinor: q.subtotalMinor,
-      taxMinor: q.taxMinor,
-      taxMode: q.taxMode,
-      taxRateBp: q.taxRateBp,
-      amountMinor: q.amountMinor,
-      beamTimeMinor: beamTimeMinor(q),
-      billedMinutes: q.billedMinutes,
-    };
+    const breakdown = breakdownOf(q);
     await knex('charges').insert({
       person_id: b.person_id,
       tier: b.tier,

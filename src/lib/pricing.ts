@@ -195,6 +195,35 @@ export function beamTimeMinor(q: Quote): number {
   return q.lines.filter((l) => l.kind === 'beam_time' || l.kind === 'minimum' || l.kind === 'daily_cap').reduce((s, l) => s + l.amountMinor, 0);
 }
 
+/** What a charge records of its quote (stored as `charges.breakdown`, shown on receipts). */
+export interface Breakdown {
+  lines: Line[];
+  subtotalMinor: number;
+  taxMinor: number;
+  taxMode: TaxMode;
+  taxRateBp: number;
+  amountMinor: number;
+  beamTimeMinor: number;
+  billedMinutes: number;
+  /** small sums carried in from earlier charges and paid with this one */
+  carriedInMinor?: number;
+  estimate?: boolean;
+}
+
+export function breakdownOf(q: Quote, extra: Partial<Breakdown> = {}): Breakdown {
+  return {
+    lines: q.lines,
+    subtotalMinor: q.subtotalMinor,
+    taxMinor: q.taxMinor,
+    taxMode: q.taxMode,
+    taxRateBp: q.taxRateBp,
+    amountMinor: q.amountMinor,
+    beamTimeMinor: beamTimeMinor(q),
+    billedMinutes: q.billedMinutes,
+    ...extra,
+  };
+}
+
 export interface Settlement {
   /** send this to the card now */
   chargeNowMinor: number;

@@ -101,7 +101,7 @@ describe('the site\'s tax and currency', () => {
       const put = await admin.send('PUT', '/api/site', { ...restore, taxRatePercent: 8.875, pricesIncludeTax: false });
       expect(put.status, await put.clone().text()).toBe(200);
       const q = await body(await member.send('POST', '/api/tools/quote', { machineId: laserB, tier: 'commercial', minutes: 7, materials: [{ sku: 'mdf-3', quantity: 1 }] }));
-      // 1900 before tax; 8.875 % added = 168.625 → 169 (half-up); the breakdown names the rate it used
+      // 1900 before tax; 8.875 % added (a US city sales tax rate, from memory) = 168.625 → 169 (half-up); the breakdown names the rate it used
       expect(q).toMatchObject({ subtotalMinor: 1900, taxMinor: 169, amountMinor: 2069, taxMode: 'exclusive', taxRateBp: 887.5 });
 
       expect(await testDb()('charges').whereNot('currency', 'EUR').first('id')).toBeTruthy(); // the seeded history charged NZD

@@ -103,9 +103,6 @@ function formatRange(startsAt: Date, endsAt: Date, tz: string): string {
   return `${day}, ${t.format(startsAt)}–${t.format(endsAt)}`;
 }
 
-function stewardEmails(trx: Conn): Promise<{ email: string; name: string }[]> {
-  return activeWithRole('steward', trx);
-}
 
 // ---------------------------------------------------------------------------------------------
 // Photos
@@ -295,7 +292,7 @@ async function mailStewards(
   bumped: number,
 ): Promise<void> {
   const stop = f.severity === 'stop';
-  for (const s of await stewardEmails(trx)) {
+  for (const s of await activeWithRole('steward', trx)) {
     await queueMail(trx, s.email, `${stop ? 'STOP' : 'Degraded'}: ${machine.name} — ${f.summary}`.slice(0, 200), {
       greeting: `Kia ora ${s.name},`,
       paragraphs: [

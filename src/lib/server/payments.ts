@@ -31,7 +31,7 @@ import { recordAudit } from './audit';
 import { HttpError } from './http';
 import { getSettings } from './settings';
 import { quoteFor, zonedMidnight, type PricedQuote } from './prices';
-import { beamTimeMinor, formatMoney, settle, type Tier } from '../pricing';
+import { breakdownOf, formatMoney, settle, type Breakdown, type Tier } from '../pricing';
 
 // ---------------------------------------------------------------------------------------------
 // The provider client
@@ -110,19 +110,7 @@ export interface Charge {
   updatedAt: Date;
 }
 
-export interface Breakdown {
-  lines: PricedQuote['lines'];
-  subtotalMinor: number;
-  taxMinor: number;
-  taxMode: 'inclusive' | 'exclusive';
-  taxRateBp: number;
-  amountMinor: number;
-  beamTimeMinor: number;
-  billedMinutes: number;
-  /** small sums carried in from earlier charges and paid with this one */
-  carriedInMinor?: number;
-  estimate?: boolean;
-}
+export type { Breakdown };
 
 function toCharge(r: Record<string, any>): Charge {
   return {
@@ -177,20 +165,6 @@ async function lockCharge(trx: Knex.Transaction, id: string): Promise<Charge> {
 
 async function update(trx: Knex | Knex.Transaction, id: string, patch: Record<string, unknown>): Promise<void> {
   await trx('charges').where({ id }).update({ ...patch, updated_at: trx.fn.now() });
-}
-
-function breakdownOf(q: PricedQuote, extra: Partial<Breakdown> = {}): Breakdown {
-  return {
-    lines: q.lines,
-    subtotalMinor: q.subtotalMinor,
-    taxMinor: q.taxMinor,
-    taxMode: q.taxMode,
-    taxRateBp: q.taxRateBp,
-    amountMinor: q.amountMinor,
-    beamTimeMinor: beamTimeMinor(q),
-    billedMinutes: q.billedMinutes,
-    ...extra,
-  };
 }
 
 // ---------------------------------------------------------------------------------------------
