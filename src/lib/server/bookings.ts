@@ -8,7 +8,7 @@
  */
 import crypto from 'node:crypto';
 import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction } from './db';
+import { db, pgCode, PG, retryOnConflict, transaction } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './http';
 import { canOperate } from './clearances';
@@ -184,7 +184,8 @@ export type CreatedBooking = Booking & { paymentNotice: string | null };
  */
 export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<CreatedBooking> {
   await assertCanBook(actor.id);
-  const booking = await createBookingRow(actor, input, now);
+  // concurrent requests for one slot can deadlock inside the exclusion constraint: the transaction is run again
+  const booking = await retryOnConflict(() => createBookingRow(actor, input, now));
   return { ...booking, paymentNotice: await placeHold(booking) };
 }
 

@@ -65,3 +65,19 @@ export const PG = {
 export function pgCode(err: unknown): string | undefined {
   return typeof err === 'object' && err !== null && 'code' in err ? String((err as { code: unknown }).code) : undefined;
 }
+
+/**
+ * Runs `work` (a whole transaction) again when PostgreSQL aborted it as a deadlock or a serialization failure:
+ * those say "try again", not "no". Concurrent inserts checked by one exclusion constraint can deadlock each other;
+ * on the retry the loser sees the winner's row and gets its ordinary answer (e.g. 23P01).
+ */
+export async function retryOnConflict<T>(work: () => Promise<T>, attempts = 3): Promise<T> {
+  for (let i = 1; ; i++) {
+    try {
+      return await work();
+    } catch (err) {
+      const code = pgCode(err);
+      if (i >= attempts || (code !== PG.deadlockDetected && code !== PG.serializationFailure)) throw err;
+    }
+  }
+}
