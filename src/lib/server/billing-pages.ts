@@ -3,7 +3,7 @@ import { env } from './env';
 import { getSettings } from './settings';
 import { accountSummary, getCharge, refundsOf } from './payments';
 import { hasAnyRole } from '../roles';
-import type { SignedInPerson } from './session';
+import type { SignedInPerson } from '../signed-in-person';
 
 export async function accountPage(personId: string) {
   const [summary, settings] = await Promise.all([accountSummary(personId), getSettings()]);

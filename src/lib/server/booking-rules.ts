@@ -2,7 +2,7 @@
 import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { DEFAULT_RULES, TIERS, type BookingRules, type Closure, type Tier, type WeeklyHours } from '../availability';
 
 export interface MachineRules extends BookingRules {

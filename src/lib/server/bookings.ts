@@ -10,7 +10,7 @@ import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import { db, pgCode, PG, retryOnConflict, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { canOperate } from './clearances';
 import { getRules, getTier, listClosures, type MachineRules } from './booking-rules';
 import { getSettings } from './settings';

@@ -13,7 +13,7 @@ import type { Knex } from 'knex';
 import sharp from 'sharp';
 import { db, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { queueMail } from './mail';
 import { env } from './env';
 import { checkUpload } from './file-types';

@@ -3,7 +3,7 @@
  * browser claims. Executables are refused outright, whatever they are called.
  */
 import { fileTypeFromBuffer } from 'file-type';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 
 export interface Sniffed {
   mime: string;

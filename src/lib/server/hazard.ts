@@ -1,5 +1,5 @@
 /** Hazard sheets of stored machines; the figures come from the pure module src/lib/hazard.ts. */
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { getMachine, type Machine } from './machines';
 import { hazardSheet, HazardInputError, type HazardInput, type HazardSheet } from '../hazard';
 

@@ -5,19 +5,10 @@
 import type { APIContext, APIRoute } from 'astro';
 import { z, type ZodType } from 'zod';
 import { hasAnyRole, type Role } from '../roles';
-import type { SignedInPerson } from './session';
+import type { SignedInPerson } from '../signed-in-person';
+import { HttpError } from './errors';
 
-export class HttpError extends Error {
-  constructor(
-    public readonly status: number,
-    public readonly code: string,
-    message: string,
-    public readonly fields?: Record<string, string>,
-    public readonly headers?: Record<string, string>,
-  ) {
-    super(message);
-  }
-}
+export { HttpError };
 
 const NO_STORE = { 'cache-control': 'no-store' };
 

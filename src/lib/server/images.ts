@@ -5,7 +5,7 @@
  */
 import sharp from 'sharp';
 import { checkUpload } from './file-types';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 
 export const PHOTO_MAX_BYTES = 10 * 1024 * 1024;
 /** 50 megapixels: above any phone camera, far below what would exhaust memory. */

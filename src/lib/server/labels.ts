@@ -1,7 +1,7 @@
 /** QR codes and printable labels of machines (qrcode for the symbol, sharp to rasterise the label). */
 import QRCode from 'qrcode';
 import sharp from 'sharp';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
 import { publicBaseUrl } from './settings';
 import { escapeXml, LABEL_CAUTIONS, machinePageUrl, wrapText } from '../labels';

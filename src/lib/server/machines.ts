@@ -1,9 +1,8 @@
-/** Machines: all SQL for this area — the list, one machine, and adding, editing and retiring (admin, audited). */
+/** Machines: all SQL for this area — the list, one machine, adding and editing (admin, audited). Retiring is a cascade: cascades/retire-machine.ts. */
 import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
-import { cancelFutureBookingsOnMachine, releaseHoldsAfterCancel } from './bookings';
+import { HttpError } from './errors';
 import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '../machines-shared';
 import type { ClearanceLevel } from '../clearance-rules';
 
@@ -166,33 +165,3 @@ export async function updateMachine(actorId: string, id: string, input: Partial<
   });
 }
 
-/**
- * Retires a machine (admin): it leaves every list, its label page and the booking calendar, and takes no more
- * bookings; its reserved bookings that have not ended are cancelled (the people are e-mailed, holds released after
- * the commit) and its waitlist is withdrawn. Its history stays for the reports and the audit log. Refused (409)
- * while someone is checked in on it. Audited as `machine.retired`.
- */
-export async function retireMachine(actorId: string, id: string, reason: string, now = new Date()): Promise<{ machine: Machine; cancelledBookings: number }> {
-  const { machine, cancelled } = await transaction(async (trx) => {
-    // FOR UPDATE: a booking being made holds the machine row FOR SHARE, so it commits first (and is cancelled here) or sees the retirement
-    const row = (await trx('machines').where({ id }).forUpdate().first()) as Row | undefined;
-    if (!row) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
-    if (row.retired_at) throw new HttpError(409, 'machine_retired', `${row.name} is already retired.`);
-    const open = await trx('machine_sessions').where({ machine_id: id }).whereNull('checked_out_at').first('id');
-    if (open) throw new HttpError(409, 'machine_in_use', `Someone is checked in on ${row.name}; retire it after they check out (or a steward closes the session).`);
-    await trx('machines').where({ id }).update({ retired_at: now, updated_at: trx.fn.now() });
-    const cancelled = await cancelFutureBookingsOnMachine(trx, actorId, { id, name: row.name }, reason, now);
-    await recordAudit(trx, {
-      actorId,
-      kind: 'machine.retired',
-      subjectType: 'machine',
-      subjectId: id,
-      summary: `${row.name} (${row.code}) retired: ${reason}`.slice(0, 500),
-      before: { retiredAt: null },
-      after: { retiredAt: now, reason, cancelledBookings: cancelled.length },
-    });
-    return { machine: (await getMachine(id, trx))!, cancelled };
-  });
-  await releaseHoldsAfterCancel(cancelled, 'machine retired', actorId);
-  return { machine, cancelledBookings: cancelled.length };
-}

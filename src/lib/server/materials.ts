@@ -5,7 +5,7 @@
 import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
 import {
   decide, effectiveRule, type EffectiveRule, type MaterialCategory, type MaterialMode, type MaterialRule,

@@ -28,7 +28,7 @@ import { env } from './env';
 import { enqueue } from './jobs';
 import { queueMail } from './mail';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { getSettings } from './settings';
 import { quoteFor, zonedMidnight, type PricedQuote } from './prices';
 import { breakdownOf, formatMoney, settle, type Breakdown, type Tier } from '../pricing';

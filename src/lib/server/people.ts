@@ -4,9 +4,8 @@ import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
 import { hashPassword } from './passwords';
 import { normaliseRoles, type Role } from '../roles';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import type { Tier } from '../pricing';
-import { cancelFutureBookingsOf, releaseHoldsAfterCancel } from './bookings';
 
 export interface Person {
   id: string;
@@ -128,7 +127,7 @@ export async function setRoles(actorId: string, personId: string, roles: Role[])
 }
 
 /** Sets `active` on a locked person row and audits the change; false when it was already so. */
-async function applyActive(trx: Knex.Transaction, actorId: string, personId: string, active: boolean): Promise<boolean> {
+export async function applyActive(trx: Knex.Transaction, actorId: string, personId: string, active: boolean): Promise<boolean> {
   const target = await trx('people').where({ id: personId }).forUpdate().first('id', 'name', 'email', 'active');
   if (!target) throw new HttpError(404, 'person_not_found', 'No person has that id.');
   if (target.active === active) return false;
@@ -145,30 +144,12 @@ async function applyActive(trx: Knex.Transaction, actorId: string, personId: str
   return true;
 }
 
-async function mustGetPerson(personId: string, trx: Knex.Transaction): Promise<Person> {
+export async function mustGetPerson(personId: string, trx: Knex.Transaction): Promise<Person> {
   const person = await getPerson(personId, trx);
   if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
   return person;
 }
 
-/**
- * Deactivates a person (admin): they can no longer sign in, and their current session ends at their
- * next request (session.ts resolves only active people). Audited as `person.deactivated`. Deactivating
- * someone already inactive changes nothing. An admin cannot deactivate themselves (409).
- */
-export async function deactivatePerson(actorId: string, personId: string): Promise<Person> {
-  if (actorId === personId) {
-    throw new HttpError(409, 'cannot_deactivate_self', 'You cannot deactivate your own account; ask another admin to do it.');
-  }
-  const { person, cancelled } = await transaction(async (trx) => {
-    const changed = await applyActive(trx, actorId, personId, false);
-    // bookings: the person's reserved bookings that have not ended are cancelled in this same transaction
-    const cancelled = changed ? await cancelFutureBookingsOf(trx, actorId, personId) : [];
-    return { person: await mustGetPerson(personId, trx), cancelled };
-  });
-  await releaseHoldsAfterCancel(cancelled, 'account deactivated', actorId);
-  return person;
-}
 
 /** Lets a deactivated person sign in again (admin). Audited as `person.reactivated`. */
 export async function reactivatePerson(actorId: string, personId: string): Promise<Person> {

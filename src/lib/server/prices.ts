@@ -8,7 +8,7 @@
 import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { getSettings } from './settings';
 import {
   PricingError, TIERS, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode, type Tier,

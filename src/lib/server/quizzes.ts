@@ -4,7 +4,7 @@
  * Answers are scored here only — the answer key never leaves the server.
  */
 import { db, transaction } from './db';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { recordAudit } from './audit';
 import { recordQuizPass } from './clearances';
 import { effectiveState, type ClearanceState } from '../clearance-rules';

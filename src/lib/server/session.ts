@@ -1,14 +1,9 @@
 /** Resolves the Auth.js session of a request into the signed-in person (fresh roles, active only). */
 import { getSession } from 'auth-astro/server';
 import { getPerson } from './people';
-import type { Role } from '../roles';
+import type { SignedInPerson } from '../signed-in-person';
 
-export interface SignedInPerson {
-  id: string;
-  email: string;
-  name: string;
-  roles: Role[];
-}
+export type { SignedInPerson };
 
 export async function resolvePerson(request: Request): Promise<SignedInPerson | null> {
   let session;

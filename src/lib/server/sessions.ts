@@ -8,7 +8,7 @@
 import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { canOperate } from './clearances';
 import { chargeBeamTime, type Charge } from './payments';
 import { versionAt } from './prices';

@@ -1,7 +1,7 @@
 /** Site settings (one row): name, IANA time zone, currency, tax, public base URL. All SQL of this area. */
 import { db, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { env } from './env';
 import type { SiteSettingsValues } from '../site-settings';
 

@@ -4,7 +4,7 @@
  */
 import { CreateBucketCommand, GetObjectCommand, HeadBucketCommand, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import { env } from './env';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 
 let client: S3Client | undefined;
 let bucketReady: Promise<void> | undefined;

@@ -5,7 +5,7 @@
 import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { queueMail } from './mail';
 import { env } from './env';
 import { activeWithRole } from './people';

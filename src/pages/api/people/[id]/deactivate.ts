@@ -1,5 +1,5 @@
 import { HttpError, json, requireRole, route } from '../../../../lib/server/http';
-import { deactivatePerson } from '../../../../lib/server/people';
+import { deactivatePerson } from '../../../../lib/server/cascades/deactivate-person';
 import { uuid } from '../../../../lib/schemas';
 
 /**
