@@ -226,7 +226,7 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
     const over = checkQuota(used, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[tier]);
     if (over) throw new HttpError(422, over.code, over.message);
 
-    // materials check (issue 5): every declared material must be allowed on this machine, mode and thickness
+    // materials check: every declared material must be allowed on this machine, mode and thickness
     await checkDeclaredMaterials(machine.id, input.materials, trx);
 
     const booking = await insertBooking(trx, {
