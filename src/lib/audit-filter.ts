@@ -1,7 +1,7 @@
 /** The filter of the Audit screen and its CSV export, as a query string. Pure (no I/O). */
 import { z } from 'zod';
 import { calendarDate, page, pageSize, searchText, uuid } from './schemas';
-import { zonedDayRange } from './zoned-time';
+import { zonedDayRange } from './time';
 
 const blankToUndefined = (v: unknown) => (v === '' ? undefined : v);
 

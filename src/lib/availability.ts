@@ -7,6 +7,8 @@
  * out right. Used by the server (the rules that decide) and by the Book screen (what it shades).
  */
 
+import { localToInstant, offsetMinutes, startOfZonedDayAt, wallClock, zonedWeekBounds, type WallClock } from './time';
+
 export const TIERS = ['student', 'staff', 'community', 'commercial'] as const;
 export type Tier = (typeof TIERS)[number];
 
@@ -71,93 +73,9 @@ const MIN = 60_000;
 const DAY = 86_400_000;
 
 // ---------------------------------------------------------------------------------------------
-// Time-zone arithmetic
+// Time-zone arithmetic: from the time module (src/lib/time.ts), which states the rule for skipped and repeated times
 
-const formatters = new Map<string, Intl.DateTimeFormat>();
-function formatter(tz: string): Intl.DateTimeFormat {
-  let f = formatters.get(tz);
-  if (!f) {
-    f = new Intl.DateTimeFormat('en-US', {
-      timeZone: tz,
-      hourCycle: 'h23',
-      year: 'numeric',
-      month: 'numeric',
-      day: 'numeric',
-      hour: 'numeric',
-      minute: 'numeric',
-      second: 'numeric',
-    });
-    formatters.set(tz, f);
-  }
-  return f;
-}
-
-export interface WallClock {
-  year: number;
-  month: number;
-  day: number;
-  hour: number;
-  minute: number;
-  second: number;
-  /** ISO weekday, 1 = Monday … 7 = Sunday */
-  weekday: number;
-}
-
-/** The wall-clock reading in `tz` at an instant. */
-export function wallClock(instant: Date, tz: string): WallClock {
-  const p: Record<string, number> = {};
-  for (const part of formatter(tz).formatToParts(instant)) {
-    if (part.type !== 'literal') p[part.type] = Number(part.value);
-  }
-  const year = p.year!;
-  const month = p.month!;
-  const day = p.day!;
-  const js = new Date(Date.UTC(year, month - 1, day)).getUTCDay();
-  return { year, month, day, hour: p.hour! % 24, minute: p.minute!, second: p.second!, weekday: js === 0 ? 7 : js };
-}
-
-/** The zone's offset from UTC at an instant, in minutes (Pacific/Auckland: +720 in winter, +780 in summer). */
-export function zoneOffsetMinutes(instant: Date, tz: string): number {
-  const w = wallClock(instant, tz);
-  const asUtc = Date.UTC(w.year, w.month - 1, w.day, w.hour, w.minute, w.second);
-  const whole = Math.floor(instant.getTime() / 1000) * 1000;
-  return Math.round((asUtc - whole) / MIN);
-}
-
-/**
- * The instant at which the wall clock in `tz` reads `minuteOfDay` minutes after midnight of the given
- * local date (minuteOfDay may be 1440: the next midnight). A time that occurs twice (clocks going back)
- * gives the earlier instant; a time that does not exist (clocks going forward) is moved forward by the
- * gap, as clocks do.
- */
-export function localToInstant(year: number, month: number, day: number, minuteOfDay: number, tz: string): Date {
-  // a pure function of its arguments, asked for the same days again and again (every machine, every week of a
-  // report): remembered, since each answer costs several Intl look-ups
-  const key = `${tz}|${year}|${month}|${day}|${minuteOfDay}`;
-  const known = instantCache.get(key);
-  if (known !== undefined) return new Date(known);
-  const t = computeLocalToInstant(year, month, day, minuteOfDay, tz);
-  if (instantCache.size >= INSTANT_CACHE_MAX) instantCache.clear();
-  instantCache.set(key, t);
-  return new Date(t);
-}
-
-const INSTANT_CACHE_MAX = 50_000;
-const instantCache = new Map<string, number>();
-
-function computeLocalToInstant(year: number, month: number, day: number, minuteOfDay: number, tz: string): number {
-  const wall = Date.UTC(year, month - 1, day) + minuteOfDay * MIN;
-  const offsets = new Set([zoneOffsetMinutes(new Date(wall - DAY), tz), zoneOffsetMinutes(new Date(wall), tz), zoneOffsetMinutes(new Date(wall + DAY), tz)]);
-  const valid: number[] = [];
-  for (const off of offsets) {
-    const t = wall - off * MIN;
-    if (zoneOffsetMinutes(new Date(t), tz) === off) valid.push(t);
-  }
-  if (valid.length) return Math.min(...valid);
-  // in a gap: use the offset in force before it, which lands after the gap
-  const before = zoneOffsetMinutes(new Date(wall - DAY), tz);
-  return wall - before * MIN;
-}
+export { wallClock, localToInstant, offsetMinutes as zoneOffsetMinutes, type WallClock };
 
 /** The local calendar date `days` after the given one (plain calendar arithmetic). */
 export function addDays(year: number, month: number, day: number, days: number): { year: number; month: number; day: number } {
@@ -166,17 +84,12 @@ export function addDays(year: number, month: number, day: number, days: number):
 }
 
 /** Start of the site's day containing `instant`. */
-export function startOfLocalDay(instant: Date, tz: string): Date {
-  const w = wallClock(instant, tz);
-  return localToInstant(w.year, w.month, w.day, 0, tz);
-}
+export const startOfLocalDay = startOfZonedDayAt;
 
 /** The site's week (Monday 00:00 to the next Monday 00:00, wall clock) containing `instant`. */
 export function localWeek(instant: Date, tz: string): Interval {
-  const w = wallClock(instant, tz);
-  const monday = addDays(w.year, w.month, w.day, 1 - w.weekday);
-  const next = addDays(monday.year, monday.month, monday.day, 7);
-  return { start: localToInstant(monday.year, monday.month, monday.day, 0, tz), end: localToInstant(next.year, next.month, next.day, 0, tz) };
+  const { from, to } = zonedWeekBounds(instant, tz);
+  return { start: from, end: to };
 }
 
 /** Minutes of wall-clock time since local midnight (with seconds as a fraction). */
@@ -193,7 +106,7 @@ export function isOnGrid(instant: Date, slotMinutes: number, tz: string): boolea
 
 /** The first grid instant at or after `instant`. */
 export function ceilToGrid(instant: Date, slotMinutes: number, tz: string): Date {
-  const off = zoneOffsetMinutes(instant, tz) * MIN;
+  const off = offsetMinutes(instant, tz) * MIN;
   const local = instant.getTime() + off;
   const step = slotMinutes * MIN;
   return new Date(Math.ceil(local / step) * step - off);
@@ -201,7 +114,7 @@ export function ceilToGrid(instant: Date, slotMinutes: number, tz: string): Date
 
 /** The last grid instant at or before `instant`. */
 export function floorToGrid(instant: Date, slotMinutes: number, tz: string): Date {
-  const off = zoneOffsetMinutes(instant, tz) * MIN;
+  const off = offsetMinutes(instant, tz) * MIN;
   const local = instant.getTime() + off;
   const step = slotMinutes * MIN;
   return new Date(Math.floor(local / step) * step - off);

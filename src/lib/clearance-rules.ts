@@ -3,6 +3,7 @@
  * zone, levels, and the next step a person is told. Pure (no I/O); the server module
  * src/lib/server/clearances.ts applies these rules to the database.
  */
+import { addDays, startOfZonedDay, zonedDate } from './time';
 
 export const CLEARANCE_STATES = ['quiz due', 'awaiting sign-off', 'cleared', 'lapsed', 'suspended'] as const;
 export type ClearanceState = (typeof CLEARANCE_STATES)[number];
@@ -110,38 +111,13 @@ export function needsLapseWarning(state: ClearanceState, expiresAt: Date | null,
 // ---------------------------------------------------------------------------------------------
 // Validity in the site's IANA time zone.
 
-/** The local calendar date (YYYY-MM-DD) of an instant in `timeZone`. */
-export function localDate(at: Date, timeZone: string): string {
-  const parts = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).formatToParts(at);
-  const get = (t: string) => parts.find((p) => p.type === t)?.value ?? '';
-  return `${get('year')}-${get('month')}-${get('day')}`;
-}
+/** The local calendar date (YYYY-MM-DD) of an instant in `timeZone` (from the time module). */
+export const localDate = zonedDate;
 
-/** Milliseconds `timeZone` is ahead of UTC at the instant `at`. */
-export function zoneOffsetMs(at: Date, timeZone: string): number {
-  const parts = new Intl.DateTimeFormat('en-US', {
-    timeZone, hourCycle: 'h23', year: 'numeric', month: 'numeric', day: 'numeric', hour: 'numeric', minute: 'numeric', second: 'numeric',
-  }).formatToParts(at);
-  const n = (t: string) => Number(parts.find((p) => p.type === t)?.value ?? 0);
-  const asUtc = Date.UTC(n('year'), n('month') - 1, n('day'), n('hour'), n('minute'), n('second'));
-  return asUtc - Math.floor(at.getTime() / 1000) * 1000;
-}
+/** The instant the local day `ymd` starts in `timeZone` (from the time module). */
+export const startOfLocalDay = startOfZonedDay;
 
-/** The instant the local day `ymd` starts in `timeZone` (the first instant of that date, even across a daylight-saving change). */
-export function startOfLocalDay(ymd: string, timeZone: string): Date {
-  const [y, m, d] = ymd.split('-').map(Number) as [number, number, number];
-  const wall = Date.UTC(y, m - 1, d);
-  let t = wall - zoneOffsetMs(new Date(wall), timeZone);
-  t = wall - zoneOffsetMs(new Date(t), timeZone);
-  // where midnight does not exist (a clock jump at 00:00), the day starts at the first instant after the gap
-  if (localDate(new Date(t), timeZone) !== ymd) t += 3_600_000;
-  return new Date(t);
-}
-
-export function addDays(ymd: string, days: number): string {
-  const [y, m, d] = ymd.split('-').map(Number) as [number, number, number];
-  return new Date(Date.UTC(y, m - 1, d + days)).toISOString().slice(0, 10);
-}
+export { addDays };
 
 /**
  * When a clearance given at `clearedAt` lapses: it is valid through the local date `validityDays`

@@ -4,7 +4,7 @@
  * and the CSV export share them). Pure: no I/O, no clock (the caller passes `today`).
  */
 import { z } from 'zod';
-import { isCalendarDate, nextDate, startOfZonedDay } from './zoned-time';
+import { isCalendarDate, nextDate, startOfZonedDay } from './time';
 import { localWeek, type Interval } from './availability';
 
 export const REPORTS = ['utilisation', 'revenue', 'clearances', 'faults', 'no-shows'] as const;

@@ -2,7 +2,7 @@
 import { z } from 'zod';
 import { PASSWORD_MAX, PASSWORD_MIN } from './password-rules';
 import { ROLES } from './roles';
-import { isCalendarDate } from './zoned-time';
+import { isCalendarDate } from './time';
 import { LEVELS } from './clearance-rules';
 import { TUBE_TYPES } from './machines-shared';
 

@@ -9,7 +9,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb } from '../support/db';
-import { nextDate, zonedDate } from '../../src/lib/zoned-time';
+import { nextDate, zonedDate } from '../../src/lib/time';
 
 let browser: Browser;
 let admin: Client;

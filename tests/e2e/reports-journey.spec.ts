@@ -9,7 +9,7 @@ import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
-import { zonedDate } from '../../src/lib/zoned-time';
+import { zonedDate } from '../../src/lib/time';
 
 let browser: Browser;
 let tz = 'Pacific/Auckland';

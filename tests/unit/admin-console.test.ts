@@ -1,6 +1,6 @@
 /** Pure parts of the admin console: day ranges in the site's time zone, site settings validation, CSV cells. */
 import { describe, expect, it } from 'vitest';
-import { formatZoned, isCalendarDate, nextDate, offsetMinutes, startOfZonedDay, zonedDate, zonedDayRange } from '../../src/lib/zoned-time';
+import { isoLocal, isCalendarDate, nextDate, offsetMinutes, startOfZonedDay, zonedDate, zonedDayRange } from '../../src/lib/time';
 import { isTimeZone, normaliseBaseUrl, siteSettingsInput } from '../../src/lib/site-settings';
 import { safeCell } from '../../src/lib/csv';
 import { auditFilterQuery, toAuditFilter } from '../../src/lib/audit-filter';
@@ -37,7 +37,7 @@ describe('days in a time zone', () => {
     expect(r.start?.toISOString()).toBe('2026-06-30T12:00:00.000Z');
     expect(r.end?.toISOString()).toBe('2026-07-31T12:00:00.000Z');
     expect(zonedDayRange(undefined, undefined, 'UTC')).toEqual({});
-    expect(formatZoned(new Date('2026-06-30T12:00:00Z'), 'Pacific/Auckland')).toBe('2026-07-01 00:00:00');
+    expect(isoLocal(new Date('2026-06-30T12:00:00Z'), 'Pacific/Auckland')).toBe('2026-07-01 00:00:00');
     expect(zonedDate(new Date('2026-06-30T11:59:59Z'), 'Pacific/Auckland')).toBe('2026-06-30');
     expect(nextDate('2026-12-31')).toBe('2027-01-01');
     expect(nextDate('2028-02-28')).toBe('2028-02-29');

@@ -9,6 +9,7 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
+import { startOfZonedDay, zonedDayBounds } from '../time';
 import { getSettings } from './settings';
 import {
   PricingError, TIERS, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode, type Tier,
@@ -147,33 +148,8 @@ export async function priceFor(machineId: string, tier: Tier, startedAt: Date, t
   return { versionId: v.id, effectiveFrom: v.effectiveFrom, currency: v.currency, perMinuteMinor: rate, table: toTable(v, await taxFor(v, trx)) };
 }
 
-/** Start and end (UTC instants) of the calendar day in `timeZone` that contains `at`. */
-export function zonedDayBounds(at: Date, timeZone: string): { from: Date; to: Date } {
-  const parts = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).format(at);
-  const from = zonedMidnight(parts, timeZone);
-  const next = new Date(Date.UTC(Number(parts.slice(0, 4)), Number(parts.slice(5, 7)) - 1, Number(parts.slice(8, 10)) + 1));
-  return { from, to: zonedMidnight(next.toISOString().slice(0, 10), timeZone) };
-}
-
-/** The UTC instant of 00:00 on `date` (YYYY-MM-DD) in `timeZone` (correct across daylight-saving changes). */
-export function zonedMidnight(date: string, timeZone: string): Date {
-  const [y, m, d] = date.split('-').map(Number) as [number, number, number];
-  let guess = Date.UTC(y, m - 1, d);
-  for (let i = 0; i < 3; i++) {
-    const off = offsetMinutes(new Date(guess), timeZone);
-    const next = Date.UTC(y, m - 1, d) - off * 60_000;
-    if (next === guess) break;
-    guess = next;
-  }
-  return new Date(guess);
-}
-
-function offsetMinutes(at: Date, timeZone: string): number {
-  const f = new Intl.DateTimeFormat('en-US', { timeZone, hourCycle: 'h23', year: 'numeric', month: 'numeric', day: 'numeric', hour: 'numeric', minute: 'numeric', second: 'numeric' });
-  const p = Object.fromEntries(f.formatToParts(at).map((x) => [x.type, x.value]));
-  const asUtc = Date.UTC(Number(p.year), Number(p.month) - 1, Number(p.day), Number(p.hour), Number(p.minute), Number(p.second));
-  return Math.round((asUtc - Math.floor(at.getTime() / 1000) * 1000) / 60_000);
-}
+/** The UTC instant of 00:00 on `date` (YYYY-MM-DD) in `timeZone`: the day's first instant, from the time module. */
+export const zonedMidnight = startOfZonedDay;
 
 /** Beam time already charged to a person on the site-local day of `at` (counts toward the daily cap). */
 export async function beamTimeChargedOnDay(personId: string, at: Date, trx: Knex | Knex.Transaction = db()): Promise<number> {

@@ -9,7 +9,7 @@ import { getSettings } from './settings';
 import { clearanceReport, faultReport, noShowReport, revenueReport, utilisationReport, type ReportScope } from './reports';
 import { COLUMNS, PeriodError, reportQuery, resolvePeriod, type ReportName } from '../reports';
 import { safeCell } from '../csv';
-import { zonedDate } from '../zoned-time';
+import { zonedDate } from '../time';
 
 const RUN: Record<ReportName, (scope: ReportScope) => Promise<{ rows: object[]; totals: object }>> = {
   utilisation: utilisationReport,

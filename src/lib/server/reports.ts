@@ -19,7 +19,7 @@ import {
   type RevenueRow,
   type UtilisationRow,
 } from '../reports';
-import { zonedDate } from '../zoned-time';
+import { zonedDate } from '../time';
 
 export interface ReportScope {
   period: Period;

@@ -4,7 +4,7 @@ import { iterateAudit, type AuditRow } from '../../lib/server/audit';
 import { getSettings } from '../../lib/server/settings';
 import { auditFilterQuery, toAuditFilter } from '../../lib/audit-filter';
 import { safeCell } from '../../lib/csv';
-import { formatZoned } from '../../lib/zoned-time';
+import { isoLocal } from '../../lib/time';
 
 /**
  * GET /api/audit.csv?actor=&kind=&q=&from=&to= (admin) → every audit row that matches the filter,
@@ -17,7 +17,7 @@ export const GET = route(async ({ locals, url }) => {
   const rows = iterateAudit(toAuditFilter(query, timeZone));
   const header = [`time (${timeZone})`, 'time (UTC)', 'actor', 'actor id', 'kind', 'subject type', 'subject id', 'summary', 'before', 'after'];
   const line = (r: AuditRow) => [
-    formatZoned(r.at, timeZone),
+    isoLocal(r.at, timeZone),
     r.at.toISOString(),
     safeCell(r.actorName),
     r.actorId ?? '',

@@ -3,11 +3,11 @@ import { HttpError, json, readJson, requireRole, route } from '../../../lib/serv
 import { createVersion, listVersions, type PriceVersion } from '../../../lib/server/prices';
 import { getSettings } from '../../../lib/server/settings';
 import { zonedMidnight } from '../../../lib/server/prices';
-import { minor, tier, uuid } from '../../../lib/schemas';
+import { calendarDate, minor, tier, uuid } from '../../../lib/schemas';
 
 const body = z.object({
   /** the version starts at 00:00 of this date in the site's time zone */
-  effectiveDate: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date as YYYY-MM-DD.'),
+  effectiveDate: calendarDate,
   incrementMinutes: z.number().int().min(1, 'At least 1 minute.').max(240, 'At most 240 minutes.'),
   minimumChargeMinor: minor,
   dailyCapMinor: minor.nullable(),
