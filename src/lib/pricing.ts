@@ -20,16 +20,32 @@ export const TIERS = ['student', 'staff', 'community', 'commercial'] as const;
 export type Tier = (typeof TIERS)[number];
 export const TIER_LABELS: Record<Tier, string> = { student: 'Student', staff: 'Staff', community: 'Community', commercial: 'Commercial' };
 
-/** Minor-unit exponents from the ISO 4217 currency code list (list one). */
-export const CURRENCY_EXPONENT: Readonly<Record<string, number>> = {
-  AUD: 2, CAD: 2, CHF: 2, EUR: 2, GBP: 2, NZD: 2, USD: 2, SGD: 2, SEK: 2, NOK: 2, DKK: 2,
-  JPY: 0, KRW: 0, ISK: 0, CLP: 0, VND: 0,
-  BHD: 3, KWD: 3, JOD: 3, OMR: 3, TND: 3, IQD: 3, LYD: 3,
+const exponents = new Map<string, number>();
+
+/**
+ * Where the ISO 4217 exponent differs from the digits Intl shows by default (CLDR drops the minor unit of currencies
+ * whose coins are out of use, but ISO 4217 — and card processors — keep it). From memory of ISO 4217 list one.
+ */
+const ISO_WHERE_INTL_DIFFERS: Readonly<Record<string, number>> = {
+  AFN: 2, ALL: 2, COP: 2, HUF: 2, IDR: 2, IRR: 2, KPW: 2, LAK: 2, LBP: 2, MGA: 2, MMK: 2, PKR: 2, SLL: 2, SOS: 2, SYP: 2, YER: 2,
+  IQD: 3,
 };
 
+const KNOWN = new Set(typeof Intl.supportedValuesOf === 'function' ? Intl.supportedValuesOf('currency') : []);
+
+/**
+ * The currency's minor-unit exponent (ISO 4217: NZD 2, JPY 0, BHD 3), from the platform's Intl currency data (with
+ * the ISO corrections above), so every code the Site screen accepts (any code Intl knows) has one. RangeError for a
+ * code Intl does not know.
+ */
 export function currencyExponent(currency: string): number {
-  const e = CURRENCY_EXPONENT[currency.toUpperCase()];
-  if (e === undefined) throw new RangeError(`Unknown currency ${currency}: add it with its ISO 4217 exponent.`);
+  const code = currency.toUpperCase();
+  let e = exponents.get(code);
+  if (e === undefined) {
+    if (!/^[A-Z]{3}$/.test(code) || !KNOWN.has(code)) throw new RangeError(`Unknown currency ${currency}: not an ISO 4217 code this runtime knows.`);
+    e = ISO_WHERE_INTL_DIFFERS[code] ?? new Intl.NumberFormat('en', { style: 'currency', currency: code }).resolvedOptions().maximumFractionDigits ?? 2;
+    exponents.set(code, e);
+  }
   return e;
 }
 

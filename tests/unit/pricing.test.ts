@@ -31,6 +31,16 @@ describe('currency exponents (ISO 4217 list one)', () => {
     expect(currencyExponent('KWD')).toBe(3);
     expect(() => currencyExponent('XYZ')).toThrow(/Unknown currency/);
   });
+  it('has an exponent for every currency the Site screen accepts (any code Intl knows), e.g. INR 2, IQD 3, HUF 2', () => {
+    // ISO 4217 list one, from memory: INR 2, IQD 3, HUF 2 (Intl shows HUF and IQD without decimals), CLP 0, ISK 0
+    expect(currencyExponent('INR')).toBe(2);
+    expect(currencyExponent('IQD')).toBe(3);
+    expect(currencyExponent('HUF')).toBe(2);
+    expect(currencyExponent('CLP')).toBe(0);
+    expect(currencyExponent('ISK')).toBe(0);
+    for (const code of Intl.supportedValuesOf('currency')) expect([0, 2, 3]).toContain(currencyExponent(code));
+    expect(formatMinor(123456, 'INR')).toBe('1234.56');
+  });
   it('formats and parses minor units with string arithmetic', () => {
     expect(formatMinor(1234, 'NZD')).toBe('12.34');
     expect(formatMinor(5, 'NZD')).toBe('0.05');
