@@ -69,7 +69,7 @@ describe('reports', () => {
     const csv = fs.readFileSync((await download.path())!, 'utf8');
     const parsed = Papa.parse<Record<string, string>>(csv.trim(), { header: true });
     expect(parsed.errors).toEqual([]);
-    expect(parsed.data.reduce((s, r) => s + Number(r.net_minor), 0)).toBe(screenNet);
+    expect(parsed.data.reduce((s, r) => s + Math.round(Number(r['net (NZD)']) * 100), 0)).toBe(screenNet); // major units in the file
     expect(errors).toEqual([]);
     await ctx.close();
   });

@@ -244,7 +244,8 @@ describe('internal recharge', () => {
     expect(res.headers.get('content-type')).toContain('text/csv');
     const rows = Papa.parse<string[]>((await res.text()).trim()).data;
     const header = rows[0]!;
-    const amountCol = header.indexOf('amount');
+    const amountCol = header.indexOf('amount (NZD)');
+    expect(amountCol).toBeGreaterThan(-1);
     const lines = rows.slice(1, -1);
     const total = rows.at(-1)!;
     expect(lines).toHaveLength(2);

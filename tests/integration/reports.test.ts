@@ -242,10 +242,21 @@ describe('CSV exports', () => {
       expect(res.status).toBe(200);
       expect(res.headers.get('content-type')).toContain('text/csv');
       expect(res.headers.get('content-disposition')).toContain(`beamwarden-${name}-2026-03-02-to-2026-03-08.csv`);
-      const parsed = Papa.parse<Record<string, string>>((await res.text()).trim(), { header: true });
+      // a byte-order mark, so spreadsheets read UTF-8 (read as bytes: fetch's text() drops it while decoding)
+      const bytes = Buffer.from(await res.arrayBuffer());
+      expect([...bytes.subarray(0, 3)]).toEqual([0xef, 0xbb, 0xbf]);
+      const text = bytes.toString('utf8').replace(/^\uFEFF/, '');
+      expect(text).toContain('\r\n');
+      const parsed = Papa.parse<Record<string, string>>(text.trim(), { header: true });
       expect(parsed.errors).toEqual([]);
       expect(json.rows.length).toBeGreaterThan(0);
-      expect(parsed.data).toEqual(json.rows.map((row: Record<string, unknown>) => Object.fromEntries(Object.entries(row).map(([k, v]) => [k, v === null ? '' : String(v)]))));
+      // money columns come in major units with the currency in the heading (and no separate currency column)
+      const asCsv = (row: Record<string, unknown>) => Object.fromEntries(Object.entries(row).flatMap(([k, v]): [string, string][] => {
+        if (k === 'currency') return [];
+        if (k.endsWith('_minor')) return [[`${k.slice(0, -6)} (NZD)`, (Number(v) / 100).toFixed(2)]];
+        return [[k, v === null ? '' : String(v)]];
+      }));
+      expect(parsed.data).toEqual(json.rows.map(asCsv));
     });
   }
 

@@ -22,7 +22,8 @@
 import { createHash, randomUUID } from 'node:crypto';
 import Stripe from 'stripe';
 import type { Knex } from 'knex';
-import { stringify } from 'csv-stringify/sync';
+import { majorUnits, toCsv } from '../csv';
+import { zonedDate } from '../time';
 import { db, pgCode, PG, transaction } from './db';
 import { env } from './env';
 import { enqueue } from './jobs';
@@ -704,19 +705,17 @@ export async function rechargeCsv(month: string, costCentre?: string): Promise<{
     .where('c.created_at', '>=', from).where('c.created_at', '<', to).orderBy('c.cost_centre').orderBy('c.created_at');
   if (costCentre) q.where('c.cost_centre', costCentre);
   const rows = (await q).map(toCharge);
-  const fmtDate = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' });
-  const money = (n: number) => formatMoney(n, currency).split(' ')[1]!.replace('−', '-');
+  const money = (n: number) => majorUnits(n, currency);
   let total = 0;
   const records = rows.map((c) => {
     const net = c.amountMinor - c.refundedMinor;
     total += net;
-    return [fmtDate.format(c.createdAt), c.costCentre, c.personName, c.personEmail, c.machineName ?? '', c.kind.replace('_', ' '), c.minutes ?? '', money(net), money(c.taxMinor), currency, c.id];
+    return [zonedDate(c.createdAt, timeZone), c.costCentre, c.personName, c.personEmail, c.machineName ?? '', c.kind.replace('_', ' '), c.minutes ?? '', money(net), money(c.taxMinor), c.id];
   });
-  const csv = stringify([
-    ['date', 'cost_centre', 'person', 'email', 'machine', 'kind', 'minutes', 'amount', 'tax_included', 'currency', 'charge_id'],
-    ...records,
-    ['TOTAL', costCentre ?? 'all', '', '', '', '', '', money(total), '', currency, ''],
-  ]);
+  const csv = toCsv(
+    ['date', 'cost_centre', 'person', 'email', 'machine', 'kind', 'minutes', `amount (${currency})`, `tax_included (${currency})`, 'charge_id'],
+    [...records, ['TOTAL', costCentre ?? 'all', '', '', '', '', '', money(total), '', '']],
+  );
   return { csv, totalMinor: total, lines: records.length };
 }
 

@@ -3,12 +3,11 @@
  * (period in the site's time zone, machines), the report from src/lib/server/reports.ts, then JSON or CSV.
  */
 import type { APIRoute } from 'astro';
-import { stringify } from 'csv-stringify/sync';
 import { HttpError, json, readQuery, requireRole, route } from './http';
 import { getSettings } from './settings';
 import { clearanceReport, faultReport, noShowReport, revenueReport, utilisationReport, type ReportScope } from './reports';
 import { COLUMNS, PeriodError, reportQuery, resolvePeriod, type ReportName } from '../reports';
-import { safeCell } from '../csv';
+import { csvHeaders, majorUnits, moneyHeading, toCsv } from '../csv';
 import { zonedDate } from '../time';
 
 const RUN: Record<ReportName, (scope: ReportScope) => Promise<{ rows: object[]; totals: object }>> = {
@@ -32,7 +31,7 @@ export function reportRoute(name: ReportName, format: 'json' | 'csv'): APIRoute 
   return route(async ({ locals, url }) => {
     requireRole(locals, ...REPORT_ROLES[name]);
     const q = readQuery(url, reportQuery);
-    const { timeZone } = await getSettings();
+    const { timeZone, currency } = await getSettings();
     let period;
     try {
       period = resolvePeriod(q, zonedDate(new Date(), timeZone), timeZone);
@@ -45,17 +44,14 @@ export function reportRoute(name: ReportName, format: 'json' | 'csv'): APIRoute 
       return json({ report: name, period: { from: period.from, to: period.to, timeZone }, machineIds: q.machineId ?? null, ...report });
     }
     const columns = COLUMNS[name] as readonly string[];
-    const lines = report.rows.map((row) => columns.map((c) => {
+    // money columns (`*_minor`) in major units, the currency in the heading; a currency column is then redundant
+    const money = (c: string) => c.endsWith('_minor');
+    const kept = columns.filter((c) => c !== 'currency');
+    const lines = report.rows.map((row) => kept.map((c) => {
       const v = (row as Record<string, unknown>)[c];
-      return typeof v === 'number' ? String(v) : safeCell(v);
+      return money(c) && typeof v === 'number' ? majorUnits(v, currency) : v;
     }));
-    const csv = stringify([[...columns], ...lines]);
-    return new Response(csv, {
-      headers: {
-        'content-type': 'text/csv; charset=utf-8',
-        'content-disposition': `attachment; filename="beamwarden-${name}-${period.from}-to-${period.to}.csv"`,
-        'cache-control': 'no-store',
-      },
-    });
+    const heading = kept.map((c) => (money(c) ? moneyHeading(c, currency) : c));
+    return new Response(toCsv(heading, lines), { headers: csvHeaders(`beamwarden-${name}-${period.from}-to-${period.to}.csv`) });
   });
 }

@@ -1,9 +1,8 @@
-import { stringify } from 'csv-stringify/sync';
 import { readQuery, requireRole, route } from '../../lib/server/http';
 import { iterateAudit, type AuditRow } from '../../lib/server/audit';
 import { getSettings } from '../../lib/server/settings';
 import { auditFilterQuery, toAuditFilter } from '../../lib/audit-filter';
-import { safeCell } from '../../lib/csv';
+import { BOM, csvHeaders, csvRows } from '../../lib/csv';
 import { isoLocal } from '../../lib/time';
 
 /**
@@ -19,22 +18,22 @@ export const GET = route(async ({ locals, url }) => {
   const line = (r: AuditRow) => [
     isoLocal(r.at, timeZone),
     r.at.toISOString(),
-    safeCell(r.actorName),
+    r.actorName,
     r.actorId ?? '',
-    safeCell(r.kind),
-    safeCell(r.subjectType),
-    safeCell(r.subjectId),
-    safeCell(r.summary),
-    safeCell(r.before),
-    safeCell(r.after),
+    r.kind,
+    r.subjectType,
+    r.subjectId,
+    r.summary,
+    r.before,
+    r.after,
   ];
   const encoder = new TextEncoder();
   const body = new ReadableStream<Uint8Array>({
     start(controller) {
-      controller.enqueue(encoder.encode(stringify([header])));
+      controller.enqueue(encoder.encode(BOM + csvRows([header])));
     },
     async pull(controller) {
-      const chunk: string[][] = [];
+      const chunk: unknown[][] = [];
       try {
         while (chunk.length < 500) {
           const next = await rows.next();
@@ -46,7 +45,7 @@ export const GET = route(async ({ locals, url }) => {
         controller.error(err);
         return;
       }
-      if (chunk.length) controller.enqueue(encoder.encode(stringify(chunk)));
+      if (chunk.length) controller.enqueue(encoder.encode(csvRows(chunk)));
       if (chunk.length < 500) controller.close();
     },
     async cancel() {
@@ -54,12 +53,5 @@ export const GET = route(async ({ locals, url }) => {
     },
   });
   const stamp = new Date().toISOString().slice(0, 10);
-  return new Response(body, {
-    status: 200,
-    headers: {
-      'content-type': 'text/csv; charset=utf-8',
-      'content-disposition': `attachment; filename="beamwarden-audit-${stamp}.csv"`,
-      'cache-control': 'no-store',
-    },
-  });
+  return new Response(body, { status: 200, headers: csvHeaders(`beamwarden-audit-${stamp}.csv`) });
 });

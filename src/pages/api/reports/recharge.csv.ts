@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { readQuery, requireRole, route } from '../../../lib/server/http';
 import { rechargeCsv } from '../../../lib/server/payments';
 import { costCentre } from '../../../lib/schemas';
+import { csvHeaders } from '../../../lib/csv';
 
 const query = z.object({
   month: z.string().regex(/^\d{4}-(0[1-9]|1[0-2])$/, 'Use a month as YYYY-MM, e.g. 2026-12.'),
@@ -14,7 +15,5 @@ export const GET = route(async ({ locals, url }) => {
   const q = readQuery(url, query);
   const { csv } = await rechargeCsv(q.month, q.costCentre);
   const name = `recharge-${q.month}${q.costCentre ? `-${q.costCentre.replace(/[^A-Za-z0-9-]/g, '_')}` : ''}.csv`;
-  return new Response(csv, {
-    headers: { 'content-type': 'text/csv; charset=utf-8', 'content-disposition': `attachment; filename="${name}"`, 'cache-control': 'no-store' },
-  });
+  return new Response(csv, { headers: csvHeaders(name) });
 });
