@@ -222,7 +222,7 @@ describe('from quiz to first cut', () => {
     const legends = ipage.locator('fieldset legend').filter({ hasText: /^Question \d+$/ });
     const count = await legends.count();
     const first = await ipage.getByLabel('Question 1 text', { exact: true }).inputValue();
-    await ipage.getByRole('button', { name: 'Remove question 1' }).click();
+    await ipage.getByRole('button', { name: 'Remove question 1', exact: true }).click();
     await ipage.getByText(/Removed “.*” from the draft/).waitFor();
     expect(await legends.count()).toBe(count - 1);
     await both(ipage, 'quiz-editor-undo', 'desk');
