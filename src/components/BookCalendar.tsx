@@ -56,6 +56,8 @@ export interface BookProps {
   timeZone: string;
   isInstructor: boolean;
   initialMachine?: string;
+  /** True when the person may book no machine at all: the page says why, and the form is not shown. */
+  hideForm?: boolean;
 }
 
 type View = 'timeGridWeek' | 'timeGridDay';
@@ -73,7 +75,7 @@ export default function BookCalendar(props: BookProps) {
   );
 }
 
-function Book({ machines, timeZone: tz, isInstructor, initialMachine }: BookProps) {
+function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }: BookProps) {
   const qc = useQueryClient();
   const today = useMemo(() => {
     const w = wallClock(new Date(), tz);
@@ -299,7 +301,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine }: BookProp
         />
       )}
 
-      <BookingForm
+      {!hideForm && <BookingForm
         machines={machines}
         tz={tz}
         draft={draft}
@@ -308,7 +310,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine }: BookProp
         busy={create.isPending}
         onSubmit={(v) => create.mutate(v)}
         onClear={() => setDraft(null)}
-      />
+      />}
     </div>
   );
 }

@@ -31,15 +31,42 @@ const blankQuestion = () => ({
   id: newQuestionId(), topic: '', prompt: '', kind: 'single' as const,
   options: [{ id: 'a', text: '' }, { id: 'b', text: '' }], correct: [] as string[], explanation: '',
 });
-const blankDraft = (): FormIn => ({ title: '', passMarkPct: 80, questionsPerAttempt: 1, attemptsPerDay: 3, cooldownMinutes: 10, questions: [blankQuestion()] });
+const blankDraft = (): FormIn => ({ title: '', passMarkPct: 80, questionsPerAttempt: 1, attemptsPerDay: 3, cooldownMinutes: 10, timeLimitMinutes: 30, questions: [blankQuestion()] });
+
+/** The editor's own address: /quizzes?quiz=<id>, or /quizzes?new=<groupId> for a new quiz. */
+function editorFromUrl(): { id: string | null; groupId: string } | null {
+  if (typeof window === 'undefined') return null;
+  const q = new URLSearchParams(window.location.search);
+  const id = q.get('quiz');
+  if (id && /^[0-9a-f-]{36}$/i.test(id)) return { id, groupId: '' };
+  const g = q.get('new');
+  if (g && /^[0-9a-f-]{36}$/i.test(g)) return { id: null, groupId: g };
+  return null;
+}
+function setAddress(e: { id: string | null; groupId: string } | null, replace = false) {
+  const url = e ? (e.id ? `/quizzes?quiz=${e.id}` : `/quizzes?new=${e.groupId}`) : '/quizzes';
+  if (url === `${window.location.pathname}${window.location.search}`) return;
+  if (replace) window.history.replaceState(null, '', url);
+  else window.history.pushState(null, '', url);
+}
 
 const fmt = (iso: string) => new Intl.DateTimeFormat(undefined, { day: 'numeric', month: 'short', year: 'numeric' }).format(new Date(iso));
 
 export default function QuizEditor() {
   const [quizzes, setQuizzes] = useState<QuizSummary[] | null>(null);
   const [groups, setGroups] = useState<Group[]>([]);
-  const [editing, setEditing] = useState<{ id: string | null; groupId: string } | null>(null);
+  const [editing, setEditingState] = useState<{ id: string | null; groupId: string } | null>(null);
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
+  const setEditing = (e: { id: string | null; groupId: string } | null) => {
+    setEditingState(e);
+    setAddress(e);
+  };
+  useEffect(() => {
+    setEditingState(editorFromUrl());
+    const back = () => setEditingState(editorFromUrl());
+    window.addEventListener('popstate', back);
+    return () => window.removeEventListener('popstate', back);
+  }, []);
 
   const load = useCallback(async () => {
     try {
@@ -58,6 +85,7 @@ export default function QuizEditor() {
         quizId={editing.id}
         groupId={editing.groupId}
         groups={groups}
+        onCreated={(newId) => setAddress({ id: newId, groupId: editing.groupId }, true)}
         onClose={(text) => {
           setEditing(null);
           if (text) setMessage({ tone: 'ok', text });
@@ -81,9 +109,9 @@ export default function QuizEditor() {
                   <td className="font-semibold">{q.title}</td>
                   <td>{q.groupName}</td>
                   <td>{q.published ? `v${q.published.version} · ${q.published.questionCount} questions · ${fmt(q.published.publishedAt)}` : '—'}</td>
-                  <td>{q.draft ? `v${q.draft.version} (unpublished)` : '—'}</td>
+                  <td>{q.draft ? `v${q.draft.version} saved ${fmt(q.draft.updatedAt)} (not published)` : '—'}</td>
                   <td>{q.attempts}</td>
-                  <td><button type="button" className="btn btn-quiet" onClick={() => setEditing({ id: q.id, groupId: q.groupId })}>Edit {q.title}</button></td>
+                  <td><a className="btn btn-quiet" href={`/quizzes?quiz=${q.id}`} onClick={(ev) => { ev.preventDefault(); setEditing({ id: q.id, groupId: q.groupId }); }}>Edit {q.title}</a></td>
                 </tr>
               ))}
             </tbody>
@@ -112,8 +140,11 @@ function NewQuiz({ groups, onStart }: { groups: Group[]; onStart: (groupId: stri
   );
 }
 
-function Editor({ quizId, groupId, groups, onClose }: { quizId: string | null; groupId: string; groups: Group[]; onClose: (message?: string) => void }) {
+function Editor({ quizId, groupId, groups, onClose, onCreated }: { quizId: string | null; groupId: string; groups: Group[]; onClose: (message?: string) => void; onCreated: (id: string) => void }) {
   const [id, setId] = useState<string | null>(quizId);
+  const [removed, setRemoved] = useState<{ index: number; value: FormIn['questions'][number]; label: string } | null>(null);
+  const [confirmDiscard, setConfirmDiscard] = useState(false);
+  const [loadCount, setLoadCount] = useState(0);
   const [data, setData] = useState<EditorData | null>(null);
   const [tab, setTab] = useState<'edit' | 'preview'>('edit');
   const [status, setStatus] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
@@ -129,12 +160,40 @@ function Editor({ quizId, groupId, groups, onClose }: { quizId: string | null; g
       if (d.current) {
         reset({
           title: d.current.title, passMarkPct: d.current.passMarkPct, questionsPerAttempt: d.current.questionsPerAttempt,
-          attemptsPerDay: d.current.attemptsPerDay, cooldownMinutes: d.current.cooldownMinutes,
+          attemptsPerDay: d.current.attemptsPerDay, cooldownMinutes: d.current.cooldownMinutes, timeLimitMinutes: d.current.timeLimitMinutes ?? 30,
           questions: d.current.questions.map((q) => ({ ...q, explanation: q.explanation ?? '' })),
         });
       }
-    });
-  }, [id, reset]);
+    }).catch(() => setStatus({ tone: 'stop', text: 'Could not load this quiz; it may not exist. Go back to the list.' }));
+  }, [id, reset, loadCount]);
+
+  /** The version list after a save, without touching what is being edited. */
+  async function refreshHistory(quiz: string) {
+    const d = await api<EditorData>(`/api/quizzes/${quiz}`);
+    setData((old) => (old ? { ...old, history: d.history, current: old.current ? { ...old.current, status: d.current?.status ?? old.current.status, version: d.current?.version ?? old.current.version } : d.current } : d));
+  }
+
+  function removeQuestion(i: number) {
+    const value = form.getValues(`questions.${i}`);
+    questions.remove(i);
+    setRemoved({ index: i, value, label: value?.prompt ? `“${value.prompt.slice(0, 60)}${value.prompt.length > 60 ? '…' : ''}”` : `question ${i + 1}` });
+  }
+
+  async function discard() {
+    if (!id) return;
+    setBusy(true);
+    try {
+      const r = await api<{ discardedVersion: number }>(`/api/quizzes/${id}/draft`, { method: 'DELETE' });
+      setConfirmDiscard(false);
+      setRemoved(null);
+      setStatus({ tone: 'ok', text: `Draft version ${r.discardedVersion} is discarded; the editor shows the published version again.` });
+      setLoadCount((n) => n + 1);
+    } catch (e) {
+      setStatus({ tone: 'stop', text: e instanceof ApiError ? e.message : 'Could not discard the draft.' });
+    } finally {
+      setBusy(false);
+    }
+  }
 
   const groupName = data?.groupName ?? groups.find((g) => g.id === groupId)?.name ?? '';
 
@@ -150,6 +209,7 @@ function Editor({ quizId, groupId, groups, onClose }: { quizId: string | null; g
         quiz = r.id;
         version = r.version;
         setId(quiz);
+        onCreated(quiz);
       } else {
         version = (await api<{ version: number }>(`/api/quizzes/${quiz}/draft`, { method: 'PUT', json: clean })).version;
       }
@@ -159,6 +219,7 @@ function Editor({ quizId, groupId, groups, onClose }: { quizId: string | null; g
         return;
       }
       setStatus({ tone: 'ok', text: `Saved as draft version ${version}. Members still get the published version until you publish.` });
+      await refreshHistory(quiz).catch(() => undefined);
     } catch (e) {
       if (e instanceof ApiError && e.fields) {
         for (const [path, msg] of Object.entries(e.fields)) setError(path.replace(/^draft\./, '') as never, { message: msg });
@@ -184,7 +245,20 @@ function Editor({ quizId, groupId, groups, onClose }: { quizId: string | null; g
             </p>
           )}
         </div>
-        <button type="button" className="btn btn-quiet" onClick={() => onClose()}>Back to the list</button>
+        <div className="flex flex-wrap gap-2">
+          {id && data?.current?.status === 'draft' && data.history.some((h) => h.status === 'published') && (
+            confirmDiscard ? (
+              <span className="flex flex-wrap items-center gap-2">
+                <span className="text-sm">Throw away draft version {data.current.version}? The published version stays.</span>
+                <button type="button" className="btn btn-primary" disabled={busy} onClick={discard}>Yes, discard the draft</button>
+                <button type="button" className="btn btn-quiet" onClick={() => setConfirmDiscard(false)}>Keep it</button>
+              </span>
+            ) : (
+              <button type="button" className="btn btn-quiet" onClick={() => setConfirmDiscard(true)}>Discard draft…</button>
+            )
+          )}
+          <button type="button" className="btn btn-quiet" onClick={() => onClose()}>Back to the list</button>
+        </div>
       </div>
       {status && <p className={`notice notice-${status.tone}`} role={status.tone === 'stop' ? 'alert' : 'status'}>{status.text}</p>}
       <div role="tablist" aria-label="Editor view" className="flex gap-2">
@@ -210,12 +284,21 @@ function Editor({ quizId, groupId, groups, onClose }: { quizId: string | null; g
             <Field label="Wait after a missed attempt (minutes)" error={errors.cooldownMinutes?.message}>
               <input className="input" type="number" inputMode="numeric" {...register('cooldownMinutes')} />
             </Field>
+            <Field label="Time limit of an attempt (minutes)" error={errors.timeLimitMinutes?.message}>
+              <input className="input" type="number" inputMode="numeric" {...register('timeLimitMinutes')} />
+            </Field>
           </section>
           {errors.questions?.message && <p className="notice notice-stop" role="alert">{errors.questions.message}</p>}
+          {removed && (
+            <p className="notice notice-warn flex flex-wrap items-center gap-3" role="status">
+              Removed {removed.label} from the draft (nothing is saved until you save).
+              <button type="button" className="btn btn-quiet" onClick={() => { questions.insert(removed.index, removed.value); setRemoved(null); }}>Undo</button>
+            </p>
+          )}
           <ol className="space-y-4">
             {questions.fields.map((f, i) => (
               <li key={f.key}>
-                <QuestionEditor index={i} control={control} register={register} setValue={setValue} errors={errors} onRemove={() => questions.remove(i)} canRemove={questions.fields.length > 1} />
+                <QuestionEditor index={i} control={control} register={register} setValue={setValue} errors={errors} onRemove={() => removeQuestion(i)} canRemove={questions.fields.length > 1} />
               </li>
             ))}
           </ol>
@@ -233,7 +316,7 @@ function Editor({ quizId, groupId, groups, onClose }: { quizId: string | null; g
           <h3 className="text-lg">Versions</h3>
           <ul className="text-sm">
             {data.history.map((h) => (
-              <li key={h.version}>v{h.version} · {h.status}{h.publishedAt ? ` · published ${fmt(h.publishedAt)}` : ''} · {h.questionCount} questions</li>
+              <li key={h.version} data-version-status={h.status}>v{h.version} · {h.status === 'draft' ? 'draft (saved, not published)' : h.status}{h.publishedAt ? ` · published ${fmt(h.publishedAt)}` : ''} · {h.questionCount} questions</li>
             ))}
           </ul>
         </section>

@@ -1,7 +1,8 @@
 /** Taking a quiz: start an attempt, answer, submit; the server scores it and names the missed topics. */
-import { useState } from 'react';
+import { useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import type { DeliveredQuestion } from '../lib/quiz-rules';
+import type { QuizIntro } from '../lib/server/quizzes';
 
 interface Attempt {
   attemptId: string;
@@ -12,6 +13,9 @@ interface Attempt {
   passMarkPct: number;
   questions: DeliveredQuestion[];
   submitBy: string;
+  timeLimitMinutes: number;
+  answers: Record<string, string[]>;
+  resumed: boolean;
 }
 
 interface Result {
@@ -26,15 +30,23 @@ interface Result {
   nextStep: string;
 }
 
-const when = (iso: string) =>
-  new Intl.DateTimeFormat(undefined, { weekday: 'short', day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit' }).format(new Date(iso));
-
-export default function QuizTaker({ quizId }: { quizId: string }) {
+export default function QuizTaker({ quizId, intro, timeZone }: { quizId: string; intro: QuizIntro; timeZone: string }) {
+  const when = (iso: string) =>
+    new Intl.DateTimeFormat('en-NZ', { timeZone, weekday: 'short', day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(new Date(iso));
+  const clock = (iso: string) => new Intl.DateTimeFormat('en-NZ', { timeZone, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(new Date(iso));
   const [attempt, setAttempt] = useState<Attempt | null>(null);
   const [answers, setAnswers] = useState<Record<string, string[]>>({});
   const [result, setResult] = useState<Result | null>(null);
   const [error, setError] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
+  const [saved, setSaved] = useState<'idle' | 'saving' | 'saved' | 'failed'>('idle');
+  const pending = useRef<ReturnType<typeof setTimeout> | null>(null);
+
+  // an attempt left open (a reload, a second tab, a phone that slept) is picked up where it was left
+  useEffect(() => {
+    if (intro.openAttempt) void start();
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, []);
 
   async function start() {
     setBusy(true);
@@ -42,7 +54,9 @@ export default function QuizTaker({ quizId }: { quizId: string }) {
     setResult(null);
     setAnswers({});
     try {
-      setAttempt(await api<Attempt>(`/api/quizzes/${quizId}/attempt`, { method: 'POST' }));
+      const a = await api<Attempt>(`/api/quizzes/${quizId}/attempt`, { method: 'POST' });
+      setAttempt(a);
+      setAnswers(a.answers ?? {});
     } catch (e) {
       if (e instanceof ApiError && e.code === 'attempt_limit' && e.fields?.nextAllowedAt) {
         setError(`${e.fields.reason === 'cooldown' ? 'Take a break after a missed attempt.' : 'You have used today’s attempts.'} You can try again from ${when(e.fields.nextAllowedAt)}.`);
@@ -57,6 +71,9 @@ export default function QuizTaker({ quizId }: { quizId: string }) {
   async function submit(ev: React.FormEvent) {
     ev.preventDefault();
     if (!attempt) return;
+    // the answers go with the submission: a save still waiting would only be refused once the attempt is scored
+    if (pending.current) clearTimeout(pending.current);
+    pending.current = null;
     setBusy(true);
     setError(null);
     try {
@@ -71,12 +88,23 @@ export default function QuizTaker({ quizId }: { quizId: string }) {
     }
   }
 
+  function save(next: Record<string, string[]>) {
+    if (!attempt) return;
+    if (pending.current) clearTimeout(pending.current);
+    setSaved('saving');
+    pending.current = setTimeout(() => {
+      api(`/api/quizzes/${quizId}/attempts/${attempt.attemptId}`, { method: 'PATCH', json: { answers: next } })
+        .then(() => setSaved('saved'))
+        .catch(() => setSaved('failed'));
+    }, 250);
+  }
+
   function choose(q: DeliveredQuestion, optionId: string, checked: boolean) {
-    setAnswers((a) => {
-      const current = a[q.id] ?? [];
-      const next = q.kind === 'single' ? [optionId] : checked ? [...new Set([...current, optionId])] : current.filter((x) => x !== optionId);
-      return { ...a, [q.id]: next };
-    });
+    const current = answers[q.id] ?? [];
+    const picked = q.kind === 'single' ? [optionId] : checked ? [...new Set([...current, optionId])] : current.filter((x) => x !== optionId);
+    const next = { ...answers, [q.id]: picked };
+    setAnswers(next);
+    save(next);
   }
 
   const answered = attempt ? attempt.questions.filter((q) => (answers[q.id] ?? []).length > 0).length : 0;
@@ -121,11 +149,27 @@ export default function QuizTaker({ quizId }: { quizId: string }) {
       )}
 
       {!attempt && !result && (
-        <section className="card space-y-3 p-5">
-          <h1 className="text-2xl">Safety quiz</h1>
+        <section className="card space-y-3 p-5" aria-labelledby="intro-heading">
+          <h1 id="intro-heading" className="text-2xl">{intro.title}</h1>
           <p>The quiz checks what you need to know before an instructor signs off your practical induction. Questions are drawn at random; your answers are scored on the server and you will see which topics you missed.</p>
-          <p className="hint">Each start counts as an attempt. After a missed attempt there is a short wait before the next one.</p>
-          <button type="button" className="btn btn-primary" onClick={start} disabled={busy}>{busy ? 'Starting…' : 'Start the quiz'}</button>
+          <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 text-sm" aria-label="About this quiz">
+            <dt className="text-charcoal-soft">Machine group</dt><dd>{intro.groupName}</dd>
+            <dt className="text-charcoal-soft">Questions</dt><dd>{intro.questionCount}</dd>
+            <dt className="text-charcoal-soft">Pass mark</dt><dd>{intro.passMarkPct} %</dd>
+            <dt className="text-charcoal-soft">Time</dt><dd>{intro.timeLimitMinutes} minutes from the start; each answer is saved as you pick it, so a reload or a lost connection costs nothing</dd>
+            <dt className="text-charcoal-soft">Attempts left today</dt><dd>{intro.attemptsLeft} of {intro.attemptsPerDay}</dd>
+            <dt className="text-charcoal-soft">After a miss</dt><dd>{intro.cooldownMinutes > 0 ? `a ${intro.cooldownMinutes}-minute break before the next attempt` : 'you can try again at once'}</dd>
+          </dl>
+          {intro.notNeeded ? (
+            <p className="notice notice-warn">{intro.notNeeded}</p>
+          ) : intro.nextAllowed ? (
+            <>
+              <p className="notice notice-warn" id="quiz-wait">{intro.nextAllowed.reason === 'cooldown' ? 'Take a break after a missed attempt.' : 'You have used today’s attempts.'} The next attempt opens {when(intro.nextAllowed.at)}.</p>
+              <button type="button" className="btn btn-primary" disabled aria-describedby="quiz-wait">Start the quiz</button>
+            </>
+          ) : (
+            <button type="button" className="btn btn-primary" onClick={start} disabled={busy}>{busy ? 'Starting…' : intro.openAttempt ? 'Continue the quiz' : 'Start the quiz'}</button>
+          )}
         </section>
       )}
 
@@ -133,7 +177,8 @@ export default function QuizTaker({ quizId }: { quizId: string }) {
         <form onSubmit={submit} className="space-y-4" aria-labelledby="quiz-heading">
           <div>
             <h1 id="quiz-heading" className="text-2xl">{attempt.title}</h1>
-            <p className="hint">{attempt.groupName} · version {attempt.version} · pass mark {attempt.passMarkPct} % · submit by {when(attempt.submitBy)}</p>
+            <p className="hint">{attempt.groupName} · version {attempt.version} · pass mark {attempt.passMarkPct} % · submit by {clock(attempt.submitBy)} ({attempt.timeLimitMinutes} minutes)</p>
+            {attempt.resumed && <p className="notice notice-ok mt-2" role="status">Welcome back: this is the attempt you started, with your answers so far. It did not count again.</p>}
           </div>
           {attempt.questions.map((q, i) => (
             <fieldset key={q.id} className="card p-4" data-question={q.id}>
@@ -160,7 +205,7 @@ export default function QuizTaker({ quizId }: { quizId: string }) {
           ))}
           <div className="flex flex-wrap items-center gap-3">
             <button type="submit" className="btn btn-primary" disabled={busy}>{busy ? 'Submitting…' : 'Submit answers'}</button>
-            <span className="hint" role="status">{answered} of {attempt.questions.length} answered</span>
+            <span className="hint" role="status">{answered} of {attempt.questions.length} answered{saved === 'saving' ? ' · saving…' : saved === 'saved' ? ' · saved' : saved === 'failed' ? ' · not saved — check your connection; your answers are kept on this page' : ''}</span>
           </div>
         </form>
       )}

@@ -90,7 +90,7 @@ export default function ReportsPanel(props: Props) {
   const has = (n: ReportName) => props.sections.includes(n);
   const util = useReport<UtilisationRow, { openMinutes: number; bookedMinutes: number; beamMinutes: number; bookedShare: number | null; beamShare: number | null }>('utilisation', params, has('utilisation'));
   const revenue = useReport<RevenueRow, { charges: number; grossMinor: number; refundedMinor: number; netMinor: number; taxMinor: number; cardNetMinor: number; rechargeNetMinor: number }>('revenue', params, has('revenue'));
-  const clear = useReport<ClearanceRow, { quizStarted: number; quizPassed: number; signedOff: number; lapsed: number }>('clearances', params, has('clearances'));
+  const clear = useReport<ClearanceRow, { quizStarted: number; quizPassed: number; seatsBooked: number; attended: number; signedOff: number; lapsed: number }>('clearances', params, has('clearances'));
   const faults = useReport<FaultRow, { note: number; degraded: number; stop: number; openNow: number; outOfServiceMinutes: number; returnsToService: number; meanMinutesToReturn: number | null }>('faults', params, has('faults'));
   const noShows = useReport<NoShowRow, { bookings: number; noShows: number; lateCancellations: number }>('no-shows', params, has('no-shows'));
   const money = (m: number) => formatMoney(m, props.currency);
@@ -268,15 +268,16 @@ export default function ReportsPanel(props: Props) {
 
       {has('clearances') && (
         <Section id="r-clear" title="Clearance funnel" csvHref={csv('clearances')} loading={clear.loading} problem={clear.problem}
-          intro="People per machine group who, in this period, started a quiz, passed it, were signed off at the machine, and whose clearance lapsed without renewal.">
+          intro="People per machine group who, in this period, started a quiz, passed it, booked a seat at an induction session starting in the period, attended it, were signed off, and whose clearance lapsed without renewal.">
           {clear.data && (clear.data.rows.length === 0 ? <Empty what="machine groups" /> : (
             <Scroll>
               <table className="table whitespace-nowrap">
-                <thead><tr><th>Group</th><th className="text-right">Quiz started</th><th className="text-right">Passed</th><th className="text-right">Signed off</th><th className="text-right">Lapsed</th></tr></thead>
+                <thead><tr><th>Group</th><th className="text-right">Quiz started</th><th className="text-right">Passed</th><th className="text-right">Seat booked</th><th className="text-right">Attended</th><th className="text-right">Signed off</th><th className="text-right">Lapsed</th></tr></thead>
                 <tbody>
                   {clear.data.rows.map((r) => (
                     <tr key={r.group_id}>
                       <td>{r.group}</td><td className="text-right">{r.quiz_started}</td><td className="text-right">{r.quiz_passed}</td>
+                      <td className="text-right">{r.seats_booked}</td><td className="text-right">{r.attended}</td>
                       <td className="text-right">{r.signed_off}</td><td className="text-right">{r.lapsed}</td>
                     </tr>
                   ))}

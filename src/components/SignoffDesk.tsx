@@ -1,18 +1,23 @@
 /**
- * Sign-offs (instructor): the queue of people awaiting a practical sign-off (oldest first, filter by
- * group), the sign-off form with the group's checklist, and suspending or reinstating a clearance.
+ * Sign-offs (instructor): induction sessions and their rosters; the walk-in path — the queue of people awaiting
+ * a practical sign-off (oldest first, filter by group) with the group's checklist; and suspending or reinstating
+ * a clearance. A sign-off updates the clearance table below at once.
  */
-import { useCallback, useEffect, useState } from 'react';
+import { useCallback, useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
+import InductionRoster from './InductionRoster';
 
 interface Group { id: string; name: string; checklist: string[] }
 interface QueueEntry { personId: string; personName: string; personEmail: string; groupId: string; groupName: string; quizPassedAt: string | null; checklist: string[] }
-interface ClearanceRow { id: string; personId: string; personName: string; personEmail: string; groupName: string; state: string; level: string; expiresAt: string | null; suspendedReason: string | null }
+interface ClearanceRow { id: string; personId: string; personName: string; personEmail: string; groupName: string; state: string; level: string; expiresAt: string | null; expiresOn: string | null; suspendedReason: string | null }
+interface MachineOpt { id: string; name: string; groupId: string | null }
 
 const fmt = (iso: string | null) => (iso ? new Intl.DateTimeFormat(undefined, { day: 'numeric', month: 'short', year: 'numeric' }).format(new Date(iso)) : '—');
 
-export default function SignoffDesk({ selfId }: { selfId: string }) {
+export default function SignoffDesk({ selfId, groups: groupList, machines, timeZone }: { selfId: string; groups: { id: string; name: string }[]; machines: MachineOpt[]; timeZone: string }) {
   const [groups, setGroups] = useState<Group[]>([]);
+  const [version, setVersion] = useState(0);
+  const live = useRef<HTMLParagraphElement>(null);
   const [groupId, setGroupId] = useState('');
   const [queue, setQueue] = useState<QueueEntry[] | null>(null);
   const [open, setOpen] = useState<string | null>(null);
@@ -29,12 +34,20 @@ export default function SignoffDesk({ selfId }: { selfId: string }) {
   useEffect(() => void load(), [load]);
   useEffect(() => void api<{ groups: Group[] }>('/api/machine-groups').then((g) => setGroups(g.groups)).catch(() => undefined), []);
 
+  const refreshed = () => setVersion((v) => v + 1);
+  useEffect(() => {
+    if (message) live.current?.focus();
+  }, [message]);
+
   return (
     <div className="space-y-8">
-      {message && <p className={`notice notice-${message.tone}`} role={message.tone === 'stop' ? 'alert' : 'status'}>{message.text}</p>}
+      <InductionRoster selfId={selfId} groups={groupList} machines={machines} timeZone={timeZone} onSignedOff={() => { refreshed(); void load(); }} />
       <section className="space-y-3" aria-labelledby="queue-heading">
         <div className="flex flex-wrap items-end justify-between gap-3">
-          <h2 id="queue-heading" className="text-xl">Awaiting sign-off</h2>
+          <div>
+            <h2 id="queue-heading" className="text-xl">Walk-in sign-off</h2>
+            <p className="hint">Everyone whose quiz is passed, with or without a seat at a session: sign off a person standing in front of you.</p>
+          </div>
           <label className="field">
             <span>Machine group</span>
             <select className="input" value={groupId} onChange={(e) => setGroupId(e.target.value)}>
@@ -57,21 +70,22 @@ export default function SignoffDesk({ selfId }: { selfId: string }) {
                     {q.personId === selfId ? (
                       <span className="hint">Another instructor must sign you off.</span>
                     ) : (
-                      <button type="button" className="btn btn-primary" onClick={() => setOpen(open === key ? null : key)} aria-expanded={open === key}>
-                        Sign off {q.personName}
+                      <button type="button" className="btn btn-quiet" onClick={() => setOpen(open === key ? null : key)} aria-expanded={open === key}>
+                        {open === key ? 'Close the checklist' : `Open the checklist for ${q.personName}`}
                       </button>
                     )}
                   </div>
                   {open === key && (
-                    <SignoffForm entry={q} onDone={(text) => { setOpen(null); setMessage({ tone: 'ok', text }); void load(); }} />
+                    <SignoffForm entry={q} onDone={(text) => { setOpen(null); setMessage({ tone: 'ok', text }); refreshed(); void load(); }} />
                   )}
                 </li>
               );
             })}
           </ul>
         )}
+        <p ref={live} tabIndex={-1} aria-live="polite" role={message?.tone === 'stop' ? 'alert' : 'status'} className={message ? `notice notice-${message.tone}` : 'sr-only-focusable'}>{message?.text ?? ''}</p>
       </section>
-      <Suspensions onMessage={setMessage} />
+      <Suspensions onMessage={setMessage} version={version} />
     </div>
   );
 }
@@ -89,11 +103,11 @@ function SignoffForm({ entry, onDone }: { entry: QueueEntry; onDone: (text: stri
     setBusy(true);
     setError(null);
     try {
-      const r = await api<{ expiresAt: string }>('/api/signoffs', {
+      const r = await api<{ expiresAt: string; expiresOn: string }>('/api/signoffs', {
         method: 'POST',
         json: { personId: entry.personId, groupId: entry.groupId, level, notes, checklist: entry.checklist.map((item) => ({ item, done: Boolean(ticked[item]) })) },
       });
-      onDone(`${entry.personName} is cleared (${level}) on ${entry.groupName} until ${fmt(new Date(new Date(r.expiresAt).getTime() - 1).toISOString())}.`);
+      onDone(`${entry.personName} is cleared (${level}) on ${entry.groupName} until the end of ${r.expiresOn}.`);
     } catch (err) {
       setError(err instanceof ApiError ? err.message : 'Could not record the sign-off.');
     } finally {
@@ -133,12 +147,12 @@ function SignoffForm({ entry, onDone }: { entry: QueueEntry; onDone: (text: stri
         </label>
       </div>
       {error && <p className="notice notice-stop" role="alert">{error}</p>}
-      <button type="submit" className="btn btn-primary" disabled={busy || !all}>{all ? 'Record the sign-off' : 'Tick every checklist item to sign off'}</button>
+      <button type="submit" className="btn btn-primary" disabled={busy || !all}>{all ? `Sign off ${entry.personName} as cleared` : 'Tick every checklist item to sign off'}</button>
     </form>
   );
 }
 
-function Suspensions({ onMessage }: { onMessage: (m: { tone: 'ok' | 'stop'; text: string }) => void }) {
+function Suspensions({ onMessage, version }: { onMessage: (m: { tone: 'ok' | 'stop'; text: string }) => void; version: number }) {
   const [q, setQ] = useState('');
   const [rows, setRows] = useState<ClearanceRow[] | null>(null);
   const [acting, setActing] = useState<{ id: string; kind: 'suspend' | 'reinstate' } | null>(null);
@@ -151,7 +165,7 @@ function Suspensions({ onMessage }: { onMessage: (m: { tone: 'ok' | 'stop'; text
   useEffect(() => {
     const t = setTimeout(() => void search(q.trim()).catch(() => undefined), 250);
     return () => clearTimeout(t);
-  }, [q, search]);
+  }, [q, search, version]);
 
   async function act(e: React.FormEvent) {
     e.preventDefault();
@@ -178,7 +192,7 @@ function Suspensions({ onMessage }: { onMessage: (m: { tone: 'ok' | 'stop'; text
       {rows && (
         <div className="card overflow-x-auto p-2">
           <table className="table">
-            <thead><tr><th>Person</th><th>Group</th><th>State</th><th>Expires</th><th><span className="sr-only-focusable">Actions</span></th></tr></thead>
+            <thead><tr><th>Person</th><th>Group</th><th>State</th><th>Cleared until</th><th><span className="sr-only-focusable">Actions</span></th></tr></thead>
             <tbody>
               {rows.length === 0 && <tr><td colSpan={5}>No clearances match.</td></tr>}
               {rows.map((r) => (
@@ -186,7 +200,7 @@ function Suspensions({ onMessage }: { onMessage: (m: { tone: 'ok' | 'stop'; text
                   <td>{r.personName}<div className="hint">{r.personEmail}</div></td>
                   <td>{r.groupName}</td>
                   <td>{r.state}{r.suspendedReason ? <div className="hint">“{r.suspendedReason}”</div> : null}</td>
-                  <td>{fmt(r.expiresAt)}</td>
+                  <td>{r.expiresOn ? `end of ${r.expiresOn}` : '—'}</td>
                   <td>
                     {acting?.id === r.id ? (
                       <form className="flex flex-wrap gap-2" onSubmit={act}>

@@ -147,7 +147,7 @@ export function nextStep(state: ClearanceState | 'none', c: NextStepContext): st
         ? `No ${c.groupName.toLowerCase()} quiz is published yet; ask an instructor when one will be.`
         : `${quiz}, then book a practical sign-off with an instructor.`;
     case 'awaiting sign-off':
-      return 'Your quiz is passed: book a practical sign-off with an instructor, who will watch you run the machine safely.';
+      return 'Your quiz is passed: book a practical sign-off with an instructor — a seat at an induction session, on the Clearances screen.';
     case 'cleared':
       return 'You are cleared: book the machine when you need it.';
     case 'lapsed':

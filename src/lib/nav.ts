@@ -8,7 +8,7 @@ export interface NavItem {
   label: string;
   href: string;
   roles: Role[];
-  group: 'everyone' | 'teaching' | 'upkeep' | 'admin';
+  group: 'everyone' | 'teaching' | 'upkeep' | 'admin' | 'reports';
 }
 
 const ALL: Role[] = ['member', 'instructor', 'steward', 'admin'];
@@ -33,25 +33,26 @@ export const NAV: NavItem[] = [
   { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
   { label: 'Machines', href: '/admin/machines', roles: ['admin'], group: 'admin' },
   { label: 'QR labels', href: '/admin/labels', roles: ['admin'], group: 'admin' },
-  { label: 'Machine groups', href: '/admin/machine-groups', roles: ['admin', 'instructor'], group: 'admin' },
+  { label: 'Machine groups', href: '/admin/machine-groups', roles: ['admin', 'instructor'], group: 'teaching' },
   { label: 'Pricing', href: '/admin/pricing', roles: ['admin'], group: 'admin' },
   { label: 'Material rules', href: '/admin/materials', roles: ['admin'], group: 'admin' },
   { label: 'Site', href: '/admin/site', roles: ['admin'], group: 'admin' },
   { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },
-  { label: 'Reports', href: '/reports', roles: ['admin', 'instructor'], group: 'admin' },
+  { label: 'Reports', href: '/reports', roles: ['admin', 'instructor'], group: 'reports' },
 ];
 
 export const GROUP_LABELS: Record<NavItem['group'], string> = {
   everyone: 'Everyone',
-  teaching: 'Teaching',
-  upkeep: 'Upkeep',
-  admin: 'Admin',
+  teaching: 'Training',
+  upkeep: 'Machine care',
+  admin: 'Site and people',
+  reports: 'Reports',
 };
 
 /** The person's screens, split into the main row and the labelled groups of their other roles. */
 export function navGroups(roles: readonly Role[]): { main: NavItem[]; groups: { group: NavItem['group']; label: string; items: NavItem[] }[] } {
   const items = navFor(roles);
-  const groups = (['teaching', 'upkeep', 'admin'] as const)
+  const groups = (['teaching', 'upkeep', 'admin', 'reports'] as const)
     .map((group) => ({ group, label: GROUP_LABELS[group], items: items.filter((i) => i.group === group) }))
     .filter((g) => g.items.length > 0);
   return { main: items.filter((i) => i.group === 'everyone'), groups };

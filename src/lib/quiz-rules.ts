@@ -9,6 +9,9 @@ z.config({ jitless: true });
 
 const optionId = z.string().trim().min(1).max(40);
 
+/** The time limit of an attempt unless the instructor sets another. */
+export const DEFAULT_TIME_LIMIT_MINUTES = 30;
+
 export const quizOptionSchema = z.object({
   id: optionId,
   text: z.string().trim().min(1, 'Write the option.').max(300, 'Use at most 300 characters.'),
@@ -41,6 +44,8 @@ export const quizSettingsSchema = z.object({
   questionsPerAttempt: z.coerce.number().int('Use a whole number.').min(1, 'Draw at least one question.').max(100, 'At most 100.'),
   attemptsPerDay: z.coerce.number().int('Use a whole number.').min(1, 'At least 1.').max(50, 'At most 50.'),
   cooldownMinutes: z.coerce.number().int('Use a whole number.').min(0, 'Zero or more minutes.').max(10080, 'At most a week (10080 minutes).'),
+  /** How long an attempt stays open; an attempt left open longer expires (and still counts as one of the day's). */
+  timeLimitMinutes: z.coerce.number().int('Use a whole number.').min(5, 'At least 5 minutes.').max(240, 'At most 240 minutes.').default(DEFAULT_TIME_LIMIT_MINUTES),
 });
 
 export const quizDraftSchema = quizSettingsSchema
@@ -193,5 +198,16 @@ export function attemptGate(past: readonly PastAttempt[], now: Date, limits: Att
   return reason ? { ok: false, reason, nextAllowedAt: new Date(next) } : { ok: true };
 }
 
-/** How long an attempt stays open for its answers. */
-export const ATTEMPT_OPEN_MINUTES = 120;
+/** Answers that reach the server this long after the time limit still count (a slow network, a phone asleep). */
+export const SUBMIT_GRACE_SECONDS = 60;
+
+/** True while an attempt started at `startedAt` is still open at `now`. */
+export function attemptOpen(startedAt: Date, timeLimitMinutes: number, now: Date): boolean {
+  return now.getTime() < startedAt.getTime() + timeLimitMinutes * 60_000;
+}
+
+/** Attempts left in the 24 hours before `now` (open attempts count once). */
+export function attemptsLeft(past: readonly PastAttempt[], now: Date, attemptsPerDay: number): number {
+  const dayAgo = now.getTime() - 86_400_000;
+  return Math.max(0, attemptsPerDay - past.filter((a) => a.startedAt.getTime() > dayAgo).length);
+}

@@ -128,6 +128,10 @@ export interface ClearanceRow {
   group: string;
   quiz_started: number;
   quiz_passed: number;
+  /** People with a seat (not cancelled) at an induction session of the group starting in the period. */
+  seats_booked: number;
+  /** People marked present at such a session. */
+  attended: number;
   signed_off: number;
   lapsed: number;
 }
@@ -157,7 +161,7 @@ export interface NoShowRow {
 export const COLUMNS = {
   utilisation: ['machine_id', 'machine', 'week_start', 'open_minutes', 'booked_minutes', 'beam_minutes', 'booked_share', 'beam_share'],
   revenue: ['month', 'machine_id', 'machine', 'tier', 'method', 'charges', 'gross_minor', 'refunded_minor', 'net_minor', 'tax_minor', 'currency'],
-  clearances: ['group_id', 'group', 'quiz_started', 'quiz_passed', 'signed_off', 'lapsed'],
+  clearances: ['group_id', 'group', 'quiz_started', 'quiz_passed', 'seats_booked', 'attended', 'signed_off', 'lapsed'],
   faults: ['machine_id', 'machine', 'note', 'degraded', 'stop', 'open_now', 'out_of_service_minutes', 'returns_to_service', 'mean_minutes_to_return'],
   'no-shows': ['person_id', 'person', 'email', 'bookings', 'no_shows', 'late_cancellations', 'no_show_share'],
 } as const satisfies Record<ReportName, readonly string[]>;

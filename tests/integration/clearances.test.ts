@@ -10,6 +10,7 @@ import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
 import { signUpNew } from '../support/people';
 import { canOperate, sweepClearances } from '../../src/lib/server/clearances';
+import { startAttempt } from '../../src/lib/server/quizzes';
 import { expiryFor, localDate } from '../../src/lib/clearance-rules';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
@@ -155,9 +156,14 @@ describe('taking a quiz', () => {
     expect(Number(res.headers.get('retry-after'))).toBeGreaterThan(500);
   });
 
-  it('allows 3 starts in 24 hours, then 429 daily_limit', async () => {
+  it('allows 3 starts in 24 hours (a start while one is open returns it), then 429 daily_limit', async () => {
     const p = await signUpNew('daily');
-    for (let i = 0; i < 3; i++) expect((await p.client.send('POST', `/api/quizzes/${rf().publishedQuizId}/attempt`)).status).toBe(201);
+    const id = (await testDb()('people').where({ email: p.email }).first('id')).id;
+    // two attempts that ran past their time limit earlier today, then one now; a second start now resumes it
+    for (const h of [3, 2]) await startAttempt(id, rf().publishedQuizId!, new Date(Date.now() - h * 3_600_000));
+    expect((await p.client.send('POST', `/api/quizzes/${rf().publishedQuizId}/attempt`)).status).toBe(201);
+    expect((await p.client.send('POST', `/api/quizzes/${rf().publishedQuizId}/attempt`)).status).toBe(200);
+    await testDb()('quiz_attempts').where({ person_id: id }).whereNull('submitted_at').orderBy('started_at', 'desc').limit(1).update({ started_at: new Date(Date.now() - 31 * 60_000) });
     const res = await p.client.send('POST', `/api/quizzes/${rf().publishedQuizId}/attempt`);
     expect(res.status).toBe(429);
     const b = await body(res);

@@ -655,6 +655,40 @@ export async function createClassBlock(actor: Actor, input: ClassBlockInput, now
   });
 }
 
+/**
+ * Machine time for an induction session, in the caller's transaction: a class block (opening hours, the grid,
+ * closures and free time checked like any class block). The one who publishes it need not be cleared: the
+ * session is supervised by its instructor. 409 slot_taken when the time is booked.
+ */
+export async function reserveClassTime(trx: Knex.Transaction, actorId: string, input: { machineId: string; startsAt: Date; endsAt: Date; courseName: string; notes: string }, now = new Date()): Promise<Booking> {
+  const machine = await lockMachine(trx, input.machineId);
+  if (machine.status === 'out of service') throw outOfService(machine);
+  const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
+  const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'class' }, { now, ...ctx });
+  if (broken) throw new HttpError(422, broken.code, broken.message);
+  const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
+  await assertFree(trx, machine.id, input.startsAt, until);
+  const booking = await insertBooking(trx, {
+    machine_id: machine.id, person_id: actorId, kind: 'class', course_name: input.courseName,
+    starts_at: input.startsAt, ends_at: input.endsAt, occupied_until: until, notes: input.notes,
+  });
+  await recordAudit(trx, {
+    actorId, kind: 'booking.class_block_created', subjectType: 'booking', subjectId: booking.id,
+    summary: `Class block on ${machine.name}: ${input.courseName}`,
+    after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt },
+  });
+  return booking;
+}
+
+/** Gives back the machine time of a cancelled induction session (in the caller's transaction); freed time goes to the waitlist. */
+export async function releaseClassTime(trx: Knex.Transaction, actorId: string, bookingId: string, now = new Date()): Promise<void> {
+  const r = (await trx('bookings').where({ id: bookingId }).forUpdate().first()) as Row | undefined;
+  if (!r || r.state !== 'reserved' || r.ends_at <= now) return;
+  await trx('bookings').where({ id: bookingId }).update({ state: 'cancelled', cancelled_at: now, cancelled_by: actorId, updated_at: trx.fn.now() });
+  await recordAudit(trx, { actorId, kind: 'booking.cancelled', subjectType: 'booking', subjectId: bookingId, summary: 'Class block released (its induction session was cancelled)', before: { state: 'reserved' }, after: { state: 'cancelled' } });
+  await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+}
+
 // ---------------------------------------------------------------------------------------------
 // Waitlist
 
@@ -787,6 +821,8 @@ async function sweepRows(now: Date): Promise<{ noShows: number; expiredHolds: nu
       .where({ state: 'reserved' })
       .whereIn('kind', ['personal', 'class'])
       .whereNull('checked_in_at')
+      // an induction session's machine time is not checked in at the machine: it is held to its end
+      .whereNotExists((q) => q.select(trx.raw('1')).from('induction_sessions as s').whereRaw('s.booking_id = bookings.id'))
       .where('starts_at', '<=', new Date(now.getTime() - NO_SHOW_AFTER_MINUTES * 60_000))
       .forUpdate()
       .skipLocked()

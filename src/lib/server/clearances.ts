@@ -88,6 +88,19 @@ export async function canOperate(personId: string, machineId: string, at: Date, 
   );
 }
 
+/** A person's clearance on a group as it holds at `at` (for induction seats and the screens that explain the gate). */
+export async function clearanceOf(personId: string, groupId: string, at: Date, q: Q = db()): Promise<{ state: ClearanceState; expiresAt: Date | null; expiresOn: string | null; suspendedReason: string | null }> {
+  const r = (await q('clearances').where({ person_id: personId, group_id: groupId }).first()) as ClearanceRow | undefined;
+  if (!r) return { state: 'quiz due', expiresAt: null, expiresOn: null, suspendedReason: null };
+  const zone = await siteZone(q);
+  const state = effectiveState(r.state, r.expires_at, at);
+  return {
+    state, expiresAt: r.expires_at,
+    expiresOn: r.expires_at ? formatLocalDate(new Date(r.expires_at.getTime() - 1), zone) : null,
+    suspendedReason: state === 'suspended' ? r.suspended_reason : null,
+  };
+}
+
 // ---------------------------------------------------------------------------------------------
 // Groups
 
@@ -238,7 +251,7 @@ export async function recordQuizPass(trx: Knex.Transaction, personId: string, gr
       greeting: `Kia ora ${person.name},`,
       paragraphs: [
         `You passed the ${g.name} quiz. The next step is a practical sign-off: an instructor watches you run the machine — emergency stop, extraction and air assist, focus, framing the job and the fire routine.`,
-        'Ask an instructor for a time; bring a small test piece of an allowed material.',
+        'Book a seat at an induction session from your Clearances screen (the next sessions are listed there); bring a small test piece of an allowed material.',
       ],
       action: { label: 'See your clearances', url: link('/clearances') },
       footnote: SAFETY_FOOTNOTE,
@@ -257,10 +270,15 @@ export interface SignOffInput {
 
 /** An instructor signs off a person's practical induction: awaiting sign-off → cleared (never themselves). */
 export async function signOff(instructorId: string, input: SignOffInput, at = new Date()) {
+  return transaction((trx) => signOffIn(trx, instructorId, input, at));
+}
+
+/** The same sign-off on the caller's transaction (the induction roster marks attendance and signs off in one). */
+export async function signOffIn(trx: Knex.Transaction, instructorId: string, input: SignOffInput, at = new Date()) {
   if (instructorId === input.personId) {
     throw new HttpError(403, 'self_signoff', 'You cannot sign off your own practical induction; another instructor must.');
   }
-  return transaction(async (trx) => {
+  {
     const g = await groupRow(trx, input.groupId);
     const person = await personRow(trx, input.personId);
     const missing = g.checklist.filter((item) => !input.checklist.some((c) => c.item === item && c.done));
@@ -295,8 +313,12 @@ export async function signOff(instructorId: string, input: SignOffInput, at = ne
       action: { label: 'See your clearances', url: link('/clearances') },
       footnote: SAFETY_FOOTNOTE,
     });
-    return { signoffId: signoff.id as string, clearanceId: row.id, state: to, level: input.level, expiresAt: expiresAt.toISOString() };
-  });
+    return {
+      signoffId: signoff.id as string, clearanceId: row.id, state: to, level: input.level, expiresAt: expiresAt.toISOString(),
+      // the last valid day in the site's zone: the same date the clearance tables show
+      expiresOn: formatLocalDate(new Date(expiresAt.getTime() - 1), zone),
+    };
+  }
 }
 
 export async function suspend(instructorId: string, clearanceId: string, reason: string, at = new Date()) {
@@ -389,6 +411,8 @@ export interface ClearanceListRow {
   state: ClearanceState;
   level: ClearanceLevel;
   expiresAt: string | null;
+  /** The last valid day in the site's zone (as the sign-off message says it). */
+  expiresOn: string | null;
   suspendedReason: string | null;
 }
 
@@ -400,9 +424,11 @@ export async function listClearances(filter: { q?: string; groupId?: string }, a
     q.where((w) => w.whereILike('p.name', like).orWhereILike('p.email', like));
   }
   const rows = await q.orderBy('p.name').orderBy('g.name').limit(200).select('c.*', 'p.name as person_name', 'p.email as person_email', 'g.name as group_name');
+  const zone = await siteZone(db());
   return rows.map((r) => ({
     id: r.id, personId: r.person_id, personName: r.person_name, personEmail: r.person_email, groupId: r.group_id, groupName: r.group_name,
-    state: effectiveState(r.state, r.expires_at, at), level: r.level, expiresAt: r.expires_at?.toISOString() ?? null, suspendedReason: r.suspended_reason,
+    state: effectiveState(r.state, r.expires_at, at), level: r.level, expiresAt: r.expires_at?.toISOString() ?? null,
+    expiresOn: r.expires_at ? formatLocalDate(new Date(r.expires_at.getTime() - 1), zone) : null, suspendedReason: r.suspended_reason,
   }));
 }
 

@@ -18,6 +18,8 @@ export const QUEUES = {
   'sessions.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 300 },
   // upkeep that has fallen due: one e-mail to the stewards per item, state and service cycle
   'upkeep.remind': { retryLimit: 2, retryDelay: 60, expireInSeconds: 300 },
+  // the day-before reminder of a seat at an induction session
+  'induction.remind': { retryLimit: 2, retryDelay: 60, expireInSeconds: 300 },
 } as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
 
 export type QueueName = keyof typeof QUEUES;

@@ -9,7 +9,7 @@ import { recordAudit } from './audit';
 import { recordQuizPass } from './clearances';
 import { effectiveState, type ClearanceState } from '../clearance-rules';
 import {
-  ATTEMPT_OPEN_MINUTES, attemptGate, deliver, drawQuestions, scoreAttempt,
+  SUBMIT_GRACE_SECONDS, attemptGate, attemptOpen, attemptsLeft, deliver, drawQuestions, scoreAttempt,
   type Answers, type DeliveredQuestion, type DrawnQuestion, type QuizDraft, type QuizQuestion,
 } from '../quiz-rules';
 
@@ -22,6 +22,7 @@ export interface QuizVersionView {
   questionsPerAttempt: number;
   attemptsPerDay: number;
   cooldownMinutes: number;
+  timeLimitMinutes: number;
   questions: QuizQuestion[];
   publishedAt: string | null;
   updatedAt: string;
@@ -41,7 +42,7 @@ function versionView(v: any): QuizVersionView {
   return {
     id: v.id, version: v.version, status: v.status, title: v.title, passMarkPct: v.pass_mark_pct,
     questionsPerAttempt: v.questions_per_attempt, attemptsPerDay: v.attempts_per_day, cooldownMinutes: v.cooldown_minutes,
-    questions: v.questions, publishedAt: v.published_at?.toISOString() ?? null, updatedAt: v.updated_at.toISOString(),
+    timeLimitMinutes: v.time_limit_minutes, questions: v.questions, publishedAt: v.published_at?.toISOString() ?? null, updatedAt: v.updated_at.toISOString(),
   };
 }
 
@@ -93,7 +94,7 @@ export async function createQuiz(actorId: string, groupId: string, draft: QuizDr
 function draftColumns(d: QuizDraft) {
   return {
     title: d.title, pass_mark_pct: d.passMarkPct, questions_per_attempt: d.questionsPerAttempt,
-    attempts_per_day: d.attemptsPerDay, cooldown_minutes: d.cooldownMinutes, questions: JSON.stringify(d.questions),
+    attempts_per_day: d.attemptsPerDay, cooldown_minutes: d.cooldownMinutes, time_limit_minutes: d.timeLimitMinutes, questions: JSON.stringify(d.questions),
   };
 }
 
@@ -115,6 +116,22 @@ export async function saveDraft(actorId: string, quizId: string, draft: QuizDraf
     await trx('quizzes').where({ id: quizId }).update({ title: draft.title, updated_at: trx.fn.now() });
     await recordAudit(trx, { actorId, kind: 'quiz.draft_saved', subjectType: 'quiz', subjectId: quizId, summary: `Saved draft version ${version} of “${draft.title}” (${draft.questions.length} questions)` });
     return { version };
+  });
+}
+
+/** Throws away the open draft; the published version stays what members get. A quiz never published keeps its draft. */
+export async function discardDraft(actorId: string, quizId: string): Promise<{ discardedVersion: number }> {
+  return transaction(async (trx) => {
+    const quiz = await trx('quizzes').where({ id: quizId }).forUpdate().first('id', 'title');
+    if (!quiz) throw new HttpError(404, 'not_found', 'No such quiz.');
+    const draft = await trx('quiz_versions').where({ quiz_id: quizId, status: 'draft' }).first('id', 'version', 'title');
+    if (!draft) throw new HttpError(409, 'no_draft', 'There is no draft to discard.');
+    const published = await trx('quiz_versions').where({ quiz_id: quizId, status: 'published' }).first('title');
+    if (!published) throw new HttpError(409, 'never_published', 'This quiz has never been published: its draft is all there is. Edit it instead.');
+    await trx('quiz_versions').where({ id: draft.id }).delete();
+    await trx('quizzes').where({ id: quizId }).update({ title: published.title, updated_at: trx.fn.now() });
+    await recordAudit(trx, { actorId, kind: 'quiz.draft_discarded', subjectType: 'quiz', subjectId: quizId, summary: `Discarded draft version ${draft.version} of “${draft.title}”` });
+    return { discardedVersion: draft.version as number };
   });
 }
 
@@ -147,6 +164,11 @@ export interface StartedAttempt {
   passMarkPct: number;
   questions: DeliveredQuestion[];
   submitBy: string;
+  timeLimitMinutes: number;
+  /** Answers saved so far (an attempt that was open is returned as it was left). */
+  answers: Answers;
+  /** True when this is the attempt that was already open (it did not count again). */
+  resumed: boolean;
 }
 
 const QUIZ_STATES: ClearanceState[] = ['quiz due', 'lapsed'];
@@ -176,6 +198,22 @@ export async function startAttempt(personId: string, quizId: string, now = new D
     if (!version) throw new HttpError(409, 'not_published', 'This quiz has no published version yet.');
     const state = await clearanceStateFor(trx, personId, quiz.group_id, now);
     if (!QUIZ_STATES.includes(state)) refuseState(state);
+    const bank = version.questions as QuizQuestion[];
+    // an attempt still open on this version is returned as it was left: a reload or a second tab never counts again
+    const open = await trx('quiz_attempts')
+      .where({ person_id: personId, quiz_version_id: version.id })
+      .whereNull('submitted_at')
+      .where('started_at', '>', new Date(now.getTime() - version.time_limit_minutes * 60_000))
+      .orderBy('started_at', 'desc')
+      .first('id', 'drawn', 'started_at', 'answers');
+    if (open) {
+      return {
+        attemptId: open.id, quizId, version: version.version, title: version.title, groupName: quiz.group_name,
+        passMarkPct: version.pass_mark_pct, questions: deliver(bank, open.drawn as DrawnQuestion[]),
+        submitBy: new Date(open.started_at.getTime() + version.time_limit_minutes * 60_000).toISOString(),
+        timeLimitMinutes: version.time_limit_minutes, answers: (open.answers as Answers | null) ?? {}, resumed: true,
+      };
+    }
     const past = await trx('quiz_attempts').where({ person_id: personId, group_id: quiz.group_id }).where('started_at', '>', new Date(now.getTime() - 8 * 86_400_000)).select('started_at', 'submitted_at', 'passed');
     const gate = attemptGate(
       past.map((p) => ({ startedAt: p.started_at, submittedAt: p.submitted_at, passed: p.passed })),
@@ -190,7 +228,6 @@ export async function startAttempt(personId: string, quizId: string, now = new D
       const retryAfter = String(Math.max(1, Math.ceil((gate.nextAllowedAt.getTime() - now.getTime()) / 1000)));
       throw new HttpError(429, 'attempt_limit', text, { nextAllowedAt: when, reason: gate.reason }, { 'retry-after': retryAfter });
     }
-    const bank = version.questions as QuizQuestion[];
     const drawn = drawQuestions(bank, version.questions_per_attempt);
     const [attempt] = await trx('quiz_attempts').insert({
       quiz_version_id: version.id, person_id: personId, group_id: quiz.group_id, drawn: JSON.stringify(drawn), started_at: now,
@@ -198,7 +235,8 @@ export async function startAttempt(personId: string, quizId: string, now = new D
     return {
       attemptId: attempt.id, quizId, version: version.version, title: version.title, groupName: quiz.group_name,
       passMarkPct: version.pass_mark_pct, questions: deliver(bank, drawn),
-      submitBy: new Date(now.getTime() + ATTEMPT_OPEN_MINUTES * 60_000).toISOString(),
+      submitBy: new Date(now.getTime() + version.time_limit_minutes * 60_000).toISOString(),
+      timeLimitMinutes: version.time_limit_minutes, answers: {}, resumed: false,
     };
   });
 }
@@ -221,11 +259,11 @@ export async function submitAttempt(personId: string, quizId: string, attemptId:
   return transaction(async (trx) => {
     const attempt = await trx('quiz_attempts as a').join('quiz_versions as v', 'v.id', 'a.quiz_version_id')
       .where('a.id', attemptId).where('v.quiz_id', quizId).forUpdate('a')
-      .first('a.id', 'a.person_id', 'a.group_id', 'a.drawn', 'a.started_at', 'a.submitted_at', 'v.questions', 'v.pass_mark_pct');
+      .first('a.id', 'a.person_id', 'a.group_id', 'a.drawn', 'a.started_at', 'a.submitted_at', 'v.questions', 'v.pass_mark_pct', 'v.time_limit_minutes');
     if (!attempt || attempt.person_id !== personId) throw new HttpError(404, 'not_found', 'No such attempt.');
     if (attempt.submitted_at) throw new HttpError(409, 'already_submitted', 'This attempt was already submitted; start a new one.');
-    if (now.getTime() - attempt.started_at.getTime() > ATTEMPT_OPEN_MINUTES * 60_000) {
-      throw new HttpError(409, 'attempt_expired', `An attempt must be submitted within ${ATTEMPT_OPEN_MINUTES} minutes; start a new one.`);
+    if (!attemptOpen(attempt.started_at, attempt.time_limit_minutes + SUBMIT_GRACE_SECONDS / 60, now)) {
+      throw new HttpError(409, 'attempt_expired', `The ${attempt.time_limit_minutes} minutes of this attempt have run out; it counts as one of today’s attempts. Start a new one when the quiz allows.`);
     }
     const drawn = attempt.drawn as DrawnQuestion[];
     const known = new Set(drawn.map((d) => d.id));
@@ -255,4 +293,75 @@ export async function submitAttempt(personId: string, quizId: string, attemptId:
       passed: score.passed, missedTopics: score.missedTopics, results: score.results, clearanceState, nextStep: step,
     };
   });
+}
+
+/** Saves the answers of an open attempt as they are picked (replacing what was saved); scoring waits for the submit. */
+export async function saveAnswers(personId: string, quizId: string, attemptId: string, answers: Answers, now = new Date()): Promise<{ savedAt: string; answered: number }> {
+  return transaction(async (trx) => {
+    const attempt = await trx('quiz_attempts as a').join('quiz_versions as v', 'v.id', 'a.quiz_version_id')
+      .where('a.id', attemptId).where('v.quiz_id', quizId).forUpdate('a')
+      .first('a.id', 'a.person_id', 'a.drawn', 'a.started_at', 'a.submitted_at', 'v.time_limit_minutes');
+    if (!attempt || attempt.person_id !== personId) throw new HttpError(404, 'not_found', 'No such attempt.');
+    if (attempt.submitted_at) throw new HttpError(409, 'already_submitted', 'This attempt was already submitted.');
+    if (!attemptOpen(attempt.started_at, attempt.time_limit_minutes + SUBMIT_GRACE_SECONDS / 60, now)) {
+      throw new HttpError(409, 'attempt_expired', `The ${attempt.time_limit_minutes} minutes of this attempt have run out.`);
+    }
+    const known = new Set((attempt.drawn as DrawnQuestion[]).map((d) => d.id));
+    const extra = Object.keys(answers).filter((k) => !known.has(k));
+    if (extra.length) throw new HttpError(422, 'invalid', 'Some answers are for questions not in this attempt.', { answers: `Unknown question(s): ${extra.slice(0, 5).join(', ')}` });
+    await trx('quiz_attempts').where({ id: attemptId }).update({ answers: JSON.stringify(answers), answers_saved_at: now });
+    return { savedAt: now.toISOString(), answered: Object.values(answers).filter((a) => a.length > 0).length };
+  });
+}
+
+export interface QuizIntro {
+  quizId: string;
+  title: string;
+  groupName: string;
+  questionCount: number;
+  passMarkPct: number;
+  attemptsPerDay: number;
+  attemptsLeft: number;
+  cooldownMinutes: number;
+  timeLimitMinutes: number;
+  /** An attempt still open: it is resumed, not counted again. */
+  openAttempt: { attemptId: string; submitBy: string; answered: number } | null;
+  /** When the quiz cannot be started now: from when it can, and why. */
+  nextAllowed: { at: string; reason: 'daily_limit' | 'cooldown' } | null;
+  /** When the quiz is not for this person now (already passed, cleared, suspended). */
+  notNeeded: string | null;
+}
+
+/** What the quiz's intro shows before a start: the facts of the published version and this person's attempts. */
+export async function quizIntro(personId: string, quizId: string, now = new Date()): Promise<QuizIntro | null> {
+  const q = db();
+  const quiz = await q('quizzes as z').join('machine_groups as g', 'g.id', 'z.group_id').where('z.id', quizId).first('z.id', 'z.group_id', 'g.name as group_name');
+  if (!quiz) return null;
+  const version = await q('quiz_versions').where({ quiz_id: quizId, status: 'published' }).first();
+  if (!version) return null;
+  const state = await clearanceStateFor(q, personId, quiz.group_id, now);
+  const past = await q('quiz_attempts').where({ person_id: personId, group_id: quiz.group_id }).where('started_at', '>', new Date(now.getTime() - 8 * 86_400_000))
+    .select('id', 'quiz_version_id', 'started_at', 'submitted_at', 'passed', 'answers');
+  const open = past
+    .filter((p) => p.quiz_version_id === version.id && !p.submitted_at && attemptOpen(p.started_at, version.time_limit_minutes, now))
+    .sort((a, b) => b.started_at.getTime() - a.started_at.getTime())[0];
+  const gatePast = past.map((p) => ({ startedAt: p.started_at, submittedAt: p.submitted_at, passed: p.passed }));
+  const gate = attemptGate(gatePast, now, { attemptsPerDay: version.attempts_per_day, cooldownMinutes: version.cooldown_minutes });
+  let notNeeded: string | null = null;
+  if (!QUIZ_STATES.includes(state)) {
+    try { refuseState(state); } catch (e) { notNeeded = (e as Error).message; }
+  }
+  return {
+    quizId, title: version.title, groupName: quiz.group_name,
+    questionCount: Math.min(version.questions_per_attempt, (version.questions as unknown[]).length),
+    passMarkPct: version.pass_mark_pct, attemptsPerDay: version.attempts_per_day,
+    attemptsLeft: attemptsLeft(gatePast, now, version.attempts_per_day),
+    cooldownMinutes: version.cooldown_minutes, timeLimitMinutes: version.time_limit_minutes,
+    openAttempt: open ? {
+      attemptId: open.id, submitBy: new Date(open.started_at.getTime() + version.time_limit_minutes * 60_000).toISOString(),
+      answered: Object.values((open.answers as Answers | null) ?? {}).filter((a) => a.length > 0).length,
+    } : null,
+    nextAllowed: !open && !gate.ok ? { at: gate.nextAllowedAt.toISOString(), reason: gate.reason } : null,
+    notNeeded,
+  };
 }

@@ -208,7 +208,7 @@ export async function revenueReport(scope: ReportScope): Promise<RevenueReport> 
 
 export interface ClearanceReport {
   rows: ClearanceRow[];
-  totals: { quizStarted: number; quizPassed: number; signedOff: number; lapsed: number };
+  totals: { quizStarted: number; quizPassed: number; seatsBooked: number; attended: number; signedOff: number; lapsed: number };
 }
 
 /**
@@ -218,7 +218,7 @@ export interface ClearanceReport {
  */
 export async function clearanceReport(scope: ReportScope): Promise<ClearanceReport> {
   const { start, end } = scope.period;
-  const params: Knex.RawBinding[] = [start, end, start, end, start, end, start, end];
+  const params: Knex.RawBinding[] = [start, end, start, end, start, end, start, end, start, end, start, end];
   let groupClause = '';
   if (scope.machineIds) {
     groupClause = 'WHERE g.id IN (SELECT group_id FROM machines WHERE id = ANY(?::uuid[]) AND group_id IS NOT NULL)';
@@ -230,6 +230,10 @@ export async function clearanceReport(scope: ReportScope): Promise<ClearanceRepo
          WHERE a.group_id = g.id AND a.started_at >= ? AND a.started_at < ?)::int AS quiz_started,
        (SELECT count(DISTINCT a.person_id) FROM quiz_attempts a
          WHERE a.group_id = g.id AND a.passed AND a.submitted_at >= ? AND a.submitted_at < ?)::int AS quiz_passed,
+       (SELECT count(DISTINCT x.person_id) FROM induction_seats x JOIN induction_sessions s ON s.id = x.session_id
+         WHERE s.group_id = g.id AND x.state <> 'cancelled' AND s.starts_at >= ? AND s.starts_at < ?)::int AS seats_booked,
+       (SELECT count(DISTINCT x.person_id) FROM induction_seats x JOIN induction_sessions s ON s.id = x.session_id
+         WHERE s.group_id = g.id AND x.state = 'present' AND s.starts_at >= ? AND s.starts_at < ?)::int AS attended,
        (SELECT count(DISTINCT s.person_id) FROM signoffs s
          WHERE s.group_id = g.id AND s.signed_at >= ? AND s.signed_at < ?)::int AS signed_off,
        (SELECT count(*) FROM clearances c
@@ -244,12 +248,17 @@ export async function clearanceReport(scope: ReportScope): Promise<ClearanceRepo
     group: String(r.group),
     quiz_started: int(r.quiz_started),
     quiz_passed: int(r.quiz_passed),
+    seats_booked: int(r.seats_booked),
+    attended: int(r.attended),
     signed_off: int(r.signed_off),
     lapsed: int(r.lapsed),
   }));
   const totals = rows.reduce(
-    (a, r) => ({ quizStarted: a.quizStarted + r.quiz_started, quizPassed: a.quizPassed + r.quiz_passed, signedOff: a.signedOff + r.signed_off, lapsed: a.lapsed + r.lapsed }),
-    { quizStarted: 0, quizPassed: 0, signedOff: 0, lapsed: 0 },
+    (a, r) => ({
+      quizStarted: a.quizStarted + r.quiz_started, quizPassed: a.quizPassed + r.quiz_passed, seatsBooked: a.seatsBooked + r.seats_booked,
+      attended: a.attended + r.attended, signedOff: a.signedOff + r.signed_off, lapsed: a.lapsed + r.lapsed,
+    }),
+    { quizStarted: 0, quizPassed: 0, seatsBooked: 0, attended: 0, signedOff: 0, lapsed: 0 },
   );
   return { rows, totals };
 }

@@ -11,6 +11,7 @@ import { sweepBookings } from './bookings';
 import { sweepClearances } from './clearances';
 import { sweepOpenSessions } from './sessions';
 import { remindUpkeep } from './upkeep';
+import { remindSeats } from './induction-sessions';
 import { db } from './db';
 
 type Handler = (data: unknown) => Promise<void>;
@@ -37,6 +38,10 @@ const handlers: Record<QueueName, Handler> = {
     const r = await remindUpkeep();
     if (r.reminders.length) console.log(`upkeep.remind: ${r.reminders.length} item(s) e-mailed to ${r.stewards} steward(s)`);
   },
+  'induction.remind': async () => {
+    const r = await remindSeats(new Date());
+    if (r.reminded) console.log(`induction.remind: ${r.reminded} seat reminder(s) e-mailed`);
+  },
 };
 
 /** Scheduled jobs (pg-boss checks them about every 30 seconds). */
@@ -53,6 +58,9 @@ async function schedules(boss: PgBoss): Promise<void> {
   // hourly, and at start-up: upkeep that has fallen due is e-mailed to the stewards once per service cycle
   await boss.schedule('upkeep.remind', '20 * * * *');
   await boss.send('upkeep.remind', {});
+  // every 15 minutes, and at start-up: seats at sessions starting within a day get their reminder
+  await boss.schedule('induction.remind', '*/15 * * * *');
+  await boss.send('induction.remind', {});
 }
 
 /**

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { idParam, json, readJson, requireSignedIn, route } from '../../../../../lib/server/http';
-import { submitAttempt } from '../../../../../lib/server/quizzes';
+import { saveAnswers, submitAttempt } from '../../../../../lib/server/quizzes';
 
 const body = z
   .object({
@@ -15,4 +15,13 @@ export const POST = route(async ({ locals, params, request }) => {
   const attemptId = idParam(params.attemptId, 'attempt');
   const input = await readJson(request, body);
   return json(await submitAttempt(person.id, quizId, attemptId, input.answers));
+});
+
+/** PATCH /api/quizzes/:id/attempts/:attemptId { answers } → the answers of the open attempt saved as they are picked. */
+export const PATCH = route(async ({ locals, params, request }) => {
+  const person = requireSignedIn(locals);
+  const quizId = idParam(params.id, 'quiz');
+  const attemptId = idParam(params.attemptId, 'attempt');
+  const input = await readJson(request, body);
+  return json(await saveAnswers(person.id, quizId, attemptId, input.answers));
 });
