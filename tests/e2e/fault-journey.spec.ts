@@ -65,7 +65,7 @@ describe('a stop fault from the phone to the steward', () => {
     await shot(sp, 'faults-queue-desk');
 
     await card.getByLabel('Resolution (what was done)').fill('Coolant hose reseated, tube inspected, no crack.');
-    await card.getByRole('button', { name: 'Resolve' }).click();
+    await card.getByRole('button', { name: 'Resolve', exact: true }).click();
     await sp.getByText('Resolved; the reporter is told.').waitFor();
 
     const panel = sp.locator('[data-machine="laser-c"]');

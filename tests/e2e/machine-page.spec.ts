@@ -157,7 +157,8 @@ describe('back into service while a stop fault is open', () => {
     const problems: string[] = [];
     await checkBothWidths(page, 'faults', problems);
     expect(problems, problems.join('\n')).toEqual([]);
-    expect(errors).toEqual([]);
+    // the refused return is a 409 the browser logs as a failed resource; nothing else may go wrong
+    expect(errors.filter((e) => !e.includes('status of 409'))).toEqual([]);
     await ctx.close();
   }, 90_000);
 });
