@@ -60,7 +60,9 @@ describe('a stop fault from the phone to the steward', () => {
     // stop faults come first in the queue
     expect(await sp.locator('[data-fault]').first().getAttribute('data-severity')).toBe('stop');
     await card.locator('img').first().waitFor();
-    expect(await card.locator('img').first().evaluate((img) => (img as HTMLImageElement).naturalWidth)).toBeGreaterThan(0);
+    // the photo is lazy-loaded: bring it into view and give a busy machine time to load it
+    await card.locator('img').first().scrollIntoViewIfNeeded();
+    await expect.poll(() => card.locator('img').first().evaluate((img) => (img as HTMLImageElement).naturalWidth), { timeout: 20_000 }).toBeGreaterThan(0);
     await sp.waitForLoadState('networkidle');
     await shot(sp, 'faults-queue-desk');
 
