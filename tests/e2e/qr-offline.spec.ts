@@ -14,6 +14,7 @@ import { PHONE, launch, newContext, shot, signIn, watchErrors } from '../support
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
+import { APP_URL } from '../support/env';
 
 let browser: Browser;
 let admin: Client;
@@ -127,7 +128,7 @@ describe('the fault form without JavaScript', () => {
     const state = await withJs.storageState();
     await withJs.close();
 
-    const ctx = await browser.newContext({ baseURL: (await import('../support/env')).APP_URL(), viewport: PHONE, locale: 'en-NZ', javaScriptEnabled: false, storageState: state });
+    const ctx = await browser.newContext({ baseURL: APP_URL(), viewport: PHONE, locale: 'en-NZ', javaScriptEnabled: false, storageState: state });
     const page = await ctx.newPage();
     await page.goto(`/m/${machine.code}/fault`);
     const summary = `Honeycomb bent ${Date.now().toString(36)}`;
