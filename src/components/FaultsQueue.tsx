@@ -27,6 +27,7 @@ export default function FaultsQueue({ timeZone }: { timeZone: string }) {
   const [severity, setSeverity] = useState<FaultSeverity | ''>('');
   const [faults, setFaults] = useState<FaultView[] | null>(null);
   const [machines, setMachines] = useState<MachineView[]>([]);
+  const [openStops, setOpenStops] = useState<FaultView[]>([]);
   const [message, setMessage] = useState<Msg>(null);
   const fmt = (iso: string) => new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(new Date(iso));
 
@@ -35,9 +36,12 @@ export default function FaultsQueue({ timeZone }: { timeZone: string }) {
     if (status) q.set('status', status);
     if (severity) q.set('severity', severity);
     try {
-      const [f, m] = await Promise.all([api<FaultView[]>(`/api/faults?${q}`), api<MachineView[]>('/api/machines')]);
+      const [f, m, stops] = await Promise.all([
+        api<FaultView[]>(`/api/faults?${q}`), api<MachineView[]>('/api/machines'), api<FaultView[]>('/api/faults?status=unresolved&severity=stop'),
+      ]);
       setFaults(f);
       setMachines(m);
+      setOpenStops(stops);
     } catch (e) {
       setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'Could not load the queue.' });
     }
@@ -49,15 +53,16 @@ export default function FaultsQueue({ timeZone }: { timeZone: string }) {
     await load();
   };
   const notInService = machines.filter((m) => m.status !== 'in service');
+  const stopsOn = (machineId: string) => openStops.filter((f) => f.machineId === machineId);
 
   return (
     <div className="space-y-5">
       <p aria-live="polite" className={message ? `notice notice-${message.tone}` : 'sr-only'}>{message?.text ?? ''}</p>
       {notInService.length > 0 && (
-        <section className="space-y-3" aria-label="Machines not in service">
-          <h2 className="text-xl">Machines not in service</h2>
+        <section className="space-y-3" aria-labelledby="attention-h">
+          <h2 id="attention-h" className="text-xl">Out of service or degraded</h2>
           <div className="grid gap-3 md:grid-cols-2">
-            {notInService.map((m) => <ReturnPanel key={m.id} machine={m} onDone={done} />)}
+            {notInService.map((m) => <ReturnPanel key={m.id} machine={m} stops={stopsOn(m.id)} onDone={done} />)}
           </div>
         </section>
       )}
@@ -76,16 +81,42 @@ export default function FaultsQueue({ timeZone }: { timeZone: string }) {
           </label>
         </div>
         {faults && faults.length === 0 && <p className="card p-5">Nothing in the queue.</p>}
-        {faults?.map((f) => <FaultCard key={f.id} f={f} fmt={fmt} onDone={done} />)}
+        {faults?.map((f) => <FaultCard key={f.id} f={f} fmt={fmt} onDone={done} lastStop={f.severity === 'stop' && f.status !== 'resolved' && f.machineStatus === 'out of service' && stopsOn(f.machineId).length === 1} />)}
       </section>
     </div>
   );
 }
 
-function ReturnPanel({ machine, onDone }: { machine: MachineView; onDone: (t: string, tone?: 'ok' | 'stop') => Promise<void> }) {
-  const [checks, setChecks] = useState<Record<CheckKey, boolean>>({ causeFixed: false, interlocksTested: false, coolingAndExtraction: false, testFire: false });
+function Checks({ checks, setChecks }: { checks: Record<CheckKey, boolean>; setChecks: (c: Record<CheckKey, boolean>) => void }) {
+  return (
+    <fieldset className="space-y-1">
+      <legend className="font-semibold">Before it goes back into service</legend>
+      {(Object.keys(CHECKS) as CheckKey[]).map((k) => (
+        <label key={k} className="flex items-start gap-2 text-sm">
+          <input type="checkbox" className="mt-0.5 h-4 w-4" checked={checks[k]} onChange={(e) => setChecks({ ...checks, [k]: e.target.checked })} />
+          {CHECKS[k]}
+        </label>
+      ))}
+    </fieldset>
+  );
+}
+
+const NO_CHECKS: Record<CheckKey, boolean> = { causeFixed: false, interlocksTested: false, coolingAndExtraction: false, testFire: false };
+
+/** A message next to the control that caused it, focused so a screen reader and the eye both land on it. */
+function PanelMessage({ msg }: { msg: Msg }) {
+  return (
+    <p role="alert" tabIndex={-1} ref={(el) => { if (el && msg) el.focus(); }} className={msg ? `notice notice-${msg.tone} text-sm` : 'sr-only'} data-panel-message>
+      {msg?.text ?? ''}
+    </p>
+  );
+}
+
+function ReturnPanel({ machine, stops, onDone }: { machine: MachineView; stops: FaultView[]; onDone: (t: string, tone?: 'ok' | 'stop') => Promise<void> }) {
+  const [checks, setChecks] = useState<Record<CheckKey, boolean>>(NO_CHECKS);
   const [reason, setReason] = useState('');
   const [busy, setBusy] = useState(false);
+  const [msg, setMsg] = useState<Msg>(null);
   const needsChecks = machine.status === 'out of service';
   const ready = reason.trim().length >= 3 && (!needsChecks || Object.values(checks).every(Boolean));
   const st = STATUS_TEXT[machine.status];
@@ -95,7 +126,7 @@ function ReturnPanel({ machine, onDone }: { machine: MachineView; onDone: (t: st
       await api(`/api/machines/${machine.id}/status`, { method: 'POST', json: { status: 'in service', reason, ...(needsChecks ? { checklist: checks } : {}) } });
       await onDone(`${machine.name} is back in service.`);
     } catch (e) {
-      await onDone(e instanceof ApiError ? e.message : 'The status was not changed.', 'stop');
+      setMsg({ tone: 'stop', text: e instanceof ApiError ? e.message : 'The status was not changed.' });
     } finally {
       setBusy(false);
     }
@@ -104,41 +135,40 @@ function ReturnPanel({ machine, onDone }: { machine: MachineView; onDone: (t: st
     <article className="card space-y-3 p-4" data-machine={machine.code}>
       <div className="flex items-center justify-between gap-2">
         <h3 className="text-lg font-semibold">{machine.name}</h3>
-        <span className={`status status-${st.tone}`}>{st.icon} {st.label}</span>
+        <span className={`status status-${st.tone}`}><span aria-hidden="true">{st.icon}</span> {st.label}</span>
       </div>
-      {needsChecks && (
-        <fieldset className="space-y-1">
-          <legend className="font-semibold">Before it goes back into service</legend>
-          {(Object.keys(CHECKS) as CheckKey[]).map((k) => (
-            <label key={k} className="flex items-start gap-2 text-sm">
-              <input type="checkbox" className="mt-0.5 h-4 w-4" checked={checks[k]} onChange={(e) => setChecks({ ...checks, [k]: e.target.checked })} />
-              {CHECKS[k]}
-            </label>
-          ))}
-        </fieldset>
+      {stops.length > 0 && (
+        <div className="notice notice-warn text-sm" data-open-stops>
+          <p><strong>{stops.length === 1 ? 'Open stop fault' : `${stops.length} open stop faults`}</strong> — resolve {stops.length === 1 ? 'it' : 'them'} before the machine goes back into service (the last one can be resolved and returned in one step):</p>
+          <ul className="mt-1 list-disc pl-5">{stops.map((f) => <li key={f.id}>{f.summary}</li>)}</ul>
+        </div>
       )}
+      {needsChecks && <Checks checks={checks} setChecks={setChecks} />}
       <label className="field"><span>Note (what was done; the reporter is told)</span>
         <textarea className="input" rows={2} value={reason} onChange={(e) => setReason(e.target.value)} maxLength={1000} />
       </label>
+      <PanelMessage msg={msg} />
       <button type="button" className="btn btn-primary" disabled={busy || !ready} onClick={() => void submit()}>Back into service</button>
     </article>
   );
 }
 
-function FaultCard({ f, fmt, onDone }: { f: FaultView; fmt: (iso: string) => string; onDone: (t: string, tone?: 'ok' | 'stop') => Promise<void> }) {
+function FaultCard({ f, fmt, onDone, lastStop }: { f: FaultView; fmt: (iso: string) => string; onDone: (t: string, tone?: 'ok' | 'stop') => Promise<void>; lastStop: boolean }) {
   const [sev, setSev] = useState<FaultSeverity>(f.severity);
   const [note, setNote] = useState('');
   const [resolution, setResolution] = useState('');
   const [busy, setBusy] = useState(false);
+  const [msg, setMsg] = useState<Msg>(null);
+  const [checks, setChecks] = useState<Record<CheckKey, boolean>>(NO_CHECKS);
   const sv = SEVERITY_TEXT[f.severity];
   async function call(path: string, json: unknown, ok: string) {
     setBusy(true);
     try {
-      await api(path, { method: 'POST', json });
+      const out = await api<{ outcome?: { next: string } }>(path, { method: 'POST', json });
       setNote('');
-      await onDone(ok);
+      await onDone(out?.outcome ? `${ok} ${out.outcome.next}` : ok);
     } catch (e) {
-      await onDone(e instanceof ApiError ? e.message : 'Not saved.', 'stop');
+      setMsg({ tone: 'stop', text: e instanceof ApiError ? e.message : 'Not saved.' });
     } finally {
       setBusy(false);
     }
@@ -191,9 +221,20 @@ function FaultCard({ f, fmt, onDone }: { f: FaultView; fmt: (iso: string) => str
               <textarea className="input" rows={2} value={resolution} onChange={(e) => setResolution(e.target.value)} maxLength={2000} />
             </label>
             <button type="button" className="btn btn-primary" disabled={busy || resolution.trim().length < 3} onClick={() => void call(`/api/faults/${f.id}/resolve`, { resolution }, 'Resolved; the reporter is told.')}>Resolve</button>
+            {lastStop && (
+              <div className="space-y-2 border-t border-[var(--color-line)] pt-2" data-resolve-and-return>
+                <p className="text-sm">This is the last open stop fault on {f.machineName}. Resolve it and put the machine back into service in one step:</p>
+                <Checks checks={checks} setChecks={setChecks} />
+                <button type="button" className="btn btn-quiet" disabled={busy || resolution.trim().length < 3 || !Object.values(checks).every(Boolean)}
+                  onClick={() => void call(`/api/faults/${f.id}/resolve`, { resolution, returnToService: { checklist: checks } }, 'Resolved; the reporter is told.')}>
+                  Resolve and return to service
+                </button>
+              </div>
+            )}
           </div>
         </div>
       )}
+      <PanelMessage msg={msg} />
     </article>
   );
 }

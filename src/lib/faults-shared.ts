@@ -23,6 +23,7 @@ export const faultReportFields = z
     summary: z.string().trim().min(3, 'Say in a few words what happened.').max(200, 'Use at most 200 characters.'),
     details: z.string().trim().max(4000, 'Use at most 4000 characters.').default(''),
     severity: faultSeverity,
+    clientId: z.uuid('The report id is not a UUID.').optional(),
   })
   .strict();
 
@@ -32,16 +33,23 @@ export const triageBody = z
   .object({ severity: faultSeverity.optional(), note: faultNoteText.optional() })
   .strict();
 
-export const resolveBody = z.object({ resolution: z.string().trim().min(3, 'Say what was done.').max(2000, 'Use at most 2000 characters.') }).strict();
+export const returnChecklist = z
+  .object({ causeFixed: z.boolean(), interlocksTested: z.boolean(), coolingAndExtraction: z.boolean(), testFire: z.boolean() })
+  .partial()
+  .strict();
+
+export const resolveBody = z
+  .object({
+    resolution: z.string().trim().min(3, 'Say what was done.').max(2000, 'Use at most 2000 characters.'),
+    /** Resolve and return the machine to service in one step, with the checks confirmed. */
+    returnToService: z.object({ checklist: returnChecklist }).strict().optional(),
+  })
+  .strict();
 
 export const statusBody = z
   .object({
     status: z.enum(MACHINE_STATUSES, { error: 'Choose in service, degraded or out of service.' }),
     reason: z.string().trim().min(3, 'Give the reason (what was checked or done).').max(1000, 'Use at most 1000 characters.'),
-    checklist: z
-      .object({ causeFixed: z.boolean(), interlocksTested: z.boolean(), coolingAndExtraction: z.boolean(), testFire: z.boolean() })
-      .partial()
-      .strict()
-      .optional(),
+    checklist: returnChecklist.optional(),
   })
   .strict();

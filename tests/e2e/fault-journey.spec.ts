@@ -60,12 +60,14 @@ describe('a stop fault from the phone to the steward', () => {
     // stop faults come first in the queue
     expect(await sp.locator('[data-fault]').first().getAttribute('data-severity')).toBe('stop');
     await card.locator('img').first().waitFor();
-    expect(await card.locator('img').first().evaluate((img) => (img as HTMLImageElement).naturalWidth)).toBeGreaterThan(0);
+    // the photo is lazy-loaded: bring it into view and give a busy machine time to load it
+    await card.locator('img').first().scrollIntoViewIfNeeded();
+    await expect.poll(() => card.locator('img').first().evaluate((img) => (img as HTMLImageElement).naturalWidth), { timeout: 20_000 }).toBeGreaterThan(0);
     await sp.waitForLoadState('networkidle');
     await shot(sp, 'faults-queue-desk');
 
     await card.getByLabel('Resolution (what was done)').fill('Coolant hose reseated, tube inspected, no crack.');
-    await card.getByRole('button', { name: 'Resolve' }).click();
+    await card.getByRole('button', { name: 'Resolve', exact: true }).click();
     await sp.getByText('Resolved; the reporter is told.').waitFor();
 
     const panel = sp.locator('[data-machine="laser-c"]');

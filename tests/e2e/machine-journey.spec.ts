@@ -1,7 +1,7 @@
 /**
  * Journey at the machine, on a phone: the member has a booking starting now on Laser A (made through the
  * API, with opening hours around the clock and a 5-minute grid so "now" is bookable), scans the label —
- * opens /m/laser-a signed out, signs in and comes back — checks in with the pre-use checklist (a coolant
+ * opens /m/laser-a signed out (the public part), signs in from it and comes back — checks in with the pre-use checklist (a coolant
  * reading out of range is refused first), checks out with the sheets used, and finds the receipt on Account.
  */
 import type { Browser } from 'playwright-core';
@@ -53,10 +53,12 @@ describe('at the machine', () => {
     const page = await ctx.newPage();
     const errors = watchErrors(page);
 
-    // scanning the label opens the machine page: signed out → sign in → back on the same page
+    // scanning the label opens the machine page: signed out it shows the public part; sign in → back on the same page
     await page.goto('/m/laser-a');
     await hydrated(page);
-    expect(new URL(page.url()).pathname).toBe('/signin');
+    expect(await page.getByRole('heading', { level: 1 }).innerText()).toBe('Laser A');
+    await page.getByRole('link', { name: 'Sign in to check in or report a fault' }).click();
+    await page.waitForURL('**/signin**');
     await signIn(page, 'member');
     expect(new URL(page.url()).pathname).toBe('/m/laser-a');
     expect(await page.getByRole('heading', { level: 1 }).innerText()).toBe('Laser A');

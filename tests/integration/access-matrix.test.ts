@@ -175,7 +175,7 @@ const MATRIX: Record<string, Row> = {
   // at the machine, faults, upkeep, reports
   'GET /admin/labels': page('admin'),
   'GET /faults': page('steward', 'admin'),
-  'GET /m/[code]': page(),
+  'GET /m/[code]': everyone(200), // the QR page is public (status, today's bookings without names, hazards)
   'GET /m/[code]/fault': page(),
   'GET /reports': page('admin', 'instructor'),
   'GET /upkeep': page('steward', 'admin'),

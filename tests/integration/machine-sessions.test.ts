@@ -134,10 +134,19 @@ describe('QR labels', () => {
 });
 
 describe('the machine page', () => {
-  it('signed out → sign in, coming back to the same page; unknown code → 404', async () => {
+  it('signed out: the public part and a sign-in that comes back here; a form post → sign in; unknown code → 404', async () => {
     const res = await new Client().get('/m/laser-a');
-    expect(res.status).toBe(303);
-    expect(res.headers.get('location')).toBe('/signin?callbackUrl=%2Fm%2Flaser-a');
+    expect(res.status).toBe(200);
+    const html = await res.text();
+    expect(html).toContain('data-status=');
+    expect(html).toContain('data-today');
+    expect(html).toContain('data-emergency');
+    expect(html).toContain('href="/signin?callbackUrl=%2Fm%2Flaser-a"');
+    expect(html).not.toContain('href="/m/laser-a/fault"');
+    expect(html).not.toContain('name="booking"');
+    const post = await new Client().fetch('/m/laser-a', { method: 'POST', body: new URLSearchParams({ do: 'check-in', booking: '00000000-0000-4000-8000-000000000000' }) });
+    expect(post.status).toBe(303);
+    expect(post.headers.get('location')).toBe('/signin?callbackUrl=%2Fm%2Flaser-a');
     expect((await member.get('/m/no-such-laser')).status).toBe(404);
   });
 

@@ -239,18 +239,41 @@ export interface FaultInput {
   summary: string;
   details: string;
   severity: FaultSeverity;
+  /** The id the reporter's phone made for this report (a queued report may be sent twice); stored once. */
+  clientId?: string;
 }
 
 export interface ReportResult {
   fault: Fault;
   machineStatus: MachineStatus;
   bumpedBookings: number;
+  /** The machine's status just before this report (a stop fault on a machine already out of service: someone was first). */
+  statusBefore: MachineStatus;
+  /** True when this clientId was filed before: `fault` is that report, nothing new was written or sent. */
+  duplicate: boolean;
 }
 
-/** Files a fault (anyone signed in). Photos are checked, cleaned and stored first; the rest is one transaction. */
+/** The report already filed under a client id, or null. Someone else's client id is refused. */
+async function byClientId(actor: Actor, clientId: string): Promise<ReportResult | null> {
+  const row = await db()('faults').where({ client_id: clientId }).first('id', 'reported_by');
+  if (!row) return null;
+  if (row.reported_by !== actor.id) throw new HttpError(409, 'client_id_taken', 'That report id belongs to another report. Send the report again.');
+  const fault = (await getFault(row.id))!;
+  return { fault, machineStatus: fault.machineStatus, bumpedBookings: 0, statusBefore: fault.machineStatus, duplicate: true };
+}
+
+/**
+ * Files a fault (anyone signed in). Photos are checked, cleaned and stored first; the rest is one transaction.
+ * With a `clientId` already filed by the same person, answers that fault and writes and sends nothing.
+ */
 export async function reportFault(actor: Actor, machineIdOrCode: string, input: FaultInput, photos: readonly PhotoUpload[], now = new Date()): Promise<ReportResult> {
+  if (input.clientId !== undefined && !UUID.test(input.clientId)) throw new HttpError(422, 'invalid', 'The report id is not a UUID.', { clientId: 'A UUID.' });
   const found = await findMachine(machineIdOrCode);
   if (!found) throw new HttpError(404, 'machine_not_found', 'No machine has that id or code.');
+  if (input.clientId) {
+    const earlier = await byClientId(actor, input.clientId);
+    if (earlier) return earlier;
+  }
   const cleaned = await preparePhotos(photos);
   const faultId = randomUUID();
   const stored: FaultPhoto[] = [];
@@ -259,12 +282,31 @@ export async function reportFault(actor: Actor, machineIdOrCode: string, input: 
     await putObject(key, p.bytes, 'image/jpeg');
     stored.push({ key, bytes: p.bytes.byteLength, width: p.width, height: p.height });
   }
-  const { bumped, status } = await transaction(async (trx) => {
-    const machine = await lockMachine(trx, found.id);
+  let written: { bumped: string[]; status: MachineStatus; before: MachineStatus };
+  try {
+    written = await fileFault(actor, found.id, faultId, input, stored, now);
+  } catch (err) {
+    // the same clientId sent twice at once: the unique index lets one through; the other answers that one
+    const pgErr = err as { code?: string; constraint?: string };
+    if (input.clientId && pgErr.code === '23505' && pgErr.constraint === 'faults_client_id_unique') {
+      // (its photos stay stored under the losing id, unreferenced: storage has no delete yet)
+      const earlier = await byClientId(actor, input.clientId);
+      if (earlier) return earlier;
+    }
+    throw err;
+  }
+  await releaseHoldsAfterCancel(written.bumped, `${found.name} is out of service`, actor.id);
+  return { fault: (await getFault(faultId))!, machineStatus: written.status, bumpedBookings: written.bumped.length, statusBefore: written.before, duplicate: false };
+}
+
+async function fileFault(actor: Actor, machineId: string, faultId: string, input: FaultInput, stored: FaultPhoto[], now: Date) {
+  return transaction(async (trx) => {
+    const machine = await lockMachine(trx, machineId);
+    const before = machine.status;
     const reporter = await trx('people').where({ id: actor.id }).first('name', 'email');
     await trx('faults').insert({
       id: faultId, machine_id: machine.id, reported_by: actor.id, severity: input.severity, summary: input.summary, details: input.details,
-      photos: JSON.stringify(stored), created_at: now,
+      photos: JSON.stringify(stored), created_at: now, client_id: input.clientId ?? null,
     });
     await recordAudit(trx, {
       actorId: actor.id,
@@ -279,10 +321,8 @@ export async function reportFault(actor: Actor, machineIdOrCode: string, input: 
     if (input.severity !== 'note') {
       await mailStewards(trx, machine, { id: faultId, severity: input.severity, summary: input.summary, details: input.details, reporter: reporter?.name ?? 'someone' }, effects.bumped.length);
     }
-    return { bumped: effects.bumped, status: machine.status };
+    return { bumped: effects.bumped, status: machine.status, before };
   });
-  await releaseHoldsAfterCancel(bumped, `${found.name} is out of service`, actor.id);
-  return { fault: (await getFault(faultId))!, machineStatus: status, bumpedBookings: bumped.length };
 }
 
 async function mailStewards(
@@ -439,13 +479,34 @@ export async function addFaultNote(actor: Actor, id: string, body: string, now =
   return (await getFault(id))!;
 }
 
-/** Resolves a fault with what was done (steward, admin); the reporter is told. The machine's status is changed separately. */
-export async function resolveFault(actor: Actor, id: string, resolution: string, now = new Date()): Promise<Fault> {
-  await transaction(async (trx) => {
+/** What resolving a fault did to its machine, and what is left to do before it is back in normal service. */
+export interface ResolveOutcome {
+  machineName: string;
+  machineStatus: MachineStatus;
+  statusChanged: boolean;
+  openStopFaults: number;
+  openFaults: number;
+  /** One plain sentence: what changed and the next step. */
+  next: string;
+}
+
+export interface ResolveOptions {
+  /** Resolve and return to service in one step (the machine is out of service and this is its last open stop fault). */
+  returnToService?: { checklist: Partial<ReturnChecklist> };
+}
+
+/**
+ * Resolves a fault with what was done (steward, admin); the reporter is told. With `returnToService`, the machine
+ * goes back into service in the same transaction (checks confirmed; refused while another stop fault is open).
+ * The outcome says whether the machine's status changed and what is left.
+ */
+export async function resolveFault(actor: Actor, id: string, resolution: string, now = new Date(), opts: ResolveOptions = {}): Promise<Fault & { outcome: ResolveOutcome }> {
+  const { outcome, bumped } = await transaction(async (trx) => {
     const f = await trx('faults as f').join('people as p', 'p.id', 'f.reported_by').join('machines as m', 'm.id', 'f.machine_id').where('f.id', id).forUpdate('f')
       .first('f.*', 'p.email', 'p.name as reporter_name', 'm.name as machine_name');
     if (!f) throw new HttpError(404, 'not_found', 'No such fault.');
     if (f.status === 'resolved') throw new HttpError(409, 'fault_resolved', 'This fault is already resolved.');
+    const machine = await lockMachine(trx, f.machine_id);
     await trx('faults').where({ id }).update({ status: 'resolved', resolution, resolved_by: actor.id, resolved_at: now, triaged_at: f.triaged_at ?? now });
     await recordAudit(trx, {
       actorId: actor.id,
@@ -461,8 +522,34 @@ export async function resolveFault(actor: Actor, id: string, resolution: string,
       paragraphs: [`Thank you for reporting “${f.summary}”. A steward resolved it: ${resolution}`],
       action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
     });
+    let bumped: string[] = [];
+    let changed = false;
+    if (opts.returnToService) {
+      if (machine.status !== 'out of service') throw new HttpError(409, 'status_unchanged', `${machine.name} is not out of service; resolve the fault on its own.`);
+      const r = await returnToService(trx, actor, machine, { reason: `Fault resolved: ${resolution}`, checklist: opts.returnToService.checklist }, now);
+      bumped = r.bumped;
+      changed = true;
+    }
+    return { outcome: await outcomeOf(trx, machine, changed), bumped };
   });
-  return (await getFault(id))!;
+  await releaseHoldsAfterCancel(bumped, 'machine out of service', actor.id);
+  return { ...(await getFault(id))!, outcome };
+}
+
+async function openFaultCounts(trx: Conn, machineId: string): Promise<{ stop: { id: string; summary: string }[]; all: number }> {
+  const rows = (await trx('faults').where({ machine_id: machineId }).whereNot('status', 'resolved').orderBy('created_at').select('id', 'severity', 'summary')) as { id: string; severity: FaultSeverity; summary: string }[];
+  return { stop: rows.filter((r) => r.severity === 'stop'), all: rows.length };
+}
+
+async function outcomeOf(trx: Conn, machine: MachineRow, statusChanged: boolean): Promise<ResolveOutcome> {
+  const open = await openFaultCounts(trx, machine.id);
+  const n = (k: number, what: string) => `${k} open ${what}${k === 1 ? '' : 's'}`;
+  let next: string;
+  if (statusChanged) next = `${machine.name} is ${machine.status === 'degraded' ? 'back in use, marked degraded' : 'back in service'}.${open.all ? ` ${n(open.all, 'fault')} left on it.` : ''}`;
+  else if (machine.status === 'out of service' && open.stop.length) next = `${machine.name} stays out of service: ${n(open.stop.length, 'stop fault')} left to resolve.`;
+  else if (machine.status === 'out of service') next = `${machine.name} is still out of service: no stop fault is left, so put it back into service with the checks when it is safe.`;
+  else next = `${machine.name} stays ${machine.status}.${open.all ? ` ${n(open.all, 'fault')} left on it.` : ' No open faults are left on it.'}`;
+  return { machineName: machine.name, machineStatus: machine.status, statusChanged, openStopFaults: open.stop.length, openFaults: open.all, next };
 }
 
 /** The checks a steward confirms before a machine goes back into service. */
@@ -481,8 +568,9 @@ export interface StatusInput {
 }
 
 /**
- * Sets a machine's status (steward, admin) with a reason, audited. Back into service from out of service needs
- * every item of RETURN_CHECKLIST; the people who reported its unresolved `stop` faults are told.
+ * Sets a machine's status (steward, admin) with a reason, audited. Back into service from out of service is refused
+ * while a `stop` fault on it is open and needs every item of RETURN_CHECKLIST; the people who reported its recent
+ * `stop` faults are told.
  */
 export async function setMachineStatus(actor: Actor, machineIdOrCode: string, input: StatusInput, now = new Date()): Promise<{ machineId: string; status: MachineStatus; bumpedBookings: number }> {
   const found = await findMachine(machineIdOrCode);
@@ -491,31 +579,62 @@ export async function setMachineStatus(actor: Actor, machineIdOrCode: string, in
     const machine = await lockMachine(trx, found.id);
     if (machine.status === input.status) throw new HttpError(409, 'status_unchanged', `${machine.name} is already ${input.status}.`);
     if (input.status !== 'out of service' && machine.status === 'out of service') {
-      const missing = (Object.keys(RETURN_CHECKLIST) as (keyof ReturnChecklist)[]).filter((k) => input.checklist?.[k] !== true);
-      if (missing.length) {
-        throw new HttpError(422, 'checklist_incomplete', 'Confirm every check before the machine goes back into service.',
-          Object.fromEntries(missing.map((k) => [`checklist.${k}`, `Confirm: ${RETURN_CHECKLIST[k]}.`])));
-      }
+      const r = await returnToService(trx, actor, machine, { reason: input.reason, checklist: input.checklist ?? {}, to: input.status }, now);
+      return { machineId: machine.id, status: machine.status, bumped: r.bumped };
     }
-    const reason = input.checklist && input.status !== 'out of service' ? `${input.reason} (checks confirmed: ${Object.keys(RETURN_CHECKLIST).join(', ')})` : input.reason;
-    const effects = await changeStatus(trx, machine, input.status, { actorId: actor.id, faultId: null, reason, now });
-    if (input.status === 'in service' || input.status === 'degraded') {
-      const reporters = await trx('faults as f').join('people as p', 'p.id', 'f.reported_by')
-        .where({ 'f.machine_id': machine.id, 'f.severity': 'stop' })
-        .where((w) => w.whereNot('f.status', 'resolved').orWhere('f.resolved_at', '>=', trx.raw("now() - interval '7 days'")))
-        .distinct('p.email', 'p.name');
-      for (const r of reporters as { email: string; name: string }[]) {
-        await queueMail(trx, r.email, `${machine.name} is back in service`, {
-          greeting: `Kia ora ${r.name},`,
-          paragraphs: [`${machine.name}, which you reported out of service, is back ${input.status === 'degraded' ? 'in use, marked degraded' : 'in service'}. Steward’s note: ${input.reason}`],
-          action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
-        });
-      }
-    }
+    const effects = await changeStatus(trx, machine, input.status, { actorId: actor.id, faultId: null, reason: input.reason, now });
+    if (input.status === 'in service' || input.status === 'degraded') await tellStopReporters(trx, machine, input.status, input.reason);
     return { machineId: machine.id, status: machine.status, bumped: effects.bumped };
   });
   await releaseHoldsAfterCancel(result.bumped, `${found.name} is out of service`, actor.id);
   return { machineId: result.machineId, status: result.status, bumpedBookings: result.bumped.length };
+}
+
+/**
+ * Out of service → back in use, inside `trx` with the machine locked: refused (409 open_stop_fault, naming it)
+ * while a `stop` fault on the machine is unresolved, and (422 checklist_incomplete) until every check is confirmed.
+ * Without an explicit `to`, the machine comes back `degraded` when a degraded fault is still open, else `in service`.
+ */
+async function returnToService(
+  trx: Knex.Transaction,
+  actor: Actor,
+  machine: MachineRow,
+  input: { reason: string; checklist: Partial<ReturnChecklist>; to?: MachineStatus },
+  now: Date,
+): Promise<{ bumped: string[] }> {
+  const open = await openFaultCounts(trx, machine.id);
+  if (open.stop.length) {
+    const names = open.stop.map((f) => `“${f.summary}”`).join(', ');
+    throw new HttpError(409, 'open_stop_fault',
+      `${machine.name} has ${open.stop.length === 1 ? 'an open stop fault' : `${open.stop.length} open stop faults`}: ${names}. Resolve ${open.stop.length === 1 ? 'it' : 'them'} first, or use “Resolve and return to service” on the last one.`,
+      { faults: open.stop.map((f) => f.id).join(',') });
+  }
+  const missing = (Object.keys(RETURN_CHECKLIST) as (keyof ReturnChecklist)[]).filter((k) => input.checklist[k] !== true);
+  if (missing.length) {
+    throw new HttpError(422, 'checklist_incomplete', 'Confirm every check before the machine goes back into service.',
+      Object.fromEntries(missing.map((k) => [`checklist.${k}`, `Confirm: ${RETURN_CHECKLIST[k]}.`])));
+  }
+  const degradedLeft = await trx('faults').where({ machine_id: machine.id, severity: 'degraded' }).whereNot('status', 'resolved').first('id');
+  const to: MachineStatus = input.to ?? (degradedLeft ? 'degraded' : 'in service');
+  const reason = `${input.reason} (checks confirmed: ${Object.keys(RETURN_CHECKLIST).join(', ')})`;
+  const effects = await changeStatus(trx, machine, to, { actorId: actor.id, faultId: null, reason, now });
+  await tellStopReporters(trx, machine, to, input.reason);
+  return { bumped: effects.bumped };
+}
+
+/** The people who reported the machine's recent `stop` faults are told it is back. */
+async function tellStopReporters(trx: Knex.Transaction, machine: MachineRow, to: MachineStatus, note: string): Promise<void> {
+  const reporters = await trx('faults as f').join('people as p', 'p.id', 'f.reported_by')
+    .where({ 'f.machine_id': machine.id, 'f.severity': 'stop' })
+    .where((w) => w.whereNot('f.status', 'resolved').orWhere('f.resolved_at', '>=', trx.raw("now() - interval '7 days'")))
+    .distinct('p.email', 'p.name');
+  for (const r of reporters as { email: string; name: string }[]) {
+    await queueMail(trx, r.email, `${machine.name} is back in service`, {
+      greeting: `Kia ora ${r.name},`,
+      paragraphs: [`${machine.name}, which you reported out of service, is back ${to === 'degraded' ? 'in use, marked degraded' : 'in service'}. Steward’s note: ${note}`],
+      action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
+    });
+  }
 }
 
 /** A machine's status history, newest first (time out of service in reports). */

@@ -353,3 +353,19 @@ export async function machineNowAndNext(machineId: string, now = new Date()): Pr
   const next = current ? (slots[1] ?? null) : (slots[0] ?? null);
   return { current, next };
 }
+
+/**
+ * The day's bookings on one machine for the public QR page: times, kind and state only — never who booked
+ * (holds and cancelled or bumped bookings left out).
+ */
+export async function machineDayPublic(machineId: string, from: Date, to: Date): Promise<{ startsAt: Date; endsAt: Date; kind: string; state: string }[]> {
+  const rows = (await db()('bookings')
+    .where({ machine_id: machineId })
+    .whereIn('state', ['reserved', 'checked in', 'completed', 'no-show'])
+    .whereNot('kind', 'hold')
+    .where('starts_at', '<', to)
+    .where('ends_at', '>', from)
+    .orderBy('starts_at')
+    .select('starts_at', 'ends_at', 'kind', 'state')) as { starts_at: Date; ends_at: Date; kind: string; state: string }[];
+  return rows.map((r) => ({ startsAt: r.starts_at, endsAt: r.ends_at, kind: r.kind, state: r.state }));
+}

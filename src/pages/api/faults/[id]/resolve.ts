@@ -4,11 +4,17 @@ import { faultJson } from '../../../../lib/server/fault-json';
 import { resolveBody } from '../../../../lib/faults-shared';
 import { uuid } from '../../../../lib/schemas';
 
-/** POST /api/faults/:id/resolve { resolution } (steward, admin) → the fault, resolved; the reporter is e-mailed. */
+/**
+ * POST /api/faults/:id/resolve { resolution, returnToService?: { checklist } } (steward, admin) → the fault, resolved,
+ * with `outcome` { machineStatus, statusChanged, openStopFaults, openFaults, next }; the reporter is e-mailed.
+ * With returnToService the machine goes back into service in the same step (409 open_stop_fault while another stop
+ * fault is open, 422 checklist_incomplete).
+ */
 export const POST = route(async ({ locals, params, request }) => {
   const person = requireRole(locals, 'steward', 'admin');
   const id = uuid.safeParse(params.id);
   if (!id.success) throw new HttpError(404, 'not_found', 'No such fault.');
   const input = await readJson(request, resolveBody);
-  return json(faultJson(await resolveFault(person, id.data, input.resolution)));
+  const f = await resolveFault(person, id.data, input.resolution, new Date(), input.returnToService ? { returnToService: input.returnToService } : {});
+  return json({ ...faultJson(f), outcome: f.outcome });
 });

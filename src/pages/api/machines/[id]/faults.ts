@@ -4,8 +4,9 @@ import { faultReportFields } from '../../../../lib/faults-shared';
 import { faultJson } from '../../../../lib/server/fault-json';
 
 /**
- * POST /api/machines/:idOrCode/faults (signed in; multipart/form-data: summary, details?, severity, photos[] up to 3)
- * → 201 { fault, machineStatus, bumpedBookings }. 413 for a photo over 8 MB, 415 for anything that is not an image by
+ * POST /api/machines/:idOrCode/faults (signed in; multipart/form-data: summary, details?, severity, clientId?, photos[] up to 3)
+ * → 201 { fault, machineStatus, bumpedBookings, statusBefore, duplicate: false }. The same clientId (a UUID the phone
+ * made) sent again by the same person → 200 with the fault already filed (duplicate: true): no second row, no e-mail. 413 for a photo over 8 MB, 415 for anything that is not an image by
  * its content, 422 too_many_photos for more than 3.
  */
 export const POST = route(async ({ locals, params, request }) => {
@@ -25,6 +26,7 @@ export const POST = route(async ({ locals, params, request }) => {
     summary: form.get('summary') ?? undefined,
     details: form.get('details') ?? undefined,
     severity: form.get('severity') ?? undefined,
+    clientId: form.get('clientId') || undefined,
   });
   const files = [...form.getAll('photos'), ...form.getAll('photos[]')].filter((f): f is File => f instanceof File && f.size > 0);
   if (files.length > MAX_PHOTOS) throw new HttpError(422, 'too_many_photos', `Attach at most ${MAX_PHOTOS} photos.`, { photos: `At most ${MAX_PHOTOS} photos.` });
@@ -34,5 +36,5 @@ export const POST = route(async ({ locals, params, request }) => {
     photos.push({ bytes: new Uint8Array(await f.arrayBuffer()) });
   }
   const r = await reportFault(person, params.id ?? '', input, photos);
-  return json({ fault: faultJson(r.fault), machineStatus: r.machineStatus, bumpedBookings: r.bumpedBookings }, 201);
+  return json({ fault: faultJson(r.fault), machineStatus: r.machineStatus, bumpedBookings: r.bumpedBookings, statusBefore: r.statusBefore, duplicate: r.duplicate }, r.duplicate ? 200 : 201);
 });

@@ -4,7 +4,8 @@ import { statusBody } from '../../../../lib/faults-shared';
 
 /**
  * POST /api/machines/:idOrCode/status { status, reason, checklist? } (steward, admin) → 200 { machineId, status, bumpedBookings }.
- * Back into service from out of service needs every check confirmed (422 checklist_incomplete); 409 status_unchanged.
+ * Back into service from out of service: 409 open_stop_fault (naming it) while a stop fault on the machine is open;
+ * then every check confirmed (422 checklist_incomplete); 409 status_unchanged.
  */
 export const POST = route(async ({ locals, params, request }) => {
   const person = requireRole(locals, 'steward', 'admin');
