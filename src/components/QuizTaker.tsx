@@ -2,7 +2,7 @@
 import { useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import type { DeliveredQuestion } from '../lib/quiz-rules';
-import type { QuizIntro } from '../lib/server/quizzes';
+import type { QuizIntro } from '../lib/quiz-rules';
 
 interface Attempt {
   attemptId: string;

@@ -211,3 +211,22 @@ export function attemptsLeft(past: readonly PastAttempt[], now: Date, attemptsPe
   const dayAgo = now.getTime() - 86_400_000;
   return Math.max(0, attemptsPerDay - past.filter((a) => a.startedAt.getTime() > dayAgo).length);
 }
+
+/** What the quiz intro shows a person before they start (the server fills it; the quiz island shows it). */
+export interface QuizIntro {
+  quizId: string;
+  title: string;
+  groupName: string;
+  questionCount: number;
+  passMarkPct: number;
+  attemptsPerDay: number;
+  attemptsLeft: number;
+  cooldownMinutes: number;
+  timeLimitMinutes: number;
+  /** An attempt still open: it is resumed, not counted again. */
+  openAttempt: { attemptId: string; submitBy: string; answered: number } | null;
+  /** When the quiz cannot be started now: from when it can, and why. */
+  nextAllowed: { at: string; reason: 'daily_limit' | 'cooldown' } | null;
+  /** When the quiz is not for this person now (already passed, cleared, suspended). */
+  notNeeded: string | null;
+}

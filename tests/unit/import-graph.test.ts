@@ -20,7 +20,7 @@ const SRC = path.join(ROOT, 'src');
 const LAYERS: Array<[string, string[]]> = [
   ['infrastructure', ['db', 'env', 'errors', 'audit', 'jobs', 'mail', 'storage', 'passwords', 'file-types', 'images', 'client-address', 'security-headers']],
   ['entities', ['settings', 'people', 'machines', 'prices', 'materials', 'clearances', 'booking-rules', 'quizzes', 'hazard', 'labels']],
-  ['workflows', ['bookings', 'payments', 'sessions', 'faults', 'material-requests', 'upkeep', 'reports']],
+  ['workflows', ['bookings', 'payments', 'sessions', 'faults', 'material-requests', 'upkeep', 'reports', 'induction-sessions']],
   ['cascades', ['cascades/*']],
   ['web', ['http', 'session', 'guards', 'sign-in', 'sign-up', 'auth-forms', 'billing-pages', 'report-routes', 'charge-json', 'fault-json', 'worker']],
 ];

@@ -8,7 +8,7 @@
  */
 import type { Knex } from 'knex';
 import { db, transaction } from './db';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { recordAudit } from './audit';
 import { queueMail } from './mail';
 import { env } from './env';

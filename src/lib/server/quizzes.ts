@@ -3,6 +3,7 @@
  * publishing freezes it (a database trigger refuses later edits); every attempt records its version.
  * Answers are scored here only — the answer key never leaves the server.
  */
+import type { QuizIntro } from '../quiz-rules';
 import { db, transaction } from './db';
 import { HttpError } from './errors';
 import { recordAudit } from './audit';
@@ -314,25 +315,10 @@ export async function saveAnswers(personId: string, quizId: string, attemptId: s
   });
 }
 
-export interface QuizIntro {
-  quizId: string;
-  title: string;
-  groupName: string;
-  questionCount: number;
-  passMarkPct: number;
-  attemptsPerDay: number;
-  attemptsLeft: number;
-  cooldownMinutes: number;
-  timeLimitMinutes: number;
-  /** An attempt still open: it is resumed, not counted again. */
-  openAttempt: { attemptId: string; submitBy: string; answered: number } | null;
-  /** When the quiz cannot be started now: from when it can, and why. */
-  nextAllowed: { at: string; reason: 'daily_limit' | 'cooldown' } | null;
-  /** When the quiz is not for this person now (already passed, cleared, suspended). */
-  notNeeded: string | null;
-}
 
 /** What the quiz's intro shows before a start: the facts of the published version and this person's attempts. */
+export type { QuizIntro };
+
 export async function quizIntro(personId: string, quizId: string, now = new Date()): Promise<QuizIntro | null> {
   const q = db();
   const quiz = await q('quizzes as z').join('machine_groups as g', 'g.id', 'z.group_id').where('z.id', quizId).first('z.id', 'z.group_id', 'g.name as group_name');
