@@ -668,14 +668,14 @@ const toMin = (c: string) => Number(c.slice(0, 2)) * 60 + Number(c.slice(3));
 const clock = (m: number) => `${pad(Math.floor(m / 60))}:${pad(m % 60)}`;
 
 /** From and Until choices: only open hours of the machine on that day, on its slot grid (every quarter hour while loading). */
-export function clockChoices(windows: [number, number][] | null, step: number, start: string): { from: string[]; until: string[] } {
+export function clockChoices(windows: [number, number][] | null, step: number, start: string, notBefore = 0): { from: string[]; until: string[] } {
   if (!windows) {
     const all: string[] = [];
     for (let m = 0; m <= 1440; m += 15) all.push(clock(m));
     return { from: all.slice(0, -1), until: all.slice(1) };
   }
   const from: string[] = [];
-  for (const [s, e] of windows) for (let m = Math.ceil(s / step) * step; m + step <= e; m += step) from.push(clock(m));
+  for (const [s, e] of windows) for (let m = Math.ceil(Math.max(s, notBefore) / step) * step; m + step <= e; m += step) from.push(clock(m));
   const st = toMin(start);
   const win = windows.find(([s, e]) => st >= s && st < e);
   const until: string[] = [];
@@ -715,7 +715,10 @@ function BookingForm(p: {
   const fm = p.feedMachine;
   const windows = useMemo(() => (fm ? openWindows(fm.open, date, p.tz) : null), [fm, date, p.tz]);
   const step = fm?.slotMinutes ?? 15;
-  const choices = clockChoices(windows, step, start);
+  // today: only times still ahead
+  const now = wallClock(new Date(), p.tz);
+  const notBefore = date === `${now.year}-${pad(now.month)}-${pad(now.day)}` ? now.hour * 60 + now.minute : 0;
+  const choices = clockChoices(windows, step, start, notBefore);
 
   useEffect(() => {
     if (!p.draft) return;
@@ -738,7 +741,7 @@ function BookingForm(p: {
     }
   }, [windows, start, end, choices.until]);
 
-  const closedAllDay = windows !== null && windows.length === 0;
+  const closedAllDay = windows !== null && choices.from.length === 0;
   const machineName = p.machines.find((m) => m.id === machineId)?.name ?? 'this machine';
 
   function submit(e: React.FormEvent) {
@@ -746,7 +749,7 @@ function BookingForm(p: {
     setError(null);
     const d = parseKey(date);
     if (!d) return setError('Choose a date.');
-    if (closedAllDay) return setError(`${machineName} is closed all day on that date. Choose another day.`);
+    if (closedAllDay) return setError(`${machineName} has no open time left on that date. Choose another day.`);
     const startsAt = localToInstant(d.year, d.month, d.day, toMin(start), p.tz);
     const endsAt = localToInstant(d.year, d.month, d.day, toMin(end), p.tz);
     if (endsAt <= startsAt) return setError('The end must be after the start.');
@@ -796,7 +799,7 @@ function BookingForm(p: {
         {windows && (
           <p>
             {closedAllDay
-              ? `${machineName} is closed all day on ${formatShortDay(localToInstant(...ymd(date), 12 * 60, p.tz), { timeZone: p.tz })}.`
+              ? `${machineName} has no open time left on ${formatShortDay(localToInstant(...ymd(date), 12 * 60, p.tz), { timeZone: p.tz })}. Choose another day.`
               : `Open on ${formatShortDay(localToInstant(...ymd(date), 12 * 60, p.tz), { timeZone: p.tz })}: ${windows.map(([s, e]) => `${clock(s)}–${clock(e)}`).join(', ')}.`}
           </p>
         )}
