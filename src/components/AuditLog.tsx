@@ -1,5 +1,5 @@
 /** Admin › Audit: the append-only record of changes, filtered by person, kind, text and dates; exported as CSV. */
-import { auditDetailLines, auditKindWords } from '../lib/audit-words';
+import { auditDetailLines, auditKindWords, withSiteDates } from '../lib/audit-words';
 import { formatDateTime } from '../lib/site-format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
@@ -186,7 +186,7 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
                 <td className="hidden text-sm md:table-cell">{r.actorName ?? <span className="text-charcoal-soft">System</span>}</td>
                 <td className="hidden text-sm md:table-cell">{auditKindWords(r.kind)}</td>
                 <td className="text-sm">
-                  <span className="break-words">{r.summary}</span>
+                  <span className="break-words">{withSiteDates(r.summary, when.format)}</span>
                   {(r.before !== null || r.after !== null) && (
                     <>
                       {' '}
@@ -205,7 +205,7 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
                                   {auditDetailLines(r[side]).map((l, i) => (
                                     <div key={i} className="flex flex-wrap gap-x-1">
                                       <dt>{l.label}:</dt>
-                                      <dd className="break-all font-medium">{l.value}</dd>
+                                      <dd className="break-all font-medium">{withSiteDates(l.value, when.format)}</dd>
                                     </div>
                                   ))}
                                 </dl>

@@ -76,8 +76,9 @@ function Section(props: { id: string; title: string; intro: string; csvHref: str
   );
 }
 
-function Scroll({ children }: { children: ReactNode }) {
-  return <div className="overflow-x-auto">{children}</div>;
+/** A table that may scroll sideways on a phone: focusable, so a keyboard can scroll it too. */
+function Scroll({ children, label = 'Table (scrolls sideways)' }: { children: ReactNode; label?: string }) {
+  return <div className="overflow-x-auto" tabIndex={0} role="region" aria-label={label}>{children}</div>;
 }
 
 function Empty({ what }: { what: string }) {

@@ -116,3 +116,13 @@ function plain(v: unknown): string {
   if (typeof v === 'object') return JSON.stringify(v);
   return String(v);
 }
+
+const ISO_INSTANT = /\b\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:\d{2})\b/g;
+
+/** Instants written into summaries and values as ISO text ("2027-03-02T11:00:00.000Z"), shown in the site's date style. */
+export function withSiteDates(text: string, format: (d: Date) => string): string {
+  return text.replace(ISO_INSTANT, (iso) => {
+    const d = new Date(iso);
+    return Number.isNaN(d.getTime()) ? iso : format(d);
+  });
+}

@@ -58,6 +58,12 @@ async function seenAndFocused(page: Page, el: Locator): Promise<void> {
   expect(box.y + Math.min(box.height, vp.height), 'bottom inside the viewport').toBeLessThanOrEqual(vp.height + 1);
 }
 
+/** What the person sees right now (the viewport), beside the full-page shot. */
+async function view(page: Page, name: string): Promise<void> {
+  await shot(page, name);
+  await page.screenshot({ path: `screenshots/${name}-view.png` });
+}
+
 async function openBook(page: Page) {
   await page.goto(`/book?machine=${laserB.id}`);
   await hydrated(page);
@@ -109,7 +115,7 @@ describe('the Book screen as a first-week member meets it', () => {
     await seenAndFocused(page, answer);
     expect(await answer.innerText()).toMatch(/^Not booked: Someone else has that time/);
     expect(await answer.locator('xpath=..').getAttribute('role')).toBe('alert');
-    await shot(page, 'book-refused-desk');
+    await view(page, 'book-refused-desk');
 
     // accepted: in view, focused; with no saved card the words are plain and the style neutral
     await form.getByLabel('From').selectOption('10:00');
@@ -120,7 +126,7 @@ describe('the Book screen as a first-week member meets it', () => {
     expect(await answer.innerText()).toMatch(/charged at check-out/);
     expect(await answer.getAttribute('class')).toContain('notice-info');
     expect(await answer.locator('xpath=..').getAttribute('role')).toBe('status');
-    await shot(page, 'book-accepted-desk');
+    await view(page, 'book-accepted-desk');
     await expect.poll(() => form.locator('[data-week-use]').innerText()).toMatch(/1 h booked, 3 h left/);
 
     const row = await testDb()('bookings as b').join('people as p', 'p.id', 'b.person_id').where({ 'p.email': who.email, 'b.state': 'reserved' }).first('b.id');
@@ -129,8 +135,8 @@ describe('the Book screen as a first-week member meets it', () => {
     // the booking opens in a dialog where the person is looking; Cancel asks first and says what it costs
     const mine = page.locator('.fc-event.bw-mine').filter({ hasText: 'Your booking' }).first();
     await mine.click();
-    const dialog = page.getByRole('dialog', { name: /Your booking · Laser B/ });
-    await dialog.waitFor();
+    await page.getByRole('dialog', { name: /Your booking · Laser B/ }).waitFor();
+    const dialog = page.getByRole('dialog'); // its name changes to the question below
     const box = (await dialog.boundingBox())!;
     expect(box.y).toBeGreaterThanOrEqual(0);
     expect(box.y + box.height).toBeLessThanOrEqual(DESK.height);
@@ -143,7 +149,7 @@ describe('the Book screen as a first-week member meets it', () => {
     expect((await testDb()('bookings').where({ id: row.id }).first('state')).state).toBe('reserved');
     expect(await page.evaluate(() => document.activeElement?.textContent)).toBe('Keep booking');
     const problems = await axe(page);
-    await shot(page, 'book-cancel-confirm-desk');
+    await view(page, 'book-cancel-confirm-desk');
     await dialog.getByRole('button', { name: 'Yes, cancel it' }).click();
     const done = dialog.locator('[data-answer="booking"]');
     await seenAndFocused(page, done);
@@ -183,13 +189,13 @@ describe('the Book screen as a first-week member meets it', () => {
     const answer = page.locator('[data-answer="form"]');
     await seenAndFocused(page, answer);
     expect(await answer.innerText()).toMatch(/^Not booked:/);
-    await shot(page, 'book-refused-phone');
+    await view(page, 'book-refused-phone');
 
     await form.getByLabel('Until').selectOption('10:00');
     await page.getByRole('button', { name: 'Book', exact: true }).click();
     await page.locator('[data-answer="form"]', { hasText: 'Booked: Laser B' }).waitFor();
     await seenAndFocused(page, answer);
-    await shot(page, 'book-accepted-phone');
+    await view(page, 'book-accepted-phone');
 
     await page.locator('.fc-event.bw-mine').filter({ hasText: 'Your booking' }).first().click();
     const dialog = page.getByRole('dialog');
@@ -200,7 +206,7 @@ describe('the Book screen as a first-week member meets it', () => {
     await dialog.getByRole('button', { name: 'Cancel booking…' }).click();
     await dialog.locator('[data-cancel-terms]').waitFor();
     problems.push(...(await axe(page)));
-    await shot(page, 'book-cancel-confirm-phone');
+    await view(page, 'book-cancel-confirm-phone');
     await dialog.getByRole('button', { name: 'Yes, cancel it' }).click();
     await seenAndFocused(page, dialog.locator('[data-answer="booking"]'));
     expect(problems, problems.join('\n')).toEqual([]);

@@ -1,7 +1,7 @@
 /** Plain words and one date style on the screens: the site's date format, audit words, the label address check. */
 import { describe, expect, it } from 'vitest';
 import { formatDate, formatDateTime, formatIsoDay, formatMinutes } from '../../src/lib/site-format';
-import { AUDIT_KIND_WORDS, auditDetailLines, auditFieldWords, auditKindWords } from '../../src/lib/audit-words';
+import { AUDIT_KIND_WORDS, auditDetailLines, auditFieldWords, auditKindWords, withSiteDates } from '../../src/lib/audit-words';
 import { isPublicAddress } from '../../src/lib/labels';
 
 describe('one date style per site', () => {
@@ -37,6 +37,14 @@ describe('the audit screen in plain words', () => {
       { label: 'The cause of the fault is fixed or made safe', value: 'yes' },
       { label: 'A low-power test job ran attended, without trouble', value: 'no' },
     ]);
+  });
+});
+
+describe('dates inside audit summaries', () => {
+  it('shows ISO instants in the site date style and leaves other text alone', () => {
+    const f = (d: Date) => formatDateTime(d, { timeZone: 'Pacific/Auckland' });
+    expect(withSiteDates('New price version from 2027-03-02T11:00:00.000Z (NZD)', f)).toBe('New price version from 3 Mar 2027, 00:00 (NZD)');
+    expect(withSiteDates('Booked Laser A', f)).toBe('Booked Laser A');
   });
 });
 
