@@ -211,7 +211,7 @@ export default function ReportsPanel(props: Props) {
                 </figure>
               )}
               {util.data.rows.length === 0 ? <Empty what="machines" /> : (
-                <Scroll>
+                <Scroll label="Utilisation table (scrolls sideways)">
                   <table className="table whitespace-nowrap">
                     <thead><tr><th>Machine</th><th>Week from</th><th className="text-right">Open</th><th className="text-right">Booked</th><th className="text-right">Beam time</th></tr></thead>
                     <tbody>
@@ -260,7 +260,7 @@ export default function ReportsPanel(props: Props) {
                 </figure>
               )}
               {revenue.data.rows.length === 0 ? <Empty what="charges" /> : (
-                <Scroll>
+                <Scroll label="Revenue table (scrolls sideways)">
                   <table className="table whitespace-nowrap">
                     <thead><tr><th>Month</th><th>Machine</th><th>Tier</th><th>Method</th><th className="text-right">Charges</th><th className="text-right">Net</th><th className="text-right">Tax</th></tr></thead>
                     <tbody>
@@ -285,7 +285,7 @@ export default function ReportsPanel(props: Props) {
         <Section id="r-clear" title="Clearance funnel" csvHref={csv('clearances')} loading={clear.loading} problem={clear.problem}
           intro="People per machine group who, in this period, started a quiz, passed it, were signed off at the machine, and whose clearance lapsed without renewal.">
           {clear.data && (clear.data.rows.length === 0 ? <Empty what="machine groups" /> : (
-            <Scroll>
+            <Scroll label="Clearance funnel table (scrolls sideways)">
               <table className="table whitespace-nowrap">
                 <thead><tr><th>Group</th><th className="text-right">Quiz started</th><th className="text-right">Passed</th><th className="text-right">Signed off</th><th className="text-right">Lapsed</th></tr></thead>
                 <tbody>
@@ -312,7 +312,7 @@ export default function ReportsPanel(props: Props) {
                 {hours(faults.data.totals.outOfServiceMinutes)} · mean time to return{' '}
                 {faults.data.totals.meanMinutesToReturn === null ? '—' : hours(faults.data.totals.meanMinutesToReturn)}
               </p>
-              <Scroll>
+              <Scroll label="Faults table (scrolls sideways)">
                 <table className="table whitespace-nowrap">
                   <thead><tr><th>Machine</th><th className="text-right">Stop</th><th className="text-right">Degraded</th><th className="text-right">Note</th><th className="text-right">Open now</th><th className="text-right">Out of service</th><th className="text-right">Mean to return</th></tr></thead>
                   <tbody>
@@ -335,7 +335,7 @@ export default function ReportsPanel(props: Props) {
         <Section id="r-noshow" title="No-shows and late cancellations" csvHref={csv('no-shows')} loading={noShows.loading} problem={noShows.problem}
           intro="People with a no-show or a late cancellation among their personal bookings that started in this period: a starting point for a fair-use conversation, not a verdict.">
           {noShows.data && (noShows.data.rows.length === 0 ? <Empty what="no-shows or late cancellations" /> : (
-            <Scroll>
+            <Scroll label="No-shows table (scrolls sideways)">
               <table className="table whitespace-nowrap">
                 <thead><tr><th>Person</th><th className="text-right">Bookings</th><th className="text-right">No-shows</th><th className="text-right">Late cancellations</th></tr></thead>
                 <tbody>
