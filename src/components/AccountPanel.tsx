@@ -1,4 +1,8 @@
-/** Account: tier, balance owed, the saved card (test mode offers the provider's test tokens), and the charges table. */
+/**
+ * Account: tier, balance owed, the saved card, and the charges table. With practice payments (the provider's
+ * test mode) the card choices are described by what they do; the provider's test-token names stay in code.
+ */
+import { formatDateTime } from '../lib/site-format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useState, type FormEvent } from 'react';
 import { TIER_LABELS, formatMoney, type Tier } from '../lib/pricing';
@@ -31,10 +35,11 @@ interface PageData {
 }
 type Sort = 'date' | 'amount' | 'state' | 'machine';
 
-const TEST_TOKENS = [
-  { token: 'tok_visa', label: 'Visa test card ending 4242 — payments go through' },
-  { token: 'tok_chargeCustomerFail', label: 'Visa test card ending 0341 — saves, then every payment is declined' },
-  { token: 'tok_chargeDeclined', label: 'Test card declined when saved' },
+/** Practice cards: what each does, and (in code only) the provider's token for it. */
+const PRACTICE_CARDS = [
+  { token: 'tok_visa', label: 'Always approved', detail: 'Every payment with this card goes through.' },
+  { token: 'tok_chargeCustomerFail', label: 'Approved when saved, every payment refused', detail: 'Shows what happens when a payment fails: bookings pause until another card settles it.' },
+  { token: 'tok_chargeDeclined', label: 'Refused when saved', detail: 'The card is not saved; nothing changes on your account.' },
 ];
 
 const STATE_TONE: Record<string, string> = {
@@ -93,7 +98,7 @@ export default function AccountPanel({ initial, timeZone, testMode }: { initial:
   const mark = (c: Sort) => (sort === c ? (dir === 'asc' ? ' ▲' : ' ▼') : '');
   const aria = (c: Sort) => (sort === c ? (dir === 'asc' ? 'ascending' : 'descending') : 'none');
   const pages = data ? Math.max(1, Math.ceil(data.total / pageSize)) : 1;
-  const when = new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'medium', timeStyle: 'short' });
+  const when = { format: (d: Date) => formatDateTime(d, { timeZone }) };
 
   return (
     <div className="space-y-6">
@@ -120,21 +125,21 @@ export default function AccountPanel({ initial, timeZone, testMode }: { initial:
       <section className="card p-4 space-y-3" aria-labelledby="card-heading">
         <h2 id="card-heading" className="text-lg font-semibold">{summary.card ? 'Replace your card' : 'Save a card'}</h2>
         {testMode && (
-          <p className="notice notice-warn" role="note">
-            <strong>TEST MODE.</strong> No real card is charged: pick one of the payment provider's documented test cards.
+          <p className="notice notice-info" role="note">
+            <strong>Practice payments — no real money moves.</strong> Choose a practice card by what you want to try; no real card is asked for or charged.
           </p>
         )}
         <form onSubmit={saveCard} className="space-y-3">
           <fieldset className="space-y-2">
-            <legend className="font-medium">Test card</legend>
-            {TEST_TOKENS.map((t) => (
+            <legend className="font-medium">Practice card</legend>
+            {PRACTICE_CARDS.map((t, i) => (
               <label key={t.token} className="flex min-h-8 items-start gap-2">
-                <input type="radio" name="token" value={t.token} checked={token === t.token} onChange={() => setToken(t.token)} className="mt-1 h-4 w-4 accent-[var(--color-ember)]" />
-                <span>{t.label} <code className="text-xs text-charcoal-soft">{t.token}</code></span>
+                <input type="radio" name="practice-card" value={String(i + 1)} checked={token === t.token} onChange={() => setToken(t.token)} className="mt-1 h-4 w-4 accent-[var(--color-ember)]" />
+                <span><span className="font-medium">{t.label}</span> <span className="hint block">{t.detail}</span></span>
               </label>
             ))}
           </fieldset>
-          <button type="submit" className="btn btn-primary" disabled={busy}>{busy ? 'Saving…' : 'Save test card'}</button>
+          <button type="submit" className="btn btn-primary" disabled={busy}>{busy ? 'Saving…' : 'Save practice card'}</button>
         </form>
         <p aria-live="polite" className={message ? `notice notice-${message.tone}` : 'sr-only'}>{message?.text ?? ''}</p>
       </section>

@@ -1,4 +1,6 @@
 /** Admin › Audit: the append-only record of changes, filtered by person, kind, text and dates; exported as CSV. */
+import { auditDetailLines, auditKindWords, withSiteDates } from '../lib/audit-words';
+import { formatDateTime } from '../lib/site-format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
@@ -47,7 +49,7 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
   const latest = useRef(0); // only the answer to the newest request is shown
 
   const when = useMemo(
-    () => new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'medium', timeStyle: 'medium' }),
+    () => ({ format: (d: Date) => formatDateTime(d, { timeZone }) }),
     [timeZone],
   );
 
@@ -143,7 +145,7 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
           <select id={ids.kind} className="input w-full min-w-0" value={kind} onChange={(e) => { setKind(e.target.value); setPage(1); }}>
             <option value="">Any kind</option>
             {facets.kinds.map((k) => (
-              <option key={k} value={k}>{k}</option>
+              <option key={k} value={k}>{auditKindWords(k)}</option>
             ))}
           </select>
         </label>
@@ -179,12 +181,12 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
                 <td className="whitespace-nowrap text-sm">
                   <time dateTime={r.at}>{when.format(new Date(r.at))}</time>
                   <span className="block text-charcoal-soft md:hidden">{r.actorName ?? 'System'}</span>
-                  <code className="block text-xs text-charcoal-soft md:hidden">{r.kind}</code>
+                  <span className="block text-xs text-charcoal-soft md:hidden">{auditKindWords(r.kind)}</span>
                 </td>
                 <td className="hidden text-sm md:table-cell">{r.actorName ?? <span className="text-charcoal-soft">System</span>}</td>
-                <td className="hidden md:table-cell"><code className="text-sm">{r.kind}</code></td>
+                <td className="hidden text-sm md:table-cell">{auditKindWords(r.kind)}</td>
                 <td className="text-sm">
-                  <span className="break-words">{r.summary}</span>
+                  <span className="break-words">{withSiteDates(r.summary, when.format)}</span>
                   {(r.before !== null || r.after !== null) && (
                     <>
                       {' '}
@@ -192,12 +194,25 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
                         {open === r.id ? 'Hide details' : 'Details'}
                       </button>
                       {open === r.id && (
-                        <dl className="mt-2 grid gap-1 rounded-md bg-paper-deep p-2 text-xs">
-                          <dt className="font-semibold">Before</dt>
-                          <dd><pre className="whitespace-pre-wrap break-all">{JSON.stringify(r.before, null, 1) ?? '—'}</pre></dd>
-                          <dt className="font-semibold">After</dt>
-                          <dd><pre className="whitespace-pre-wrap break-all">{JSON.stringify(r.after, null, 1) ?? '—'}</pre></dd>
-                        </dl>
+                        <div className="mt-2 grid gap-2 rounded-md bg-paper-deep p-2 text-xs sm:grid-cols-2">
+                          {(['before', 'after'] as const).map((side) => (
+                            <div key={side}>
+                              <p className="font-semibold">{side === 'before' ? 'Before' : 'After'}</p>
+                              {auditDetailLines(r[side]).length === 0 ? (
+                                <p>—</p>
+                              ) : (
+                                <dl className="grid gap-0.5">
+                                  {auditDetailLines(r[side]).map((l, i) => (
+                                    <div key={i} className="flex flex-wrap gap-x-1">
+                                      <dt>{l.label}:</dt>
+                                      <dd className="break-all font-medium">{withSiteDates(l.value, when.format)}</dd>
+                                    </div>
+                                  ))}
+                                </dl>
+                              )}
+                            </div>
+                          ))}
+                        </div>
                       )}
                     </>
                   )}

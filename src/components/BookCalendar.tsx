@@ -3,6 +3,9 @@
  * day views, data from the API through react-query. Drag across free time to book; the booking shows at
  * once and is taken back if the server refuses it (with the reason). A form does the same by keyboard.
  *
+ * Every answer of the server appears next to the control that caused it (the form's Book button, the
+ * booking's dialog, or the calendar), in a live region, and takes the focus so the person sees it.
+ *
  * Times: the calendar runs in UTC holding the site's wall-clock times ("shifted" instants), so the grid
  * always shows the site's hours whatever the browser's zone; conversions use the pure availability module.
  */
@@ -14,12 +17,19 @@ import timeGridPlugin from '@fullcalendar/timegrid';
 import interactionPlugin from '@fullcalendar/interaction';
 import type { DateSelectArg, EventClickArg, EventInput } from '@fullcalendar/core';
 import { addDays, isLateCancel, localToInstant, wallClock, zoneOffsetMinutes } from '../lib/availability';
+import { formatMoney } from '../lib/pricing';
+import { formatMinutes, formatShortDay } from '../lib/site-format';
 import { api, ApiError } from './ui/api';
 
 interface MachineInfo {
   id: string;
   name: string;
   status: string;
+}
+interface CancelTerms {
+  lateFeeMinor: number | null;
+  heldMinor: number | null;
+  currency: string | null;
 }
 interface FeedBooking {
   id: string;
@@ -34,6 +44,7 @@ interface FeedBooking {
   courseName: string | null;
   notes: string | null;
   lateCancel: boolean;
+  cancelTerms?: CancelTerms;
   pending?: boolean;
 }
 interface FeedMachine extends MachineInfo {
@@ -43,6 +54,7 @@ interface FeedMachine extends MachineInfo {
   maxMinutes: number;
   bufferMinutes: number;
   cancelCutoffMinutes: number;
+  week?: { weekStart: string; usedMinutes: number; limitMinutes: number | null };
 }
 interface Feed {
   timeZone: string;
@@ -62,9 +74,21 @@ export interface BookProps {
 
 type View = 'timeGridWeek' | 'timeGridDay';
 type LocalDate = { year: number; month: number; day: number };
+type Tone = 'ok' | 'stop' | 'warn' | 'info';
+interface Message {
+  tone: Tone;
+  text: string;
+  waitlist?: { machineId: string; startsAt: string; endsAt: string };
+  /** a new object each time, so the same words said twice still move the focus */
+  at: number;
+}
 
 const pad = (n: number) => String(n).padStart(2, '0');
 const dateKey = (d: LocalDate) => `${d.year}-${pad(d.month)}-${pad(d.day)}`;
+const parseKey = (s: string): LocalDate | null => {
+  const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(s);
+  return m ? { year: Number(m[1]), month: Number(m[2]), day: Number(m[3]) } : null;
+};
 
 export default function BookCalendar(props: BookProps) {
   const [client] = useState(() => new QueryClient({ defaultOptions: { queries: { staleTime: 15_000, refetchOnWindowFocus: true } } }));
@@ -75,18 +99,50 @@ export default function BookCalendar(props: BookProps) {
   );
 }
 
+/**
+ * A server's answer where the person is looking: a live region that is always in the page (so screen readers
+ * announce what appears in it), whose message takes the focus and is scrolled into view when it appears.
+ */
+function Answer(p: { message: Message | null; children?: React.ReactNode; label: string }) {
+  const ref = useRef<HTMLDivElement>(null);
+  useEffect(() => {
+    if (!p.message || !ref.current) return;
+    ref.current.focus({ preventScroll: true });
+    ref.current.scrollIntoView({ block: 'center', behavior: 'instant' as ScrollBehavior });
+  }, [p.message]);
+  const m = p.message;
+  return (
+    <div role={m?.tone === 'stop' ? 'alert' : 'status'} aria-live={m?.tone === 'stop' ? 'assertive' : 'polite'} aria-atomic="true">
+      {m && (
+        <div ref={ref} tabIndex={-1} className={`notice notice-${m.tone} flex flex-wrap items-center gap-3`} data-answer={p.label}>
+          <span>{m.text}</span>
+          {p.children}
+        </div>
+      )}
+    </div>
+  );
+}
+
 function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }: BookProps) {
   const qc = useQueryClient();
   const today = useMemo(() => {
     const w = wallClock(new Date(), tz);
     return { year: w.year, month: w.month, day: w.day };
   }, [tz]);
-  const [machineSel, setMachineSel] = useState<string>(initialMachine && machines.some((m) => m.id === initialMachine) ? initialMachine : machines[0]?.id ?? 'all');
+  const bookable = machines.filter((m) => m.status !== 'out of service');
+  const firstChoice = initialMachine && machines.some((m) => m.id === initialMachine) ? initialMachine : (bookable[0] ?? machines[0])?.id;
+  const [machineSel, setMachineSel] = useState<string>(firstChoice ?? 'all');
   const [view, setView] = useState<View>('timeGridWeek');
   const [date, setDate] = useState<LocalDate>(today);
-  const [message, setMessage] = useState<{ tone: 'ok' | 'stop' | 'warn'; text: string; waitlist?: { machineId: string; startsAt: string; endsAt: string } } | null>(null);
+  /** the answer shown by the calendar (a drag on a machine out of service) */
+  const [calendarMessage, setCalendarMessage] = useState<Message | null>(null);
+  /** the answer shown by the form's Book button */
+  const [formMessage, setFormMessage] = useState<Message | null>(null);
   const [draft, setDraft] = useState<{ machineId: string; date: string; start: string; end: string } | null>(null);
   const [selected, setSelected] = useState<FeedBooking | null>(null);
+  // the form's machine and date: the machine follows the calendar's, the date stays inside the calendar's days
+  const [formMachine, setFormMachine] = useState<string>(firstChoice && firstChoice !== 'all' ? firstChoice : bookable[0]?.id ?? '');
+  const [formDate, setFormDate] = useState<string>(dateKey(today));
 
   useEffect(() => {
     if (window.matchMedia('(max-width: 640px)').matches) setView('timeGridDay');
@@ -98,8 +154,32 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
     const first = view === 'timeGridWeek' ? addDays(date.year, date.month, date.day, -((js + 6) % 7)) : date;
     const days = view === 'timeGridWeek' ? 7 : 1;
     const last = addDays(first.year, first.month, first.day, days);
-    return { first, from: localToInstant(first.year, first.month, first.day, 0, tz), to: localToInstant(last.year, last.month, last.day, 0, tz) };
+    return { first, days, from: localToInstant(first.year, first.month, first.day, 0, tz), to: localToInstant(last.year, last.month, last.day, 0, tz) };
   }, [date, view, tz]);
+
+  // the calendar moved: keep the form's date on one of the days shown (today if shown, else the first day)
+  useEffect(() => {
+    const shown: string[] = [];
+    for (let i = 0; i < range.days; i++) shown.push(dateKey(addDays(range.first.year, range.first.month, range.first.day, i)));
+    setFormDate((d) => (shown.includes(d) ? d : shown.includes(dateKey(today)) ? dateKey(today) : date && shown.includes(dateKey(date)) ? dateKey(date) : shown[0]!));
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [range.first.year, range.first.month, range.first.day, range.days]);
+
+  function chooseMachine(id: string) {
+    setMachineSel(id);
+    if (id !== 'all') setFormMachine(id);
+  }
+
+  function chooseFormMachine(id: string) {
+    setFormMachine(id);
+    if (machineSel !== 'all') setMachineSel(id);
+  }
+
+  function chooseFormDate(key: string) {
+    setFormDate(key);
+    const d = parseKey(key);
+    if (d) setDate(d); // the calendar shows the week (or day) of the date typed in the form
+  }
 
   const feedKey = ['feed', machineSel, range.from.toISOString(), range.to.toISOString()] as const;
   const feed = useQuery({
@@ -117,7 +197,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
         ? api<FeedBooking>('/api/class-blocks', { method: 'POST', json: { machineId: v.machineId, startsAt: v.startsAt.toISOString(), endsAt: v.endsAt.toISOString(), notes: v.notes, ...v.classBlock } })
         : api<FeedBooking & { paymentNotice?: string | null }>('/api/bookings', { method: 'POST', json: { machineId: v.machineId, startsAt: v.startsAt.toISOString(), endsAt: v.endsAt.toISOString(), materials: v.materials, notes: v.notes } }),
     onMutate: async (v) => {
-      setMessage(null);
+      setFormMessage(null);
       await qc.cancelQueries({ queryKey: feedKey });
       const before = qc.getQueryData<Feed>(feedKey);
       if (before) {
@@ -144,30 +224,21 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
       if (ctx?.before) qc.setQueryData(feedKey, ctx.before);
       const text = err instanceof ApiError ? err.message : 'The booking was not saved. Check your connection and try again.';
       const canWait = err instanceof ApiError && err.code === 'slot_taken' && !v.classBlock;
-      setMessage({ tone: 'stop', text: `Not booked: ${text}`, ...(canWait ? { waitlist: { machineId: v.machineId, startsAt: v.startsAt.toISOString(), endsAt: v.endsAt.toISOString() } } : {}) });
+      setFormMessage({ tone: 'stop', text: `Not booked: ${text}`, at: Date.now(), ...(canWait ? { waitlist: { machineId: v.machineId, startsAt: v.startsAt.toISOString(), endsAt: v.endsAt.toISOString() } } : {}) });
     },
     onSuccess: (b) => {
       setDraft(null);
       const notice = (b as { paymentNotice?: string | null }).paymentNotice;
-      setMessage({ tone: notice ? 'warn' : 'ok', text: `Booked: ${machineName(b.machineId)}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), tz)}. A confirmation with a calendar file is on its way by e-mail.${notice ? ` ${notice}` : ''}` });
+      // no card saved (or no hold placed) is not a problem with the booking: said plainly, in the neutral style
+      setFormMessage({ tone: notice ? 'info' : 'ok', at: Date.now(), text: `Booked: ${machineName(b.machineId)}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), tz)}. A confirmation with a calendar file is on its way by e-mail.${notice ? ` ${notice}` : ''}` });
     },
-    onSettled: () => qc.invalidateQueries({ queryKey: ['feed'] }),
-  });
-
-  const cancel = useMutation({
-    mutationFn: (id: string) => api<FeedBooking>(`/api/bookings/${id}/cancel`, { method: 'POST' }),
-    onSuccess: (b) => {
-      setSelected(null);
-      setMessage({ tone: b.lateCancel ? 'warn' : 'ok', text: b.lateCancel ? 'Cancelled — after the cut-off, so it counts as a late cancellation.' : 'Cancelled. The time is free for others.' });
-    },
-    onError: (err) => setMessage({ tone: 'stop', text: err instanceof ApiError ? err.message : 'Not cancelled; try again.' }),
     onSettled: () => qc.invalidateQueries({ queryKey: ['feed'] }),
   });
 
   const waitlist = useMutation({
     mutationFn: (w: { machineId: string; startsAt: string; endsAt: string }) => api('/api/waitlist', { method: 'POST', json: w }),
-    onSuccess: () => setMessage({ tone: 'ok', text: 'You are on the waitlist. If that time frees up you will get an e-mail with a link that holds it for you for 15 minutes.' }),
-    onError: (err) => setMessage({ tone: 'stop', text: err instanceof ApiError ? err.message : 'Could not join the waitlist.' }),
+    onSuccess: () => setFormMessage({ tone: 'ok', at: Date.now(), text: 'You are on the waitlist. If that time frees up you will get an e-mail with a link that holds it for you for 15 minutes.' }),
+    onError: (err) => setFormMessage({ tone: 'stop', at: Date.now(), text: err instanceof ApiError ? err.message : 'Could not join the waitlist.' }),
   });
 
   function machineName(id: string) {
@@ -186,10 +257,13 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
     arg.view.calendar.unselect();
     const machine = machines.find((m) => m.id === machineId);
     if (machine?.status === 'out of service') {
-      setMessage({ tone: 'stop', text: `${machine.name} is out of service and takes no bookings.` });
+      setCalendarMessage({ tone: 'stop', at: Date.now(), text: `${machine.name} is out of service and takes no bookings.` });
       return;
     }
+    setCalendarMessage(null);
     setSelected(null);
+    setFormMachine(machineId);
+    setFormDate(dateKey(s.date));
     setDraft({ machineId, date: dateKey(s.date), start: s.clock, end: e.clock === '00:00' ? '24:00' : e.clock });
   }
 
@@ -209,7 +283,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
       <div className="flex flex-wrap items-end gap-3">
         <label className="field">
           <span>Machine</span>
-          <select className="input" value={machineSel} onChange={(e) => setMachineSel(e.target.value)} aria-label="Machine">
+          <select className="input" value={machineSel} onChange={(e) => chooseMachine(e.target.value)} aria-label="Machine">
             {machines.map((m) => (
               <option key={m.id} value={m.id}>{m.name}{m.status === 'out of service' ? ' (out of service)' : ''}</option>
             ))}
@@ -232,8 +306,8 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
             type="date"
             value={dateKey(date)}
             onChange={(e) => {
-              const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(e.target.value);
-              if (m) setDate({ year: Number(m[1]), month: Number(m[2]), day: Number(m[3]) });
+              const d = parseKey(e.target.value);
+              if (d) setDate(d);
             }}
           />
         </label>
@@ -242,18 +316,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
       <h2 className="text-lg" aria-live="polite">{rangeLabel} <span className="hint">· times in {tz}</span></h2>
       <Legend />
 
-      <div role="status" aria-live="polite">
-        {message && (
-          <div className={`notice notice-${message.tone} flex flex-wrap items-center gap-3`}>
-            <span>{message.text}</span>
-            {message.waitlist && (
-              <button type="button" className="btn btn-quiet" onClick={() => waitlist.mutate(message.waitlist!)} disabled={waitlist.isPending}>
-                Tell me if it frees up
-              </button>
-            )}
-          </div>
-        )}
-      </div>
+      <Answer message={calendarMessage} label="calendar" />
       {feed.isError && <p className="notice notice-stop">Could not load the calendar: {(feed.error as Error).message}</p>}
 
       <div className={shown.length > 1 ? 'grid gap-3 lg:grid-cols-3' : ''}>
@@ -279,10 +342,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
                 tz={tz}
                 compact={shown.length > 1}
                 onSelect={(arg) => onSelect(m.id, arg)}
-                onPick={(b) => {
-                  setDraft(null);
-                  setSelected(b);
-                }}
+                onPick={(b) => setSelected(b)}
               />
             </section>
           );
@@ -290,13 +350,13 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
       </div>
 
       {selected && (
-        <BookingPanel
+        <BookingDialog
+          key={selected.id}
           booking={selected}
           machineName={machineName(selected.machineId)}
           tz={tz}
           cutoff={data?.machines.find((m) => m.id === selected.machineId)?.cancelCutoffMinutes ?? 0}
-          busy={cancel.isPending}
-          onCancel={() => cancel.mutate(selected.id)}
+          onDone={() => qc.invalidateQueries({ queryKey: ['feed'] })}
           onClose={() => setSelected(null)}
         />
       )}
@@ -305,12 +365,24 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
         machines={machines}
         tz={tz}
         draft={draft}
-        today={today}
+        machineId={formMachine}
+        onMachine={chooseFormMachine}
+        date={formDate}
+        onDate={chooseFormDate}
+        feedMachine={data?.machines.find((m) => m.id === formMachine)}
         isInstructor={isInstructor}
         busy={create.isPending}
         onSubmit={(v) => create.mutate(v)}
         onClear={() => setDraft(null)}
-      />}
+      >
+        <Answer message={formMessage} label="form">
+          {formMessage?.waitlist && (
+            <button type="button" className="btn btn-quiet" onClick={() => waitlist.mutate(formMessage.waitlist!)} disabled={waitlist.isPending}>
+              Tell me if it frees up
+            </button>
+          )}
+        </Answer>
+      </BookingForm>}
     </div>
   );
 }
@@ -391,6 +463,8 @@ function MachineCalendar(p: {
 
   const fm = p.feed?.machines.find((m) => m.id === p.machine.id);
   const slot = `00:${pad(fm?.slotMinutes ?? 15)}:00`;
+  // a drag may only cover open hours (closed time is shaded; the form lists only open hours too)
+  const openShifted = useMemo(() => (fm ? fm.open.map((o) => ({ s: shift(o.start).getTime(), e: shift(o.end).getTime() })) : null), [fm, p.tz]); // eslint-disable-line react-hooks/exhaustive-deps
 
   return (
     <FullCalendar
@@ -422,6 +496,7 @@ function MachineCalendar(p: {
       slotLabelFormat={{ hour: '2-digit', minute: '2-digit', hour12: false }}
       eventTimeFormat={{ hour: '2-digit', minute: '2-digit', hour12: false }}
       events={events}
+      selectAllow={(span) => !openShifted || openShifted.some((o) => span.start.getTime() >= o.s && span.end.getTime() <= o.e)}
       select={p.onSelect}
       eventClick={(arg: EventClickArg) => {
         const b = arg.event.extendedProps.booking as FeedBooking | undefined;
@@ -456,54 +531,176 @@ function formatRange(s: Date, e: Date, tz: string): string {
   return `${day}, ${t.format(s)}–${t.format(e)}`;
 }
 
-function BookingPanel(p: { booking: FeedBooking; machineName: string; tz: string; cutoff: number; busy: boolean; onCancel: () => void; onClose: () => void }) {
+
+/** What cancelling costs, in plain words: the late-cancellation rule and fee, and the card hold released. */
+export function cancelCostText(b: { startsAt: string; cancelTerms?: CancelTerms }, cutoffMinutes: number, now: Date, tz: string): string[] {
+  const s = new Date(b.startsAt);
+  const late = isLateCancel(s, now, { cancelCutoffMinutes: cutoffMinutes });
+  const t = b.cancelTerms;
+  const money = (minor: number | null) => (minor !== null && t?.currency ? formatMoney(minor, t.currency) : null);
+  const fee = money(t?.lateFeeMinor ?? null);
+  const held = money(t?.heldMinor ?? null);
+  const out: string[] = [];
+  if (late) {
+    out.push(
+      `The cancellation cut-off (${formatMinutes(cutoffMinutes)} before the start) has passed, so this counts as a late cancellation` +
+        (fee ? `: the late-cancellation fee of ${fee} is charged.` : '. No late-cancellation fee is set, but it is recorded.'),
+    );
+  } else {
+    const cut = new Date(s.getTime() - cutoffMinutes * 60_000);
+    out.push(`No fee: you are cancelling before the cut-off. From ${formatShortDay(cut, { timeZone: tz })}, ${new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(cut)} it would count as a late cancellation${fee ? ` (fee ${fee})` : ''}.`);
+  }
+  out.push(held ? `The ${held} held on your card for this booking is released.` : 'Nothing is held on your card for this booking.');
+  out.push('The time becomes free for others.');
+  return out;
+}
+
+/** A booking opened from the calendar: a modal dialog over the calendar, where the person clicked. Cancelling asks first. */
+function BookingDialog(p: { booking: FeedBooking; machineName: string; tz: string; cutoff: number; onDone: () => void; onClose: () => void }) {
   const b = p.booking;
   const s = new Date(b.startsAt);
-  const late = isLateCancel(s, new Date(), { cancelCutoffMinutes: p.cutoff });
+  const ref = useRef<HTMLDialogElement>(null);
+  const keepRef = useRef<HTMLButtonElement>(null);
   const headingId = useId();
+  const [stage, setStage] = useState<'view' | 'confirm' | 'done'>('view');
+  const [answer, setAnswer] = useState<Message | null>(null);
   const canCancel = b.mine && b.state === 'reserved' && !b.pending && new Date(b.endsAt) > new Date();
+  const late = isLateCancel(s, new Date(), { cancelCutoffMinutes: p.cutoff });
+
+  useEffect(() => {
+    const d = ref.current;
+    if (d && !d.open) d.showModal();
+    return () => {
+      if (d?.open) d.close();
+    };
+  }, []);
+  useEffect(() => {
+    if (stage === 'confirm') keepRef.current?.focus();
+  }, [stage]);
+
+  const cancel = useMutation({
+    mutationFn: () => api<FeedBooking>(`/api/bookings/${b.id}/cancel`, { method: 'POST' }),
+    onSuccess: (c) => {
+      setStage('done');
+      setAnswer({
+        tone: c.lateCancel ? 'warn' : 'ok',
+        at: Date.now(),
+        text: c.lateCancel ? 'Cancelled — after the cut-off, so it counts as a late cancellation.' : 'Cancelled. The time is free for others.',
+      });
+      p.onDone();
+    },
+    onError: (err) => {
+      setStage('view');
+      setAnswer({ tone: 'stop', at: Date.now(), text: `Not cancelled: ${err instanceof ApiError ? err.message : 'check your connection and try again.'}` });
+    },
+  });
+
+  const title = b.kind === 'class' ? `Class block: ${b.courseName}` : b.mine ? 'Your booking' : 'Booked';
   return (
-    <section className="card space-y-3 p-4" aria-labelledby={headingId}>
-      <h2 id={headingId} className="text-lg">
-        {b.kind === 'class' ? `Class block: ${b.courseName}` : b.mine ? 'Your booking' : 'Booked'} · {p.machineName}
-      </h2>
-      <p>{formatRange(s, new Date(b.endsAt), p.tz)} · {b.state}{b.lateCancel ? ' (late)' : ''}</p>
-      {b.personName && !b.mine && <p className="hint">Booked by {b.personName}</p>}
-      {b.notes && <p className="hint">Notes: {b.notes}</p>}
-      {canCancel && late && (
-        <p className="notice notice-warn">The cancellation cut-off ({p.cutoff} min before the start) has passed: cancelling now counts as a late cancellation.</p>
-      )}
-      <div className="flex flex-wrap gap-2">
-        {canCancel && (
-          <button type="button" className="btn btn-primary" onClick={p.onCancel} disabled={p.busy}>
-            {p.busy ? 'Cancelling…' : 'Cancel booking'}
-          </button>
+    <dialog ref={ref} className="bw-dialog card" aria-labelledby={headingId} onClose={p.onClose}>
+      <div className="space-y-3 p-4">
+        <h2 id={headingId} className="text-lg">
+          {stage === 'confirm' ? 'Cancel this booking?' : `${title} · ${p.machineName}`}
+        </h2>
+        <p>
+          {stage === 'confirm' && <>{p.machineName}, </>}
+          {formatRange(s, new Date(b.endsAt), p.tz)} · {stage === 'done' ? 'cancelled' : b.state}
+          {b.lateCancel ? ' (late)' : ''}
+        </p>
+        {stage === 'view' && b.personName && !b.mine && <p className="hint">Booked by {b.personName}</p>}
+        {stage === 'view' && b.notes && <p className="hint">Notes: {b.notes}</p>}
+        {stage === 'view' && canCancel && late && (
+          <p className="notice notice-warn">The cancellation cut-off ({formatMinutes(p.cutoff)} before the start) has passed: cancelling now counts as a late cancellation.</p>
         )}
-        <button type="button" className="btn btn-quiet" onClick={p.onClose}>Close</button>
+        {stage === 'confirm' && (
+          <ul className="list-disc space-y-1 pl-5" data-cancel-terms>
+            {cancelCostText(b, p.cutoff, new Date(), p.tz).map((line) => (
+              <li key={line}>{line}</li>
+            ))}
+          </ul>
+        )}
+        <Answer message={answer} label="booking" />
+        <div className="flex flex-wrap gap-2">
+          {stage === 'view' && canCancel && (
+            <button type="button" className="btn btn-primary" onClick={() => { setAnswer(null); setStage('confirm'); }}>
+              Cancel booking…
+            </button>
+          )}
+          {stage === 'confirm' && (
+            <>
+              <button type="button" className="btn btn-primary" onClick={() => cancel.mutate()} disabled={cancel.isPending}>
+                {cancel.isPending ? 'Cancelling…' : late ? 'Yes, cancel (late)' : 'Yes, cancel it'}
+              </button>
+              <button type="button" ref={keepRef} className="btn btn-quiet" onClick={() => setStage('view')} disabled={cancel.isPending}>
+                Keep booking
+              </button>
+            </>
+          )}
+          {stage !== 'confirm' && (
+            <button type="button" className="btn btn-quiet" onClick={() => ref.current?.close()}>Close</button>
+          )}
+        </div>
       </div>
-    </section>
+    </dialog>
   );
 }
 
-function clockOptions(): string[] {
-  const out: string[] = [];
-  for (let m = 0; m <= 1440; m += 15) out.push(`${pad(Math.floor(m / 60))}:${pad(m % 60)}`);
-  return out;
+/** The day's open windows of a machine, as minutes of the site's day, from the feed's open intervals. */
+function openWindows(open: { start: string; end: string }[], dayKey: string, tz: string): [number, number][] {
+  const d = parseKey(dayKey);
+  if (!d) return [];
+  const next = addDays(d.year, d.month, d.day, 1);
+  const dayStart = localToInstant(d.year, d.month, d.day, 0, tz).getTime();
+  const dayEnd = localToInstant(next.year, next.month, next.day, 0, tz).getTime();
+  const minute = (t: number) => {
+    if (t >= dayEnd) return 1440;
+    const w = wallClock(new Date(t), tz);
+    return w.hour * 60 + w.minute;
+  };
+  const out: [number, number][] = [];
+  for (const o of open) {
+    const s = Math.max(new Date(o.start).getTime(), dayStart);
+    const e = Math.min(new Date(o.end).getTime(), dayEnd);
+    if (e > s) out.push([minute(s), minute(e)]);
+  }
+  return out.sort((a, b) => a[0] - b[0]);
 }
-const CLOCKS = clockOptions();
+
+const toMin = (c: string) => Number(c.slice(0, 2)) * 60 + Number(c.slice(3));
+const clock = (m: number) => `${pad(Math.floor(m / 60))}:${pad(m % 60)}`;
+
+/** From and Until choices: only open hours of the machine on that day, on its slot grid (every quarter hour while loading). */
+export function clockChoices(windows: [number, number][] | null, step: number, start: string, notBefore = 0): { from: string[]; until: string[] } {
+  if (!windows) {
+    const all: string[] = [];
+    for (let m = 0; m <= 1440; m += 15) all.push(clock(m));
+    return { from: all.slice(0, -1), until: all.slice(1) };
+  }
+  const from: string[] = [];
+  for (const [s, e] of windows) for (let m = Math.ceil(Math.max(s, notBefore) / step) * step; m + step <= e; m += step) from.push(clock(m));
+  const st = toMin(start);
+  const win = windows.find(([s, e]) => st >= s && st < e);
+  const until: string[] = [];
+  if (win) for (let m = st + step; m <= win[1]; m += step) until.push(clock(m));
+  return { from, until };
+}
 
 function BookingForm(p: {
   machines: MachineInfo[];
   tz: string;
   draft: { machineId: string; date: string; start: string; end: string } | null;
-  today: LocalDate;
+  machineId: string;
+  onMachine: (id: string) => void;
+  date: string;
+  onDate: (key: string) => void;
+  feedMachine: FeedMachine | undefined;
   isInstructor: boolean;
   busy: boolean;
   onSubmit: (v: { machineId: string; startsAt: Date; endsAt: Date; notes: string; materials: ReturnType<typeof declared>; classBlock?: { courseName: string; studentEmails: string[] } }) => void;
   onClear: () => void;
+  children?: React.ReactNode;
 }) {
-  const [machineId, setMachineId] = useState(p.machines[0]?.id ?? '');
-  const [date, setDate] = useState(dateKey(p.today));
+  const { machineId, date } = p;
   const [start, setStart] = useState('10:00');
   const [end, setEnd] = useState('11:00');
   const [notes, setNotes] = useState('');
@@ -515,28 +712,48 @@ function BookingForm(p: {
   const [materialRefused, setMaterialRefused] = useState(false);
   const formRef = useRef<HTMLFormElement>(null);
   const headingId = useId();
+  const weekId = useId();
+
+  const fm = p.feedMachine;
+  const windows = useMemo(() => (fm ? openWindows(fm.open, date, p.tz) : null), [fm, date, p.tz]);
+  const step = fm?.slotMinutes ?? 15;
+  // today: only times still ahead
+  const now = wallClock(new Date(), p.tz);
+  const notBefore = date === `${now.year}-${pad(now.month)}-${pad(now.day)}` ? now.hour * 60 + now.minute : 0;
+  const choices = clockChoices(windows, step, start, notBefore);
 
   useEffect(() => {
     if (!p.draft) return;
-    setMachineId(p.draft.machineId);
-    setDate(p.draft.date);
     setStart(p.draft.start);
     setEnd(p.draft.end);
     formRef.current?.scrollIntoView({ block: 'nearest' });
     formRef.current?.querySelector<HTMLElement>('textarea, button[type=submit]')?.focus({ preventScroll: true });
   }, [p.draft]);
 
+  // keep From and Until on open hours when the machine or the day changes
+  useEffect(() => {
+    if (!windows) return;
+    if (choices.from.length && !choices.from.includes(start)) setStart(choices.from[0]!);
+  }, [windows, start, choices.from]);
+  useEffect(() => {
+    if (!windows || !choices.until.length) return;
+    if (!choices.until.includes(end)) {
+      const hour = clock(Math.min(toMin(start) + 60, toMin(choices.until.at(-1)!)));
+      setEnd(choices.until.includes(hour) ? hour : choices.until[0]!);
+    }
+  }, [windows, start, end, choices.until]);
+
+  const closedAllDay = windows !== null && choices.from.length === 0;
+  const machineName = p.machines.find((m) => m.id === machineId)?.name ?? 'this machine';
+
   function submit(e: React.FormEvent) {
     e.preventDefault();
     setError(null);
-    const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(date);
-    if (!m) return setError('Choose a date.');
-    const toMin = (c: string) => Number(c.slice(0, 2)) * 60 + Number(c.slice(3));
-    const y = Number(m[1]);
-    const mo = Number(m[2]);
-    const d = Number(m[3]);
-    const startsAt = localToInstant(y, mo, d, toMin(start), p.tz);
-    const endsAt = localToInstant(y, mo, d, toMin(end), p.tz);
+    const d = parseKey(date);
+    if (!d) return setError('Choose a date.');
+    if (closedAllDay) return setError(`${machineName} has no open time left on that date. Choose another day.`);
+    const startsAt = localToInstant(d.year, d.month, d.day, toMin(start), p.tz);
+    const endsAt = localToInstant(d.year, d.month, d.day, toMin(end), p.tz);
     if (endsAt <= startsAt) return setError('The end must be after the start.');
     const classBlock = isClass
       ? { courseName: course.trim(), studentEmails: students.split(/[\s,;]+/).map((s) => s.trim()).filter(Boolean) }
@@ -546,6 +763,8 @@ function BookingForm(p: {
     p.onSubmit({ machineId, startsAt, endsAt, notes: notes.trim(), materials: isClass ? [] : declared(materials), ...(classBlock ? { classBlock } : {}) });
   }
 
+  const week = fm?.week;
+  const asked = Math.max(0, toMin(end) - toMin(start));
   return (
     <form ref={formRef} className="card space-y-4 p-4" onSubmit={submit} aria-labelledby={headingId} noValidate>
       <div>
@@ -555,28 +774,47 @@ function BookingForm(p: {
       <div className="grid gap-3 sm:grid-cols-4">
         <label className="field">
           <span>Machine</span>
-          <select className="input" value={machineId} onChange={(e) => setMachineId(e.target.value)}>
+          <select className="input" value={machineId} onChange={(e) => p.onMachine(e.target.value)} aria-describedby={weekId}>
             {p.machines.map((m) => (
-              <option key={m.id} value={m.id} disabled={m.status === 'out of service'}>{m.name}</option>
+              <option key={m.id} value={m.id} disabled={m.status === 'out of service'}>{m.name}{m.status === 'out of service' ? ' (out of service)' : ''}</option>
             ))}
           </select>
         </label>
         <label className="field">
           <span>Date</span>
-          <input className="input" type="date" value={date} onChange={(e) => setDate(e.target.value)} required />
+          <input className="input" type="date" value={date} onChange={(e) => p.onDate(e.target.value)} required />
         </label>
         <label className="field">
           <span>From</span>
-          <select className="input" value={start} onChange={(e) => setStart(e.target.value)}>
-            {CLOCKS.slice(0, -1).map((c) => <option key={c} value={c}>{c}</option>)}
+          <select className="input" value={start} onChange={(e) => setStart(e.target.value)} disabled={closedAllDay}>
+            {choices.from.map((c) => <option key={c} value={c}>{c}</option>)}
           </select>
         </label>
         <label className="field">
           <span>Until</span>
-          <select className="input" value={end} onChange={(e) => setEnd(e.target.value)}>
-            {CLOCKS.slice(1).map((c) => <option key={c} value={c}>{c}</option>)}
+          <select className="input" value={end} onChange={(e) => setEnd(e.target.value)} disabled={closedAllDay}>
+            {choices.until.map((c) => <option key={c} value={c}>{c}</option>)}
           </select>
         </label>
+      </div>
+      <div id={weekId} className="space-y-1 text-sm" data-week-use>
+        {windows && (
+          <p>
+            {closedAllDay
+              ? `${machineName} has no open time left on ${formatShortDay(localToInstant(...ymd(date), 12 * 60, p.tz), { timeZone: p.tz })}. Choose another day.`
+              : `Open on ${formatShortDay(localToInstant(...ymd(date), 12 * 60, p.tz), { timeZone: p.tz })}: ${windows.map(([s, e]) => `${clock(s)}–${clock(e)}`).join(', ')}.`}
+          </p>
+        )}
+        {week && !isClass && (
+          <p>
+            {week.limitMinutes === null
+              ? `Your tier has no weekly limit on ${machineName}; you have ${formatMinutes(week.usedMinutes)} booked this week.`
+              : `This week on ${machineName}: ${formatMinutes(week.usedMinutes)} booked, ${formatMinutes(Math.max(0, week.limitMinutes - week.usedMinutes))} left of your ${formatMinutes(week.limitMinutes)} weekly limit.`}
+            {week.limitMinutes !== null && asked > Math.max(0, week.limitMinutes - week.usedMinutes) && (
+              <strong className="block text-stop"> {formatMinutes(asked)} is more than you have left this week.</strong>
+            )}
+          </p>
+        )}
       </div>
       <label className="field">
         <span>Notes for the steward (optional)</span>
@@ -609,6 +847,12 @@ function BookingForm(p: {
         <button type="submit" className="btn btn-primary" disabled={p.busy}>{p.busy ? 'Booking…' : isClass ? 'Book class block' : 'Book'}</button>
         {p.draft && <button type="button" className="btn btn-quiet" onClick={p.onClear}>Clear</button>}
       </div>
+      {p.children}
     </form>
   );
+}
+
+function ymd(key: string): [number, number, number] {
+  const d = parseKey(key) ?? { year: 1970, month: 1, day: 1 };
+  return [d.year, d.month, d.day];
 }

@@ -1,4 +1,5 @@
 /** Admin › Material rules: a sortable, filterable table of the catalogue, an edit form, and per-machine overrides. Every save is audited. */
+import { parseMajor } from '../lib/pricing';
 import { useCallback, useEffect, useMemo, useState } from 'react';
 import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
 import { api, ApiError } from './ui/api';
@@ -172,7 +173,7 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
           <fieldset className="grid gap-3 rounded-lg border border-line p-3 md:grid-cols-3">
             <legend className="px-1 font-semibold">Sold by the space</legend>
             <label className="inline-flex min-h-8 items-center gap-2"><input type="checkbox" className="h-4 w-4 accent-[var(--color-ember)]" checked={editing.soldBySpace} onChange={(e) => set('soldBySpace', e.target.checked)} />The space sells this by the sheet</label>
-            <label className="field"><span>Sheet price ({currency}, minor units)</span><input className="input" type="number" step="1" min="0" value={editing.sheetPriceMinor ?? ''} onChange={(e) => set('sheetPriceMinor', numOrNull(e.target.value))} />{err('sheetPriceMinor')}</label>
+            <SheetPriceField key={(editing as { id?: string }).id ?? "new"} currency={currency} exponent={currencyExponent} minor={editing.sheetPriceMinor} onChange={(v) => set('sheetPriceMinor', v)} error={err('sheetPriceMinor')} />
             <label className="field"><span>Sheet size</span><input className="input" value={editing.sheetSize ?? ''} onChange={(e) => set('sheetSize', e.target.value || null)} maxLength={60} /></label>
           </fieldset>
           {Object.keys(fieldErrors).some((k) => !FORM_FIELDS.includes(k)) && (
@@ -279,5 +280,36 @@ function OverrideRow({ machine, existing, effective, busy, onSave }: {
         {existing && <button type="button" className="btn btn-quiet" disabled={busy} onClick={() => void onSave(null)}>Remove</button>}
       </div>
     </div>
+  );
+}
+
+/**
+ * The sheet price in major units ("18.00"), as on Pricing; kept in minor units underneath. What members are
+ * charged at check-out is the price version's sheet list on Pricing.
+ */
+function SheetPriceField(p: { currency: string; exponent: number; minor: number | null; onChange: (minor: number | null) => void; error: React.ReactNode }) {
+  const shown = (m: number | null) => (m === null ? '' : (m / 10 ** p.exponent).toFixed(p.exponent));
+  const [text, setText] = useState(shown(p.minor));
+  const [bad, setBad] = useState(false);
+  return (
+    <label className="field">
+      <span>Sheet price ({p.currency})</span>
+      <input
+        className="input"
+        inputMode="decimal"
+        value={text}
+        aria-invalid={bad ? 'true' : undefined}
+        onChange={(e) => {
+          setText(e.target.value);
+          if (e.target.value.trim() === '') return (setBad(false), p.onChange(null));
+          const v = parseMajor(e.target.value, p.currency);
+          setBad(v === null);
+          if (v !== null) p.onChange(v);
+        }}
+      />
+      <span className="hint">As on <a href="/admin/pricing">Pricing</a>, where the price charged at check-out is set.</span>
+      {bad && <span className="text-sm text-stop">Write an amount like 18.00.</span>}
+      {p.error}
+    </label>
   );
 }

@@ -1,4 +1,5 @@
 /** Admin › People: search, sort and page through people; grant or remove roles (each change is audited). */
+import { formatDate } from '../lib/site-format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useState } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
@@ -23,7 +24,7 @@ interface PageData {
 }
 type Sort = 'name' | 'email' | 'created';
 
-export default function PeopleAdmin({ selfId }: { selfId: string }) {
+export default function PeopleAdmin({ selfId, timeZone = 'UTC' }: { selfId: string; timeZone?: string }) {
   const [q, setQ] = useState('');
   const [query, setQuery] = useState('');
   const [roleFilter, setRoleFilter] = useState<Role | ''>('');
@@ -197,7 +198,7 @@ export default function PeopleAdmin({ selfId }: { selfId: string }) {
                       onBlur={(e) => { const v = e.target.value.trim() || null; if (v !== p.costCentre) void saveTier(p, p.tier, v); }} />
                   </div>
                 </td>
-                <td className="hidden whitespace-nowrap text-sm md:table-cell">{new Date(p.createdAt).toLocaleDateString()}</td>
+                <td className="hidden whitespace-nowrap text-sm md:table-cell">{formatDate(p.createdAt, { timeZone })}</td>
               </tr>
             ))}
             {data && data.rows.length === 0 && (

@@ -1,4 +1,5 @@
 /** Admin › Pricing: a change is a new price version with an effective date; every version stays visible. */
+import { formatDateTime } from '../lib/site-format';
 import { useState, type FormEvent } from 'react';
 import { TIERS, TIER_LABELS, formatMinor, formatMoney, parseMajor, type Material, type Tier } from '../lib/pricing';
 import { api, ApiError } from './ui/api';
@@ -110,7 +111,7 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
     }
   }
 
-  const fmt = new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'medium', timeStyle: 'short' });
+  const fmt = { format: (d: Date) => formatDateTime(d, { timeZone }) };
   const now = Date.now();
   const inForce = versions.filter((v) => Date.parse(v.effectiveFrom) <= now).sort((a, b) => b.effectiveFrom.localeCompare(a.effectiveFrom))[0];
 

@@ -6,6 +6,14 @@ import { useEffect, useId, useMemo, useState, type ReactNode } from 'react';
 import { Bar, BarChart, CartesianGrid, Legend, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import { api, ApiError } from './ui/api';
 import { formatMoney } from '../lib/pricing';
+import { formatIsoDay } from '../lib/site-format';
+
+/** "2026-11" → "Nov 2026" */
+function monthWords(ym: string): string {
+  const m = /^(\d{4})-(\d{2})$/.exec(ym);
+  if (!m) return ym;
+  return new Intl.DateTimeFormat('en-NZ', { timeZone: 'UTC', month: 'short', year: 'numeric' }).format(new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, 15)));
+}
 import type { ClearanceRow, FaultRow, NoShowRow, ReportName, RevenueRow, UtilisationRow } from '../lib/reports';
 
 interface Machine {
@@ -27,7 +35,8 @@ interface Answer<R, T> {
   totals: T;
 }
 
-const COLORS = ['#b3370f', '#262522', '#2b6a3c', '#875500', '#8c2a0a', '#4f4a42'];
+// no ember here: ember means "your booking" and actions elsewhere. "Booked" is the calendar's booked grey.
+const COLORS = ['#4f4a42', '#2b6a3c', '#1f5f8b', '#875500', '#262522', '#7a4f9a'];
 const pct = (v: number | null) => (v === null ? '—' : `${(v * 100).toFixed(1)} %`);
 const hours = (minutes: number) => `${(minutes / 60).toFixed(1)} h`;
 
@@ -67,8 +76,9 @@ function Section(props: { id: string; title: string; intro: string; csvHref: str
   );
 }
 
-function Scroll({ children }: { children: ReactNode }) {
-  return <div className="overflow-x-auto">{children}</div>;
+/** A table that may scroll sideways on a phone: focusable, so a keyboard can scroll it too. */
+function Scroll({ children, label = 'Table (scrolls sideways)' }: { children: ReactNode; label?: string }) {
+  return <div className="overflow-x-auto" tabIndex={0} role="region" aria-label={label}>{children}</div>;
 }
 
 function Empty({ what }: { what: string }) {
@@ -114,8 +124,10 @@ export default function ReportsPanel(props: Props) {
       w.beam += r.beam_minutes;
       byWeek.set(r.week_start, w);
     }
+    const years = new Set([...byWeek.keys()].map((k) => k.slice(0, 4)));
+    const spansYears = years.size > 1;
     return [...byWeek.values()].map((w) => ({
-      week: w.week.slice(5),
+      week: formatIsoDay(w.week, {}, spansYears),
       Booked: w.open ? Math.round((w.booked / w.open) * 1000) / 10 : 0,
       'Beam time': w.open ? Math.round((w.beam / w.open) * 1000) / 10 : 0,
     }));
@@ -126,7 +138,7 @@ export default function ReportsPanel(props: Props) {
     const names = [...new Set((revenue.data?.rows ?? []).map((r) => r.machine || 'No machine'))];
     const byMonth = new Map<string, Record<string, number | string>>();
     for (const r of revenue.data?.rows ?? []) {
-      const row = byMonth.get(r.month) ?? { month: r.month };
+      const row = byMonth.get(r.month) ?? { month: monthWords(r.month) };
       const key = r.machine || 'No machine';
       row[key] = Number(row[key] ?? 0) + r.net_minor / 100;
       byMonth.set(r.month, row);
@@ -180,6 +192,9 @@ export default function ReportsPanel(props: Props) {
                 Open {hours(util.data.totals.openMinutes)} · booked {hours(util.data.totals.bookedMinutes)} ({pct(util.data.totals.bookedShare)}) · beam time{' '}
                 {hours(util.data.totals.beamMinutes)} ({pct(util.data.totals.beamShare)})
               </p>
+              <p className="hint mb-3">
+                Beam time can be more than booked time: walk-up sessions (used at the machine without a booking) count as beam time but not as booked time.
+              </p>
               {utilChart.length > 0 && (
                 <figure className="mb-4 h-64" aria-label="Utilisation by week, percent of open hours">
                   <ResponsiveContainer width="100%" height="100%">
@@ -188,7 +203,7 @@ export default function ReportsPanel(props: Props) {
                       <XAxis dataKey="week" fontSize={12} />
                       <YAxis unit="%" fontSize={12} />
                       <Tooltip formatter={(v) => `${v} %`} />
-                      <Legend />
+                      <Legend itemSorter={null} />
                       <Bar dataKey="Booked" fill={COLORS[0]} isAnimationActive={false} />
                       <Bar dataKey="Beam time" fill={COLORS[1]} isAnimationActive={false} />
                     </BarChart>
@@ -196,13 +211,13 @@ export default function ReportsPanel(props: Props) {
                 </figure>
               )}
               {util.data.rows.length === 0 ? <Empty what="machines" /> : (
-                <Scroll>
+                <Scroll label="Utilisation table (scrolls sideways)">
                   <table className="table whitespace-nowrap">
                     <thead><tr><th>Machine</th><th>Week from</th><th className="text-right">Open</th><th className="text-right">Booked</th><th className="text-right">Beam time</th></tr></thead>
                     <tbody>
                       {util.data.rows.map((r) => (
                         <tr key={`${r.machine_id}-${r.week_start}`}>
-                          <td>{r.machine}</td><td>{r.week_start}</td>
+                          <td>{r.machine}</td><td>{formatIsoDay(r.week_start, {}, true)}</td>
                           <td className="text-right">{hours(r.open_minutes)}</td>
                           <td className="text-right">{hours(r.booked_minutes)} <span className="hint">{pct(r.booked_share)}</span></td>
                           <td className="text-right">{hours(r.beam_minutes)} <span className="hint">{pct(r.beam_share)}</span></td>
@@ -236,7 +251,7 @@ export default function ReportsPanel(props: Props) {
                       <XAxis dataKey="month" fontSize={12} />
                       <YAxis fontSize={12} />
                       <Tooltip formatter={(v) => `${props.currency} ${Number(v).toFixed(2)}`} />
-                      <Legend />
+                      <Legend itemSorter={null} />
                       {revenueMachines.map((m, i) => (
                         <Bar key={m} dataKey={m} stackId="net" fill={COLORS[i % COLORS.length]} isAnimationActive={false} />
                       ))}
@@ -245,13 +260,13 @@ export default function ReportsPanel(props: Props) {
                 </figure>
               )}
               {revenue.data.rows.length === 0 ? <Empty what="charges" /> : (
-                <Scroll>
+                <Scroll label="Revenue table (scrolls sideways)">
                   <table className="table whitespace-nowrap">
                     <thead><tr><th>Month</th><th>Machine</th><th>Tier</th><th>Method</th><th className="text-right">Charges</th><th className="text-right">Net</th><th className="text-right">Tax</th></tr></thead>
                     <tbody>
                       {revenue.data.rows.map((r) => (
                         <tr key={`${r.month}-${r.machine_id}-${r.tier}-${r.method}-${r.currency}`}>
-                          <td>{r.month}</td><td>{r.machine || '—'}</td><td>{r.tier}</td><td>{r.method}</td>
+                          <td>{monthWords(r.month)}</td><td>{r.machine || '—'}</td><td>{r.tier}</td><td>{r.method}</td>
                           <td className="text-right">{r.charges}</td>
                           <td className="text-right">{formatMoney(r.net_minor, r.currency)}</td>
                           <td className="text-right">{formatMoney(r.tax_minor, r.currency)}</td>
@@ -270,7 +285,7 @@ export default function ReportsPanel(props: Props) {
         <Section id="r-clear" title="Clearance funnel" csvHref={csv('clearances')} loading={clear.loading} problem={clear.problem}
           intro="People per machine group who, in this period, started a quiz, passed it, booked a seat at an induction session starting in the period, attended it, were signed off, and whose clearance lapsed without renewal.">
           {clear.data && (clear.data.rows.length === 0 ? <Empty what="machine groups" /> : (
-            <Scroll>
+            <Scroll label="Clearance funnel table (scrolls sideways)">
               <table className="table whitespace-nowrap">
                 <thead><tr><th>Group</th><th className="text-right">Quiz started</th><th className="text-right">Passed</th><th className="text-right">Seat booked</th><th className="text-right">Attended</th><th className="text-right">Signed off</th><th className="text-right">Lapsed</th></tr></thead>
                 <tbody>
@@ -298,7 +313,7 @@ export default function ReportsPanel(props: Props) {
                 {hours(faults.data.totals.outOfServiceMinutes)} · mean time to return{' '}
                 {faults.data.totals.meanMinutesToReturn === null ? '—' : hours(faults.data.totals.meanMinutesToReturn)}
               </p>
-              <Scroll>
+              <Scroll label="Faults table (scrolls sideways)">
                 <table className="table whitespace-nowrap">
                   <thead><tr><th>Machine</th><th className="text-right">Stop</th><th className="text-right">Degraded</th><th className="text-right">Note</th><th className="text-right">Open now</th><th className="text-right">Out of service</th><th className="text-right">Mean to return</th></tr></thead>
                   <tbody>
@@ -321,7 +336,7 @@ export default function ReportsPanel(props: Props) {
         <Section id="r-noshow" title="No-shows and late cancellations" csvHref={csv('no-shows')} loading={noShows.loading} problem={noShows.problem}
           intro="People with a no-show or a late cancellation among their personal bookings that started in this period: a starting point for a fair-use conversation, not a verdict.">
           {noShows.data && (noShows.data.rows.length === 0 ? <Empty what="no-shows or late cancellations" /> : (
-            <Scroll>
+            <Scroll label="No-shows table (scrolls sideways)">
               <table className="table whitespace-nowrap">
                 <thead><tr><th>Person</th><th className="text-right">Bookings</th><th className="text-right">No-shows</th><th className="text-right">Late cancellations</th></tr></thead>
                 <tbody>

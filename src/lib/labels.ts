@@ -29,3 +29,20 @@ export function wrapText(text: string, width: number): string[] {
 export function escapeXml(s: string): string {
   return s.replace(/[<>&"']/g, (c) => ({ '<': '&lt;', '>': '&gt;', '&': '&amp;', '"': '&quot;', "'": '&apos;' })[c]!);
 }
+
+/**
+ * Whether a label address can be reached from a phone in the room: not a loopback or unspecified host
+ * (localhost, 127.x.x.x, ::1, 0.0.0.0). Labels are not printed until the site's public address passes.
+ */
+export function isPublicAddress(baseUrl: string | null | undefined): boolean {
+  if (!baseUrl) return false;
+  let host: string;
+  try {
+    host = new URL(baseUrl).hostname.toLowerCase().replace(/^\[|\]$/g, '');
+  } catch {
+    return false;
+  }
+  if (host === 'localhost' || host.endsWith('.localhost') || host === '::1' || host === '0.0.0.0' || host === '::') return false;
+  if (/^127\.\d+\.\d+\.\d+$/.test(host)) return false;
+  return true;
+}

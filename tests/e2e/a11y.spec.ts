@@ -23,6 +23,12 @@ const SCREENS: { path: string; who: DemoPerson | null; ready: string }[] = [
   { path: '/quizzes', who: 'instructor', ready: 'main' },
   { path: '/admin/people', who: 'admin', ready: 'table' },
   { path: '/admin/materials', who: 'admin', ready: 'main' },
+  { path: '/admin', who: 'admin', ready: 'main' },
+  { path: '/admin/audit', who: 'admin', ready: 'table tbody tr' },
+  { path: '/admin/labels', who: 'admin', ready: 'main' },
+  { path: '/admin/pricing', who: 'admin', ready: 'main' },
+  { path: '/reports', who: 'admin', ready: '[data-testid="util-totals"]' },
+  { path: '/upkeep', who: 'steward', ready: 'main' },
 ];
 
 let browser: Browser;
@@ -86,6 +92,6 @@ describe('main screens under the Content-Security-Policy, checked with axe-core 
       for (const e of errors) problems.push(`${who}: ${e}`);
       await ctx.close();
       expect(problems, problems.join('\n')).toEqual([]);
-    }, 120_000);
+    }, 300_000);
   }
 });

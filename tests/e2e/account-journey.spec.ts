@@ -24,7 +24,7 @@ afterAll(async () => {
 });
 
 describe('account and pricing', () => {
-  it('the member saves the test card, sees Visa •••• 4242, and reads a receipt with the breakdown', async () => {
+  it('the member saves the always-approved practice card, sees Visa •••• 4242, and reads a receipt with the breakdown', async () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
@@ -32,9 +32,12 @@ describe('account and pricing', () => {
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Account', exact: true }).click();
     await page.waitForLoadState('networkidle');
     expect(await page.getByRole('heading', { level: 1 }).innerText()).toBe('Account');
-    expect(await page.getByText('TEST MODE').count()).toBe(1);
-    await page.getByLabel(/ending 4242/).check();
-    await page.getByRole('button', { name: 'Save test card' }).click();
+    // practice payments in plain words: no provider test-token names, no "TEST MODE"
+    expect(await page.getByText('Practice payments — no real money moves').count()).toBe(1);
+    const main = await page.locator('main').innerText();
+    expect(main).not.toMatch(/tok_|TEST MODE/);
+    await page.getByLabel(/Always approved/).check();
+    await page.getByRole('button', { name: 'Save practice card' }).click();
     await page.getByText('Card saved: Visa ending 4242').waitFor();
     expect(await page.getByTestId('card').innerText()).toBe('Visa •••• 4242');
     expect(await page.getByTestId('tier').innerText()).toBe('Community');

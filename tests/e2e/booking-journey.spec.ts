@@ -92,8 +92,10 @@ describe('booking on the calendar', () => {
     // open it by keyboard and cancel
     await mine.first().focus();
     await page.keyboard.press('Enter');
-    await page.getByRole('button', { name: 'Cancel booking' }).click();
+    await page.getByRole('dialog').getByRole('button', { name: 'Cancel booking…' }).click();
+    await page.getByRole('button', { name: 'Yes, cancel it' }).click();
     await page.getByText('Cancelled. The time is free for others.').waitFor();
+    await page.getByRole('dialog').getByRole('button', { name: 'Close' }).click();
     await expect.poll(() => page.locator('.fc-event.bw-mine').filter({ hasText: 'Your booking' }).count()).toBe(0);
     expect((await testDb()('bookings').where({ id: row.id }).first()).state).toBe('cancelled');
     expect(errors).toEqual([]);

@@ -31,7 +31,8 @@ import {
 } from '../availability';
 import { buildIcs } from '../ics';
 import { checkDeclaredMaterials } from './materials';
-import { assertCanBook, chargeBookingFee, holdForBooking, releaseHoldsForBooking } from './payments';
+import { assertCanBook, chargeBookingFee, heldOnBookings, holdForBooking, releaseHoldsForBooking } from './payments';
+import { quoteFor } from './prices';
 
 type Conn = Knex | Knex.Transaction;
 
@@ -463,13 +464,30 @@ export interface FeedEvent {
   courseName: string | null;
   notes: string | null;
   lateCancel: boolean;
+  /** The viewer's own reserved bookings: what cancelling costs (fee if late, the card hold released). */
+  cancelTerms?: CancelTerms;
+}
+
+export interface CancelTerms {
+  /** The late-cancellation fee with tax, or null when the price version has none (or no price applies). */
+  lateFeeMinor: number | null;
+  /** The amount held on the card for this booking, released on cancelling; null when nothing is held. */
+  heldMinor: number | null;
+  currency: string | null;
+}
+
+/** The viewer's booked minutes on a machine in the site week holding the feed's first day, and the tier's limit. */
+export interface WeekUse {
+  weekStart: Date;
+  usedMinutes: number;
+  limitMinutes: number | null;
 }
 
 export interface Feed {
   timeZone: string;
   bookings: FeedEvent[];
   closures: { id: string; machineId: string | null; startsAt: Date; endsAt: Date; reason: string }[];
-  machines: { id: string; name: string; status: string; open: Interval[]; slotMinutes: number; minMinutes: number; maxMinutes: number; bufferMinutes: number; cancelCutoffMinutes: number }[];
+  machines: { id: string; name: string; status: string; open: Interval[]; slotMinutes: number; minMinutes: number; maxMinutes: number; bufferMinutes: number; cancelCutoffMinutes: number; week: WeekUse }[];
 }
 
 /** The calendar feed: active bookings in [from, to) (and the viewer's own, in any state but cancelled), closures, open hours. */
@@ -489,10 +507,13 @@ export async function calendarFeed(viewer: Actor, filter: { machineId?: string; 
     .orderBy('b.starts_at')
     .select('b.*', 'p.name as person_name');
   const closures = await listClosures(filter.machineId ?? null, filter.from, filter.to);
+  const tier = await getTier(viewer.id);
+  const week = localWeek(filter.from, settings.timeZone);
   const machinesOut = [];
   for (const m of machines) {
     const rules = await getRules(m.id);
     const mc = closures.filter((c) => c.machineId === null || c.machineId === m.id);
+    const used = await weeklyMinutes(db(), viewer.id, m.id, week.start, settings.timeZone);
     machinesOut.push({
       id: m.id,
       name: m.name,
@@ -503,13 +524,16 @@ export async function calendarFeed(viewer: Actor, filter: { machineId?: string; 
       maxMinutes: rules.maxMinutes,
       bufferMinutes: rules.bufferMinutes,
       cancelCutoffMinutes: rules.cancelCutoffMinutes,
+      week: { weekStart: week.start, usedMinutes: Math.round(used), limitMinutes: rules.quotas[tier] ?? null },
     });
   }
+  const typed = rows as (Row & { person_name: string })[];
+  const terms = await cancelTermsOf(typed.filter((r) => r.person_id === viewer.id && r.state === 'reserved' && r.kind === 'personal'), tier);
   return {
     timeZone: settings.timeZone,
     machines: machinesOut,
     closures: closures.filter((c) => c.machineId === null || ids.includes(c.machineId)),
-    bookings: (rows as (Row & { person_name: string })[]).map((r) => {
+    bookings: typed.map((r) => {
       const mine = r.person_id === viewer.id;
       return {
         id: r.id,
@@ -524,9 +548,30 @@ export async function calendarFeed(viewer: Actor, filter: { machineId?: string; 
         courseName: r.course_name,
         notes: mine ? r.notes : null,
         lateCancel: r.late_cancel,
+        ...(terms.has(r.id) ? { cancelTerms: terms.get(r.id)! } : {}),
       };
     }),
   };
+}
+
+/** What cancelling each of these (the viewer's own, reserved) bookings would cost: the late fee and the hold released. */
+async function cancelTermsOf(rows: Row[], tier: Awaited<ReturnType<typeof getTier>>): Promise<Map<string, CancelTerms>> {
+  const out = new Map<string, CancelTerms>();
+  if (!rows.length) return out;
+  const held = await heldOnBookings(rows.map((r) => r.id));
+  for (const r of rows) {
+    let lateFeeMinor: number | null = null;
+    let currency: string | null = held.get(r.id)?.currency ?? null;
+    try {
+      const q = await quoteFor({ machineId: r.machine_id, tier, minutes: 0, at: r.starts_at, lateCancellation: true });
+      lateFeeMinor = q.amountMinor > 0 ? q.amountMinor : null;
+      currency = q.currency;
+    } catch {
+      // no price version in force or no rate for this tier: no fee can be said
+    }
+    out.set(r.id, { lateFeeMinor, heldMinor: held.get(r.id)?.amountMinor ?? null, currency });
+  }
+  return out;
 }
 
 /** Free ranges of a machine in [from, to), by the same rules createBooking applies. */

@@ -765,3 +765,15 @@ export async function providerChargesOf(personId: string): Promise<{ id: string;
   }
   return out;
 }
+
+/** The card holds standing on these bookings (state `held`), by booking: what cancelling would release. */
+export async function heldOnBookings(bookingIds: readonly string[]): Promise<Map<string, { amountMinor: number; currency: string }>> {
+  const out = new Map<string, { amountMinor: number; currency: string }>();
+  if (!bookingIds.length) return out;
+  const rows = (await db()('charges').whereIn('booking_id', bookingIds).where({ state: 'held' }).select('booking_id', 'amount_minor', 'currency')) as { booking_id: string; amount_minor: number; currency: string }[];
+  for (const r of rows) {
+    const before = out.get(r.booking_id);
+    out.set(r.booking_id, { amountMinor: (before?.amountMinor ?? 0) + Number(r.amount_minor), currency: r.currency });
+  }
+  return out;
+}
