@@ -5,7 +5,7 @@
  * compositions are the textbook repeat units, from memory).
  *
  * The screener reads a name before it reads a formula, so "PVC" is polyvinyl chloride, not phosphorus, vanadium
- * and carbon. The Materials search uses the same list, so "vinyl" or "perspex-style acrylic sheet" find the entry.
+ * and carbon. The Materials search uses the same list, so "vinyl" or "cast acrylic sheet" find the entry.
  */
 
 export type NameVerdict = 'blocked' | 'review';
@@ -47,21 +47,21 @@ export const KNOWN_MATERIALS: readonly KnownMaterial[] = [
   { name: 'ABS', names: ['abs', 'acrylonitrile butadiene styrene'], composition: ['(C3H3N)n', '(C4H6)n', '(C8H8)n'], verdict: 'blocked',
     reason: 'Contains nitrogen: it may give off hydrogen cyanide. It melts into a sticky residue and catches fire.', catalogue: ['abs'] },
   { name: 'HIPS (high-impact polystyrene)', names: ['hips', 'high impact polystyrene'], composition: ['(C8H8)n', '(C4H6)n'], verdict: 'blocked', reason: `${MELT} Styrene fumes.`, catalogue: ['polystyrene'] },
-  { name: 'Polystyrene', names: ['polystyrene', 'ps', 'styrene', 'styrofoam', 'eps', 'xps', 'foam board insulation'], composition: ['(C8H8)n'], verdict: 'blocked', reason: `${MELT} Styrene fumes.`, catalogue: ['polystyrene'] },
+  { name: 'Polystyrene', names: ['polystyrene', 'ps', 'styrene', 'eps', 'xps', 'foam board insulation'], composition: ['(C8H8)n'], verdict: 'blocked', reason: `${MELT} Styrene fumes.`, catalogue: ['polystyrene'] },
   { name: 'Polyurethane', names: ['polyurethane', 'pu', 'pur', 'pu foam', 'pu leather', 'memory foam', 'upholstery foam'], composition: ['(C17H16N2O4)n'], verdict: 'blocked',
     reason: 'Contains nitrogen: it gives off hydrogen cyanide and other toxic fumes, and foam burns fast.', catalogue: ['polyurethane'] },
   { name: 'Faux leather', names: ['faux leather', 'vegan leather', 'leatherette', 'pleather', 'artificial leather', 'synthetic leather', 'imitation leather'],
     composition: ['(C2H3Cl)n'], verdict: 'blocked', reason: 'Usually PVC or polyurethane on a fabric backing: chlorine (hydrogen chloride) or nitrogen (hydrogen cyanide) fumes. Blocked unless a steward has the safety data sheet.', catalogue: ['faux leather'] },
   { name: 'Nylon (polyamide)', names: ['nylon', 'polyamide', 'pa', 'pa6', 'pa 6', 'pa66', 'pa 66', 'nylon 6', 'nylon 66'], composition: ['(C6H11NO)n'], verdict: 'blocked',
     reason: 'Contains nitrogen (hydrogen cyanide risk); it melts and drips rather than cutting.', catalogue: ['nylon'] },
-  { name: 'PET / PETG', names: ['pet', 'petg', 'pet g', 'polyester', 'polyethylene terephthalate', 'apet', 'mylar film'], composition: ['(C10H8O4)n'], verdict: 'review',
+  { name: 'PET / PETG', names: ['pet', 'petg', 'pet g', 'polyester', 'polyethylene terephthalate', 'apet'], composition: ['(C10H8O4)n'], verdict: 'review',
     reason: 'No halogen; it melts, yellows and can flame when cut. Thin film engraves or cuts with care: a steward decides.', catalogue: ['pet'] },
   { name: 'EVA foam', names: ['eva', 'eva foam', 'ethylene vinyl acetate', 'craft foam', 'foam sheet'], composition: ['(C2H4)n', '(C4H6O2)n'], verdict: 'review',
     reason: 'No halogen (the "vinyl" here is vinyl acetate, not vinyl chloride). It melts and flames easily: a steward decides, with extraction on and the job watched.', catalogue: ['eva'] },
-  { name: 'Polypropylene', names: ['polypropylene', 'pp', 'corrugated plastic', 'correx'], composition: ['(C3H6)n'], verdict: 'blocked', reason: MELT, catalogue: ['polypropylene'] },
+  { name: 'Polypropylene', names: ['polypropylene', 'pp', 'corrugated plastic'], composition: ['(C3H6)n'], verdict: 'blocked', reason: MELT, catalogue: ['polypropylene'] },
   { name: 'Polyethylene', names: ['polyethylene', 'pe', 'hdpe', 'ldpe', 'polythene'], composition: ['(C2H4)n'], verdict: 'blocked', reason: MELT, catalogue: ['hdpe'] },
   { name: 'PVA (polyvinyl alcohol)', names: ['pva', 'polyvinyl alcohol', 'polyvinyl acetate'], composition: ['(C2H4O)n'], verdict: 'review', reason: 'No halogen (the "vinyl" here is not vinyl chloride). A steward reviews how it cuts.', catalogue: [] },
-  { name: 'Acrylic (PMMA)', names: ['acrylic', 'pmma', 'polymethyl methacrylate', 'plexiglass', 'acrylic sheet', 'cast acrylic', 'extruded acrylic', 'fluorescent acrylic', 'mirror acrylic'],
+  { name: 'Acrylic (PMMA)', names: ['acrylic', 'pmma', 'polymethyl methacrylate', 'acrylic sheet', 'cast acrylic', 'extruded acrylic', 'fluorescent acrylic', 'mirror acrylic'],
     composition: ['(C5H8O2)n'], verdict: 'review', reason: 'No halogen or nitrogen. The catalogue entry says how it may be used.', catalogue: ['acrylic'] },
   { name: 'Acetal (POM)', names: ['acetal', 'pom', 'polyoxymethylene', 'polyacetal'], composition: ['(CH2O)n'], verdict: 'review', reason: 'No halogen; gives off formaldehyde. The catalogue entry says how it may be used.', catalogue: ['acetal'] },
   { name: 'MDF', names: ['mdf', 'medium density fibreboard', 'medium density fiberboard', 'hardboard', 'hdf'], composition: ['(C6H10O5)n', 'CH4N2O', 'CH2O'], verdict: 'review',
