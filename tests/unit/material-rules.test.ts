@@ -10,7 +10,7 @@ const pvc: RuleMaterial = { ...base, composition: ['(C2H3Cl)n'], id: '2', name: 
 const anodised: RuleMaterial = { ...base, composition: ['Al2O3', 'Al'], id: '3', name: 'Anodised aluminium', rule: 'limited', reason: 'Engrave only: bare metal reflects the beam.', modes: ['engrave'] };
 const card: RuleMaterial = { ...base, composition: ['(C6H10O5)n'], id: '4', name: 'Card', rule: 'allowed', reason: 'Fine.', modes: ['cut', 'engrave'], maxCutMm: 3 };
 
-describe('decide (halogen and non-halogen blocks: REFERENCE.md, university EHS guidance)', () => {
+describe('decide (halogen and non-halogen blocks: REFERENCE.md, Materials — university EHS laser-cutter guidance as REFERENCE.md summarises it, no single document: common practice)', () => {
   it('PVC is blocked whatever the mode, naming the material and the reason', () => {
     const d = decide(pvc, laserA, { mode: 'engrave', thicknessMm: 1 });
     expect(d.ok).toBe(false);
