@@ -2,8 +2,13 @@
  * The material catalogue of the demo workshop: the common allowed and blocked materials, each with the reason
  * members read (university EHS laser-cutter guidance and chemistry, see REFERENCE.md), cutting figures for the
  * starting-settings estimate (density: datasheets; heat of gasification: SFPE Handbook fire-properties chapter for
- * PMMA and POM, effective values for wood and paper; efficiency: common practice, to be calibrated by an admin),
- * what the space sells by the sheet (NZD cents) and two per-machine overrides.
+ * PMMA and POM, effective values for wood and paper; efficiency: calibrated so that 3 mm plywood, MDF and acrylic land
+ * in the common-practice speed band at 40 W and 60 W — common practice, an admin may re-calibrate), what the space
+ * sells by the sheet (NZD cents) and two per-machine overrides.
+ *
+ * Compositions are honest about what the material carries: wood is cellulose and lignin, MDF adds its
+ * urea-formaldehyde binder, wool, felt and leather are protein (nitrogen, and sulfur in wool). Nitrogen-bearing
+ * materials are limited or blocked with the fume reason, never silently allowed (university EHS guidance).
  */
 import type { Knex } from 'knex';
 
@@ -30,15 +35,15 @@ export const SEED_MATERIALS: Row[] = [
   { name: 'Acrylic (PMMA)', category: 'plastic', composition: ['(C5H8O2)n'], rule: 'allowed', modes: ALL,
     reason: 'Cuts and engraves cleanly. It can flame: stay with the job, keep air assist and extraction on.',
     density_g_cm3: 1.18, heat_gasification_j_g: 1600, cut_efficiency: 0.25, sold_by_space: true, sheet_price_minor: 1800, sheet_size: '600 × 400 × 3 mm' },
-  { name: 'Plywood (birch or poplar)', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL,
+  { name: 'Plywood (birch or poplar)', category: 'wood', composition: ['(C6H10O5)n', '(C10H12O3)n'], rule: 'allowed', modes: ALL,
     reason: 'Cuts well; glue lines char and can flare. Use laser-grade plywood (interior glue), never marine or treated ply.',
-    density_g_cm3: 0.68, heat_gasification_j_g: 2500, cut_efficiency: 0.15, sold_by_space: true, sheet_price_minor: 650, sheet_size: '600 × 400 × 3 mm' },
-  { name: 'MDF', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL,
-    reason: 'Cuts well but the resin binder smokes heavily: extraction must run, and wipe the lens afterwards.',
-    density_g_cm3: 0.75, heat_gasification_j_g: 2500, cut_efficiency: 0.15, sold_by_space: true, sheet_price_minor: 400, sheet_size: '600 × 400 × 3 mm' },
-  { name: 'Solid wood', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL,
-    reason: 'Thin hardwood and softwood cut and engrave well. Resinous or oily woods flare: watch the job closely.',
-    density_g_cm3: 0.6, heat_gasification_j_g: 2500, cut_efficiency: 0.12 },
+    density_g_cm3: 0.68, heat_gasification_j_g: 2500, cut_efficiency: 0.28, sold_by_space: true, sheet_price_minor: 650, sheet_size: '600 × 400 × 3 mm' },
+  { name: 'MDF', category: 'wood', composition: ['(C6H10O5)n', '(C10H12O3)n', 'CH4N2O', 'CH2O'], rule: 'limited', modes: ALL,
+    reason: 'Cuts well, but its urea-formaldehyde binder gives off formaldehyde and nitrogen-bearing smoke: extraction must run for the whole job, and wipe the lens afterwards.',
+    density_g_cm3: 0.75, heat_gasification_j_g: 2500, cut_efficiency: 0.3, sold_by_space: true, sheet_price_minor: 400, sheet_size: '600 × 400 × 3 mm' },
+  { name: 'Solid wood', category: 'wood', composition: ['(C6H10O5)n', '(C10H12O3)n'], rule: 'allowed', modes: ALL,
+    reason: 'Thin hardwood and softwood cut and engrave well. Resinous or oily woods flare: watch the job closely. Painted, stained or pressure-treated wood is not this material.',
+    density_g_cm3: 0.6, heat_gasification_j_g: 2500, cut_efficiency: 0.25 },
   { name: 'Paper', category: 'paper', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 1,
     reason: 'Cuts fast at low power. Loose scraps catch fire: hold sheets flat and clear the bed after each job.',
     density_g_cm3: 0.8, heat_gasification_j_g: 2000, cut_efficiency: 0.3 },
@@ -48,11 +53,15 @@ export const SEED_MATERIALS: Row[] = [
   { name: 'Cork', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 6,
     reason: 'Cuts and engraves well. Agglomerated cork may hold a binder: ask a steward if the sheet is unlabelled.',
     density_g_cm3: 0.24, heat_gasification_j_g: 2500, cut_efficiency: 0.15 },
-  { name: 'Natural fabric (cotton, linen, wool, felt)', category: 'textile', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 3,
-    reason: 'Natural fibres cut with sealed, browned edges. Synthetic or blended fabric is not this material: request it.',
+  { name: 'Natural fabric (cotton, linen)', category: 'textile', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 3,
+    reason: 'Plant fibres cut with sealed, browned edges. Synthetic or blended fabric is not this material: request it.',
     density_g_cm3: 0.4, heat_gasification_j_g: 2000, cut_efficiency: 0.3 },
-  { name: 'Vegetable-tanned leather', category: 'leather', composition: [], rule: 'allowed', modes: ALL, max_cut_mm: 4,
-    reason: 'Cuts and engraves well and smells strongly: extraction must run. Only vegetable-tanned, uncoated leather.',
+  // limited: nitrogen-bearing natural materials (protein, resin binders): the fume reason is stated
+  { name: 'Wool and felt', category: 'textile', composition: ['(C5H9NO2)n', 'C3H7NO2S'], rule: 'limited', modes: ['cut', 'engrave'], max_cut_mm: 3,
+    reason: 'Protein fibre (keratin): nitrogen and sulfur, so the smoke carries hydrogen cyanide and sulfur compounds and smells strongly. Extraction must run; short jobs only. Synthetic felt is not this material.',
+    density_g_cm3: 0.3, heat_gasification_j_g: 2000, cut_efficiency: 0.3 },
+  { name: 'Vegetable-tanned leather', category: 'leather', composition: ['(C5H9NO2)n', 'C76H52O46'], rule: 'limited', modes: ALL, max_cut_mm: 4,
+    reason: 'Protein (collagen) tanned with plant tannins: nitrogen in the smoke, which smells strongly. Extraction must run. Only vegetable-tanned, uncoated leather.',
     density_g_cm3: 0.9, heat_gasification_j_g: 2500, cut_efficiency: 0.15 },
   // limited
   { name: 'Acetal (POM)', category: 'plastic', composition: ['(CH2O)n'], rule: 'limited', modes: ['cut', 'engrave'], max_cut_mm: 6,
@@ -77,6 +86,8 @@ export const SEED_MATERIALS: Row[] = [
     reason: 'Contains fluorine: it gives off hydrogen fluoride, which is highly toxic and etches glass and optics.' },
   { name: 'FR-4 circuit board', category: 'composite', composition: ['(C18H20O3)n', 'C15H12Br4O2'], rule: 'blocked', modes: [],
     reason: 'Its flame retardant contains bromine (hydrogen bromide fumes), and the glass-fibre weave does not cut.' },
+  { name: 'Faux leather (PVC or PU coated)', category: 'textile', composition: ['(C2H3Cl)n'], rule: 'blocked', modes: [],
+    reason: 'Imitation leather is a PVC or polyurethane coating on fabric: hydrogen chloride or hydrogen cyanide when cut. Use vegetable-tanned leather instead.' },
   // blocked: other hazards
   { name: 'ABS', category: 'plastic', composition: ['(C3H3N)n', '(C4H6)n', '(C8H8)n'], rule: 'blocked', modes: [],
     reason: 'Contains nitrogen: it may give off hydrogen cyanide. It melts into a sticky residue and catches fire.' },
@@ -90,6 +101,18 @@ export const SEED_MATERIALS: Row[] = [
     reason: 'Melts and drips rather than cutting, and catches fire easily.' },
   { name: 'Polystyrene foam', category: 'foam', composition: ['(C8H8)n'], rule: 'blocked', modes: [],
     reason: 'Melts, drips and burns fast; a fire starts within seconds.' },
+  { name: 'Solid polystyrene and HIPS', category: 'plastic', composition: ['(C8H8)n', '(C4H6)n'], rule: 'blocked', modes: [],
+    reason: 'Melts and burns with thick, sooty styrene smoke instead of cutting cleanly.' },
+  { name: 'Foam-core board', category: 'foam', composition: ['(C8H8)n', '(C6H10O5)n'], rule: 'blocked', modes: [],
+    reason: 'A polystyrene foam core between paper faces: the core melts back and burns fast. Cut it with a knife.' },
+  { name: 'Nylon (polyamide)', category: 'plastic', composition: ['(C6H11NO)n'], rule: 'blocked', modes: [],
+    reason: 'Contains nitrogen: it may give off hydrogen cyanide. It melts and drips rather than cutting.' },
+  { name: 'PET and PETG', category: 'plastic', composition: ['(C10H8O4)n'], rule: 'blocked', modes: [],
+    reason: 'Melts, yellows and flames rather than cutting cleanly. Ask a steward about thin film for engraving.' },
+  { name: 'EVA foam', category: 'foam', composition: ['(C2H4)n', '(C4H6O2)n'], rule: 'limited', modes: ['cut', 'engrave'], max_cut_mm: 6,
+    reason: 'Ethylene-vinyl acetate (no chlorine: the vinyl here is vinyl acetate). It melts and flames easily: low power, several passes, never leave it, extraction on. At most 6 mm.' },
+  { name: 'Painted, stained or pressure-treated wood', category: 'wood', composition: ['(C6H10O5)n', 'CuO', 'Cr2O3', 'As2O5'], rule: 'blocked', modes: [],
+    reason: 'Preservatives (copper, chromium, arsenic compounds) and old paint (lead, or PVC-based coatings) go into the smoke. Use bare wood.' },
   { name: 'Fibreglass', category: 'composite', composition: ['SiO2', '(C18H20O3)n'], rule: 'blocked', modes: [],
     reason: 'Epoxy resin fumes and loose glass fibres; glass does not cut cleanly.' },
   { name: 'Carbon-fibre composite', category: 'composite', composition: ['C', '(C18H20O3)n'], rule: 'blocked', modes: [],

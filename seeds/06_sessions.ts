@@ -6,7 +6,7 @@
 import type { Knex } from 'knex';
 
 const DAY = 86_400_000;
-const CHECKLIST = { extractionOn: true, airAssistOn: true, lensClean: true, extinguisherInPlace: true, willStay: true };
+const CHECKLIST = { extractionOn: true, airAssistOn: true, coolantFlowing: true, lensClean: true, extinguisherInPlace: true, willStay: true };
 
 export async function seed(knex: Knex): Promise<void> {
   const machines = (await knex('machines').select('id', 'code', 'coolant_type')) as { id: string; code: string; coolant_type: string }[];

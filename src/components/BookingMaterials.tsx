@@ -22,7 +22,7 @@ interface Catalogue {
   modes: MaterialMode[];
 }
 
-export type RowVerdict = { state: 'checking' } | { state: 'ok' } | { state: 'refused'; code: string; message: string } | { state: 'unknown' };
+export type RowVerdict = { state: 'checking' } | { state: 'ok'; warnings: string[] } | { state: 'refused'; code: string; message: string } | { state: 'unknown' };
 
 let nextKey = 1;
 export const newRow = (): MaterialRow => ({ key: nextKey++, materialId: '', thicknessMm: '3', mode: 'cut' });
@@ -59,8 +59,8 @@ export default function BookingMaterials(p: {
           continue;
         }
         try {
-          await api('/api/tools/check-materials', { method: 'POST', json: { machineId: p.machineId, materials: [{ materialId: r.materialId, thicknessMm: thickness, mode: r.mode }] } });
-          out[r.key] = { state: 'ok' };
+          const res = await api<{ ok: true; warnings?: string[] }>('/api/tools/check-materials', { method: 'POST', json: { machineId: p.machineId, materials: [{ materialId: r.materialId, thicknessMm: thickness, mode: r.mode }] } });
+          out[r.key] = { state: 'ok', warnings: res.warnings ?? [] };
         } catch (e) {
           out[r.key] = e instanceof ApiError && e.status === 422 ? { state: 'refused', code: e.code, message: e.message } : { state: 'unknown' };
         }
@@ -112,6 +112,7 @@ export default function BookingMaterials(p: {
                 <p><span className={`status status-${rt.tone}`}>{rt.icon} {rt.label}</span> {v?.state === 'refused' ? null : m.reason}</p>
                 {v?.state === 'checking' && <p className="hint mt-1">Checking this machine’s rules…</p>}
                 {v?.state === 'ok' && <p className="mt-1 text-[var(--color-ok)]">✓ Fine on this machine as {r.mode} at {r.thicknessMm} mm.</p>}
+                {v?.state === 'ok' && v.warnings.map((w) => <p key={w} className="notice notice-warn mt-1" data-testid="material-advice">▲ {w}</p>)}
                 {v?.state === 'refused' && <p className="notice notice-stop mt-1" role="alert"><strong>Not on this machine:</strong> {v.message}</p>}
               </div>
             )}

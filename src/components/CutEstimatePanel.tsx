@@ -4,7 +4,9 @@ import { api, ApiError } from './ui/api';
 
 interface Option { id: string; name: string }
 interface MachineOption extends Option { powerW: number }
-interface Estimate { speedMmPerS: number; lineEnergyJPerMm: number; withinReach: boolean; assumptions: string[] }
+type Estimate =
+  | { notOnThisMachine?: undefined; speedMmPerS: number; lineEnergyJPerMm: number; withinReach: boolean; reachMm: number; ruleMaxCutMm: number | null; allowedByRule: boolean; notes: string[]; assumptions: string[] }
+  | { notOnThisMachine: true; message: string };
 
 export default function CutEstimatePanel({ machines, materials, machineId }: { machines: MachineOption[]; materials: Option[]; machineId?: string }) {
   const [machine, setMachine] = useState(machineId ?? machines[0]?.id ?? '');
@@ -15,10 +17,11 @@ export default function CutEstimatePanel({ machines, materials, machineId }: { m
   const powerW = machines.find((m) => m.id === machine)?.powerW;
 
   useEffect(() => {
-    if (!powerW || !material || !thickness) return;
+    if (!machine || !material || !thickness) return;
     const t = setTimeout(async () => {
       try {
-        const p = new URLSearchParams({ powerW: String(powerW), materialId: material, thicknessMm: thickness });
+        // the machine's own power and its rule for this material (overrides included)
+        const p = new URLSearchParams({ machineId: machine, materialId: material, thicknessMm: thickness });
         setEst(await api<Estimate>(`/api/tools/cut-estimate?${p}`));
         setError(null);
       } catch (e) {
@@ -27,7 +30,7 @@ export default function CutEstimatePanel({ machines, materials, machineId }: { m
       }
     }, 250);
     return () => clearTimeout(t);
-  }, [powerW, material, thickness]);
+  }, [machine, material, thickness]);
 
   return (
     <section className="card min-w-0 space-y-3 p-5" aria-label="Starting cut settings">
@@ -45,13 +48,16 @@ export default function CutEstimatePanel({ machines, materials, machineId }: { m
       </div>
       <div aria-live="polite">
         {error && <p className="notice notice-stop">{error}</p>}
-        {est && (
+        {est?.notOnThisMachine && <p className="notice notice-stop" data-testid="not-on-machine">■ {est.message}</p>}
+        {est && !est.notOnThisMachine && (
           <>
             <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-1">
-              <dt className="text-charcoal-soft">Estimated speed</dt><dd className="font-semibold">{est.speedMmPerS} mm/s at full power</dd>
+              <dt className="text-charcoal-soft">Estimated speed</dt><dd className="font-semibold">{est.speedMmPerS} mm/s at full power{powerW ? ` (${powerW} W)` : ''}</dd>
               <dt className="text-charcoal-soft">Line energy</dt><dd>{est.lineEnergyJPerMm} J/mm</dd>
-              <dt className="text-charcoal-soft">Within reach</dt><dd>{est.withinReach ? 'Yes' : 'No — too thick for this machine in one pass'}</dd>
+              <dt className="text-charcoal-soft">One pass</dt><dd>{est.withinReach ? `Likely (reach about ${est.reachMm} mm)` : `Probably not: reach about ${est.reachMm} mm — several passes (advice only)`}</dd>
+              <dt className="text-charcoal-soft">Rule</dt><dd>{est.ruleMaxCutMm === null ? 'No thickness limit' : `At most ${est.ruleMaxCutMm} mm`}{est.allowedByRule ? '' : ' — this thickness cannot be booked'}</dd>
             </dl>
+            {est.notes.map((n) => <p key={n} className={`notice ${est.allowedByRule ? 'notice-warn' : 'notice-stop'} mt-2 text-sm`}>{n}</p>)}
             <details className="mt-2 text-sm"><summary className="cursor-pointer">Assumptions</summary>
               <ul className="mt-1 list-disc pl-5">{est.assumptions.map((a) => <li key={a}>{a}</li>)}</ul></details>
           </>

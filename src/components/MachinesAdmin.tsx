@@ -36,8 +36,11 @@ function draftOf(m: AdminMachine | null, groups: Group[]): Draft {
   };
 }
 
+/** Which beam-diameter figure the admin typed: 1/e (what the formulas use) or 1/e² (what makers usually quote). */
+type BeamConvention = 'e' | 'e2';
+
 /** The body for the API, or the first field that is not a number. */
-function bodyOf(d: Draft, isNew: boolean): { body: Record<string, unknown> } | { field: string } {
+function bodyOf(d: Draft, isNew: boolean, beamAs: BeamConvention = 'e'): { body: Record<string, unknown> } | { field: string } {
   const out: Record<string, unknown> = {
     name: d.name,
     groupId: d.groupId,
@@ -52,6 +55,8 @@ function bodyOf(d: Draft, isNew: boolean): { body: Record<string, unknown> } | {
     if (d[k].trim() === '' || !Number.isFinite(n)) return { field: k };
     out[k] = n;
   }
+  // the hazard formulas take the 1/e diameter; a maker's 1/e² figure is converted: d(1/e) = d(1/e²) / √2
+  if (beamAs === 'e2') out.beamDiameterMm = Math.round((Number(out.beamDiameterMm) / Math.SQRT2) * 100) / 100;
   for (const k of ['coolantMinC', 'coolantMaxC'] as const) {
     const v = d[k].trim().replace(',', '.');
     if (d.coolantType === 'air' || v === '') out[k] = null;
@@ -75,6 +80,7 @@ export default function MachinesAdmin({ machines: initial, groups }: { machines:
   const [reason, setReason] = useState('');
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string; fields?: Record<string, string> } | null>(null);
   const [busy, setBusy] = useState(false);
+  const [beamAs, setBeamAs] = useState<BeamConvention>('e');
   const ids = useId();
   const groupName = (id: string | null) => groups.find((g) => g.id === id)?.name ?? 'No group: nobody can book it';
 
@@ -83,12 +89,13 @@ export default function MachinesAdmin({ machines: initial, groups }: { machines:
     setMessage(null);
     setEditing(target === 'new' ? 'new' : target.id);
     setDraft(draftOf(target === 'new' ? null : target, groups));
+    setBeamAs('e');
   }
 
   async function save(e: React.FormEvent) {
     e.preventDefault();
     const isNew = editing === 'new';
-    const built = bodyOf(draft, isNew);
+    const built = bodyOf(draft, isNew, beamAs);
     if ('field' in built) return setMessage({ tone: 'stop', text: `${LABELS[built.field as keyof Draft]}: enter a number.`, fields: { [built.field]: 'A number.' } });
     setBusy(true);
     try {
@@ -166,7 +173,17 @@ export default function MachinesAdmin({ machines: initial, groups }: { machines:
         {field('wavelengthUm', select('wavelengthUm', [['10.6', '10.6 µm'], ['9.6', '9.6 µm']]))}
         {field('bedWidthMm', text('bedWidthMm', { inputMode: 'numeric' }))}
         {field('bedDepthMm', text('bedDepthMm', { inputMode: 'numeric' }))}
-        {field('beamDiameterMm', text('beamDiameterMm', { inputMode: 'decimal' }), 'For the hazard sheet: take it from the manufacturer’s manual.')}
+        {field('beamDiameterMm', text('beamDiameterMm', { inputMode: 'decimal' }), beamAs === 'e2'
+          ? `Typed as the 1/e² figure; saved as 1/e = ÷ √2${Number.isFinite(Number(draft.beamDiameterMm.replace(',', '.'))) && draft.beamDiameterMm.trim() ? ` = ${(Number(draft.beamDiameterMm.replace(',', '.')) / Math.SQRT2).toFixed(2)} mm` : ''}.`
+          : 'The 1/e diameter at the output (what the hazard formulas use). From the manufacturer’s manual.')}
+        <label className="field">
+          <span>The diameter above is the…</span>
+          <select className="input" name="beamConvention" value={beamAs} onChange={(e) => setBeamAs(e.target.value as BeamConvention)}>
+            <option value="e">1/e diameter (used as typed)</option>
+            <option value="e2">1/e² diameter (makers usually quote this; converted ÷ √2)</option>
+          </select>
+          <small className="hint">Beamwarden stores and uses the 1/e figure.</small>
+        </label>
         {field('divergenceMrad', text('divergenceMrad', { inputMode: 'decimal' }), 'For the hazard sheet (NOHD).')}
         {field('lensFocalMm', text('lensFocalMm', { inputMode: 'decimal' }), 'For the hazard sheet (the diffuse reflection after the focus).')}
         {field('coolantType', select('coolantType', [['water', 'Water (a chiller)'], ['air', 'Air']]))}

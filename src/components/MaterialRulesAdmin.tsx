@@ -2,6 +2,7 @@
 import { parseMajor } from '../lib/pricing';
 import { useCallback, useEffect, useMemo, useState } from 'react';
 import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
+import { screenMaterial, type ScreenResult } from '../lib/halogen-screen';
 import { api, ApiError } from './ui/api';
 
 interface Material {
@@ -11,8 +12,9 @@ interface Material {
 }
 interface Machine { id: string; code: string; name: string; powerW: number }
 interface Override { materialId: string; machineId: string; rule: MaterialRule | null; modes: MaterialMode[] | null; maxCutMm: number | null; note: string | null }
-interface Effective { rule: MaterialRule; modes: MaterialMode[]; maxCutMm: number | null; maxCutBasis: string }
-interface Data { machines: Machine[]; materials: Material[]; overrides: Override[]; effective: Record<string, Record<string, Effective>> }
+interface Effective { rule: MaterialRule; modes: MaterialMode[]; maxCutMm: number | null; maxCutBasis: string; reachMm: number | null; halogenBlocked: boolean }
+interface Violation { materialId: string; name: string; machineId: string | null; storedRule: MaterialRule; reason: string }
+interface Data { machines: Machine[]; materials: Material[]; overrides: Override[]; effective: Record<string, Record<string, Effective>>; violations: Violation[] }
 type Sort = 'name' | 'category' | 'rule' | 'updated';
 
 const RULE_ORDER: Record<MaterialRule, number> = { allowed: 0, limited: 1, blocked: 2 };
@@ -21,7 +23,7 @@ const EMPTY: Omit<Material, 'id' | 'updatedAt'> = {
   densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: null, soldBySpace: false, sheetPriceMinor: null, sheetSize: null,
 };
 
-const FORM_FIELDS = ['name', 'composition', 'reason', 'modes', 'maxCutMm', 'densityGPerCm3', 'heatOfGasificationJPerG', 'cutEfficiency', 'sheetPriceMinor'];
+const FORM_FIELDS = ['name', 'rule', 'composition', 'reason', 'modes', 'maxCutMm', 'densityGPerCm3', 'heatOfGasificationJPerG', 'cutEfficiency', 'sheetPriceMinor'];
 const numOrNull = (s: string) => (s.trim() === '' ? null : Number(s));
 
 export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'NZD' }: { currencyExponent?: number; currency?: string }) {
@@ -90,15 +92,19 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
     }
   }
 
-  async function saveOverride(materialId: string, machine: Machine, o: Omit<Override, 'materialId' | 'machineId'> | null) {
+  /** Saves an override; resolves to the refusal's message (shown beside that machine's row) or null. */
+  async function saveOverride(materialId: string, machine: Machine, o: Omit<Override, 'materialId' | 'machineId'> | null): Promise<string | null> {
     setBusy(true);
     try {
       if (o) await api(`/api/material-rules/${materialId}/overrides/${machine.id}`, { method: 'PUT', json: o });
       else await api(`/api/material-rules/${materialId}/overrides/${machine.id}`, { method: 'DELETE' });
       setMessage({ tone: 'ok', text: `${o ? 'Saved' : 'Removed'} the override on ${machine.name}.` });
       await load();
+      return null;
     } catch (e) {
-      setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'The override was not saved.' });
+      const text = e instanceof ApiError ? e.message : 'The override was not saved.';
+      setMessage({ tone: 'stop', text: `Not saved on ${machine.name}: ${text}` });
+      return text;
     } finally {
       setBusy(false);
     }
@@ -131,6 +137,18 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
         <button type="button" className="btn btn-primary" onClick={() => { setEditing({ ...EMPTY }); setFieldErrors({}); }}>New material</button>
       </div>
       <p aria-live="polite" className={message ? `notice notice-${message.tone}` : 'sr-only'}>{message?.text ?? ''}</p>
+      {data && data.violations.length > 0 && (
+        <section className="notice notice-stop" aria-labelledby="h-violations" data-testid="halogen-violations">
+          <h2 id="h-violations" className="font-semibold">■ Entries that break the halogen rule — treated as blocked until corrected</h2>
+          <ul className="mt-1 list-disc pl-5 text-sm">
+            {data.violations.map((v) => (
+              <li key={`${v.materialId}-${v.machineId ?? ''}`}>
+                <strong>{v.name}</strong>{v.machineId ? ` (override on ${data.machines.find((k) => k.id === v.machineId)?.name ?? 'a machine'})` : ''} is stored as {v.storedRule}, but {v.reason} Set it to blocked{v.machineId ? ' or remove the override' : ''}.
+              </li>
+            ))}
+          </ul>
+        </section>
+      )}
 
       {editing && (
         <form className="card space-y-4 p-5" aria-label={editing.id ? `Edit ${editing.name}` : 'New material'} onSubmit={(e) => { e.preventDefault(); void save(); }}>
@@ -142,11 +160,12 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
                 {MATERIAL_CATEGORIES.map((c) => <option key={c} value={c}>{c}</option>)}
               </select></label>
             <label className="field"><span>Rule</span>
-              <select className="input" aria-label="Rule" value={editing.rule} onChange={(e) => set('rule', e.target.value as MaterialRule)}>
+              <select className="input" aria-label="Rule" value={editing.rule} onChange={(e) => set('rule', e.target.value as MaterialRule)} aria-invalid={fieldErrors.rule ? true : undefined}>
                 {MATERIAL_RULES.map((r) => <option key={r} value={r}>{RULE_TEXT[r].label}</option>)}
-              </select></label>
+              </select>{err('rule')}</label>
             <label className="field"><span>Composition (formulas, separated by ;)</span>
-              <input className="input" value={editing.composition.join('; ')} onChange={(e) => set('composition', e.target.value.split(';').map((s) => s.trim()).filter(Boolean))} placeholder="(C5H8O2)n" />{err('composition')}</label>
+              <input className="input" value={editing.composition.join('; ')} onChange={(e) => set('composition', e.target.value.split(';').map((s) => s.trim()).filter(Boolean))} placeholder="(C5H8O2)n" aria-invalid={fieldErrors.composition ? true : undefined} />{err('composition')}</label>
+            <ScreenHint name={editing.name} composition={editing.composition} rule={editing.rule} />
             <label className="field md:col-span-2"><span>Reason members read</span>
               <textarea className="input" rows={2} value={editing.reason} onChange={(e) => set('reason', e.target.value)} required maxLength={1000} />{err('reason')}</label>
             <fieldset className="field">
@@ -160,7 +179,7 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
                 ))}
               </div>{err('modes')}
             </fieldset>
-            <label className="field"><span>Maximum cut thickness, any machine (mm; empty = from each machine's power)</span>
+            <label className="field"><span>Maximum cut thickness the rule allows, any machine (mm; empty = no limit — each machine's reach is shown as advice)</span>
               <input className="input" type="number" step="0.1" min="0" value={editing.maxCutMm ?? ''} onChange={(e) => set('maxCutMm', numOrNull(e.target.value))} />{err('maxCutMm')}</label>
           </div>
           <fieldset className="grid gap-3 rounded-lg border border-line p-3 md:grid-cols-3">
@@ -198,7 +217,7 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
               <th className="hidden md:table-cell" aria-sort={aria('category')}><button type="button" className="font-semibold" onClick={() => sortBy('category')}>Category{mark('category')}</button></th>
               <th aria-sort={aria('rule')}><button type="button" className="font-semibold" onClick={() => sortBy('rule')}>Rule{mark('rule')}</button></th>
               <th className="hidden lg:table-cell">Modes</th>
-              <th className="hidden lg:table-cell">Max cut by machine</th>
+              <th className="hidden lg:table-cell">Cut limit by machine (reach is advice)</th>
               <th className="hidden md:table-cell">Sheet</th>
               <th><span className="sr-only">Edit</span></th>
             </tr>
@@ -217,7 +236,7 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
                 <td className="hidden text-sm lg:table-cell">
                   {data?.machines.map((k) => {
                     const e = data.effective[m.id]?.[k.id];
-                    return <span key={k.id} className="block whitespace-nowrap">{k.name}: {!e || e.rule === 'blocked' ? 'blocked' : e.modes.includes('cut') ? (e.maxCutMm !== null ? `${e.maxCutMm} mm` : 'no limit') : 'no cutting'}{e?.maxCutBasis === 'override' || data.overrides.some((o) => o.materialId === m.id && o.machineId === k.id) ? ' *' : ''}</span>;
+                    return <span key={k.id} className="block whitespace-nowrap">{k.name}: {!e || e.rule === 'blocked' ? (e?.halogenBlocked ? 'blocked (halogen)' : 'blocked') : e.modes.includes('cut') ? `${e.maxCutMm !== null ? `≤ ${e.maxCutMm} mm` : 'no limit'}${e.reachMm !== null ? ` · reach ≈ ${e.reachMm} mm` : ''}` : 'no cutting'}{e?.maxCutBasis === 'override' || data.overrides.some((o) => o.materialId === m.id && o.machineId === k.id) ? ' *' : ''}</span>;
                   })}
                 </td>
                 <td className="hidden text-sm md:table-cell">{m.soldBySpace ? <>{money(m.sheetPriceMinor)}<span className="block text-charcoal-soft">{m.sheetSize}</span></> : '—'}</td>
@@ -235,7 +254,7 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
 
 function Overrides({ materialId, machines, overrides, effective, busy, onSave }: {
   materialId: string; machines: Machine[]; overrides: Override[]; effective: Record<string, Effective>; busy: boolean;
-  onSave: (materialId: string, machine: Machine, o: Omit<Override, 'materialId' | 'machineId'> | null) => Promise<void>;
+  onSave: (materialId: string, machine: Machine, o: Omit<Override, 'materialId' | 'machineId'> | null) => Promise<string | null>;
 }) {
   return (
     <section className="space-y-3 border-t border-line pt-4" aria-label="Per-machine overrides">
@@ -251,8 +270,9 @@ function Overrides({ materialId, machines, overrides, effective, busy, onSave }:
 
 function OverrideRow({ machine, existing, effective, busy, onSave }: {
   machine: Machine; existing: Override | null; effective: Effective | undefined; busy: boolean;
-  onSave: (o: Omit<Override, 'materialId' | 'machineId'> | null) => Promise<void>;
+  onSave: (o: Omit<Override, 'materialId' | 'machineId'> | null) => Promise<string | null>;
 }) {
+  const [refusal, setRefusal] = useState<string | null>(null);
   const [rule, setRule] = useState<MaterialRule | ''>(existing?.rule ?? '');
   const [modes, setModes] = useState<MaterialMode[] | null>(existing?.modes ?? null);
   const [max, setMax] = useState(existing?.maxCutMm?.toString() ?? '');
@@ -276,9 +296,10 @@ function OverrideRow({ machine, existing, effective, busy, onSave }: {
       <label className="field"><span className="text-sm">Max cut (mm)</span><input className="input" type="number" step="0.1" min="0" value={max} onChange={(e) => setMax(e.target.value)} /></label>
       <label className="field"><span className="text-sm">Note members read</span><input className="input" value={note} maxLength={500} onChange={(e) => setNote(e.target.value)} /></label>
       <div className="flex gap-2">
-        <button type="button" className="btn btn-quiet" disabled={busy} onClick={() => void onSave({ rule: rule || null, modes, maxCutMm: numOrNull(max), note: note.trim() || null })}>Save</button>
-        {existing && <button type="button" className="btn btn-quiet" disabled={busy} onClick={() => void onSave(null)}>Remove</button>}
+        <button type="button" className="btn btn-quiet" disabled={busy} onClick={async () => setRefusal(await onSave({ rule: rule || null, modes, maxCutMm: numOrNull(max), note: note.trim() || null }))}>Save</button>
+        {existing && <button type="button" className="btn btn-quiet" disabled={busy} onClick={async () => setRefusal(await onSave(null))}>Remove</button>}
       </div>
+      {refusal && <p role="alert" className="notice notice-stop text-sm md:col-span-6">■ Not saved: {refusal}</p>}
     </div>
   );
 }
@@ -311,5 +332,29 @@ function SheetPriceField(p: { currency: string; exponent: number; minor: number 
       {bad && <span className="text-sm text-stop">Write an amount like 18.00.</span>}
       {p.error}
     </label>
+  );
+}
+
+/** The halogen screen of what the admin is typing (the same pure module the server uses), so a refusal is no surprise. */
+function ScreenHint({ name, composition, rule }: { name: string; composition: string[]; rule: MaterialRule }) {
+  let r: ScreenResult | null = null;
+  let problem: string | null = null;
+  try {
+    if (name.trim() || composition.length) r = screenMaterial({ name, composition });
+  } catch (e) {
+    problem = e instanceof Error ? e.message : 'The formula cannot be read.';
+  }
+  if (!r && !problem) return null;
+  const halogen = r && r.halogens.length > 0;
+  return (
+    <p className={`notice text-sm md:col-span-2 ${problem || (halogen && rule !== 'blocked') ? 'notice-stop' : halogen || r?.verdict === 'blocked' ? 'notice-warn' : 'notice-ok'}`} data-testid="rule-screen" aria-live="polite">
+      {problem
+        ? `Screening: ${problem}`
+        : halogen
+          ? `Screening: carries ${r!.halogens.join(', ')}${r!.matchedName ? ` (read as ${r!.matchedName})` : ''} — it can only be saved as blocked.`
+          : r!.verdict === 'blocked'
+            ? `Screening: ${r!.reason}`
+            : `Screening: no halogen found${r!.matchedName ? ` (read as ${r!.matchedName})` : ''}.${(r!.elements.N ?? 0) > 0 ? ' It carries nitrogen: limited, with the fume reason, is the usual rule.' : ''}`}
+    </p>
   );
 }

@@ -7,6 +7,8 @@
 export const PRE_USE_ITEMS = [
   { key: 'extractionOn', label: 'Extraction is on and drawing air' },
   { key: 'airAssistOn', label: 'Air assist is on' },
+  // REFERENCE.md (common practice): coolant must be flowing before a glass tube fires; a reading alone does not show it
+  { key: 'coolantFlowing', label: 'Coolant is flowing through the tube (air-cooled machines: the cooling fans run)' },
   { key: 'lensClean', label: 'The lens looks clean (no smoke film, chips or cracks)' },
   { key: 'extinguisherInPlace', label: 'The fire extinguisher is in its place' },
   { key: 'willStay', label: 'I will not leave the machine while it runs' },

@@ -9,7 +9,12 @@
  * screenComposition turns the elements into a verdict: any F, Cl, Br or I → `blocked` (acid gases such as HCl
  * and HF when cut); otherwise `review` by a steward, with a warning when nitrogen is present (possible
  * hydrogen cyanide).
+ *
+ * Before a formula is read as elements it is checked against the curated names (material-names.ts), so "PVC" is
+ * polyvinyl chloride, not P, V and C; a text that is not a formula is tried as simple SMILES (`C=CCl`).
+ * screenMaterial screens a name and a composition together.
  */
+import { exactName, readName, type KnownMaterial } from './material-names';
 
 /** Every element symbol of the periodic table (IUPAC, 1–118). */
 export const ELEMENT_SYMBOLS: ReadonlySet<string> = new Set(
@@ -135,6 +140,56 @@ export function parseFormula(input: string): Elements {
   return total;
 }
 
+/** SMILES atoms outside brackets (the organic subset), longest first; lower case is aromatic. */
+const SMILES_ORGANIC = ['Cl', 'Br', 'B', 'C', 'N', 'O', 'P', 'S', 'F', 'I', 'b', 'c', 'n', 'o', 'p', 's'];
+const SMILES_BOND = /[-=#$:/\\.()%0-9+@*]/;
+
+/**
+ * Reads the heavy atoms of a simple SMILES string (e.g. `C=CCl` for vinyl chloride, `FC(F)=C(F)F`): the organic
+ * subset, aromatic lower case and bracket atoms such as `[Na+]`. Implicit hydrogens are not counted. Returns null
+ * when the text is not SMILES.
+ */
+export function parseSmiles(input: string): Elements | null {
+  const s = input.trim();
+  if (!s || s.length > FORMULA_MAX_LENGTH || /\s/.test(s)) return null;
+  const out: Elements = {};
+  let i = 0;
+  let atoms = 0;
+  while (i < s.length) {
+    const c = s[i]!;
+    if (c === '[') {
+      const close = s.indexOf(']', i);
+      if (close < 0) return null;
+      const m = /^\d*([A-Z][a-z]?|[bcnops]|se|as)/.exec(s.slice(i + 1, close));
+      if (!m) return null;
+      let sym = m[1]!;
+      sym = sym[0]!.toUpperCase() + sym.slice(1);
+      if (!ELEMENT_SYMBOLS.has(sym)) {
+        if (ELEMENT_SYMBOLS.has(sym[0]!)) sym = sym[0]!;
+        else return null;
+      }
+      out[sym] = (out[sym] ?? 0) + 1;
+      atoms++;
+      i = close + 1;
+      continue;
+    }
+    const atom = SMILES_ORGANIC.find((a) => s.startsWith(a, i));
+    if (atom) {
+      const sym = atom.length === 1 ? atom.toUpperCase() : atom;
+      out[sym] = (out[sym] ?? 0) + 1;
+      atoms++;
+      i += atom.length;
+      continue;
+    }
+    if (SMILES_BOND.test(c)) {
+      i++;
+      continue;
+    }
+    return null;
+  }
+  return atoms ? out : null;
+}
+
 export type ScreenVerdict = 'blocked' | 'review';
 
 export interface ScreenResult {
@@ -142,6 +197,10 @@ export interface ScreenResult {
   halogens: Halogen[];
   verdict: ScreenVerdict;
   reason: string;
+  /** The curated material a name (or an abbreviation typed as a formula) was read as. */
+  matchedName?: string;
+  /** Things worth a second look that do not change the verdict (e.g. a polymer written without carbon). */
+  warnings: string[];
 }
 
 export const ACID_GAS_REASON =
@@ -150,17 +209,100 @@ export const NITROGEN_REASON =
   'No halogen found, but it contains nitrogen: burning it may give off hydrogen cyanide. A steward must review it before it goes under the beam.';
 export const REVIEW_REASON =
   'No halogen or nitrogen found in the formula. A steward still reviews it (fire, fumes and how it cuts) before it goes under the beam.';
+export const UNKNOWN_NAME_REASON =
+  'Not a name we recognise and no formula given: a steward needs the formula from the safety data sheet before it goes under the beam.';
+
+interface ReadFormula {
+  elements: Elements;
+  matchedName?: string;
+  known?: KnownMaterial;
+  warnings: string[];
+}
+
+/** One formula: an abbreviation such as PVC first, then a chemical formula, then simple SMILES. */
+function readOneFormula(text: string): ReadFormula {
+  const known = exactName(text);
+  if (known) {
+    const elements: Elements = {};
+    for (const f of known.composition) add(elements, parseFormula(f), 1);
+    return { elements, matchedName: known.name, known, warnings: [`"${text.trim()}" was read as ${known.name}, not as element symbols.`] };
+  }
+  const warnings: string[] = [];
+  let elements: Elements;
+  try {
+    elements = parseFormula(text);
+  } catch (err) {
+    const smiles = err instanceof FormulaError ? parseSmiles(text) : null;
+    if (!smiles) throw err;
+    elements = smiles;
+    warnings.push(`"${text.trim()}" was read as SMILES (atoms only, hydrogens not counted).`);
+  }
+  if (/[)\]}]\s*n\b/.test(text) && !(elements.C ?? 0)) {
+    warnings.push('A polymer repeat unit without carbon is unusual: check the formula on the safety data sheet.');
+  }
+  return { elements, warnings };
+}
 
 /** Screens one or more formulas (a material's composition); the elements are the sum of all of them. */
 export function screenComposition(composition: string | readonly string[]): ScreenResult {
   const formulas = typeof composition === 'string' ? [composition] : composition;
   if (formulas.length === 0) throw new FormulaError('Enter a chemical formula, e.g. (C5H8O2)n for acrylic.', 0);
   const elements: Elements = {};
-  for (const f of formulas) add(elements, parseFormula(f), 1);
-  const halogens = HALOGENS.filter((h) => (elements[h] ?? 0) > 0);
-  if (halogens.length) {
-    return { elements, halogens, verdict: 'blocked', reason: `${ACID_GAS_REASON} Found: ${halogens.join(', ')}.` };
+  const warnings: string[] = [];
+  let known: KnownMaterial | undefined;
+  for (const f of formulas) {
+    const r = readOneFormula(f);
+    add(elements, r.elements, 1);
+    warnings.push(...r.warnings);
+    if (r.known && (!known || r.known.verdict === 'blocked')) known = r.known;
   }
-  if ((elements.N ?? 0) > 0) return { elements, halogens, verdict: 'review', reason: NITROGEN_REASON };
-  return { elements, halogens, verdict: 'review', reason: REVIEW_REASON };
+  const halogens = HALOGENS.filter((h) => (elements[h] ?? 0) > 0);
+  const named = known ? { matchedName: known.name } : {};
+  if (halogens.length) {
+    return { elements, halogens, verdict: 'blocked', reason: `${ACID_GAS_REASON} Found: ${halogens.join(', ')}.`, ...named, warnings };
+  }
+  if (known?.verdict === 'blocked') return { elements, halogens, verdict: 'blocked', reason: known.reason, ...named, warnings };
+  if ((elements.N ?? 0) > 0) return { elements, halogens, verdict: 'review', reason: NITROGEN_REASON, ...named, warnings };
+  return { elements, halogens, verdict: 'review', reason: REVIEW_REASON, ...named, warnings };
+}
+
+/**
+ * Screens a material by its name, its composition, or both. Anything that blocks wins: a halogen in the
+ * composition, a recognised blocked name (PVC, FR-4…), or a halogen word in the name (chloro-, fluoro-…).
+ * With a name alone, a recognised name brings its usual composition; an unrecognised one is left for review.
+ */
+export function screenMaterial(input: { name?: string | null; composition?: string | readonly string[] | null }): ScreenResult {
+  const formulas = input.composition == null ? [] : typeof input.composition === 'string' ? [input.composition] : [...input.composition];
+  const hasFormula = formulas.some((f) => f.trim() !== '');
+  const byFormula = hasFormula ? screenComposition(formulas.filter((f) => f.trim() !== '')) : null;
+  const reading = input.name && input.name.trim() ? readName(input.name) : null;
+  const top = reading?.matches[0]?.material;
+  const elements: Elements = { ...(byFormula?.elements ?? {}) };
+  if (!byFormula && top) for (const f of top.composition) add(elements, parseFormula(f), 1);
+  if (reading?.patternHalogen && !(elements[reading.patternHalogen] ?? 0)) elements[reading.patternHalogen] = 1;
+  // a blocking recognised name carries its halogens even when a different formula was typed
+  for (const m of reading?.matches ?? []) {
+    if (m.material.verdict !== 'blocked') continue;
+    for (const f of m.material.composition) {
+      const e = parseFormula(f);
+      for (const h of HALOGENS) if ((e[h] ?? 0) > 0 && !(elements[h] ?? 0)) elements[h] = e[h]!;
+    }
+  }
+  const halogens = HALOGENS.filter((h) => (elements[h] ?? 0) > 0);
+  const matchedName = top?.name ?? byFormula?.matchedName;
+  const named = matchedName ? { matchedName } : {};
+  const warnings = [...(byFormula?.warnings ?? [])];
+  const blockedMatch = reading?.matches.find((m) => m.material.verdict === 'blocked')?.material;
+  if (halogens.length) {
+    const why = blockedMatch && HALOGENS.some((h) => blockedMatch.composition.some((f) => (parseFormula(f)[h] ?? 0) > 0)) ? `${blockedMatch.name}: ${blockedMatch.reason} ` : reading?.patternHalogen ? `${reading.patternReason} ` : '';
+    return { elements, halogens, verdict: 'blocked', reason: `${why}${ACID_GAS_REASON} Found: ${halogens.join(', ')}.`, ...named, warnings };
+  }
+  if (blockedMatch) return { elements, halogens, verdict: 'blocked', reason: `${blockedMatch.name}: ${blockedMatch.reason}`, ...named, warnings };
+  if (byFormula?.verdict === 'blocked') return { ...byFormula, elements, halogens, ...named, warnings };
+  if (reading?.patternVerdict === 'blocked') return { elements, halogens, verdict: 'blocked', reason: reading.patternReason!, ...named, warnings };
+  if ((elements.N ?? 0) > 0) return { elements, halogens, verdict: 'review', reason: top ? `${top.name}: ${top.reason}` : NITROGEN_REASON, ...named, warnings };
+  if (reading?.patternVerdict === 'review') return { elements, halogens, verdict: 'review', reason: reading.patternReason!, ...named, warnings };
+  if (top) return { elements, halogens, verdict: 'review', reason: `${top.name}: ${top.reason}`, ...named, warnings };
+  if (byFormula) return { ...byFormula, elements, halogens, ...named, warnings };
+  return { elements, halogens, verdict: 'review', reason: UNKNOWN_NAME_REASON, warnings };
 }

@@ -12,13 +12,31 @@ export const ELEMENTARY_CHARGE_C = 1.602176634e-19;
 
 /** Default exposure for unintended far-infrared exposure (ANSI Z136.1). */
 export const DEFAULT_EXPOSURE_S = 10;
-/** Limiting aperture for the eye at 1.4 µm–1 mm and t > 10 s. */
+/** Limiting aperture for the eye at 1.4 µm–100 µm and t ≥ 10 s. */
 export const LIMITING_APERTURE_CM = 0.35;
+
+/**
+ * Limiting aperture D_f for the eye at 1.4 µm–100 µm by exposure duration (ANSI Z136.1 / IEC 60825-1, from
+ * memory; REFERENCE.md): 1 mm for t ≤ 0.3 s, 1.5·t^0.375 mm for 0.3 s < t < 10 s, 3.5 mm for t ≥ 10 s. In cm.
+ */
+export function limitingApertureCm(t: number): number {
+  if (t <= 0.3) return 0.1;
+  if (t < 10) return 0.15 * t ** 0.375;
+  return LIMITING_APERTURE_CM;
+}
+
+/** Beam diameters in the formulas are 1/e figures; makers usually quote 1/e²: d(1/e) = d(1/e²) / √2. */
+export function diameterOneOverE(d1e2: number): number {
+  return d1e2 / Math.SQRT2;
+}
 
 export const SOURCES = {
   mpe: 'ANSI Z136.1 eye MPE table; IEC 60825-1 Annex A; EU Directive 2006/25/EC Annex II (1.4 µm–1 mm band)',
   nohd: 'ANSI Z136.1 hazard-evaluation appendix (NOHD for direct, focused and diffusely reflected beams)',
-  od: 'ANSI Z136.1 (optical density of eyewear, limiting aperture 3.5 mm for t > 10 s at 1.4 µm–1 mm)',
+  od: 'ANSI Z136.1 (optical density of eyewear, OD = log10(E0/MPE) over the limiting aperture), from memory',
+  odExit: 'ANSI Z136.1 (eyewear OD, exit beam wider than the limiting aperture: averaged over the beam), from memory',
+  odWhole: 'ANSI Z136.1 (eyewear OD, beam narrower than the limiting aperture, e.g. after the focusing lens: the whole beam enters it), from memory',
+  aperture: 'ANSI Z136.1 / IEC 60825-1 limiting aperture, 1.4–100 µm: 1 mm to 0.3 s, 1.5·t^0.375 mm to 10 s, 3.5 mm from 10 s (from memory)',
   laserClass: 'IEC 60825-1 and US 21 CFR 1040.10 (CW above 0.5 W is Class 4)',
   photon: 'CODATA 2018 exact constants h, c, e',
 } as const;
@@ -113,18 +131,54 @@ export function diffuseHazardCm(powerW: number, mpeWPerCm2: number, reflectance 
   return Math.sqrt((reflectance * powerW * Math.max(0, cos)) / (Math.PI * mpeWPerCm2));
 }
 
-/** OD = log10(E0/MPE), E0 = P/(π·d²/4), d = the larger of the beam and the limiting aperture. Not rounded. */
-export function opticalDensityExact(powerW: number, mpeWPerCm2: number, beamDiameterCm: number): number {
-  const d = Math.max(beamDiameterCm, LIMITING_APERTURE_CM);
+/**
+ * OD = log10(E0/MPE), E0 = P/(π·d²/4), with d the larger of the beam and the limiting aperture (a beam narrower
+ * than the aperture puts all its power into it). Not rounded. `apertureCm` defaults to 3.5 mm (t ≥ 10 s).
+ */
+export function opticalDensityExact(powerW: number, mpeWPerCm2: number, beamDiameterCm: number, apertureCm = LIMITING_APERTURE_CM): number {
+  const d = Math.max(beamDiameterCm, apertureCm);
   const e0 = powerW / ((Math.PI * d * d) / 4);
   return Math.log10(e0 / mpeWPerCm2);
 }
 
-/** Eyewear OD rounded up to a whole number; 0 when the beam is already below the MPE. */
-export function opticalDensity(powerW: number, mpeWPerCm2: number, beamDiameterCm: number): number {
-  const exact = opticalDensityExact(powerW, mpeWPerCm2, beamDiameterCm);
+/** Rounds an exact OD up to the whole number to wear; 0 when the beam is already below the MPE. */
+export function roundOd(exact: number): number {
   // a hair of tolerance so that an exact integer (e.g. 2.0000000000004) is not pushed up a step by rounding noise
   return Math.max(0, Math.ceil(exact - 1e-9));
+}
+
+/** Eyewear OD rounded up to a whole number; 0 when the beam is already below the MPE. */
+export function opticalDensity(powerW: number, mpeWPerCm2: number, beamDiameterCm: number, apertureCm = LIMITING_APERTURE_CM): number {
+  return roundOd(opticalDensityExact(powerW, mpeWPerCm2, beamDiameterCm, apertureCm));
+}
+
+/** The beam cases a person can meet (the focused one while servicing with the enclosure open). */
+export type OdCase = 'exit_beam' | 'focused_beam';
+
+export const OD_CASE_TEXT: Record<OdCase, string> = {
+  exit_beam: 'the raw beam leaving the tube',
+  focused_beam: 'the beam after the focusing lens (narrower than the limiting aperture, so all of it enters the eye)',
+};
+
+export interface OdCaseFigure {
+  case: OdCase;
+  exact: number;
+  /** The diameter the power is spread over, cm. */
+  averagedOverCm: number;
+}
+
+/**
+ * Every accessible beam case: the exit beam (averaged over the larger of the beam and the aperture) and the
+ * focused beam (narrower than the aperture near the focus: the whole beam in the aperture). The worst governs.
+ */
+export function opticalDensityCases(powerW: number, mpeWPerCm2: number, exitDiameterCm: number, apertureCm: number): { cases: OdCaseFigure[]; governing: OdCaseFigure } {
+  const cases: OdCaseFigure[] = [
+    { case: 'exit_beam', exact: opticalDensityExact(powerW, mpeWPerCm2, exitDiameterCm, apertureCm), averagedOverCm: Math.max(exitDiameterCm, apertureCm) },
+    { case: 'focused_beam', exact: opticalDensityExact(powerW, mpeWPerCm2, 0, apertureCm), averagedOverCm: apertureCm },
+  ];
+  // on a tie (an exit beam already narrower than the aperture) the exit beam is named: it is met first
+  const governing = cases.reduce((a, b) => (b.exact > a.exact + 1e-12 ? b : a));
+  return { cases, governing };
 }
 
 export type LaserClass = '1' | '3R' | '3B' | '4';
@@ -156,6 +210,13 @@ export interface HazardSheet {
   nohdFocusedM: number;
   diffuseHazardM: number;
   opticalDensity: number;
+  /** The unrounded OD of the governing case. */
+  opticalDensityExact: number;
+  /** Which beam case governs the OD. */
+  odCase: OdCase;
+  odCases: OdCaseFigure[];
+  /** Limiting aperture used for the OD, mm. */
+  limitingApertureMm: number;
   laserClass: LaserClass;
   photonEnergyEv: number;
   exposureS: number;
@@ -202,7 +263,12 @@ export function hazardSheet(input: HazardInput): HazardSheet {
   const direct = nohdDirectCm(input.powerW, e, aCm, phi) / 100;
   const focused = nohdFocusedCm(input.powerW, e, fCm, aCm) / 100;
   const diffuse = diffuseHazardCm(input.powerW, e, input.diffuseReflectance ?? 1, input.viewingAngleDeg ?? 0) / 100;
-  const od = opticalDensity(input.powerW, e, aCm);
+  const apertureCm = limitingApertureCm(t);
+  const odc = opticalDensityCases(input.powerW, e, aCm, apertureCm);
+  const od = roundOd(odc.governing.exact);
+  const apMm = round(apertureCm * 10, 3);
+  const exitCase = odc.cases.find((c) => c.case === 'exit_beam')!;
+  const wholeCase = odc.cases.find((c) => c.case === 'focused_beam')!;
   const cls = laserClass(input.powerW);
   const photon = photonEnergyEv(input.wavelengthUm);
   const mpeUnit = mpe.kind === 'irradiance' ? 'W/cm²' : 'J/cm²';
@@ -211,7 +277,10 @@ export function hazardSheet(input: HazardInput): HazardSheet {
     { key: 'nohdDirect', label: 'Nominal ocular hazard distance, direct beam', value: round(direct, 4), unit: 'm', formula: 'NOHD = (1/φ) · (√(4P / (π·MPE)) − a)', source: SOURCES.nohd },
     { key: 'nohdFocused', label: 'Nominal ocular hazard distance, after the focusing lens', value: round(focused, 4), unit: 'm', formula: 'NOHD ≈ (f / b0) · √(4P / (π·MPE))', source: SOURCES.nohd },
     { key: 'diffuse', label: 'Hazard distance, diffuse reflection (ρ = 1, viewed head-on)', value: round(diffuse, 4), unit: 'm', formula: 'r = √(ρ · P · cos θ / (π·MPE))', source: SOURCES.nohd },
-    { key: 'od', label: 'Eyewear optical density needed at this wavelength', value: od, unit: 'OD', formula: 'OD = ⌈log10(E0 / MPE)⌉, E0 = P / (π d² / 4), d = max(beam, 3.5 mm)', source: SOURCES.od },
+    { key: 'aperture', label: `Limiting aperture of the eye for a ${t} s exposure`, value: apMm, unit: 'mm', formula: 'D_f = 1 mm (t ≤ 0.3 s); 1.5 · t^0.375 mm (0.3 s < t < 10 s); 3.5 mm (t ≥ 10 s)', source: SOURCES.aperture },
+    { key: 'odExit', label: 'Optical density, raw exit beam', value: round(exitCase.exact, 4), unit: 'OD (exact)', formula: `log10(E0 / MPE), E0 = P / (π d² / 4), d = max(a, D_f) = ${round(exitCase.averagedOverCm * 10, 3)} mm`, source: SOURCES.odExit },
+    { key: 'odWhole', label: 'Optical density, beam after the focusing lens (whole beam in the aperture)', value: round(wholeCase.exact, 4), unit: 'OD (exact)', formula: `log10(E0 / MPE), E0 = P / (π D_f² / 4), D_f = ${apMm} mm`, source: SOURCES.odWhole },
+    { key: 'od', label: `Eyewear optical density needed at this wavelength (governed by ${OD_CASE_TEXT[odc.governing.case]})`, value: od, unit: 'OD', formula: 'OD = ⌈max over the beam cases of log10(E0 / MPE)⌉', source: SOURCES.od },
     { key: 'class', label: 'Laser class of the bare beam', value: cls, unit: '', formula: 'CW output above 0.5 W → Class 4', source: SOURCES.laserClass },
     { key: 'photon', label: 'Photon energy', value: round(photon, 4), unit: 'eV', formula: 'E = h·c / λ', source: SOURCES.photon },
   ];
@@ -221,6 +290,10 @@ export function hazardSheet(input: HazardInput): HazardSheet {
     nohdFocusedM: round(focused, 6),
     diffuseHazardM: round(diffuse, 6),
     opticalDensity: od,
+    opticalDensityExact: round(odc.governing.exact, 6),
+    odCase: odc.governing.case,
+    odCases: odc.cases.map((c) => ({ ...c, exact: round(c.exact, 6), averagedOverCm: round(c.averagedOverCm, 6) })),
+    limitingApertureMm: apMm,
     laserClass: cls,
     photonEnergyEv: round(photon, 6),
     exposureS: t,

@@ -5,6 +5,7 @@
  * member picks.
  */
 import { DEFAULT_KERF_MM, reachMm, type CutMaterial } from './cut-estimate';
+import { screenMaterial, type Halogen, type ScreenResult } from './halogen-screen';
 
 export const MATERIAL_RULES = ['allowed', 'limited', 'blocked'] as const;
 export type MaterialRule = (typeof MATERIAL_RULES)[number];
@@ -25,6 +26,8 @@ export const RULE_TEXT: Record<MaterialRule, { label: string; tone: 'ok' | 'warn
 export interface RuleMaterial {
   id: string;
   name: string;
+  /** Formulas of the composition (may be empty). */
+  composition: readonly string[];
   rule: MaterialRule;
   reason: string;
   modes: MaterialMode[];
@@ -53,11 +56,55 @@ export interface EffectiveRule {
   rule: MaterialRule;
   reason: string;
   modes: MaterialMode[];
-  /** The thickest cut allowed on this machine, mm (null: no limit could be set). */
+  /** The thickest cut the rule allows on this machine, mm (null: the rule sets no limit). Thicker is refused. */
   maxCutMm: number | null;
   /** Where the limit comes from. */
-  maxCutBasis: 'override' | 'material' | 'power' | 'none';
+  maxCutBasis: 'override' | 'material' | 'none';
+  /** How thick the estimate says this machine cuts in one pass, mm (advice: thicker is a warning, not a refusal). */
+  reachMm: number | null;
+  /** Blocked because its composition or name carries a halogen, whatever the stored rule says. */
+  halogenBlocked: boolean;
 }
+
+export interface HalogenFinding {
+  halogens: Halogen[];
+  reason: string;
+  matchedName?: string;
+}
+
+const findings = new Map<string, HalogenFinding | null>();
+
+/**
+ * The halogen rule: does this material's composition or recognised name carry F, Cl, Br or I? A formula that
+ * cannot be read is skipped here (writes refuse it separately); the name is still read.
+ */
+export function halogenFinding(m: { name: string; composition: readonly string[] }): HalogenFinding | null {
+  const key = JSON.stringify([m.name, m.composition]);
+  if (findings.has(key)) return findings.get(key)!;
+  let r: ScreenResult | null = null;
+  try {
+    r = screenMaterial({ name: m.name, composition: m.composition });
+  } catch {
+    try {
+      r = screenMaterial({ name: m.name });
+    } catch {
+      r = null;
+    }
+  }
+  const f = r && r.halogens.length ? { halogens: r.halogens, reason: r.reason, ...(r.matchedName ? { matchedName: r.matchedName } : {}) } : null;
+  if (findings.size > 2000) findings.clear();
+  findings.set(key, f);
+  return f;
+}
+
+/** The rule members see for a catalogue entry: its stored rule, or blocked when it breaks the halogen rule. */
+export function catalogueRule(m: { name: string; composition: readonly string[]; rule: MaterialRule; reason: string; modes: readonly MaterialMode[] }): { rule: MaterialRule; reason: string; modes: MaterialMode[]; halogenBlocked: boolean } {
+  const f = m.rule === 'blocked' ? null : halogenFinding(m);
+  if (f) return { rule: 'blocked', reason: `${HALOGEN_HOLD} ${f.reason}`, modes: [], halogenBlocked: true };
+  return { rule: m.rule, reason: m.reason, modes: [...m.modes], halogenBlocked: false };
+}
+
+export const HALOGEN_HOLD = 'Blocked by the halogen rule until an admin corrects this entry.';
 
 function cutMaterial(m: RuleMaterial): CutMaterial | null {
   if (m.densityGPerCm3 == null || m.heatOfGasificationJPerG == null || m.cutEfficiency == null) return null;
@@ -67,26 +114,31 @@ function cutMaterial(m: RuleMaterial): CutMaterial | null {
 
 /** The rule that applies to `material` on `machine`, with its per-machine override merged in. */
 export function effectiveRule(material: RuleMaterial, machine: RuleMachine, override?: RuleOverride | null): EffectiveRule {
-  const rule = override?.rule ?? material.rule;
-  const modes = override?.modes ?? material.modes;
-  const reason = override?.note ? `${material.reason} On ${machine.name}: ${override.note}` : material.reason;
+  let rule = override?.rule ?? material.rule;
+  let modes = override?.modes ?? material.modes;
+  let reason = override?.note ? `${material.reason} On ${machine.name}: ${override.note}` : material.reason;
+  let halogenBlocked = false;
+  if (rule !== 'blocked') {
+    const f = halogenFinding(material);
+    if (f) {
+      rule = 'blocked';
+      modes = [];
+      reason = `${HALOGEN_HOLD} ${f.reason}`;
+      halogenBlocked = true;
+    }
+  }
   let maxCutMm: number | null = null;
   let maxCutBasis: EffectiveRule['maxCutBasis'] = 'none';
   if (override?.maxCutMm != null) {
     maxCutMm = override.maxCutMm;
     maxCutBasis = 'override';
-  } else {
-    const cm = cutMaterial(material);
-    const derived = cm ? Math.floor(reachMm(cm, machine.powerW, DEFAULT_KERF_MM) * 10) / 10 : null;
-    if (material.maxCutMm != null && (derived == null || material.maxCutMm <= derived)) {
-      maxCutMm = material.maxCutMm;
-      maxCutBasis = 'material';
-    } else if (derived != null) {
-      maxCutMm = derived;
-      maxCutBasis = 'power';
-    }
+  } else if (material.maxCutMm != null) {
+    maxCutMm = material.maxCutMm;
+    maxCutBasis = 'material';
   }
-  return { rule, reason, modes: [...modes], maxCutMm, maxCutBasis };
+  const cm = cutMaterial(material);
+  const reach = cm ? Math.floor(reachMm(cm, machine.powerW, DEFAULT_KERF_MM) * 10) / 10 : null;
+  return { rule, reason, modes: [...modes], maxCutMm, maxCutBasis, reachMm: reach, halogenBlocked };
 }
 
 export interface Declared {
@@ -95,7 +147,7 @@ export interface Declared {
 }
 
 export type Decision =
-  | { ok: true; rule: MaterialRule; effective: EffectiveRule }
+  | { ok: true; rule: MaterialRule; effective: EffectiveRule; warnings: string[] }
   | { ok: false; code: 'material_blocked' | 'material_limited'; message: string; effective: EffectiveRule };
 
 const MODE_VERB: Record<MaterialMode, string> = { cut: 'cutting', engrave: 'engraving', score: 'scoring' };
@@ -122,9 +174,15 @@ export function decide(material: RuleMaterial, machine: RuleMachine, declared: D
     return {
       ok: false,
       code: 'material_limited',
-      message: `${material.name} ${declared.thicknessMm} mm is thicker than ${machine.name} may cut (at most ${effective.maxCutMm} mm).`,
+      message: `${material.name} ${declared.thicknessMm} mm is thicker than the rule allows on ${machine.name} (at most ${effective.maxCutMm} mm).`,
       effective,
     };
   }
-  return { ok: true, rule: effective.rule, effective };
+  const warnings: string[] = [];
+  if (declared.mode === 'cut' && effective.reachMm != null && declared.thicknessMm > effective.reachMm + 1e-9) {
+    warnings.push(
+      `${material.name} ${declared.thicknessMm} mm is beyond what the estimate says ${machine.name} (${machine.powerW} W) cuts in one pass (about ${effective.reachMm} mm): expect several passes or a test cut that does not go through. Advice only.`,
+    );
+  }
+  return { ok: true, rule: effective.rule, effective, warnings };
 }

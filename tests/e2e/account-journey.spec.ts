@@ -60,7 +60,7 @@ describe('account and pricing', () => {
     const receipt = await page.locator('article').innerText();
     expect(receipt).toContain('Laser B: 20 min');
     expect(receipt).toContain('3 mm MDF');
-    expect(receipt).toMatch(/Tax included \(15 %\)\s+NZD 2\.48/); // 1900 × 15/115 = 247.8 → 248 (NZ GST 15 %, common practice)
+    expect(receipt).toMatch(/Tax included \(15 %\)\s+NZD 2\.48/); // 1900 × 15/115 = 247.8 → 248 (NZ GST 15 %: statutory rate, Goods and Services Tax Act 1985 s 8, from memory)
     expect(receipt).toContain('Paid by card: NZD 19.00');
     await shot(page, 'receipt-desk');
     expect(errors).toEqual([]);

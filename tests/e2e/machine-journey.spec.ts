@@ -68,7 +68,7 @@ describe('at the machine', () => {
     await shot(page, 'machine-page-phone');
 
     // the pre-use checklist; a hot chiller is refused with the reason
-    for (const label of ['Extraction is on and drawing air', 'Air assist is on', 'The lens looks clean (no smoke film, chips or cracks)', 'The fire extinguisher is in its place', 'I will not leave the machine while it runs']) {
+    for (const label of ['Extraction is on and drawing air', 'Air assist is on', 'Coolant is flowing through the tube (air-cooled machines: the cooling fans run)', 'The lens looks clean (no smoke film, chips or cracks)', 'The fire extinguisher is in its place', 'I will not leave the machine while it runs']) {
       await page.getByLabel(label).check();
     }
     await page.getByLabel('Coolant temperature on the chiller (°C)').fill('27');

@@ -19,7 +19,7 @@ import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 
 const MIN = 60_000;
-const ALL_TICKED = { extractionOn: true, airAssistOn: true, lensClean: true, extinguisherInPlace: true, willStay: true };
+const ALL_TICKED = { extractionOn: true, airAssistOn: true, coolantFlowing: true, lensClean: true, extinguisherInPlace: true, willStay: true };
 
 let lasers: Record<string, string> = {};
 let admin: Client;
@@ -302,13 +302,26 @@ describe('upkeep', () => {
     expect(entry).toMatchObject({ kind: 'tube_replacement', tubeRatedHours: 25000, performedByName: expect.any(String) });
     expect(await testDb()('audit_log').where({ kind: 'upkeep.logged', subject_id: m }).orderBy('at', 'desc').first()).toMatchObject({ summary: expect.stringContaining('Tube replacement') });
 
-    // beam time since the new tube: the sessions that started after it was fitted
-    const sum = await testDb()('machine_sessions').where({ machine_id: m }).whereNotNull('checked_out_at').where('checked_in_at', '>=', fitted).sum({ s: 'beam_minutes' }).first();
-    const minutes = Number(sum?.s ?? 0);
+    // tube time since the new tube: the sessions that started after it was fitted, each counted by its job-timer
+    // reading when one was given, else check-in to check-out
+    const since = () => testDb()('machine_sessions').where({ machine_id: m }).whereNotNull('checked_out_at').where('checked_in_at', '>=', fitted);
+    const rows = (await since().select('beam_minutes', 'job_timer_minutes')) as { beam_minutes: number; job_timer_minutes: number | null }[];
+    const minutes = rows.reduce((a, r) => a + (r.job_timer_minutes ?? r.beam_minutes), 0);
     expect(minutes).toBeGreaterThan(0); // the auto-closed session above (57 min) started 97 minutes ago
     const due = await body(await steward.get(`/api/machines/${m}/upkeep/due`));
     expect(due.tubeRatedHours).toBe(25000);
     expect(due.tubeHours).toBe(Math.round((minutes / 60) * 10) / 10);
+    expect(due.tubeHoursBasis).toEqual({ timerSessions: rows.filter((r) => r.job_timer_minutes !== null).length, clockSessions: rows.filter((r) => r.job_timer_minutes === null).length });
+    // a job-timer reading, once given, is what counts: 57 clock minutes with a 20-minute timer reading → 20 minutes
+    const auto = (await since().whereNull('job_timer_minutes').orderBy('checked_in_at').first('id', 'beam_minutes')) as { id: string; beam_minutes: number } | undefined;
+    if (auto) {
+      await testDb()('machine_sessions').where({ id: auto.id }).update({ job_timer_minutes: 20 });
+      const after = await body(await steward.get(`/api/machines/${m}/upkeep/due`));
+      expect(after.tubeHours).toBe(Math.round(((minutes - auto.beam_minutes + 20) / 60) * 10) / 10);
+      expect(after.tubeHoursBasis.timerSessions).toBe(due.tubeHoursBasis.timerSessions + 1);
+      const page = await (await steward.get('/upkeep')).text();
+      expect(page).toMatch(/job-timer reading for \d+ session|job-timer reading of all \d+ sessions/);
+    }
     const tube = due.due.find((d: { kind: string }) => d.kind === 'tube_replacement');
     expect(tube.interval.beamHours).toBe(25000);
     expect(tube.forecast.state).toBe('ok');

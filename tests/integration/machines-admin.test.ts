@@ -159,7 +159,7 @@ describe('retiring a machine', () => {
     const booking = await body(made);
     expect(made.status, JSON.stringify(booking)).toBe(201);
     const checkIn = await person.client.send('POST', `/api/bookings/${booking.id}/check-in`, {
-      checklist: { extractionOn: true, airAssistOn: true, lensClean: true, extinguisherInPlace: true, willStay: true }, coolantC: 18,
+      checklist: { extractionOn: true, airAssistOn: true, coolantFlowing: true, lensClean: true, extinguisherInPlace: true, willStay: true }, coolantC: 18,
     });
     expect(checkIn.status, await checkIn.clone().text()).toBe(200);
 

@@ -24,7 +24,7 @@ describe('POST /api/tools/quote', () => {
     const res = await member.send('POST', '/api/tools/quote', { machineId: laserB, tier: 'commercial', minutes: 7, materials: [{ sku: 'mdf-3', quantity: 1 }] });
     expect(res.status).toBe(200);
     const q = await body(res);
-    // 7 → 10 min × 150 + one MDF sheet 400 = 1900; GST 15/115 of 1900 = 247.83 → 248 (NZ GST 15 %, common practice)
+    // 7 → 10 min × 150 + one MDF sheet 400 = 1900; GST 15/115 of 1900 = 247.83 → 248 (NZ GST 15 %: statutory rate, Goods and Services Tax Act 1985 s 8, from memory)
     expect(q).toMatchObject({ currency: 'NZD', amountMinor: 1900, taxMinor: 248, taxMode: 'inclusive' });
     expect(q.lines.map((l: { kind: string }) => l.kind)).toEqual(['beam_time', 'material']);
   });

@@ -23,6 +23,12 @@ describe('pre-use checklist', () => {
     expect(v.message).toMatch(/2 items/);
   });
 
+  it('asks that coolant is flowing, not only its temperature (REFERENCE.md, common practice: flowing before the tube fires)', () => {
+    expect(PRE_USE_ITEMS.map((i) => i.key)).toContain('coolantFlowing');
+    const v = checkPreUse({ checklist: { ...all, coolantFlowing: false }, coolantC: 18 }, glass);
+    expect(v).toMatchObject({ ok: false, code: 'checklist_incomplete', fields: { 'checklist.coolantFlowing': expect.stringMatching(/coolant is flowing/) } });
+  });
+
   it('refuses a water-cooled machine without a reading', () => {
     const v = checkPreUse({ checklist: all }, glass);
     expect(v).toMatchObject({ ok: false, code: 'checklist_incomplete', fields: { coolantC: expect.any(String) } });

@@ -16,8 +16,12 @@ describe('cut estimate', () => {
     expect(e.withinReach).toBe(true);
     expect(e.assumptions[0]).toBe(STARTING_POINT_LABEL);
   });
-  it('the ideal model (η = 1) is four times faster than η = 0.25 (REFERENCE.md: ideal overestimates several times)', () => {
-    expect(cuttingSpeedMmPerS({ ...pmma, efficiency: 1 }, 60, 3) / cuttingSpeedMmPerS(pmma, 60, 3)).toBeCloseTo(4, 10);
+  it('the ideal model (η = 1) lands well above common practice: 3 mm PMMA at 40 W → by hand 40/1.1328 = 35.3 mm/s, where 5–12 mm/s is usual (common practice)', () => {
+    // REFERENCE.md: the ideal model overestimates real speeds several times; the calibrated η brings it into the band
+    expect(cuttingSpeedMmPerS({ ...pmma, efficiency: 1 }, 40, 3)).toBeCloseTo(35.31, 1);
+    const calibrated = cuttingSpeedMmPerS(pmma, 40, 3);
+    expect(calibrated).toBeGreaterThanOrEqual(5);
+    expect(calibrated).toBeLessThanOrEqual(12);
   });
   it('by hand: reach at the 4 mm/s practical minimum (common practice), 40 W PMMA → 10/(0.2·1.888·4) = 6.62 mm', () => {
     expect(reachMm(pmma, 40)).toBeCloseTo(6.62, 2);

@@ -1,6 +1,6 @@
 /** The formula parser and the halogen screen. Chemistry of the examples: REFERENCE.md, Materials section. */
 import { describe, expect, it } from 'vitest';
-import { FormulaError, parseFormula, screenComposition } from '../../src/lib/halogen-screen';
+import { FormulaError, parseFormula, parseSmiles, screenComposition, screenMaterial } from '../../src/lib/halogen-screen';
 
 describe('parseFormula', () => {
   it('reads element symbols with counts', () => {
@@ -96,5 +96,76 @@ describe('screenComposition (halogen rule: REFERENCE.md, Materials — universit
   it('screens several formulas together: one halogen anywhere blocks', () => {
     expect(screenComposition(['(C18H20O3)n', 'C15H12Br4O2']).verdict).toBe('blocked');
     expect(() => screenComposition([])).toThrow(FormulaError);
+  });
+});
+
+describe('name screening (curated names; REFERENCE.md, Materials — university EHS laser-cutter guidance)', () => {
+  it.each([
+    ['PVC', 'Cl'], ['ptfe', 'F'], ['Vinyl sheet', 'Cl'], ['FR-4', 'Br'], ['PCB', 'Br'], ['CPVC', 'Cl'], ['neoprene', 'Cl'],
+    ['chloroprene rubber', 'Cl'], ['PVDF', 'F'], ['FEP', 'F'], ['PCTFE', 'F'],
+  ])('"%s" → blocked, carrying %s', (name, halogen) => {
+    const r = screenMaterial({ name });
+    expect(r.verdict).toBe('blocked');
+    expect(r.halogens).toContain(halogen);
+    expect(r.matchedName).toBeTruthy();
+  });
+  it('short abbreviations typed as a formula are read as the material, not as element symbols', () => {
+    // as elements, PVC would be P, V, C (no halogen) and HIPS would be H, I, P, S (iodine): both wrong
+    expect(screenComposition('PVC')).toMatchObject({ verdict: 'blocked', halogens: ['Cl'], matchedName: 'PVC (polyvinyl chloride)' });
+    expect(screenComposition('HIPS')).toMatchObject({ verdict: 'blocked', halogens: [], matchedName: 'HIPS (high-impact polystyrene)' });
+    expect(screenComposition('HIPS').elements.I).toBeUndefined();
+    for (const abbr of ['PCB', 'PP', 'PS', 'PC', 'PU', 'CPVC']) {
+      const r = screenComposition(abbr);
+      expect(r.matchedName, abbr).toBeTruthy();
+      expect(r.verdict, abbr).toBe('blocked');
+      expect(r.elements.P ?? 0, abbr).toBe(0);
+    }
+  });
+  it('nitrogen-bearing names are blocked or left for review with the cyanide reason: ABS, polyurethane, nylon, wool', () => {
+    for (const n of ['ABS', 'PU foam', 'nylon 66']) expect(screenMaterial({ name: n }).verdict, n).toBe('blocked');
+    const wool = screenMaterial({ name: 'wool felt' });
+    expect(wool.verdict).toBe('review');
+    expect(wool.reason).toMatch(/cyanide/);
+  });
+  it('name patterns: chloro-/fluoro-/bromo-/iodo-, "halogen", "flame retardant" and "vinyl" → blocked with a reason', () => {
+    for (const n of ['Chlorinated rubber mat', 'fluoropolymer film', 'brominated board', 'iodinated sheet', 'halogenated foam', 'flame retardant panel', 'vinyl wrap']) {
+      const r = screenMaterial({ name: n });
+      expect(r.verdict, n).toBe('blocked');
+      expect(r.reason.length, n).toBeGreaterThan(30);
+    }
+    expect(screenMaterial({ name: 'Chlorinated rubber mat' }).halogens).toEqual(['Cl']);
+    // not halogens: fluorescent acrylic, halogen-free retardant (review), vinyl acetate (EVA)
+    expect(screenMaterial({ name: 'Fluorescent acrylic' })).toMatchObject({ verdict: 'review', halogens: [] });
+    expect(screenMaterial({ name: 'halogen-free flame retardant board' }).verdict).toBe('review');
+    expect(screenMaterial({ name: 'Ethylene vinyl acetate foam' })).toMatchObject({ verdict: 'review', halogens: [], matchedName: 'EVA foam' });
+  });
+  it('a blocking name wins over a harmless formula, and a halogen formula wins over a harmless name', () => {
+    expect(screenMaterial({ name: 'Vinyl banner', composition: '(C6H10O5)n' })).toMatchObject({ verdict: 'blocked', halogens: ['Cl'] });
+    expect(screenMaterial({ name: 'Birch sheet', composition: '(C2H3Cl)n' })).toMatchObject({ verdict: 'blocked', halogens: ['Cl'] });
+  });
+  it('an unrecognised name alone is left for review and asks for the formula', () => {
+    const r = screenMaterial({ name: 'Bamboo ply' });
+    expect(r.verdict).toBe('review');
+    expect(r.matchedName).toBeUndefined();
+    expect(r.reason).toMatch(/formula/);
+  });
+});
+
+describe('SMILES and polymer warnings', () => {
+  it('reads simple SMILES for halogens: vinyl chloride C=CCl, tetrafluoroethylene FC(F)=C(F)F, bromobenzene Brc1ccccc1', () => {
+    expect(parseSmiles('C=CCl')).toEqual({ C: 2, Cl: 1 });
+    expect(screenComposition('C=CCl')).toMatchObject({ verdict: 'blocked', halogens: ['Cl'] });
+    expect(screenComposition('FC(F)=C(F)F').halogens).toEqual(['F']);
+    expect(screenComposition('Brc1ccccc1')).toMatchObject({ halogens: ['Br'], elements: { Br: 1, C: 6 } });
+    expect(screenComposition('[Na+].[Cl-]').halogens).toEqual(['Cl']);
+    expect(screenComposition('c1ccccc1')).toMatchObject({ verdict: 'review', halogens: [] });
+  });
+  it('text that is neither a formula nor SMILES is still an error', () => {
+    expect(() => screenComposition('C2Qz4')).toThrow(FormulaError);
+    expect(parseSmiles('hello world')).toBeNull();
+  });
+  it('a polymer repeat unit without carbon gets a warning', () => {
+    expect(screenComposition('(SiO2)n').warnings.join(' ')).toMatch(/without carbon/);
+    expect(screenComposition('(C5H8O2)n').warnings).toEqual([]);
   });
 });

@@ -6,8 +6,8 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
-  DEFAULT_EXPOSURE_S, HazardInputError, diffuseHazardCm, hazardSheet, laserClass, mpeFarInfrared, nohdDirectCm,
-  nohdFocusedCm, opticalDensity, opticalDensityExact, photonEnergyEv,
+  DEFAULT_EXPOSURE_S, HazardInputError, diameterOneOverE, diffuseHazardCm, hazardSheet, laserClass, limitingApertureCm,
+  mpeFarInfrared, nohdDirectCm, nohdFocusedCm, opticalDensity, opticalDensityExact, photonEnergyEv,
 } from '../../src/lib/hazard';
 
 describe('MPE at 1.4 µm–1 mm (REFERENCE.md: ANSI Z136.1, IEC 60825-1 Annex A, EU 2006/25/EC Annex II)', () => {
@@ -39,7 +39,8 @@ describe('MPE at 1.4 µm–1 mm (REFERENCE.md: ANSI Z136.1, IEC 60825-1 Annex A,
 describe('hazard distances (ANSI Z136.1 hazard-evaluation appendix, from memory; REFERENCE.md)', () => {
   it('check value: 40 W, a = 0.6 cm, φ = 3 mrad, MPE 0.1 W/cm² → NOHD ≈ 73 m (REFERENCE.md)', () => {
     expect(nohdDirectCm(40, 0.1, 0.6, 0.003) / 100).toBeCloseTo(73.2, 1);
-    expect(Math.sqrt((4 * 40) / (Math.PI * 0.1))).toBeCloseTo(22.57, 2); // the intermediate value REFERENCE.md gives
+    // REFERENCE.md's intermediate √(4P/(π·MPE)) = 22.57 cm: with a = 0 and φ = 1 rad the product's NOHD is exactly it
+    expect(nohdDirectCm(40, 0.1, 0, 1)).toBeCloseTo(22.57, 2);
   });
   it('by hand: focused beam 40 W, f = 5.08 cm, b0 = 0.6 cm → (5.08/0.6)·22.568 = 191.1 cm', () => {
     expect(nohdFocusedCm(40, 0.1, 5.08, 0.6)).toBeCloseTo(191.07, 1);
@@ -50,6 +51,20 @@ describe('hazard distances (ANSI Z136.1 hazard-evaluation appendix, from memory;
   });
   it('is 0 when the exit beam is already below the MPE', () => {
     expect(nohdDirectCm(0.001, 0.1, 0.6, 0.003)).toBe(0);
+  });
+});
+
+describe('limiting aperture, 1.4–100 µm (ANSI Z136.1 / IEC 60825-1, from memory; REFERENCE.md)', () => {
+  it('1 mm up to 0.3 s, 1.5·t^0.375 mm below 10 s (by hand: t = 1 s → 1.5 mm, t = 5 s → 2.743 mm), 3.5 mm from 10 s', () => {
+    expect(limitingApertureCm(0.001)).toBe(0.1);
+    expect(limitingApertureCm(0.3)).toBe(0.1);
+    expect(limitingApertureCm(1)).toBeCloseTo(0.15, 10);
+    expect(limitingApertureCm(5)).toBeCloseTo(0.27428, 4);
+    expect(limitingApertureCm(10)).toBe(0.35);
+    expect(limitingApertureCm(3e4)).toBe(0.35);
+  });
+  it('a maker’s 1/e² diameter converts to 1/e by ÷ √2 (REFERENCE.md): 8.5 mm → 6.01 mm', () => {
+    expect(diameterOneOverE(8.5)).toBeCloseTo(6.0104, 3);
   });
 });
 
@@ -90,23 +105,53 @@ describe('laser class (IEC 60825-1; 21 CFR 1040.10, from memory)', () => {
 
 describe('hazardSheet', () => {
   const laserA = { powerW: 60, wavelengthUm: 10.6, beamDiameterMm: 6, divergenceMrad: 3, lensFocalMm: 50.8 };
-  it('by hand for a 60 W machine at 10 s: NOHD = (√(240/(π·0.1)) − 0.6)/0.003 cm = 90.1 m, OD 4, Class 4', () => {
+  it('by hand for a 60 W machine at 10 s: NOHD direct (27.640 − 0.6)/0.003 cm = 90.1 m, focused 8.4667·27.640 cm = 2.340 m, diffuse 13.82 cm, OD 4, Class 4', () => {
+    // √(4·60/(π·0.1)) = √763.94 = 27.640 cm; √(60/(π·0.1)) = 13.820 cm (hand-computed)
     const s = hazardSheet(laserA);
     expect(s.mpeWPerCm2).toBe(0.1);
     expect(s.mpeJPerCm2).toBeUndefined();
     expect(s.nohdDirectM).toBeCloseTo(90.13, 1);
-    expect(s.nohdFocusedM).toBeCloseTo((5.08 / 0.6) * Math.sqrt(240 / (Math.PI * 0.1)) / 100, 4);
-    expect(s.diffuseHazardM).toBeCloseTo(Math.sqrt(60 / (Math.PI * 0.1)) / 100, 5);
+    expect(s.nohdFocusedM).toBeCloseTo(2.3402, 3);
+    expect(s.diffuseHazardM).toBeCloseTo(0.1382, 4);
     expect(s.opticalDensity).toBe(4);
     expect(s.laserClass).toBe('4');
     expect(s.photonEnergyEv).toBeCloseTo(0.117, 4);
     expect(s.figures.every((f) => f.formula && f.source)).toBe(true);
-    expect(s.sources.length).toBeGreaterThanOrEqual(4);
   });
-  it('below 10 s the MPE is a radiant exposure (mpeJPerCm2)', () => {
-    const s = hazardSheet({ ...laserA, exposureS: 1 });
+  it('a 100 W machine needs OD 5, governed by the beam after the lens: by hand 100/(π·0.35²/4) = 1039.4 W/cm², log10(10 394) = 4.017 (exit beam alone: 3.549)', () => {
+    const s = hazardSheet({ ...laserA, powerW: 100 });
+    expect(s.opticalDensity).toBe(5);
+    expect(s.odCase).toBe('focused_beam');
+    expect(s.opticalDensityExact).toBeCloseTo(4.0168, 3);
+    expect(s.odCases.find((c) => c.case === 'exit_beam')!.exact).toBeCloseTo(3.5486, 3);
+    expect(s.figures.find((f) => f.key === 'od')!.label).toMatch(/after the focusing lens/);
+    // just below the step: 96 W → log10(9 978) = 3.999 → OD 4
+    expect(hazardSheet({ ...laserA, powerW: 96 }).opticalDensity).toBe(4);
+  });
+  it('a 9.6 µm machine uses the same far-infrared MPE (1.4 µm–1 mm band) and its own photon energy: 40 W → OD 4 (exact 3.619), 0.1292 eV', () => {
+    const s = hazardSheet({ ...laserA, powerW: 40, wavelengthUm: 9.6 });
+    expect(s.mpeWPerCm2).toBe(0.1);
+    expect(s.opticalDensityExact).toBeCloseTo(3.6188, 3);
+    expect(s.opticalDensity).toBe(4);
+    expect(s.photonEnergyEv).toBeCloseTo(0.1292, 3); // CODATA 2018: 0.12915 eV
+  });
+  it('below 10 s the MPE is a radiant exposure and the aperture shrinks: by hand 100 W, t = 1 s → D_f 1.5 mm, E0 = 5659 W/cm², MPE 0.56 W/cm² → 4.005 → OD 5', () => {
+    const s = hazardSheet({ ...laserA, powerW: 100, exposureS: 1 });
     expect(s.mpeJPerCm2).toBeCloseTo(0.56, 6);
     expect(s.mpeWPerCm2).toBeUndefined();
+    expect(s.limitingApertureMm).toBeCloseTo(1.5, 6);
+    expect(s.opticalDensityExact).toBeCloseTo(4.0045, 3);
+    expect(s.opticalDensity).toBe(5);
+  });
+  it('by hand: 100 W, t = 0.25 s → D_f 1 mm, H = 0.56·0.25^0.25 = 0.3960 J/cm² (1.584 W/cm²), E0 = 12 732 W/cm² → 3.905 → OD 4', () => {
+    const s = hazardSheet({ ...laserA, powerW: 100, exposureS: 0.25 });
+    expect(s.limitingApertureMm).toBe(1);
+    expect(s.opticalDensityExact).toBeCloseTo(3.9052, 3);
+    expect(s.opticalDensity).toBe(4);
+  });
+  it('an exit beam narrower than the aperture: both cases tie and the exit beam is named', () => {
+    const s = hazardSheet({ ...laserA, beamDiameterMm: 2 });
+    expect(s.odCase).toBe('exit_beam');
   });
   it('refuses out-of-range inputs', () => {
     for (const bad of [

@@ -1,16 +1,16 @@
 /** The material-rule decision used at booking (pure). Example materials from REFERENCE.md, Materials section. */
 import { describe, expect, it } from 'vitest';
-import { decide, effectiveRule, type RuleMaterial } from '../../src/lib/material-rules';
+import { catalogueRule, decide, effectiveRule, halogenFinding, type RuleMaterial } from '../../src/lib/material-rules';
 
 const laserA = { id: 'a', name: 'Laser A', powerW: 60 };
 const laserB = { id: 'b', name: 'Laser B', powerW: 40 };
-const base = { maxCutMm: null, densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: null };
-const acrylic: RuleMaterial = { ...base, id: '1', name: 'Acrylic (PMMA)', rule: 'allowed', reason: 'Cuts cleanly.', modes: ['cut', 'engrave', 'score'], densityGPerCm3: 1.18, heatOfGasificationJPerG: 1600, cutEfficiency: 0.25 };
-const pvc: RuleMaterial = { ...base, id: '2', name: 'PVC', rule: 'blocked', reason: 'Gives off hydrogen chloride.', modes: [] };
-const anodised: RuleMaterial = { ...base, id: '3', name: 'Anodised aluminium', rule: 'limited', reason: 'Engrave only: bare metal reflects the beam.', modes: ['engrave'] };
-const card: RuleMaterial = { ...base, id: '4', name: 'Card', rule: 'allowed', reason: 'Fine.', modes: ['cut', 'engrave'], maxCutMm: 3 };
+const base = { maxCutMm: null, densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: null, composition: [] as string[] };
+const acrylic: RuleMaterial = { ...base, composition: ['(C5H8O2)n'], id: '1', name: 'Acrylic (PMMA)', rule: 'allowed', reason: 'Cuts cleanly.', modes: ['cut', 'engrave', 'score'], densityGPerCm3: 1.18, heatOfGasificationJPerG: 1600, cutEfficiency: 0.25 };
+const pvc: RuleMaterial = { ...base, composition: ['(C2H3Cl)n'], id: '2', name: 'PVC', rule: 'blocked', reason: 'Gives off hydrogen chloride.', modes: [] };
+const anodised: RuleMaterial = { ...base, composition: ['Al2O3', 'Al'], id: '3', name: 'Anodised aluminium', rule: 'limited', reason: 'Engrave only: bare metal reflects the beam.', modes: ['engrave'] };
+const card: RuleMaterial = { ...base, composition: ['(C6H10O5)n'], id: '4', name: 'Card', rule: 'allowed', reason: 'Fine.', modes: ['cut', 'engrave'], maxCutMm: 3 };
 
-describe('decide (halogen and non-halogen blocks: REFERENCE.md, university EHS guidance)', () => {
+describe('decide (halogen and non-halogen blocks: REFERENCE.md, Materials — university EHS laser-cutter guidance as REFERENCE.md summarises it, no single document: common practice)', () => {
   it('PVC is blocked whatever the mode, naming the material and the reason', () => {
     const d = decide(pvc, laserA, { mode: 'engrave', thicknessMm: 1 });
     expect(d.ok).toBe(false);
@@ -29,12 +29,14 @@ describe('decide (halogen and non-halogen blocks: REFERENCE.md, university EHS g
     expect(d.ok || d.code).toBe('material_limited');
     expect(decide(anodised, laserA, { mode: 'engrave', thicknessMm: 1 }).ok).toBe(true);
   });
-  it('thickness above the limit derived from power is limited: by hand 40 W acrylic reaches 6.6 mm, 60 W 9.9 mm', () => {
-    expect(effectiveRule(acrylic, laserB).maxCutMm).toBe(6.6);
-    expect(effectiveRule(acrylic, laserA).maxCutMm).toBe(9.9);
+  it('the machine’s reach is advice: by hand 40 W acrylic reaches 10/(0.2·1.888·4) = 6.6 mm, 60 W 9.9 mm; thicker warns, not refuses', () => {
+    expect(effectiveRule(acrylic, laserB)).toMatchObject({ reachMm: 6.6, maxCutMm: null, maxCutBasis: 'none' });
+    expect(effectiveRule(acrylic, laserA).reachMm).toBe(9.9);
     const d = decide(acrylic, laserB, { mode: 'cut', thicknessMm: 8 });
-    expect(d.ok ? 'ok' : d.code).toBe('material_limited');
-    expect(decide(acrylic, laserA, { mode: 'cut', thicknessMm: 8 }).ok).toBe(true);
+    expect(d.ok).toBe(true);
+    if (d.ok) expect(d.warnings.join(' ')).toMatch(/8 mm is beyond what the estimate says Laser B \(40 W\) cuts in one pass \(about 6.6 mm\)/);
+    const thin = decide(acrylic, laserB, { mode: 'cut', thicknessMm: 6 });
+    expect(thin.ok && thin.warnings).toEqual([]);
     // engraving is not limited by the cut thickness
     expect(decide(acrylic, laserB, { mode: 'engrave', thicknessMm: 8 }).ok).toBe(true);
   });
@@ -52,5 +54,29 @@ describe('decide (halogen and non-halogen blocks: REFERENCE.md, university EHS g
     expect(thin.effective.maxCutBasis).toBe('override');
     const blocked = decide(acrylic, laserA, { mode: 'cut', thicknessMm: 3 }, { rule: 'blocked', modes: null, maxCutMm: null, note: 'extractor out.' });
     expect(blocked.ok ? 'ok' : blocked.code).toBe('material_blocked');
+  });
+});
+
+describe('the halogen rule holds whatever the stored rule says (REFERENCE.md, Materials: halogen ⇒ blocked)', () => {
+  const pvcAllowed: RuleMaterial = { ...pvc, rule: 'allowed', modes: ['cut'] };
+  it('an override { rule: allowed, modes: [cut] } on PVC still decides material_blocked', () => {
+    const d = decide(pvc, laserA, { mode: 'cut', thicknessMm: 3 }, { rule: 'allowed', modes: ['cut'], maxCutMm: null, note: null });
+    expect(d.ok ? 'ok' : d.code).toBe('material_blocked');
+    expect(d.effective).toMatchObject({ rule: 'blocked', halogenBlocked: true, modes: [] });
+  });
+  it('a stored row "allowed" with (C2H3Cl)n is treated as blocked, with the reason saying why', () => {
+    const d = decide(pvcAllowed, laserB, { mode: 'engrave', thicknessMm: 1 });
+    expect(d.ok ? 'ok' : d.code).toBe('material_blocked');
+    expect(d.effective.reason).toMatch(/halogen rule/);
+    expect(catalogueRule(pvcAllowed)).toMatchObject({ rule: 'blocked', halogenBlocked: true });
+    expect(catalogueRule(acrylic)).toMatchObject({ rule: 'allowed', halogenBlocked: false });
+  });
+  it('a recognised name carries its halogen even with no composition: "Vinyl sheet", "PTFE tape", "FR-4 offcuts"', () => {
+    for (const name of ['Vinyl sheet', 'PTFE tape', 'FR-4 offcuts']) {
+      const m: RuleMaterial = { ...base, id: name, name, rule: 'allowed', reason: 'x', modes: ['cut'] };
+      expect(halogenFinding(m), name).not.toBeNull();
+      expect(effectiveRule(m, laserA).rule, name).toBe('blocked');
+    }
+    expect(halogenFinding(acrylic)).toBeNull();
   });
 });

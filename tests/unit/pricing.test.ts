@@ -68,7 +68,7 @@ describe('worked examples (invented rates)', () => {
     expect(q.billedMinutes).toBe(25);
     expect(q.lines[0]).toMatchObject({ kind: 'beam_time', quantity: 25, unitMinor: 80, amountMinor: 2000 });
     expect(q.amountMinor).toBe(2000);
-    // 15 % GST inclusive: 2000 × 15/115 = 260.87 → 261 (half-up on the total; NZ GST at 15 %, common practice)
+    // 15 % GST inclusive: 2000 × 15/115 = 260.87 → 261 (half-up on the total; NZ GST at 15 %: statutory rate, Goods and Services Tax Act 1985 s 8, from memory)
     expect(q.taxMinor).toBe(261);
   });
   it('tops up to the minimum charge, but only when there was beam time', () => {

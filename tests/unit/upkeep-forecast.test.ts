@@ -18,7 +18,7 @@ describe('rate of use and tube hours', () => {
     expect(tubeHours(1234)).toBe(20.6); // 1234 / 60 = 20.566…
     expect(tubeLifeUsed(500, 2000)).toBe(0.25);
   });
-  it('default tube life sits in the published ranges (REFERENCE.md: DC glass 1 000–10 000 h, RF metal 20 000–45 000 h)', () => {
+  it('default tube life sits in the common-practice ranges (REFERENCE.md, common practice: DC glass 1 000–10 000 h, RF metal 20 000–45 000 h)', () => {
     const glass = defaultIntervals('dc_glass', 'water').tube_replacement.beamHours!;
     const rf = defaultIntervals('rf_metal', 'air').tube_replacement.beamHours!;
     expect(glass).toBeGreaterThanOrEqual(1000);

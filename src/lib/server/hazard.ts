@@ -31,6 +31,8 @@ export function hazardResponse(s: HazardSheet) {
     nohdFocusedM: s.nohdFocusedM,
     diffuseHazardM: s.diffuseHazardM,
     opticalDensity: s.opticalDensity,
+    opticalDensityExact: s.opticalDensityExact,
+    odCase: s.odCase,
     laserClass: s.laserClass,
     photonEnergyEv: s.photonEnergyEv,
     sources: s.sources,

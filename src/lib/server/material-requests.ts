@@ -13,7 +13,7 @@ import { env } from './env';
 import { checkUpload } from './file-types';
 import { getObject, putObject } from './storage';
 import { createMaterial, type Material, type MaterialInput } from './materials';
-import { FormulaError, screenComposition, type ScreenResult } from '../halogen-screen';
+import { FormulaError, screenComposition, screenMaterial, type ScreenResult } from '../halogen-screen';
 import type { MaterialMode } from '../material-rules';
 
 export const SDS_MAX_BYTES = 10 * 1024 * 1024;
@@ -76,6 +76,16 @@ export function screenOrThrow(composition: string): ScreenResult {
   }
 }
 
+/** Screens a name and/or a composition together (a recognised name such as PVC blocks whatever formula is typed). */
+export function screenMaterialOrThrow(name: string | null, composition: string | null): ScreenResult {
+  try {
+    return screenMaterial({ name, composition });
+  } catch (err) {
+    if (err instanceof FormulaError) throw new HttpError(422, 'invalid_formula', err.message, { composition: err.message });
+    throw err;
+  }
+}
+
 export interface NewRequest {
   name: string;
   supplier: string;
@@ -86,7 +96,7 @@ export interface NewRequest {
 }
 
 export async function createRequest(requesterId: string, input: NewRequest): Promise<MaterialRequest> {
-  const screen = screenOrThrow(input.composition);
+  const screen = screenMaterialOrThrow(input.name, input.composition);
   await checkUpload(input.sds.bytes, ['application/pdf'], 'safety data sheet', SDS_MAX_BYTES);
   const id = randomUUID();
   const key = `sds/${id}.pdf`;

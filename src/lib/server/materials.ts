@@ -8,14 +8,17 @@ import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
 import {
-  decide, effectiveRule, type EffectiveRule, type MaterialCategory, type MaterialMode, type MaterialRule,
-  type RuleMaterial, type RuleOverride,
+  catalogueRule, decide, effectiveRule, halogenFinding, type EffectiveRule, type MaterialCategory, type MaterialMode,
+  type MaterialRule, type RuleMaterial, type RuleOverride,
 } from '../material-rules';
 import { CutInputError, estimateCut, type CutEstimate } from '../cut-estimate';
+import { FormulaError, screenComposition, screenMaterial } from '../halogen-screen';
 
 export interface Material extends RuleMaterial {
   category: MaterialCategory;
   composition: string[];
+  /** True when the stored rule is allowed or limited but the composition or name carries a halogen: treated as blocked. */
+  halogenHeld?: boolean;
   soldBySpace: boolean;
   sheetPriceMinor: number | null;
   sheetSize: string | null;
@@ -64,9 +67,57 @@ export async function listOverrides(trx: Knex | Knex.Transaction = db()): Promis
   return ((await trx('material_machine_overrides').select('*')) as OverrideRow[]).map(toOverride);
 }
 
-/** The shape of GET /api/materials. */
+/** The shape of GET /api/materials: an entry that breaks the halogen rule is shown as blocked until it is fixed. */
 export function materialSummary(m: Material) {
-  return { id: m.id, name: m.name, category: m.category, rule: m.rule, reason: m.reason, modes: m.modes, composition: m.composition };
+  const c = catalogueRule(m);
+  return { id: m.id, name: m.name, category: m.category, rule: c.rule, reason: c.reason, modes: c.modes, composition: m.composition };
+}
+
+const HALOGEN_NAMES: Record<string, string> = { F: 'fluorine', Cl: 'chlorine', Br: 'bromine', I: 'iodine' };
+
+/**
+ * The one halogen rule for every write (material create and update, per-machine override, request approval):
+ * every formula must be readable; a material or override that is `allowed` or `limited` while the composition or
+ * the recognised name carries F, Cl, Br or I → 422 halogen_not_allowed; a material with no composition and no
+ * recognised name can only be blocked (→ 422 composition_required). `rule` is the rule being written (for an
+ * override, the rule it results in on that machine).
+ */
+export function assertHalogenRule(m: { name: string; composition: readonly string[] }, rule: MaterialRule, target: 'material' | 'override' = 'material'): void {
+  for (const [i, f] of m.composition.entries()) {
+    try {
+      screenComposition(f);
+    } catch (err) {
+      if (err instanceof FormulaError) throw new HttpError(422, 'invalid_formula', err.message, { [`composition.${i}`]: err.message, composition: err.message });
+      throw err;
+    }
+  }
+  if (rule === 'blocked') return;
+  const finding = halogenFinding(m);
+  if (finding) {
+    const elements = finding.halogens.map((h) => `${HALOGEN_NAMES[h] ?? h} (${h})`).join(', ');
+    const via = m.composition.length && screenComposition(m.composition).halogens.length ? 'its composition' : `its name${finding.matchedName ? ` (read as ${finding.matchedName})` : ''}`;
+    const message = `${m.name} carries ${elements} by ${via}, so it can only be blocked, not ${rule}. ${finding.reason}`;
+    const fields: Record<string, string> = { rule: `Only "blocked" is possible: it carries ${elements}.` };
+    if (target === 'material') fields.composition = `Carries ${elements}.`;
+    throw new HttpError(422, 'halogen_not_allowed', message, fields);
+  }
+  if (target === 'material' && m.composition.length === 0 && !screenMaterial({ name: m.name }).matchedName) {
+    throw new HttpError(422, 'composition_required', `${m.name} has no composition and is not a name we recognise: give the formula from the safety data sheet, or block it until a steward has reviewed it.`, {
+      composition: 'Give at least one formula, or block the material.',
+    });
+  }
+}
+
+/** Catalogue entries whose stored rule breaks the halogen rule (shown to the admin; treated as blocked). */
+export function halogenViolations(materials: Material[], overrides: MaterialOverride[]) {
+  const out: { materialId: string; name: string; machineId: string | null; storedRule: MaterialRule; reason: string }[] = [];
+  for (const m of materials) {
+    const f = halogenFinding(m);
+    if (!f) continue;
+    if (m.rule !== 'blocked') out.push({ materialId: m.id, name: m.name, machineId: null, storedRule: m.rule, reason: f.reason });
+    for (const o of overrides) if (o.materialId === m.id && o.rule && o.rule !== 'blocked') out.push({ materialId: m.id, name: m.name, machineId: o.machineId, storedRule: o.rule, reason: f.reason });
+  }
+  return out;
 }
 
 export interface MaterialInput {
@@ -106,6 +157,7 @@ function mapWriteError(err: unknown): never {
 }
 
 export async function createMaterial(actorId: string, input: MaterialInput, trx?: Knex.Transaction): Promise<Material> {
+  assertHalogenRule(input, input.rule);
   const work = async (t: Knex.Transaction) => {
     const [row] = (await t('materials').insert(toRow(input)).returning('*')) as Row[];
     const m = toMaterial(row!);
@@ -120,10 +172,14 @@ export async function createMaterial(actorId: string, input: MaterialInput, trx?
 }
 
 export async function updateMaterial(actorId: string, id: string, input: MaterialInput): Promise<Material> {
+  assertHalogenRule(input, input.rule);
   try {
     return await transaction(async (t) => {
       const before = (await t('materials').where({ id }).forUpdate().first()) as Row | undefined;
       if (!before) throw new HttpError(404, 'material_not_found', 'No material has that id.');
+      // an override that would now let a halogen-bearing material under the beam is refused too
+      const loose = (await t('material_machine_overrides').where({ material_id: id }).whereIn('rule', ['allowed', 'limited']).first('rule')) as { rule: MaterialRule } | undefined;
+      if (loose) assertHalogenRule(input, loose.rule, 'override');
       const [row] = (await t('materials').where({ id }).update({ ...toRow(input), updated_at: t.fn.now() }).returning('*')) as Row[];
       const b = toMaterial(before);
       const a = toMaterial(row!);
@@ -147,6 +203,7 @@ export async function setOverride(actorId: string, materialId: string, machineId
     if (!material) throw new HttpError(404, 'material_not_found', 'No material has that id.');
     const machine = await getMachine(machineId, t);
     if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+    if (o) assertHalogenRule(material, o.rule ?? material.rule, 'override');
     const beforeRow = (await t('material_machine_overrides').where({ material_id: materialId, machine_id: machineId }).forUpdate().first()) as OverrideRow | undefined;
     const before = beforeRow ? toOverride(beforeRow) : null;
     let after: MaterialOverride | null = null;
@@ -197,9 +254,10 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
  * The booking check: every declared material must be allowed on `machineId` in its mode and thickness.
  * Throws HttpError 422 `material_blocked` (naming the material and the reason), 422 `material_limited` (mode not
  * allowed, or thicker than the machine may cut, per-machine overrides included), 422 `invalid` for an unknown
- * material id or a thickness out of range, 404 `machine_not_found`. Resolves when all are fine.
+ * material id or a thickness out of range, 404 `machine_not_found`. Resolves with advice (thicker than the machine
+ * cuts in one pass, by the estimate) when all are fine: the machine's reach warns, only the rule's limit refuses.
  */
-export async function checkDeclaredMaterials(machineId: string, materials: DeclaredMaterial[], trx?: Knex | Knex.Transaction): Promise<void> {
+export async function checkDeclaredMaterials(machineId: string, materials: DeclaredMaterial[], trx?: Knex | Knex.Transaction): Promise<string[]> {
   const q = trx ?? db();
   const machine = UUID.test(machineId) ? await getMachine(machineId, q) : null;
   if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
@@ -210,6 +268,7 @@ export async function checkDeclaredMaterials(machineId: string, materials: Decla
   const overrides = rows.length
     ? ((await q('material_machine_overrides').where({ machine_id: machineId }).whereIn('material_id', ids)) as OverrideRow[]).map(toOverride)
     : [];
+  const warnings: string[] = [];
   for (const [i, d] of materials.entries()) {
     const material = byId.get(d.materialId);
     if (!material) throw new HttpError(422, 'invalid', 'A declared material is not in the catalogue.', { [`materials.${i}.materialId`]: 'Unknown material.' });
@@ -218,21 +277,53 @@ export async function checkDeclaredMaterials(machineId: string, materials: Decla
     }
     const decision = decide(material, machine, d, overrides.find((o) => o.materialId === material.id));
     if (!decision.ok) throw new HttpError(422, decision.code, decision.message, { [`materials.${i}`]: decision.message });
+    warnings.push(...decision.warnings);
   }
+  return warnings;
 }
 
-/** The starting cut settings for a catalogue material (422 when it cannot be estimated or a number is out of range). */
-export async function cutEstimateFor(materialId: string, powerW: number, thicknessMm: number, kerfMm?: number): Promise<CutEstimate> {
+export type CutAdvice =
+  | (CutEstimate & { machine: { id: string; name: string; powerW: number } | null; ruleMaxCutMm: number | null; allowedByRule: boolean; notes: string[] })
+  | { notOnThisMachine: true; machine: { id: string; name: string; powerW: number }; message: string };
+
+/**
+ * The starting cut settings for a catalogue material: on a stored machine (its power and its effective rule,
+ * overrides included: "not on this machine" where the material is blocked or not cut there) or for a bare power.
+ * 422 when it cannot be estimated or a number is out of range.
+ */
+export async function cutEstimateFor(materialId: string, on: { powerW?: number; machineId?: string }, thicknessMm: number, kerfMm?: number): Promise<CutAdvice> {
   const m = await getMaterial(materialId);
   if (!m) throw new HttpError(422, 'invalid', 'Unknown material.', { materialId: 'Unknown material.' });
+  let machine: Machine | null = null;
+  let effective: EffectiveRule | null = null;
+  if (on.machineId) {
+    machine = UUID.test(on.machineId) ? await getMachine(on.machineId) : null;
+    if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+    const o = (await db()('material_machine_overrides').where({ material_id: m.id, machine_id: machine.id }).first()) as OverrideRow | undefined;
+    effective = effectiveRule(m, machine, o ? toOverride(o) : null);
+    const brief = { id: machine.id, name: machine.name, powerW: machine.powerW };
+    if (effective.rule === 'blocked') return { notOnThisMachine: true, machine: brief, message: `Not on this machine: ${m.name} is blocked on ${machine.name}. ${effective.reason}` };
+    if (!effective.modes.includes('cut')) return { notOnThisMachine: true, machine: brief, message: `Not on this machine: ${m.name} may not be cut on ${machine.name} (${effective.modes.join(', ') || 'nothing'} only). ${effective.reason}` };
+  } else {
+    const c = catalogueRule(m);
+    if (c.rule === 'blocked') throw new HttpError(422, 'not_estimable', `${m.name} is blocked: ${c.reason}`, { materialId: 'Blocked material.' });
+  }
   if (m.densityGPerCm3 == null || m.heatOfGasificationJPerG == null || m.cutEfficiency == null || !m.modes.includes('cut')) {
     throw new HttpError(422, 'not_estimable', `${m.name} is not cut on these machines, or has no cutting figures on record.`, { materialId: 'No cutting figures for this material.' });
   }
+  const powerW = machine ? machine.powerW : on.powerW;
+  if (powerW === undefined) throw new HttpError(422, 'invalid', 'Give a machine or a power.', { powerW: 'Give a machine or a power.' });
   try {
-    return estimateCut(
-      { name: m.name, densityGPerCm3: m.densityGPerCm3, heatOfGasificationJPerG: m.heatOfGasificationJPerG, efficiency: m.cutEfficiency, maxCutMm: m.maxCutMm },
+    const e = estimateCut(
+      { name: m.name, densityGPerCm3: m.densityGPerCm3, heatOfGasificationJPerG: m.heatOfGasificationJPerG, efficiency: m.cutEfficiency, maxCutMm: effective ? effective.maxCutMm : m.maxCutMm },
       { powerW, thicknessMm, ...(kerfMm !== undefined ? { kerfMm } : {}) },
     );
+    const ruleMaxCutMm = effective ? effective.maxCutMm : m.maxCutMm;
+    const allowedByRule = ruleMaxCutMm == null || thicknessMm <= ruleMaxCutMm + 1e-9;
+    const notes: string[] = [];
+    if (!allowedByRule) notes.push(`The rule allows at most ${ruleMaxCutMm} mm of ${m.name}${machine ? ` on ${machine.name}` : ''}: a booking for ${thicknessMm} mm is refused.`);
+    else if (!e.withinReach) notes.push(`Beyond what the estimate says ${machine ? machine.name : `${powerW} W`} cuts in one pass (about ${e.reachMm} mm): expect several passes. Advice only.`);
+    return { ...e, machine: machine ? { id: machine.id, name: machine.name, powerW: machine.powerW } : null, ruleMaxCutMm, allowedByRule, notes };
   } catch (err) {
     if (err instanceof CutInputError) throw new HttpError(422, 'invalid', err.message, { [err.field]: err.message });
     throw err;

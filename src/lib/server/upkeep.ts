@@ -162,6 +162,8 @@ export interface UpkeepStatus {
   machineName: string;
   machineCode: string;
   tubeHours: number;
+  /** How the tube hours were counted: sessions with a job-timer reading, and sessions counted check-in to check-out. */
+  tubeHoursBasis: { timerSessions: number; clockSessions: number };
   tubeRatedHours: number;
   tubeFittedAt: Date | null;
   hoursPerDay: number;
@@ -173,6 +175,21 @@ async function beamMinutesBetween(trx: Conn, machineId: string, from: Date | nul
   if (from) q.where('checked_in_at', '>=', from);
   const r = await q.first(trx.raw('coalesce(sum(beam_minutes), 0)::int as minutes'));
   return Number((r as { minutes?: number } | undefined)?.minutes ?? 0);
+}
+
+/**
+ * Minutes the tube fired: the job-timer reading where the member gave one at check-out (the laser's own count), else
+ * the beam time from check-in to check-out; with how many sessions each way.
+ */
+async function tubeMinutesBetween(trx: Conn, machineId: string, from: Date | null, to: Date): Promise<{ minutes: number; timerSessions: number; clockSessions: number }> {
+  const q = trx('machine_sessions').where({ machine_id: machineId }).whereNotNull('checked_out_at').where('checked_in_at', '<', to);
+  if (from) q.where('checked_in_at', '>=', from);
+  const r = (await q.first(
+    trx.raw('coalesce(sum(coalesce(job_timer_minutes, beam_minutes)), 0)::int as minutes'),
+    trx.raw('count(job_timer_minutes)::int as timer_sessions'),
+    trx.raw('(count(*) - count(job_timer_minutes))::int as clock_sessions'),
+  )) as { minutes?: number; timer_sessions?: number; clock_sessions?: number } | undefined;
+  return { minutes: Number(r?.minutes ?? 0), timerSessions: Number(r?.timer_sessions ?? 0), clockSessions: Number(r?.clock_sessions ?? 0) };
 }
 
 /** Tube hours, the rate of use and the due list of one machine at `now`. */
@@ -187,7 +204,8 @@ export async function upkeepStatus(machineId: string, now = new Date(), trx: Con
     .select('kind', 'performed_at', 'tube_rated_hours')) as { kind: UpkeepKind; performed_at: Date; tube_rated_hours: number | null }[];
   const recent = await beamMinutesBetween(trx, machineId, new Date(now.getTime() - RECENT_WINDOW_DAYS * 86_400_000), now);
   const tube = last.find((l) => l.kind === 'tube_replacement');
-  const tubeMinutes = await beamMinutesBetween(trx, machineId, tube?.performed_at ?? null, now);
+  const tubeCount = await tubeMinutesBetween(trx, machineId, tube?.performed_at ?? null, now);
+  const tubeMinutes = tubeCount.minutes;
   const rated = tube?.tube_rated_hours ?? intervals.tube_replacement.beamHours ?? defaultIntervals(m.tube_type, m.coolant_type).tube_replacement.beamHours!;
   const due: DueItem[] = [];
   for (const kind of UPKEEP_KINDS) {
@@ -198,7 +216,8 @@ export async function upkeepStatus(machineId: string, now = new Date(), trx: Con
     due.push({ kind, label: UPKEEP_LABELS[kind], interval, lastDoneAt: done?.performed_at ?? null, beamHoursSince: Math.round((since / 60) * 10) / 10, forecast: f });
   }
   return {
-    machineId: m.id, machineName: m.name, machineCode: m.code, tubeHours: tubeHours(tubeMinutes), tubeRatedHours: rated,
+    machineId: m.id, machineName: m.name, machineCode: m.code, tubeHours: tubeHours(tubeMinutes),
+    tubeHoursBasis: { timerSessions: tubeCount.timerSessions, clockSessions: tubeCount.clockSessions }, tubeRatedHours: rated,
     tubeFittedAt: tube?.performed_at ?? null, hoursPerDay: Math.round((recent / 60 / RECENT_WINDOW_DAYS) * 100) / 100, due: byUrgency(due),
   };
 }

@@ -1,8 +1,11 @@
 import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createMaterial, rulesByMachine, listOverrides } from '../../../lib/server/materials';
+import { createMaterial, halogenViolations, rulesByMachine, listOverrides } from '../../../lib/server/materials';
 import { materialInput } from '../../../lib/material-schemas';
 
-/** GET /api/material-rules (admin) → every material with all its fields, the machines, overrides and effective limits. */
+/**
+ * GET /api/material-rules (admin) → every material with all its fields, the machines, overrides, effective limits and
+ * `violations`: entries whose stored rule breaks the halogen rule (treated as blocked until fixed).
+ */
 export const GET = route(async ({ locals }) => {
   requireRole(locals, 'admin');
   const [{ machines, materials, effective }, overrides] = await Promise.all([rulesByMachine(), listOverrides()]);
@@ -11,10 +14,11 @@ export const GET = route(async ({ locals }) => {
     materials: materials.map((m) => ({ ...m, updatedAt: m.updatedAt.toISOString() })),
     overrides,
     effective,
+    violations: halogenViolations(materials, overrides),
   });
 });
 
-/** POST /api/material-rules (admin) → 201 the new material; audited. */
+/** POST /api/material-rules (admin) → 201 the new material; audited. 422 halogen_not_allowed / composition_required / invalid_formula. */
 export const POST = route(async ({ locals, request }) => {
   const admin = requireRole(locals, 'admin');
   const input = await readJson(request, materialInput);
