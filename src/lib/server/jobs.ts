@@ -18,6 +18,8 @@ export const QUEUES = {
   'sessions.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 300 },
   // upkeep that has fallen due: one e-mail to the stewards per item, state and service cycle
   'upkeep.remind': { retryLimit: 2, retryDelay: 60, expireInSeconds: 300 },
+  // controllers not heard from while their machine is booked: the stewards are e-mailed once
+  'controllers.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 120 },
 } as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
 
 export type QueueName = keyof typeof QUEUES;
