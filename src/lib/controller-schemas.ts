@@ -91,7 +91,10 @@ export const enrolBadgeBody = z.object({ badge }).strict().meta({ id: 'EnrolBadg
 
 export const assignUnknownBody = z.object({ personId: z.uuid() }).strict();
 
-export const walkUpsBody = z.object({ walkUpsAllowed: z.boolean() }).strict();
+export const WALK_UP_MODES = ['bookings_only', 'walk_ups_allowed'] as const;
+export const walkUpsBody = z.object({
+  mode: z.enum(WALK_UP_MODES).meta({ description: 'bookings_only: a badge fires the machine only on a booking. walk_ups_allowed: also on a free machine in opening hours.' }),
+}).strict().meta({ id: 'WalkUpSetting' });
 
 export const apiError = z.object({
   error: z.object({ code: z.string(), message: z.string(), fields: z.record(z.string(), z.string()).optional() }),

@@ -507,3 +507,11 @@ export async function sweepControllers(now = new Date()): Promise<{ alerted: num
     return { alerted: rows.length };
   });
 }
+
+/** How a session's beam time was counted, for its receipt: measured by a controller, or the wall clock. */
+export async function beamSourceOf(sessionId: string | null): Promise<{ source: 'measured' | 'clock'; measuredSeconds: number | null } | null> {
+  if (!sessionId) return null;
+  const s = await db()('machine_sessions').where({ id: sessionId }).first('measured_beam_seconds');
+  if (!s) return null;
+  return s.measured_beam_seconds === null ? { source: 'clock', measuredSeconds: null } : { source: 'measured', measuredSeconds: s.measured_beam_seconds };
+}
