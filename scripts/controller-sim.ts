@@ -3,7 +3,7 @@
  * prints what its two-line display would show.
  *
  *   npm run controller-sim -- --machine laser-b --badge 04A2197F3380 [--beam-seconds 95] [--heartbeats 3]
- *        [--interval-ms 1000] [--hold-seconds 0] [--url http://127.0.0.1:$PORT] [--token <device token>]
+ *        [--interval-ms 1000] [--hold-seconds 0] [--url http://127.0.0.1:$PORT] [--token <device token>] [--time-zone <IANA zone>]
  *
  * Without --token (or CONTROLLER_TOKEN) it signs in as an admin (SIM_ADMIN_EMAIL / SIM_ADMIN_PASSWORD, the demo
  * admin by default) and registers a controller named "Simulator" on the machine, keeping the token in
@@ -28,6 +28,7 @@ const { values: args } = parseArgs({
     url: { type: 'string' },
     token: { type: 'string' },
     firmware: { type: 'string', default: 'beamwarden-sim 1.0' },
+    'time-zone': { type: 'string' },
   },
 });
 
@@ -111,7 +112,8 @@ async function tokenFor(machineCode: string): Promise<string> {
 
 type State = { state: 'enabled'; until: string; sessionId: string } | { state: 'cut'; reason: string; message: string };
 
-const time = (iso: string) => new Date(iso).toLocaleTimeString('en-NZ', { hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
+// the box shows the site's wall clock: give the site's zone (e.g. --time-zone Pacific/Auckland); default this computer's
+const time = (iso: string) => new Date(iso).toLocaleTimeString('en-NZ', { hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone: args['time-zone'] });
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
 async function main(): Promise<number> {

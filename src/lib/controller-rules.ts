@@ -3,6 +3,9 @@
  * display shows, and the arithmetic of measured beam time. Pure: no I/O, no clock.
  */
 
+/** Characters per line of the display the messages are written for. */
+export const DISPLAY_WIDTH = 32;
+
 /** Why a badge may not fire the machine now, in the order the checks run. */
 export const DENY_REASONS = [
   'unknown_badge',
@@ -15,15 +18,15 @@ export const DENY_REASONS = [
 ] as const;
 export type DenyReason = (typeof DENY_REASONS)[number];
 
-/** Short enough for a two-line character display (about 32 characters per line). */
+/** At most DISPLAY_WIDTH characters: one line of a small character display. */
 export const DENY_MESSAGES: Record<DenyReason, string> = {
-  unknown_badge: 'Badge not known. Ask a steward to enrol it.',
-  inactive: 'Account not active. See the front desk.',
-  machine_out_of_service: 'Out of service. Do not use this machine.',
-  suspended: 'Clearance suspended. See an instructor.',
+  unknown_badge: 'Badge not known. See a steward.',
+  inactive: 'Account not active.',
+  machine_out_of_service: 'Out of service. Do not use.',
+  suspended: 'Clearance suspended.',
   not_cleared: 'Not cleared for this machine.',
-  outside_hours: 'Closed now. Book a slot within opening hours.',
-  no_booking: 'No booking now. Book on the Book screen.',
+  outside_hours: 'Closed now. See opening hours.',
+  no_booking: 'No booking now. Book first.',
 };
 
 /** Why the relay is open (`cut`). `idle`: nobody is checked in. */
@@ -34,7 +37,7 @@ export const CUT_MESSAGES: Record<CutReason, string> = {
   idle: 'Badge in to start.',
   machine_out_of_service: 'Out of service. Power cut.',
   suspended: 'Clearance suspended. Power cut.',
-  not_cleared: 'Clearance no longer valid. Power cut.',
+  not_cleared: 'Clearance not valid. Power cut.',
   inactive: 'Account not active. Power cut.',
   booking_ended: 'Booking over. Power cut.',
   controller_revoked: 'Controller revoked.',

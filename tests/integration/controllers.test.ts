@@ -179,7 +179,7 @@ describe('authorise', () => {
     const raw = `04:${randomUUID().slice(0, 8)}`.toUpperCase();
     const d = await authorize(raw);
     expect(d).toMatchObject({ allow: false, reason: 'unknown_badge' });
-    expect(d.message.length).toBeLessThanOrEqual(64);
+    expect(d.message.length).toBeLessThanOrEqual(32);
     const list = await body(await steward.get('/api/badges/unknown'));
     const hint = raw.replace(/[:-]/g, '').slice(-4);
     const mine = list.find((u: any) => u.lastFour === hint && u.machineName === machine.name);

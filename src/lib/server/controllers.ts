@@ -230,7 +230,7 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
     .first('id', 'ends_at');
   const coolant = await machineCoolant(machine.id);
   if (booking) {
-    if (coolant.needsReading) return deny('no_booking', 'Water-cooled: check in on the phone first.');
+    if (coolant.needsReading) return deny('no_booking', 'Check in on the phone first.');
     try {
       const s = await checkIn(actor, booking.id, { checklist: ALL_CONFIRMED(), coolantC: null }, now);
       return allow(s, booking.ends_at, false, true);
@@ -246,7 +246,7 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
     .find((i) => i.start.getTime() <= now.getTime() && now.getTime() < i.end.getTime());
   if (!interval) return deny('outside_hours');
   if (!(await walkUpsAllowed())) return deny('no_booking');
-  if (coolant.needsReading) return deny('no_booking', 'Water-cooled: book, then check in on the phone.');
+  if (coolant.needsReading) return deny('no_booking', 'Book, then check in by phone.');
   const next = await db()('bookings').where({ machine_id: machine.id }).whereIn('state', ['reserved', 'checked in'])
     .where('occupied_until', '>', now).orderBy('starts_at').first('starts_at');
   if (next && next.starts_at.getTime() <= now.getTime()) return deny('no_booking', 'Booked by someone else now.');
