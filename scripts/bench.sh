@@ -5,4 +5,6 @@ cd "$(dirname "$0")/.."
 . scripts/lib/prepare.sh
 ensure_node_modules
 ensure_postgresql
+# npm run bench -- controllers: the controller API bench (bench/controllers.ts)
+if [ "${1:-}" = "controllers" ]; then shift; exec node --import tsx bench/controllers.ts "$@"; fi
 exec node --import tsx bench/run.ts "$@"

@@ -29,6 +29,7 @@ export const NAV: NavItem[] = [
   { label: 'Faults', href: '/faults', roles: ['steward', 'admin'], group: 'upkeep' },
   { label: 'Upkeep', href: '/upkeep', roles: ['steward', 'admin'], group: 'upkeep' },
   { label: 'Material requests', href: '/materials/requests', roles: ['steward', 'admin'], group: 'upkeep' },
+  { label: 'Badges', href: '/badges', roles: ['steward', 'admin'], group: 'upkeep' },
   { label: 'Overview', href: '/admin', roles: ['admin'], group: 'admin' },
   { label: 'People', href: '/admin/people', roles: ['admin'], group: 'admin' },
   { label: 'Machines', href: '/admin/machines', roles: ['admin'], group: 'admin' },

@@ -208,6 +208,25 @@ const MATRIX: Record<string, Row> = {
   'GET /api/reports/utilisation': api(200, 'admin'),
   'GET /api/reports/utilisation.csv': api(200, 'admin'),
   'POST /api/sessions/[id]/review': api('4xx', 'steward', 'admin'),
+  // controllers at the machines and badges (device calls carry a token, never a session)
+  'GET /badges': page('steward', 'admin'),
+  'GET /controller-api': everyone(200),
+  'GET /api/openapi.json': everyone(200),
+  'POST /api/controller/authorize': everyone(401),
+  'POST /api/controller/heartbeat': everyone(401),
+  'POST /api/controller/release': everyone(401),
+  'GET /api/controller/state': everyone(401),
+  'GET /api/controllers': api(200, 'admin'),
+  'POST /api/controllers': api(422, 'admin'),
+  'PUT /api/controllers/walk-ups': api(422, 'admin'),
+  'POST /api/controllers/[id]/rotate': api(404, 'admin'),
+  'POST /api/controllers/[id]/revoke': api(404, 'admin'),
+  'GET /api/people/[id]/badges': api(200, 'steward', 'admin'),
+  'POST /api/people/[id]/badges': api(422, 'steward', 'admin'),
+  'DELETE /api/badges/[id]': api(404, 'steward', 'admin'),
+  'GET /api/badges/unknown': api(200, 'steward', 'admin'),
+  'POST /api/badges/unknown/[id]/assign': api(422, 'steward', 'admin'),
+  'GET /api/badges/people': { ...api(200, 'steward', 'admin'), query: '?q=tidewater' },
 };
 
 /**
@@ -237,6 +256,9 @@ const ID_SOURCES: Record<string, string | (() => Promise<string | undefined>)> =
   'faults/[id]': () => firstId('faults'),
   'photos/[n]': '0',
   'sessions/[id]': () => firstId('machine_sessions'),
+  'controllers/[id]': () => firstId('controllers'),
+  'badges/[id]': () => firstId('badges'),
+  'unknown/[id]': () => firstId('unknown_badge_sightings'),
 };
 const MISSING_ID = '00000000-0000-4000-8000-00000000dead';
 

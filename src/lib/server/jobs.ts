@@ -20,6 +20,8 @@ export const QUEUES = {
   'upkeep.remind': { retryLimit: 2, retryDelay: 60, expireInSeconds: 300 },
   // the day-before reminder of a seat at an induction session
   'induction.remind': { retryLimit: 2, retryDelay: 60, expireInSeconds: 300 },
+  // controllers not heard from while their machine is booked: the stewards are e-mailed once
+  'controllers.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 120 },
 } as const satisfies Record<string, Omit<PgBoss.Queue, 'name'>>;
 
 export type QueueName = keyof typeof QUEUES;

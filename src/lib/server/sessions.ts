@@ -15,13 +15,13 @@ import { versionAt } from './prices';
 import { hasAnyRole, type Role } from '../roles';
 import {
   AUTO_CLOSE_GRACE_MINUTES,
-  beamMinutes,
   checkCheckOut,
   checkInWindow,
   checkPreUse,
   coolantPolicy,
   type CoolantPolicy,
 } from '../checklist';
+import { billableMinutes } from '../controller-rules';
 
 type Conn = Knex | Knex.Transaction;
 
@@ -49,7 +49,7 @@ export interface MachineSession {
 type Row = {
   id: string; booking_id: string | null; machine_id: string; person_id: string; checked_in_at: Date; checked_out_at: Date | null;
   beam_minutes: number | null; job_timer_minutes: number | null; checklist: Record<string, unknown>; coolant_temp_c: string | null;
-  checkout: Record<string, unknown>; closed_by_system: boolean; needs_steward: boolean;
+  checkout: Record<string, unknown>; closed_by_system: boolean; needs_steward: boolean; measured_beam_seconds?: number | null;
 };
 
 function toSession(r: Row): MachineSession {
@@ -190,14 +190,15 @@ export async function checkOut(actor: Actor, bookingId: string, input: CheckOutI
       const unknown = materials.filter((m) => !sold.has(m.sku));
       if (unknown.length) throw new HttpError(422, 'unknown_material', `The space does not sell ${unknown.map((m) => m.sku).join(', ')}.`, { materials: 'Choose sheets from the list.' });
     }
-    const minutes = beamMinutes(open.checked_in_at, now);
+    // beam seconds measured by the machine's controller, when it reported any, else the wall clock
+    const { minutes, source } = billableMinutes(open.checked_in_at, now, open.measured_beam_seconds);
     const [row] = (await trx('machine_sessions')
       .where({ id: open.id })
       .update({
         checked_out_at: now,
         beam_minutes: minutes,
         job_timer_minutes: input.jobTimerMinutes ?? null,
-        checkout: JSON.stringify({ ...answers.checkout, materials, by: mine ? 'self' : 'staff' }),
+        checkout: JSON.stringify({ ...answers.checkout, materials, by: mine ? 'self' : 'staff', beamSource: source }),
       })
       .returning('*')) as Row[];
     await trx('bookings').where({ id: b.id }).update({ state: 'completed', updated_at: trx.fn.now() });
@@ -299,10 +300,10 @@ export async function sweepOpenSessions(now = new Date(), graceMinutes = AUTO_CL
     const out: MachineSession[] = [];
     for (const r of rows) {
       const end = r.booking_ends_at && r.booking_ends_at > r.checked_in_at ? r.booking_ends_at : new Date(r.checked_in_at.getTime() + 4 * 3600_000);
-      const minutes = beamMinutes(r.checked_in_at, end);
+      const { minutes, source } = billableMinutes(r.checked_in_at, end, r.measured_beam_seconds);
       const [u] = (await trx('machine_sessions')
         .where({ id: r.id })
-        .update({ checked_out_at: end, beam_minutes: minutes, closed_by_system: true, needs_steward: true, checkout: JSON.stringify({ autoClosedAt: now.toISOString(), materials: [] }) })
+        .update({ checked_out_at: end, beam_minutes: minutes, closed_by_system: true, needs_steward: true, checkout: JSON.stringify({ autoClosedAt: now.toISOString(), materials: [], beamSource: source }) })
         .returning('*')) as Row[];
       if (r.booking_id) await trx('bookings').where({ id: r.booking_id }).update({ state: 'completed', updated_at: trx.fn.now() });
       await recordAudit(trx, {

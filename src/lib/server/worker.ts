@@ -12,6 +12,7 @@ import { sweepClearances } from './clearances';
 import { sweepOpenSessions } from './sessions';
 import { remindUpkeep } from './upkeep';
 import { remindSeats } from './induction-sessions';
+import { sweepControllers } from './controllers';
 import { db } from './db';
 
 type Handler = (data: unknown) => Promise<void>;
@@ -34,6 +35,10 @@ const handlers: Record<QueueName, Handler> = {
     const r = await sweepOpenSessions(new Date());
     if (r.closed) console.log(`sessions.sweep: ${r.closed} session(s) closed and flagged for a steward`);
   },
+  'controllers.sweep': async () => {
+    const r = await sweepControllers(new Date());
+    if (r.alerted) console.log(`controllers.sweep: ${r.alerted} controller(s) offline while booked, stewards e-mailed`);
+  },
   'upkeep.remind': async () => {
     const r = await remindUpkeep();
     if (r.reminders.length) console.log(`upkeep.remind: ${r.reminders.length} item(s) e-mailed to ${r.stewards} steward(s)`);
@@ -55,6 +60,8 @@ async function schedules(boss: PgBoss): Promise<void> {
   // every five minutes in the site's zone, and at start-up, so a lapse is written within minutes of its instant
   await boss.schedule('clearances.sweep', '*/5 * * * *', {}, { tz });
   await boss.send('clearances.sweep', {});
+  // every minute: controllers silent for 2 minutes while their machine is booked
+  await boss.schedule('controllers.sweep', '* * * * *');
   // hourly, and at start-up: upkeep that has fallen due is e-mailed to the stewards once per service cycle
   await boss.schedule('upkeep.remind', '20 * * * *');
   await boss.send('upkeep.remind', {});

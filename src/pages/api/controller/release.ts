@@ -1,0 +1,10 @@
+import { json, readJson, route } from '../../../lib/server/http';
+import { authenticate, release } from '../../../lib/server/controllers';
+import { releaseBody } from '../../../lib/controller-schemas';
+
+/** POST /api/controller/release {sessionId, beamSeconds} (device token) → 200 the closed session with its charge. */
+export const POST = route(async ({ request }) => {
+  const ctrl = await authenticate(request.headers.get('authorization'));
+  const input = await readJson(request, releaseBody);
+  return json(await release(ctrl, input));
+});
