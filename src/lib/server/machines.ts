@@ -3,7 +3,7 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './http';
-import { cancelFutureBookingsOnMachine, releaseHoldsAfterCancel } from './bookings';
+import { cancelFutureBookingsOnMachine } from './bookings';
 import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '../machines-shared';
 import type { ClearanceLevel } from '../clearance-rules';
 
@@ -193,6 +193,6 @@ export async function retireMachine(actorId: string, id: string, reason: string,
     });
     return { machine: (await getMachine(id, trx))!, cancelled };
   });
-  await releaseHoldsAfterCancel(cancelled, 'machine retired', actorId);
+  // their card holds are released by the worker (intents recorded with the cancellations)
   return { machine, cancelledBookings: cancelled.length };
 }

@@ -6,7 +6,7 @@ import { hashPassword } from './passwords';
 import { normaliseRoles, type Role } from '../roles';
 import { HttpError } from './http';
 import type { Tier } from '../pricing';
-import { cancelFutureBookingsOf, releaseHoldsAfterCancel } from './bookings';
+import { cancelFutureBookingsOf } from './bookings';
 
 export interface Person {
   id: string;
@@ -160,14 +160,13 @@ export async function deactivatePerson(actorId: string, personId: string): Promi
   if (actorId === personId) {
     throw new HttpError(409, 'cannot_deactivate_self', 'You cannot deactivate your own account; ask another admin to do it.');
   }
-  const { person, cancelled } = await transaction(async (trx) => {
+  return transaction(async (trx) => {
     const changed = await applyActive(trx, actorId, personId, false);
-    // bookings: the person's reserved bookings that have not ended are cancelled in this same transaction
-    const cancelled = changed ? await cancelFutureBookingsOf(trx, actorId, personId) : [];
-    return { person: await mustGetPerson(personId, trx), cancelled };
+    // bookings: the person's reserved bookings that have not ended are cancelled in this same transaction; their
+    // card holds are released by the worker (intents recorded with the cancellations)
+    if (changed) await cancelFutureBookingsOf(trx, actorId, personId);
+    return mustGetPerson(personId, trx);
   });
-  await releaseHoldsAfterCancel(cancelled, 'account deactivated', actorId);
-  return person;
 }
 
 /** Lets a deactivated person sign in again (admin). Audited as `person.reactivated`. */

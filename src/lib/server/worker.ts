@@ -6,18 +6,27 @@ import type PgBoss from 'pg-boss';
 import { env } from './env';
 import { installQueues, type QueueName } from './jobs';
 import { sendMailNow, type MailMessage } from './mail';
-import { retryQueuedCharge } from './payments';
+import { retryQueuedCharge, runIntent } from './payments';
+import { reconcileDaily } from './reconciliation';
+import type { PaymentIntent } from './payment-intents';
 import { sweepBookings } from './bookings';
 import { sweepClearances } from './clearances';
 import { sweepOpenSessions } from './sessions';
 import { remindUpkeep } from './upkeep';
 import { db } from './db';
 
-type Handler = (data: unknown) => Promise<void>;
+type Handler = (data: unknown, job: { retryCount: number; retryLimit: number }) => Promise<void>;
 
 const handlers: Record<QueueName, Handler> = {
   'mail.send': async (data) => sendMailNow(data as MailMessage),
   'payments.retry': async (data) => retryQueuedCharge((data as { chargeId: string }).chargeId),
+  // holds, releases, captures, fees and refunds; the last attempt gives up in the open (payment failed, e-mails)
+  'payments.intent': async (data, job) => runIntent(data as PaymentIntent, { final: job.retryCount >= job.retryLimit }),
+  // yesterday (site days) compared with the provider; mismatches e-mailed to the admins
+  'payments.reconcile': async () => {
+    const r = await reconcileDaily();
+    console.log(`payments.reconcile: ${r.mismatches.length} mismatch(es) for ${r.from.toISOString()}–${r.to.toISOString()}`);
+  },
   // no-shows (15 minutes after the start without check-in) and expired waitlist holds
   'booking.sweep': async () => {
     const r = await sweepBookings();
@@ -53,6 +62,8 @@ async function schedules(boss: PgBoss): Promise<void> {
   // hourly, and at start-up: upkeep that has fallen due is e-mailed to the stewards once per service cycle
   await boss.schedule('upkeep.remind', '20 * * * *');
   await boss.send('upkeep.remind', {});
+  // daily at 03:15 in the site's zone: the day before, ours against the payment provider's
+  await boss.schedule('payments.reconcile', '15 3 * * *', {}, { tz });
 }
 
 /**
@@ -61,14 +72,14 @@ async function schedules(boss: PgBoss): Promise<void> {
  * steward) would queue for minutes. Mail gets several loops (jobs are fetched with SKIP LOCKED, so none is sent twice);
  * each loop takes one job at a time, so a failed send retries that message alone.
  */
-const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4 };
+const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4, 'payments.intent': 2 };
 
 export async function startWorker(): Promise<PgBoss> {
   const boss = await installQueues(env().DATABASE_URL);
   for (const [name, handle] of Object.entries(handlers) as [QueueName, Handler][]) {
     for (let i = 0; i < (LOOPS[name] ?? 1); i++) {
-      await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1 }, async (batch) => {
-        for (const job of batch) await handle(job.data);
+      await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1, includeMetadata: true }, async (batch) => {
+        for (const job of batch) await handle(job.data, { retryCount: job.retryCount, retryLimit: job.retryLimit });
       });
     }
   }
