@@ -770,16 +770,12 @@ function lockKey(i: PaymentIntent): string {
   }
 }
 
-async function withIntentLock<T>(i: PaymentIntent, wait: boolean, work: () => Promise<T>): Promise<{ ran: true; value: T } | { ran: false }> {
+/** The worker waits up to 30 s for another process's run of the same intent; a request's one try waits up to 4 s. */
+async function withIntentLock<T>(i: PaymentIntent, waitSeconds: number, work: () => Promise<T>): Promise<T> {
   return transaction(async (trx) => {
-    if (wait) {
-      await trx.raw("SET LOCAL lock_timeout = '30s'");
-      await trx.raw("SELECT pg_advisory_xact_lock(hashtextextended(?, 0))", [lockKey(i)]);
-    } else {
-      const r = await trx.raw('SELECT pg_try_advisory_xact_lock(hashtextextended(?, 0)) AS ok', [lockKey(i)]);
-      if (!(r as { rows: { ok: boolean }[] }).rows[0]!.ok) return { ran: false as const };
-    }
-    return { ran: true as const, value: await work() };
+    await trx.raw(`SET LOCAL lock_timeout = '${Math.round(waitSeconds)}s'`);
+    await trx.raw('SELECT pg_advisory_xact_lock(hashtextextended(?, 0))', [lockKey(i)]);
+    return work();
   });
 }
 
@@ -847,7 +843,7 @@ async function runIntentNow(i: PaymentIntent): Promise<void> {
  */
 export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = { final: false }): Promise<void> {
   try {
-    await withIntentLock(i, true, () => runIntentNow(i));
+    await withIntentLock(i, 30, () => runIntentNow(i));
   } catch (err) {
     if (err instanceof HttpError && err.status < 500) {
       console.warn(`[payments] ${i.kind} not done: ${err.message}`);
@@ -862,12 +858,12 @@ export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = 
 }
 
 /**
- * A request's one try of an intent it recorded (short provider timeout; skipped when a worker is running it just
- * now). Never throws for the provider: the job is the source of truth. Returns our own refusal (e.g. not priced).
+ * A request's one try of an intent it recorded (short provider timeout; gives up waiting after a few seconds when
+ * a worker is running it just now). Never throws for the provider: the job is the source of truth. Returns our own refusal (e.g. not priced).
  */
 export async function tryIntentNow(i: PaymentIntent): Promise<HttpError | null> {
   try {
-    await quick.run(true, () => withIntentLock(i, false, () => runIntentNow(i)));
+    await quick.run(true, () => withIntentLock(i, 4, () => runIntentNow(i)));
     return null;
   } catch (err) {
     if (err instanceof HttpError && err.status < 500) return err;
@@ -1004,10 +1000,10 @@ export async function listCharges(personId: string | null, opts: { page: number;
   return { total: Number(count), rows: rows.map(toCharge) };
 }
 
-export async function refundsOf(chargeId: string): Promise<{ amountMinor: number; reason: string; at: Date; actorName: string | null }[]> {
+export async function refundsOf(chargeId: string): Promise<{ amountMinor: number; reason: string; at: Date; actorName: string | null; state: 'pending' | 'done' | 'failed' }[]> {
   const rows = await db()('charge_refunds as r').leftJoin('people as p', 'p.id', 'r.actor_id').where('r.charge_id', chargeId)
-    .orderBy('r.created_at').select('r.amount_minor', 'r.reason', 'r.created_at', 'p.name');
-  return rows.map((r) => ({ amountMinor: r.amount_minor, reason: r.reason, at: r.created_at, actorName: r.name }));
+    .orderBy('r.created_at').select('r.amount_minor', 'r.reason', 'r.created_at', 'r.state', 'p.name');
+  return rows.map((r) => ({ amountMinor: r.amount_minor, reason: r.reason, at: r.created_at, actorName: r.name, state: r.state }));
 }
 
 /**
