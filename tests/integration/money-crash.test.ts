@@ -20,7 +20,7 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { ROOT, portOpen, spawnService, type Service } from '../../scripts/lib/stack';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
-import { chargeBeamTime, getCharge, providerChargesOf, saveCard } from '../../src/lib/server/payments';
+import { chargeBeamTime, getCharge, providerChargesOf, runIntent, saveCard } from '../../src/lib/server/payments';
 import { iso, machines, setTestRules, siteTime, waitForMail, type MachineRef } from '../support/booking';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
@@ -200,6 +200,35 @@ describe('the payment fake paused during a booking and a refund', () => {
     const list = await body<{ rows: { id: string; state: string; refundedMinor: number }[] }>(await m.client.get('/api/account/charges'));
     expect(list.rows.find((r) => r.id === c.id)).toMatchObject({ state: 'refunded', refundedMinor: c.capturedMinor });
   }, 90_000);
+});
+
+describe('a provider call that fails for good', () => {
+  it('after the last retry the charge is "payment failed" with the reason, and the person and the admins are e-mailed', async () => {
+    const m = await member('gives-up');
+    // a fee whose provider call has been waiting (as after earlier failed tries)
+    const [row] = await testDb()('charges')
+      .insert({
+        person_id: m.id, tier: 'community', machine_id: laser.id, kind: 'no_show', method: 'card', state: 'queued', pending_op: 'charge:1500', currency: 'NZD',
+        amount_minor: 1500, card_amount_minor: 1500, breakdown: JSON.stringify({ lines: [], taxMinor: 0, taxMode: 'inclusive', taxRateBp: 1500 }),
+      })
+      .returning('id');
+    const sent = new Date();
+    pauseFake();
+    try {
+      // the worker's last attempt (retryCount = retryLimit): the provider does not answer within its 10 s timeout
+      await runIntent({ kind: 'charge', chargeId: row.id }, { final: true });
+    } finally {
+      resumeFake();
+    }
+    const c = await getCharge(row.id);
+    expect(c).toMatchObject({ state: 'payment failed', failureMessage: expect.stringMatching(/after every retry/) });
+    await waitForMail((mail) => mail.subject === 'Payment failed' && mail.to.some((t) => t.address === m.email), sent);
+    await waitForMail((mail) => mail.subject.startsWith('Payment failed for') && mail.to.some((t) => t.address === 'admin@tidewater.example'), sent);
+    // what the person sees: the failed payment on Account, and new bookings refused until it is settled
+    const list = await body<{ rows: { id: string; state: string }[] }>(await m.client.get('/api/account/charges'));
+    expect(list.rows.find((r) => r.id === row.id)?.state).toBe('payment failed');
+    expect((await m.client.send('POST', '/api/bookings', bookingBody(siteTime(33, 9), siteTime(33, 10)))).status).toBe(402);
+  }, 60_000);
 });
 
 describe('reconciliation', () => {
