@@ -4,9 +4,10 @@
  * Works whether or not `npm start` is running. Exits with the test runner's code.
  */
 import path from 'node:path';
+import fs from 'node:fs';
 import { spawn } from 'node:child_process';
 import {
-  ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
+  ROOT, HOST, appEnv, paymentsStateFile, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
   recreateDatabase, runNode, say, spawnService, startFakes, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
 } from './lib/stack';
 
@@ -56,6 +57,8 @@ const env = appEnv(cfg, secrets, {
 });
 
 runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the test database');
+// a new test database: the payment fake starts empty too (it keeps its state across restarts within the run)
+fs.rmSync(paymentsStateFile(cfg), { force: true });
 await startFakes(cfg);
 buildApp(path.join(ROOT, 'dist-test'), env);
 

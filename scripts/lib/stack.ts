@@ -407,11 +407,17 @@ export function spawnService(cfg: Pick<StackConfig, 'dataDir'>, name: string, ar
 
 /**
  * The payment fake (stripe-stateful-mock on loopback), its PID in <dataDir>/run/payments.pid. Also used by
- * the tests that stop the provider and start it again (tests/integration/payments.test.ts).
+ * the tests that stop the provider and start it again (tests/integration/payments.test.ts). Its state is kept
+ * in <dataDir>/payments/state.bin, so a restarted fake still knows its customers and charges.
  */
+export function paymentsStateFile(cfg: Pick<StackConfig, 'dataDir'>): string {
+  return path.join(cfg.dataDir, 'payments', 'state.bin');
+}
+
 export function startPaymentsFake(cfg: Pick<StackConfig, 'dataDir' | 'stripePort'>): Service {
   return spawnService(cfg, 'payments', ['--import', 'tsx', path.join(ROOT, 'scripts/services/stripe-fake.ts')], {
     STRIPE_PORT: String(cfg.stripePort),
+    STRIPE_STATE_FILE: paymentsStateFile(cfg),
   });
 }
 

@@ -44,9 +44,9 @@ const PRACTICE_CARDS = [
 
 const STATE_TONE: Record<string, string> = {
   captured: 'status-ok', recharged: 'status-ok', settled: 'status-ok', held: 'status-warn', queued: 'status-warn', pending: 'status-warn',
-  carried: 'status-warn', 'payment failed': 'status-stop', refunded: '', released: '', waived: '',
+  carried: 'status-warn', 'payment failed': 'status-stop', refunded: '', released: '', waived: '', 'refund pending': 'status-warn',
 };
-const STATE_ICON: Record<string, string> = { captured: '✓', recharged: '✓', settled: '✓', 'payment failed': '✕', held: '⏸', queued: '↻', carried: '→' };
+const STATE_ICON: Record<string, string> = { captured: '✓', recharged: '✓', settled: '✓', 'payment failed': '✕', held: '⏸', queued: '↻', carried: '→', 'refund pending': '↻' };
 
 export default function AccountPanel({ initial, timeZone, testMode }: { initial: Summary; timeZone: string; testMode: boolean }) {
   const [summary, setSummary] = useState(initial);

@@ -39,6 +39,7 @@ export const NAV: NavItem[] = [
   { label: 'Material rules', href: '/admin/materials', roles: ['admin'], group: 'admin' },
   { label: 'Site', href: '/admin/site', roles: ['admin'], group: 'admin' },
   { label: 'Audit', href: '/admin/audit', roles: ['admin'], group: 'admin' },
+  { label: 'Reconciliation', href: '/admin/reconciliation', roles: ['admin'], group: 'admin' },
   { label: 'Reports', href: '/reports', roles: ['admin', 'instructor'], group: 'reports' },
 ];
 

@@ -4,7 +4,8 @@
  * Rules (documented in DEVELOPERS.md › Billing, tested in tests/unit/pricing.test.ts):
  * - Beam time: the minutes are rounded UP to the version's increment (per started block), then priced at
  *   the per-minute rate of the machine × tier.
- * - Minimum charge: a session with any beam time costs at least the minimum (a "minimum charge" line tops it up).
+ * - Minimum charge: a session with any beam time, or any checked-in session (even one of under a minute, billed
+ *   0 minutes), costs at least the minimum (a "minimum charge" line tops it up).
  * - Daily cap per person: beam time of one day never costs more than the cap, given what the person has
  *   already been charged for beam time that day (a negative "daily cap" line). The cap wins over the minimum.
  *   Materials and fees are outside the cap.
@@ -105,6 +106,8 @@ export interface QuoteInput {
   lateCancellation?: boolean;
   noShow?: boolean;
   machineName?: string;
+  /** a checked-in session: the minimum charge applies even when it measured under a minute (0 billable minutes) */
+  checkedIn?: boolean;
 }
 
 export interface Quote {
@@ -170,7 +173,7 @@ export function quote(table: PriceTable, input: QuoteInput): Quote {
   const raw = minutes * rate;
   lines.push({ kind: 'beam_time', label: `${name}: ${minutes} min (per started ${table.incrementMinutes} min)`, quantity: minutes, unitMinor: rate, amountMinor: raw });
   let beam = raw;
-  if (minutes > 0 && raw < table.minimumChargeMinor) {
+  if ((minutes > 0 || input.checkedIn) && raw < table.minimumChargeMinor) {
     lines.push({ kind: 'minimum', label: 'Minimum charge', quantity: 1, unitMinor: table.minimumChargeMinor - raw, amountMinor: table.minimumChargeMinor - raw });
     beam = table.minimumChargeMinor;
   }

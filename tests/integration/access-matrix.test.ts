@@ -62,6 +62,7 @@ const MATRIX: Record<string, Row> = {
   'GET /account/receipts/[id]': missing({ ...page(), member: 404, instructor: 404, steward: 404, admin: 404 }),
   'GET /admin': page('admin'),
   'GET /admin/audit': page('admin'),
+  'GET /admin/reconciliation': page('admin'),
   'GET /admin/machine-groups': page('admin', 'instructor'),
   'GET /admin/machines': page('admin'),
   'GET /admin/materials': page('admin'),
@@ -160,6 +161,9 @@ const MATRIX: Record<string, Row> = {
   'PUT /api/quizzes/[id]/draft': api(422, 'instructor'),
   'POST /api/quizzes/[id]/publish': api(404, 'instructor'),
   'GET /api/reports/recharge.csv': api('4xx', 'admin'),
+  'GET /api/reconciliation': api(200, 'admin'),
+  'POST /api/reconciliation': api(422, 'admin'),
+  'GET /api/reconciliation/[id]/csv': api(404, 'admin'),
   'GET /api/signoffs': api(200, 'instructor'),
   'POST /api/signoffs': api(422, 'instructor'),
   'GET /api/site': api(200, 'admin'),
@@ -259,6 +263,8 @@ const ID_SOURCES: Record<string, string | (() => Promise<string | undefined>)> =
   'controllers/[id]': () => firstId('controllers'),
   'badges/[id]': () => firstId('badges'),
   'unknown/[id]': () => firstId('unknown_badge_sightings'),
+  // runs exist only once a file has made one: a well-formed id nobody has (404 for admins)
+  'reconciliation/[id]': '00000000-0000-4000-8000-00000000dead',
 };
 const MISSING_ID = '00000000-0000-4000-8000-00000000dead';
 

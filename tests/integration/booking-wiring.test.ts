@@ -133,6 +133,12 @@ describe('deactivation', () => {
     expect(by).toEqual({ [f1.id]: 'cancelled', [f2.id]: 'cancelled', [past.id]: 'completed' });
     const audit = await testDb()('audit_log').where({ kind: 'booking.cancelled', subject_id: f1.id }).first();
     expect(audit.summary).toMatch(/deactivated/);
-    expect((await testDb()('charges').where({ id: pending.id }).first()).state).toBe('released');
+    // released by the worker: the intent was recorded in the same transaction as the cancellations
+    let state = '';
+    for (const until = Date.now() + 30_000; Date.now() < until; await new Promise((r) => setTimeout(r, 200))) {
+      state = (await testDb()('charges').where({ id: pending.id }).first()).state;
+      if (state === 'released') break;
+    }
+    expect(state).toBe('released');
   });
 });

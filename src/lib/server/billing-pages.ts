@@ -18,7 +18,11 @@ export async function receiptPage(viewer: SignedInPerson, chargeId: string) {
   const staff = hasAnyRole(viewer.roles, ['steward', 'admin']);
   if (charge.personId !== viewer.id && !staff) return null;
   const settings = await getSettings();
-  return { charge, refunds: await refundsOf(chargeId), timeZone: settings.timeZone, siteName: settings.name, staff };
+  // wall-clock minutes and, when the person gave it, the machine's job-timer reading (shown side by side)
+  const { getSession } = await import('./sessions');
+  const session = charge.sessionId ? await getSession(charge.sessionId) : null;
+  const times = session ? { wallClockMinutes: session.beamMinutes, jobTimerMinutes: session.jobTimerMinutes } : null;
+  return { charge, refunds: await refundsOf(chargeId), times, timeZone: settings.timeZone, siteName: settings.name, staff };
 }
 
 /** Admin › Pricing: machines, every version (newest first), the one in force, today's date in the site zone. */

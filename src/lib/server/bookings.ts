@@ -31,7 +31,7 @@ import {
 } from '../availability';
 import { buildIcs } from '../ics';
 import { checkDeclaredMaterials } from './materials';
-import { assertCanBook, chargeBookingFee, heldOnBookings, holdForBooking, releaseHoldsForBooking } from './payments';
+import { cancellationIntent, heldOnBookings, recordPaymentIntent } from './payment-intents';
 import { quoteFor } from './prices';
 
 type Conn = Knex | Knex.Transaction;
@@ -175,37 +175,15 @@ async function insertBooking(trx: Knex.Transaction, row: Record<string, unknown>
   }
 }
 
-/** What POST /api/bookings answers: the booking, and a notice when no card hold could be placed. */
-export type CreatedBooking = Booking & { paymentNotice: string | null };
-
 /**
- * Creates a booking for `actor` (a failed payment blocks first with 402 payment_required; then the gate,
- * the rules, the quota, the declared materials, the insert). After the commit the card hold is placed for
- * paid tiers; with no saved card the booking stands and beam time is charged at check-out (paymentNotice).
+ * Creates a booking for `actor` (the gate, the rules, the quota, the declared materials, the insert). The card
+ * hold is an intent recorded in the same transaction (payment-intents.ts): the worker places it even if this
+ * process dies right after the commit. The caller (the API route) checks for a failed payment first and may try
+ * the hold once at once.
  */
-export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<CreatedBooking> {
-  await assertCanBook(actor.id);
+export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<Booking> {
   // concurrent requests for one slot can deadlock inside the exclusion constraint: the transaction is run again
-  const booking = await retryOnConflict(() => createBookingRow(actor, input, now));
-  return { ...booking, paymentNotice: await placeHold(booking) };
-}
-
-/** Places the card hold for a committed booking; a problem with the card never undoes the booking. */
-async function placeHold(b: Booking): Promise<string | null> {
-  try {
-    const hold = await holdForBooking({ personId: b.personId, machineId: b.machineId, bookingId: b.id, startsAt: b.startsAt, minutes: minutesBetween(b.startsAt, b.endsAt) });
-    // the provider no longer knew the saved card: it was forgotten and nothing is held (payments.ts)
-    if (hold?.state === 'released' && hold.failureMessage) return `${hold.failureMessage} Nothing is held now; beam time is charged at check-out.`;
-    return null;
-  } catch (err) {
-    if (err instanceof HttpError && err.status === 402) {
-      return 'No card is saved on your account, so nothing is held now: beam time is charged at check-out. Save a card on the Account screen to pay by card.';
-    }
-    if (err instanceof HttpError && err.status === 503) return 'The payment service is not answering; the hold is retried and your booking stands.';
-    if (err instanceof HttpError && err.code === 'not_priced') return 'This machine has no price for your tier yet, so nothing is held now; your booking stands.';
-    console.error('booking hold failed', err);
-    return 'The card hold could not be placed; your booking stands and beam time is charged at check-out.';
-  }
+  return retryOnConflict(() => createBookingRow(actor, input, now));
 }
 
 async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<Booking> {
@@ -254,6 +232,7 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
       after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt, materials: input.materials },
     });
     await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName);
+    await recordPaymentIntent(trx, { kind: 'booking.hold', bookingId: booking.id });
     return booking;
   });
 }
@@ -305,27 +284,13 @@ export async function getBooking(id: string, trx: Conn = db()): Promise<Booking 
   return r ? toBooking(r) : null;
 }
 
-/** Cancels a booking: the owner, or a steward or admin. After the cut-off it is flagged late. */
-export async function cancelBooking(actor: Actor, id: string, now = new Date()): Promise<Booking> {
-  const booking = await cancelBookingRow(actor, id, now);
-  await settleCancelled(booking, actor.id);
-  return booking;
-}
-
 /**
- * After a cancellation has committed: a late one is charged the late-cancellation fee (which releases the
- * hold first); an in-time one only releases the hold. Billing trouble is logged, never undoes the cancel.
+ * Cancels a booking: the owner, or a steward or admin. After the cut-off it is flagged late. The money side (a late
+ * one is charged the late-cancellation fee, which releases the hold first; an in-time one only releases the hold)
+ * is an intent recorded in the same transaction (cancellationIntent); the route may try it at once.
  */
-async function settleCancelled(b: Booking, actorId: string | null): Promise<void> {
-  try {
-    if (b.lateCancel && b.kind === 'personal') {
-      await chargeBookingFee({ personId: b.personId, machineId: b.machineId, bookingId: b.id, startsAt: b.startsAt, fee: 'late_cancellation' });
-    } else {
-      await releaseHoldsForBooking(b.id, 'cancelled in time', { notify: false, actorId });
-    }
-  } catch (err) {
-    console.error(`billing after cancelling booking ${b.id} failed`, err);
-  }
+export async function cancelBooking(actor: Actor, id: string, now = new Date()): Promise<Booking> {
+  return cancelBookingRow(actor, id, now);
 }
 
 async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Booking> {
@@ -354,6 +319,7 @@ async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Bo
     });
     if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: id }).update({ state: 'withdrawn' });
     await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+    await recordPaymentIntent(trx, cancellationIntent(booking, actor.id));
     return booking;
   });
 }
@@ -361,7 +327,7 @@ async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Bo
 /**
  * Deactivation (people.ts): cancels the person's reserved bookings that have not ended yet, in the caller's
  * transaction, audited one by one, and offers the freed time to the waitlist. Returns the cancelled ids;
- * the caller releases their card holds after the commit (releaseHoldsAfterCancel).
+ * their card holds are released by the intents recorded here (payment-intents.ts).
  */
 export async function cancelFutureBookingsOf(trx: Knex.Transaction, actorId: string, personId: string, now = new Date()): Promise<string[]> {
   return cancelFutureBookings(trx, actorId, { person_id: personId }, { summary: 'Booking cancelled: the person was deactivated', reason: 'person deactivated' }, now);
@@ -371,7 +337,7 @@ export async function cancelFutureBookingsOf(trx: Knex.Transaction, actorId: str
  * Retirement (machines.ts): cancels every reserved booking on the machine that has not ended yet, in the caller's
  * transaction, audited one by one; the people whose bookings they were are e-mailed (queued in the transaction)
  * with the admin's reason; nothing is offered to the waitlist (the machine takes no more bookings) and its waitlist
- * entries are withdrawn. Returns the cancelled ids for releaseHoldsAfterCancel after the commit.
+ * entries are withdrawn. Returns the cancelled ids (their holds are released by the intents recorded with them).
  */
 export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actorId: string, machine: { id: string; name: string }, why: string, now = new Date()): Promise<string[]> {
   const ids = await cancelFutureBookings(trx, actorId, { machine_id: machine.id }, { summary: `Booking cancelled: ${machine.name} was retired`, reason: 'machine retired', offer: false }, now);
@@ -422,19 +388,9 @@ async function cancelFutureBookings(
       after: { state: 'cancelled', lateCancel: false, reason: how.reason },
     });
     if (how.offer !== false) await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+    await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: how.reason, notify: false, actorId });
   }
   return rows.map((r) => r.id);
-}
-
-/** After a commit that cancelled or bumped bookings: releases their card holds (no fee). Errors are logged. */
-export async function releaseHoldsAfterCancel(bookingIds: readonly string[], reason: string, actorId: string | null, notify = false): Promise<void> {
-  for (const id of bookingIds) {
-    try {
-      await releaseHoldsForBooking(id, reason, { notify, actorId });
-    } catch (err) {
-      console.error(`releasing the holds of booking ${id} failed`, err);
-    }
-  }
 }
 
 /** The materials a booking declared. */
@@ -847,16 +803,8 @@ export async function claimWaitlist(actor: Actor, token: string, now = new Date(
 // The sweep (run every minute by the worker): no-shows and expired holds
 
 export async function sweepBookings(now = new Date()): Promise<{ noShows: number; expiredHolds: number }> {
+  // each personal no-show is charged the no-show fee (which releases its hold first): an intent recorded with it
   const r = await sweepRows(now);
-  // after the commit: each no-show is charged the no-show fee (which releases its hold first)
-  for (const b of r.noShowBookings) {
-    if (b.kind !== 'personal') continue;
-    try {
-      await chargeBookingFee({ personId: b.person_id, machineId: b.machine_id, bookingId: b.id, startsAt: b.starts_at, fee: 'no_show' });
-    } catch (err) {
-      console.error(`no-show fee for booking ${b.id} failed`, err);
-    }
-  }
   return { noShows: r.noShows, expiredHolds: r.expiredHolds };
 }
 
@@ -884,6 +832,7 @@ async function sweepRows(now: Date): Promise<{ noShows: number; expiredHolds: nu
         after: { state: 'no-show' },
       });
       await offerFreedTime(trx, r.machine_id, { start: now, end: r.ends_at }, now);
+      if (r.kind === 'personal') await recordPaymentIntent(trx, { kind: 'booking.fee', bookingId: r.id, fee: 'no_show' });
     }
     const holds = (await trx('bookings')
       .where({ state: 'reserved', kind: 'hold' })
@@ -893,6 +842,7 @@ async function sweepRows(now: Date): Promise<{ noShows: number; expiredHolds: nu
       .select('*')) as Row[];
     for (const h of holds) {
       await trx('bookings').where({ id: h.id }).update({ state: 'cancelled', cancelled_at: now, updated_at: trx.fn.now() });
+      await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: h.id, reason: 'waitlist offer expired', notify: false });
       await trx('waitlist_entries').where({ hold_booking_id: h.id }).update({ state: 'expired' });
       await offerFreedTime(trx, h.machine_id, { start: h.starts_at > now ? h.starts_at : now, end: h.ends_at }, now);
     }

@@ -18,7 +18,9 @@ import { queueMail } from './mail';
 import { env } from './env';
 import { checkUpload } from './file-types';
 import { getObject, putObject } from './storage';
-import { offerFreedTime, releaseHoldsAfterCancel } from './bookings';
+import { offerFreedTime } from './bookings';
+import { releaseHoldsAfterCancel } from './payments';
+import { recordPaymentIntent } from './payment-intents';
 import { activeWithRole } from './people';
 import { hasAnyRole, type Role } from '../roles';
 import type { FaultSeverity, FaultStatus, MachineStatus } from '../faults-shared';
@@ -201,6 +203,7 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
     });
     // the machine is out of service now, so offerFreedTime offers nothing on it until it is back (see offerBumpedTime)
     await offerFreedTime(trx, machine.id, { start: r.starts_at > ctx.now ? r.starts_at : ctx.now, end: r.ends_at }, ctx.now);
+    await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: `${machine.name} is out of service`, notify: false, actorId: ctx.actorId });
     if (r.kind === 'hold') continue;
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
       greeting: `Kia ora ${r.name},`,

@@ -12,6 +12,12 @@ export const QUEUES = {
   'mail.send': { retryLimit: 30, retryDelay: 10, retryBackoff: true, expireInSeconds: 300 },
   // a charge the payment provider could not take yet: retried every 5 s for an hour with the same idempotency key
   'payments.retry': { retryLimit: 720, retryDelay: 5, retryBackoff: false, expireInSeconds: 120 },
+  // every provider call (hold, release, capture, fee, refund), recorded with the change that asked for it
+  // (payment-intents.ts): 14 retries with exponential back-off, each wait 2^(n+1)..2^(n+2) s (2–4 s, 4–8 s, …), so
+  // about 9–18 hours in all; after the last the charge is marked failed and the person and the admins are e-mailed
+  'payments.intent': { retryLimit: 14, retryDelay: 2, retryBackoff: true, expireInSeconds: 120 },
+  // the daily comparison of our charges and refunds with the provider's
+  'payments.reconcile': { retryLimit: 3, retryDelay: 300, expireInSeconds: 600 },
   'booking.sweep': { retryLimit: 2, retryDelay: 20, expireInSeconds: 120 },
   'clearances.sweep': { retryLimit: 3, retryDelay: 30, expireInSeconds: 600 },
   // sessions left open past their booking's end (+ grace): closed and flagged for a steward

@@ -19,6 +19,7 @@
  * Every provider call carries an idempotency key built from our charge id and the operation, so a retry
  * (the worker, a second click, a lost answer) never takes money twice.
  */
+import { AsyncLocalStorage } from 'node:async_hooks';
 import { createHash, randomUUID } from 'node:crypto';
 import Stripe from 'stripe';
 import type { Knex } from 'knex';
@@ -26,29 +27,39 @@ import { majorUnits, toCsv } from '../csv';
 import { zonedDate } from '../time';
 import { db, pgCode, PG, transaction } from './db';
 import { env } from './env';
-import { enqueue } from './jobs';
+import { recordPaymentIntent, type PaymentIntent } from './payment-intents';
+export { heldOnBookings } from './payment-intents';
+import { activeWithRole } from './people';
 import { queueMail } from './mail';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { getSettings } from './settings';
 import { quoteFor, zonedMidnight, type PricedQuote } from './prices';
 import { breakdownOf, formatMoney, settle, type Breakdown, type Tier } from '../pricing';
+import { formatReceiptNumber, receiptPrefix } from '../receipts';
 
 // ---------------------------------------------------------------------------------------------
 // The provider client
 
 let client: Stripe | undefined;
+let quickClient: Stripe | undefined;
+/** Set while a request makes its one try at once: provider calls give up sooner, the job does the rest. */
+const quick = new AsyncLocalStorage<boolean>();
+/** How long the worker, and a request's one try, wait for the provider's answer. */
+export const PROVIDER_TIMEOUT_MS = { worker: 10_000, request: 3_000 } as const;
 
 function provider(): Stripe {
-  client ??= new Stripe(env().STRIPE_SECRET_KEY, {
-    host: env().STRIPE_API_HOST,
-    port: env().STRIPE_API_PORT,
-    protocol: env().STRIPE_API_PROTOCOL,
-    // retries are ours (pg-boss), with the same idempotency key
-    maxNetworkRetries: 0,
-    timeout: 10_000,
-  });
-  return client;
+  const make = (timeout: number) =>
+    new Stripe(env().STRIPE_SECRET_KEY, {
+      host: env().STRIPE_API_HOST,
+      port: env().STRIPE_API_PORT,
+      protocol: env().STRIPE_API_PROTOCOL,
+      // retries are ours (pg-boss), with the same idempotency key
+      maxNetworkRetries: 0,
+      timeout,
+    });
+  if (quick.getStore()) return (quickClient ??= make(PROVIDER_TIMEOUT_MS.request));
+  return (client ??= make(PROVIDER_TIMEOUT_MS.worker));
 }
 
 type ProviderError = { type?: string; code?: string; message?: string; statusCode?: number };
@@ -78,7 +89,8 @@ function verifyWebhook(body: string, signature: string | null): { id: string; ty
 // Records
 
 export type ChargeState =
-  | 'pending' | 'queued' | 'held' | 'captured' | 'released' | 'payment failed' | 'refunded' | 'recharged' | 'carried' | 'waived' | 'settled';
+  | 'pending' | 'queued' | 'held' | 'captured' | 'released' | 'payment failed' | 'refunded' | 'recharged' | 'carried' | 'waived' | 'settled'
+  | 'refund pending';
 export type ChargeKind = 'beam_time' | 'late_cancellation' | 'no_show';
 
 export interface Charge {
@@ -107,6 +119,9 @@ export interface Charge {
   breakdown: Breakdown;
   providerChargeId: string | null;
   failureMessage: string | null;
+  /** when the money was taken (or recharged): the receipt's date */
+  chargedAt: Date | null;
+  receiptNumber: string | null;
   createdAt: Date;
   updatedAt: Date;
 }
@@ -140,6 +155,8 @@ function toCharge(r: Record<string, any>): Charge {
     breakdown: r.breakdown,
     providerChargeId: r.provider_charge_id,
     failureMessage: r.failure_message,
+    chargedAt: r.charged_at ?? null,
+    receiptNumber: r.receipt_number ?? null,
     createdAt: r.created_at,
     updatedAt: r.updated_at,
   };
@@ -271,8 +288,12 @@ function parseOp(s: string): Op | null {
   return m ? ({ op: m[1] as 'charge' | 'capture', amountMinor: Number(m[2]) } as Op) : null;
 }
 
-/** Runs an operation; on an unreachable provider the charge is queued for the worker. Returns the charge after. */
-async function run(chargeId: string, op: Op, fromWorker = false): Promise<Charge> {
+/**
+ * Runs an operation. On an unreachable provider the charge is `queued` with its operation kept; in mode 'request'
+ * an intent is recorded so the worker retries it, in mode 'intent' (the worker running an intent, or a request's
+ * one try of it) the intent's own job retries. Returns the charge after.
+ */
+async function run(chargeId: string, op: Op, mode: 'request' | 'intent' = 'request'): Promise<Charge> {
   const c = await getCharge(chargeId);
   if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
   try {
@@ -281,12 +302,11 @@ async function run(chargeId: string, op: Op, fromWorker = false): Promise<Charge
     const kind = classify(err);
     if (kind === 'card') {
       await markFailed(c, (err as ProviderError).code ?? 'card_declined', (err as ProviderError).message ?? 'The card was declined.');
-    } else if (kind === 'unreachable' || (fromWorker && kind === 'missing')) {
+    } else if (kind === 'unreachable') {
       await transaction(async (trx) => {
-        await update(trx, c.id, { state: 'queued', pending_op: opText(op) });
-        if (!fromWorker) await enqueue(trx, 'payments.retry', { chargeId: c.id });
+        await update(trx, c.id, { state: 'queued', pending_op: opText(op), failure_message: `Waiting for the card service: ${(err as ProviderError).message ?? 'no answer'}` });
+        if (mode === 'request') await recordPaymentIntent(trx, { kind: 'charge', chargeId: c.id });
       });
-      if (fromWorker) throw new Error(`payment provider not ready for charge ${c.id}: ${(err as ProviderError).message ?? kind}`);
     } else if (kind === 'missing' && op.op !== 'capture') {
       // the provider no longer knows the saved customer or card (deleted there): a stale record, not a decline.
       // Forget it, so the person is asked for a card again; nothing is left pending.
@@ -368,7 +388,8 @@ async function afterCaptured(trx: Knex.Transaction, chargeId: string): Promise<v
   if (includes) {
     await trx('charges').where({ person_id: c.personId }).whereIn('state', ['carried']).whereNot('id', c.id).update({ state: 'settled', settled_by: c.id, updated_at: trx.fn.now() });
   }
-  await queueReceipt(trx, c);
+  await assignReceipt(trx, c.id);
+  await queueReceipt(trx, (await getCharge(chargeId, trx))!);
 }
 
 async function markFailed(c: Charge, code: string, message: string): Promise<void> {
@@ -387,6 +408,24 @@ async function markFailed(c: Charge, code: string, message: string): Promise<voi
   });
 }
 
+/**
+ * Dates the receipt (now: when the money is taken) and gives it the next number of the year in the site's zone:
+ * one upsert on the year's counter, whose row lock makes concurrent charges take turns (no number given twice).
+ */
+async function assignReceipt(trx: Knex.Transaction, chargeId: string): Promise<void> {
+  const row = await trx('charges').where({ id: chargeId }).forUpdate().first('receipt_number');
+  if (!row || row.receipt_number) return;
+  const { name, timeZone } = await getSettings();
+  const now = new Date();
+  const year = Number(new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric' }).format(now));
+  const r = await trx.raw(
+    'INSERT INTO receipt_counters (year, last_number) VALUES (?, 1) ON CONFLICT (year) DO UPDATE SET last_number = receipt_counters.last_number + 1 RETURNING last_number',
+    [year],
+  );
+  const n = Number((r as { rows: { last_number: number }[] }).rows[0]!.last_number);
+  await update(trx, chargeId, { receipt_number: formatReceiptNumber(receiptPrefix(name), year, n), charged_at: now });
+}
+
 async function queueReceipt(trx: Knex.Transaction, c: Charge): Promise<void> {
   const p = await personFor(c.personId, trx);
   const lines = c.breakdown.lines.map((l) => `${l.label}: ${formatMoney(l.amountMinor, c.currency)}`);
@@ -395,18 +434,32 @@ async function queueReceipt(trx: Knex.Transaction, c: Charge): Promise<void> {
   const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${formatMoney(c.capturedMinor, c.currency)}`;
   await queueMail(trx, p.email, `Receipt: ${formatMoney(c.amountMinor, c.currency)}`, {
     greeting: `Kia ora ${p.name},`,
-    paragraphs: [...lines, tax, `Total: ${formatMoney(c.amountMinor, c.currency)}`, paid],
+    paragraphs: [...(c.receiptNumber ? [`Receipt ${c.receiptNumber}`] : []), ...lines, tax, `Total: ${formatMoney(c.amountMinor, c.currency)}`, paid],
     action: { label: 'Printable receipt', url: `${env().PUBLIC_BASE_URL}/account/receipts/${c.id}` },
   });
 }
 
-/** Worker entry point: retries the queued operation of a charge with the same idempotency key. */
+/** Worker entry point of the older `payments.retry` jobs: the queued operation of a charge, same idempotency key. */
 export async function retryQueuedCharge(chargeId: string): Promise<void> {
-  const c = await getCharge(chargeId);
-  if (!c || c.state !== 'queued') return; // settled meanwhile (or released): nothing to do
-  const op = c.breakdown && parseOp((await db()('charges').where({ id: chargeId }).first('pending_op'))?.pending_op ?? '');
-  if (!op) return;
-  await run(chargeId, op, true);
+  await drive(chargeId);
+}
+
+class ProviderNotReady extends Error {}
+
+/**
+ * Runs the operation a charge is waiting for (state `pending` or `queued`, kept in `pending_op`), with the same
+ * idempotency key as every earlier try. Throws while the provider still cannot be reached, so the job retries.
+ */
+async function drive(chargeId: string): Promise<Charge | null> {
+  const row = await db()('charges').where({ id: chargeId }).first('state', 'pending_op');
+  if (!row) return null;
+  if (row.state === 'pending' || row.state === 'queued') {
+    const op = parseOp(row.pending_op ?? '');
+    if (op) await run(chargeId, op, 'intent');
+  }
+  const after = (await getCharge(chargeId))!;
+  if (after.state === 'pending' || after.state === 'queued') throw new ProviderNotReady(after.failureMessage ?? `The card service has not answered for charge ${chargeId}.`);
+  return after;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -433,7 +486,7 @@ export async function capture(chargeId: string, amountMinor: number): Promise<Ch
  * hold is needed (recharge tier, nothing to pay, below the provider minimum). Throws 402 payment_required
  * when a card is needed and none is saved, or when the person owes a failed payment.
  */
-export async function holdForBooking(input: { personId: string; machineId: string; bookingId: string; startsAt: Date; minutes: number }): Promise<Charge | null> {
+export async function holdForBooking(input: { personId: string; machineId: string; bookingId: string; startsAt: Date; minutes: number }, mode: 'request' | 'intent' = 'request'): Promise<Charge | null> {
   await assertCanBook(input.personId);
   const person = await personFor(input.personId);
   const q = await quoteFor({ machineId: input.machineId, tier: person.tier, minutes: input.minutes, at: input.startsAt, personId: input.personId });
@@ -446,9 +499,10 @@ export async function holdForBooking(input: { personId: string; machineId: strin
       person_id: input.personId, tier: person.tier, machine_id: input.machineId, booking_id: input.bookingId, kind: 'beam_time', method: 'card',
       state: 'pending', currency: q.currency, amount_minor: q.amountMinor, tax_minor: q.taxMinor, card_amount_minor: s.chargeNowMinor,
       minutes: input.minutes, started_at: input.startsAt, price_version_id: q.priceVersionId, breakdown: JSON.stringify(breakdownOf(q, { estimate: true })),
+      pending_op: 'hold',
     })
     .returning('id');
-  return placeHold(row.id);
+  return mode === 'intent' ? run(row.id, { op: 'hold' }, 'intent') : placeHold(row.id);
 }
 
 export interface BeamTimeInput {
@@ -466,29 +520,34 @@ export interface BeamTimeInput {
  * day), then recharges the cost centre, or captures the booking's hold (or charges the card), carrying
  * or waiving sums below the provider minimum. One charge per session: calling again returns the same one.
  */
-export async function chargeBeamTime(input: BeamTimeInput): Promise<Charge> {
+export async function chargeBeamTime(input: BeamTimeInput, mode: 'request' | 'intent' = 'request'): Promise<Charge> {
   const existing = await db()('charges').where({ session_id: input.sessionId }).first('id');
   if (existing) return (await getCharge(existing.id))!;
   const person = await personFor(input.personId);
-  const q = await quoteFor({ machineId: input.machineId, tier: person.tier, minutes: input.minutes, at: input.startedAt, materials: input.materials, personId: input.personId });
-  return billQuote(person, q, { kind: 'beam_time', machineId: input.machineId, bookingId: input.bookingId ?? null, sessionId: input.sessionId, startedAt: input.startedAt, minutes: input.minutes });
+  // a checked-in session pays at least the minimum, even one of under a minute (billed 0 minutes)
+  const q = await quoteFor({ machineId: input.machineId, tier: person.tier, minutes: input.minutes, at: input.startedAt, materials: input.materials, personId: input.personId, checkedIn: true });
+  return billQuote(person, q, { kind: 'beam_time', machineId: input.machineId, bookingId: input.bookingId ?? null, sessionId: input.sessionId, startedAt: input.startedAt, minutes: input.minutes }, mode);
 }
 
 /** A late-cancellation or no-show fee for a booking (priced by the version in force at the booking's start). */
-export async function chargeBookingFee(input: { personId: string; machineId: string; bookingId: string; startsAt: Date; fee: 'late_cancellation' | 'no_show' }): Promise<Charge> {
+export async function chargeBookingFee(input: { personId: string; machineId: string; bookingId: string; startsAt: Date; fee: 'late_cancellation' | 'no_show' }, mode: 'request' | 'intent' = 'request'): Promise<Charge> {
+  // once per booking: a retried job finds the fee it made before
+  const made = await db()('charges').where({ booking_id: input.bookingId, kind: input.fee }).first('id');
+  if (made) return (await getCharge(made.id))!;
   const person = await personFor(input.personId);
   const q = await quoteFor({
     machineId: input.machineId, tier: person.tier, minutes: 0, at: input.startsAt, personId: input.personId,
     lateCancellation: input.fee === 'late_cancellation', noShow: input.fee === 'no_show',
   });
   await releaseHoldsForBooking(input.bookingId, input.fee === 'no_show' ? 'no-show' : 'late cancellation', { notify: false });
-  return billQuote(person, q, { kind: input.fee, machineId: input.machineId, bookingId: input.bookingId, sessionId: null, startedAt: input.startsAt, minutes: 0 });
+  return billQuote(person, q, { kind: input.fee, machineId: input.machineId, bookingId: input.bookingId, sessionId: null, startedAt: input.startsAt, minutes: 0 }, mode);
 }
 
 async function billQuote(
   person: { id: string; tier: Tier; costCentre: string | null },
   q: PricedQuote,
   ctx: { kind: ChargeKind; machineId: string; bookingId: string | null; sessionId: string | null; startedAt: Date; minutes: number },
+  mode: 'request' | 'intent' = 'request',
 ): Promise<Charge> {
   const recharge = q.rechargeTiers.includes(person.tier) && person.costCentre !== null;
   const base = {
@@ -501,6 +560,7 @@ async function billQuote(
       const [row] = await trx('charges')
         .insert({ ...base, method: 'recharge', cost_centre: person.costCentre, state: 'recharged', breakdown: JSON.stringify(breakdownOf(q)) })
         .returning('id');
+      await assignReceipt(trx, row.id);
       await queueReceipt(trx, (await getCharge(row.id, trx))!);
       return row.id as string;
     });
@@ -514,17 +574,24 @@ async function billQuote(
   let id: string;
   if (held && ctx.kind === 'beam_time') {
     id = held.id;
+    if (s.chargeNowMinor > 0) {
+      // the capture is written down before it is tried: a process that dies here leaves it for the job to finish
+      await update(db(), id, { ...base, breakdown, method: 'card', state: 'pending', pending_op: `capture:${s.chargeNowMinor}` });
+      return run(id, { op: 'capture', amountMinor: s.chargeNowMinor }, mode);
+    }
     await update(db(), id, { ...base, breakdown, method: 'card' });
     if (s.chargeNowMinor === 0) {
-      await run(id, { op: 'capture', amountMinor: 0 });
+      await run(id, { op: 'capture', amountMinor: 0 }, mode);
       await update(db(), id, { state });
       return (await getCharge(id))!;
     }
-    return run(id, { op: 'capture', amountMinor: s.chargeNowMinor });
+    return run(id, { op: 'capture', amountMinor: s.chargeNowMinor }, mode);
   }
   let row: { id: string } | undefined;
   try {
-    [row] = await db()('charges').insert({ ...base, method: 'card', state, card_amount_minor: s.chargeNowMinor, breakdown }).returning('id');
+    [row] = await db()('charges')
+      .insert({ ...base, method: 'card', state, card_amount_minor: s.chargeNowMinor, breakdown, pending_op: s.chargeNowMinor > 0 ? `charge:${s.chargeNowMinor}` : null })
+      .returning('id');
   } catch (err) {
     // the same session checked out twice at once: the other call made the charge
     if (pgCode(err) === PG.uniqueViolation && ctx.sessionId) {
@@ -535,7 +602,7 @@ async function billQuote(
   }
   id = row!.id;
   if (s.chargeNowMinor === 0) return (await getCharge(id))!;
-  return run(id, { op: 'charge', amountMinor: s.chargeNowMinor });
+  return run(id, { op: 'charge', amountMinor: s.chargeNowMinor }, mode);
 }
 
 /**
@@ -553,6 +620,22 @@ export async function releaseHoldsForBooking(bookingId: string, reason: string, 
       } catch (err) {
         if (classify(err) === 'unreachable') throw unreachable();
         throw err;
+      }
+      await update(db(), c.id, { state: 'released', held_minor: 0, pending_op: null });
+    } else if (c.state === 'queued' && parseOp((await db()('charges').where({ id: c.id }).first('pending_op'))?.pending_op ?? '')?.op === 'hold') {
+      // an earlier try may have reached the provider before the answer was lost: finish it with the same key,
+      // then let it go, so no hold is left behind at the provider
+      const now = await drive(c.id).catch((err) => {
+        if (err instanceof ProviderNotReady) throw unreachable();
+        throw err;
+      });
+      if (now?.state === 'held' && now.providerChargeId) {
+        try {
+          await provider().refunds.create({ charge: now.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
+        } catch (err) {
+          if (classify(err) === 'unreachable') throw unreachable();
+          throw err;
+        }
       }
       await update(db(), c.id, { state: 'released', held_minor: 0, pending_op: null });
     } else if (c.state === 'pending' || c.state === 'queued') {
@@ -573,54 +656,288 @@ export async function releaseHoldsForBooking(bookingId: string, reason: string, 
   return done;
 }
 
-/** Refunds `amountMinor` (full or partial) of a captured or recharged charge, with a reason; audited. */
-export async function refund(chargeId: string, amountMinor: number, reason: string, actorId: string | null, opts: { notify?: boolean } = {}): Promise<Charge> {
-  const c = await getCharge(chargeId);
-  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
-  const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
-  if (!(c.state === 'captured' || c.state === 'recharged')) throw new HttpError(409, 'not_refundable', `A charge in state "${c.state}" cannot be refunded.`);
-  const left = paid - c.refundedMinor;
-  if (amountMinor < 1 || amountMinor > left) {
-    throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${formatMoney(left, c.currency)} is left to refund.` });
-  }
+/**
+ * Records a refund of `amountMinor` (full or partial) of a captured or recharged charge, with a reason; audited.
+ * A recharge refund is done at once (no provider). A card refund is written down as `pending` (the charge reads
+ * `refund pending`) with its intent in the same transaction; the provider call is made by runRefund — tried once
+ * at once by refund(), then by the worker until it is done, exactly once (idempotency key from the refund's id).
+ */
+export async function requestRefund(chargeId: string, amountMinor: number, reason: string, actorId: string | null, opts: { notify?: boolean } = {}): Promise<{ refundId: string; pending: boolean }> {
   const refundId = randomUUID();
-  let providerRefundId: string | null = null;
-  if (c.method === 'card' && c.providerChargeId) {
-    try {
-      const r = await provider().refunds.create(
-        { charge: c.providerChargeId, amount: amountMinor, metadata: { chargeId: c.id, reason: reason.slice(0, 450) } },
-        { idempotencyKey: key(c.id, `refund-${c.refundedMinor}-${amountMinor}`) },
-      );
-      providerRefundId = r.id;
-    } catch (err) {
-      if (classify(err) === 'unreachable') throw unreachable();
-      throw err;
+  return transaction(async (trx) => {
+    const c = await lockCharge(trx, chargeId);
+    const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
+    if (!(c.state === 'captured' || c.state === 'recharged')) {
+      throw new HttpError(409, 'not_refundable', c.state === 'refund pending' ? 'A refund of this charge is already waiting for the card service; it completes by itself.' : `A charge in state "${c.state}" cannot be refunded.`);
     }
+    const left = paid - c.refundedMinor;
+    if (amountMinor < 1 || amountMinor > left) {
+      throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${formatMoney(left, c.currency)} is left to refund.` });
+    }
+    const card = c.method === 'card' && c.providerChargeId !== null;
+    await trx('charge_refunds').insert({
+      id: refundId, charge_id: c.id, amount_minor: amountMinor, reason, actor_id: actorId,
+      state: card ? 'pending' : 'done', completed_at: card ? null : trx.fn.now(),
+    });
+    if (card) {
+      await update(trx, c.id, { state: 'refund pending', failure_message: null });
+      await recordPaymentIntent(trx, { kind: 'refund', refundId });
+      await recordAudit(trx, {
+        actorId, kind: 'charge.refund_requested', subjectType: 'charge', subjectId: c.id,
+        summary: `Refund of ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName} asked for: ${reason}`,
+        before: { state: c.state, refundedMinor: c.refundedMinor }, after: { state: 'refund pending', refundedMinor: c.refundedMinor },
+      });
+      return { refundId, pending: true };
+    }
+    await completeRefund(trx, c, refundId, amountMinor, reason, actorId, null, opts.notify !== false);
+    return { refundId, pending: false };
+  });
+}
+
+/** Writes a refund done: the charge's refunded sum and state, the audit entry, the person's e-mail. */
+async function completeRefund(trx: Knex.Transaction, c: Charge, refundId: string, amountMinor: number, reason: string, actorId: string | null, providerRefundId: string | null, notify: boolean): Promise<void> {
+  const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
+  const refunded = c.refundedMinor + amountMinor;
+  const state: ChargeState = refunded >= paid ? 'refunded' : c.method === 'recharge' ? 'recharged' : 'captured';
+  await trx('charge_refunds').where({ id: refundId }).update({ state: 'done', provider_refund_id: providerRefundId, completed_at: trx.fn.now(), failure_message: null });
+  await update(trx, c.id, { refunded_minor: refunded, state, failure_message: null });
+  await recordAudit(trx, {
+    actorId,
+    kind: 'charge.refunded',
+    subjectType: 'charge',
+    subjectId: c.id,
+    summary: `Refunded ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName}: ${reason}`,
+    before: { state: c.state, refundedMinor: c.refundedMinor },
+    after: { state, refundedMinor: refunded },
+  });
+  if (notify) {
+    await queueMail(trx, c.personEmail!, `Refund: ${formatMoney(amountMinor, c.currency)}`, {
+      greeting: `Kia ora ${c.personName},`,
+      paragraphs: [`We refunded ${formatMoney(amountMinor, c.currency)} of your charge of ${formatMoney(c.amountMinor, c.currency)}. Reason: ${reason}`,
+        c.method === 'card' ? 'Card refunds usually show on your statement within 5–10 days.' : `The refund is credited to cost centre ${c.costCentre}.`],
+    });
+  }
+}
+
+/** Makes a pending refund at the provider (same key on every try) and writes it done. Throws while the provider cannot be reached. */
+async function runRefund(refundId: string): Promise<void> {
+  const r = await db()('charge_refunds').where({ id: refundId }).first();
+  if (!r || r.state !== 'pending') return;
+  const c = (await getCharge(r.charge_id))!;
+  let providerRefundId: string;
+  try {
+    const pr = await provider().refunds.create(
+      { charge: c.providerChargeId!, amount: r.amount_minor, metadata: { chargeId: c.id, refundId, reason: String(r.reason).slice(0, 450) } },
+      { idempotencyKey: `beamwarden-refund-${refundId}` },
+    );
+    providerRefundId = pr.id;
+  } catch (err) {
+    if (classify(err) === 'unreachable') throw new ProviderNotReady(`The card service has not answered: ${(err as ProviderError).message ?? 'no answer'}`);
+    throw err;
   }
   await transaction(async (trx) => {
     const now = await lockCharge(trx, c.id);
-    if (now.refundedMinor !== c.refundedMinor) throw new HttpError(409, 'refund_conflict', 'Someone refunded this charge meanwhile; reload and check.');
-    const refunded = now.refundedMinor + amountMinor;
-    await trx('charge_refunds').insert({ id: refundId, charge_id: c.id, amount_minor: amountMinor, reason, actor_id: actorId, provider_refund_id: providerRefundId });
-    await update(trx, c.id, { refunded_minor: refunded, state: refunded === paid ? 'refunded' : now.state });
-    await recordAudit(trx, {
-      actorId,
-      kind: 'charge.refunded',
-      subjectType: 'charge',
-      subjectId: c.id,
-      summary: `Refunded ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName}: ${reason}`,
-      before: { state: now.state, refundedMinor: now.refundedMinor },
-      after: { state: refunded === paid ? 'refunded' : now.state, refundedMinor: refunded },
-    });
-    if (opts.notify !== false) {
-      await queueMail(trx, c.personEmail!, `Refund: ${formatMoney(amountMinor, c.currency)}`, {
-        greeting: `Kia ora ${c.personName},`,
-        paragraphs: [`We refunded ${formatMoney(amountMinor, c.currency)} of your charge of ${formatMoney(c.amountMinor, c.currency)}. Reason: ${reason}`,
-          c.method === 'card' ? 'Card refunds usually show on your statement within 5–10 days.' : `The refund is credited to cost centre ${c.costCentre}.`],
-      });
-    }
+    const still = await trx('charge_refunds').where({ id: refundId }).forUpdate().first('state');
+    if (still?.state !== 'pending') return; // another try wrote it meanwhile
+    await completeRefund(trx, now, refundId, r.amount_minor, r.reason, r.actor_id, providerRefundId, true);
   });
-  return (await getCharge(c.id))!;
+}
+
+/**
+ * Refunds now as far as the provider allows: records the refund and tries it once. Returns the charge, which reads
+ * `refund pending` while the provider is unreachable (the worker completes it later, exactly once).
+ */
+export async function refund(chargeId: string, amountMinor: number, reason: string, actorId: string | null, opts: { notify?: boolean } = {}): Promise<Charge> {
+  const r = await requestRefund(chargeId, amountMinor, reason, actorId, opts);
+  if (r.pending) await tryIntentNow({ kind: 'refund', refundId: r.refundId });
+  return (await getCharge(chargeId))!;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Intents (payment-intents.ts): run by the worker, tried once at once by the request that recorded them
+
+/** Intents on one booking (or session, refund, charge) run one at a time, in any process. */
+function lockKey(i: PaymentIntent): string {
+  switch (i.kind) {
+    case 'booking.hold':
+    case 'booking.release':
+    case 'booking.fee':
+      return `payments.booking:${i.bookingId}`;
+    case 'session.charge':
+      return `payments.session:${i.sessionId}`;
+    case 'refund':
+      return `payments.refund:${i.refundId}`;
+    case 'charge':
+      return `payments.charge:${i.chargeId}`;
+  }
+}
+
+/** The worker waits up to 30 s for another process's run of the same intent; a request's one try waits up to 4 s. */
+async function withIntentLock<T>(i: PaymentIntent, waitSeconds: number, work: () => Promise<T>): Promise<T> {
+  return transaction(async (trx) => {
+    await trx.raw(`SET LOCAL lock_timeout = '${Math.round(waitSeconds)}s'`);
+    await trx.raw('SELECT pg_advisory_xact_lock(hashtextextended(?, 0))', [lockKey(i)]);
+    return work();
+  });
+}
+
+async function bookingRow(id: string): Promise<{ id: string; person_id: string; machine_id: string; kind: string; state: string; starts_at: Date; ends_at: Date } | undefined> {
+  return db()('bookings').where({ id }).first('id', 'person_id', 'machine_id', 'kind', 'state', 'starts_at', 'ends_at');
+}
+
+/** The hold of a booking: made once (the charge row first, its operation written down), then placed or resumed. */
+async function holdBooking(bookingId: string): Promise<void> {
+  const b = await bookingRow(bookingId);
+  if (!b || b.kind !== 'personal' || !['reserved', 'checked in'].includes(b.state)) return; // cancelled before the hold: nothing to hold
+  const made = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at').first('id');
+  if (made) {
+    await drive(made.id);
+    return;
+  }
+  try {
+    await holdForBooking({ personId: b.person_id, machineId: b.machine_id, bookingId, startsAt: b.starts_at, minutes: Math.round((b.ends_at.getTime() - b.starts_at.getTime()) / 60_000) }, 'intent');
+  } catch (err) {
+    // no card saved, or a failed payment: nothing is held, beam time is charged at check-out
+    if (err instanceof HttpError && err.status === 402) return;
+    throw err;
+  }
+  const after = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at').first('id');
+  if (after) await drive(after.id);
+}
+
+async function runIntentNow(i: PaymentIntent): Promise<void> {
+  switch (i.kind) {
+    case 'booking.hold':
+      return holdBooking(i.bookingId);
+    case 'booking.release': {
+      await releaseHoldsForBooking(i.bookingId, i.reason, { notify: i.notify, actorId: i.actorId ?? null });
+      return;
+    }
+    case 'booking.fee': {
+      const b = await bookingRow(i.bookingId);
+      if (!b) return;
+      const fee = await chargeBookingFee({ personId: b.person_id, machineId: b.machine_id, bookingId: b.id, startsAt: b.starts_at, fee: i.fee }, 'intent');
+      await drive(fee.id);
+      return;
+    }
+    case 'session.charge': {
+      const sRow = await db()('machine_sessions').where({ id: i.sessionId }).first('id', 'person_id', 'machine_id', 'booking_id', 'checked_in_at', 'checked_out_at', 'beam_minutes');
+      if (!sRow?.checked_out_at) return;
+      const c = await chargeBeamTime({
+        personId: sRow.person_id, machineId: sRow.machine_id, bookingId: sRow.booking_id, sessionId: sRow.id,
+        startedAt: sRow.checked_in_at, minutes: sRow.beam_minutes ?? 0, materials: i.materials,
+      }, 'intent');
+      await drive(c.id);
+      return;
+    }
+    case 'refund':
+      return runRefund(i.refundId);
+    case 'charge':
+      await drive(i.chargeId);
+      return;
+  }
+}
+
+/**
+ * Worker entry point for `payments.intent`. A refusal that no retry can change (a 4xx of ours, e.g. no price in
+ * force) is logged and the job ends; anything else is thrown for pg-boss to retry with back-off. On the last
+ * attempt the intent is given up: see giveUp.
+ */
+export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = { final: false }): Promise<void> {
+  try {
+    await withIntentLock(i, 30, () => runIntentNow(i));
+  } catch (err) {
+    if (err instanceof HttpError && err.status < 500) {
+      console.warn(`[payments] ${i.kind} not done: ${err.message}`);
+      return;
+    }
+    if (attempt.final) {
+      await giveUp(i, err instanceof Error ? err.message : String(err));
+      return;
+    }
+    throw err;
+  }
+}
+
+/**
+ * A request's one try of an intent it recorded (short provider timeout; gives up waiting after a few seconds when
+ * a worker is running it just now). Never throws for the provider: the job is the source of truth. Returns our own refusal (e.g. not priced).
+ */
+export async function tryIntentNow(i: PaymentIntent): Promise<HttpError | null> {
+  try {
+    await quick.run(true, () => withIntentLock(i, 4, () => runIntentNow(i)));
+    return null;
+  } catch (err) {
+    if (err instanceof HttpError && err.status < 500) return err;
+    if (!(err instanceof ProviderNotReady)) console.warn(`[payments] ${i.kind} left to the worker:`, (err as Error).message);
+    return null;
+  }
+}
+
+/** After a commit that cancelled or bumped bookings: tries their releases at once (their intents were recorded with the change). */
+export async function releaseHoldsAfterCancel(bookingIds: readonly string[], reason: string, actorId: string | null, notify = false): Promise<void> {
+  for (const id of bookingIds) await tryIntentNow({ kind: 'booking.release', bookingId: id, reason, notify, actorId });
+}
+
+/**
+ * Every retry failed: the charge is marked `payment failed` with the reason (a refund goes back to `captured`
+ * with the refund marked failed; a release that never went through is left held) and the person and the
+ * admins are e-mailed.
+ */
+async function giveUp(i: PaymentIntent, reason: string): Promise<void> {
+  const why = `The card service could not complete this after every retry (${reason}).`;
+  const admins = async (subject: string, paragraphs: string[]) => {
+    for (const a of await activeWithRole('admin')) {
+      await queueMail(null, a.email, subject, { greeting: `Kia ora ${a.name},`, paragraphs, action: { label: 'Open Reconciliation', url: `${env().PUBLIC_BASE_URL}/admin/reconciliation` } });
+    }
+  };
+  if (i.kind === 'refund') {
+    const r = await db()('charge_refunds').where({ id: i.refundId }).first();
+    if (!r || r.state !== 'pending') return;
+    const c = (await getCharge(r.charge_id))!;
+    await transaction(async (trx) => {
+      await trx('charge_refunds').where({ id: i.refundId }).update({ state: 'failed', failure_message: why });
+      await update(trx, c.id, { state: 'captured', failure_message: `A refund of ${formatMoney(r.amount_minor, c.currency)} failed: ${why}` });
+      await recordAudit(trx, { actorId: null, kind: 'charge.refund_failed', subjectType: 'charge', subjectId: c.id, summary: `Refund of ${formatMoney(r.amount_minor, c.currency)} to ${c.personName} failed: ${why}` });
+      await queueMail(trx, c.personEmail!, `Refund delayed: ${formatMoney(r.amount_minor, c.currency)}`, {
+        greeting: `Kia ora ${c.personName},`,
+        paragraphs: [`We could not yet refund ${formatMoney(r.amount_minor, c.currency)} to your card. The space's admins have been told and will settle it with you.`],
+      });
+    });
+    await admins(`Refund failed for ${c.personName}`, [`A refund of ${formatMoney(r.amount_minor, c.currency)} on charge ${c.id} failed for good. ${why}`, 'Try it again from the charge, or settle it by hand.']);
+    return;
+  }
+  const ids: string[] = [];
+  if (i.kind === 'charge') ids.push(i.chargeId);
+  else if (i.kind === 'session.charge') ids.push(...(await db()('charges').where({ session_id: i.sessionId }).pluck('id')));
+  else ids.push(...(await db()('charges').where({ booking_id: i.bookingId }).pluck('id')));
+  for (const id of ids) {
+    const c = (await getCharge(id))!;
+    if (i.kind === 'booking.release') {
+      if (c.state === 'held') await admins(`A card hold could not be released for ${c.personName}`, [`The hold of ${formatMoney(c.heldMinor, c.currency)} on charge ${c.id} could not be released. ${why}`, 'Release it at the provider by hand.']);
+      continue;
+    }
+    if (c.state !== 'pending' && c.state !== 'queued') continue;
+    await markFailed(c, 'provider_unreachable', why);
+    await admins(`Payment failed for ${c.personName}`, [`Charge ${c.id} (${formatMoney(c.cardAmountMinor || c.amountMinor, c.currency)}) is marked payment failed. ${why}`]);
+  }
+}
+
+/** What the person sees of a booking's card hold just after booking. */
+export async function bookingHoldNotice(bookingId: string, personId: string, refusal: HttpError | null): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
+  if (refusal?.code === 'not_priced') return { state: 'none', notice: 'This machine has no price for your tier yet, so nothing is held now; your booking stands.' };
+  const c = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at', 'desc').first('state', 'failure_message');
+  if (!c) {
+    const summary = await accountSummary(personId);
+    if (!summary.card && !summary.recharge) {
+      return { state: 'none', notice: 'No card is saved on your account, so nothing is held now: beam time is charged at check-out. Save a card on the Account screen to pay by card.' };
+    }
+    return { state: 'none', notice: null };
+  }
+  if (c.state === 'held') return { state: 'held', notice: null };
+  if (c.state === 'pending' || c.state === 'queued') return { state: 'hold pending', notice: 'The card service is not answering just now: the hold is retried by itself and your booking stands.' };
+  if (c.state === 'released' && c.failure_message) return { state: 'none', notice: `${c.failure_message} Nothing is held now; beam time is charged at check-out.` };
+  return { state: 'none', notice: null };
 }
 
 /** Retries every failed or carried charge of a person as one charge on the saved card. Returns how many settled. */
@@ -685,10 +1002,10 @@ export async function listCharges(personId: string | null, opts: { page: number;
   return { total: Number(count), rows: rows.map(toCharge) };
 }
 
-export async function refundsOf(chargeId: string): Promise<{ amountMinor: number; reason: string; at: Date; actorName: string | null }[]> {
+export async function refundsOf(chargeId: string): Promise<{ amountMinor: number; reason: string; at: Date; actorName: string | null; state: 'pending' | 'done' | 'failed' }[]> {
   const rows = await db()('charge_refunds as r').leftJoin('people as p', 'p.id', 'r.actor_id').where('r.charge_id', chargeId)
-    .orderBy('r.created_at').select('r.amount_minor', 'r.reason', 'r.created_at', 'p.name');
-  return rows.map((r) => ({ amountMinor: r.amount_minor, reason: r.reason, at: r.created_at, actorName: r.name }));
+    .orderBy('r.created_at').select('r.amount_minor', 'r.reason', 'r.created_at', 'r.state', 'p.name');
+  return rows.map((r) => ({ amountMinor: r.amount_minor, reason: r.reason, at: r.created_at, actorName: r.name, state: r.state }));
 }
 
 /**
@@ -756,24 +1073,51 @@ export async function handleWebhook(body: string, signature: string | null): Pro
   });
 }
 
+/**
+ * For reconciliation: the provider's charges and refunds created in [from, to), through the SDK's list calls
+ * (auto-paged). The local fake ignores the `created` filter, so the period is also applied here.
+ */
+export async function providerActivity(from: Date, to: Date): Promise<{ charges: ProviderChargeListed[]; refunds: ProviderRefundListed[] }> {
+  const created = { gte: Math.floor(from.getTime() / 1000), lt: Math.floor(to.getTime() / 1000) };
+  const inPeriod = (t: number) => t >= created.gte && t < created.lt;
+  const charges: ProviderChargeListed[] = [];
+  for await (const c of provider().charges.list({ limit: 100, created })) if (inPeriod(c.created)) charges.push(c as never);
+  const refunds: ProviderRefundListed[] = [];
+  for await (const r of provider().refunds.list({ limit: 100, created })) if (inPeriod(r.created)) refunds.push(r as never);
+  return { charges, refunds };
+}
+export type ProviderChargeListed = { id: string; amount: number; amount_captured?: number; amount_refunded: number; captured: boolean; status: string; created: number; metadata?: Record<string, string> | null };
+export type ProviderRefundListed = { id: string; charge: string | null; amount: number; created: number; metadata?: Record<string, string> | null };
+
+/** For reconciliation: our card charges with a provider id made in [from, to) or named in `providerIds`; our refunds made at the provider likewise. */
+export async function recordedActivity(from: Date, to: Date, providerChargeIds: string[], providerRefundIds: string[]) {
+  const charges = await db()('charges').whereNotNull('provider_charge_id').where((q) => {
+    q.where((w) => w.where('created_at', '>=', from).where('created_at', '<', to));
+    if (providerChargeIds.length) q.orWhereIn('provider_charge_id', providerChargeIds);
+  }).select('id', 'provider_charge_id', 'state', 'held_minor', 'captured_minor', 'refunded_minor', 'created_at');
+  const refunds = await db()('charge_refunds').whereNotNull('provider_refund_id').where((q) => {
+    q.where((w) => w.where('created_at', '>=', from).where('created_at', '<', to));
+    if (providerRefundIds.length) q.orWhereIn('provider_refund_id', providerRefundIds);
+  }).select('id', 'charge_id', 'provider_refund_id', 'amount_minor', 'created_at');
+  return {
+    charges: charges.map((c) => ({ id: c.id, providerChargeId: c.provider_charge_id, state: c.state, heldMinor: c.held_minor, capturedMinor: c.captured_minor, refundedMinor: c.refunded_minor, createdAt: c.created_at })),
+    refunds: refunds.map((r) => ({ id: r.id, chargeId: r.charge_id, providerRefundId: r.provider_refund_id, amountMinor: r.amount_minor, createdAt: r.created_at })),
+  };
+}
+
+/** Which of these ids are charges of ours. */
+export async function knownChargeIds(ids: string[]): Promise<Set<string>> {
+  const uuids = ids.filter((i) => /^[0-9a-f-]{36}$/i.test(i));
+  if (!uuids.length) return new Set();
+  return new Set(await db()('charges').whereIn('id', uuids).pluck('id'));
+}
+
 /** For tests and support: the provider's charges of a person (to check nothing was taken twice). */
 export async function providerChargesOf(personId: string): Promise<{ id: string; amount: number; captured: boolean; refunded: number }[]> {
   const out: { id: string; amount: number; captured: boolean; refunded: number }[] = [];
   // every charge we make carries metadata.personId (the local fake does not filter charges by customer)
   for await (const c of provider().charges.list({ limit: 100 })) {
     if (c.metadata?.personId === personId && c.status !== 'failed') out.push({ id: c.id, amount: c.amount, captured: c.captured, refunded: c.amount_refunded });
-  }
-  return out;
-}
-
-/** The card holds standing on these bookings (state `held`), by booking: what cancelling would release. */
-export async function heldOnBookings(bookingIds: readonly string[]): Promise<Map<string, { amountMinor: number; currency: string }>> {
-  const out = new Map<string, { amountMinor: number; currency: string }>();
-  if (!bookingIds.length) return out;
-  const rows = (await db()('charges').whereIn('booking_id', bookingIds).where({ state: 'held' }).select('booking_id', 'amount_minor', 'currency')) as { booking_id: string; amount_minor: number; currency: string }[];
-  for (const r of rows) {
-    const before = out.get(r.booking_id);
-    out.set(r.booking_id, { amountMinor: (before?.amountMinor ?? 0) + Number(r.amount_minor), currency: r.currency });
   }
   return out;
 }

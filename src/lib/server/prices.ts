@@ -173,6 +173,8 @@ export interface QuoteRequest {
   personId?: string;
   lateCancellation?: boolean;
   noShow?: boolean;
+  /** a checked-in session (the minimum applies even to 0 billable minutes) */
+  checkedIn?: boolean;
 }
 
 export interface PricedQuote extends Quote {
@@ -196,6 +198,7 @@ export async function quoteFor(req: QuoteRequest, trx: Knex | Knex.Transaction =
     materials: req.materials,
     lateCancellation: req.lateCancellation,
     noShow: req.noShow,
+    checkedIn: req.checkedIn,
     alreadyChargedTodayMinor: req.personId ? await beamTimeChargedOnDay(req.personId, at, trx) : 0,
   };
   try {

@@ -11,6 +11,7 @@ import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { canOperate } from './clearances';
 import { chargeBeamTime, type Charge } from './payments';
+import { recordPaymentIntent } from './payment-intents';
 import { versionAt } from './prices';
 import { hasAnyRole, type Role } from '../roles';
 import {
@@ -211,6 +212,8 @@ export async function checkOut(actor: Actor, bookingId: string, input: CheckOutI
       before: { bookingState: b.state },
       after: { bookingState: 'completed', beamMinutes: minutes, jobTimerMinutes: input.jobTimerMinutes ?? null, materials },
     });
+    // the charge is an intent recorded with the check-out: made by the worker if this process dies after the commit
+    await recordPaymentIntent(trx, { kind: 'session.charge', sessionId: open.id, materials });
     return toSession(row!);
   });
   return { session, ...(await charge(session, materials)) };
@@ -315,6 +318,7 @@ export async function sweepOpenSessions(now = new Date(), graceMinutes = AUTO_CL
         before: { open: true },
         after: { checkedOutAt: end.toISOString(), beamMinutes: minutes, needsSteward: true },
       });
+      await recordPaymentIntent(trx, { kind: 'session.charge', sessionId: r.id, materials: [] });
       out.push(toSession(u!));
     }
     return out;

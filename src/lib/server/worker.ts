@@ -6,7 +6,9 @@ import type PgBoss from 'pg-boss';
 import { env } from './env';
 import { installQueues, type QueueName } from './jobs';
 import { sendMailNow, type MailMessage } from './mail';
-import { retryQueuedCharge } from './payments';
+import { retryQueuedCharge, runIntent } from './payments';
+import { reconcileDaily } from './reconciliation';
+import type { PaymentIntent } from './payment-intents';
 import { sweepBookings } from './bookings';
 import { sweepClearances } from './clearances';
 import { sweepOpenSessions } from './sessions';
@@ -15,11 +17,18 @@ import { remindSeats } from './induction-sessions';
 import { sweepControllers } from './controllers';
 import { db } from './db';
 
-type Handler = (data: unknown) => Promise<void>;
+type Handler = (data: unknown, job: { retryCount: number; retryLimit: number }) => Promise<void>;
 
 const handlers: Record<QueueName, Handler> = {
   'mail.send': async (data) => sendMailNow(data as MailMessage),
   'payments.retry': async (data) => retryQueuedCharge((data as { chargeId: string }).chargeId),
+  // holds, releases, captures, fees and refunds; the last attempt gives up in the open (payment failed, e-mails)
+  'payments.intent': async (data, job) => runIntent(data as PaymentIntent, { final: job.retryCount >= job.retryLimit }),
+  // yesterday (site days) compared with the provider; mismatches e-mailed to the admins
+  'payments.reconcile': async () => {
+    const r = await reconcileDaily();
+    console.log(`payments.reconcile: ${r.mismatches.length} mismatch(es) for ${r.from.toISOString()}–${r.to.toISOString()}`);
+  },
   // no-shows (15 minutes after the start without check-in) and expired waitlist holds
   'booking.sweep': async () => {
     const r = await sweepBookings();
@@ -68,6 +77,8 @@ async function schedules(boss: PgBoss): Promise<void> {
   // every 15 minutes, and at start-up: seats at sessions starting within a day get their reminder
   await boss.schedule('induction.remind', '*/15 * * * *');
   await boss.send('induction.remind', {});
+  // daily at 03:15 in the site's zone: the day before, ours against the payment provider's
+  await boss.schedule('payments.reconcile', '15 3 * * *', {}, { tz });
 }
 
 /**
@@ -76,14 +87,14 @@ async function schedules(boss: PgBoss): Promise<void> {
  * steward) would queue for minutes. Mail gets several loops (jobs are fetched with SKIP LOCKED, so none is sent twice);
  * each loop takes one job at a time, so a failed send retries that message alone.
  */
-const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4 };
+const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4, 'payments.intent': 2 };
 
 export async function startWorker(): Promise<PgBoss> {
   const boss = await installQueues(env().DATABASE_URL);
   for (const [name, handle] of Object.entries(handlers) as [QueueName, Handler][]) {
     for (let i = 0; i < (LOOPS[name] ?? 1); i++) {
-      await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1 }, async (batch) => {
-        for (const job of batch) await handle(job.data);
+      await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1, includeMetadata: true }, async (batch) => {
+        for (const job of batch) await handle(job.data, { retryCount: job.retryCount, retryLimit: job.retryLimit });
       });
     }
   }

@@ -1,11 +1,11 @@
 /**
- * Cascade: deactivating a person cancels their future bookings (holds released after the commit) — it sits above
+ * Cascade: deactivating a person cancels their future bookings (the worker releases their holds) — it sits above
  * the people entity and the bookings workflow so that neither imports the other.
  */
 import { transaction } from '../db';
 import { HttpError } from '../errors';
 import { applyActive, mustGetPerson, type Person } from '../people';
-import { cancelFutureBookingsOf, releaseHoldsAfterCancel } from '../bookings';
+import { cancelFutureBookingsOf } from '../bookings';
 
 /**
  * Deactivates a person (admin): they can no longer sign in, and their current session ends at their
@@ -16,12 +16,11 @@ export async function deactivatePerson(actorId: string, personId: string): Promi
   if (actorId === personId) {
     throw new HttpError(409, 'cannot_deactivate_self', 'You cannot deactivate your own account; ask another admin to do it.');
   }
-  const { person, cancelled } = await transaction(async (trx) => {
+  return transaction(async (trx) => {
     const changed = await applyActive(trx, actorId, personId, false);
-    // bookings: the person's reserved bookings that have not ended are cancelled in this same transaction
-    const cancelled = changed ? await cancelFutureBookingsOf(trx, actorId, personId) : [];
-    return { person: await mustGetPerson(personId, trx), cancelled };
+    // bookings: the person's reserved bookings that have not ended are cancelled in this same transaction; their
+    // card holds are released by the worker (intents recorded with the cancellations)
+    if (changed) await cancelFutureBookingsOf(trx, actorId, personId);
+    return mustGetPerson(personId, trx);
   });
-  await releaseHoldsAfterCancel(cancelled, 'account deactivated', actorId);
-  return person;
 }

@@ -6,12 +6,12 @@ import { transaction } from '../db';
 import { recordAudit } from '../audit';
 import { HttpError } from '../errors';
 import { getMachine, type Machine } from '../machines';
-import { cancelFutureBookingsOnMachine, releaseHoldsAfterCancel } from '../bookings';
+import { cancelFutureBookingsOnMachine } from '../bookings';
 
 /**
  * Retires a machine (admin): it leaves every list, its label page and the booking calendar, and takes no more
  * bookings; its reserved bookings that have not ended are cancelled (the people are e-mailed, holds released after
- * the commit) and its waitlist is withdrawn. Its history stays for the reports and the audit log. Refused (409)
+ * the commit, by the worker) and its waitlist is withdrawn. Its history stays for the reports and the audit log. Refused (409)
  * while someone is checked in on it. Audited as `machine.retired`.
  */
 export async function retireMachine(actorId: string, id: string, reason: string, now = new Date()): Promise<{ machine: Machine; cancelledBookings: number }> {
@@ -35,6 +35,6 @@ export async function retireMachine(actorId: string, id: string, reason: string,
     });
     return { machine: (await getMachine(id, trx))!, cancelled };
   });
-  await releaseHoldsAfterCancel(cancelled, 'machine retired', actorId);
+  // their card holds are released by the worker (intents recorded with the cancellations)
   return { machine, cancelledBookings: cancelled.length };
 }

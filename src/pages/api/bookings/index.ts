@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { json, readJson, readQuery, requireSignedIn, route } from '../../../lib/server/http';
 import { calendarFeed, createBooking } from '../../../lib/server/bookings';
+import { assertCanBook, bookingHoldNotice, tryIntentNow } from '../../../lib/server/payments';
 import { bookingNotes, endsAfterStart, endsAfterStartMessage, isoInstant, materialDeclaration, uuid } from '../../../lib/schemas';
 
 const feedQuery = z
@@ -25,9 +26,17 @@ const createBody = z.object({
   .strict()
   .refine(endsAfterStart, endsAfterStartMessage);
 
-/** POST /api/bookings → 201 with the booking. */
+/**
+ * POST /api/bookings → 201 with the booking, `payment` ({state: held | hold pending | none}) and `paymentNotice`.
+ * A failed payment on the account refuses first (402). The card hold is recorded with the booking and placed by
+ * the worker; this request tries it once at once, so a member usually sees "held" straight away.
+ */
 export const POST = route(async ({ locals, request }) => {
   const person = requireSignedIn(locals);
   const input = await readJson(request, createBody);
-  return json(await createBooking(person, input), 201);
+  await assertCanBook(person.id);
+  const booking = await createBooking(person, input);
+  const refusal = await tryIntentNow({ kind: 'booking.hold', bookingId: booking.id });
+  const hold = await bookingHoldNotice(booking.id, person.id, refusal);
+  return json({ ...booking, payment: { state: hold.state }, paymentNotice: hold.notice }, 201);
 });

@@ -9,7 +9,11 @@ const body = z.object({
   reason: z.string().trim().min(3, 'Give a reason (at least 3 characters).').max(500, 'At most 500 characters.'),
 }).strict();
 
-/** POST /api/charges/:id/refund {amountMinor?, reason} (steward/admin) → the charge; full when amountMinor is left out. Audited. */
+/**
+ * POST /api/charges/:id/refund {amountMinor?, reason} (steward/admin) → 200 with the charge when the refund is done;
+ * 202 {state: "refund pending", charge} while the card service is unreachable (the worker completes it, exactly
+ * once). Full when amountMinor is left out. Audited.
+ */
 export const POST = route(async ({ locals, params, request }) => {
   const actor = requireRole(locals, 'steward', 'admin');
   const id = uuid.safeParse(params.id);
@@ -19,5 +23,7 @@ export const POST = route(async ({ locals, params, request }) => {
   if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
   const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
   const amount = input.amountMinor ?? paid - c.refundedMinor;
-  return json(chargeJson(await refund(c.id, amount, input.reason, actor.id)));
+  const after = await refund(c.id, amount, input.reason, actor.id);
+  if (after.state === 'refund pending') return json({ state: 'refund pending', charge: chargeJson(after) }, 202);
+  return json(chargeJson(after));
 });
