@@ -7,7 +7,7 @@ import path from 'node:path';
 import { spawn } from 'node:child_process';
 import {
   ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
-  recreateDatabase, runNode, say, spawnService, startFakes, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
+  recreateDatabase, runNode, say, spawnService, startFakes, startIdentityProviderFake, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
 } from './lib/stack';
 
 const cfg = readConfig(
@@ -57,6 +57,7 @@ const env = appEnv(cfg, secrets, {
 
 runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the test database');
 await startFakes(cfg);
+Object.assign(env, await startIdentityProviderFake(cfg, 'TEST_OIDC_PORT', 9410));
 buildApp(path.join(ROOT, 'dist-test'), env);
 
 const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-test/server/entry.mjs')], env);
