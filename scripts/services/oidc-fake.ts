@@ -25,6 +25,8 @@ const provider = new Provider(issuer, {
   clients: [{ client_id: clientId, client_secret: clientSecret, redirect_uris: redirectUris, grant_types: ['authorization_code'], response_types: ['code'] }],
   claims: { openid: ['sub'], email: ['email', 'email_verified'], profile: ['name', 'affiliation'] },
   scopes: ['openid', 'email', 'profile'],
+  // put the e-mail and profile claims in the ID token too (Auth.js reads the person from the ID token)
+  conformIdTokenClaims: false,
   features: { devInteractions: { enabled: true } },
   cookies: { keys: ['beamwarden-local-oidc-fake-cookie-key'] },
   async findAccount(_ctx: unknown, sub: string) {
