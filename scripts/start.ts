@@ -5,7 +5,7 @@
 import path from 'node:path';
 import {
   ROOT, HOST, appEnv, assertPortFree, buildApp, ensurePostgres, loadSecrets, runNode,
-  say, spawnService, startFakes, stopPostgres, stopServices, waitForPort, demoConfig,
+  say, spawnService, startFakes, startIdentityProviderFake, stopPostgres, stopServices, waitForPort, demoConfig,
 } from './lib/stack';
 
 const cfg = demoConfig();
@@ -38,6 +38,7 @@ pgStartedHere = pgInfo.startedHere;
 const env = appEnv(cfg, secrets);
 runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding');
 await startFakes(cfg);
+Object.assign(env, await startIdentityProviderFake(cfg, 'OIDC_PORT', 9400));
 buildApp(path.join(ROOT, 'dist'), env);
 
 const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist/server/entry.mjs')], env, true);

@@ -8,7 +8,7 @@ import fs from 'node:fs';
 import { spawn } from 'node:child_process';
 import {
   ROOT, HOST, appEnv, paymentsStateFile, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
-  recreateDatabase, runNode, say, spawnService, startFakes, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
+  recreateDatabase, runNode, say, spawnService, startFakes, startIdentityProviderFake, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
 } from './lib/stack';
 
 const cfg = readConfig(
@@ -60,6 +60,7 @@ runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migr
 // a new test database: the payment fake starts empty too (it keeps its state across restarts within the run)
 fs.rmSync(paymentsStateFile(cfg), { force: true });
 await startFakes(cfg);
+Object.assign(env, await startIdentityProviderFake(cfg, 'TEST_OIDC_PORT', 9410));
 buildApp(path.join(ROOT, 'dist-test'), env);
 
 const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-test/server/entry.mjs')], env);

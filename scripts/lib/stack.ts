@@ -586,3 +586,36 @@ export function runNode(args: string[], env: Record<string, string>, what: strin
   const r = spawnSync(process.execPath, args, { cwd: ROOT, env: { ...process.env, ...env }, stdio: 'inherit' });
   if (r.status !== 0) fail(`${what} failed (see above).`);
 }
+
+// ---------------------------------------------------------------------------------------------
+// Institution sign-in: a local OpenID Connect provider (the demo people as its accounts), unless a real
+// issuer is configured by OIDC_ISSUER. Self-contained: start.ts and test.ts call it once and merge its answer
+// into the app's environment.
+
+/** Starts the identity provider fake on `portVar` (default `defaultPort`); returns the OIDC_* settings for the app. */
+export async function startIdentityProviderFake(cfg: Pick<StackConfig, 'dataDir' | 'appPort'>, portVar: string, defaultPort: number): Promise<Record<string, string>> {
+  if (process.env.OIDC_ISSUER) {
+    say(`Institution sign-in uses ${process.env.OIDC_ISSUER} (OIDC_ISSUER); the local identity provider is not started`);
+    return {};
+  }
+  const parsed = port.safeParse(process.env[portVar] ?? defaultPort);
+  if (!parsed.success) fail(`${portVar}: ${parsed.error.issues[0]?.message ?? 'not a port'}`);
+  const oidcPort = parsed.data;
+  stopLeftover(cfg, 'identity-provider');
+  await assertPortFree(oidcPort, `the identity provider fake (${portVar})`);
+  const settings = {
+    OIDC_ISSUER: `http://${HOST}:${oidcPort}`,
+    OIDC_CLIENT_ID: 'beamwarden-local',
+    OIDC_CLIENT_SECRET: 'beamwarden-local-secret',
+    OIDC_ALLOWED_DOMAINS: 'tidewater.example',
+  };
+  const appBase = process.env.PUBLIC_BASE_URL ?? `http://${HOST}:${cfg.appPort}`;
+  const redirects = [...new Set([`http://${HOST}:${cfg.appPort}`, `http://localhost:${cfg.appPort}`, appBase])].map((b) => `${b.replace(/\/$/, '')}/api/auth/callback/institution`);
+  const service = spawnService(cfg, 'identity-provider', ['--import', 'tsx', path.join(ROOT, 'scripts/services/oidc-fake.ts')], {
+    ...settings,
+    OIDC_PORT: String(oidcPort),
+    OIDC_REDIRECT_URIS: redirects.join(','),
+  });
+  await waitForPort(oidcPort, 'the identity provider fake', service.child);
+  return settings;
+}

@@ -7,7 +7,8 @@ import Papa from 'papaparse';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
-import { Client, body } from '../support/client';
+import { Client, body, freshLoopbackAddress } from '../support/client';
+import { confirmByDatabase } from '../support/people';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 import { nextDate, zonedDate } from '../../src/lib/time';
 
@@ -17,12 +18,13 @@ let originalSite: any;
 
 /** A new member through the real sign-up form (the API client, not the browser, to save time). */
 async function newMember(name: string): Promise<{ email: string; password: string }> {
-  const c = new Client();
+  const c = new Client(undefined, freshLoopbackAddress());
   await c.get('/signup');
   const email = `e2e-${Date.now()}-${Math.floor(Math.random() * 1e6)}@example.org`;
   const password = 'a long enough phrase';
   const res = await c.fetch('/signup', { method: 'POST', body: new URLSearchParams({ name, email, password }), headers: { 'content-type': 'application/x-www-form-urlencoded' } });
   expect(res.status).toBe(303);
+  await confirmByDatabase(email);
   return { email, password };
 }
 

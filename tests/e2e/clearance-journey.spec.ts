@@ -8,6 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
 import { closeTestDb, testDb } from '../support/db';
 import { to, waitForMail } from '../support/maildev';
+import { confirmByDatabase } from '../support/people';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 
 let browser: Browser;
@@ -88,6 +89,7 @@ describe('clearance journey', () => {
     await mpage.getByLabel('E-mail').fill(member.email);
     await mpage.getByLabel('Password').fill(member.password);
     await Promise.all([mpage.waitForURL(/\/signup\?sent=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    await confirmByDatabase(member.email);
     await signIn(mpage, member.email, member.password);
     await mpage.goto('/clearances');
     const rfCard = mpage.locator('li[data-group="RF laser"]');

@@ -83,6 +83,9 @@ const MATRIX: Record<string, Row> = {
   'GET /signout': everyone(303),
   'POST /signout': everyone(303),
   'GET /signup': { ...everyone(303), out: 200 },
+  'GET /forgot-password': everyone(200),
+  'GET /reset-password': everyone(404),
+  'GET /confirm-email': everyone(200),
 
   // Auth.js (the [...auth] parameter is filled with `session`)
   'GET /api/auth/[...auth]': everyone(200),
@@ -90,6 +93,15 @@ const MATRIX: Record<string, Row> = {
 
   // API
   'GET /api/account': api(200),
+  'POST /api/account/password-reset': everyone(422),
+  'POST /api/account/password-reset/confirm': everyone(422),
+  'POST /api/account/password': api(422),
+  'POST /api/account/confirmation': everyone(422),
+  'POST /api/account/close': api(422),
+  'GET /api/account/export': api(200),
+  'GET /api/account/export.zip': api(200),
+  'GET /api/institution-sign-in': api(200, 'admin'),
+  'PUT /api/institution-sign-in': api(422, 'admin'),
   'POST /api/account/card': api(422),
   'GET /api/account/charges': api(200),
   'GET /api/audit': api(200, 'admin'),
@@ -135,6 +147,7 @@ const MATRIX: Record<string, Row> = {
   'GET /api/materials': api(200),
   'GET /api/me': api(200),
   'GET /api/people': api(200, 'admin'),
+  'POST /api/people': api(422, 'admin'),
   'POST /api/people/[id]/deactivate': api(404, 'admin'),
   'POST /api/people/[id]/reactivate': api(404, 'admin'),
   'PUT /api/people/[id]/roles': api(422, 'admin'),

@@ -4,7 +4,8 @@
  */
 import Papa from 'papaparse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { Client, body } from '../support/client';
+import { Client, body, freshLoopbackAddress } from '../support/client';
+import { confirmByDatabase } from '../support/people';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 
 let admin: Client;
@@ -13,12 +14,13 @@ let originalSite: any;
 
 /** A new member, signed up through the real form; returns their signed-in client and id. */
 async function newMember(name: string): Promise<{ client: Client; id: string; email: string; password: string }> {
-  const client = new Client();
+  const client = new Client(undefined, freshLoopbackAddress());
   await client.get('/signup');
   const email = `p-${name.toLowerCase().replace(/[^a-z0-9]+/g, '-')}-${Date.now()}-${Math.floor(Math.random() * 1e6)}@example.org`;
   const password = 'a long enough phrase';
   const res = await client.fetch('/signup', { method: 'POST', body: new URLSearchParams({ name, email, password }), headers: { 'content-type': 'application/x-www-form-urlencoded' } });
   expect(res.status).toBe(303);
+  await confirmByDatabase(email);
   // sign-up starts no session (it answers the same for taken addresses): sign in as the person would
   expect((await client.signInAs(email, password)).location).not.toContain('error');
   const me = await body(await client.get('/api/me'));

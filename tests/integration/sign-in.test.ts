@@ -3,6 +3,7 @@ import { afterAll, afterEach, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { DEMO, DEMO_PASSWORD } from '../support/env';
+import { confirmByDatabase } from '../support/people';
 
 afterEach(clearSignInLimits);
 afterAll(closeTestDb);
@@ -75,6 +76,9 @@ describe('sign-up and sign-out', () => {
     expect(res.status).toBe(303);
     expect(res.headers.get('location')).toBe('/signup?sent=1');
     expect((await c.get('/api/me')).status).toBe(401);
+    // the address must be confirmed first (the link itself: accounts.test.ts)
+    expect((await c.signInAs(email, 'a long enough phrase')).location).toContain('code=unconfirmed');
+    await confirmByDatabase(email);
     expect((await c.signInAs(email, 'a long enough phrase')).location).not.toContain('error');
     const me = await body(await c.get('/api/me'));
     expect(me).toMatchObject({ email, name: 'Ana Test', roles: ['member'] });

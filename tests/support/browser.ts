@@ -32,7 +32,7 @@ export async function signIn(page: Page, who: DemoPerson | string, password = DE
   if (!page.url().includes('/signin')) await page.goto('/signin');
   await page.getByLabel('E-mail').fill(email);
   await page.getByLabel('Password').fill(password);
-  await Promise.all([page.waitForLoadState('load'), page.getByRole('button', { name: 'Sign in' }).click()]);
+  await Promise.all([page.waitForLoadState('load'), page.getByRole('button', { name: 'Sign in', exact: true }).click()]);
   await page.waitForLoadState('networkidle');
 }
 

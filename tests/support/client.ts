@@ -2,13 +2,54 @@
  * A small HTTP client for integration tests: keeps cookies like a browser, signs in through the real
  * Auth.js credentials endpoint (CSRF token + form post), and sends JSON with a same-site Origin.
  */
+import http from 'node:http';
 import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
+
+/** A request sent from a chosen loopback source address (127.x.y.z), so the app sees another client address. */
+async function fetchFrom(localAddress: string, url: URL, init: { method: string; headers: Headers; body?: BodyInit | null }): Promise<Response> {
+  const headers: Record<string, string> = Object.fromEntries(init.headers.entries());
+  let body: Buffer | undefined;
+  if (init.body != null) {
+    // any body fetch takes (form data, URLSearchParams, text, bytes), encoded as fetch would encode it
+    const encoded = new Request(url, { method: 'POST', headers: init.headers, body: init.body });
+    body = Buffer.from(await encoded.arrayBuffer());
+    const type = encoded.headers.get('content-type');
+    if (type) headers['content-type'] = type;
+    headers['content-length'] = String(body.byteLength);
+  }
+  return new Promise((resolve, reject) => {
+    const req = http.request({ host: url.hostname, port: url.port, path: url.pathname + url.search, method: init.method, headers, localAddress }, (res) => {
+      const chunks: Buffer[] = [];
+      res.on('data', (c: Buffer) => chunks.push(c));
+      res.on('end', () => {
+        const h = new Headers();
+        for (const [k, v] of Object.entries(res.headers)) for (const one of Array.isArray(v) ? v : v === undefined ? [] : [v]) h.append(k, one);
+        const status = res.statusCode ?? 500;
+        resolve(new Response([101, 204, 205, 304].includes(status) ? null : Buffer.concat(chunks), { status, headers: h }));
+      });
+      res.on('error', reject);
+    });
+    req.on('error', reject);
+    req.end(body);
+  });
+}
+
+let nextAddress = 0;
+/** A loopback address no other client of this test process uses (127.20.0.1, 127.20.0.2, …). */
+export function freshLoopbackAddress(): string {
+  nextAddress += 1;
+  return `127.${20 + (process.pid % 200)}.${Math.floor(nextAddress / 250) % 250}.${(nextAddress % 250) + 1}`;
+}
 
 export class Client {
   private jar = new Map<string, string>();
 
   /** `base`: another app process's address (tests of several processes); the test app by default. */
-  constructor(private readonly base?: string) {}
+  constructor(
+    private readonly base?: string,
+    /** the loopback source address this client sends from (another "client address" for the app); default 127.0.0.1 */
+    readonly localAddress?: string,
+  ) {}
 
   private url(): string {
     return this.base ?? APP_URL();
@@ -43,7 +84,9 @@ export class Client {
       headers.set('content-type', 'application/json');
       body = JSON.stringify(init.json);
     }
-    const res = await fetch(new URL(path, this.url()), { ...init, method, headers, body, redirect: 'manual' });
+    const res = this.localAddress
+      ? await fetchFrom(this.localAddress, new URL(path, this.url()), { method, headers, body })
+      : await fetch(new URL(path, this.url()), { ...init, method, headers, body, redirect: 'manual' });
     this.store(res);
     return res;
   }

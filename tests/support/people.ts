@@ -1,5 +1,9 @@
-/** New people for a test, created the way a person would: through the sign-up form. */
-import { Client } from './client';
+/**
+ * New people for a test, created the way a person would: through the sign-up form, each from its own loopback
+ * address (sign-ups are limited per client address). The confirmation link's effect is written straight into
+ * the database (the link itself is tested in tests/integration/accounts.test.ts).
+ */
+import { Client, freshLoopbackAddress } from './client';
 import { testDb } from './db';
 
 let n = 0;
@@ -10,13 +14,14 @@ export async function signUpNew(label: string): Promise<{ client: Client; email:
   const email = `${label}-${stamp}@tidewater.example`;
   const name = `Test ${label} ${stamp}`;
   const password = 'a long test passphrase for lasers';
-  const client = new Client();
+  const client = new Client(undefined, freshLoopbackAddress());
   const res = await client.fetch('/signup', {
     method: 'POST',
     body: new URLSearchParams({ name, email, password }),
     headers: { 'content-type': 'application/x-www-form-urlencoded' },
   });
   if (res.status !== 303) throw new Error(`sign-up for ${email} answered ${res.status}`);
+  await confirmByDatabase(email);
   // sign-up answers the same for new and taken addresses and starts no session: sign in as the person would
   const signedIn = await client.signInAs(email, password);
   if (signedIn.location.includes('error')) throw new Error(`sign-in after sign-up for ${email} failed: ${signedIn.location}`);
@@ -48,4 +53,10 @@ export async function clearedNew(label: string, machineCodes: string[]): Promise
     });
   }
   return { ...made, id: person.id };
+}
+
+/** Marks a signed-up address as confirmed, as opening the confirmation link would. */
+export async function confirmByDatabase(email: string): Promise<void> {
+  const n = await testDb()('people').where({ email: email.toLowerCase() }).whereNull('email_confirmed_at').update({ email_confirmed_at: new Date() });
+  if (n !== 1) throw new Error(`no unconfirmed person ${email} to confirm`);
 }

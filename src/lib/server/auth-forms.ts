@@ -27,7 +27,7 @@ export async function startSession(ctx: Pick<APIContext, 'url' | 'cookies'>, per
   const secure = ctx.url.protocol === 'https:';
   const name = sessionCookieName(secure);
   const token = await encode({
-    token: { sub: person.id, name: person.name, email: person.email, roles: person.roles },
+    token: { sub: person.id, name: person.name, email: person.email, roles: person.roles, epoch: person.sessionEpoch },
     secret: env().AUTH_SECRET,
     salt: name,
     maxAge: SESSION_MAX_AGE_S,

@@ -27,6 +27,15 @@ const schema = z.object({
   S3_BUCKET: z.string().default('beamwarden-uploads'),
   S3_ACCESS_KEY_ID: z.string().default('S3RVER'),
   S3_SECRET_ACCESS_KEY: z.string().default('S3RVER'),
+  /** minutes a password-reset link stays valid */
+  RESET_LINK_MINUTES: z.coerce.number().int().min(5).max(24 * 60).default(30),
+  /** institution sign-in (OpenID Connect); unset issuer = off */
+  OIDC_ISSUER: z.url().optional(),
+  OIDC_CLIENT_ID: z.string().min(1).optional(),
+  OIDC_CLIENT_SECRET: z.string().min(1).optional(),
+  OIDC_EMAIL_CLAIM: z.string().min(1).default('email'),
+  /** e-mail domains whose people may sign in this way, separated by commas */
+  OIDC_ALLOWED_DOMAINS: z.string().default(''),
 });
 
 export type Env = z.infer<typeof schema>;

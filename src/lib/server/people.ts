@@ -18,19 +18,23 @@ export interface Person {
   tier: Tier;
   /** course code or department a recharge tier is billed to */
   costCentre: string | null;
+  /** false until the person opened the link in their confirmation (or invitation) e-mail */
+  emailConfirmed: boolean;
+  /** raised when every earlier session must end (password reset or change, account closed) */
+  sessionEpoch: number;
 }
 
-type Row = { id: string; email: string; name: string; active: boolean; created_at: Date; roles: string[] | null; tier: Tier; cost_centre: string | null };
+type Row = { id: string; email: string; name: string; active: boolean; created_at: Date; roles: string[] | null; tier: Tier; cost_centre: string | null; email_confirmed_at: Date | null; session_epoch: number };
 
 function toPerson(r: Row): Person {
-  return { id: r.id, email: r.email, name: r.name, active: r.active, createdAt: r.created_at, roles: normaliseRoles(r.roles ?? []), tier: r.tier, costCentre: r.cost_centre };
+  return { id: r.id, email: r.email, name: r.name, active: r.active, createdAt: r.created_at, roles: normaliseRoles(r.roles ?? []), tier: r.tier, costCentre: r.cost_centre, emailConfirmed: r.email_confirmed_at !== null, sessionEpoch: r.session_epoch };
 }
 
 function withRoles(q: Knex | Knex.Transaction) {
   return q('people as p')
     .leftJoin('role_grants as g', 'g.person_id', 'p.id')
     .groupBy('p.id')
-    .select('p.id', 'p.email', 'p.name', 'p.active', 'p.created_at', 'p.tier', 'p.cost_centre', q.raw("coalesce(array_agg(g.role ORDER BY g.role) FILTER (WHERE g.role IS NOT NULL), '{}') AS roles"));
+    .select('p.id', 'p.email', 'p.name', 'p.active', 'p.created_at', 'p.tier', 'p.cost_centre', 'p.email_confirmed_at', 'p.session_epoch', q.raw("coalesce(array_agg(g.role ORDER BY g.role) FILTER (WHERE g.role IS NOT NULL), '{}') AS roles"));
 }
 
 export async function getPerson(id: string, trx: Knex | Knex.Transaction = db()): Promise<Person | null> {
@@ -43,19 +47,40 @@ export async function getPersonByEmail(email: string): Promise<Person | null> {
   return row ? toPerson(row) : null;
 }
 
-export async function findForSignIn(email: string): Promise<{ id: string; email: string; name: string; passwordHash: string; active: boolean } | null> {
-  const row = await db()('people').whereRaw('lower(email) = lower(?)', [email]).first('id', 'email', 'name', 'password_hash', 'active');
-  return row ? { id: row.id, email: row.email, name: row.name, passwordHash: row.password_hash, active: row.active } : null;
+export async function findForSignIn(email: string): Promise<{ id: string; email: string; name: string; passwordHash: string; active: boolean; emailConfirmed: boolean } | null> {
+  const row = await db()('people').whereRaw('lower(email) = lower(?)', [email]).first('id', 'email', 'name', 'password_hash', 'active', 'email_confirmed_at');
+  return row ? { id: row.id, email: row.email, name: row.name, passwordHash: row.password_hash, active: row.active, emailConfirmed: row.email_confirmed_at !== null } : null;
 }
 
 export class EmailTaken extends Error {}
 
-/** Creates a person with the given roles (sign-up gives `member`). Throws EmailTaken on a duplicate. */
-export async function createPerson(input: { email: string; name: string; password: string; roles: Role[]; actorId?: string | null }): Promise<Person> {
+/**
+ * Creates a person with the given roles (sign-up gives `member`). Throws EmailTaken on a duplicate.
+ * `confirmed: false` (sign-up, invitation) keeps them out until they open the link e-mailed to them; `then`
+ * runs inside the same transaction (e.g. to issue that link and queue the e-mail).
+ */
+export async function createPerson(input: {
+  email: string;
+  name: string;
+  password: string;
+  roles: Role[];
+  actorId?: string | null;
+  confirmed?: boolean;
+  tier?: Tier;
+  then?: (trx: Knex.Transaction, person: Person) => Promise<void>;
+}): Promise<Person> {
   const passwordHash = await hashPassword(input.password);
   try {
     return await transaction(async (trx) => {
-      const [row] = await trx('people').insert({ email: input.email.toLowerCase(), name: input.name, password_hash: passwordHash }).returning('id');
+      const [row] = await trx('people')
+        .insert({
+          email: input.email.toLowerCase(),
+          name: input.name,
+          password_hash: passwordHash,
+          ...(input.confirmed === false ? { email_confirmed_at: null } : {}),
+          ...(input.tier ? { tier: input.tier } : {}),
+        })
+        .returning('id');
       const id = row.id as string;
       if (input.roles.length) {
         await trx('role_grants').insert(input.roles.map((role) => ({ person_id: id, role, granted_by: input.actorId ?? null })));
@@ -70,6 +95,7 @@ export async function createPerson(input: { email: string; name: string; passwor
       });
       const person = await getPerson(id, trx);
       if (!person) throw new Error('person vanished inside its own transaction');
+      if (input.then) await input.then(trx, person);
       return person;
     });
   } catch (err) {

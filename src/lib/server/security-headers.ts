@@ -16,9 +16,24 @@ export function securityHeaders(https: boolean): Record<string, string> {
 }
 
 /**
+ * The institution's identity provider (OIDC_ISSUER), where the "Sign in with …" form's answer redirects: a
+ * form's redirect to another origin counts under form-action.
+ */
+function institutionOrigin(): string {
+  const issuer = process.env.OIDC_ISSUER;
+  if (!issuer) return '';
+  try {
+    return ` ${new URL(issuer).origin}`;
+  } catch {
+    return '';
+  }
+}
+
+/**
  * The policy of an HTML page: scripts only from our origin, plus the page's own inline scripts (Astro's
  * island loader) allowed by their SHA-256 hashes — never 'unsafe-inline' for scripts. Styles may be inline
- * (island libraries set style attributes). No framing, no plugins, forms post only to us.
+ * (island libraries set style attributes). No framing, no plugins, forms post only to us (and
+ * may be redirected on to the institution's identity provider).
  */
 export function pagePolicy(inlineScriptHashes: readonly string[]): string {
   const scripts = ["'self'", ...[...new Set(inlineScriptHashes)].map((h) => `'sha256-${h}'`)].join(' ');
@@ -33,7 +48,7 @@ export function pagePolicy(inlineScriptHashes: readonly string[]): string {
     "worker-src 'self' blob:",
     "object-src 'none'",
     "base-uri 'self'",
-    "form-action 'self'",
+    `form-action 'self'${institutionOrigin()}`,
     "frame-ancestors 'none'",
   ].join('; ');
 }

@@ -1,48 +1,52 @@
 /**
- * Checking a password at sign-in, with throttling of repeated failures per e-mail and per client
- * address. Counters live in PostgreSQL (rate-limiter-flexible), so every app process shares them.
+ * Checking a password at sign-in, with throttling that slows guessing without letting a stranger lock a
+ * person out. Counters live in PostgreSQL (rate-limiter-flexible), so every app process shares them:
+ * - the strict limit is on the pair (e-mail, client address): 5 failures in 15 minutes close that pair for
+ *   15 minutes — the person signing in from anywhere else is not affected;
+ * - a looser per-e-mail count (from any address) adds a growing wait after 10 failures in an hour
+ *   (2 s, 4 s, 8 s … at most 5 minutes between tries), never a hard block;
+ * - a client address with 30 failures in 15 minutes (any e-mails) is refused for 15 minutes;
+ * - a successful sign-in or a password reset (which proves control of the address) clears the e-mail's counters.
  */
 import { RateLimiterPostgres, type RateLimiterRes } from 'rate-limiter-flexible';
 import { db } from './db';
 import { findForSignIn } from './people';
 import { decoyHash, verifyPassword } from './passwords';
+import { passwordSignInRefusedFor } from './institution';
 
 export const SIGN_IN_LIMITS = {
-  perEmail: { points: 5, durationS: 15 * 60, blockS: 15 * 60 },
+  perPair: { points: 5, durationS: 15 * 60, blockS: 15 * 60 },
   perAddress: { points: 30, durationS: 15 * 60, blockS: 15 * 60 },
+  perEmail: { freeFailures: 10, durationS: 60 * 60, firstWaitS: 2, maxWaitS: 5 * 60 },
 };
 
-let limiters: { email: RateLimiterPostgres; address: RateLimiterPostgres } | undefined;
+/** The wait before the next try after `failures` failures for one e-mail (0 while under the free count). */
+export function emailWaitS(failures: number): number {
+  const { freeFailures, firstWaitS, maxWaitS } = SIGN_IN_LIMITS.perEmail;
+  if (failures < freeFailures) return 0;
+  return Math.min(maxWaitS, firstWaitS * 2 ** Math.min(20, failures - freeFailures));
+}
+
+function limiter(keyPrefix: string, points: number, duration: number, blockDuration = 0): RateLimiterPostgres {
+  return new RateLimiterPostgres({ storeClient: db(), storeType: 'knex', tableName: 'sign_in_limits', tableCreated: true, keyPrefix, points, duration, blockDuration });
+}
+
+let limiters: { pair: RateLimiterPostgres; address: RateLimiterPostgres; email: RateLimiterPostgres; emailWait: RateLimiterPostgres } | undefined;
 
 function limit() {
+  const l = SIGN_IN_LIMITS;
   limiters ??= {
-    email: new RateLimiterPostgres({
-      storeClient: db(),
-      storeType: 'knex',
-      tableName: 'sign_in_limits',
-      tableCreated: true,
-      keyPrefix: 'email',
-      points: SIGN_IN_LIMITS.perEmail.points,
-      duration: SIGN_IN_LIMITS.perEmail.durationS,
-      blockDuration: SIGN_IN_LIMITS.perEmail.blockS,
-    }),
-    address: new RateLimiterPostgres({
-      storeClient: db(),
-      storeType: 'knex',
-      tableName: 'sign_in_limits',
-      tableCreated: true,
-      keyPrefix: 'addr',
-      points: SIGN_IN_LIMITS.perAddress.points,
-      duration: SIGN_IN_LIMITS.perAddress.durationS,
-      blockDuration: SIGN_IN_LIMITS.perAddress.blockS,
-    }),
+    pair: limiter('pair', l.perPair.points, l.perPair.durationS, l.perPair.blockS),
+    address: limiter('addr', l.perAddress.points, l.perAddress.durationS, l.perAddress.blockS),
+    email: limiter('email', 1_000_000, l.perEmail.durationS),
+    emailWait: limiter('email-wait', 1, 1),
   };
   return limiters;
 }
 
 export type SignInOutcome =
   | { ok: true; person: { id: string; email: string; name: string } }
-  | { ok: false; reason: 'credentials' }
+  | { ok: false; reason: 'credentials' | 'unconfirmed' | 'institution' }
   | { ok: false; reason: 'throttled'; retryAfterS: number };
 
 function blockedFor(res: RateLimiterRes | null, points: number): number {
@@ -50,20 +54,41 @@ function blockedFor(res: RateLimiterRes | null, points: number): number {
   return res.consumedPoints > points || (res.consumedPoints >= points && res.msBeforeNext > 0) ? Math.ceil(res.msBeforeNext / 1000) : 0;
 }
 
+const pairKey = (email: string, address: string) => `${email}|${address}`;
+
+/** Forgets every sign-in counter of an e-mail (after a successful sign-in or a password reset). */
+export async function clearSignInCounters(emailRaw: string): Promise<void> {
+  const email = emailRaw.trim().toLowerCase();
+  await db()('sign_in_limits')
+    .where('key', `email:${email}`)
+    .orWhere('key', `email-wait:${email}`)
+    .orWhere('key', 'like', `pair:${email.replace(/[\\%_]/g, (c) => `\\${c}`)}|%`)
+    .delete();
+}
+
 /** Same answer and about the same time whether the e-mail is unknown, inactive or the password wrong. */
 export async function checkSignIn(emailRaw: string, password: string, address: string): Promise<SignInOutcome> {
   const email = emailRaw.trim().toLowerCase().slice(0, 254);
-  const { email: byEmail, address: byAddress } = limit();
-  const [e, a] = await Promise.all([byEmail.get(email), byAddress.get(address)]);
-  const wait = Math.max(blockedFor(e, SIGN_IN_LIMITS.perEmail.points), blockedFor(a, SIGN_IN_LIMITS.perAddress.points));
+  const l = limit();
+  const [p, a, w] = await Promise.all([l.pair.get(pairKey(email, address)), l.address.get(address), l.emailWait.get(email)]);
+  const wait = Math.max(blockedFor(p, SIGN_IN_LIMITS.perPair.points), blockedFor(a, SIGN_IN_LIMITS.perAddress.points), blockedFor(w, 1));
   if (wait > 0) return { ok: false, reason: 'throttled', retryAfterS: wait };
+  // people of an institution that signs in through its own identity provider: no password sign-in (a domain rule, not a secret)
+  if (email && (await passwordSignInRefusedFor(email))) return { ok: false, reason: 'institution' };
 
   const person = email ? await findForSignIn(email) : null;
   const valid = await verifyPassword(person?.passwordHash ?? (await decoyHash()), password);
   if (person && person.active && valid) {
-    await byEmail.delete(email);
+    if (!person.emailConfirmed) return { ok: false, reason: 'unconfirmed' };
+    await clearSignInCounters(email);
     return { ok: true, person: { id: person.id, email: person.email, name: person.name } };
   }
-  await Promise.all([byEmail.consume(email).catch(() => undefined), byAddress.consume(address).catch(() => undefined)]);
+  const [, , counted] = await Promise.all([
+    l.pair.consume(pairKey(email, address)).catch(() => undefined),
+    l.address.consume(address).catch(() => undefined),
+    l.email.consume(email).catch(() => undefined),
+  ]);
+  const next = emailWaitS(counted?.consumedPoints ?? 0);
+  if (next > 0) await l.emailWait.block(email, next).catch(() => undefined);
   return { ok: false, reason: 'credentials' };
 }

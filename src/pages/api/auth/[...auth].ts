@@ -1,20 +1,14 @@
 /** Auth.js endpoints (sign-in callback, session, csrf). The client address is passed on for throttling. */
 import type { APIContext, APIRoute } from 'astro';
 import { AstroAuth } from 'auth-astro/server';
-import { CLIENT_ADDRESS_HEADER } from '../../../lib/server/client-address';
+import { CLIENT_ADDRESS_HEADER, clientAddressOf } from '../../../lib/server/client-address';
 import { errorResponse } from '../../../lib/server/http';
 
 const handlers = AstroAuth();
 
 async function withClientAddress(ctx: APIContext): Promise<APIContext> {
   const headers = new Headers(ctx.request.headers);
-  let address = 'unknown';
-  try {
-    address = ctx.clientAddress;
-  } catch {
-    /* not available (e.g. in some test harnesses) */
-  }
-  headers.set(CLIENT_ADDRESS_HEADER, address);
+  headers.set(CLIENT_ADDRESS_HEADER, clientAddressOf(ctx));
   const body = ctx.request.method === 'GET' || ctx.request.method === 'HEAD' ? undefined : await ctx.request.arrayBuffer();
   const request = new Request(ctx.request.url, { method: ctx.request.method, headers, body });
   return { cookies: ctx.cookies, request } as APIContext;

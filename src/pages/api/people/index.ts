@@ -1,7 +1,8 @@
 import { z } from 'zod';
-import { json, readQuery, requireRole, route } from '../../../lib/server/http';
+import { json, readJson, readQuery, requireRole, route } from '../../../lib/server/http';
+import { invitePerson } from '../../../lib/server/accounts';
 import { listPeople } from '../../../lib/server/people';
-import { page, pageSize, role, searchText } from '../../../lib/schemas';
+import { email, page, pageSize, personName, role, searchText } from '../../../lib/schemas';
 
 const query = z.object({
   q: searchText,
@@ -23,4 +24,14 @@ export const GET = route(async ({ locals, url }) => {
     pageSize: opts.pageSize,
     rows: rows.map((p) => ({ id: p.id, email: p.email, name: p.name, roles: p.roles, active: p.active, createdAt: p.createdAt.toISOString(), tier: p.tier, costCentre: p.costCentre })),
   });
+});
+
+const invite = z.object({ name: personName, email, roles: z.array(role).max(4).default(['member']) }).strict();
+
+/** POST /api/people (admin) {name, email, roles} → 201: the person is created without a password and e-mailed an invitation link to set one; 409 `email_taken`. */
+export const POST = route(async ({ locals, request }) => {
+  const admin = requireRole(locals, 'admin');
+  const input = await readJson(request, invite);
+  const p = await invitePerson(admin.id, input);
+  return json({ id: p.id, email: p.email, name: p.name, roles: p.roles, active: p.active, createdAt: p.createdAt.toISOString(), tier: p.tier, costCentre: p.costCentre }, 201);
 });
