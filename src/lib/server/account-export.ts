@@ -7,7 +7,7 @@
 import { stringify } from 'csv-stringify/sync';
 import { strToU8, zipSync } from 'fflate';
 import { db } from './db';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { safeCell } from '../csv';
 
 export interface PersonalData {

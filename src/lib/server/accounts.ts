@@ -8,7 +8,7 @@ import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { env } from './env';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { queueMail } from './mail';
 import { hashPassword, verifyPassword } from './passwords';
 import { createPerson, EmailTaken, getPerson, type Person } from './people';

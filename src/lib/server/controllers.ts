@@ -11,7 +11,7 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { env } from './env';
 import { recordAudit } from './audit';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 import { canOperate } from './clearances';
 import { checkIn, checkOut, getSession, machineCoolant, type MachineSession } from './sessions';
 import { assertCanBook, getCharge, type Charge } from './payments';

@@ -5,7 +5,7 @@
  */
 import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
 import { db } from './db';
-import { HttpError } from './http';
+import { HttpError } from './errors';
 
 export type LimitedAction = 'signup' | 'reset' | 'resend';
 
