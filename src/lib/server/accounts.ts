@@ -14,7 +14,7 @@ import { hashPassword, verifyPassword } from './passwords';
 import { createPerson, EmailTaken, getPerson, type Person } from './people';
 import { getSettings, publicBaseUrl } from './settings';
 import { clearSignInCounters } from './sign-in';
-import { cancelFutureBookingsOf, releaseHoldsAfterCancel } from './bookings';
+import { cancelFutureBookingsOf } from './bookings';
 import { passwordProblem } from '../password-rules';
 import type { Role } from '../roles';
 
@@ -216,7 +216,8 @@ export const CLOSED_NAME = 'Closed account';
  * stay for the records, now under the placeholder name. Audited as `person.closed`.
  */
 export async function closeAccount(personId: string, password: string | null): Promise<void> {
-  const cancelled = await transaction(async (trx) => {
+  // the cancelled bookings' card holds are released by the worker (intents recorded with the cancellations)
+  await transaction(async (trx) => {
     const p = await trx('people').where({ id: personId }).forUpdate().first('id', 'name', 'email', 'password_hash', 'closed_at');
     if (!p || p.closed_at) throw new HttpError(404, 'person_not_found', 'No open account.');
     if (password !== null && !(await verifyPassword(p.password_hash, password))) throw new HttpError(403, 'wrong_password', 'The password is not right.');
@@ -248,5 +249,4 @@ export async function closeAccount(personId: string, password: string | null): P
     });
     return ids;
   });
-  await releaseHoldsAfterCancel(cancelled, 'account closed', personId);
 }
