@@ -6,6 +6,7 @@
 import PgBoss from 'pg-boss';
 import type { Knex } from 'knex';
 import { env } from './env';
+import { onShutdown } from './log';
 
 /** Every queue, with its retry policy. Add a queue here, then its handler in src/lib/server/worker.ts. */
 export const QUEUES = {
@@ -39,6 +40,7 @@ export function jobs(): Promise<PgBoss> {
     b.on('error', (err) => console.error('[jobs]', err.message));
     await b.start();
     boss = b;
+    onShutdown('job queue', stopJobs);
     return b;
   })().catch((err) => {
     starting = undefined;

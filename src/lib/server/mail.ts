@@ -33,11 +33,15 @@ export async function queueMail(trx: Knex.Transaction | null, to: string, subjec
 let transport: Transporter | undefined;
 
 function smtp(): Transporter {
+  const e = env();
   transport ??= nodemailer.createTransport({
-    host: env().SMTP_HOST,
-    port: env().SMTP_PORT,
-    secure: false,
-    ignoreTLS: env().SMTP_HOST === '127.0.0.1',
+    host: e.SMTP_HOST,
+    port: e.SMTP_PORT,
+    // SMTP_TLS: tls = implicit TLS (465); starttls = upgrade and refuse to go on without it; none = plain (the local fake)
+    secure: e.SMTP_TLS === 'tls',
+    requireTLS: e.SMTP_TLS === 'starttls',
+    ignoreTLS: e.SMTP_TLS === 'none',
+    ...(e.SMTP_USER ? { auth: { user: e.SMTP_USER, pass: e.SMTP_PASSWORD } } : {}),
     connectionTimeout: 5000,
     greetingTimeout: 5000,
     socketTimeout: 10000,

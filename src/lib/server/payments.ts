@@ -25,6 +25,7 @@ import type { Knex } from 'knex';
 import { stringify } from 'csv-stringify/sync';
 import { db, pgCode, PG, transaction } from './db';
 import { env } from './env';
+import { log } from './log';
 import { enqueue } from './jobs';
 import { queueMail } from './mail';
 import { recordAudit } from './audit';
@@ -40,14 +41,27 @@ let client: Stripe | undefined;
 
 function provider(): Stripe {
   client ??= new Stripe(env().STRIPE_SECRET_KEY, {
-    host: env().STRIPE_API_HOST,
-    port: env().STRIPE_API_PORT,
-    protocol: env().STRIPE_API_PROTOCOL,
+    ...apiAddress(),
     // retries are ours (pg-boss), with the same idempotency key
     maxNetworkRetries: 0,
     timeout: 10_000,
   });
+  // one line per provider call: method, path, status and time; never the key, the body or card details
+  client.on('response', (r: Stripe.ResponseEvent) => {
+    log.info({ event: 'provider_call', provider: 'payments', method: r.method, path: r.path, status: r.status, durationMs: r.elapsed, providerRequestId: r.request_id }, 'payment provider call');
+  });
   return client;
+}
+
+/** STRIPE_API_BASE (a URL) when set, else the host, port and protocol of the local fake. */
+function apiAddress(): { host: string; port: number; protocol: 'http' | 'https' } {
+  const e = env();
+  if (e.STRIPE_API_BASE) {
+    const u = new URL(e.STRIPE_API_BASE);
+    const protocol = u.protocol === 'http:' ? 'http' : 'https';
+    return { host: u.hostname, port: u.port ? Number(u.port) : protocol === 'https' ? 443 : 80, protocol };
+  }
+  return { host: e.STRIPE_API_HOST, port: e.STRIPE_API_PORT, protocol: e.STRIPE_API_PROTOCOL };
 }
 
 type ProviderError = { type?: string; code?: string; message?: string; statusCode?: number };

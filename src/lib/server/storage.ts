@@ -13,7 +13,7 @@ function s3(): S3Client {
   client ??= new S3Client({
     endpoint: env().S3_ENDPOINT,
     region: env().S3_REGION,
-    forcePathStyle: true,
+    forcePathStyle: env().S3_FORCE_PATH_STYLE,
     credentials: { accessKeyId: env().S3_ACCESS_KEY_ID, secretAccessKey: env().S3_SECRET_ACCESS_KEY },
   });
   return client;

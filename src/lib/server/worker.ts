@@ -12,6 +12,7 @@ import { sweepClearances } from './clearances';
 import { sweepOpenSessions } from './sessions';
 import { remindUpkeep } from './upkeep';
 import { db } from './db';
+import { log } from './log';
 
 type Handler = (data: unknown) => Promise<void>;
 
@@ -68,7 +69,16 @@ export async function startWorker(): Promise<PgBoss> {
   for (const [name, handle] of Object.entries(handlers) as [QueueName, Handler][]) {
     for (let i = 0; i < (LOOPS[name] ?? 1); i++) {
       await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1 }, async (batch) => {
-        for (const job of batch) await handle(job.data);
+        for (const job of batch) {
+          const started = performance.now();
+          try {
+            await handle(job.data);
+            log.info({ event: 'job', queue: name, jobId: job.id, outcome: 'done', durationMs: Math.round(performance.now() - started) }, 'job');
+          } catch (err) {
+            log.warn({ event: 'job', queue: name, jobId: job.id, outcome: 'failed, will retry', durationMs: Math.round(performance.now() - started), err: { message: (err as Error)?.message, code: (err as { code?: string })?.code } }, 'job');
+            throw err;
+          }
+        }
       });
     }
   }
