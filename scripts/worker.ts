@@ -19,11 +19,11 @@ try {
 // concerned expires and is retried by its queue. Log such a failure and keep running rather than exit: a worker
 // that stopped would leave every later e-mail and payment retry waiting.
 process.on('unhandledRejection', (err) => {
-  console.error('worker: a background call failed and will be retried:', err instanceof Error ? err.message : err);
+  log.warn({ event: 'error', message: err instanceof Error ? err.message : String(err) }, 'a background call failed and will be retried');
 });
 
 const boss = await startWorker();
-console.log('worker: running');
+log.info({ event: 'listening' }, 'worker running');
 const stop = async () => {
   log.info({ event: 'shutdown' }, 'worker stopping: finishing the job in hand');
   await boss.stop({ graceful: true, timeout: env().SHUTDOWN_TIMEOUT_MS, wait: true });

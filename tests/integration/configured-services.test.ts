@@ -81,8 +81,9 @@ beforeAll(async () => {
 
   const mail = spawnService({ dataDir }, 'maildev', maildevArgs({ dataDir, smtpPort: ports.smtp, mailWebPort: ports.mailWeb }));
   const storage = startStorageFake({ dataDir, s3Port: ports.s3 });
-  await waitUntil('the second mail fake', () => portOpen(ports.mailWeb));
-  await waitUntil('the second storage fake', () => portOpen(ports.s3));
+  // generous: maildev takes a while to start on a busy machine
+  await waitUntil('the second mail fake', async () => (await portOpen(ports.smtp)) && portOpen(ports.mailWeb), 120_000);
+  await waitUntil('the second storage fake', () => portOpen(ports.s3), 60_000);
   const appEnv = {
     NODE_ENV: 'production',
     PORT: String(ports.app),
@@ -99,8 +100,8 @@ beforeAll(async () => {
   await waitUntil('the second app', async () => {
     if (app.child.exitCode !== null || mail.child.exitCode !== null || storage.child.exitCode !== null) throw new Error('a second service exited early');
     return portOpen(ports.app);
-  });
-}, 180_000);
+  }, 60_000);
+}, 360_000);
 
 afterAll(async () => {
   await stopServices();

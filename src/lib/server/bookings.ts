@@ -32,6 +32,7 @@ import {
 import { buildIcs } from '../ics';
 import { checkDeclaredMaterials } from './materials';
 import { assertCanBook, chargeBookingFee, holdForBooking, releaseHoldsForBooking } from './payments';
+import { log } from './log';
 
 type Conn = Knex | Knex.Transaction;
 
@@ -202,7 +203,7 @@ async function placeHold(b: Booking): Promise<string | null> {
     }
     if (err instanceof HttpError && err.status === 503) return 'The payment service is not answering; the hold is retried and your booking stands.';
     if (err instanceof HttpError && err.code === 'not_priced') return 'This machine has no price for your tier yet, so nothing is held now; your booking stands.';
-    console.error('booking hold failed', err);
+    log.error({ event: 'error', err }, 'booking hold failed');
     return 'The card hold could not be placed; your booking stands and beam time is charged at check-out.';
   }
 }
@@ -323,7 +324,7 @@ async function settleCancelled(b: Booking, actorId: string | null): Promise<void
       await releaseHoldsForBooking(b.id, 'cancelled in time', { notify: false, actorId });
     }
   } catch (err) {
-    console.error(`billing after cancelling booking ${b.id} failed`, err);
+    log.error({ event: 'error', bookingId: b.id, err }, 'billing after cancelling a booking failed');
   }
 }
 
@@ -431,7 +432,7 @@ export async function releaseHoldsAfterCancel(bookingIds: readonly string[], rea
     try {
       await releaseHoldsForBooking(id, reason, { notify, actorId });
     } catch (err) {
-      console.error(`releasing the holds of booking ${id} failed`, err);
+      log.error({ event: 'error', bookingId: id, err }, 'releasing the holds of a booking failed');
     }
   }
 }
@@ -775,7 +776,7 @@ export async function sweepBookings(now = new Date()): Promise<{ noShows: number
     try {
       await chargeBookingFee({ personId: b.person_id, machineId: b.machine_id, bookingId: b.id, startsAt: b.starts_at, fee: 'no_show' });
     } catch (err) {
-      console.error(`no-show fee for booking ${b.id} failed`, err);
+      log.error({ event: 'error', bookingId: b.id, err }, 'no-show fee failed');
     }
   }
   return { noShows: r.noShows, expiredHolds: r.expiredHolds };

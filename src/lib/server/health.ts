@@ -17,7 +17,8 @@ export interface Readiness {
   checks: { database: Check; migrations: Check & { applied?: number; pending?: number }; jobQueue: Check };
 }
 
-const TIMEOUT_MS = 2500;
+// generous: a loaded machine can take seconds to answer, and a 503 takes the process out of a load balancer
+const TIMEOUT_MS = 5000;
 
 function within<T>(p: Promise<T>, ms = TIMEOUT_MS): Promise<T> {
   return Promise.race([p, new Promise<never>((_, reject) => setTimeout(() => reject(new Error('timed out')), ms).unref())]);

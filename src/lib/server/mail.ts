@@ -6,6 +6,7 @@ import nodemailer, { type Transporter } from 'nodemailer';
 import type { Knex } from 'knex';
 import { env } from './env';
 import { enqueue } from './jobs';
+import { log } from './log';
 import { renderEmail, type EmailContent } from '../email-layout';
 
 export interface MailAttachment {
@@ -51,7 +52,8 @@ function smtp(): Transporter {
 
 /** Sends one message now; throws when the server is unreachable (the worker retries). */
 export async function sendMailNow(message: MailMessage): Promise<void> {
-  await smtp().sendMail({
+  const started = performance.now();
+  const sent = await smtp().sendMail({
     from: env().MAIL_FROM,
     to: message.to,
     subject: message.subject,
@@ -63,4 +65,6 @@ export async function sendMailNow(message: MailMessage): Promise<void> {
       content: Buffer.from(a.content, 'base64'),
     })),
   });
+  // the provider call, without the server's credentials or the message body
+  log.info({ event: 'provider_call', provider: 'mail', outcome: 'sent', messageId: sent.messageId, attachments: message.attachments?.length ?? 0, durationMs: Math.round(performance.now() - started) }, 'mail sent');
 }

@@ -5,6 +5,7 @@ import { getSettings } from '../../lib/server/settings';
 import { auditFilterQuery, toAuditFilter } from '../../lib/audit-filter';
 import { safeCell } from '../../lib/csv';
 import { formatZoned } from '../../lib/zoned-time';
+import { log } from '../../lib/server/log';
 
 /**
  * GET /api/audit.csv?actor=&kind=&q=&from=&to= (admin) → every audit row that matches the filter,
@@ -42,7 +43,7 @@ export const GET = route(async ({ locals, url }) => {
           chunk.push(line(next.value));
         }
       } catch (err) {
-        console.error('[api] GET /api/audit.csv:', err);
+        log.error({ event: 'error', route: '/api/audit.csv', err }, 'audit export failed');
         controller.error(err);
         return;
       }
