@@ -4,7 +4,6 @@
  * states and counts only — no addresses, names or secrets.
  */
 import { db } from './db';
-import { jobs } from './jobs';
 
 export type CheckState = 'up' | 'down' | 'current' | 'pending' | 'unknown';
 export interface Check {
@@ -49,7 +48,11 @@ export async function readiness(expected: readonly string[] = __BEAMWARDEN_MIGRA
         return { state: pending === 0 ? 'current' : 'pending', applied: applied.length, pending } as Readiness['checks']['migrations'];
       })
       .catch((err): Check => ({ state: 'unknown', detail: reason(err) })),
-    timed(async () => (await jobs()).getQueues())
+    // the queue lives in PostgreSQL (pg-boss): its schema answers and holds the queues the worker serves
+    timed(async () => {
+      const row = (await db().raw('SELECT count(*)::int AS n FROM pgboss.queue')) as { rows: { n: number }[] };
+      if (!row.rows[0] || row.rows[0].n === 0) throw Object.assign(new Error('no queues'), { code: 'NO_QUEUES' });
+    })
       .then((r): Check => ({ state: 'up', ms: r.ms }))
       .catch((err): Check => ({ state: 'down', detail: reason(err) })),
   ]);
