@@ -40,7 +40,8 @@ import { breakdownOf, formatMoney, settle, type Breakdown, type Tier } from '../
 let client: Stripe | undefined;
 
 function provider(): Stripe {
-  client ??= new Stripe(env().STRIPE_SECRET_KEY, {
+  if (client) return client;
+  client = new Stripe(env().STRIPE_SECRET_KEY, {
     ...apiAddress(),
     // retries are ours (pg-boss), with the same idempotency key
     maxNetworkRetries: 0,
