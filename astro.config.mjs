@@ -4,6 +4,7 @@ import node from '@astrojs/node';
 import react from '@astrojs/react';
 import tailwindcss from '@tailwindcss/vite';
 import auth from 'auth-astro';
+import fs from 'node:fs';
 
 /**
  * Host names the server answers to. Astro only trusts a request's host when it is listed here;
@@ -26,6 +27,8 @@ export default defineConfig({
   },
   vite: {
     plugins: [tailwindcss()],
+    // the schema this build expects: /readyz reports "migrations current" against this list
+    define: { __BEAMWARDEN_MIGRATIONS__: JSON.stringify(fs.readdirSync('./migrations').filter((f) => f.endsWith('.ts')).sort()) },
     ssr: {
       external: ['@node-rs/argon2', 'sharp', 'pg', 'knex', 'pg-boss'],
     },

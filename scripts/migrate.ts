@@ -5,7 +5,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { pathToFileURL } from 'node:url';
-import knexFactory from 'knex';
+import knexFactory, { type Knex } from 'knex';
 import config from '../knexfile';
 import { installQueues } from '../src/lib/server/jobs';
 
@@ -14,7 +14,25 @@ if (!url) {
   console.error('DATABASE_URL is not set');
   process.exit(1);
 }
-const knex = knexFactory({ ...config, connection: url });
+/**
+ * Under tsx the migrations are read from migrations/*.ts; bundled (node dist/scripts/migrate.mjs, see
+ * scripts/bundle.mjs) they are the compiled dist/migrations/*.mjs, recorded under their .ts names so both
+ * ways see the same history.
+ */
+const bundled = import.meta.url.endsWith('.mjs');
+const compiledDir = path.resolve(import.meta.dirname, '..', 'migrations');
+const migrationSource: Knex.MigrationSource<string> = {
+  getMigrations: async () => fs.readdirSync(compiledDir).filter((f) => f.endsWith('.mjs')).sort(),
+  getMigrationName: (f) => f.replace(/\.mjs$/, '.ts'),
+  getMigration: async (f) => (await import(pathToFileURL(path.join(compiledDir, f)).href)) as Knex.Migration,
+};
+const knex = bundled
+  ? knexFactory({ client: config.client, connection: url, pool: config.pool, migrations: { tableName: 'knex_migrations', migrationSource } })
+  : knexFactory({ ...config, connection: url });
+if (bundled && process.argv.includes('--seed-if-empty')) {
+  console.error('The demo seed runs only from the source checkout (npm start); the production migrate does not seed.');
+  process.exit(1);
+}
 try {
   const [, applied] = (await knex.migrate.latest()) as [number, string[]];
   console.log(applied.length ? `• Applied ${applied.length} migration(s)` : '• The schema is up to date');

@@ -1,6 +1,7 @@
 /**
  * npm run restore FILE [-- --database NAME]: restores a backup made by `npm run backup` into an EMPTY
- * database, in one transaction (all or nothing).
+ * database, in one transaction (all or nothing), then puts back the uploaded files saved beside it
+ * (beamwarden-<stamp>.files/) that the storage bucket is missing; files already there are left as they are.
  *
  * The target is PG_DATABASE (default `beamwarden`, the demo's) or --database NAME. A target that does
  * not exist is created here, owned by the app role. A target that holds any table is refused: restore
@@ -11,7 +12,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { ROOT, ensureDatabase, fail, say } from './lib/stack';
-import { checkArchive, openCluster, pgTool, userTables } from './lib/backups';
+import { checkArchive, openCluster, openFileStore, pgTool, restoreFiles, userTables } from './lib/backups';
 
 const args = process.argv.slice(2);
 let file: string | undefined;
@@ -53,6 +54,18 @@ try {
   if (r.status !== 0) fail(`pg_restore failed; nothing was restored (one transaction):\n${r.out}`);
   const tables = await userTables(target, name);
   say(`Restored ${tables.length} tables into ${name}.${name !== target.cfg.dbName ? ` Start the app on it with PG_DATABASE=${name} npm start.` : ''}`);
+  const filesDir = archive.replace(/\.dump$/, '.files');
+  if (fs.existsSync(path.join(filesDir, 'manifest.json'))) {
+    const store = await openFileStore(target.cfg);
+    try {
+      const r = await restoreFiles(store, filesDir);
+      say(`Restored ${r.restored} uploaded file(s) into bucket ${store.bucket} (${r.present} were already there)`);
+    } finally {
+      await store.close();
+    }
+  } else {
+    say('This backup has no uploaded files beside it (made before files were backed up): only the database was restored.');
+  }
 } finally {
   target.done();
 }

@@ -5,10 +5,13 @@
 import path from 'node:path';
 import {
   ROOT, HOST, appEnv, assertPortFree, buildApp, ensurePostgres, loadSecrets, runNode,
-  say, spawnService, startFakes, startIdentityProviderFake, stopPostgres, stopServices, waitForPort, demoConfig,
+  say, spawnService, startIdentityProviderFake, stopPostgres, stopServices, waitForPort, demoConfig,
+  configuredServices, startUnconfiguredFakes, withConfiguredServices,
 } from './lib/stack';
 
 const cfg = demoConfig();
+// a service set in the environment (DATABASE_URL, SMTP_HOST, S3_ENDPOINT, STRIPE_SECRET_KEY/STRIPE_API_BASE) is used as given
+const configured = configuredServices();
 
 let pgData: string | undefined;
 let pgStartedHere = false;
@@ -31,18 +34,23 @@ process.on('SIGTERM', () => void shutdown(0));
 
 await assertPortFree(cfg.appPort, 'the app (PORT)');
 const secrets = loadSecrets(cfg);
-const pgInfo = await ensurePostgres(cfg, secrets);
-pgData = pgInfo.pgData;
-pgStartedHere = pgInfo.startedHere;
+if (configured.database) {
+  say('database: using DATABASE_URL (no local cluster)');
+} else {
+  const pgInfo = await ensurePostgres(cfg, secrets);
+  pgData = pgInfo.pgData;
+  pgStartedHere = pgInfo.startedHere;
+}
 
-const env = appEnv(cfg, secrets);
-runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding');
-await startFakes(cfg);
+const env = withConfiguredServices(appEnv(cfg, secrets), configured);
+// the demo scenario is loaded only into the local cluster, never into a configured database
+runNode(['--import', 'tsx', 'scripts/migrate.ts', ...(configured.database ? [] : ['--seed-if-empty'])], env, 'Migrating and seeding');
+await startUnconfiguredFakes(cfg, configured);
 Object.assign(env, await startIdentityProviderFake(cfg, 'OIDC_PORT', 9400));
 buildApp(path.join(ROOT, 'dist'), env);
 
-const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist/server/entry.mjs')], env, true);
-const worker = spawnService(cfg, 'worker', ['--import', 'tsx', path.join(ROOT, 'scripts/worker.ts')], env, true);
+const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist/scripts/serve.mjs')], env, true);
+const worker = spawnService(cfg, 'worker', [path.join(ROOT, 'dist/scripts/worker.mjs')], env, true);
 for (const s of [app, worker]) {
   s.child.once('exit', (code) => {
     if (!stopping) {
@@ -66,11 +74,12 @@ ${line}
     newbie@tidewater.example      member, no clearance yet
     student@tidewater.example     member, student tier
 
-  Local services (loopback only)
-    PostgreSQL      ${HOST}:${cfg.pgPort}  database ${cfg.dbName}
-    Mail (maildev)  http://${HOST}:${cfg.mailWebPort}  (SMTP ${cfg.smtpPort})
-    Payments fake   http://${HOST}:${cfg.stripePort}
-    Storage fake    http://${HOST}:${cfg.s3Port}
+  Services
+    PostgreSQL      ${configured.database ? 'configured (DATABASE_URL)' : `${HOST}:${cfg.pgPort}  database ${cfg.dbName}`}
+    Mail            ${configured.mail ? `configured (SMTP_HOST ${process.env.SMTP_HOST})` : `maildev http://${HOST}:${cfg.mailWebPort}  (SMTP ${cfg.smtpPort})`}
+    Payments        ${configured.payments ? 'configured (STRIPE_SECRET_KEY)' : `fake http://${HOST}:${cfg.stripePort}`}
+    Storage         ${configured.storage ? `configured (S3_ENDPOINT ${process.env.S3_ENDPOINT})` : `fake http://${HOST}:${cfg.s3Port}`}
+    Health          http://${HOST}:${cfg.appPort}/readyz
 
   Data: ${path.relative(ROOT, cfg.dataDir)}/   Press Ctrl-C to stop everything.
 ${line}

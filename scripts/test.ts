@@ -63,8 +63,8 @@ await startFakes(cfg);
 Object.assign(env, await startIdentityProviderFake(cfg, 'TEST_OIDC_PORT', 9410));
 buildApp(path.join(ROOT, 'dist-test'), env);
 
-const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-test/server/entry.mjs')], env);
-const worker = spawnService(cfg, 'worker', ['--import', 'tsx', path.join(ROOT, 'scripts/worker.ts')], env);
+const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-test/scripts/serve.mjs')], env);
+const worker = spawnService(cfg, 'worker', [path.join(ROOT, 'dist-test/scripts/worker.mjs')], env);
 await waitForPort(cfg.appPort, 'the test app', app.child);
 if (worker.child.exitCode !== null) console.error('✖ The worker exited early; see .data/test/logs/worker.log');
 

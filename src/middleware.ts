@@ -2,7 +2,9 @@
  * Runs before every page and API route: refuses cross-site writes and oversize or unframed request bodies, resolves the session
  * once into Astro.locals.person and adds the security headers to every answer.
  */
+import { randomUUID } from 'node:crypto';
 import { defineMiddleware } from 'astro:middleware';
+import { currentRequest } from './lib/server/log';
 import { errorResponse } from './lib/server/http';
 import { resolvePerson } from './lib/server/session';
 import { inlineScriptHashes, pagePolicy, securityHeaders } from './lib/server/security-headers';
@@ -36,11 +38,16 @@ function bodyRefusal(request: Request, url: URL): Response | null {
 
 export const onRequest = defineMiddleware(async (ctx, next) => {
   ctx.locals.person = null;
+  // the request id and route go to the server wrapper's one log line per request (scripts/serve.ts)
+  const context = currentRequest();
+  ctx.locals.requestId = context?.requestId ?? randomUUID();
+  if (context) context.route = ctx.routePattern;
   const path = ctx.url.pathname;
   let response = bodyRefusal(ctx.request, ctx.url);
   if (!response) {
     if (!path.startsWith('/_astro/') && !path.startsWith('/api/auth/')) {
       ctx.locals.person = await resolvePerson(ctx.request);
+      if (context && ctx.locals.person) context.personId = ctx.locals.person.id;
     }
     response = await next();
   }

@@ -4,10 +4,15 @@
  * password in the child's environment, never on its command line.
  */
 import { spawnSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
+import { CreateBucketCommand, GetObjectCommand, HeadObjectCommand, ListObjectsV2Command, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import fs from 'node:fs';
 import path from 'node:path';
 import pg from 'pg';
-import { PG_BIN, HOST, databaseUrl, demoConfig, ensurePostgres, fail, loadSecrets, say, stopPostgres, type Secrets, type StackConfig } from './stack';
+import {
+  PG_BIN, HOST, databaseUrl, demoConfig, ensurePostgres, fail, loadSecrets, portOpen, say, startStorageFake, stopPostgres, stopServices, waitForPort,
+  type Secrets, type StackConfig,
+} from './stack';
 
 export interface Target {
   cfg: StackConfig;
@@ -81,4 +86,138 @@ export async function userTables(t: Target, database: string): Promise<string[]>
 export function checkArchive(t: Target, file: string): void {
   const r = pgTool(t, 'pg_restore', ['--list', file], 'postgres');
   if (r.status !== 0) fail(`${file} is not a backup made by \`npm run backup\` (a pg_dump custom-format archive):\n${r.out}`);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Uploaded files (fault photos, safety data sheets): copied from object storage next to the dump as
+// <backup>.files/<key> with a manifest, and put back by restore. Storage is the configured one
+// (S3_ENDPOINT, S3_BUCKET, keys) or, when none is configured, the local storage fake of `npm start`,
+// started for the copy when it is not running.
+
+export interface FileStore {
+  client: S3Client;
+  bucket: string;
+  /** Stop the storage fake again when this run started it. */
+  close: () => Promise<void>;
+}
+
+export async function openFileStore(cfg: StackConfig): Promise<FileStore> {
+  let startedHere = false;
+  let endpoint = process.env.S3_ENDPOINT;
+  if (!endpoint) {
+    endpoint = `http://${HOST}:${cfg.s3Port}`;
+    if (!(await portOpen(cfg.s3Port))) {
+      say(`Starting the local storage fake on ${HOST}:${cfg.s3Port} for the files`);
+      const s = startStorageFake(cfg);
+      await waitForPort(cfg.s3Port, 'the storage fake', s.child);
+      startedHere = true;
+    }
+  }
+  const client = new S3Client({
+    endpoint,
+    region: process.env.S3_REGION ?? 'us-east-1',
+    forcePathStyle: !['false', '0'].includes(process.env.S3_FORCE_PATH_STYLE ?? 'true'),
+    credentials: { accessKeyId: process.env.S3_ACCESS_KEY_ID ?? 'S3RVER', secretAccessKey: process.env.S3_SECRET_ACCESS_KEY ?? 'S3RVER' },
+  });
+  return {
+    client,
+    bucket: process.env.S3_BUCKET ?? 'beamwarden-uploads',
+    close: async () => {
+      client.destroy();
+      if (startedHere) await stopServices();
+    },
+  };
+}
+
+interface ManifestEntry {
+  key: string;
+  contentType: string;
+  bytes: number;
+  sha256: string;
+}
+
+const safeKey = (key: string) => key.length > 0 && !key.split('/').some((part) => part === '' || part === '.' || part === '..');
+
+/** Copies every object of the bucket into `dir` (created 0700) with manifest.json; returns the count and bytes. */
+export async function backupFiles(store: FileStore, dir: string): Promise<{ files: number; bytes: number }> {
+  fs.mkdirSync(path.join(dir, 'objects'), { recursive: true, mode: 0o700 });
+  const manifest: ManifestEntry[] = [];
+  let token: string | undefined;
+  let missingBucket = false;
+  do {
+    let page;
+    try {
+      page = await store.client.send(new ListObjectsV2Command({ Bucket: store.bucket, ContinuationToken: token }));
+    } catch (err) {
+      if ((err as { name?: string }).name === 'NoSuchBucket') {
+        missingBucket = true;
+        break;
+      }
+      throw err;
+    }
+    for (const o of page.Contents ?? []) {
+      if (!o.Key || !safeKey(o.Key)) continue;
+      const got = await store.client.send(new GetObjectCommand({ Bucket: store.bucket, Key: o.Key }));
+      const bytes = Buffer.from(await got.Body!.transformToByteArray());
+      const file = path.join(dir, 'objects', o.Key);
+      fs.mkdirSync(path.dirname(file), { recursive: true, mode: 0o700 });
+      fs.writeFileSync(file, bytes, { mode: 0o600 });
+      manifest.push({ key: o.Key, contentType: got.ContentType ?? 'application/octet-stream', bytes: bytes.byteLength, sha256: createHash('sha256').update(bytes).digest('hex') });
+    }
+    token = page.IsTruncated ? page.NextContinuationToken : undefined;
+  } while (token);
+  if (missingBucket) say(`The bucket ${store.bucket} does not exist yet: no uploaded files to copy`);
+  fs.writeFileSync(path.join(dir, 'manifest.json'), JSON.stringify({ bucket: store.bucket, files: manifest }, null, 2), { mode: 0o600 });
+  return { files: manifest.length, bytes: manifest.reduce((n, m) => n + m.bytes, 0) };
+}
+
+/** Puts back every file of a backup that the bucket is missing (never overwrites); checks each file's hash first. */
+export async function restoreFiles(store: FileStore, dir: string): Promise<{ restored: number; present: number }> {
+  const { files } = JSON.parse(fs.readFileSync(path.join(dir, 'manifest.json'), 'utf8')) as { files: ManifestEntry[] };
+  try {
+    await store.client.send(new ListObjectsV2Command({ Bucket: store.bucket, MaxKeys: 1 }));
+  } catch (err) {
+    if ((err as { name?: string }).name !== 'NoSuchBucket') throw err;
+    await store.client.send(new CreateBucketCommand({ Bucket: store.bucket }));
+  }
+  let restored = 0;
+  let present = 0;
+  for (const f of files) {
+    if (!safeKey(f.key)) fail(`The backup names a file outside its folder (${f.key}); nothing more was restored.`);
+    const bytes = fs.readFileSync(path.join(dir, 'objects', f.key));
+    if (createHash('sha256').update(bytes).digest('hex') !== f.sha256) fail(`The backed-up file ${f.key} is damaged (its checksum does not match).`);
+    try {
+      await store.client.send(new HeadObjectCommand({ Bucket: store.bucket, Key: f.key }));
+      present++;
+      continue;
+    } catch (err) {
+      const e = err as { name?: string; $metadata?: { httpStatusCode?: number } };
+      if (e.name !== 'NotFound' && e.$metadata?.httpStatusCode !== 404) throw err;
+    }
+    await store.client.send(new PutObjectCommand({ Bucket: store.bucket, Key: f.key, Body: bytes, ContentType: f.contentType, ContentLength: bytes.byteLength }));
+    restored++;
+  }
+  return { restored, present };
+}
+
+/** Keeps the newest `keep` backups (dump and files together); 0 keeps all. Returns the names removed. */
+export function pruneBackups(dir: string, keep: number): string[] {
+  if (!keep) return [];
+  const stamps = fs
+    .readdirSync(dir)
+    .map((f) => /^beamwarden-(\d{8}T\d{6}Z)\.dump$/.exec(f)?.[1])
+    .filter((s): s is string => Boolean(s))
+    .sort()
+    .reverse();
+  const removed: string[] = [];
+  for (const stamp of stamps.slice(keep)) {
+    for (const name of [`beamwarden-${stamp}.dump`, `beamwarden-${stamp}.files`]) {
+      const p = path.join(dir, name);
+      if (fs.existsSync(p)) {
+        fs.rmSync(p, { recursive: true, force: true });
+        removed.push(name);
+      }
+    }
+  }
+  return removed;
 }

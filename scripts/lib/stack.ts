@@ -566,8 +566,8 @@ function newestMtime(p: string): number {
 }
 
 export function buildApp(outDir: string, env: Record<string, string>): void {
-  const entry = path.join(outDir, 'server', 'entry.mjs');
-  const sources = ['src', 'public', 'astro.config.mjs', 'auth.config.ts', 'package-lock.json', 'tsconfig.json'].map((p) => path.join(ROOT, p));
+  const entry = path.join(outDir, 'scripts', 'serve.mjs');
+  const sources = ['src', 'public', 'astro.config.mjs', 'auth.config.ts', 'package-lock.json', 'tsconfig.json', 'migrations', 'knexfile.ts', 'scripts/serve.ts', 'scripts/worker.ts', 'scripts/migrate.ts', 'scripts/bundle.mjs'].map((p) => path.join(ROOT, p));
   const newestSource = Math.max(...sources.map(newestMtime));
   if (fs.existsSync(entry) && fs.statSync(entry).mtimeMs > newestSource) {
     say(`The app build in ${path.relative(ROOT, outDir)} is up to date`);
@@ -580,6 +580,7 @@ export function buildApp(outDir: string, env: Record<string, string>): void {
     stdio: ['ignore', 'inherit', 'inherit'],
   });
   if (r.status !== 0) fail('astro build failed (see above).');
+  runNode([path.join(ROOT, 'scripts/bundle.mjs'), outDir], {}, 'Bundling the server, worker and migrations');
 }
 
 export function runNode(args: string[], env: Record<string, string>, what: string): void {
@@ -618,4 +619,88 @@ export async function startIdentityProviderFake(cfg: Pick<StackConfig, 'dataDir'
   });
   await waitForPort(oidcPort, 'the identity provider fake', service.child);
   return settings;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Real services by configuration: a service set in the environment is used as given, and its local
+// fake is not started. Read by `npm start` (scripts/start.ts).
+
+export interface ConfiguredServices {
+  database: boolean;
+  mail: boolean;
+  storage: boolean;
+  payments: boolean;
+}
+
+export function configuredServices(source: NodeJS.ProcessEnv = process.env): ConfiguredServices {
+  return {
+    database: Boolean(source.DATABASE_URL),
+    mail: Boolean(source.SMTP_HOST),
+    storage: Boolean(source.S3_ENDPOINT),
+    payments: Boolean(source.STRIPE_API_BASE || source.STRIPE_SECRET_KEY),
+  };
+}
+
+const SERVICE_VARS: Record<keyof ConfiguredServices, string[]> = {
+  database: ['DATABASE_URL', 'DATABASE_POOL_MAX'],
+  mail: ['SMTP_HOST', 'SMTP_PORT', 'SMTP_USER', 'SMTP_PASSWORD', 'SMTP_TLS', 'MAIL_FROM'],
+  storage: ['S3_ENDPOINT', 'S3_REGION', 'S3_BUCKET', 'S3_ACCESS_KEY_ID', 'S3_SECRET_ACCESS_KEY', 'S3_FORCE_PATH_STYLE'],
+  payments: ['STRIPE_SECRET_KEY', 'STRIPE_WEBHOOK_SECRET', 'STRIPE_API_BASE'],
+};
+
+/** The app's environment with every configured service's variables taken from `source` instead of the fakes'. */
+export function withConfiguredServices(base: Record<string, string>, configured: ConfiguredServices, source: NodeJS.ProcessEnv = process.env): Record<string, string> {
+  const out = { ...base };
+  for (const [service, names] of Object.entries(SERVICE_VARS) as [keyof ConfiguredServices, string[]][]) {
+    if (!configured[service]) continue;
+    for (const n of names) {
+      const v = source[n];
+      if (v !== undefined) out[n] = v;
+      else if (n !== 'DATABASE_URL') delete out[n];
+    }
+  }
+  if (configured.mail) delete out.MAILDEV_URL;
+  if (configured.payments) {
+    out.STRIPE_API_BASE ??= 'https://api.stripe.com';
+    for (const n of ['STRIPE_API_HOST', 'STRIPE_API_PORT', 'STRIPE_API_PROTOCOL']) delete out[n];
+  }
+  return out;
+}
+
+/** Starts the local fake of each service the environment does not configure; says which it started and which it left to configuration. */
+export async function startUnconfiguredFakes(cfg: StackConfig, configured: ConfiguredServices): Promise<string[]> {
+  const wanted: [string, number, () => Service][] = [];
+  if (!configured.mail) {
+    fs.mkdirSync(path.join(cfg.dataDir, 'mail'), { recursive: true });
+    wanted.push(['maildev', cfg.smtpPort, () => spawnService(cfg, 'maildev', maildevArgs(cfg))]);
+  }
+  if (!configured.payments) wanted.push(['payments', cfg.stripePort, () => startPaymentsFake(cfg)]);
+  if (!configured.storage) wanted.push(['storage', cfg.s3Port, () => startStorageFake(cfg)]);
+  for (const [name, p] of wanted) {
+    stopLeftover(cfg, name);
+    if (await portOpen(p)) await new Promise((r) => setTimeout(r, 1000));
+    await assertPortFree(p, name);
+  }
+  const started = wanted.map(([name, p, start]) => ({ name, p, service: start() }));
+  await Promise.all(started.map((s) => waitForPort(s.p, `the ${s.name} fake`, s.service.child)));
+  if (!configured.mail) await waitForPort(cfg.mailWebPort, 'maildev (web)');
+  const labels: Record<keyof ConfiguredServices, string> = { database: 'database', mail: 'mail', storage: 'storage', payments: 'payments' };
+  for (const k of Object.keys(labels) as (keyof ConfiguredServices)[]) {
+    if (k === 'database') continue;
+    say(configured[k] ? `${labels[k]}: using the configured service (no local fake)` : `${labels[k]}: not configured, started the local fake`);
+  }
+  return started.map((s) => s.name);
+}
+
+/** Stops the cluster (fast shutdown), as an outage would; used by the readiness test, which starts it again. */
+export function stopPostgresFast(pgData: string): void {
+  runPg('pg_ctl', ['stop', '-D', pgData, '-m', 'fast', '-w', '-t', '60']);
+}
+
+/** Starts a stopped cluster again with the options ensurePostgres gives it. */
+export function startPostgresAgain(pgData: string, pgPort: number): void {
+  runPg('pg_ctl', [
+    'start', '-w', '-t', '60', '-D', pgData, '-l', path.join(pgData, 'server.log'),
+    '-o', `-p ${pgPort} -c listen_addresses=${HOST} -c unix_socket_directories='' -c max_connections=200`,
+  ]);
 }

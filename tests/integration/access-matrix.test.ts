@@ -58,6 +58,8 @@ const MATRIX: Record<string, Row> = {
   'GET /403': everyone(403),
   'GET /404': everyone(404),
   'GET /500': everyone(500),
+  'GET /healthz': everyone(200),
+  'GET /readyz': everyone(200),
   'GET /account': page(),
   'GET /account/receipts/[id]': missing({ ...page(), member: 404, instructor: 404, steward: 404, admin: 404 }),
   'GET /admin': page('admin'),

@@ -6,21 +6,25 @@
 import { spawnSync } from 'node:child_process';
 import fs from 'node:fs';
 import path from 'node:path';
+import { DeleteObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import pg from 'pg';
+import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { Client } from '../support/client';
 import { closeTestDb } from '../support/db';
 
 const source = new URL(process.env.DATABASE_URL!);
 const sourceDb = source.pathname.slice(1);
 const restoredDb = `${sourceDb}_restored`;
 
-function run(script: 'backup' | 'restore', args: string[] = []): { status: number | null; out: string } {
+function run(script: 'backup' | 'restore', args: string[] = [], extra: Record<string, string> = {}): { status: number | null; out: string } {
   const r = spawnSync(process.execPath, ['--import', 'tsx', `scripts/${script}.ts`, ...args], {
     env: {
       ...process.env,
       DATA_DIR: process.env.TEST_DATA_DIR!,
       PG_PORT: source.port,
       PG_DATABASE: sourceDb,
+      ...extra,
     },
     encoding: 'utf8',
     timeout: 120_000,
@@ -53,13 +57,18 @@ async function rowCounts(db: string): Promise<Record<string, number>> {
   });
 }
 
-const dropRestored = () => superuser((c) => c.query(`DROP DATABASE IF EXISTS ${pg.escapeIdentifier(restoredDb)} WITH (FORCE)`));
+const filesDb = `${sourceDb}_restored_files`;
+const dropRestored = () =>
+  superuser(async (c) => {
+    for (const name of [restoredDb, filesDb]) await c.query(`DROP DATABASE IF EXISTS ${pg.escapeIdentifier(name)} WITH (FORCE)`);
+  });
 let dumpFile: string | undefined;
+const made: string[] = [];
 
 beforeAll(dropRestored);
 afterAll(async () => {
   await dropRestored();
-  if (dumpFile) fs.rmSync(dumpFile, { force: true });
+  for (const f of [dumpFile, dumpFile?.replace(/\.dump$/, '.files'), ...made]) if (f) fs.rmSync(f, { recursive: true, force: true });
   await closeTestDb();
 });
 
@@ -124,4 +133,58 @@ describe('backup and restore', () => {
     expect(none.status).toBe(1);
     expect(none.out).toContain('Usage: npm run restore FILE');
   });
+
+  it('uploaded files: a fault photo is backed up with the database, wiped from storage, and put back by restore; old backups are pruned', async () => {
+    // a note (no status change, no e-mails) with one photo, filed by its own reporter
+    const member = await Client.as('member');
+    const photo = await sharp({ create: { width: 80, height: 60, channels: 3, background: { r: 200, g: 120, b: 40 } } }).jpeg().toBuffer();
+    const form = new FormData();
+    form.set('severity', 'note');
+    form.set('summary', `Backup round trip photo ${Date.now()}`);
+    form.append('photos', new Blob([new Uint8Array(photo)], { type: 'image/jpeg' }), 'bed.jpg');
+    const filed = await member.fetch('/api/machines/laser-c/faults', { method: 'POST', body: form });
+    const filedText = await filed.text();
+    expect(filed.status, filedText).toBe(201);
+    const fault = (JSON.parse(filedText) as { fault: { id: string; photos: { url: string }[] } }).fault;
+    const photoUrl = fault.photos[0]!.url;
+    const original = Buffer.from(await (await member.get(photoUrl)).arrayBuffer());
+    expect(original.byteLength).toBeGreaterThan(100);
+
+    // an old backup that the retention setting removes
+    const backups = path.join(path.resolve(process.env.TEST_DATA_DIR!), 'backups');
+    const old = path.join(backups, 'beamwarden-20000101T000000Z');
+    fs.mkdirSync(`${old}.files`, { recursive: true });
+    fs.writeFileSync(`${old}.dump`, 'old');
+    made.push(`${old}.dump`, `${old}.files`);
+
+    const backup = run('backup', [], { BACKUP_KEEP: '2' });
+    expect(backup.status, backup.out).toBe(0);
+    const file = path.resolve(/Wrote (\S+beamwarden-\d{8}T\d{6}Z\.dump)/.exec(backup.out)![1]!);
+    const filesDir = file.replace(/\.dump$/, '.files');
+    made.push(file, filesDir);
+    expect(backup.out).toMatch(/Copied \d+ uploaded file/);
+    const key = `faults/${fault.id}/1.jpg`;
+    expect(fs.readFileSync(path.join(filesDir, 'objects', key)).equals(original)).toBe(true);
+    expect(fs.statSync(filesDir).mode & 0o077).toBe(0);
+    expect(backup.out).toContain('Removed beamwarden-20000101T000000Z.dump (BACKUP_KEEP=2)');
+    expect(fs.existsSync(`${old}.dump`) || fs.existsSync(`${old}.files`)).toBe(false);
+
+    // wipe: this file's photo is gone from storage (nothing else is touched)
+    const s3 = new S3Client({ endpoint: process.env.S3_ENDPOINT!, region: 'us-east-1', forcePathStyle: true, credentials: { accessKeyId: 'S3RVER', secretAccessKey: 'S3RVER' } });
+    await s3.send(new DeleteObjectCommand({ Bucket: process.env.S3_BUCKET ?? 'beamwarden-uploads', Key: key }));
+    s3.destroy();
+    expect((await member.get(photoUrl)).status).not.toBe(200);
+
+    // restore (into a new database, as restore requires) puts the missing file back
+    const restore = run('restore', [file, '--database', filesDb]);
+    expect(restore.status, restore.out).toBe(0);
+    expect(restore.out).toMatch(/Restored [1-9]\d* uploaded file\(s\) into bucket/);
+    const back = await member.get(photoUrl);
+    expect(back.status).toBe(200);
+    expect(Buffer.from(await back.arrayBuffer()).equals(original)).toBe(true);
+    // and the restored database holds the fault that refers to it
+    await withClient(urlOf(filesDb), async (c) => {
+      expect((await c.query('SELECT photos FROM faults WHERE id = $1', [fault.id])).rows[0].photos[0].key).toBe(key);
+    });
+  }, 120_000);
 });

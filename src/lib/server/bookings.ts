@@ -33,6 +33,7 @@ import { buildIcs } from '../ics';
 import { checkDeclaredMaterials } from './materials';
 import { cancellationIntent, heldOnBookings, recordPaymentIntent } from './payment-intents';
 import { quoteFor } from './prices';
+import { log } from './log';
 
 type Conn = Knex | Knex.Transaction;
 

@@ -5,6 +5,7 @@
 import knexFactory, { type Knex } from 'knex';
 import pg from 'pg';
 import { env } from './env';
+import { onShutdown } from './log';
 
 // timestamptz → JS Date (the default); bigint counts (COUNT(*)) → number when they fit.
 pg.types.setTypeParser(pg.types.builtins.INT8, (v: string) => {
@@ -32,6 +33,7 @@ export function db(): Knex {
       },
       acquireConnectionTimeout: 10_000,
     });
+    onShutdown('database pool', closeDb);
   }
   return instance;
 }

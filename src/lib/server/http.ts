@@ -7,6 +7,7 @@ import { z, type ZodType } from 'zod';
 import { hasAnyRole, type Role } from '../roles';
 import type { SignedInPerson } from '../signed-in-person';
 import { HttpError } from './errors';
+import { log } from './log';
 
 export { HttpError };
 
@@ -41,8 +42,9 @@ export function route(handler: (ctx: APIContext) => Promise<Response> | Response
     } catch (err) {
       if (err instanceof HttpError) return errorResponse(err.status, err.code, err.message, err.fields, err.headers);
       if (err instanceof z.ZodError) return errorResponse(422, 'invalid', 'Some fields are not valid; see fields.', fieldMessages(err));
-      console.error(`[api] ${ctx.request.method} ${ctx.url.pathname}:`, err);
-      return errorResponse(500, 'internal_error', 'Something went wrong on our side. Try again; if it persists, tell a steward.');
+      const requestId = ctx.locals.requestId;
+      log.error({ event: 'error', requestId, method: ctx.request.method, route: ctx.routePattern, err }, 'request failed');
+      return errorResponse(500, 'internal_error', `Something went wrong on our side. Try again; if it persists, tell a steward and quote reference ${requestId}.`, undefined, { 'x-request-id': requestId });
     }
   };
 }

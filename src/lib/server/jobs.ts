@@ -6,6 +6,7 @@
 import PgBoss from 'pg-boss';
 import type { Knex } from 'knex';
 import { env } from './env';
+import { log, onShutdown } from './log';
 
 /** Every queue, with its retry policy. Add a queue here, then its handler in src/lib/server/worker.ts. */
 export const QUEUES = {
@@ -46,9 +47,10 @@ export function jobs(): Promise<PgBoss> {
       schedule: false,
       migrate: false,
     });
-    b.on('error', (err) => console.error('[jobs]', err.message));
+    b.on('error', (err) => log.error({ event: 'error', source: 'jobs', message: err.message }, 'job queue error'));
     await b.start();
     boss = b;
+    onShutdown('job queue', stopJobs);
     return b;
   })().catch((err) => {
     starting = undefined;
@@ -60,7 +62,7 @@ export function jobs(): Promise<PgBoss> {
 /** Installs pg-boss's schema and creates every queue (run by the migrate script and the worker). */
 export async function installQueues(connectionString: string): Promise<PgBoss> {
   const b = new PgBoss({ connectionString, max: 4 });
-  b.on('error', (err) => console.error('[jobs]', err.message));
+  b.on('error', (err) => log.error({ event: 'error', source: 'jobs', message: err.message }, 'job queue error'));
   await b.start();
   for (const [name, options] of Object.entries(QUEUES)) {
     const existing = await b.getQueue(name);

@@ -6,6 +6,7 @@ import nodemailer, { type Transporter } from 'nodemailer';
 import type { Knex } from 'knex';
 import { env } from './env';
 import { enqueue } from './jobs';
+import { log } from './log';
 import { renderEmail, type EmailContent } from '../email-layout';
 
 export interface MailAttachment {
@@ -33,11 +34,15 @@ export async function queueMail(trx: Knex.Transaction | null, to: string, subjec
 let transport: Transporter | undefined;
 
 function smtp(): Transporter {
+  const e = env();
   transport ??= nodemailer.createTransport({
-    host: env().SMTP_HOST,
-    port: env().SMTP_PORT,
-    secure: false,
-    ignoreTLS: env().SMTP_HOST === '127.0.0.1',
+    host: e.SMTP_HOST,
+    port: e.SMTP_PORT,
+    // SMTP_TLS: tls = implicit TLS (465); starttls = upgrade and refuse to go on without it; none = plain (the local fake)
+    secure: e.SMTP_TLS === 'tls',
+    requireTLS: e.SMTP_TLS === 'starttls',
+    ignoreTLS: e.SMTP_TLS === 'none',
+    ...(e.SMTP_USER ? { auth: { user: e.SMTP_USER, pass: e.SMTP_PASSWORD } } : {}),
     connectionTimeout: 5000,
     greetingTimeout: 5000,
     socketTimeout: 10000,
@@ -47,7 +52,8 @@ function smtp(): Transporter {
 
 /** Sends one message now; throws when the server is unreachable (the worker retries). */
 export async function sendMailNow(message: MailMessage): Promise<void> {
-  await smtp().sendMail({
+  const started = performance.now();
+  const sent = await smtp().sendMail({
     from: env().MAIL_FROM,
     to: message.to,
     subject: message.subject,
@@ -59,4 +65,6 @@ export async function sendMailNow(message: MailMessage): Promise<void> {
       content: Buffer.from(a.content, 'base64'),
     })),
   });
+  // the provider call, without the server's credentials or the message body
+  log.info({ event: 'provider_call', provider: 'mail', outcome: 'sent', messageId: sent.messageId, attachments: message.attachments?.length ?? 0, durationMs: Math.round(performance.now() - started) }, 'mail sent');
 }

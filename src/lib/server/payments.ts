@@ -30,6 +30,7 @@ import { env } from './env';
 import { recordPaymentIntent, type PaymentIntent } from './payment-intents';
 export { heldOnBookings } from './payment-intents';
 import { activeWithRole } from './people';
+import { log } from './log';
 import { queueMail } from './mail';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
@@ -49,17 +50,32 @@ const quick = new AsyncLocalStorage<boolean>();
 export const PROVIDER_TIMEOUT_MS = { worker: 10_000, request: 3_000 } as const;
 
 function provider(): Stripe {
-  const make = (timeout: number) =>
-    new Stripe(env().STRIPE_SECRET_KEY, {
-      host: env().STRIPE_API_HOST,
-      port: env().STRIPE_API_PORT,
-      protocol: env().STRIPE_API_PROTOCOL,
+  const make = (timeout: number) => {
+    const c = new Stripe(env().STRIPE_SECRET_KEY, {
+      ...apiAddress(),
       // retries are ours (pg-boss), with the same idempotency key
       maxNetworkRetries: 0,
       timeout,
     });
+    // one line per provider call: method, path, status and time; never the key, the body or card details
+    c.on('response', (r: Stripe.ResponseEvent) => {
+      log.info({ event: 'provider_call', provider: 'payments', method: r.method, path: r.path, status: r.status, durationMs: r.elapsed, providerRequestId: r.request_id }, 'payment provider call');
+    });
+    return c;
+  };
   if (quick.getStore()) return (quickClient ??= make(PROVIDER_TIMEOUT_MS.request));
   return (client ??= make(PROVIDER_TIMEOUT_MS.worker));
+}
+
+/** STRIPE_API_BASE (a URL) when set, else the host, port and protocol of the local fake. */
+function apiAddress(): { host: string; port: number; protocol: 'http' | 'https' } {
+  const e = env();
+  if (e.STRIPE_API_BASE) {
+    const u = new URL(e.STRIPE_API_BASE);
+    const protocol = u.protocol === 'http:' ? 'http' : 'https';
+    return { host: u.hostname, port: u.port ? Number(u.port) : protocol === 'https' ? 443 : 80, protocol };
+  }
+  return { host: e.STRIPE_API_HOST, port: e.STRIPE_API_PORT, protocol: e.STRIPE_API_PROTOCOL };
 }
 
 type ProviderError = { type?: string; code?: string; message?: string; statusCode?: number };

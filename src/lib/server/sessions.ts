@@ -23,6 +23,7 @@ import {
   type CoolantPolicy,
 } from '../checklist';
 import { billableMinutes } from '../controller-rules';
+import { log } from './log';
 
 type Conn = Knex | Knex.Transaction;
 
@@ -228,7 +229,7 @@ async function charge(s: MachineSession, materials: MaterialUsed[]): Promise<{ c
     return { charge: c, chargeProblem: null };
   } catch (err) {
     // the session is closed and recorded either way; a charge that could not be priced is left for a steward
-    console.error(`[sessions] charging session ${s.id} failed:`, err);
+    log.error({ event: 'error', sessionId: s.id, err }, 'charging a session failed');
     return { charge: null, chargeProblem: err instanceof HttpError ? err.message : 'The charge could not be made; a steward will settle it.' };
   }
 }

@@ -5,6 +5,7 @@
 import { CreateBucketCommand, GetObjectCommand, HeadBucketCommand, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import { env } from './env';
 import { HttpError } from './errors';
+import { log } from './log';
 
 let client: S3Client | undefined;
 let bucketReady: Promise<void> | undefined;
@@ -13,7 +14,7 @@ function s3(): S3Client {
   client ??= new S3Client({
     endpoint: env().S3_ENDPOINT,
     region: env().S3_REGION,
-    forcePathStyle: true,
+    forcePathStyle: env().S3_FORCE_PATH_STYLE,
     credentials: { accessKeyId: env().S3_ACCESS_KEY_ID, secretAccessKey: env().S3_SECRET_ACCESS_KEY },
   });
   return client;
@@ -59,7 +60,7 @@ async function unavailableAs503<T>(fn: () => Promise<T>): Promise<T> {
     const status = e.$metadata?.httpStatusCode;
     const network = ['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EHOSTUNREACH', 'ENOTFOUND', 'EPIPE'].includes(e.code ?? e.cause?.code ?? '');
     if (network || e.name === 'TimeoutError' || (status !== undefined && status >= 500) || (status === undefined && !e.name?.startsWith('NoSuch'))) {
-      console.error('[storage] unavailable:', e.code ?? e.name);
+      log.warn({ event: 'provider_call', provider: 'storage', outcome: 'unavailable', code: e.code ?? e.name }, 'storage unavailable');
       throw new HttpError(503, 'storage_unavailable', 'File storage is not answering just now, so nothing was saved. Try again in a few minutes.', undefined, { 'retry-after': '60' });
     }
     throw err;

@@ -16,6 +16,7 @@ import { remindUpkeep } from './upkeep';
 import { remindSeats } from './induction-sessions';
 import { sweepControllers } from './controllers';
 import { db } from './db';
+import { log } from './log';
 
 type Handler = (data: unknown, job: { retryCount: number; retryLimit: number }) => Promise<void>;
 
@@ -32,17 +33,17 @@ const handlers: Record<QueueName, Handler> = {
   // no-shows (15 minutes after the start without check-in) and expired waitlist holds
   'booking.sweep': async () => {
     const r = await sweepBookings();
-    if (r.noShows || r.expiredHolds) console.log(`booking.sweep: ${r.noShows} no-show(s), ${r.expiredHolds} expired hold(s)`);
+    if (r.noShows || r.expiredHolds) log.info({ event: 'sweep', queue: 'booking.sweep', noShows: r.noShows, expiredHolds: r.expiredHolds }, 'booking sweep');
   },
   // lapses at expiry and "lapsing in 14 days" warnings (canOperate also computes lapse from the expiry itself)
   'clearances.sweep': async () => {
     const r = await sweepClearances(new Date());
-    if (r.lapsed || r.warned) console.log(`worker: clearances lapsed ${r.lapsed}, warned ${r.warned}`);
+    if (r.lapsed || r.warned) log.info({ event: 'sweep', queue: 'clearances.sweep', lapsed: r.lapsed, warned: r.warned }, 'clearances sweep');
   },
   // sessions still open 30 minutes after their booking's end: closed, charged to the booking's end, flagged for a steward
   'sessions.sweep': async () => {
     const r = await sweepOpenSessions(new Date());
-    if (r.closed) console.log(`sessions.sweep: ${r.closed} session(s) closed and flagged for a steward`);
+    if (r.closed) log.info({ event: 'sweep', queue: 'sessions.sweep', closed: r.closed }, 'sessions closed and flagged for a steward');
   },
   'controllers.sweep': async () => {
     const r = await sweepControllers(new Date());
@@ -50,7 +51,7 @@ const handlers: Record<QueueName, Handler> = {
   },
   'upkeep.remind': async () => {
     const r = await remindUpkeep();
-    if (r.reminders.length) console.log(`upkeep.remind: ${r.reminders.length} item(s) e-mailed to ${r.stewards} steward(s)`);
+    if (r.reminders.length) log.info({ event: 'sweep', queue: 'upkeep.remind', items: r.reminders.length, stewards: r.stewards }, 'upkeep reminders e-mailed');
   },
   'induction.remind': async () => {
     const r = await remindSeats(new Date());
@@ -94,7 +95,16 @@ export async function startWorker(): Promise<PgBoss> {
   for (const [name, handle] of Object.entries(handlers) as [QueueName, Handler][]) {
     for (let i = 0; i < (LOOPS[name] ?? 1); i++) {
       await boss.work(name, { pollingIntervalSeconds: 1, batchSize: 1, includeMetadata: true }, async (batch) => {
-        for (const job of batch) await handle(job.data, { retryCount: job.retryCount, retryLimit: job.retryLimit });
+        for (const job of batch) {
+          const started = performance.now();
+          try {
+            await handle(job.data, { retryCount: job.retryCount, retryLimit: job.retryLimit });
+            log.info({ event: 'job', queue: name, jobId: job.id, outcome: 'done', durationMs: Math.round(performance.now() - started) }, 'job');
+          } catch (err) {
+            log.warn({ event: 'job', queue: name, jobId: job.id, outcome: 'failed, will retry', durationMs: Math.round(performance.now() - started), err: { message: (err as Error)?.message, code: (err as { code?: string })?.code } }, 'job');
+            throw err;
+          }
+        }
       });
     }
   }

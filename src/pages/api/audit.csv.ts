@@ -4,6 +4,7 @@ import { getSettings } from '../../lib/server/settings';
 import { auditFilterQuery, toAuditFilter } from '../../lib/audit-filter';
 import { BOM, csvHeaders, csvRows } from '../../lib/csv';
 import { isoLocal } from '../../lib/time';
+import { log } from '../../lib/server/log';
 
 /**
  * GET /api/audit.csv?actor=&kind=&q=&from=&to= (admin) → every audit row that matches the filter,
@@ -41,7 +42,7 @@ export const GET = route(async ({ locals, url }) => {
           chunk.push(line(next.value));
         }
       } catch (err) {
-        console.error('[api] GET /api/audit.csv:', err);
+        log.error({ event: 'error', route: '/api/audit.csv', err }, 'audit export failed');
         controller.error(err);
         return;
       }

@@ -1,0 +1,134 @@
+/**
+ * The app server for production and for `npm start` / `npm test`: the Astro build's handler inside a plain
+ * Node HTTP server that adds what a lab's own server needs —
+ *   - the environment is validated before anything listens (a bad variable is named, the process exits 1);
+ *   - one JSON log line per request (method, route, status, duration, person, request id);
+ *   - X-Forwarded-* honoured only from the addresses in TRUST_PROXY (the sign-in throttle counts by client);
+ *   - gzip or brotli for HTML, JSON, JS and CSS; hashed assets under /_astro/ cached for a year (immutable);
+ *   - on SIGTERM/SIGINT: stop accepting, let requests in flight finish (SHUTDOWN_TIMEOUT_MS), close the pool.
+ * Bundled by scripts/bundle.mjs into <outDir>/scripts/serve.mjs; run `node dist/scripts/serve.mjs`.
+ */
+import http from 'node:http';
+import path from 'node:path';
+import { randomUUID } from 'node:crypto';
+import { pathToFileURL } from 'node:url';
+import compression from 'compression';
+import { env, type Env } from '../src/lib/server/env';
+import { log, requestContext, runShutdownHooks, type RequestContext } from '../src/lib/server/log';
+
+process.env.ASTRO_NODE_AUTOSTART = 'disabled';
+process.env.ASTRO_NODE_LOGGING = 'disabled';
+
+let config: Env;
+try {
+  config = env();
+} catch (err) {
+  log.fatal({ event: 'config' }, (err as Error).message);
+  process.exit(1);
+}
+
+const outDir = process.env.BEAMWARDEN_DIST ?? path.resolve(import.meta.dirname, '..');
+const entry = (await import(pathToFileURL(path.join(outDir, 'server', 'entry.mjs')).href)) as {
+  handler: (req: http.IncomingMessage, res: http.ServerResponse) => unknown;
+};
+
+const trusted = new Set(config.TRUST_PROXY.split(',').map((a) => a.trim()).filter(Boolean));
+const plain = (address: string | undefined) => (address ?? '').replace(/^::ffff:/, '');
+
+/**
+ * Forwarded headers count only when the peer is a trusted proxy; the client is then the nearest address in
+ * X-Forwarded-For that is not itself a trusted proxy. From anyone else they are removed.
+ */
+function settleForwarded(req: http.IncomingMessage): boolean {
+  const peer = plain(req.socket.remoteAddress);
+  if (!trusted.has(peer)) {
+    for (const h of ['x-forwarded-for', 'x-forwarded-proto', 'x-forwarded-host', 'x-forwarded-port', 'forwarded']) delete req.headers[h];
+    return false;
+  }
+  const chain = String(req.headers['x-forwarded-for'] ?? '').split(',').map((a) => plain(a.trim())).filter(Boolean);
+  let client = peer;
+  while (chain.length > 0) {
+    client = chain.pop()!;
+    if (!trusted.has(client)) break;
+  }
+  req.headers['x-forwarded-for'] = client;
+  return true;
+}
+
+const compress = compression({ threshold: 1024 });
+let stopping = false;
+let inFlight = 0;
+
+const server = http.createServer((req, res) => {
+  const started = process.hrtime.bigint();
+  const fromProxy = settleForwarded(req);
+  const incoming = req.headers['x-request-id'];
+  const requestId = fromProxy && typeof incoming === 'string' && /^[\w.:-]{8,128}$/.test(incoming) ? incoming : randomUUID();
+  req.headers['x-request-id'] = requestId;
+  res.setHeader('x-request-id', requestId);
+  if (stopping) res.setHeader('connection', 'close');
+  const context: RequestContext = { requestId };
+  inFlight++;
+  let logged = false;
+  const done = () => {
+    if (logged) return;
+    logged = true;
+    inFlight--;
+    const pathname = (req.url ?? '/').split('?')[0]!;
+    const status = res.writableFinished || res.headersSent ? res.statusCode : 499;
+    const line = {
+      event: 'request',
+      requestId,
+      method: req.method,
+      route: context.route ?? (pathname.startsWith('/_astro/') ? '/_astro/[asset]' : pathname),
+      status,
+      durationMs: Math.round(Number(process.hrtime.bigint() - started) / 1e4) / 100,
+      ...(context.personId ? { personId: context.personId } : {}),
+    };
+    if (status >= 500) log.error(line, 'request');
+    else log.info(line, 'request');
+    if (stopping) server.closeIdleConnections();
+  };
+  res.once('finish', done);
+  res.once('close', done);
+  requestContext.run(context, () => {
+    compress(req as never, res as never, () => {
+      Promise.resolve(entry.handler(req, res)).catch((err: unknown) => {
+        log.error({ event: 'error', requestId, err }, 'unhandled request error');
+        if (!res.headersSent) {
+          res.statusCode = 500;
+          res.setHeader('content-type', 'text/plain; charset=utf-8');
+          res.end(`Something went wrong on our side. Reference ${requestId}.`);
+        } else res.destroy();
+      });
+    });
+  });
+});
+server.keepAliveTimeout = 65_000; // longer than common reverse proxies' idle time
+
+const host = process.env.HOST ?? '127.0.0.1';
+const port = Number(process.env.PORT ?? 4321);
+server.listen(port, host, () => {
+  log.info({ event: 'listening', host, port, trustProxy: [...trusted] }, `Beamwarden is listening on http://${host}:${port}`);
+});
+
+async function stop(signal: string): Promise<void> {
+  if (stopping) return;
+  stopping = true;
+  log.info({ event: 'shutdown', signal, inFlight, timeoutMs: config.SHUTDOWN_TIMEOUT_MS }, 'stopping: no new connections, finishing requests in flight');
+  const closed = new Promise<void>((resolve) => server.close(() => resolve()));
+  server.closeIdleConnections();
+  let timedOut = false;
+  const timer = setTimeout(() => {
+    timedOut = true;
+    log.warn({ event: 'shutdown', inFlight }, 'requests still in flight at the shutdown limit; closing their connections');
+    server.closeAllConnections();
+  }, config.SHUTDOWN_TIMEOUT_MS);
+  await closed;
+  clearTimeout(timer);
+  await runShutdownHooks();
+  log.info({ event: 'shutdown', timedOut }, 'stopped');
+  process.exit(0);
+}
+process.once('SIGTERM', () => void stop('SIGTERM'));
+process.once('SIGINT', () => void stop('SIGINT'));
