@@ -11,6 +11,7 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction } from './db';
 import { env } from './env';
 import { recordAudit } from './audit';
+import { log } from './log';
 import { HttpError } from './errors';
 import { canOperate } from './clearances';
 import { checkIn, checkOut, getSession, machineCoolant, type MachineSession } from './sessions';
@@ -384,7 +385,7 @@ function nextChange(machineId: string, ms: number): { promise: Promise<void>; ca
  * passing) or `waitSeconds` run out.
  */
 export async function controllerState(ctrl: Controller, waitSeconds = 0, signal?: AbortSignal): Promise<StateAnswer> {
-  if (waitSeconds > 0) await listen().catch((err) => console.error('[controllers] LISTEN failed; long-polls fall back to timers:', err));
+  if (waitSeconds > 0) await listen().catch((err) => log.error({ event: 'error', err }, 'controllers: LISTEN failed; long-polls fall back to timers'));
   const giveUpAt = Date.now() + waitSeconds * 1000;
   let watch = nextChange(ctrl.machineId, giveUpAt - Date.now());
   let s = await snapshot(ctrl, new Date());

@@ -95,6 +95,12 @@ export const ENV_DOCS: readonly { name: string; group: string; scope: 'app' | 's
   { name: 'S3_PORT', group: 'Local stack', scope: 'scripts', example: '4569', about: 'npm start: port of the local storage fake.' },
   { name: 'BACKUP_DIR', group: 'Backups', scope: 'scripts', example: '/var/backups/beamwarden', about: 'Where npm run backup writes (default DATA_DIR/backups).' },
   { name: 'BACKUP_KEEP', group: 'Backups', scope: 'scripts', example: '14', about: 'Backups to keep; older ones are deleted after a successful backup (0 keeps all).' },
+  { name: 'RESET_LINK_MINUTES', group: 'Accounts', scope: 'app', example: '30', about: 'How long a password-reset link stays valid, in minutes.' },
+  { name: 'OIDC_ISSUER', group: 'Accounts', scope: 'app', example: 'https://login.example.edu', about: "Institution sign-in (OpenID Connect): the provider's issuer URL; unset = off (npm start then runs a local provider)." },
+  { name: 'OIDC_CLIENT_ID', group: 'Accounts', scope: 'app', example: 'beamwarden', about: 'The client id the identity provider gave this site.' },
+  { name: 'OIDC_CLIENT_SECRET', group: 'Accounts', scope: 'app', secret: true, example: 'change-me', about: 'The client secret the identity provider gave this site.' },
+  { name: 'OIDC_EMAIL_CLAIM', group: 'Accounts', scope: 'app', example: 'email', about: 'The claim that carries the person\'s e-mail address.' },
+  { name: 'OIDC_ALLOWED_DOMAINS', group: 'Accounts', scope: 'app', example: 'example.edu,staff.example.edu', about: 'E-mail domains whose people may sign in this way, comma separated.' },
 ];
 
 export type Env = z.infer<typeof schema>;

@@ -864,7 +864,7 @@ export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = 
     await withIntentLock(i, 30, () => runIntentNow(i));
   } catch (err) {
     if (err instanceof HttpError && err.status < 500) {
-      console.warn(`[payments] ${i.kind} not done: ${err.message}`);
+      log.warn({ event: 'payment_intent', kind: i.kind, err: { message: err.message } }, 'payment intent not done');
       return;
     }
     if (attempt.final) {
@@ -885,7 +885,7 @@ export async function tryIntentNow(i: PaymentIntent): Promise<HttpError | null> 
     return null;
   } catch (err) {
     if (err instanceof HttpError && err.status < 500) return err;
-    if (!(err instanceof ProviderNotReady)) console.warn(`[payments] ${i.kind} left to the worker:`, (err as Error).message);
+    if (!(err instanceof ProviderNotReady)) log.warn({ event: 'payment_intent', kind: i.kind, err: { message: (err as Error).message } }, 'payment intent left to the worker');
     return null;
   }
 }

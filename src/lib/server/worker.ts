@@ -28,7 +28,7 @@ const handlers: Record<QueueName, Handler> = {
   // yesterday (site days) compared with the provider; mismatches e-mailed to the admins
   'payments.reconcile': async () => {
     const r = await reconcileDaily();
-    console.log(`payments.reconcile: ${r.mismatches.length} mismatch(es) for ${r.from.toISOString()}–${r.to.toISOString()}`);
+    log.info({ event: 'sweep', queue: 'payments.reconcile', mismatches: r.mismatches.length, from: r.from.toISOString(), to: r.to.toISOString() }, 'reconciliation');
   },
   // no-shows (15 minutes after the start without check-in) and expired waitlist holds
   'booking.sweep': async () => {
@@ -47,7 +47,7 @@ const handlers: Record<QueueName, Handler> = {
   },
   'controllers.sweep': async () => {
     const r = await sweepControllers(new Date());
-    if (r.alerted) console.log(`controllers.sweep: ${r.alerted} controller(s) offline while booked, stewards e-mailed`);
+    if (r.alerted) log.info({ event: 'sweep', queue: 'controllers.sweep', alerted: r.alerted }, 'controllers offline while booked; stewards e-mailed');
   },
   'upkeep.remind': async () => {
     const r = await remindUpkeep();
@@ -55,7 +55,7 @@ const handlers: Record<QueueName, Handler> = {
   },
   'induction.remind': async () => {
     const r = await remindSeats(new Date());
-    if (r.reminded) console.log(`induction.remind: ${r.reminded} seat reminder(s) e-mailed`);
+    if (r.reminded) log.info({ event: 'sweep', queue: 'induction.remind', reminded: r.reminded }, 'induction seat reminders e-mailed');
   },
 };
 
