@@ -603,6 +603,8 @@ export async function startIdentityProviderFake(cfg: Pick<StackConfig, 'dataDir'
   if (!parsed.success) fail(`${portVar}: ${parsed.error.issues[0]?.message ?? 'not a port'}`);
   const oidcPort = parsed.data;
   stopLeftover(cfg, 'identity-provider');
+  // a leftover just stopped may still hold the port for a moment
+  for (let i = 0; i < 10 && (await portOpen(oidcPort)); i++) await new Promise((r) => setTimeout(r, 500));
   await assertPortFree(oidcPort, `the identity provider fake (${portVar})`);
   const settings = {
     OIDC_ISSUER: `http://${HOST}:${oidcPort}`,
