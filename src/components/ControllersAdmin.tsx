@@ -97,15 +97,15 @@ export default function ControllersAdmin({ machines, timeZone }: { machines: Mac
         </div>
       )}
       <form className="card flex flex-wrap items-end gap-3 p-4" onSubmit={register}>
-        <label className="flex flex-col gap-1 text-sm font-medium">
+        <label className="flex min-w-0 max-w-full flex-col gap-1 text-sm font-medium">
           Machine
-          <select className="input" value={machineId} onChange={(e) => setMachineId(e.target.value)} required>
+          <select className="input w-full max-w-full" value={machineId} onChange={(e) => setMachineId(e.target.value)} required>
             {machines.map((m) => <option key={m.id} value={m.id}>{m.name}</option>)}
           </select>
         </label>
-        <label className="flex flex-col gap-1 text-sm font-medium">
+        <label className="flex min-w-0 max-w-full flex-col gap-1 text-sm font-medium">
           Name of the box
-          <input className="input" value={name} maxLength={80} required placeholder="e.g. Laser B door box" onChange={(e) => setName(e.target.value)} />
+          <input className="input w-full max-w-full" value={name} maxLength={80} required placeholder="e.g. Laser B door box" onChange={(e) => setName(e.target.value)} />
         </label>
         <button className="btn btn-primary" disabled={busy || !machineId}>Register controller</button>
       </form>

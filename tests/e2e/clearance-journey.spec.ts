@@ -5,7 +5,7 @@
  */
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
 import { closeTestDb, testDb } from '../support/db';
 import { to, waitForMail } from '../support/maildev';
 import { confirmByDatabase } from '../support/people';
@@ -95,7 +95,8 @@ describe('clearance journey', () => {
     const rfCard = mpage.locator('li[data-group="RF laser"]');
     await expect(rfCard.locator('[data-state]').getAttribute('data-state')).resolves.toBe('quiz due');
     await shot(mpage, 'clearances-quiz-due-phone');
-    await rfCard.getByRole('link', { name: 'Take the quiz' }).click();
+    await Promise.all([mpage.waitForURL(/\/clearances\/quiz\//), rfCard.getByRole('link', { name: 'Take the quiz' }).click()]);
+    await hydrated(mpage); // a press before the quiz island hydrates would do nothing
     await mpage.getByRole('button', { name: 'Start the quiz' }).click();
     await mpage.locator('fieldset[data-question]').first().waitFor();
     expect(await answerAll(mpage, bank, false)).toBe(10);

@@ -104,6 +104,13 @@ describe('from quiz to first cut', () => {
     await mpage.getByLabel('E-mail').fill(member.email);
     await mpage.getByLabel('Password').fill(member.password);
     await Promise.all([mpage.waitForURL(/\/signup\?sent=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    // the address is confirmed from the e-mailed link before the first sign-in
+    const confirmation = await waitForMail((m) => to(member.email)(m) && /confirm/i.test(m.subject));
+    const link = /\/confirm-email\?token=[A-Za-z0-9_-]+/.exec(`${confirmation.text ?? ''} ${confirmation.html ?? ''}`)?.[0];
+    expect(link, 'a confirmation link in the e-mail').toBeTruthy();
+    await mpage.goto(link!);
+    await Promise.all([mpage.waitForURL(/\/signin\?confirmed=1/), mpage.getByRole('button', { name: 'Confirm my address' }).click()]);
+    expect(await testDb()('people').where({ email: member.email.toLowerCase() }).whereNotNull('email_confirmed_at').first('id')).toBeTruthy();
     await signIn(mpage, member.email, member.password);
     await mpage.goto('/clearances');
     const card = mpage.locator('li[data-group="Glass-tube lasers"]');

@@ -97,6 +97,12 @@ async function setHours(hours: typeof ALL_DAY): Promise<void> {
 }
 
 async function backInService(): Promise<void> {
+  // a machine with an open stop fault returns to service only once the fault is resolved
+  const open = await testDb()('faults').where({ machine_id: machine.id }).whereNull('resolved_at').pluck('id');
+  for (const id of open) {
+    const r = await steward.send('POST', `/api/faults/${id}/resolve`, { resolution: 'Controller test: cause found and fixed' });
+    expect(r.status, await r.clone().text()).toBe(200);
+  }
   const res = await steward.send('POST', `/api/machines/${machine.id}/status`, {
     status: 'in service', reason: 'Controller test: fixed and tested',
     checklist: { causeFixed: true, interlocksTested: true, coolingAndExtraction: true, testFire: true },
