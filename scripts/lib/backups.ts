@@ -5,7 +5,7 @@
  */
 import { spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
-import { CreateBucketCommand, GetObjectCommand, HeadObjectCommand, ListObjectsV2Command, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
+import { CreateBucketCommand, GetObjectCommand, HeadBucketCommand, HeadObjectCommand, ListObjectsV2Command, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import fs from 'node:fs';
 import path from 'node:path';
 import pg from 'pg';
@@ -174,10 +174,12 @@ export async function backupFiles(store: FileStore, dir: string): Promise<{ file
 /** Puts back every file of a backup that the bucket is missing (never overwrites); checks each file's hash first. */
 export async function restoreFiles(store: FileStore, dir: string): Promise<{ restored: number; present: number }> {
   const { files } = JSON.parse(fs.readFileSync(path.join(dir, 'manifest.json'), 'utf8')) as { files: ManifestEntry[] };
+  // HEAD on the bucket (the local fake answers a one-key listing of a bucket with many keys with a 500)
   try {
-    await store.client.send(new ListObjectsV2Command({ Bucket: store.bucket, MaxKeys: 1 }));
+    await store.client.send(new HeadBucketCommand({ Bucket: store.bucket }));
   } catch (err) {
-    if ((err as { name?: string }).name !== 'NoSuchBucket') throw err;
+    const e = err as { name?: string; $metadata?: { httpStatusCode?: number } };
+    if (e.name !== 'NotFound' && e.name !== 'NoSuchBucket' && e.$metadata?.httpStatusCode !== 404) throw err;
     await store.client.send(new CreateBucketCommand({ Bucket: store.bucket }));
   }
   let restored = 0;

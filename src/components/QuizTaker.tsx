@@ -41,6 +41,8 @@ export default function QuizTaker({ quizId, intro, timeZone }: { quizId: string;
   const [busy, setBusy] = useState(false);
   const [saved, setSaved] = useState<'idle' | 'saving' | 'saved' | 'failed'>('idle');
   const pending = useRef<ReturnType<typeof setTimeout> | null>(null);
+  // a save already on its way: the submission waits for it, so the save never arrives after the attempt is scored
+  const inflight = useRef<Promise<unknown> | null>(null);
 
   // an attempt left open (a reload, a second tab, a phone that slept) is picked up where it was left
   useEffect(() => {
@@ -77,6 +79,7 @@ export default function QuizTaker({ quizId, intro, timeZone }: { quizId: string;
     setBusy(true);
     setError(null);
     try {
+      await inflight.current?.catch(() => undefined);
       const r = await api<Result>(`/api/quizzes/${quizId}/attempts/${attempt.attemptId}`, { method: 'POST', json: { answers } });
       setResult(r);
       setAttempt(null);
@@ -93,9 +96,14 @@ export default function QuizTaker({ quizId, intro, timeZone }: { quizId: string;
     if (pending.current) clearTimeout(pending.current);
     setSaved('saving');
     pending.current = setTimeout(() => {
-      api(`/api/quizzes/${quizId}/attempts/${attempt.attemptId}`, { method: 'PATCH', json: { answers: next } })
+      pending.current = null;
+      const sent = api(`/api/quizzes/${quizId}/attempts/${attempt.attemptId}`, { method: 'PATCH', json: { answers: next } })
         .then(() => setSaved('saved'))
         .catch(() => setSaved('failed'));
+      inflight.current = sent;
+      void sent.finally(() => {
+        if (inflight.current === sent) inflight.current = null;
+      });
     }, 250);
   }
 
