@@ -367,7 +367,7 @@ async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Bo
     await sendCancellation(
       trx,
       u as Row,
-      `${mine ? 'You cancelled it' : 'A steward or admin cancelled it'}${late ? ' after the cancellation cut-off, so a late-cancellation fee may be charged.' : ' in time: any hold on your card is released.'}`,
+      `${mine ? 'You cancelled it' : 'A steward or admin cancelled it'}${late && r.kind === 'personal' ? ' after the cancellation cut-off, so a late-cancellation fee may be charged (see your account).' : ': any hold on your card is released.'}`,
     );
     await recordAudit(trx, {
       actorId: actor.id,
