@@ -11,7 +11,8 @@ import { saveCard } from '../../src/lib/server/payments';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
-import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import ICAL from 'ical.js';
+import { attachment, iso, machines, setTestRules, siteTime, type Mail, type MachineRef } from '../support/booking';
 import { to, waitForMail } from '../support/maildev';
 
 let admin: Client;
@@ -112,7 +113,14 @@ describe('a stop fault', () => {
     expect((await testDb()('charges').where({ id: hold.id }).first()).state).toBe('released');
 
     // e-mails: the people bumped, and the stewards
-    await waitForMail((m) => to(DEMO.member)(m) && m.subject.startsWith('Your booking on Laser B is cancelled'));
+    const bumpedMail = (await waitForMail((m) => to(DEMO.member)(m) && m.subject.startsWith('Your booking on Laser B is cancelled'))) as unknown as Mail;
+    // with a calendar cancellation: METHOD:CANCEL for a booking's UID, and the bumped booking's sequence raised
+    const att = bumpedMail.attachments?.find((x) => x.filename === 'booking-cancelled.ics');
+    expect(att, 'the bump e-mail carries a cancellation .ics').toBeTruthy();
+    const cal = new ICAL.Component(ICAL.parse(await attachment(bumpedMail.id, att!.generatedFileName ?? att!.filename)));
+    expect(cal.getFirstPropertyValue('method')).toBe('CANCEL');
+    expect(new ICAL.Event(cal.getFirstSubcomponent('vevent')!).uid).toMatch(/@beamwarden$/);
+    expect((await testDb()('bookings').where({ id: mine.id }).first()).calendar_sequence).toBe(1);
     await waitForMail((m) => to(DEMO.steward)(m) && m.subject.startsWith('STOP: Laser B'));
 
     // no new bookings while out of service

@@ -8,7 +8,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
-import { iso, setTestRules, siteTime, TEST_RULES, waitForMail } from '../support/booking';
+import ICAL from 'ical.js';
+import { attachment, iso, setTestRules, siteTime, TEST_RULES, waitForMail } from '../support/booking';
 
 let admin: Client;
 let member: Client;
@@ -140,6 +141,14 @@ describe('retiring a machine', () => {
     expect(await testDb()('audit_log').where({ kind: 'machine.retired', subject_id: m.id }).first()).toBeTruthy();
     const mail = await waitForMail((x) => x.subject === `Your booking on ${m.name} is cancelled: the machine is retired` && x.to.some((t) => t.address === person.email), sent);
     expect(mail.text).toContain('Tube at end of life');
+    // the person's calendar is told too: the confirmation's UID, METHOD:CANCEL, the sequence raised from 0
+    const att = mail.attachments?.find((x) => x.filename === 'booking-cancelled.ics');
+    expect(att?.contentType).toBe('text/calendar');
+    const cal = new ICAL.Component(ICAL.parse(await attachment(mail.id, att!.generatedFileName ?? att!.filename)));
+    expect(cal.getFirstPropertyValue('method')).toBe('CANCEL');
+    const ev = new ICAL.Event(cal.getFirstSubcomponent('vevent')!);
+    expect(ev.uid).toBe(`${booking.id}@beamwarden`);
+    expect(ev.sequence).toBe(1);
 
     expect((await body<{ id: string }[]>(await member.get('/api/machines'))).some((x) => x.id === m.id)).toBe(false);
     expect((await member.get(`/m/${m.code}`)).status).toBe(404);

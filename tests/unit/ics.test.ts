@@ -39,4 +39,33 @@ describe('booking calendars (.ics)', () => {
     expect(ev.getFirstPropertyValue('status')).toBe('CANCELLED');
     expect(ev.getFirstPropertyValue('dtstart')!.toString()).toBe('2027-04-03T13:30:00Z');
   });
+
+  it('a cancellation keeps the UID, says METHOD:CANCEL and STATUS:CANCELLED, and carries a higher SEQUENCE', () => {
+    const ev = { id: 'b3', startsAt: new Date('2027-05-01T00:00:00Z'), endsAt: new Date('2027-05-01T01:00:00Z'), summary: 'Laser B booking' };
+    const first = new ICAL.Component(ICAL.parse(buildIcs('Test', [ev], { method: 'publish' })));
+    const later = new ICAL.Component(ICAL.parse(buildIcs('Test', [{ ...ev, sequence: 2 }], { method: 'cancel' })));
+    expect(first.getFirstPropertyValue('method')).toBe('PUBLISH');
+    expect(later.getFirstPropertyValue('method')).toBe('CANCEL');
+    const a = new ICAL.Event(first.getFirstSubcomponent('vevent')!);
+    const b = new ICAL.Event(later.getFirstSubcomponent('vevent')!);
+    expect(b.uid).toBe(a.uid);
+    expect(a.sequence).toBe(0);
+    expect(b.sequence).toBe(2);
+    expect(later.getFirstSubcomponent('vevent')!.getFirstPropertyValue('status')).toBe('CANCELLED');
+    expect(first.getFirstSubcomponent('vevent')!.getFirstPropertyValue('status')).toBe('CONFIRMED');
+  });
+
+  it('a feed asks subscribers to refresh: REFRESH-INTERVAL and X-PUBLISHED-TTL as durations', () => {
+    const text = buildIcs('Feed', [], { refreshSeconds: 3600 });
+    expect(text).toContain('REFRESH-INTERVAL;VALUE=DURATION:PT1H\r\n');
+    const comp = new ICAL.Component(ICAL.parse(text));
+    const refresh = comp.getFirstProperty('refresh-interval')!;
+    // ical.js takes the VALUE parameter as the property's type
+    expect(refresh.type).toBe('duration');
+    expect((refresh.getFirstValue() as ICAL.Duration).toSeconds()).toBe(3600);
+    expect(String(comp.getFirstPropertyValue('x-published-ttl'))).toBe('PT1H');
+    // without the option neither is written
+    const plain = new ICAL.Component(ICAL.parse(buildIcs('Feed', [])));
+    expect(plain.getFirstProperty('refresh-interval')).toBeNull();
+  });
 });

@@ -14,7 +14,7 @@ import { HttpError } from './errors';
 import { canOperate } from './clearances';
 import { getRules, getTier, listClosures, type MachineRules } from './booking-rules';
 import { getSettings } from './settings';
-import { queueMail } from './mail';
+import { queueMail, type MailAttachment } from './mail';
 import { env } from './env';
 import { hasAnyRole, type Role } from '../roles';
 import {
@@ -64,6 +64,7 @@ export interface Booking {
 type Row = {
   id: string; machine_id: string; person_id: string; kind: BookingKind; state: BookingState; starts_at: Date; ends_at: Date;
   occupied_until: Date; course_name: string | null; notes: string; late_cancel: boolean; hold_expires_at: Date | null; created_at: Date;
+  calendar_sequence: number;
 };
 
 function toBooking(r: Row): Booking {
@@ -258,6 +259,60 @@ function bookingIcs(b: Booking, machine: { name: string }, siteName: string, can
   ], { method: 'publish' });
 }
 
+/** What a booking's calendar event needs: the row's fields, with the sequence the message carries. */
+export interface CalendarBooking {
+  id: string; kind: string; course_name: string | null; starts_at: Date; ends_at: Date; calendar_sequence: number;
+}
+
+/**
+ * The .ics attached to a cancellation or bump e-mail: the confirmation's UID, METHOD:CANCEL, STATUS:CANCELLED and
+ * the booking's raised SEQUENCE, so the person's calendar app removes (or strikes through) the event.
+ */
+export function cancellationAttachment(r: CalendarBooking, machineName: string, siteName: string): MailAttachment {
+  const ics = buildIcs(`${siteName} bookings`, [
+    {
+      id: r.id,
+      startsAt: r.starts_at,
+      endsAt: r.ends_at,
+      summary: r.kind === 'class' ? `${machineName}: class ${r.course_name}` : `${machineName} booking`,
+      location: `${machineName}, ${siteName}`,
+      cancelled: true,
+      sequence: r.calendar_sequence,
+    },
+  ], { method: 'cancel' });
+  return { filename: 'booking-cancelled.ics', contentType: 'text/calendar; charset=utf-8; method=CANCEL', content: Buffer.from(ics, 'utf8').toString('base64') };
+}
+
+/** The SQL that raises a booking's calendar sequence by one (in the same UPDATE that cancels or bumps it). */
+export const raiseSequence = (trx: Conn) => trx.raw('calendar_sequence + 1');
+
+/** E-mails the owner of a cancelled booking (in the caller's transaction), with the cancellation .ics attached. */
+async function sendCancellation(trx: Knex.Transaction, r: Row, why: string): Promise<void> {
+  if (r.kind === 'hold') return;
+  const [person, machine, site] = [
+    await trx('people').where({ id: r.person_id }).first('email', 'name'),
+    await trx('machines').where({ id: r.machine_id }).first('name'),
+    await siteSettings(trx),
+  ];
+  if (!person || !machine) return;
+  const range = formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
+  await queueMail(
+    trx,
+    person.email,
+    `Booking cancelled: ${machine.name}, ${range}`,
+    {
+      greeting: `Kia ora ${person.name},`,
+      paragraphs: [
+        `Your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${machine.name} on ${range} (${site.timeZone}) is cancelled.`,
+        why,
+        'The attached calendar file removes it from your calendar.',
+      ],
+      action: { label: 'See your bookings', url: `${env().PUBLIC_BASE_URL}/book` },
+    },
+    [cancellationAttachment(r, machine.name, site.name)],
+  );
+}
+
 async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Booking, machine: MachineRow, tz: string, siteName: string): Promise<void> {
   const person = await trx('people').where({ id: personId }).first('email', 'name');
   if (!person) return;
@@ -306,9 +361,14 @@ async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Bo
     const late = r.kind !== 'hold' && isLateCancel(r.starts_at, now, rules);
     const [u] = await trx('bookings')
       .where({ id })
-      .update({ state: 'cancelled', late_cancel: late, cancelled_at: now, cancelled_by: actor.id, updated_at: trx.fn.now() })
+      .update({ state: 'cancelled', late_cancel: late, cancelled_at: now, cancelled_by: actor.id, calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() })
       .returning('*');
     const booking = toBooking(u as Row);
+    await sendCancellation(
+      trx,
+      u as Row,
+      `${mine ? 'You cancelled it' : 'A steward or admin cancelled it'}${late && r.kind === 'personal' ? ' after the cancellation cut-off, so a late-cancellation fee may be charged (see your account).' : ': any hold on your card is released.'}`,
+    );
     await recordAudit(trx, {
       actorId: actor.id,
       kind: 'booking.cancelled',
@@ -331,7 +391,12 @@ async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Bo
  * their card holds are released by the intents recorded here (payment-intents.ts).
  */
 export async function cancelFutureBookingsOf(trx: Knex.Transaction, actorId: string, personId: string, now = new Date()): Promise<string[]> {
-  return cancelFutureBookings(trx, actorId, { person_id: personId }, { summary: 'Booking cancelled: the person was deactivated', reason: 'person deactivated' }, now);
+  const closing = actorId === personId;
+  return cancelFutureBookings(trx, actorId, { person_id: personId }, {
+    summary: closing ? 'Booking cancelled: the person closed their account' : 'Booking cancelled: the person was deactivated',
+    reason: closing ? 'account closed' : 'person deactivated',
+    mail: closing ? 'You closed your Beamwarden account, so your bookings are cancelled. You are not charged for them: any hold on your card is released.' : 'Your account was deactivated by an admin, so your bookings are cancelled. You are not charged for them: any hold on your card is released.',
+  }, now);
 }
 
 /**
@@ -346,8 +411,8 @@ export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actor
   if (!ids.length) return ids;
   const site = await siteSettings(trx);
   const rows = (await trx('bookings as b').join('people as p', 'p.id', 'b.person_id').whereIn('b.id', ids).whereNot('b.kind', 'hold')
-    .select('b.id', 'b.kind', 'b.course_name', 'b.starts_at', 'b.ends_at', 'b.person_id', 'p.email', 'p.name')) as {
-    id: string; kind: BookingKind; course_name: string | null; starts_at: Date; ends_at: Date; person_id: string; email: string; name: string;
+    .select('b.id', 'b.kind', 'b.course_name', 'b.starts_at', 'b.ends_at', 'b.calendar_sequence', 'b.person_id', 'p.email', 'p.name')) as {
+    id: string; kind: BookingKind; course_name: string | null; starts_at: Date; ends_at: Date; calendar_sequence: number; person_id: string; email: string; name: string;
   }[];
   for (const r of rows) {
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is retired`, {
@@ -356,9 +421,10 @@ export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actor
         `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
         `The reason given: ${why}`,
         'You are not charged for it: any hold on your card is released.',
+        'The attached calendar file removes it from your calendar.',
       ],
       action: { label: 'Book another machine', url: `${env().PUBLIC_BASE_URL}/book` },
-    });
+    }, [cancellationAttachment(r, machine.name, site.name)]);
   }
   return ids;
 }
@@ -367,7 +433,7 @@ async function cancelFutureBookings(
   trx: Knex.Transaction,
   actorId: string,
   where: { person_id: string } | { machine_id: string },
-  how: { summary: string; reason: string; offer?: boolean },
+  how: { summary: string; reason: string; offer?: boolean; mail?: string },
   now: Date,
 ): Promise<string[]> {
   const rows = (await trx('bookings')
@@ -377,7 +443,10 @@ async function cancelFutureBookings(
     .forUpdate()
     .select('*')) as Row[];
   for (const r of rows) {
-    await trx('bookings').where({ id: r.id }).update({ state: 'cancelled', late_cancel: false, cancelled_at: now, cancelled_by: actorId, updated_at: trx.fn.now() });
+    const [u] = await trx('bookings').where({ id: r.id })
+      .update({ state: 'cancelled', late_cancel: false, cancelled_at: now, cancelled_by: actorId, calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() })
+      .returning('*');
+    if (how.mail) await sendCancellation(trx, u as Row, how.mail);
     if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: 'withdrawn' });
     await recordAudit(trx, {
       actorId,
@@ -686,7 +755,7 @@ export async function reserveClassTime(trx: Knex.Transaction, actorId: string, i
 export async function releaseClassTime(trx: Knex.Transaction, actorId: string, bookingId: string, now = new Date()): Promise<void> {
   const r = (await trx('bookings').where({ id: bookingId }).forUpdate().first()) as Row | undefined;
   if (!r || r.state !== 'reserved' || r.ends_at <= now) return;
-  await trx('bookings').where({ id: bookingId }).update({ state: 'cancelled', cancelled_at: now, cancelled_by: actorId, updated_at: trx.fn.now() });
+  await trx('bookings').where({ id: bookingId }).update({ state: 'cancelled', cancelled_at: now, cancelled_by: actorId, calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() });
   await recordAudit(trx, { actorId, kind: 'booking.cancelled', subjectType: 'booking', subjectId: bookingId, summary: 'Class block released (its induction session was cancelled)', before: { state: 'reserved' }, after: { state: 'cancelled' } });
   await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
 }
@@ -879,6 +948,9 @@ export async function revokeFeed(personId: string): Promise<void> {
   });
 }
 
+/** How often a subscribed calendar is asked to fetch the feed again: an hour (REFRESH-INTERVAL and X-PUBLISHED-TTL). */
+export const FEED_REFRESH_SECONDS = 3600;
+
 /** The .ics document of a feed token (null when the token is unknown or revoked). */
 export async function feedIcs(token: string, now = new Date()): Promise<string | null> {
   if (!/^[A-Za-z0-9_-]{20,64}$/.test(token)) return null;
@@ -889,7 +961,8 @@ export async function feedIcs(token: string, now = new Date()): Promise<string |
     .join('machines as m', 'm.id', 'b.machine_id')
     .where('b.person_id', f.person_id)
     .where('b.ends_at', '>', new Date(now.getTime() - 30 * 86_400_000))
-    .whereIn('b.state', ['reserved', 'checked in', 'completed', 'cancelled'])
+    // cancelled and bumped bookings are left out: a subscribed calendar drops them at its next refresh
+    .whereIn('b.state', ['reserved', 'checked in', 'completed'])
     .whereNot('b.kind', 'hold')
     .orderBy('b.starts_at')
     .limit(1000)
@@ -902,9 +975,9 @@ export async function feedIcs(token: string, now = new Date()): Promise<string |
       endsAt: r.ends_at,
       summary: r.kind === 'class' ? `${r.machine_name}: class ${r.course_name}` : `${r.machine_name} booking`,
       location: `${r.machine_name}, ${settings.name}`,
-      cancelled: r.state === 'cancelled',
+      sequence: r.calendar_sequence,
     })),
-    { stamp: now },
+    { stamp: now, refreshSeconds: FEED_REFRESH_SECONDS },
   );
 }
 

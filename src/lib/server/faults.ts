@@ -18,7 +18,7 @@ import { queueMail } from './mail';
 import { env } from './env';
 import { checkUpload } from './file-types';
 import { getObject, putObject } from './storage';
-import { offerFreedTime } from './bookings';
+import { cancellationAttachment, offerFreedTime, raiseSequence } from './bookings';
 import { releaseHoldsAfterCancel } from './payments';
 import { recordPaymentIntent } from './payment-intents';
 import { activeWithRole } from './people';
@@ -184,12 +184,13 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
     .where('b.ends_at', '>', ctx.now)
     .orderBy('b.starts_at')
     .forUpdate('b')
-    .select('b.id', 'b.kind', 'b.starts_at', 'b.ends_at', 'b.person_id', 'p.email', 'p.name')) as {
-    id: string; kind: string; starts_at: Date; ends_at: Date; person_id: string; email: string; name: string;
+    .select('b.id', 'b.kind', 'b.course_name', 'b.starts_at', 'b.ends_at', 'b.calendar_sequence', 'b.person_id', 'p.email', 'p.name')) as {
+    id: string; kind: string; course_name: string | null; starts_at: Date; ends_at: Date; calendar_sequence: number; person_id: string; email: string; name: string;
   }[];
   if (!rows.length) return [];
   const tz = await siteZone(trx);
-  await trx('bookings').whereIn('id', rows.map((r) => r.id)).update({ state: 'bumped', updated_at: trx.fn.now() });
+  const site = await trx('site_settings').where({ id: 1 }).first('name');
+  await trx('bookings').whereIn('id', rows.map((r) => r.id)).update({ state: 'bumped', calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() });
   for (const r of rows) {
     if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: 'expired' });
     await recordAudit(trx, {
@@ -211,9 +212,10 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
         `${machine.name} was taken out of service after a fault was reported, so your booking on ${formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
         'You are not charged for it: any hold on your card is released.',
         'Book another time or another machine when it suits you.',
+        'The attached calendar file removes it from your calendar.',
       ],
       action: { label: 'Book another time', url: `${env().PUBLIC_BASE_URL}/book` },
-    });
+    }, [cancellationAttachment({ ...r, calendar_sequence: r.calendar_sequence + 1 }, machine.name, site?.name ?? 'Beamwarden')]);
   }
   return rows.map((r) => r.id);
 }

@@ -1,0 +1,98 @@
+/**
+ * Calendars after a change: cancelling a booking (by its owner) and deactivating a person each e-mail a
+ * cancellation .ics for the confirmation's UID with METHOD:CANCEL and a higher SEQUENCE (RFC 5546 §3.2.5);
+ * the private feed asks subscribers to refresh hourly and leaves cancelled bookings out. Read with ical.js.
+ * Own person, Laser C, 30 days ahead in the evening (a day and hours no other file books).
+ */
+import ICAL from 'ical.js';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { Client, body } from '../support/client';
+import { closeTestDb } from '../support/db';
+import { attachment, iso, machines, setTestRules, siteTime, waitForMail, type Mail, type MachineRef } from '../support/booking';
+import { clearedNew } from '../support/people';
+
+const D = 30;
+let admin: Client;
+let laserC: MachineRef;
+let person: Awaited<ReturnType<typeof clearedNew>>;
+
+beforeAll(async () => {
+  admin = await Client.as('admin');
+  laserC = (await machines(admin))['laser-c'];
+  await setTestRules(admin, laserC.id);
+  person = await clearedNew('calendar', ['laser-c']);
+});
+
+afterAll(async () => {
+  await closeTestDb();
+});
+
+async function icsOf(mail: Mail, filename: string): Promise<ICAL.Component> {
+  const att = mail.attachments?.find((a) => a.filename === filename);
+  expect(att, `${filename} attached to "${mail.subject}"`).toBeTruthy();
+  expect(att!.contentType).toBe('text/calendar');
+  return new ICAL.Component(ICAL.parse(await attachment(mail.id, att!.generatedFileName ?? att!.filename)));
+}
+
+const vevent = (cal: ICAL.Component) => new ICAL.Event(cal.getFirstSubcomponent('vevent')!);
+const toPerson = (m: Mail) => m.to.some((t) => t.address.toLowerCase() === person.email.toLowerCase());
+
+async function bookAndConfirm(hour: number): Promise<{ id: string; confirmation: ICAL.Component }> {
+  const since = new Date();
+  const res = await person.client.send('POST', '/api/bookings', {
+    machineId: laserC.id, startsAt: iso(siteTime(D, hour)), endsAt: iso(siteTime(D, hour, 30)), materials: [], notes: '',
+  });
+  const b = await body(res);
+  expect(res.status, JSON.stringify(b)).toBe(201);
+  const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking confirmed: Laser C'), since);
+  return { id: b.id as string, confirmation: await icsOf(mail, 'booking.ics') };
+}
+
+describe('cancellations reach the person’s calendar', () => {
+  it('the owner cancels: a METHOD:CANCEL .ics with the same UID and a higher SEQUENCE; the feed drops the event and asks for an hourly refresh', async () => {
+    const { id, confirmation } = await bookAndConfirm(20);
+    const confirmed = vevent(confirmation);
+    expect(confirmation.getFirstPropertyValue('method')).toBe('PUBLISH');
+    expect(confirmed.uid).toBe(`${id}@beamwarden`);
+
+    const feed = new URL((await body(await person.client.send('POST', '/api/calendar-feed'))).url).pathname;
+    const before = await (await new Client().get(feed)).text();
+    const uidsBefore = new ICAL.Component(ICAL.parse(before)).getAllSubcomponents('vevent').map((v) => new ICAL.Event(v).uid);
+    expect(uidsBefore).toContain(confirmed.uid);
+
+    const since = new Date();
+    const c = await person.client.send('POST', `/api/bookings/${id}/cancel`);
+    expect(c.status, JSON.stringify(await body(c))).toBe(200);
+    const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking cancelled: Laser C'), since);
+    expect(mail.text).toMatch(/You cancelled it/);
+    const cancel = await icsOf(mail, 'booking-cancelled.ics');
+    expect(cancel.getFirstPropertyValue('method')).toBe('CANCEL');
+    const cancelled = vevent(cancel);
+    expect(cancelled.uid).toBe(confirmed.uid);
+    expect(cancelled.sequence).toBeGreaterThan(confirmed.sequence);
+    expect(cancel.getFirstSubcomponent('vevent')!.getFirstPropertyValue('status')).toBe('CANCELLED');
+    expect(cancelled.startDate.toJSDate().toISOString()).toBe(iso(siteTime(D, 20)));
+
+    const after = await (await new Client().get(feed)).text();
+    expect(after).toContain('REFRESH-INTERVAL;VALUE=DURATION:PT1H');
+    const cal = new ICAL.Component(ICAL.parse(after));
+    expect(String(cal.getFirstPropertyValue('x-published-ttl'))).toBe('PT1H');
+    expect(cal.getAllSubcomponents('vevent').map((v) => new ICAL.Event(v).uid)).not.toContain(confirmed.uid);
+  });
+
+  it('an admin deactivates the person: their future booking is cancelled with a METHOD:CANCEL .ics for the same UID', async () => {
+    const { id, confirmation } = await bookAndConfirm(21);
+    const confirmed = vevent(confirmation);
+    const since = new Date();
+    const res = await admin.send('POST', `/api/people/${person.id}/deactivate`);
+    expect(res.status, JSON.stringify(await body(res))).toBe(200);
+    const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking cancelled: Laser C'), since);
+    expect(mail.text).toMatch(/deactivated/);
+    const cancel = await icsOf(mail, 'booking-cancelled.ics');
+    expect(cancel.getFirstPropertyValue('method')).toBe('CANCEL');
+    const cancelled = vevent(cancel);
+    expect(cancelled.uid).toBe(`${id}@beamwarden`);
+    expect(cancelled.uid).toBe(confirmed.uid);
+    expect(cancelled.sequence).toBe(confirmed.sequence + 1);
+  });
+});
