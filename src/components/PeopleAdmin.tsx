@@ -5,6 +5,7 @@ import { useCallback, useEffect, useId, useState } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
 import { api, ApiError } from './ui/api';
 import { TIERS, TIER_LABELS, type Tier } from '../lib/pricing';
+import InvitePersonForm from './InvitePersonForm';
 
 interface PersonRow {
   id: string;
@@ -125,6 +126,8 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC' }: { selfId: stri
 
   return (
     <div className="space-y-4">
+      <InvitePersonForm onInvited={() => void load()} />
+      <h2 className="sr-only">Everyone</h2>
       <div className="flex flex-wrap items-end gap-3">
         <label className="field min-w-64 flex-1" htmlFor={searchId}>
           <span>Search by name or e-mail</span>

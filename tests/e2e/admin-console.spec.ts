@@ -130,6 +130,7 @@ describe('the admin console', () => {
     await signIn(page, 'admin');
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Site', exact: true }).click();
     await page.waitForURL('**/admin/site');
+    await hydrated(page); // typing before the islands have hydrated is lost
     await expect(page.getByLabel('Site name').inputValue()).resolves.toBe('Tidewater Community Workshop');
     await page.getByLabel('Site name').fill('Tidewater Laser Room');
     // a bad time zone is refused next to the field, and nothing is saved

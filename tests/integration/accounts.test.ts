@@ -264,6 +264,17 @@ describe('invitations', () => {
     expect((await body(await c.get('/api/me'))).roles).toEqual(['instructor']);
     expect((await new Client(undefined, freshLoopbackAddress()).signInAs(email, NEW_PASSWORD)).location).not.toContain('error');
   });
+
+  it('an invitation can set the pricing tier; an unknown tier is refused at that field', async () => {
+    const admin = await Client.as('admin');
+    const email = `invited-tier-${Date.now()}@example.org`;
+    const bad = await admin.send('POST', '/api/people', { name: 'Tama Tier', email, roles: ['member'], tier: 'gold' });
+    expect(bad.status).toBe(422);
+    expect(Object.keys((await body(bad)).error.fields)).toEqual(['tier']);
+    const res = await admin.send('POST', '/api/people', { name: 'Tama Tier', email, roles: ['member'], tier: 'staff' });
+    expect(res.status).toBe(201);
+    expect(await body(res)).toMatchObject({ email, tier: 'staff', roles: ['member'] });
+  });
 });
 
 describe("a person's own data", () => {

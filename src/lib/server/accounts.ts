@@ -17,6 +17,7 @@ import { clearSignInCounters } from './sign-in';
 import { cancelFutureBookingsOf } from './bookings';
 import { passwordProblem } from '../password-rules';
 import type { Role } from '../roles';
+import type { Tier } from '../pricing';
 
 export type TokenPurpose = 'reset' | 'confirm' | 'invite';
 
@@ -181,7 +182,7 @@ export async function confirmEmail(token: string): Promise<{ email: string }> {
 }
 
 /** An admin adds a person: no password is chosen for them; they get an invitation link to set their own. */
-export async function invitePerson(actorId: string, input: { name: string; email: string; roles: Role[] }): Promise<Person> {
+export async function invitePerson(actorId: string, input: { name: string; email: string; roles: Role[]; tier?: Tier }): Promise<Person> {
   const [site, base] = await Promise.all([getSettings(), publicBaseUrl()]);
   try {
     return await createPerson({

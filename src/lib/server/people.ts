@@ -91,7 +91,7 @@ export async function createPerson(input: {
         subjectType: 'person',
         subjectId: id,
         summary: `${input.name} <${input.email}> joined with roles ${input.roles.join(', ') || 'none'}`,
-        after: { email: input.email, name: input.name, roles: input.roles },
+        after: { email: input.email, name: input.name, roles: input.roles, ...(input.tier ? { tier: input.tier } : {}) },
       });
       const person = await getPerson(id, trx);
       if (!person) throw new Error('person vanished inside its own transaction');

@@ -3,6 +3,7 @@ import { json, readJson, readQuery, requireRole, route } from '../../../lib/serv
 import { invitePerson } from '../../../lib/server/accounts';
 import { listPeople } from '../../../lib/server/people';
 import { email, page, pageSize, personName, role, searchText } from '../../../lib/schemas';
+import { TIERS } from '../../../lib/pricing';
 
 const query = z.object({
   q: searchText,
@@ -26,9 +27,9 @@ export const GET = route(async ({ locals, url }) => {
   });
 });
 
-const invite = z.object({ name: personName, email, roles: z.array(role).max(4).default(['member']) }).strict();
+const invite = z.object({ name: personName, email, roles: z.array(role).max(4).default(['member']), tier: z.enum(TIERS, { error: `A tier is one of ${TIERS.join(', ')}.` }).optional() }).strict();
 
-/** POST /api/people (admin) {name, email, roles} → 201: the person is created without a password and e-mailed an invitation link to set one; 409 `email_taken`. */
+/** POST /api/people (admin) {name, email, roles, tier?} → 201: the person is created without a password and e-mailed an invitation link to set one; 409 `email_taken`. */
 export const POST = route(async ({ locals, request }) => {
   const admin = requireRole(locals, 'admin');
   const input = await readJson(request, invite);
