@@ -197,7 +197,7 @@ export default function MaterialRulesAdmin(_: { currencyExponent?: number; curre
             <label className="field"><span>Cut efficiency η (0–1)</span><input className="input" type="number" step="0.01" min="0" max="1" value={editing.cutEfficiency ?? ''} onChange={(e) => set('cutEfficiency', numOrNull(e.target.value))} />{err('cutEfficiency')}</label>
             <p className="hint md:col-span-3">Calibrate η from a test cut: η = measured speed ÷ the ideal speed (η = 1). Typical 0.15–0.4 for acrylic, lower for wood.</p>
           </fieldset>
-          <fieldset className="grid gap-3 rounded-lg border border-line p-3 md:grid-cols-3">
+          <fieldset className="grid min-w-0 gap-3 rounded-lg border border-line p-3 md:grid-cols-3">
             <legend className="px-1 font-semibold">Sold by the space</legend>
             <label className="inline-flex min-h-8 items-center gap-2"><input type="checkbox" className="h-4 w-4 accent-[var(--color-ember)]" checked={editing.soldBySpace} onChange={(e) => set('soldBySpace', e.target.checked)} />The space sells this by the sheet</label>
             <SheetField sheets={data?.sheets ?? []} sku={editing.sheetSku} sold={editing.soldBySpace} onChange={(v) => set('sheetSku', v)} error={<>{err('sheetSku')}{err('sheetPriceMinor')}</>} />
@@ -319,9 +319,9 @@ function OverrideRow({ machine, existing, effective, busy, onSave }: {
 function SheetField(p: { sheets: Sheet[]; sku: string | null; sold: boolean; onChange: (sku: string | null) => void; error: React.ReactNode }) {
   const chosen = p.sheets.find((s) => s.sku === p.sku) ?? null;
   return (
-    <div className="field">
-      <label className="field"><span>Sheet in the price list</span>
-        <select className="input" value={p.sku ?? ''} disabled={!p.sold} onChange={(e) => p.onChange(e.target.value || null)} aria-describedby="sheet-price-now">
+    <div className="field min-w-0">
+      <label className="field min-w-0"><span>Sheet in the price list</span>
+        <select className="input w-full min-w-0" value={p.sku ?? ''} disabled={!p.sold} onChange={(e) => p.onChange(e.target.value || null)} aria-describedby="sheet-price-now">
           <option value="">{p.sold ? 'Choose a sheet' : '(not sold)'}</option>
           {p.sku && !chosen && <option value={p.sku}>{p.sku} (not in the price list in force)</option>}
           {p.sheets.map((s) => <option key={s.sku} value={s.sku}>{s.name} ({s.sku})</option>)}
