@@ -4,7 +4,8 @@
  * starting-settings estimate (density: datasheets; heat of gasification: SFPE Handbook fire-properties chapter for
  * PMMA and POM, effective values for wood and paper; efficiency: calibrated so that 3 mm plywood, MDF and acrylic land
  * in the common-practice speed band at 40 W and 60 W — common practice, an admin may re-calibrate), what the space
- * sells by the sheet (NZD cents) and two per-machine overrides.
+ * sells by the sheet (each linked by its sheet code to the price version's sheet list in seeds/07_pricing.ts, the one
+ * source of sheet prices) and two per-machine overrides.
  *
  * Compositions are honest about what the material carries: wood is cellulose and lignin, MDF adds its
  * urea-formaldehyde binder, wool, felt and leather are protein (nitrogen, and sulfur in wool). Nitrogen-bearing
@@ -24,7 +25,8 @@ type Row = {
   heat_gasification_j_g?: number;
   cut_efficiency?: number;
   sold_by_space?: boolean;
-  sheet_price_minor?: number;
+  /** the sheet code in the price version's sheet list (Pricing), which holds the price */
+  sheet_sku?: string;
   sheet_size?: string;
 };
 
@@ -34,13 +36,13 @@ export const SEED_MATERIALS: Row[] = [
   // allowed
   { name: 'Acrylic (PMMA)', category: 'plastic', composition: ['(C5H8O2)n'], rule: 'allowed', modes: ALL,
     reason: 'Cuts and engraves cleanly. It can flame: stay with the job, keep air assist and extraction on.',
-    density_g_cm3: 1.18, heat_gasification_j_g: 1600, cut_efficiency: 0.25, sold_by_space: true, sheet_price_minor: 1800, sheet_size: '600 × 400 × 3 mm' },
+    density_g_cm3: 1.18, heat_gasification_j_g: 1600, cut_efficiency: 0.25, sold_by_space: true, sheet_sku: 'pmma-3', sheet_size: '600 × 400 × 3 mm' },
   { name: 'Plywood (birch or poplar)', category: 'wood', composition: ['(C6H10O5)n', '(C10H12O3)n'], rule: 'allowed', modes: ALL,
     reason: 'Cuts well; glue lines char and can flare. Use laser-grade plywood (interior glue), never marine or treated ply.',
-    density_g_cm3: 0.68, heat_gasification_j_g: 2500, cut_efficiency: 0.28, sold_by_space: true, sheet_price_minor: 650, sheet_size: '600 × 400 × 3 mm' },
+    density_g_cm3: 0.68, heat_gasification_j_g: 2500, cut_efficiency: 0.28, sold_by_space: true, sheet_sku: 'ply-3', sheet_size: '600 × 400 × 3 mm' },
   { name: 'MDF', category: 'wood', composition: ['(C6H10O5)n', '(C10H12O3)n', 'CH4N2O', 'CH2O'], rule: 'limited', modes: ALL,
     reason: 'Cuts well, but its urea-formaldehyde binder gives off formaldehyde and nitrogen-bearing smoke: extraction must run for the whole job, and wipe the lens afterwards.',
-    density_g_cm3: 0.75, heat_gasification_j_g: 2500, cut_efficiency: 0.3, sold_by_space: true, sheet_price_minor: 400, sheet_size: '600 × 400 × 3 mm' },
+    density_g_cm3: 0.75, heat_gasification_j_g: 2500, cut_efficiency: 0.3, sold_by_space: true, sheet_sku: 'mdf-3', sheet_size: '600 × 400 × 3 mm' },
   { name: 'Solid wood', category: 'wood', composition: ['(C6H10O5)n', '(C10H12O3)n'], rule: 'allowed', modes: ALL,
     reason: 'Thin hardwood and softwood cut and engrave well. Resinous or oily woods flare: watch the job closely. Painted, stained or pressure-treated wood is not this material.',
     density_g_cm3: 0.6, heat_gasification_j_g: 2500, cut_efficiency: 0.25 },
@@ -49,7 +51,7 @@ export const SEED_MATERIALS: Row[] = [
     density_g_cm3: 0.8, heat_gasification_j_g: 2000, cut_efficiency: 0.3 },
   { name: 'Card and cardboard', category: 'paper', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 4,
     reason: 'Cuts well. Corrugated board can smoulder in the flutes: watch the job and never leave it.',
-    density_g_cm3: 0.5, heat_gasification_j_g: 2000, cut_efficiency: 0.3, sold_by_space: true, sheet_price_minor: 150, sheet_size: 'A3 greyboard' },
+    density_g_cm3: 0.5, heat_gasification_j_g: 2000, cut_efficiency: 0.3, sold_by_space: true, sheet_sku: 'card-a3', sheet_size: 'A3 greyboard' },
   { name: 'Cork', category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', modes: ALL, max_cut_mm: 6,
     reason: 'Cuts and engraves well. Agglomerated cork may hold a binder: ask a steward if the sheet is unlabelled.',
     density_g_cm3: 0.24, heat_gasification_j_g: 2500, cut_efficiency: 0.15 },

@@ -14,6 +14,14 @@ const RATES: Record<string, Record<string, number>> = {
   'laser-c': { student: 25, staff: 40, community: 60, commercial: 120 },
 };
 
+/** The sheets the space sells: the one list of sheet prices (NZD cents); materials link to it by code (05_materials). */
+export const SEED_SHEETS = [
+  { sku: 'ply-3', name: '3 mm birch plywood, 600 × 400', priceMinor: 650 },
+  { sku: 'mdf-3', name: '3 mm MDF, 600 × 400', priceMinor: 400 },
+  { sku: 'pmma-3', name: '3 mm clear acrylic (PMMA), 600 × 400', priceMinor: 1800 },
+  { sku: 'card-a3', name: 'A3 greyboard card', priceMinor: 150 },
+];
+
 export async function seed(knex: Knex): Promise<void> {
   const admin = await knex('people').where({ email: 'admin@tidewater.example' }).first('id');
   const [version] = await knex('price_versions')
@@ -29,12 +37,7 @@ export async function seed(knex: Knex): Promise<void> {
       tax_rate_bp: 1500,
       minimum_rule: 'carry',
       recharge_tiers: ['student', 'staff'],
-      materials: JSON.stringify([
-        { sku: 'ply-3', name: '3 mm birch plywood, 600 × 400', priceMinor: 650 },
-        { sku: 'mdf-3', name: '3 mm MDF, 600 × 400', priceMinor: 400 },
-        { sku: 'pmma-3', name: '3 mm clear acrylic (PMMA), 600 × 400', priceMinor: 1800 },
-        { sku: 'card-a3', name: 'A3 greyboard card', priceMinor: 150 },
-      ]),
+      materials: JSON.stringify(SEED_SHEETS),
       note: 'Opening prices',
       created_by: admin?.id ?? null,
     })

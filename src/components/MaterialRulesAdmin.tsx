@@ -1,5 +1,5 @@
 /** Admin › Material rules: a sortable, filterable table of the catalogue, an edit form, and per-machine overrides. Every save is audited. */
-import { parseMajor } from '../lib/pricing';
+import { formatMoney } from '../lib/pricing';
 import { useCallback, useEffect, useMemo, useState } from 'react';
 import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
 import { screenMaterial, type ScreenResult } from '../lib/halogen-screen';
@@ -8,32 +8,41 @@ import { api, ApiError } from './ui/api';
 interface Material {
   id: string; name: string; category: string; composition: string[]; rule: MaterialRule; reason: string; modes: MaterialMode[];
   maxCutMm: number | null; densityGPerCm3: number | null; heatOfGasificationJPerG: number | null; cutEfficiency: number | null;
-  soldBySpace: boolean; sheetPriceMinor: number | null; sheetSize: string | null; updatedAt: string;
+  soldBySpace: boolean; sheetSku: string | null; sheetPriceMinor: number | null; sheetName: string | null; sheetCurrency: string | null;
+  sheetSize: string | null; updatedAt: string;
 }
+/** A sheet of the price version in force (Pricing): the one source of sheet prices. */
+interface Sheet { sku: string; name: string; priceMinor: number; currency: string }
+/** What the form edits and sends: the material's own fields (the price is the price version's). */
+type Draft = Omit<Material, 'id' | 'updatedAt' | 'sheetPriceMinor' | 'sheetName' | 'sheetCurrency'> & { id?: string };
 interface Machine { id: string; code: string; name: string; powerW: number }
 interface Override { materialId: string; machineId: string; rule: MaterialRule | null; modes: MaterialMode[] | null; maxCutMm: number | null; note: string | null }
 interface Effective { rule: MaterialRule; modes: MaterialMode[]; maxCutMm: number | null; maxCutBasis: string; reachMm: number | null; halogenBlocked: boolean }
 interface Violation { materialId: string; name: string; machineId: string | null; storedRule: MaterialRule; reason: string }
-interface Data { machines: Machine[]; materials: Material[]; overrides: Override[]; effective: Record<string, Record<string, Effective>>; violations: Violation[] }
+interface Data { machines: Machine[]; materials: Material[]; overrides: Override[]; effective: Record<string, Record<string, Effective>>; violations: Violation[]; sheets: Sheet[] }
 type Sort = 'name' | 'category' | 'rule' | 'updated';
 
 const RULE_ORDER: Record<MaterialRule, number> = { allowed: 0, limited: 1, blocked: 2 };
-const EMPTY: Omit<Material, 'id' | 'updatedAt'> = {
+const EMPTY: Omit<Draft, 'id'> = {
   name: '', category: 'plastic', composition: [], rule: 'allowed', reason: '', modes: ['cut', 'engrave', 'score'], maxCutMm: null,
-  densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: null, soldBySpace: false, sheetPriceMinor: null, sheetSize: null,
+  densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: null, soldBySpace: false, sheetSku: null, sheetSize: null,
+};
+const toDraft = (m: Material): Draft => {
+  const { updatedAt: _u, sheetPriceMinor: _p, sheetName: _n, sheetCurrency: _c, ...rest } = m;
+  return rest;
 };
 
-const FORM_FIELDS = ['name', 'rule', 'composition', 'reason', 'modes', 'maxCutMm', 'densityGPerCm3', 'heatOfGasificationJPerG', 'cutEfficiency', 'sheetPriceMinor'];
+const FORM_FIELDS = ['name', 'rule', 'composition', 'reason', 'modes', 'maxCutMm', 'densityGPerCm3', 'heatOfGasificationJPerG', 'cutEfficiency', 'sheetSku', 'sheetPriceMinor'];
 const numOrNull = (s: string) => (s.trim() === '' ? null : Number(s));
 
-export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'NZD' }: { currencyExponent?: number; currency?: string }) {
+export default function MaterialRulesAdmin(_: { currencyExponent?: number; currency?: string }) {
   const [data, setData] = useState<Data | null>(null);
   const [q, setQ] = useState('');
   const [ruleFilter, setRuleFilter] = useState<MaterialRule | ''>('');
   const [catFilter, setCatFilter] = useState('');
   const [sort, setSort] = useState<Sort>('name');
   const [dir, setDir] = useState<'asc' | 'desc'>('asc');
-  const [editing, setEditing] = useState<(Omit<Material, 'id' | 'updatedAt'> & { id?: string }) | null>(null);
+  const [editing, setEditing] = useState<Draft | null>(null);
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
   const [fieldErrors, setFieldErrors] = useState<Record<string, string>>({});
   const [busy, setBusy] = useState(false);
@@ -70,7 +79,6 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
   }
   const mark = (c: Sort) => (sort === c ? (dir === 'asc' ? ' ▲' : ' ▼') : '');
   const aria = (c: Sort) => (sort === c ? (dir === 'asc' ? 'ascending' : 'descending') : 'none');
-  const money = (minor: number | null) => (minor === null ? '' : `${currency} ${(minor / 10 ** currencyExponent).toFixed(currencyExponent)}`);
 
   async function save() {
     if (!editing) return;
@@ -189,10 +197,10 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
             <label className="field"><span>Cut efficiency η (0–1)</span><input className="input" type="number" step="0.01" min="0" max="1" value={editing.cutEfficiency ?? ''} onChange={(e) => set('cutEfficiency', numOrNull(e.target.value))} />{err('cutEfficiency')}</label>
             <p className="hint md:col-span-3">Calibrate η from a test cut: η = measured speed ÷ the ideal speed (η = 1). Typical 0.15–0.4 for acrylic, lower for wood.</p>
           </fieldset>
-          <fieldset className="grid gap-3 rounded-lg border border-line p-3 md:grid-cols-3">
+          <fieldset className="grid min-w-0 gap-3 rounded-lg border border-line p-3 md:grid-cols-3">
             <legend className="px-1 font-semibold">Sold by the space</legend>
             <label className="inline-flex min-h-8 items-center gap-2"><input type="checkbox" className="h-4 w-4 accent-[var(--color-ember)]" checked={editing.soldBySpace} onChange={(e) => set('soldBySpace', e.target.checked)} />The space sells this by the sheet</label>
-            <SheetPriceField key={(editing as { id?: string }).id ?? "new"} currency={currency} exponent={currencyExponent} minor={editing.sheetPriceMinor} onChange={(v) => set('sheetPriceMinor', v)} error={err('sheetPriceMinor')} />
+            <SheetField sheets={data?.sheets ?? []} sku={editing.sheetSku} sold={editing.soldBySpace} onChange={(v) => set('sheetSku', v)} error={<>{err('sheetSku')}{err('sheetPriceMinor')}</>} />
             <label className="field"><span>Sheet size</span><input className="input" value={editing.sheetSize ?? ''} onChange={(e) => set('sheetSize', e.target.value || null)} maxLength={60} /></label>
           </fieldset>
           {Object.keys(fieldErrors).some((k) => !FORM_FIELDS.includes(k)) && (
@@ -239,8 +247,8 @@ export default function MaterialRulesAdmin({ currencyExponent = 2, currency = 'N
                     return <span key={k.id} className="block whitespace-nowrap">{k.name}: {!e || e.rule === 'blocked' ? (e?.halogenBlocked ? 'blocked (halogen)' : 'blocked') : e.modes.includes('cut') ? `${e.maxCutMm !== null ? `≤ ${e.maxCutMm} mm` : 'no limit'}${e.reachMm !== null ? ` · reach ≈ ${e.reachMm} mm` : ''}` : 'no cutting'}{e?.maxCutBasis === 'override' || data.overrides.some((o) => o.materialId === m.id && o.machineId === k.id) ? ' *' : ''}</span>;
                   })}
                 </td>
-                <td className="hidden text-sm md:table-cell">{m.soldBySpace ? <>{money(m.sheetPriceMinor)}<span className="block text-charcoal-soft">{m.sheetSize}</span></> : '—'}</td>
-                <td><button type="button" className="btn btn-quiet" aria-label={`Edit ${m.name}`} onClick={() => { const { updatedAt: _u, ...rest } = m; setEditing(rest); setFieldErrors({}); window.scrollTo({ top: 0 }); }}>Edit</button></td>
+                <td className="hidden text-sm md:table-cell" data-sheet-price>{m.soldBySpace ? (m.sheetPriceMinor !== null && m.sheetCurrency ? <>{formatMoney(m.sheetPriceMinor, m.sheetCurrency)}<span className="block text-charcoal-soft">{m.sheetSize}</span></> : <span className="text-[var(--color-stop)]">Not in the price list: edit to choose its sheet</span>) : '—'}</td>
+                <td><button type="button" className="btn btn-quiet" aria-label={`Edit ${m.name}`} onClick={() => { setEditing(toDraft(m)); setFieldErrors({}); window.scrollTo({ top: 0 }); }}>Edit</button></td>
               </tr>
             ))}
             {data && rows.length === 0 && <tr><td colSpan={7} className="text-center text-charcoal-soft">No material matches.</td></tr>}
@@ -305,33 +313,25 @@ function OverrideRow({ machine, existing, effective, busy, onSave }: {
 }
 
 /**
- * The sheet price in major units ("18.00"), as on Pricing; kept in minor units underneath. What members are
- * charged at check-out is the price version's sheet list on Pricing.
+ * The sheet a sold material is sold as: chosen from the price version in force, whose price (in major units) is
+ * shown here and charged at check-out. The price itself is changed on Pricing, as a new price version.
  */
-function SheetPriceField(p: { currency: string; exponent: number; minor: number | null; onChange: (minor: number | null) => void; error: React.ReactNode }) {
-  const shown = (m: number | null) => (m === null ? '' : (m / 10 ** p.exponent).toFixed(p.exponent));
-  const [text, setText] = useState(shown(p.minor));
-  const [bad, setBad] = useState(false);
+function SheetField(p: { sheets: Sheet[]; sku: string | null; sold: boolean; onChange: (sku: string | null) => void; error: React.ReactNode }) {
+  const chosen = p.sheets.find((s) => s.sku === p.sku) ?? null;
   return (
-    <label className="field">
-      <span>Sheet price ({p.currency})</span>
-      <input
-        className="input"
-        inputMode="decimal"
-        value={text}
-        aria-invalid={bad ? 'true' : undefined}
-        onChange={(e) => {
-          setText(e.target.value);
-          if (e.target.value.trim() === '') return (setBad(false), p.onChange(null));
-          const v = parseMajor(e.target.value, p.currency);
-          setBad(v === null);
-          if (v !== null) p.onChange(v);
-        }}
-      />
-      <span className="hint">As on <a href="/admin/pricing">Pricing</a>, where the price charged at check-out is set.</span>
-      {bad && <span className="text-sm text-stop">Write an amount like 18.00.</span>}
+    <div className="field min-w-0">
+      <label className="field min-w-0"><span>Sheet in the price list</span>
+        <select className="input w-full min-w-0" value={p.sku ?? ''} disabled={!p.sold} onChange={(e) => p.onChange(e.target.value || null)} aria-describedby="sheet-price-now">
+          <option value="">{p.sold ? 'Choose a sheet' : '(not sold)'}</option>
+          {p.sku && !chosen && <option value={p.sku}>{p.sku} (not in the price list in force)</option>}
+          {p.sheets.map((s) => <option key={s.sku} value={s.sku}>{s.name} ({s.sku})</option>)}
+        </select></label>
+      <p id="sheet-price-now" className="hint" data-testid="sheet-price">
+        {chosen ? <>Price now: <strong className="text-charcoal">{formatMoney(chosen.priceMinor, chosen.currency)}</strong> a sheet. </> : null}
+        Sheet prices are set on <a href="/admin/pricing">Pricing</a> (a new price version); members pay that price at check-out.
+      </p>
       {p.error}
-    </label>
+    </div>
   );
 }
 

@@ -24,12 +24,18 @@ export const materialInput = z
     heatOfGasificationJPerG: optionalPositive(100000, 'Heat of gasification'),
     cutEfficiency: z.number().gt(0, 'Efficiency must be above 0.').max(1, 'Efficiency must be at most 1.').nullable(),
     soldBySpace: z.boolean(),
-    sheetPriceMinor: z.number().int('A price is a whole number of minor units (cents).').min(0).max(100_000_000).nullable(),
+    /** the sheet's code in the price list on Pricing, which holds its price */
+    sheetSku: z.string().trim().regex(/^[a-z0-9][a-z0-9-]{0,39}$/, 'A sheet code from the price list, such as ply-3.').nullable().optional(),
+    /** older callers only: null, or the price in force (prices are set on Pricing) */
+    sheetPriceMinor: z.number().int().min(0).max(100_000_000).nullable().optional(),
+    /** read-only echoes of GET /api/material-rules (the price list's), accepted so a read material can be sent back */
+    sheetName: z.string().max(120).nullable().optional(),
+    sheetCurrency: z.string().max(3).nullable().optional(),
     sheetSize: z.string().trim().max(60).nullable(),
   })
   .strict()
   .superRefine((m, ctx) => {
-    if (m.soldBySpace && m.sheetPriceMinor === null) ctx.addIssue({ code: 'custom', path: ['sheetPriceMinor'], message: 'A material the space sells needs a sheet price.' });
+    if (m.soldBySpace && !m.sheetSku) ctx.addIssue({ code: 'custom', path: ['sheetSku'], message: 'A material the space sells needs its sheet from the price list.' });
     if (m.rule !== 'blocked' && m.modes.length === 0) ctx.addIssue({ code: 'custom', path: ['modes'], message: 'Pick at least one mode, or block the material.' });
   });
 

@@ -190,7 +190,8 @@ describe('Material rules (admin)', () => {
     expect(res.status).toBe(422);
     const base = { name: 'Test board', category: 'wood', composition: [], rule: 'allowed', reason: 'x', modes: ['cut'], maxCutMm: null, densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: 2, soldBySpace: true, sheetPriceMinor: null, sheetSize: null };
     const b = await body(await admin.send('POST', '/api/material-rules', base));
-    expect(Object.keys(b.error.fields)).toEqual(expect.arrayContaining(['cutEfficiency', 'sheetPriceMinor']));
+    // a material the space sells needs its sheet from the price list (the price is the price list's)
+    expect(Object.keys(b.error.fields)).toEqual(expect.arrayContaining(['cutEfficiency', 'sheetSku']));
     const dup = await admin.send('POST', '/api/material-rules', { ...base, name: 'mdf', cutEfficiency: null, soldBySpace: false });
     expect(dup.status).toBe(409);
   });
@@ -203,6 +204,66 @@ describe('Material rules (admin)', () => {
     expect((await admin.send('DELETE', `/api/material-rules/${id}/overrides/${machine('laser-b')}`)).status).toBe(204);
     const kinds = (await testDb()('audit_log').where({ subject_id: id }).pluck('kind')) as string[];
     expect(kinds).toEqual(expect.arrayContaining(['material.override_set', 'material.override_removed']));
+  });
+});
+
+describe('sheet prices: one source, the price version on Pricing', () => {
+  it('Material rules, the Materials screen and a quote show the sheet price of the version in force; a new version changes them all; the material keeps no price', async () => {
+    const cols = (await testDb()('information_schema.columns').where({ table_name: 'materials' }).pluck('column_name')) as string[];
+    expect(cols).toContain('sheet_sku');
+    expect(cols).not.toContain('sheet_price_minor');
+    // seeded: acrylic is sold as the pmma-3 sheet, NZD 18.00 in the seeded price version (seeds/07_pricing.ts)
+    const now = await body(await admin.get('/api/material-rules'));
+    expect(now.materials.find((m: any) => m.name === 'Acrylic (PMMA)')).toMatchObject({ sheetSku: 'pmma-3', sheetPriceMinor: 1800, sheetCurrency: 'NZD' });
+    expect(now.sheets).toContainEqual(expect.objectContaining({ sku: 'pmma-3', priceMinor: 1800, currency: 'NZD' }));
+    expect(await (await member.get('/materials')).text()).toContain('NZD 18.00 a sheet');
+    const laserA = machine('laser-a');
+    const quoteLine = async (sku: string, at?: string) => {
+      const q = await body(await member.send('POST', '/api/tools/quote', { machineId: laserA, tier: 'community', minutes: 5, materials: [{ sku, quantity: 1 }], ...(at ? { at } : {}) }));
+      return q.lines.find((l: { kind: string }) => l.kind === 'material')?.unitMinor;
+    };
+    expect(await quoteLine('pmma-3')).toBe(1800);
+
+    // two price versions far past every booking other files make (the API starts versions tomorrow at the earliest):
+    // a new sheet at 12.34, then the same sheet at 23.45
+    const day = (n: number) => new Date(Date.now() + n * 86_400_000).toISOString().slice(0, 10);
+    const sku = `t-sheet-${Date.now().toString(36)}`;
+    const version = (effectiveDate: string, priceMinor: number) => ({
+      effectiveDate, incrementMinutes: 5, minimumChargeMinor: 500, dailyCapMinor: null, lateCancelFeeMinor: 1000, noShowFeeMinor: 1500,
+      minimumRule: 'carry', rechargeTiers: [], note: 'sheet price test', rates: [{ machineId: laserA, tier: 'community', perMinuteMinor: 90 }],
+      materials: [{ sku: 'pmma-3', name: '3 mm clear acrylic (PMMA), 600 × 400', priceMinor: 1800 }, { sku, name: 'Test board sheet', priceMinor }],
+    });
+    const v1 = await body(await admin.send('POST', '/api/pricing/versions', version(day(500), 1234)));
+    const v2 = await body(await admin.send('POST', '/api/pricing/versions', version(day(501), 2345)));
+    expect(v1.id && v2.id).toBeTruthy();
+
+    // a material sold as that sheet: it names the sheet, and cannot be given a price of its own
+    const input = {
+      name: `Sheet price test board ${sku}`, category: 'wood', composition: ['(C6H10O5)n'], rule: 'allowed', reason: 'A test board for the one-source sheet price.',
+      modes: ['cut'], maxCutMm: null, densityGPerCm3: null, heatOfGasificationJPerG: null, cutEfficiency: null, soldBySpace: true, sheetSku: sku, sheetSize: '600 × 400 × 3 mm',
+    };
+    const created = await admin.send('POST', '/api/material-rules', input);
+    expect(created.status).toBe(201);
+    const m = await body(created);
+    expect(m).toMatchObject({ sheetSku: sku, sheetPriceMinor: null }); // not sold before v1 starts
+    const own = await admin.send('PUT', `/api/material-rules/${m.id}`, { ...input, sheetPriceMinor: 999 });
+    expect(own.status).toBe(422);
+    expect((await body(own)).error.code).toBe('price_on_pricing');
+    const unknown = await admin.send('PUT', `/api/material-rules/${m.id}`, { ...input, sheetSku: 'no-such-sheet' });
+    expect(unknown.status).toBe(422);
+    expect((await body(unknown)).error.fields).toHaveProperty('sheetSku');
+    const row = await testDb()('materials').where({ id: m.id }).first();
+    expect(row.sheet_sku).toBe(sku);
+    expect(row).not.toHaveProperty('sheet_price_minor');
+
+    // Material rules and the quote read the same number from whichever version is in force
+    for (const [v, price] of [[v1, 1234], [v2, 2345]] as const) {
+      const at = new Date(Date.parse(v.effectiveFrom) + 3_600_000).toISOString();
+      const rules = await body(await admin.get(`/api/material-rules?at=${encodeURIComponent(at)}`));
+      expect(rules.materials.find((x: any) => x.id === m.id)).toMatchObject({ sheetSku: sku, sheetPriceMinor: price, sheetName: 'Test board sheet' });
+      expect(await quoteLine(sku, at)).toBe(price);
+    }
+    expect((await admin.get('/api/material-rules?at=soon')).status).toBe(422);
   });
 });
 

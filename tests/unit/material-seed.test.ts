@@ -5,6 +5,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { SEED_MATERIALS } from '../../seeds/05_materials';
+import { SEED_SHEETS } from '../../seeds/07_pricing';
 import { screenComposition, screenMaterial } from '../../src/lib/halogen-screen';
 import { halogenFinding } from '../../src/lib/material-rules';
 import { cuttingSpeedMmPerS } from '../../src/lib/cut-estimate';
@@ -51,8 +52,17 @@ describe('seeded materials', () => {
     for (const m of SEED_MATERIALS) {
       expect(m.rule === 'blocked' ? m.modes.length === 0 : m.modes.length > 0, m.name).toBe(true);
       expect(m.reason.length, m.name).toBeGreaterThan(20);
-      if (m.sold_by_space) expect(Number.isInteger(m.sheet_price_minor), m.name).toBe(true);
     }
+  });
+  it('every material the space sells names a sheet of the seeded price list, which holds its price (one source)', () => {
+    const sold = SEED_MATERIALS.filter((m) => m.sold_by_space);
+    expect(sold.map((m) => m.name)).toEqual(expect.arrayContaining(['Acrylic (PMMA)', 'Plywood (birch or poplar)', 'MDF', 'Card and cardboard']));
+    const skus = SEED_SHEETS.map((s) => s.sku);
+    for (const m of sold) expect(skus, m.name).toContain(m.sheet_sku);
+    expect(new Set(sold.map((m) => m.sheet_sku)).size).toBe(sold.length);
+    for (const m of SEED_MATERIALS) expect(Object.keys(m), m.name).not.toContain('sheet_price_minor');
+    // the acrylic a member reads on Materials and pays at check-out: NZD 18.00 (seeds/07_pricing.ts)
+    expect(SEED_SHEETS.find((s) => s.sku === SEED_MATERIALS.find((m) => m.name === 'Acrylic (PMMA)')!.sheet_sku)!.priceMinor).toBe(1800);
   });
   it('anodised aluminium, glass and stone are engrave-only (REFERENCE.md)', () => {
     for (const n of ['Anodised aluminium', 'Glass', 'Stone, slate and tile']) expect(byName(n).modes).toEqual(['engrave']);

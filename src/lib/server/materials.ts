@@ -7,6 +7,7 @@ import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
+import { sheetCodesFrom, versionAt } from './prices';
 import {
   catalogueRule, decide, effectiveRule, halogenFinding, type EffectiveRule, type MaterialCategory, type MaterialMode,
   type MaterialRule, type RuleMaterial, type RuleOverride,
@@ -20,7 +21,13 @@ export interface Material extends RuleMaterial {
   /** True when the stored rule is allowed or limited but the composition or name carries a halogen: treated as blocked. */
   halogenHeld?: boolean;
   soldBySpace: boolean;
+  /** The sheet's code in the price version's sheet list (Pricing): the one source of its price. */
+  sheetSku: string | null;
+  /** Read from the price version in force (null when the sheet is not in it); the material keeps no price of its own. */
   sheetPriceMinor: number | null;
+  /** The sheet's name and currency in that price version. */
+  sheetName: string | null;
+  sheetCurrency: string | null;
   sheetSize: string | null;
   updatedAt: Date;
 }
@@ -33,7 +40,7 @@ export interface MaterialOverride extends RuleOverride {
 type Row = {
   id: string; name: string; category: MaterialCategory; composition: string[]; rule: MaterialRule; reason: string;
   modes: MaterialMode[]; max_cut_mm: number | null; density_g_cm3: number | null; heat_gasification_j_g: number | null;
-  cut_efficiency: number | null; sold_by_space: boolean; sheet_price_minor: number | null; sheet_size: string | null;
+  cut_efficiency: number | null; sold_by_space: boolean; sheet_sku: string | null; sheet_size: string | null;
   updated_at: Date;
 };
 type OverrideRow = { material_id: string; machine_id: string; rule: MaterialRule | null; modes: MaterialMode[] | null; max_cut_mm: number | null; note: string | null };
@@ -45,7 +52,8 @@ function toMaterial(r: Row): Material {
     id: r.id, name: r.name, category: r.category, composition: r.composition ?? [], rule: r.rule, reason: r.reason,
     modes: r.modes ?? [], maxCutMm: num(r.max_cut_mm), densityGPerCm3: num(r.density_g_cm3),
     heatOfGasificationJPerG: num(r.heat_gasification_j_g), cutEfficiency: num(r.cut_efficiency),
-    soldBySpace: r.sold_by_space, sheetPriceMinor: r.sheet_price_minor, sheetSize: r.sheet_size, updatedAt: r.updated_at,
+    soldBySpace: r.sold_by_space, sheetSku: r.sheet_sku, sheetPriceMinor: null, sheetName: null, sheetCurrency: null, sheetSize: r.sheet_size,
+    updatedAt: r.updated_at,
   };
 }
 
@@ -53,14 +61,28 @@ function toOverride(r: OverrideRow): MaterialOverride {
   return { materialId: r.material_id, machineId: r.machine_id, rule: r.rule, modes: r.modes, maxCutMm: num(r.max_cut_mm), note: r.note };
 }
 
-export async function listMaterials(trx: Knex | Knex.Transaction = db()): Promise<Material[]> {
-  const rows = (await trx('materials').orderByRaw('lower(name)')) as Row[];
-  return rows.map(toMaterial);
+export type SheetPrice = { sku: string; name: string; priceMinor: number; currency: string };
+
+/** The sheets of the price version in force at `at`, by code (empty when no version is in force). */
+export async function sheetsInForce(at = new Date(), trx: Knex | Knex.Transaction = db()): Promise<Map<string, SheetPrice>> {
+  const v = await versionAt(at, trx);
+  return new Map((v?.materials ?? []).map((m) => [m.sku, { sku: m.sku, name: m.name, priceMinor: m.priceMinor, currency: v!.currency }]));
+}
+
+function priced(m: Material, sheets: Map<string, SheetPrice>): Material {
+  const s = m.sheetSku ? sheets.get(m.sheetSku) : undefined;
+  return { ...m, sheetPriceMinor: s?.priceMinor ?? null, sheetName: s?.name ?? null, sheetCurrency: s?.currency ?? null };
+}
+
+/** The catalogue, each sold material priced by the price version in force at `at` (default now). */
+export async function listMaterials(trx: Knex | Knex.Transaction = db(), at = new Date()): Promise<Material[]> {
+  const [rows, sheets] = await Promise.all([trx('materials').orderByRaw('lower(name)') as Promise<Row[]>, sheetsInForce(at, trx)]);
+  return rows.map((r) => priced(toMaterial(r), sheets));
 }
 
 export async function getMaterial(id: string, trx: Knex | Knex.Transaction = db()): Promise<Material | null> {
   const row = (await trx('materials').where({ id }).first()) as Row | undefined;
-  return row ? toMaterial(row) : null;
+  return row ? priced(toMaterial(row), await sheetsInForce(new Date(), trx)) : null;
 }
 
 export async function listOverrides(trx: Knex | Knex.Transaction = db()): Promise<MaterialOverride[]> {
@@ -132,7 +154,9 @@ export interface MaterialInput {
   heatOfGasificationJPerG: number | null;
   cutEfficiency: number | null;
   soldBySpace: boolean;
-  sheetPriceMinor: number | null;
+  sheetSku?: string | null;
+  /** Accepted for older callers only when null or equal to the price in force: sheet prices are set on Pricing. */
+  sheetPriceMinor?: number | null;
   sheetSize: string | null;
 }
 
@@ -141,13 +165,31 @@ function toRow(i: MaterialInput) {
     name: i.name, category: i.category, composition: i.composition, rule: i.rule, reason: i.reason,
     modes: i.rule === 'blocked' ? [] : i.modes, max_cut_mm: i.maxCutMm, density_g_cm3: i.densityGPerCm3,
     heat_gasification_j_g: i.heatOfGasificationJPerG, cut_efficiency: i.cutEfficiency, sold_by_space: i.soldBySpace,
-    sheet_price_minor: i.sheetPriceMinor, sheet_size: i.sheetSize,
+    sheet_sku: i.soldBySpace ? (i.sheetSku ?? null) : null, sheet_size: i.sheetSize,
   };
 }
 
+/** The material's own fields (the sheet's price, name and currency are the price version's, not the material's). */
 function auditShape(m: Material) {
-  const { updatedAt: _u, ...rest } = m;
+  const { updatedAt: _u, sheetPriceMinor: _p, sheetName: _n, sheetCurrency: _c, ...rest } = m;
   return rest;
+}
+
+/**
+ * A material the space sells names a sheet of the price version in force or of a later one (422 unknown_sheet
+ * otherwise); a price sent along (older callers) must be null or the price in force: prices are changed on Pricing.
+ */
+async function assertSheet(input: MaterialInput, trx: Knex | Knex.Transaction): Promise<void> {
+  if (!input.soldBySpace) return;
+  if (!input.sheetSku) throw new HttpError(422, 'invalid', 'A material the space sells needs its sheet from the price list.', { sheetSku: 'Choose the sheet from the price list on Pricing.' });
+  const now = new Date();
+  if (!(await sheetCodesFrom(now, trx)).has(input.sheetSku)) {
+    throw new HttpError(422, 'unknown_sheet', `No price version sells a sheet with the code ${input.sheetSku}: add it on Pricing first.`, { sheetSku: 'Not in the price list.' });
+  }
+  const s = (await sheetsInForce(now, trx)).get(input.sheetSku);
+  if (input.sheetPriceMinor != null && input.sheetPriceMinor !== s?.priceMinor) {
+    throw new HttpError(422, 'price_on_pricing', 'Sheet prices are set on the Pricing screen (a new price version), not on a material.', { sheetPriceMinor: 'Change the price on Pricing.' });
+  }
 }
 
 function mapWriteError(err: unknown): never {
@@ -159,8 +201,9 @@ function mapWriteError(err: unknown): never {
 export async function createMaterial(actorId: string, input: MaterialInput, trx?: Knex.Transaction): Promise<Material> {
   assertHalogenRule(input, input.rule);
   const work = async (t: Knex.Transaction) => {
+    await assertSheet(input, t);
     const [row] = (await t('materials').insert(toRow(input)).returning('*')) as Row[];
-    const m = toMaterial(row!);
+    const m = priced(toMaterial(row!), await sheetsInForce(new Date(), t));
     await recordAudit(t, { actorId, kind: 'material.created', subjectType: 'material', subjectId: m.id, summary: `Added ${m.name} to the catalogue as ${m.rule}`, after: auditShape(m) });
     return m;
   };
@@ -180,9 +223,11 @@ export async function updateMaterial(actorId: string, id: string, input: Materia
       // an override that would now let a halogen-bearing material under the beam is refused too
       const loose = (await t('material_machine_overrides').where({ material_id: id }).whereIn('rule', ['allowed', 'limited']).first('rule')) as { rule: MaterialRule } | undefined;
       if (loose) assertHalogenRule(input, loose.rule, 'override');
+      await assertSheet(input, t);
       const [row] = (await t('materials').where({ id }).update({ ...toRow(input), updated_at: t.fn.now() }).returning('*')) as Row[];
-      const b = toMaterial(before);
-      const a = toMaterial(row!);
+      const sheets = await sheetsInForce(new Date(), t);
+      const b = priced(toMaterial(before), sheets);
+      const a = priced(toMaterial(row!), sheets);
       const changed = Object.keys(auditShape(a)).filter((k) => JSON.stringify((auditShape(a) as Record<string, unknown>)[k]) !== JSON.stringify((auditShape(b) as Record<string, unknown>)[k]));
       await recordAudit(t, {
         actorId, kind: 'material.updated', subjectType: 'material', subjectId: id,
@@ -229,8 +274,8 @@ export async function setOverride(actorId: string, materialId: string, machineId
 }
 
 /** Each material's effective rule on each machine in use (for the Materials screen and the booking form). */
-export async function rulesByMachine(): Promise<{ machines: Machine[]; materials: Material[]; effective: Record<string, Record<string, EffectiveRule>> }> {
-  const [machines, materials, overrides] = await Promise.all([listMachines(), listMaterials(), listOverrides()]);
+export async function rulesByMachine(at = new Date()): Promise<{ machines: Machine[]; materials: Material[]; effective: Record<string, Record<string, EffectiveRule>> }> {
+  const [machines, materials, overrides] = await Promise.all([listMachines(), listMaterials(db(), at), listOverrides()]);
   const effective: Record<string, Record<string, EffectiveRule>> = {};
   for (const m of materials) {
     effective[m.id] = {};

@@ -134,6 +134,13 @@ export async function versionAt(at: Date, trx: Knex | Knex.Transaction = db()): 
   return (await withRates(trx, [row]))[0] ?? null;
 }
 
+/** Every sheet code sold by the version in force at `at` or by a later one (a material may name a sheet sold from next month). */
+export async function sheetCodesFrom(at: Date, trx: Knex | Knex.Transaction = db()): Promise<Set<string>> {
+  const current = await versionAt(at, trx);
+  const later = (await trx('price_versions').where('effective_from', '>', at).select('materials')) as { materials: { sku: string }[] }[];
+  return new Set([...(current?.materials ?? []), ...later.flatMap((v) => v.materials ?? [])].map((m) => m.sku));
+}
+
 async function requireVersionAt(at: Date, trx: Knex | Knex.Transaction = db()): Promise<PriceVersion> {
   const v = await versionAt(at, trx);
   if (!v) throw new HttpError(409, 'no_prices', 'No price version is in force at that time; an admin sets prices on the Pricing screen.');
