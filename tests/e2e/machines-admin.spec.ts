@@ -96,8 +96,12 @@ describe('the Machines screen', () => {
     await hydrated(page);
     await page.locator('[data-machine-row="laser-a"]').waitFor();
     await page.getByRole('button', { name: 'Save rules' }).waitFor(); // the rules of the first machine have loaded
-    expect(await page.evaluate(() => Math.max(document.documentElement.scrollWidth, document.body.scrollWidth))).toBeLessThanOrEqual(PHONE.width);
     await shot(page, 'machines-phone');
+    // what sticks out, named, so a failure says where to look
+    const wide = await page.evaluate((w) => [...document.querySelectorAll('main *')]
+      .filter((el) => el.getBoundingClientRect().right > w + 1 && !el.closest('.overflow-x-auto'))
+      .slice(0, 5).map((el) => `${el.tagName.toLowerCase()}.${String(el.className).slice(0, 50)} (${Math.round(el.getBoundingClientRect().right)} px)`), PHONE.width);
+    expect(await page.evaluate(() => Math.max(document.documentElement.scrollWidth, document.body.scrollWidth)), wide.join('; ')).toBeLessThanOrEqual(PHONE.width);
     expect(errors).toEqual([]);
     await ctx.close();
   });
