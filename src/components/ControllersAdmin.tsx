@@ -79,7 +79,7 @@ export default function ControllersAdmin({ machines, timeZone }: { machines: Mac
   };
 
   return (
-    <section aria-labelledby={`${ids}-h`} className="space-y-4">
+    <section aria-labelledby={`${ids}-h`} className="min-w-0 max-w-full space-y-4 overflow-x-hidden">
       <h2 id={`${ids}-h`} className="text-xl">Controllers</h2>
       <p className="hint">
         A controller is the box at a machine: a badge reader and a relay on the machine’s enable line. It asks Beamwarden whether a badge may
@@ -109,7 +109,7 @@ export default function ControllersAdmin({ machines, timeZone }: { machines: Mac
         </label>
         <button className="btn btn-primary" disabled={busy || !machineId}>Register controller</button>
       </form>
-      <fieldset className="card space-y-2 p-4">
+      <fieldset className="card min-w-0 space-y-2 p-4">
         <legend className="px-1 font-medium">Without a booking</legend>
         <label className="flex items-start gap-2 text-sm">
           <input type="radio" name={`${ids}-walk`} checked={!walkUps} disabled={busy}
@@ -127,7 +127,7 @@ export default function ControllersAdmin({ machines, timeZone }: { machines: Mac
       ) : rows.length === 0 ? (
         <p className="hint">No controllers yet. Machines without one are gated by bookings and check-in on the phone only.</p>
       ) : (
-        <div className="overflow-x-auto">
+        <div className="max-w-full overflow-x-auto">
           <table className="table">
             <caption className="sr-only">Controllers</caption>
             <thead>
