@@ -1,7 +1,7 @@
 /**
  * Clearance rules: the states, the transitions between them, validity and lapse in the site's time
  * zone, levels, and the next step a person is told. Pure (no I/O); the server module
- * src/lib/server/clearances.ts applies these rules to the database.
+ * src/lib/server/clearances/ applies these rules to the database.
  */
 import { addDays, startOfZonedDay, zonedDate } from './time';
 

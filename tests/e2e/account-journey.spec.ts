@@ -8,7 +8,7 @@ import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
 import { closeTestDb, testDb } from '../support/db';
-import { chargeBeamTime } from '../../src/lib/server/payments';
+import { chargeBeamTime } from '../../src/lib/server/payments/billing';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 

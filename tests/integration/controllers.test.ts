@@ -16,7 +16,7 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import { createPerson } from '../../src/lib/server/people';
-import { sweepControllers } from '../../src/lib/server/controllers';
+import { sweepControllers } from '../../src/lib/server/controllers/offline-alert';
 import { CONTROLLER_PATHS } from '../../src/lib/controller-openapi';
 import { DENY_REASONS } from '../../src/lib/controller-rules';
 import { Client, body } from '../support/client';

@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import { createPerson, setTier } from '../../src/lib/server/people';
-import { chargeBeamTime } from '../../src/lib/server/payments';
+import { chargeBeamTime } from '../../src/lib/server/payments/billing';
 import { zonedDate } from '../../src/lib/time';
 import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';

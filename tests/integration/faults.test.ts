@@ -7,7 +7,7 @@ import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
-import { saveCard } from '../../src/lib/server/payments';
+import { saveCard } from '../../src/lib/server/payments/cards';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';

@@ -14,7 +14,7 @@ import { signUpNew } from '../support/people';
 import { attachment, iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { to, waitForMail } from '../support/maildev';
 import { startAttempt } from '../../src/lib/server/quizzes';
-import { remindSeats } from '../../src/lib/server/induction-sessions';
+import { remindSeats } from '../../src/lib/server/induction-sessions/reminders';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';

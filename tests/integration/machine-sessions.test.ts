@@ -13,8 +13,8 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb, transaction } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import { createPerson } from '../../src/lib/server/people';
-import { recordQuizPass, signOff } from '../../src/lib/server/clearances';
-import { sweepOpenSessions } from '../../src/lib/server/sessions';
+import { recordQuizPass, signOff } from '../../src/lib/server/clearances/transitions';
+import { sweepOpenSessions } from '../../src/lib/server/machine-sessions';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 

@@ -14,9 +14,12 @@ import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import { HttpError } from '../../src/lib/server/http';
 import { createPerson, setTier } from '../../src/lib/server/people';
-import {
-  assertCanBook, chargeBeamTime, chargeBookingFee, getCharge, holdForBooking, placeHold, providerChargesOf, releaseHoldsForBooking, saveCard,
-} from '../../src/lib/server/payments';
+import { assertCanBook, placeHold } from '../../src/lib/server/payments/charge-runs';
+import { chargeBeamTime, holdForBooking } from '../../src/lib/server/payments/billing';
+import { chargeBookingFee, releaseHoldsForBooking } from '../../src/lib/server/payments/intents';
+import { getCharge } from '../../src/lib/server/payments/charge-records';
+import { providerChargesOf } from '../../src/lib/server/payments/provider-activity';
+import { saveCard } from '../../src/lib/server/payments/cards';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 

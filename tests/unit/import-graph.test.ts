@@ -19,8 +19,8 @@ const SRC = path.join(ROOT, 'src');
 // Order matters: each layer may import itself and those before it.
 const LAYERS: Array<[string, string[]]> = [
   ['infrastructure', ['db', 'env', 'errors', 'log', 'audit', 'jobs', 'mail', 'storage', 'passwords', 'file-types', 'images', 'client-address', 'security-headers', 'request-limits', 'payment-intents']],
-  ['entities', ['settings', 'people', 'machines', 'prices', 'materials', 'clearances', 'booking-rules', 'quizzes', 'hazard', 'labels', 'institution', 'badges']],
-  ['workflows', ['bookings', 'payments', 'sessions', 'faults', 'material-requests', 'upkeep', 'reports', 'induction-sessions', 'controllers', 'reconciliation', 'sign-in', 'account-export']],
+  ['entities', ['settings', 'people', 'machines', 'prices', 'materials', 'clearances/*', 'booking-rules', 'quizzes', 'hazard', 'labels', 'institution', 'badges']],
+  ['workflows', ['bookings', 'payments/*', 'machine-sessions', 'faults/*', 'material-requests', 'upkeep', 'reports', 'induction-sessions/*', 'controllers/*', 'reconciliation', 'sign-in', 'account-export']],
   ['cascades', ['cascades/*', 'accounts', 'sign-up']],
   ['web', ['http', 'health', 'session', 'guards', 'auth-forms', 'billing-pages', 'report-routes', 'charge-json', 'fault-json', 'worker']],
 ];

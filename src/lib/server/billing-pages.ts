@@ -1,7 +1,8 @@
 /** What the Account and receipt pages need, gathered on the server (pages never import the database). */
 import { env } from './env';
 import { getSettings } from './settings';
-import { accountSummary, getCharge, refundsOf } from './payments';
+import { accountSummary, refundsOf } from './payments/account';
+import { getCharge } from './payments/charge-records';
 import { hasAnyRole } from '../roles';
 import type { SignedInPerson } from '../signed-in-person';
 
@@ -19,7 +20,7 @@ export async function receiptPage(viewer: SignedInPerson, chargeId: string) {
   if (charge.personId !== viewer.id && !staff) return null;
   const settings = await getSettings();
   // wall-clock minutes and, when the person gave it, the machine's job-timer reading (shown side by side)
-  const { getSession } = await import('./sessions');
+  const { getSession } = await import('./machine-sessions');
   const session = charge.sessionId ? await getSession(charge.sessionId) : null;
   const times = session ? { wallClockMinutes: session.beamMinutes, jobTimerMinutes: session.jobTimerMinutes } : null;
   return { charge, refunds: await refundsOf(chargeId), times, timeZone: settings.timeZone, siteName: settings.name, staff };

@@ -11,7 +11,7 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG, retryOnConflict, transaction } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
-import { canOperate } from './clearances';
+import { canOperate } from './clearances/state';
 import { getRules, getTier, listClosures, type MachineRules } from './booking-rules';
 import { getSettings } from './settings';
 import { queueMail, type MailAttachment } from './mail';

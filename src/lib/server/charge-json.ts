@@ -1,5 +1,5 @@
 /** The JSON shape of a charge in API answers (no provider ids, no internal fields). */
-import type { Charge } from './payments';
+import type { Charge } from './payments/charge-records';
 
 export function chargeJson(c: Charge) {
   return {

@@ -1,5 +1,5 @@
 /** The JSON shape of a fault in the API (photo keys stay on the server; photos are served by URL). */
-import type { Fault } from './faults';
+import type { Fault } from './faults/records';
 
 export function faultJson(f: Fault) {
   return {

@@ -2,8 +2,8 @@
  * What the money side must do after a change elsewhere (a booking made or cancelled, a session checked out, a
  * refund asked for), recorded as a pg-boss job inside the transaction that made the change: the intent exists
  * exactly when the change was committed, and survives a process that dies right after the commit. The worker
- * runs it (payments.ts, runIntent) with idempotency keys derived from our own ids, retrying with back-off; the
- * request that made the change may try it once at once (payments.ts, tryIntentNow).
+ * runs it (payments/intents.ts, runIntent) with idempotency keys derived from our own ids, retrying with back-off; the
+ * request that made the change may try it once at once (payments/intents.ts, tryIntentNow).
  *
  * This module knows only the jobs table (and one read of the charges: the holds standing on bookings), so bookings
  * and other areas record intents and show what cancelling releases without importing payments.

@@ -7,7 +7,7 @@ import type { QuizIntro } from '../quiz-rules';
 import { db, transaction } from './db';
 import { HttpError } from './errors';
 import { recordAudit } from './audit';
-import { recordQuizPass } from './clearances';
+import { recordQuizPass } from './clearances/transitions';
 import { effectiveState, type ClearanceState } from '../clearance-rules';
 import {
   SUBMIT_GRACE_SECONDS, attemptGate, attemptOpen, attemptsLeft, deliver, drawQuestions, scoreAttempt,

@@ -10,7 +10,7 @@ import { queueMail } from './mail';
 import { activeWithRole } from './people';
 import { getSettings } from './settings';
 import { zonedMidnight } from './prices';
-import { knownChargeIds, providerActivity, recordedActivity } from './payments';
+import { knownChargeIds, providerActivity, recordedActivity } from './payments/provider-activity';
 import { fromProviderCharge, fromProviderRefund, MISMATCH_TEXT, reconcile, type Mismatch } from '../reconcile';
 
 export interface ReconciliationRun {

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { json, readQuery, requireSignedIn, route } from '../../../lib/server/http';
-import { listCharges } from '../../../lib/server/payments';
+import { listCharges } from '../../../lib/server/payments/account';
 import { page, pageSize } from '../../../lib/schemas';
 import { chargeJson } from '../../../lib/server/charge-json';
 

@@ -1,7 +1,9 @@
 import { z } from 'zod';
 import { json, readJson, readQuery, requireSignedIn, route } from '../../../lib/server/http';
 import { calendarFeed, createBooking } from '../../../lib/server/bookings';
-import { assertCanBook, bookingHoldNotice, tryIntentNow } from '../../../lib/server/payments';
+import { assertCanBook } from '../../../lib/server/payments/charge-runs';
+import { bookingHoldNotice } from '../../../lib/server/payments/account';
+import { tryIntentNow } from '../../../lib/server/payments/intents';
 import { bookingNotes, endsAfterStart, endsAfterStartMessage, isoInstant, materialDeclaration, uuid } from '../../../lib/schemas';
 
 const feedQuery = z

@@ -1,5 +1,6 @@
 import { json, readJson, route } from '../../../lib/server/http';
-import { authenticate, authorize } from '../../../lib/server/controllers';
+import { authenticate } from '../../../lib/server/controllers/registry';
+import { authorize } from '../../../lib/server/controllers/authorize';
 import { authorizeBody } from '../../../lib/controller-schemas';
 
 /**

@@ -1,5 +1,6 @@
 import { json, readJson, route } from '../../../lib/server/http';
-import { authenticate, heartbeat } from '../../../lib/server/controllers';
+import { authenticate } from '../../../lib/server/controllers/registry';
+import { heartbeat } from '../../../lib/server/controllers/release';
 import { heartbeatBody } from '../../../lib/controller-schemas';
 
 /** POST /api/controller/heartbeat {sessionId?, beamSeconds?, firmware?} (device token) → 200 {ok, state, …}. */

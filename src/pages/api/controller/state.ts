@@ -1,5 +1,6 @@
 import { json, readQuery, route } from '../../../lib/server/http';
-import { authenticate, controllerState } from '../../../lib/server/controllers';
+import { authenticate } from '../../../lib/server/controllers/registry';
+import { controllerState } from '../../../lib/server/controllers/state';
 import { stateQuery } from '../../../lib/controller-schemas';
 
 /**

@@ -1,5 +1,5 @@
 import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createController, listControllers, walkUpsAllowed } from '../../../lib/server/controllers';
+import { createController, listControllers, walkUpsAllowed } from '../../../lib/server/controllers/registry';
 import { createControllerBody } from '../../../lib/controller-schemas';
 
 /** GET /api/controllers (admin) → {walkUpsAllowed, controllers: [...]} (never a token). */

@@ -1,5 +1,5 @@
 import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { setWalkUpsAllowed } from '../../../lib/server/controllers';
+import { setWalkUpsAllowed } from '../../../lib/server/controllers/registry';
 import { walkUpsBody } from '../../../lib/controller-schemas';
 
 /** PUT /api/controllers/walk-ups {mode: 'bookings_only' | 'walk_ups_allowed'} (admin) → 200 {mode}. */

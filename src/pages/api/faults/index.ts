@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { json, readQuery, requireRole, route } from '../../../lib/server/http';
-import { listFaults } from '../../../lib/server/faults';
+import { listFaults } from '../../../lib/server/faults/records';
 import { faultJson } from '../../../lib/server/fault-json';
 import { FAULT_SEVERITIES, FAULT_STATUSES } from '../../../lib/faults-shared';
 import { uuid } from '../../../lib/schemas';

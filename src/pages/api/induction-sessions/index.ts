@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { json, readJson, readQuery, requireRole, requireSignedIn, route } from '../../../lib/server/http';
-import { createSession, listSessions } from '../../../lib/server/induction-sessions';
+import { createSession } from '../../../lib/server/induction-sessions/publishing';
+import { listSessions } from '../../../lib/server/induction-sessions/records';
 import { sessionInput } from '../../../lib/induction';
 import { isoInstant, uuid } from '../../../lib/schemas';
 

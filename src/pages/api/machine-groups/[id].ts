@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { HttpError, idParam, json, readJson, requireRole, route } from '../../../lib/server/http';
-import { updateGroup } from '../../../lib/server/clearances';
+import { updateGroup } from '../../../lib/server/clearances/groups';
 import { REFRESHER_RULES } from '../../../lib/clearance-rules';
 import { hasAnyRole } from '../../../lib/roles';
 

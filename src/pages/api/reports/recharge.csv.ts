@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { readQuery, requireRole, route } from '../../../lib/server/http';
-import { rechargeCsv } from '../../../lib/server/payments';
+import { rechargeCsv } from '../../../lib/server/payments/account';
 import { costCentre } from '../../../lib/schemas';
 import { csvHeaders } from '../../../lib/csv';
 

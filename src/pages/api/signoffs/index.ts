@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { json, readJson, readQuery, requireRole, route } from '../../../lib/server/http';
-import { signOff, signoffQueue } from '../../../lib/server/clearances';
+import { signOff } from '../../../lib/server/clearances/transitions';
+import { signoffQueue } from '../../../lib/server/clearances/lists';
 import { uuid } from '../../../lib/schemas';
 import { LEVELS } from '../../../lib/clearance-rules';
 

@@ -1,5 +1,5 @@
 import { HttpError, json, route } from '../../../lib/server/http';
-import { handleWebhook } from '../../../lib/server/payments';
+import { handleWebhook } from '../../../lib/server/payments/webhooks';
 
 const MAX = 512 * 1024;
 

@@ -1,7 +1,7 @@
 import { json, requireSignedIn, route, HttpError } from '../../../../lib/server/http';
 import { cancelBooking } from '../../../../lib/server/bookings';
 import { uuid } from '../../../../lib/schemas';
-import { tryIntentNow } from '../../../../lib/server/payments';
+import { tryIntentNow } from '../../../../lib/server/payments/intents';
 import { cancellationIntent } from '../../../../lib/server/payment-intents';
 
 /** POST /api/bookings/:id/cancel → the cancelled booking (lateCancel true after the cut-off). */

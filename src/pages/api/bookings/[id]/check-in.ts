@@ -1,5 +1,5 @@
 import { HttpError, json, readJson, requireSignedIn, route } from '../../../../lib/server/http';
-import { checkIn } from '../../../../lib/server/sessions';
+import { checkIn } from '../../../../lib/server/machine-sessions';
 import { uuid } from '../../../../lib/schemas';
 import { checkInBody } from '../../../../lib/session-schemas';
 

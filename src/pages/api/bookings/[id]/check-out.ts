@@ -1,5 +1,5 @@
 import { HttpError, json, readJson, requireSignedIn, route } from '../../../../lib/server/http';
-import { checkOut } from '../../../../lib/server/sessions';
+import { checkOut } from '../../../../lib/server/machine-sessions';
 import { uuid } from '../../../../lib/schemas';
 import { checkOutBody } from '../../../../lib/session-schemas';
 

@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { getCharge, refund } from '../../../../lib/server/payments';
+import { getCharge } from '../../../../lib/server/payments/charge-records';
+import { refund } from '../../../../lib/server/payments/intents';
 import { chargeJson } from '../../../../lib/server/charge-json';
 import { minor, uuid } from '../../../../lib/schemas';
 

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { addFaultNote } from '../../../../lib/server/faults';
+import { addFaultNote } from '../../../../lib/server/faults/triage';
 import { faultJson } from '../../../../lib/server/fault-json';
 import { faultNoteText } from '../../../../lib/faults-shared';
 import { uuid } from '../../../../lib/schemas';

@@ -1,5 +1,5 @@
 import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { resolveFault } from '../../../../lib/server/faults';
+import { resolveFault } from '../../../../lib/server/faults/triage';
 import { faultJson } from '../../../../lib/server/fault-json';
 import { resolveBody } from '../../../../lib/faults-shared';
 import { uuid } from '../../../../lib/schemas';

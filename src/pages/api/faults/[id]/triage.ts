@@ -1,5 +1,5 @@
 import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { triageFault } from '../../../../lib/server/faults';
+import { triageFault } from '../../../../lib/server/faults/triage';
 import { faultJson } from '../../../../lib/server/fault-json';
 import { triageBody } from '../../../../lib/faults-shared';
 import { uuid } from '../../../../lib/schemas';

@@ -1,5 +1,5 @@
 import { idParam, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { signOffFromRoster } from '../../../../lib/server/induction-sessions';
+import { signOffFromRoster } from '../../../../lib/server/induction-sessions/roster';
 import { rosterSignoffInput } from '../../../../lib/induction';
 
 /**

@@ -1,5 +1,6 @@
 import { HttpError, json, parseWith, requireSignedIn, route } from '../../../../lib/server/http';
-import { MAX_PHOTOS, PHOTO_MAX_BYTES, reportFault, type PhotoUpload } from '../../../../lib/server/faults';
+import { MAX_PHOTOS, PHOTO_MAX_BYTES, type PhotoUpload } from '../../../../lib/server/faults/photos';
+import { reportFault } from '../../../../lib/server/faults/reporting';
 import { faultReportFields } from '../../../../lib/faults-shared';
 import { faultJson } from '../../../../lib/server/fault-json';
 

@@ -1,5 +1,5 @@
 import { json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { setMachineStatus } from '../../../../lib/server/faults';
+import { setMachineStatus } from '../../../../lib/server/faults/machine-status';
 import { statusBody } from '../../../../lib/faults-shared';
 
 /**

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { clearStewardFlag } from '../../../../lib/server/sessions';
+import { clearStewardFlag } from '../../../../lib/server/machine-sessions';
 import { uuid } from '../../../../lib/schemas';
 
 const body = z.object({ note: z.string().trim().max(1000).default('') }).strict();

@@ -1,5 +1,5 @@
 import { HttpError, requireSignedIn, route } from '../../../../../lib/server/http';
-import { faultPhoto } from '../../../../../lib/server/faults';
+import { faultPhoto } from '../../../../../lib/server/faults/records';
 import { uuid } from '../../../../../lib/schemas';
 
 /** GET /api/faults/:id/photos/:n (stewards, admins and the reporter) → the cleaned JPEG; 404 for anyone else. */

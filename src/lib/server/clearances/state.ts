@@ -1,0 +1,94 @@
+/**
+ * Clearances: the state of a person's clearance for a machine group, and canOperate(), the single gate bookings and
+ * check-ins call. The rules themselves (states, transitions, lapse, levels, next steps) are in the pure module
+ * src/lib/clearance-rules.ts. Beside it: groups.ts, transitions.ts, lists.ts, sweep.ts.
+ */
+import type { Knex } from 'knex';
+import { db } from '../db';
+import { decideOperate, effectiveState, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
+export type { ClearanceState } from '../../clearance-rules';
+
+export type OperateVerdict = { ok: true } | { ok: false; state: ClearanceState | 'none'; message: string };
+
+export type Q = Knex | Knex.Transaction;
+
+export interface MachineGroup {
+  id: string;
+  code: string;
+  name: string;
+  validityDays: number;
+  refresher: RefresherRule;
+  checklist: string[];
+  machines: { id: string; code: string; name: string; requiredLevel: ClearanceLevel }[];
+  publishedQuizId: string | null;
+}
+
+export interface ClearanceRow {
+  id: string;
+  person_id: string;
+  group_id: string;
+  state: ClearanceState;
+  level: ClearanceLevel;
+  quiz_passed_at: Date | null;
+  cleared_at: Date | null;
+  expires_at: Date | null;
+  signed_off_by: string | null;
+  suspended_from: Exclude<ClearanceState, 'suspended'> | null;
+  suspended_reason: string | null;
+  suspended_at: Date | null;
+  lapse_warned_for: Date | null;
+  updated_at: Date;
+}
+
+export async function siteZone(q: Q): Promise<string> {
+  const row = await q('site_settings').where({ id: 1 }).first('time_zone');
+  return (row?.time_zone as string | undefined) ?? 'UTC';
+}
+
+export function formatLocalDate(at: Date, timeZone: string): string {
+  return new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'long', year: 'numeric' }).format(at);
+}
+
+export function formatLocalDateTime(at: Date, timeZone: string): string {
+  return new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'short', year: 'numeric', hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZoneName: 'short' }).format(at);
+}
+
+// ---------------------------------------------------------------------------------------------
+// The gate
+
+/**
+ * May `personId` run `machineId` at `at`? Reads the clearance of the machine's group and decides
+ * with the pure rules: an expired clearance counts as lapsed at once, even before the timed job
+ * writes it; a suspended, lapsed or missing clearance or too low a level refuses, with the next step.
+ */
+export async function canOperate(personId: string, machineId: string, at: Date, trx?: Knex | Knex.Transaction): Promise<OperateVerdict> {
+  const q = trx ?? db();
+  const machine = await q('machines as m')
+    .leftJoin('machine_groups as g', 'g.id', 'm.group_id')
+    .where('m.id', machineId)
+    .first('m.name as machine_name', 'm.required_level', 'm.group_id', 'g.name as group_name', 'g.refresher');
+  if (!machine) return { ok: false, state: 'none', message: 'This machine does not exist or has been retired.' };
+  if (!machine.group_id) {
+    return { ok: false, state: 'none', message: `${machine.machine_name} is not in a clearance group yet; an admin must assign one before anyone can run it.` };
+  }
+  const clearance = (await q('clearances').where({ person_id: personId, group_id: machine.group_id }).first()) as ClearanceRow | undefined;
+  const hasQuiz = Boolean(await q('quizzes as z').join('quiz_versions as v', 'v.quiz_id', 'z.id').where({ 'z.group_id': machine.group_id, 'v.status': 'published' }).first('z.id'));
+  return decideOperate(
+    clearance ? { state: clearance.state, level: clearance.level, expiresAt: clearance.expires_at } : null,
+    { requiredLevel: machine.required_level, groupName: machine.group_name, refresher: machine.refresher, hasQuiz },
+    at,
+  );
+}
+
+/** A person's clearance on a group as it holds at `at` (for induction seats and the screens that explain the gate). */
+export async function clearanceOf(personId: string, groupId: string, at: Date, q: Q = db()): Promise<{ state: ClearanceState; expiresAt: Date | null; expiresOn: string | null; suspendedReason: string | null }> {
+  const r = (await q('clearances').where({ person_id: personId, group_id: groupId }).first()) as ClearanceRow | undefined;
+  if (!r) return { state: 'quiz due', expiresAt: null, expiresOn: null, suspendedReason: null };
+  const zone = await siteZone(q);
+  const state = effectiveState(r.state, r.expires_at, at);
+  return {
+    state, expiresAt: r.expires_at,
+    expiresOn: r.expires_at ? formatLocalDate(new Date(r.expires_at.getTime() - 1), zone) : null,
+    suspendedReason: state === 'suspended' ? r.suspended_reason : null,
+  };
+}

@@ -1,0 +1,212 @@
+/**
+ * A machine's status (in service / degraded / out of service): every change, and the stop cascade.
+ *
+ * A `stop` fault takes the machine out of service in the same transaction as the report: the status change row,
+ * every reserved booking that has not ended becomes `bumped` (audited), the bumped people and the stewards are
+ * e-mailed (queued in the transaction). Card holds of bumped bookings are released after the commit (payments/
+ * talks to the provider, which must not happen inside a transaction). A `degraded` fault marks the machine
+ * degraded and keeps its bookings.
+ */
+import type { Knex } from 'knex';
+import { recordAudit } from '../audit';
+import { findMachine, lockMachine, openFaultCounts, type Actor, type Conn, type MachineRow } from './records';
+import { transaction } from '../db';
+import { env } from '../env';
+import { HttpError } from '../errors';
+import { queueMail } from '../mail';
+import { recordPaymentIntent } from '../payment-intents';
+import { releaseHoldsAfterCancel } from '../payments/intents';
+import { cancellationAttachment, offerFreedTime, raiseSequence } from '../bookings';
+import type { FaultSeverity, MachineStatus } from '../../faults-shared';
+
+async function siteZone(trx: Conn): Promise<string> {
+  const row = await trx('site_settings').where({ id: 1 }).first('time_zone');
+  return (row?.time_zone as string | undefined) ?? 'UTC';
+}
+
+function formatRange(startsAt: Date, endsAt: Date, tz: string): string {
+  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long' }).format(startsAt);
+  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
+  return `${day}, ${t.format(startsAt)}–${t.format(endsAt)}`;
+}
+
+interface Effects {
+  bumped: string[];
+}
+
+/**
+ * Writes a status change (machine row + history row + audit) in `trx`. Going `out of service` bumps every
+ * reserved booking on the machine that has not ended and e-mails the people bumped.
+ */
+export async function changeStatus(
+  trx: Knex.Transaction,
+  machine: MachineRow,
+  to: MachineStatus,
+  ctx: { actorId: string | null; faultId: string | null; reason: string; now: Date },
+): Promise<Effects> {
+  if (machine.status === to) return { bumped: [] };
+  await trx('machines').where({ id: machine.id }).update({ status: to, updated_at: trx.fn.now() });
+  await trx('machine_status_changes').insert({
+    machine_id: machine.id, from_status: machine.status, to_status: to, changed_at: ctx.now, actor_id: ctx.actorId, fault_id: ctx.faultId, reason: ctx.reason,
+  });
+  await recordAudit(trx, {
+    actorId: ctx.actorId,
+    kind: 'machine.status_changed',
+    subjectType: 'machine',
+    subjectId: machine.id,
+    summary: `${machine.name}: ${machine.status} → ${to}. ${ctx.reason}`.slice(0, 500),
+    before: { status: machine.status },
+    after: { status: to, reason: ctx.reason, faultId: ctx.faultId },
+  });
+  const from = machine.status;
+  machine.status = to;
+  if (to === 'out of service') return { bumped: await bumpBookings(trx, machine, ctx) };
+  if (to === 'in service' && from === 'out of service') await offerBumpedTime(trx, machine.id, ctx.now);
+  return { bumped: [] };
+}
+
+async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { actorId: string | null; reason: string; now: Date }): Promise<string[]> {
+  const rows = (await trx('bookings as b')
+    .join('people as p', 'p.id', 'b.person_id')
+    .where({ 'b.machine_id': machine.id, 'b.state': 'reserved' })
+    .where('b.ends_at', '>', ctx.now)
+    .orderBy('b.starts_at')
+    .forUpdate('b')
+    .select('b.id', 'b.kind', 'b.course_name', 'b.starts_at', 'b.ends_at', 'b.calendar_sequence', 'b.person_id', 'p.email', 'p.name')) as {
+    id: string; kind: string; course_name: string | null; starts_at: Date; ends_at: Date; calendar_sequence: number; person_id: string; email: string; name: string;
+  }[];
+  if (!rows.length) return [];
+  const tz = await siteZone(trx);
+  const site = await trx('site_settings').where({ id: 1 }).first('name');
+  await trx('bookings').whereIn('id', rows.map((r) => r.id)).update({ state: 'bumped', calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() });
+  for (const r of rows) {
+    if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: 'expired' });
+    await recordAudit(trx, {
+      actorId: ctx.actorId,
+      kind: 'booking.bumped',
+      subjectType: 'booking',
+      subjectId: r.id,
+      summary: `Bumped: ${machine.name} is out of service`,
+      before: { state: 'reserved' },
+      after: { state: 'bumped' },
+    });
+    // the machine is out of service now, so offerFreedTime offers nothing on it until it is back (see offerBumpedTime)
+    await offerFreedTime(trx, machine.id, { start: r.starts_at > ctx.now ? r.starts_at : ctx.now, end: r.ends_at }, ctx.now);
+    await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: `${machine.name} is out of service`, notify: false, actorId: ctx.actorId });
+    if (r.kind === 'hold') continue;
+    await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
+      greeting: `Kia ora ${r.name},`,
+      paragraphs: [
+        `${machine.name} was taken out of service after a fault was reported, so your booking on ${formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
+        'You are not charged for it: any hold on your card is released.',
+        'Book another time or another machine when it suits you.',
+        'The attached calendar file removes it from your calendar.',
+      ],
+      action: { label: 'Book another time', url: `${env().PUBLIC_BASE_URL}/book` },
+    }, [cancellationAttachment({ ...r, calendar_sequence: r.calendar_sequence + 1 }, machine.name, site?.name ?? 'Beamwarden')]);
+  }
+  return rows.map((r) => r.id);
+}
+
+/** Back in service: future time freed by bumped bookings is offered to the people waiting for it. */
+async function offerBumpedTime(trx: Knex.Transaction, machineId: string, now: Date): Promise<void> {
+  const rows = await trx('bookings')
+    .where({ machine_id: machineId, state: 'bumped' })
+    .where('ends_at', '>', now)
+    .orderBy('starts_at')
+    .select('starts_at', 'ends_at');
+  for (const r of rows) await offerFreedTime(trx, machineId, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+}
+
+/** The status a fault of `severity` asks for, given the machine's status now (never raises a machine's status). */
+export function statusFor(severity: FaultSeverity, current: MachineStatus): MachineStatus {
+  if (severity === 'stop') return 'out of service';
+  if (severity === 'degraded' && current === 'in service') return 'degraded';
+  return current;
+}
+
+/** The checks a steward confirms before a machine goes back into service. */
+export const RETURN_CHECKLIST = {
+  causeFixed: 'The cause of the fault is fixed or made safe',
+  interlocksTested: 'Lid interlock and emergency stop tested',
+  coolingAndExtraction: 'Cooling and extraction run normally',
+  testFire: 'A low-power test job ran attended, without trouble',
+} as const;
+export type ReturnChecklist = Record<keyof typeof RETURN_CHECKLIST, boolean>;
+
+export interface StatusInput {
+  status: MachineStatus;
+  reason: string;
+  checklist?: Partial<ReturnChecklist>;
+}
+
+/**
+ * Sets a machine's status (steward, admin) with a reason, audited. Back into service from out of service is refused
+ * while a `stop` fault on it is open and needs every item of RETURN_CHECKLIST; the people who reported its recent
+ * `stop` faults are told.
+ */
+export async function setMachineStatus(actor: Actor, machineIdOrCode: string, input: StatusInput, now = new Date()): Promise<{ machineId: string; status: MachineStatus; bumpedBookings: number }> {
+  const found = await findMachine(machineIdOrCode);
+  if (!found) throw new HttpError(404, 'machine_not_found', 'No machine has that id or code.');
+  const result = await transaction(async (trx) => {
+    const machine = await lockMachine(trx, found.id);
+    if (machine.status === input.status) throw new HttpError(409, 'status_unchanged', `${machine.name} is already ${input.status}.`);
+    if (input.status !== 'out of service' && machine.status === 'out of service') {
+      const r = await returnToService(trx, actor, machine, { reason: input.reason, checklist: input.checklist ?? {}, to: input.status }, now);
+      return { machineId: machine.id, status: machine.status, bumped: r.bumped };
+    }
+    const effects = await changeStatus(trx, machine, input.status, { actorId: actor.id, faultId: null, reason: input.reason, now });
+    if (input.status === 'in service' || input.status === 'degraded') await tellStopReporters(trx, machine, input.status, input.reason);
+    return { machineId: machine.id, status: machine.status, bumped: effects.bumped };
+  });
+  await releaseHoldsAfterCancel(result.bumped, `${found.name} is out of service`, actor.id);
+  return { machineId: result.machineId, status: result.status, bumpedBookings: result.bumped.length };
+}
+
+/**
+ * Out of service → back in use, inside `trx` with the machine locked: refused (409 open_stop_fault, naming it)
+ * while a `stop` fault on the machine is unresolved, and (422 checklist_incomplete) until every check is confirmed.
+ * Without an explicit `to`, the machine comes back `degraded` when a degraded fault is still open, else `in service`.
+ */
+export async function returnToService(
+  trx: Knex.Transaction,
+  actor: Actor,
+  machine: MachineRow,
+  input: { reason: string; checklist: Partial<ReturnChecklist>; to?: MachineStatus },
+  now: Date,
+): Promise<{ bumped: string[] }> {
+  const open = await openFaultCounts(trx, machine.id);
+  if (open.stop.length) {
+    const names = open.stop.map((f) => `“${f.summary}”`).join(', ');
+    throw new HttpError(409, 'open_stop_fault',
+      `${machine.name} has ${open.stop.length === 1 ? 'an open stop fault' : `${open.stop.length} open stop faults`}: ${names}. Resolve ${open.stop.length === 1 ? 'it' : 'them'} first, or use “Resolve and return to service” on the last one.`,
+      { faults: open.stop.map((f) => f.id).join(',') });
+  }
+  const missing = (Object.keys(RETURN_CHECKLIST) as (keyof ReturnChecklist)[]).filter((k) => input.checklist[k] !== true);
+  if (missing.length) {
+    throw new HttpError(422, 'checklist_incomplete', 'Confirm every check before the machine goes back into service.',
+      Object.fromEntries(missing.map((k) => [`checklist.${k}`, `Confirm: ${RETURN_CHECKLIST[k]}.`])));
+  }
+  const degradedLeft = await trx('faults').where({ machine_id: machine.id, severity: 'degraded' }).whereNot('status', 'resolved').first('id');
+  const to: MachineStatus = input.to ?? (degradedLeft ? 'degraded' : 'in service');
+  const reason = `${input.reason} (checks confirmed: ${Object.keys(RETURN_CHECKLIST).join(', ')})`;
+  const effects = await changeStatus(trx, machine, to, { actorId: actor.id, faultId: null, reason, now });
+  await tellStopReporters(trx, machine, to, input.reason);
+  return { bumped: effects.bumped };
+}
+
+/** The people who reported the machine's recent `stop` faults are told it is back. */
+async function tellStopReporters(trx: Knex.Transaction, machine: MachineRow, to: MachineStatus, note: string): Promise<void> {
+  const reporters = await trx('faults as f').join('people as p', 'p.id', 'f.reported_by')
+    .where({ 'f.machine_id': machine.id, 'f.severity': 'stop' })
+    .where((w) => w.whereNot('f.status', 'resolved').orWhere('f.resolved_at', '>=', trx.raw("now() - interval '7 days'")))
+    .distinct('p.email', 'p.name');
+  for (const r of reporters as { email: string; name: string }[]) {
+    await queueMail(trx, r.email, `${machine.name} is back in service`, {
+      greeting: `Kia ora ${r.name},`,
+      paragraphs: [`${machine.name}, which you reported out of service, is back ${to === 'degraded' ? 'in use, marked degraded' : 'in service'}. Steward’s note: ${note}`],
+      action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
+    });
+  }
+}
+

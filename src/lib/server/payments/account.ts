@@ -1,0 +1,102 @@
+/** What a person (and the finance report) sees of their money: the account summary, charges, refunds, recharge CSV. */
+import { majorUnits, toCsv } from '../../csv';
+import type { Tier } from '../../pricing';
+import { zonedDate } from '../../time';
+import { db } from '../db';
+import type { HttpError } from '../errors';
+import { zonedMidnight } from '../prices';
+import { getSettings } from '../settings';
+import { chargeQuery, personFor, toCharge, type Charge } from './charge-records';
+import { savedCard, type SavedCard } from './cards';
+
+
+export interface AccountSummary {
+  tier: Tier;
+  costCentre: string | null;
+  recharge: boolean;
+  card: SavedCard | null;
+  currency: string;
+  balanceOwedMinor: number;
+  failed: number;
+}
+
+export async function accountSummary(personId: string): Promise<AccountSummary> {
+  const person = await personFor(personId);
+  const { currency } = await getSettings();
+  const owed = await db()('charges').where({ person_id: personId }).whereIn('state', ['payment failed', 'carried'])
+    .select(db().raw('coalesce(sum(amount_minor), 0)::int as owed'), db().raw("count(*) filter (where state = 'payment failed')::int as failed")).first();
+  const v = await db()('price_versions').where('effective_from', '<=', new Date()).orderBy('effective_from', 'desc').first('recharge_tiers');
+  return {
+    tier: person.tier,
+    costCentre: person.costCentre,
+    recharge: Boolean(person.costCentre && (v?.recharge_tiers ?? []).includes(person.tier)),
+    card: await savedCard(personId),
+    currency,
+    balanceOwedMinor: Number(owed?.owed ?? 0),
+    failed: Number(owed?.failed ?? 0),
+  };
+}
+
+export type ChargeSort = 'date' | 'amount' | 'state' | 'machine';
+
+export async function listCharges(personId: string | null, opts: { page: number; pageSize: number; sort: ChargeSort; dir: 'asc' | 'desc' }): Promise<{ rows: Charge[]; total: number }> {
+  const base = db()('charges as c');
+  if (personId) base.where('c.person_id', personId);
+  const [{ count }] = (await base.clone().count({ count: '*' })) as [{ count: number }];
+  const column = { date: 'c.created_at', amount: 'c.amount_minor', state: 'c.state', machine: 'm.name' }[opts.sort];
+  const q = chargeQuery();
+  if (personId) q.where('c.person_id', personId);
+  const rows = await q.orderBy(column, opts.dir).orderBy('c.id').limit(opts.pageSize).offset((opts.page - 1) * opts.pageSize);
+  return { total: Number(count), rows: rows.map(toCharge) };
+}
+
+export async function refundsOf(chargeId: string): Promise<{ amountMinor: number; reason: string; at: Date; actorName: string | null; state: 'pending' | 'done' | 'failed' }[]> {
+  const rows = await db()('charge_refunds as r').leftJoin('people as p', 'p.id', 'r.actor_id').where('r.charge_id', chargeId)
+    .orderBy('r.created_at').select('r.amount_minor', 'r.reason', 'r.created_at', 'r.state', 'p.name');
+  return rows.map((r) => ({ amountMinor: r.amount_minor, reason: r.reason, at: r.created_at, actorName: r.name, state: r.state }));
+}
+
+/**
+ * Internal recharge for finance: one line per recharged charge in the month (site time zone), net of
+ * refunds, and a last TOTAL line equal to the sum of the lines.
+ */
+export async function rechargeCsv(month: string, costCentre?: string): Promise<{ csv: string; totalMinor: number; lines: number }> {
+  const { timeZone, currency } = await getSettings();
+  const [y, m] = month.split('-').map(Number) as [number, number];
+  const from = zonedMidnight(`${month}-01`, timeZone);
+  const next = m === 12 ? `${y + 1}-01-01` : `${y}-${String(m + 1).padStart(2, '0')}-01`;
+  const to = zonedMidnight(next, timeZone);
+  const q = chargeQuery().where('c.method', 'recharge').whereIn('c.state', ['recharged', 'refunded'])
+    .where('c.created_at', '>=', from).where('c.created_at', '<', to).orderBy('c.cost_centre').orderBy('c.created_at');
+  if (costCentre) q.where('c.cost_centre', costCentre);
+  const rows = (await q).map(toCharge);
+  const money = (n: number) => majorUnits(n, currency);
+  let total = 0;
+  const records = rows.map((c) => {
+    const net = c.amountMinor - c.refundedMinor;
+    total += net;
+    return [zonedDate(c.createdAt, timeZone), c.costCentre, c.personName, c.personEmail, c.machineName ?? '', c.kind.replace('_', ' '), c.minutes ?? '', money(net), money(c.taxMinor), c.id];
+  });
+  const csv = toCsv(
+    ['date', 'cost_centre', 'person', 'email', 'machine', 'kind', 'minutes', `amount (${currency})`, `tax_included (${currency})`, 'charge_id'],
+    [...records, ['TOTAL', costCentre ?? 'all', '', '', '', '', '', money(total), '', '']],
+  );
+  return { csv, totalMinor: total, lines: records.length };
+}
+
+/** What the person sees of a booking's card hold just after booking. */
+export async function bookingHoldNotice(bookingId: string, personId: string, refusal: HttpError | null): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
+  if (refusal?.code === 'not_priced') return { state: 'none', notice: 'This machine has no price for your tier yet, so nothing is held now; your booking stands.' };
+  const c = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at', 'desc').first('state', 'failure_message');
+  if (!c) {
+    const summary = await accountSummary(personId);
+    if (!summary.card && !summary.recharge) {
+      return { state: 'none', notice: 'No card is saved on your account, so nothing is held now: beam time is charged at check-out. Save a card on the Account screen to pay by card.' };
+    }
+    return { state: 'none', notice: null };
+  }
+  if (c.state === 'held') return { state: 'held', notice: null };
+  if (c.state === 'pending' || c.state === 'queued') return { state: 'hold pending', notice: 'The card service is not answering just now: the hold is retried by itself and your booking stands.' };
+  if (c.state === 'released' && c.failure_message) return { state: 'none', notice: `${c.failure_message} Nothing is held now; beam time is charged at check-out.` };
+  return { state: 'none', notice: null };
+}

@@ -1,0 +1,39 @@
+/** Receipts: the number and date given when money is taken, and the e-mail that carries them. */
+import type { Knex } from 'knex';
+import { formatMoney } from '../../pricing';
+import { formatReceiptNumber, receiptPrefix } from '../../receipts';
+import { env } from '../env';
+import { queueMail } from '../mail';
+import { getSettings } from '../settings';
+import { personFor, updateCharge, type Charge } from './charge-records';
+
+/**
+ * Dates the receipt (now: when the money is taken) and gives it the next number of the year in the site's zone:
+ * one upsert on the year's counter, whose row lock makes concurrent charges take turns (no number given twice).
+ */
+export async function assignReceipt(trx: Knex.Transaction, chargeId: string): Promise<void> {
+  const row = await trx('charges').where({ id: chargeId }).forUpdate().first('receipt_number');
+  if (!row || row.receipt_number) return;
+  const { name, timeZone } = await getSettings();
+  const now = new Date();
+  const year = Number(new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric' }).format(now));
+  const r = await trx.raw(
+    'INSERT INTO receipt_counters (year, last_number) VALUES (?, 1) ON CONFLICT (year) DO UPDATE SET last_number = receipt_counters.last_number + 1 RETURNING last_number',
+    [year],
+  );
+  const n = Number((r as { rows: { last_number: number }[] }).rows[0]!.last_number);
+  await updateCharge(trx, chargeId, { receipt_number: formatReceiptNumber(receiptPrefix(name), year, n), charged_at: now });
+}
+
+export async function queueReceipt(trx: Knex.Transaction, c: Charge): Promise<void> {
+  const p = await personFor(c.personId, trx);
+  const lines = c.breakdown.lines.map((l) => `${l.label}: ${formatMoney(l.amountMinor, c.currency)}`);
+  if (c.breakdown.carriedInMinor) lines.push(`Earlier small sums carried to this charge: ${formatMoney(c.breakdown.carriedInMinor, c.currency)}`);
+  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${c.breakdown.taxRateBp / 100} % tax: ${formatMoney(c.breakdown.taxMinor, c.currency)}`;
+  const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${formatMoney(c.capturedMinor, c.currency)}`;
+  await queueMail(trx, p.email, `Receipt: ${formatMoney(c.amountMinor, c.currency)}`, {
+    greeting: `Kia ora ${p.name},`,
+    paragraphs: [...(c.receiptNumber ? [`Receipt ${c.receiptNumber}`] : []), ...lines, tax, `Total: ${formatMoney(c.amountMinor, c.currency)}`, paid],
+    action: { label: 'Printable receipt', url: `${env().PUBLIC_BASE_URL}/account/receipts/${c.id}` },
+  });
+}
