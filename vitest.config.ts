@@ -4,16 +4,22 @@
  * Files run one at a time: integration and e2e files share one database and one app (unit files are
  * quick, so serialising them costs little).
  */
+import path from 'node:path';
 import { defineConfig } from 'vitest/config';
+
+/** The `@lib/…` alias of tsconfig.json (Astro and esbuild read tsconfig paths themselves; vite's test runner does not). */
+const resolve = { alias: { '@lib': path.resolve(import.meta.dirname, 'src/lib') } };
 
 export default defineConfig({
   test: {
     fileParallelism: false,
     projects: [
       {
+        resolve,
         test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node' },
       },
       {
+        resolve,
         test: {
           name: 'integration',
           include: ['tests/integration/**/*.test.ts'],
@@ -23,6 +29,7 @@ export default defineConfig({
         },
       },
       {
+        resolve,
         test: {
           name: 'e2e',
           include: ['tests/e2e/**/*.spec.ts'],

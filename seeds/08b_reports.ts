@@ -8,7 +8,7 @@
 import type { Knex } from 'knex';
 import { addDays, localToInstant, wallClock } from '../src/lib/availability';
 import { beamTimeMinor, breakdownOf, quote, type PriceTable } from '../src/lib/pricing';
-import type { Tier } from '../src/lib/pricing';
+import type { Tier } from '../src/lib/vocabulary';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 const MIN = 60_000;

@@ -5,35 +5,18 @@
 import { formatDateTime } from '../lib/site-format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useState, type FormEvent } from 'react';
-import { TIER_LABELS, formatMoney, type Tier } from '../lib/pricing';
+import { TIER_LABELS, type Tier } from '../lib/vocabulary';
+import { formatMoney } from '../lib/pricing';
 import { api, ApiError } from './ui/api';
+import type { AccountSummary, ChargeJson, ChargeSort } from '../lib/account-views';
 
-interface Summary {
-  tier: Tier;
-  costCentre: string | null;
-  recharge: boolean;
-  card: { brand: string; last4: string } | null;
-  currency: string;
-  balanceOwedMinor: number;
-  failed: number;
-}
-interface ChargeRow {
-  id: string;
-  createdAt: string;
-  machineName: string | null;
-  kind: string;
-  method: 'card' | 'recharge';
-  state: string;
-  currency: string;
-  amountMinor: number;
-  refundedMinor: number;
-  minutes: number | null;
-}
+type Summary = AccountSummary;
+type ChargeRow = ChargeJson;
 interface PageData {
   total: number;
   rows: ChargeRow[];
 }
-type Sort = 'date' | 'amount' | 'state' | 'machine';
+type Sort = ChargeSort;
 
 /** Practice cards: what each does, and (in code only) the provider's token for it. */
 const PRACTICE_CARDS = [

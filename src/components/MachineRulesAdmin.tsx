@@ -1,6 +1,7 @@
 /** Admin › Machines: booking rules per machine — opening hours, grid, lengths, cool-down, lead, horizon, quotas, cut-off, closures. */
 import { useCallback, useEffect, useId, useState } from 'react';
-import { TIERS, TIER_LABELS, formatClock, localToInstant, parseClock, wallClock, type Tier } from '../lib/availability';
+import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
+import { formatClock, localToInstant, parseClock, wallClock } from '../lib/availability';
 import { api, ApiError } from './ui/api';
 
 interface MachineInfo {

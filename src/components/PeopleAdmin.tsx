@@ -4,7 +4,7 @@ import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useState } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
 import { api, ApiError } from './ui/api';
-import { TIERS, TIER_LABELS, type Tier } from '../lib/pricing';
+import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
 import InvitePersonForm from './InvitePersonForm';
 
 interface PersonRow {

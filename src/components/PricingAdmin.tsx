@@ -1,7 +1,8 @@
 /** Admin › Pricing: a change is a new price version with an effective date; every version stays visible. */
 import { formatDateTime } from '../lib/site-format';
 import { useState, type FormEvent } from 'react';
-import { TIERS, TIER_LABELS, formatMinor, formatMoney, parseMajor, type Material, type Tier } from '../lib/pricing';
+import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
+import { formatMinor, formatMoney, parseMajor, type Material } from '../lib/pricing';
 import { api, ApiError } from './ui/api';
 
 export interface VersionView {

@@ -9,15 +9,7 @@
 
 import { localToInstant, offsetMinutes, startOfZonedDayAt, wallClock, zonedWeekBounds, type WallClock } from './time';
 
-export const TIERS = ['student', 'staff', 'community', 'commercial'] as const;
-export type Tier = (typeof TIERS)[number];
-
-export const TIER_LABELS: Record<Tier, string> = {
-  student: 'Student',
-  staff: 'Staff',
-  community: 'Community',
-  commercial: 'Commercial',
-};
+import { TIERS, type Tier } from './vocabulary';
 
 export interface BookingRules {
   /** Bookings start and end on this grid of wall-clock minutes (e.g. 15). */
@@ -82,9 +74,6 @@ export function addDays(year: number, month: number, day: number, days: number):
   const d = new Date(Date.UTC(year, month - 1, day + days));
   return { year: d.getUTCFullYear(), month: d.getUTCMonth() + 1, day: d.getUTCDate() };
 }
-
-/** Start of the site's day containing `instant`. */
-export const startOfLocalDay = startOfZonedDayAt;
 
 /** The site's week (Monday 00:00 to the next Monday 00:00, wall clock) containing `instant`. */
 export function localWeek(instant: Date, tz: string): Interval {
@@ -170,7 +159,7 @@ function clip(list: Interval[], from: Date, to: Date): Interval[] {
 export function openIntervals(from: Date, to: Date, tz: string, hours: WeeklyHours[], closures: Closure[] = []): Interval[] {
   if (to <= from) return [];
   const first = wallClock(new Date(from.getTime() - DAY), tz);
-  const last = startOfLocalDay(new Date(to.getTime() + DAY), tz);
+  const last = startOfZonedDayAt(new Date(to.getTime() + DAY), tz);
   const list: Interval[] = [];
   for (let i = 0; ; i++) {
     const d = addDays(first.year, first.month, first.day, i);

@@ -111,12 +111,6 @@ export function needsLapseWarning(state: ClearanceState, expiresAt: Date | null,
 // ---------------------------------------------------------------------------------------------
 // Validity in the site's IANA time zone.
 
-/** The local calendar date (YYYY-MM-DD) of an instant in `timeZone` (from the time module). */
-export const localDate = zonedDate;
-
-/** The instant the local day `ymd` starts in `timeZone` (from the time module). */
-export const startOfLocalDay = startOfZonedDay;
-
 export { addDays };
 
 /**
@@ -124,7 +118,7 @@ export { addDays };
  * after the day of clearance, and lapses at the start (00:00) of the following local day.
  */
 export function expiryFor(clearedAt: Date, validityDays: number, timeZone: string): Date {
-  return startOfLocalDay(addDays(localDate(clearedAt, timeZone), validityDays + 1), timeZone);
+  return startOfZonedDay(addDays(zonedDate(clearedAt, timeZone), validityDays + 1), timeZone);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -1,6 +1,6 @@
 /** Institution sign-in (OpenID Connect): the admin's settings and the pure rules of matching a person. No I/O. */
 import { z } from 'zod';
-import { TIERS, type Tier } from './pricing';
+import { TIERS, type Tier } from './vocabulary';
 
 export const institutionSettingsInput = z
   .object({

@@ -17,9 +17,7 @@
  *   carried to the balance owed (charged with the next charge that takes it over the minimum) or waived.
  */
 
-export const TIERS = ['student', 'staff', 'community', 'commercial'] as const;
-export type Tier = (typeof TIERS)[number];
-export const TIER_LABELS: Record<Tier, string> = { student: 'Student', staff: 'Staff', community: 'Community', commercial: 'Commercial' };
+import type { Tier } from './vocabulary';
 
 const exponents = new Map<string, number>();
 

@@ -22,3 +22,9 @@ export function hasAnyRole(roles: readonly string[] | undefined | null, wanted: 
 export function normaliseRoles(roles: readonly string[]): Role[] {
   return ROLES.filter((r) => roles.includes(r));
 }
+
+/** Who is acting: a person's id and roles (a signed-in person is one; so is the worker acting for someone). */
+export interface Actor {
+  id: string;
+  roles: readonly Role[];
+}

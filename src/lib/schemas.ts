@@ -5,6 +5,7 @@ import { ROLES } from './roles';
 import { isCalendarDate } from './time';
 import { LEVELS } from './clearance-rules';
 import { TUBE_TYPES } from './machines-shared';
+import { TIERS } from './vocabulary';
 
 export const email = z
   .string()
@@ -35,7 +36,7 @@ export const searchText = z.string().trim().max(200).optional();
 /** A calendar date written YYYY-MM-DD (read in the site's time zone by whoever uses it). */
 export const calendarDate = z.string().trim().refine(isCalendarDate, 'Use a date written YYYY-MM-DD, e.g. 2026-12-02.');
 // Billing
-export const tier = z.enum(['student', 'staff', 'community', 'commercial'], { error: 'A tier is one of student, staff, community, commercial.' });
+export const tier = z.enum(TIERS, { error: `A tier is one of ${TIERS.join(', ')}.` });
 export const costCentre = z.string().trim().regex(/^[A-Za-z0-9][A-Za-z0-9 ._/-]{0,39}$/, 'A cost centre is 1–40 letters, digits, spaces or . _ / -, e.g. DES101.');
 export const minor = z.number().int('Use whole minor units (cents).').min(0, 'Use zero or more.').max(100_000_000, 'That amount is too large.');
 export const materialsWanted = z.array(z.object({ sku: z.string().trim().min(1).max(40), quantity: z.number().int().min(0).max(1000) }).strict()).max(50);

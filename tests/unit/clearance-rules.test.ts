@@ -1,9 +1,10 @@
 /** The clearance state machine, lapse in the site's time zone, levels and the gate's decision. */
 import { describe, expect, it } from 'vitest';
 import {
-  CLEARANCE_STATES, addDays, decideOperate, effectiveState, expiryFor, levelSatisfies, localDate, needsLapseWarning,
-  nextStep, startOfLocalDay, transition, type ClearanceEvent, type ClearanceState, type RefresherRule,
+  CLEARANCE_STATES, addDays, decideOperate, effectiveState, expiryFor, levelSatisfies, needsLapseWarning,
+  nextStep, transition, type ClearanceEvent, type ClearanceState, type RefresherRule,
 } from '../../src/lib/clearance-rules';
+import { startOfZonedDay as startOfLocalDay, zonedDate as localDate } from '../../src/lib/time';
 
 const events: ClearanceEvent[] = [
   { type: 'quiz_passed' },

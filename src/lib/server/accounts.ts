@@ -17,7 +17,7 @@ import { clearSignInCounters } from './sign-in';
 import { cancelFutureBookingsOf } from './bookings';
 import { passwordProblem } from '../password-rules';
 import type { Role } from '../roles';
-import type { Tier } from '../pricing';
+import type { Tier } from '../vocabulary';
 
 export type TokenPurpose = 'reset' | 'confirm' | 'invite';
 

@@ -1,6 +1,5 @@
 /** The append-only audit log: who changed what, when, with the state before and after. */
-import type { Knex } from 'knex';
-import { db } from './db';
+import { db, type Conn } from './db';
 
 export interface AuditEntry {
   actorId: string | null;
@@ -12,7 +11,7 @@ export interface AuditEntry {
   after?: unknown;
 }
 
-export async function recordAudit(trx: Knex | Knex.Transaction, e: AuditEntry): Promise<void> {
+export async function recordAudit(trx: Conn, e: AuditEntry): Promise<void> {
   await trx('audit_log').insert({
     actor_id: e.actorId,
     kind: e.kind,

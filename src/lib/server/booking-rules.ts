@@ -1,9 +1,9 @@
 /** Booking rules of each machine: opening hours, closures, grid, lengths, buffer, lead, horizon, quotas. All SQL of this area. */
-import type { Knex } from 'knex';
-import { db, transaction } from './db';
+import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
-import { DEFAULT_RULES, TIERS, type BookingRules, type Closure, type Tier, type WeeklyHours } from '../availability';
+import { DEFAULT_RULES, type BookingRules, type Closure, type WeeklyHours } from '../availability';
+import { TIERS, type Tier } from '../vocabulary';
 
 export interface MachineRules extends BookingRules {
   machineId: string;
@@ -16,8 +16,6 @@ export interface ClosureRow extends Closure {
   id: string;
   machineId: string | null;
 }
-
-type Conn = Knex | Knex.Transaction;
 
 export async function getRules(machineId: string, trx: Conn = db()): Promise<MachineRules> {
   const [row, quotaRows, hourRows] = await Promise.all([

@@ -1,7 +1,8 @@
-/** The JSON shape of a charge in API answers (no provider ids, no internal fields). */
+/** A charge as API answers give it (the shape is ChargeJson in src/lib/account-views.ts). */
+import type { ChargeJson } from '../account-views';
 import type { Charge } from './payments/charge-records';
 
-export function chargeJson(c: Charge) {
+export function chargeJson(c: Charge): ChargeJson {
   return {
     id: c.id,
     createdAt: c.createdAt.toISOString(),

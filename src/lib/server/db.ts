@@ -15,6 +15,9 @@ pg.types.setTypeParser(pg.types.builtins.INT8, (v: string) => {
 // numeric → number (rates and measurements here stay well inside double precision; money is integer minor units)
 pg.types.setTypeParser(pg.types.builtins.NUMERIC, (v: string) => Number(v));
 
+/** A connection or a transaction: every query helper that may run inside the caller's transaction takes one. */
+export type Conn = Knex | Knex.Transaction;
+
 let instance: Knex | undefined;
 
 export function db(): Knex {

@@ -6,10 +6,39 @@ import type { APIContext, APIRoute } from 'astro';
 import { z, type ZodType } from 'zod';
 import { hasAnyRole, type Role } from '../roles';
 import type { SignedInPerson } from '../signed-in-person';
-import { HttpError } from './errors';
+import { DomainError, HttpError, type ErrorKind } from './errors';
 import { log } from './log';
 
-export { HttpError };
+export { DomainError, HttpError };
+
+/** The one place a domain error's kind becomes an HTTP status. */
+export const STATUS_OF_KIND: Record<ErrorKind, number> = {
+  bad_request: 400,
+  unauthenticated: 401,
+  payment_required: 402,
+  forbidden: 403,
+  not_found: 404,
+  conflict: 409,
+  gone: 410,
+  too_large: 413,
+  unsupported_type: 415,
+  invalid: 422,
+  too_many: 429,
+  unavailable: 503,
+};
+
+/** The status a page answers with for a domain error it shows in the page. */
+export function statusOf(err: DomainError): number {
+  return STATUS_OF_KIND[err.kind];
+}
+
+/** The answer to a domain error: its status, with Retry-After and WWW-Authenticate from its hints. */
+export function domainErrorResponse(err: DomainError): Response {
+  const headers: Record<string, string> = {};
+  if (err.hints.retryAfterSeconds !== undefined) headers['retry-after'] = String(err.hints.retryAfterSeconds);
+  if (err.hints.challenge !== undefined) headers['www-authenticate'] = err.hints.challenge;
+  return errorResponse(statusOf(err), err.code, err.message, err.fields, Object.keys(headers).length ? headers : undefined);
+}
 
 const NO_STORE = { 'cache-control': 'no-store' };
 
@@ -34,13 +63,13 @@ export function fieldMessages(error: z.ZodError): Record<string, string> {
   return fields;
 }
 
-/** Wraps a route: maps HttpError and validation errors to their answers; anything else is a logged 500 without details. */
+/** Wraps a route: maps domain errors (by kind) and validation errors to their answers; anything else is a logged 500 without details. */
 export function route(handler: (ctx: APIContext) => Promise<Response> | Response): APIRoute {
   return async (ctx) => {
     try {
       return await handler(ctx);
     } catch (err) {
-      if (err instanceof HttpError) return errorResponse(err.status, err.code, err.message, err.fields, err.headers);
+      if (err instanceof DomainError) return domainErrorResponse(err);
       if (err instanceof z.ZodError) return errorResponse(422, 'invalid', 'Some fields are not valid; see fields.', fieldMessages(err));
       const requestId = ctx.locals.requestId;
       log.error({ event: 'error', requestId, method: ctx.request.method, route: ctx.routePattern, err }, 'request failed');

@@ -10,7 +10,7 @@ import { recordAudit } from './audit';
 import { createPerson, EmailTaken } from './people';
 import { getSettings } from './settings';
 import { checkClaims, domainOf, parseDomains, tierFromClaim, type InstitutionSettings } from '../institution-sign-in';
-import type { Tier } from '../pricing';
+import type { Tier } from '../vocabulary';
 
 export interface InstitutionConnection {
   issuer: string;

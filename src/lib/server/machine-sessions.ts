@@ -5,16 +5,15 @@
  * One open session per machine and one session per booking are enforced by unique indexes
  * (machine_sessions_one_open_per_machine, machine_sessions_one_per_booking).
  */
-import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction } from './db';
+import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError, HttpError } from './errors';
 import { canOperate } from './clearances/state';
 import { chargeBeamTime } from './payments/billing';
 import { type Charge } from './payments/charge-records';
 import { recordPaymentIntent } from './payment-intents';
 import { versionAt } from './prices';
-import { hasAnyRole, type Role } from '../roles';
+import { hasAnyRole, type Actor } from '../roles';
 import {
   AUTO_CLOSE_GRACE_MINUTES,
   checkCheckOut,
@@ -25,13 +24,6 @@ import {
 } from '../checklist';
 import { billableMinutes } from '../controller-rules';
 import { log } from './log';
-
-type Conn = Knex | Knex.Transaction;
-
-export interface Actor {
-  id: string;
-  roles: readonly Role[];
-}
 
 export interface MachineSession {
   id: string;
@@ -231,7 +223,7 @@ async function charge(s: MachineSession, materials: MaterialUsed[]): Promise<{ c
   } catch (err) {
     // the session is closed and recorded either way; a charge that could not be priced is left for a steward
     log.error({ event: 'error', sessionId: s.id, err }, 'charging a session failed');
-    return { charge: null, chargeProblem: err instanceof HttpError ? err.message : 'The charge could not be made; a steward will settle it.' };
+    return { charge: null, chargeProblem: err instanceof DomainError ? err.message : 'The charge could not be made; a steward will settle it.' };
   }
 }
 

@@ -1,6 +1,6 @@
 /** Machines: all SQL for this area — the list, one machine, adding and editing (admin, audited). Retiring is a cascade: cascades/retire-machine.ts. */
 import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction } from './db';
+import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '../machines-shared';
@@ -43,17 +43,17 @@ function toMachine(r: Row): Machine {
 }
 
 /** Machines in use (not retired), by name. */
-export async function listMachines(trx: Knex | Knex.Transaction = db()): Promise<Machine[]> {
+export async function listMachines(trx: Conn = db()): Promise<Machine[]> {
   const rows = (await trx('machines').whereNull('retired_at').orderBy('name')) as Row[];
   return rows.map(toMachine);
 }
 
-export async function getMachine(id: string, trx: Knex | Knex.Transaction = db()): Promise<Machine | null> {
+export async function getMachine(id: string, trx: Conn = db()): Promise<Machine | null> {
   const row = (await trx('machines').where({ id }).first()) as Row | undefined;
   return row ? toMachine(row) : null;
 }
 
-export async function getMachineByCode(code: string, trx: Knex | Knex.Transaction = db()): Promise<Machine | null> {
+export async function getMachineByCode(code: string, trx: Conn = db()): Promise<Machine | null> {
   const row = (await trx('machines').where({ code }).whereNull('retired_at').first()) as Row | undefined;
   return row ? toMachine(row) : null;
 }

@@ -4,8 +4,7 @@
  * catalogue with a rule, or refuses it with a reason. The requester is e-mailed either way.
  */
 import { randomUUID } from 'node:crypto';
-import type { Knex } from 'knex';
-import { db, transaction } from './db';
+import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { queueMail } from './mail';
@@ -59,7 +58,7 @@ function toRequest(r: Row): MaterialRequest {
   };
 }
 
-function base(q: Knex | Knex.Transaction) {
+function base(q: Conn) {
   return q('material_requests as r')
     .join('people as p', 'p.id', 'r.requester_id')
     .leftJoin('people as d', 'd.id', 'r.decided_by')

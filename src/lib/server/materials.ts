@@ -3,7 +3,7 @@
  * Every change to a rule is written to the audit log in the same transaction.
  */
 import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction } from './db';
+import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
@@ -64,7 +64,7 @@ function toOverride(r: OverrideRow): MaterialOverride {
 export type SheetPrice = { sku: string; name: string; priceMinor: number; currency: string };
 
 /** The sheets of the price version in force at `at`, by code (empty when no version is in force). */
-export async function sheetsInForce(at = new Date(), trx: Knex | Knex.Transaction = db()): Promise<Map<string, SheetPrice>> {
+export async function sheetsInForce(at = new Date(), trx: Conn = db()): Promise<Map<string, SheetPrice>> {
   const v = await versionAt(at, trx);
   return new Map((v?.materials ?? []).map((m) => [m.sku, { sku: m.sku, name: m.name, priceMinor: m.priceMinor, currency: v!.currency }]));
 }
@@ -75,17 +75,17 @@ function priced(m: Material, sheets: Map<string, SheetPrice>): Material {
 }
 
 /** The catalogue, each sold material priced by the price version in force at `at` (default now). */
-export async function listMaterials(trx: Knex | Knex.Transaction = db(), at = new Date()): Promise<Material[]> {
+export async function listMaterials(trx: Conn = db(), at = new Date()): Promise<Material[]> {
   const [rows, sheets] = await Promise.all([trx('materials').orderByRaw('lower(name)') as Promise<Row[]>, sheetsInForce(at, trx)]);
   return rows.map((r) => priced(toMaterial(r), sheets));
 }
 
-export async function getMaterial(id: string, trx: Knex | Knex.Transaction = db()): Promise<Material | null> {
+export async function getMaterial(id: string, trx: Conn = db()): Promise<Material | null> {
   const row = (await trx('materials').where({ id }).first()) as Row | undefined;
   return row ? priced(toMaterial(row), await sheetsInForce(new Date(), trx)) : null;
 }
 
-export async function listOverrides(trx: Knex | Knex.Transaction = db()): Promise<MaterialOverride[]> {
+export async function listOverrides(trx: Conn = db()): Promise<MaterialOverride[]> {
   return ((await trx('material_machine_overrides').select('*')) as OverrideRow[]).map(toOverride);
 }
 
@@ -179,7 +179,7 @@ function auditShape(m: Material) {
  * A material the space sells names a sheet of the price version in force or of a later one (422 unknown_sheet
  * otherwise); a price sent along (older callers) must be null or the price in force: prices are changed on Pricing.
  */
-async function assertSheet(input: MaterialInput, trx: Knex | Knex.Transaction): Promise<void> {
+async function assertSheet(input: MaterialInput, trx: Conn): Promise<void> {
   if (!input.soldBySpace) return;
   if (!input.sheetSku) throw new HttpError(422, 'invalid', 'A material the space sells needs its sheet from the price list.', { sheetSku: 'Choose the sheet from the price list on Pricing.' });
   const now = new Date();
@@ -302,7 +302,7 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
  * material id or a thickness out of range, 404 `machine_not_found`. Resolves with advice (thicker than the machine
  * cuts in one pass, by the estimate) when all are fine: the machine's reach warns, only the rule's limit refuses.
  */
-export async function checkDeclaredMaterials(machineId: string, materials: DeclaredMaterial[], trx?: Knex | Knex.Transaction): Promise<string[]> {
+export async function checkDeclaredMaterials(machineId: string, materials: DeclaredMaterial[], trx?: Conn): Promise<string[]> {
   const q = trx ?? db();
   const machine = UUID.test(machineId) ? await getMachine(machineId, q) : null;
   if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');

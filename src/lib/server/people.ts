@@ -1,11 +1,11 @@
 /** People and their roles: all SQL for this area. */
 import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction } from './db';
+import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { hashPassword } from './passwords';
 import { normaliseRoles, type Role } from '../roles';
 import { HttpError } from './errors';
-import type { Tier } from '../pricing';
+import type { Tier } from '../vocabulary';
 
 export interface Person {
   id: string;
@@ -30,14 +30,14 @@ function toPerson(r: Row): Person {
   return { id: r.id, email: r.email, name: r.name, active: r.active, createdAt: r.created_at, roles: normaliseRoles(r.roles ?? []), tier: r.tier, costCentre: r.cost_centre, emailConfirmed: r.email_confirmed_at !== null, sessionEpoch: r.session_epoch };
 }
 
-function withRoles(q: Knex | Knex.Transaction) {
+function withRoles(q: Conn) {
   return q('people as p')
     .leftJoin('role_grants as g', 'g.person_id', 'p.id')
     .groupBy('p.id')
     .select('p.id', 'p.email', 'p.name', 'p.active', 'p.created_at', 'p.tier', 'p.cost_centre', 'p.email_confirmed_at', 'p.session_epoch', q.raw("coalesce(array_agg(g.role ORDER BY g.role) FILTER (WHERE g.role IS NOT NULL), '{}') AS roles"));
 }
 
-export async function getPerson(id: string, trx: Knex | Knex.Transaction = db()): Promise<Person | null> {
+export async function getPerson(id: string, trx: Conn = db()): Promise<Person | null> {
   const row = (await withRoles(trx).where('p.id', id).first()) as Row | undefined;
   return row ? toPerson(row) : null;
 }
@@ -209,7 +209,7 @@ export async function setTier(actorId: string, personId: string, tier: Tier, cos
 }
 
 /** Active people holding `role`, for the e-mails sent to a role (stewards on a fault, upkeep falling due). */
-export async function activeWithRole(role: Role, trx: Knex | Knex.Transaction = db()): Promise<{ email: string; name: string }[]> {
+export async function activeWithRole(role: Role, trx: Conn = db()): Promise<{ email: string; name: string }[]> {
   return trx('people as p')
     .join('role_grants as g', 'g.person_id', 'p.id')
     .where({ 'g.role': role, 'p.active': true })

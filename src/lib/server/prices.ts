@@ -5,15 +5,13 @@
  * each charge's breakdown records the rate it used. A version records the site's currency and tax of the day it
  * was made, for the history only.
  */
-import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction } from './db';
+import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { startOfZonedDay, zonedDayBounds } from '../time';
 import { getSettings } from './settings';
-import {
-  PricingError, TIERS, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode, type Tier,
-} from '../pricing';
+import { PricingError, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode } from '../pricing';
+import { TIERS, type Tier } from '../vocabulary';
 
 /** The terms a price version sets, shared by a stored version and a new one. */
 interface VersionTerms {
@@ -48,7 +46,7 @@ type Row = {
   created_by: string | null; created_by_name?: string | null; created_at: Date;
 };
 
-async function withRates(trx: Knex | Knex.Transaction, rows: Row[]): Promise<PriceVersion[]> {
+async function withRates(trx: Conn, rows: Row[]): Promise<PriceVersion[]> {
   if (!rows.length) return [];
   const rates = await trx('price_rates').whereIn('version_id', rows.map((r) => r.id)).select('version_id', 'machine_id', 'tier', 'per_minute_minor');
   return rows.map((r) => {
@@ -84,16 +82,13 @@ export interface SiteTax {
   currency: string;
 }
 
-export async function siteTax(trx: Knex | Knex.Transaction = db()): Promise<SiteTax> {
-  const row = (await trx('site_settings').where({ id: 1 }).first('tax_rate_percent', 'prices_include_tax', 'currency')) as
-    | { tax_rate_percent: string | number; prices_include_tax: boolean; currency: string }
-    | undefined;
-  if (!row) return { taxMode: 'inclusive', taxRateBp: 0, currency: 'NZD' };
-  return { taxMode: row.prices_include_tax ? 'inclusive' : 'exclusive', taxRateBp: percentToBp(Number(row.tax_rate_percent)), currency: row.currency };
+export async function siteTax(trx: Conn = db()): Promise<SiteTax> {
+  const s = await getSettings(trx);
+  return { taxMode: s.pricesIncludeTax ? 'inclusive' : 'exclusive', taxRateBp: percentToBp(s.taxRatePercent), currency: s.currency };
 }
 
 /** The site's tax for pricing `v`; refused (409) when the version's amounts are in another currency than the site's. */
-async function taxFor(v: PriceVersion, trx: Knex | Knex.Transaction): Promise<SiteTax> {
+async function taxFor(v: PriceVersion, trx: Conn): Promise<SiteTax> {
   const tax = await siteTax(trx);
   if (v.currency !== tax.currency) {
     throw new HttpError(409, 'no_prices', `The price version in force is in ${v.currency} but the site's currency is ${tax.currency}; an admin makes a new price version on the Pricing screen.`);
@@ -128,38 +123,35 @@ export async function listVersions(): Promise<PriceVersion[]> {
 }
 
 /** The version in force at `at` (the latest with effective_from ≤ at), or null when none is. */
-export async function versionAt(at: Date, trx: Knex | Knex.Transaction = db()): Promise<PriceVersion | null> {
+export async function versionAt(at: Date, trx: Conn = db()): Promise<PriceVersion | null> {
   const row = (await trx('price_versions').where('effective_from', '<=', at).orderBy('effective_from', 'desc').first()) as Row | undefined;
   if (!row) return null;
   return (await withRates(trx, [row]))[0] ?? null;
 }
 
 /** Every sheet code sold by the version in force at `at` or by a later one (a material may name a sheet sold from next month). */
-export async function sheetCodesFrom(at: Date, trx: Knex | Knex.Transaction = db()): Promise<Set<string>> {
+export async function sheetCodesFrom(at: Date, trx: Conn = db()): Promise<Set<string>> {
   const current = await versionAt(at, trx);
   const later = (await trx('price_versions').where('effective_from', '>', at).select('materials')) as { materials: { sku: string }[] }[];
   return new Set([...(current?.materials ?? []), ...later.flatMap((v) => v.materials ?? [])].map((m) => m.sku));
 }
 
-async function requireVersionAt(at: Date, trx: Knex | Knex.Transaction = db()): Promise<PriceVersion> {
+async function requireVersionAt(at: Date, trx: Conn = db()): Promise<PriceVersion> {
   const v = await versionAt(at, trx);
   if (!v) throw new HttpError(409, 'no_prices', 'No price version is in force at that time; an admin sets prices on the Pricing screen.');
   return v;
 }
 
 /** The per-minute rate of a machine for a tier in the version in force when the session started. */
-export async function priceFor(machineId: string, tier: Tier, startedAt: Date, trx: Knex | Knex.Transaction = db()): Promise<{ versionId: string; effectiveFrom: Date; currency: string; perMinuteMinor: number; table: PriceTable }> {
+export async function priceFor(machineId: string, tier: Tier, startedAt: Date, trx: Conn = db()): Promise<{ versionId: string; effectiveFrom: Date; currency: string; perMinuteMinor: number; table: PriceTable }> {
   const v = await requireVersionAt(startedAt, trx);
   const rate = v.rates[machineId]?.[tier];
   if (rate === undefined) throw new HttpError(409, 'not_priced', `This machine has no ${tier} rate in the price version in force.`);
   return { versionId: v.id, effectiveFrom: v.effectiveFrom, currency: v.currency, perMinuteMinor: rate, table: toTable(v, await taxFor(v, trx)) };
 }
 
-/** The UTC instant of 00:00 on `date` (YYYY-MM-DD) in `timeZone`: the day's first instant, from the time module. */
-export const zonedMidnight = startOfZonedDay;
-
 /** Beam time already charged to a person on the site-local day of `at` (counts toward the daily cap). */
-export async function beamTimeChargedOnDay(personId: string, at: Date, trx: Knex | Knex.Transaction = db()): Promise<number> {
+export async function beamTimeChargedOnDay(personId: string, at: Date, trx: Conn = db()): Promise<number> {
   const { timeZone } = await getSettings();
   const { from, to } = zonedDayBounds(at, timeZone);
   const row = await trx('charges')
@@ -192,7 +184,7 @@ export interface PricedQuote extends Quote {
 }
 
 /** Prices a session with the version in force at `at` (default now). */
-export async function quoteFor(req: QuoteRequest, trx: Knex | Knex.Transaction = db()): Promise<PricedQuote> {
+export async function quoteFor(req: QuoteRequest, trx: Conn = db()): Promise<PricedQuote> {
   const at = req.at ?? new Date();
   const v = await requireVersionAt(at, trx);
   const machine = await trx('machines').where({ id: req.machineId }).first('name');

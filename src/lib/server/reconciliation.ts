@@ -9,7 +9,7 @@ import { env } from './env';
 import { queueMail } from './mail';
 import { activeWithRole } from './people';
 import { getSettings } from './settings';
-import { zonedMidnight } from './prices';
+import { startOfZonedDay } from '../time';
 import { knownChargeIds, providerActivity, recordedActivity } from './payments/provider-activity';
 import { fromProviderCharge, fromProviderRefund, MISMATCH_TEXT, reconcile, type Mismatch } from '../reconcile';
 
@@ -33,7 +33,7 @@ export async function periodOfDays(fromDay: string, toDay: string): Promise<{ fr
   const { timeZone } = await getSettings();
   const next = new Date(`${toDay}T12:00:00Z`);
   next.setUTCDate(next.getUTCDate() + 1);
-  return { from: zonedMidnight(fromDay, timeZone), to: zonedMidnight(next.toISOString().slice(0, 10), timeZone) };
+  return { from: startOfZonedDay(fromDay, timeZone), to: startOfZonedDay(next.toISOString().slice(0, 10), timeZone) };
 }
 
 export async function runReconciliation(from: Date, to: Date, trigger: ReconciliationRun['trigger']): Promise<ReconciliationRun> {

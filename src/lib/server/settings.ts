@@ -1,5 +1,5 @@
 /** Site settings (one row): name, IANA time zone, currency, tax, public base URL. All SQL of this area. */
-import { db, transaction } from './db';
+import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { env } from './env';
@@ -44,8 +44,9 @@ function toSettings(row: Row): SiteSettings {
   };
 }
 
-export async function getSettings(): Promise<SiteSettings> {
-  const row = (await db()('site_settings').where({ id: 1 }).first(...COLUMNS)) as Row | undefined;
+/** The site's settings, read in `conn` (a caller's transaction) when given: the one place they are built. */
+export async function getSettings(conn: Conn = db()): Promise<SiteSettings> {
+  const row = (await conn('site_settings').where({ id: 1 }).first(...COLUMNS)) as Row | undefined;
   return row ? toSettings(row) : FALLBACK;
 }
 

@@ -2,8 +2,7 @@
  * Upkeep: the log per machine, per-machine intervals (admin), tube hours and the due list (forecast from
  * the last 30 days' beam time by the pure module src/lib/upkeep-forecast.ts). All SQL of this area.
  */
-import type { Knex } from 'knex';
-import { db, transaction } from './db';
+import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { queueMail } from './mail';
@@ -20,8 +19,7 @@ import {
   type UpkeepInterval,
   type UpkeepKind,
 } from '../upkeep-forecast';
-
-type Conn = Knex | Knex.Transaction;
+import { getSettings } from './settings';
 
 export const RECENT_WINDOW_DAYS = 30;
 
@@ -282,7 +280,7 @@ export async function remindUpkeep(opts: { now?: Date; machineIds?: string[] } =
       if (inserted.length) fresh.push({ machineId: c.machineId, machineName: c.machineName, kind: c.kind, label: c.label, state: c.state, dueAt: c.dueAt });
     }
     if (!fresh.length) return { reminders: [], stewards: 0 };
-    const tz = ((await trx('site_settings').where({ id: 1 }).first('time_zone'))?.time_zone as string | undefined) ?? 'UTC';
+    const tz = (await getSettings(trx)).timeZone;
     const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'short', day: 'numeric', month: 'short' });
     const line = (r: UpkeepReminder) => `${r.machineName}: ${r.label.toLowerCase()} — ${r.state === 'overdue' ? `overdue${r.dueAt ? ` since ${day.format(r.dueAt)}` : ''}` : `due${r.dueAt ? ` by ${day.format(r.dueAt)}` : ' soon'}`}`;
     const isFresh = (c: { machineId: string; kind: string; state: string }) => fresh.some((f) => f.machineId === c.machineId && f.kind === c.kind && f.state === c.state);

@@ -16,7 +16,7 @@ import { sweepOpenSessions } from './machine-sessions';
 import { remindUpkeep } from './upkeep';
 import { remindSeats } from './induction-sessions/reminders';
 import { sweepControllers } from './controllers/offline-alert';
-import { db } from './db';
+import { getSettings } from './settings';
 import { log } from './log';
 
 type Handler = (data: unknown, job: { retryCount: number; retryLimit: number }) => Promise<void>;
@@ -62,8 +62,7 @@ const handlers: Record<QueueName, Handler> = {
 
 /** Scheduled jobs (pg-boss checks them about every 30 seconds). */
 async function schedules(boss: PgBoss): Promise<void> {
-  const row = await db()('site_settings').where({ id: 1 }).first('time_zone');
-  const tz = (row?.time_zone as string | undefined) ?? 'UTC';
+  const tz = (await getSettings()).timeZone;
   // every minute: no-shows and waitlist holds
   await boss.schedule('booking.sweep', '* * * * *');
   // every minute: open sessions past their booking's end

@@ -1,14 +1,15 @@
 /** Machine groups (what a clearance is for) and the member's own clearances. */
-import { db, transaction } from '../db';
+import { db, transaction, type Conn } from '../db';
 import { HttpError } from '../errors';
 import { recordAudit } from '../audit';
 import { effectiveState, nextStep, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
-import { type ClearanceRow, formatLocalDate, type MachineGroup, type Q, siteZone } from './state';
+import { type ClearanceRow, formatLocalDate, type MachineGroup } from './state';
+import { getSettings } from '../settings';
 
 // ---------------------------------------------------------------------------------------------
 // Groups
 
-export async function listGroups(q: Q = db()): Promise<MachineGroup[]> {
+export async function listGroups(q: Conn = db()): Promise<MachineGroup[]> {
   const groups = await q('machine_groups').orderBy('name');
   const machines = await q('machines').whereNull('retired_at').whereNotNull('group_id').orderBy('name').select('id', 'code', 'name', 'group_id', 'required_level');
   const published = await q('quizzes as z').join('quiz_versions as v', 'v.quiz_id', 'z.id').where('v.status', 'published').orderBy('v.published_at', 'desc').select('z.id', 'z.group_id');
@@ -24,7 +25,7 @@ export async function listGroups(q: Q = db()): Promise<MachineGroup[]> {
   }));
 }
 
-export async function getGroup(id: string, q: Q = db()): Promise<MachineGroup | null> {
+export async function getGroup(id: string, q: Conn = db()): Promise<MachineGroup | null> {
   return (await listGroups(q)).find((g) => g.id === id) ?? null;
 }
 
@@ -72,7 +73,7 @@ export async function listMyClearances(personId: string, at: Date): Promise<MyCl
   const [groups, rows, zone] = await Promise.all([
     listGroups(q),
     q('clearances').where({ person_id: personId }) as Promise<ClearanceRow[]>,
-    siteZone(q),
+    getSettings(q).then((s) => s.timeZone),
   ]);
   return groups.map((g) => {
     const r = rows.find((x) => x.group_id === g.id);

@@ -3,14 +3,12 @@
  * check-ins call. The rules themselves (states, transitions, lapse, levels, next steps) are in the pure module
  * src/lib/clearance-rules.ts. Beside it: groups.ts, transitions.ts, lists.ts, sweep.ts.
  */
-import type { Knex } from 'knex';
-import { db } from '../db';
+import { db, type Conn } from '../db';
 import { decideOperate, effectiveState, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
+import { getSettings } from '../settings';
 export type { ClearanceState } from '../../clearance-rules';
 
 export type OperateVerdict = { ok: true } | { ok: false; state: ClearanceState | 'none'; message: string };
-
-export type Q = Knex | Knex.Transaction;
 
 export interface MachineGroup {
   id: string;
@@ -40,11 +38,6 @@ export interface ClearanceRow {
   updated_at: Date;
 }
 
-export async function siteZone(q: Q): Promise<string> {
-  const row = await q('site_settings').where({ id: 1 }).first('time_zone');
-  return (row?.time_zone as string | undefined) ?? 'UTC';
-}
-
 export function formatLocalDate(at: Date, timeZone: string): string {
   return new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'long', year: 'numeric' }).format(at);
 }
@@ -61,7 +54,7 @@ export function formatLocalDateTime(at: Date, timeZone: string): string {
  * with the pure rules: an expired clearance counts as lapsed at once, even before the timed job
  * writes it; a suspended, lapsed or missing clearance or too low a level refuses, with the next step.
  */
-export async function canOperate(personId: string, machineId: string, at: Date, trx?: Knex | Knex.Transaction): Promise<OperateVerdict> {
+export async function canOperate(personId: string, machineId: string, at: Date, trx?: Conn): Promise<OperateVerdict> {
   const q = trx ?? db();
   const machine = await q('machines as m')
     .leftJoin('machine_groups as g', 'g.id', 'm.group_id')
@@ -81,10 +74,10 @@ export async function canOperate(personId: string, machineId: string, at: Date, 
 }
 
 /** A person's clearance on a group as it holds at `at` (for induction seats and the screens that explain the gate). */
-export async function clearanceOf(personId: string, groupId: string, at: Date, q: Q = db()): Promise<{ state: ClearanceState; expiresAt: Date | null; expiresOn: string | null; suspendedReason: string | null }> {
+export async function clearanceOf(personId: string, groupId: string, at: Date, q: Conn = db()): Promise<{ state: ClearanceState; expiresAt: Date | null; expiresOn: string | null; suspendedReason: string | null }> {
   const r = (await q('clearances').where({ person_id: personId, group_id: groupId }).first()) as ClearanceRow | undefined;
   if (!r) return { state: 'quiz due', expiresAt: null, expiresOn: null, suspendedReason: null };
-  const zone = await siteZone(q);
+  const zone = (await getSettings(q)).timeZone;
   const state = effectiveState(r.state, r.expires_at, at);
   return {
     state, expiresAt: r.expires_at,

@@ -3,8 +3,9 @@ import { transaction } from '../db';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { needsLapseWarning, nextStep } from '../../clearance-rules';
-import { formatLocalDate, formatLocalDateTime, siteZone } from './state';
+import { formatLocalDate, formatLocalDateTime } from './state';
 import { apply, link } from './transitions';
+import { getSettings } from '../settings';
 
 // ---------------------------------------------------------------------------------------------
 // Timed work (run by the worker on a schedule)
@@ -15,7 +16,7 @@ import { apply, link } from './transitions';
  */
 export async function sweepClearances(at = new Date(), onlyPersonId?: string): Promise<{ lapsed: number; warned: number }> {
   return transaction(async (trx) => {
-    const zone = await siteZone(trx);
+    const zone = (await getSettings(trx)).timeZone;
     const due = trx('clearances as c').join('machine_groups as g', 'g.id', 'c.group_id').join('people as p', 'p.id', 'c.person_id')
       .where('c.state', 'cleared').where('c.expires_at', '<=', at.toISOString());
     if (onlyPersonId) due.where('c.person_id', onlyPersonId);

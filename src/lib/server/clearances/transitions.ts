@@ -1,12 +1,13 @@
 /** Clearance transitions: quiz passed, signed off, suspended, reinstated — each in the caller's transaction, audited. */
 import type { Knex } from 'knex';
-import { transaction } from '../db';
+import { transaction, type Conn } from '../db';
 import { HttpError } from '../errors';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { env } from '../env';
 import { effectiveState, expiryFor, nextStep, transition, type ClearanceEvent, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
-import { type ClearanceRow, formatLocalDate, type Q, siteZone } from './state';
+import { type ClearanceRow, formatLocalDate } from './state';
+import { getSettings } from '../settings';
 
 // ---------------------------------------------------------------------------------------------
 // Transitions (each in the caller's transaction, audited)
@@ -16,13 +17,13 @@ async function lockClearance(trx: Knex.Transaction, personId: string, groupId: s
   return (await trx('clearances').where({ person_id: personId, group_id: groupId }).forUpdate().first()) as ClearanceRow;
 }
 
-async function groupRow(trx: Q, groupId: string) {
+async function groupRow(trx: Conn, groupId: string) {
   const g = await trx('machine_groups').where({ id: groupId }).first();
   if (!g) throw new HttpError(404, 'not_found', 'No such machine group.');
   return g as { id: string; name: string; validity_days: number; refresher: RefresherRule; checklist: string[] };
 }
 
-async function personRow(trx: Q, personId: string) {
+async function personRow(trx: Conn, personId: string) {
   const p = await trx('people').where({ id: personId }).first('id', 'email', 'name', 'active');
   if (!p) throw new HttpError(404, 'not_found', 'No such person.');
   return p as { id: string; email: string; name: string; active: boolean };
@@ -43,7 +44,7 @@ export async function recordQuizPass(trx: Knex.Transaction, personId: string, gr
   const row = await lockClearance(trx, personId, groupId);
   const from = effectiveState(row.state, row.expires_at, at);
   const to = apply(from, { type: 'quiz_passed' }, { refresher: g.refresher });
-  const zone = await siteZone(trx);
+  const zone = (await getSettings(trx)).timeZone;
   const update: Record<string, unknown> = { state: to, quiz_passed_at: at, updated_at: at };
   if (to === 'cleared') {
     update.cleared_at = at;
@@ -105,7 +106,7 @@ export async function signOffIn(trx: Knex.Transaction, instructorId: string, inp
     const row = await lockClearance(trx, input.personId, input.groupId);
     const from = effectiveState(row.state, row.expires_at, at);
     const to = apply(from, { type: 'signed_off', level: input.level, heldLevel: row.cleared_at ? row.level : undefined }, { refresher: g.refresher });
-    const zone = await siteZone(trx);
+    const zone = (await getSettings(trx)).timeZone;
     const expiresAt = expiryFor(at, g.validity_days, zone);
     await trx('clearances').where({ id: row.id }).update({
       state: to, level: input.level, cleared_at: at, expires_at: expiresAt, signed_off_by: instructorId, lapse_warned_for: null, updated_at: at,

@@ -1,7 +1,7 @@
 /** A controller asks whether a badge may start its machine: the person's clearance, booking or walk-up, and the checks. */
 import { db, pgCode, PG, transaction } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { canOperate } from '../clearances/state';
 import { checkIn, machineCoolant } from '../machine-sessions';
 import { assertCanBook } from '../payments/charge-runs';
@@ -112,7 +112,7 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
   try {
     await assertCanBook(person.id);
   } catch (err) {
-    if (err instanceof HttpError && err.status === 402) return deny('no_booking', 'Walk-ups need a saved card.');
+    if (err instanceof DomainError && err.kind === 'payment_required') return deny('no_booking', 'Walk-ups need a saved card.');
     throw err;
   }
   let walkUpId: string;
@@ -136,7 +136,7 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
 
 /** A check-in refusal from machine-sessions checkIn as a deny reason for the display. */
 function refusalOf(err: unknown): [DenyReason, string?] {
-  if (!(err instanceof HttpError)) throw err;
+  if (!(err instanceof DomainError)) throw err;
   switch (err.code) {
     case 'machine_out_of_service': return ['machine_out_of_service'];
     case 'clearance_required': return ['not_cleared'];

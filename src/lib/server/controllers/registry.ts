@@ -4,13 +4,10 @@
  * check-in and check-out go through machine-sessions.ts, exactly as from the phone.
  */
 import { createHash, randomBytes } from 'node:crypto';
-import type { Knex } from 'knex';
-import { db, transaction } from '../db';
+import { db, transaction, type Conn } from '../db';
 import { recordAudit } from '../audit';
 import { HttpError } from '../errors';
 import { CONTROLLER_OFFLINE_MINUTES } from '../../controller-rules';
-
-export type Conn = Knex | Knex.Transaction;
 
 export interface Controller {
   id: string;

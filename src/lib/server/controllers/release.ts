@@ -5,8 +5,9 @@ import { HttpError } from '../errors';
 import { checkOut, getSession, type MachineSession } from '../machine-sessions';
 import { getCharge, type Charge } from '../payments/charge-records';
 import { billableMinutes } from '../../controller-rules';
-import type { Conn, Controller } from './registry';
+import type { Controller } from './registry';
 import { answerOf, snapshot, type StateAnswer } from './state';
+import type { Conn } from '../db';
 
 // ---------------------------------------------------------------------------------------------
 // Heartbeat and release
@@ -69,7 +70,6 @@ export async function release(ctrl: Controller, input: { sessionId: string; beam
   });
   return releaseAnswer(result.session, measured, result.charge, result.chargeProblem);
 }
-
 
 /** How a session's beam time was counted, for its receipt: measured by a controller, or the wall clock. */
 export async function beamSourceOf(sessionId: string | null): Promise<{ source: 'measured' | 'clock'; measuredSeconds: number | null } | null> {

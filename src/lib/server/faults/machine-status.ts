@@ -9,7 +9,7 @@
  */
 import type { Knex } from 'knex';
 import { recordAudit } from '../audit';
-import { findMachine, lockMachine, openFaultCounts, type Actor, type Conn, type MachineRow } from './records';
+import { findMachine, lockMachine, openFaultCounts, type MachineRow } from './records';
 import { transaction } from '../db';
 import { env } from '../env';
 import { HttpError } from '../errors';
@@ -18,11 +18,9 @@ import { recordPaymentIntent } from '../payment-intents';
 import { releaseHoldsAfterCancel } from '../payments/intents';
 import { cancellationAttachment, offerFreedTime, raiseSequence } from '../bookings';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
-
-async function siteZone(trx: Conn): Promise<string> {
-  const row = await trx('site_settings').where({ id: 1 }).first('time_zone');
-  return (row?.time_zone as string | undefined) ?? 'UTC';
-}
+import type { Conn } from '../db';
+import type { Actor } from '../../roles';
+import { getSettings } from '../settings';
 
 function formatRange(startsAt: Date, endsAt: Date, tz: string): string {
   const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long' }).format(startsAt);
@@ -76,8 +74,8 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
     id: string; kind: string; course_name: string | null; starts_at: Date; ends_at: Date; calendar_sequence: number; person_id: string; email: string; name: string;
   }[];
   if (!rows.length) return [];
-  const tz = await siteZone(trx);
-  const site = await trx('site_settings').where({ id: 1 }).first('name');
+  const site = await getSettings(trx);
+  const tz = site.timeZone;
   await trx('bookings').whereIn('id', rows.map((r) => r.id)).update({ state: 'bumped', calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() });
   for (const r of rows) {
     if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: 'expired' });
@@ -103,7 +101,7 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
         'The attached calendar file removes it from your calendar.',
       ],
       action: { label: 'Book another time', url: `${env().PUBLIC_BASE_URL}/book` },
-    }, [cancellationAttachment({ ...r, calendar_sequence: r.calendar_sequence + 1 }, machine.name, site?.name ?? 'Beamwarden')]);
+    }, [cancellationAttachment({ ...r, calendar_sequence: r.calendar_sequence + 1 }, machine.name, site.name)]);
   }
   return rows.map((r) => r.id);
 }

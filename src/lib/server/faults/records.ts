@@ -3,20 +3,13 @@
  * and its status history. The writes live beside: reporting.ts, triage.ts, machine-status.ts.
  */
 import type { Knex } from 'knex';
-import { db } from '../db';
+import { db, type Conn } from '../db';
 import { HttpError } from '../errors';
 import { getObject } from '../storage';
-import { hasAnyRole, type Role } from '../../roles';
+import { hasAnyRole, type Actor } from '../../roles';
 import type { FaultSeverity, FaultStatus, MachineStatus } from '../../faults-shared';
 
 export type { FaultSeverity, FaultStatus, MachineStatus } from '../../faults-shared';
-
-export type Conn = Knex | Knex.Transaction;
-
-export interface Actor {
-  id: string;
-  roles: readonly Role[];
-}
 
 export interface FaultPhoto {
   key: string;

@@ -12,7 +12,8 @@ import { putObject } from '../storage';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
 import { changeStatus, statusFor } from './machine-status';
 import { preparePhotos, type PhotoUpload } from './photos';
-import { findMachine, getFault, lockMachine, UUID, type Actor, type Fault, type FaultPhoto, type MachineRow } from './records';
+import { findMachine, getFault, lockMachine, UUID, type Fault, type FaultPhoto, type MachineRow } from './records';
+import type { Actor } from '../../roles';
 
 export interface FaultInput {
   summary: string;

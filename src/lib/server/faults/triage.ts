@@ -7,7 +7,9 @@ import { queueMail } from '../mail';
 import { releaseHoldsAfterCancel } from '../payments/intents';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
 import { changeStatus, returnToService, statusFor, type ReturnChecklist } from './machine-status';
-import { getFault, lockMachine, openFaultCounts, type Actor, type Conn, type Fault, type MachineRow } from './records';
+import { getFault, lockMachine, openFaultCounts, type Fault, type MachineRow } from './records';
+import type { Conn } from '../db';
+import type { Actor } from '../../roles';
 
 export interface TriageInput {
   severity?: FaultSeverity;

@@ -5,9 +5,10 @@ import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { releaseClassTime, reserveClassTime } from '../bookings';
 import { SESSION_KIND_LABELS, placeLabel, type SessionInput } from '../../induction';
-import { formatSessionTime, link, sessionRow, type SessionView, siteInfo, view } from './records';
+import { formatSessionTime, link, sessionRow, type SessionView, view } from './records';
 import { roster } from './roster';
 import { icsAttachment } from './seats';
+import { getSettings } from '../settings';
 
 // ---------------------------------------------------------------------------------------------
 // Publishing
@@ -55,7 +56,7 @@ export async function cancelSession(actorId: string, id: string, reason: string,
     const seats = await trx('induction_seats as x').join('people as p', 'p.id', 'x.person_id').where({ 'x.session_id': id, 'x.state': 'booked' }).select('x.id', 'p.email', 'p.name');
     await trx('induction_seats').where({ session_id: id, state: 'booked' }).update({ state: 'cancelled', cancelled_at: now });
     await trx('induction_waitlist').where({ session_id: id, state: 'waiting' }).update({ state: 'withdrawn' });
-    const site = await siteInfo(trx);
+    const site = await getSettings(trx);
     for (const seat of seats) {
       await queueMail(trx, seat.email, `Induction session cancelled: ${s.group_name}, ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
         greeting: `Kia ora ${seat.name},`,

@@ -4,13 +4,10 @@
  * signs people off from the roster. This file: the session records and how they are read. Beside it: publishing.ts,
  * seats.ts, roster.ts, reminders.ts.
  */
-import type { Knex } from 'knex';
-import { db } from '../db';
+import { db, type Conn } from '../db';
 import { HttpError } from '../errors';
 import { env } from '../env';
 import { placeLabel, type SessionKind } from '../../induction';
-
-export type Q = Knex | Knex.Transaction;
 
 export interface SessionView {
   id: string;
@@ -37,7 +34,7 @@ export interface SessionRow {
 export const SAFETY = 'Class 4 laser: wear closed shoes, tie back long hair, and follow the instructor. Your laser safety officer and the manufacturer’s manual take precedence.';
 export const link = (path: string) => new URL(path, env().PUBLIC_BASE_URL).toString();
 
-export function sessionQuery(q: Q) {
+export function sessionQuery(q: Conn) {
   return q('induction_sessions as s')
     .join('machine_groups as g', 'g.id', 's.group_id')
     .join('people as i', 'i.id', 's.instructor_id')
@@ -54,11 +51,6 @@ export function view(r: SessionRow): SessionView {
     capacity: r.capacity, seatsTaken: Number(r.seats_taken), kind: r.kind, place: placeLabel(r.machine_name, r.place), machineId: r.machine_id,
     bring: r.bring, instructorName: r.instructor_name, state: r.state,
   };
-}
-
-export async function siteInfo(q: Q): Promise<{ name: string; timeZone: string }> {
-  const row = await q('site_settings').where({ id: 1 }).first('name', 'time_zone');
-  return row ? { name: row.name, timeZone: row.time_zone } : { name: 'Beamwarden', timeZone: 'UTC' };
 }
 
 /** "Tuesday 8 December 2026, 10:00–12:00" in the site's zone. */
@@ -81,7 +73,7 @@ export async function listSessions(filter: { groupId?: string; from?: Date; to?:
   return rows.map(view);
 }
 
-export async function sessionRow(q: Q, id: string, lock = false): Promise<SessionRow> {
+export async function sessionRow(q: Conn, id: string, lock = false): Promise<SessionRow> {
   if (lock) await q('induction_sessions').where({ id }).forUpdate().first('id');
   const r = (await sessionQuery(q).where('s.id', id).first()) as SessionRow | undefined;
   if (!r) throw new HttpError(404, 'not_found', 'No such induction session.');

@@ -2,8 +2,9 @@
 import { transaction } from '../db';
 import { queueMail } from '../mail';
 import { placeLabel } from '../../induction';
-import { formatSessionTime, link, SAFETY, sessionRow, siteInfo } from './records';
+import { formatSessionTime, link, SAFETY, sessionRow } from './records';
 import { icsAttachment } from './seats';
+import { getSettings } from '../settings';
 
 // ---------------------------------------------------------------------------------------------
 // Timed work
@@ -15,7 +16,7 @@ export async function remindSeats(now = new Date()): Promise<{ reminded: number 
       .where({ 'x.state': 'booked', 's.state': 'published' }).whereNull('x.reminded_at')
       .where('s.starts_at', '>', now).where('s.starts_at', '<=', new Date(now.getTime() + 24 * 3_600_000))
       .forUpdate('x').skipLocked().select('x.id', 'x.person_id', 'x.session_id');
-    const site = await siteInfo(trx);
+    const site = await getSettings(trx);
     for (const d of due) {
       const s = await sessionRow(trx, d.session_id);
       const person = await trx('people').where({ id: d.person_id }).first('email', 'name', 'active');

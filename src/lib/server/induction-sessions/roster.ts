@@ -8,8 +8,9 @@ import { clearanceOf } from '../clearances/state';
 import { signOffIn } from '../clearances/transitions';
 import { placeLabel, type SeatState, type SessionKind } from '../../induction';
 import type { ClearanceLevel, ClearanceState } from '../../clearance-rules';
-import { formatSessionTime, link, sessionQuery, sessionRow, type SessionRow, type SessionView, siteInfo, view } from './records';
+import { formatSessionTime, link, sessionQuery, sessionRow, type SessionRow, type SessionView, view } from './records';
 import { offerFreedSeat, personRow } from './seats';
+import { getSettings } from '../settings';
 
 // ---------------------------------------------------------------------------------------------
 // The member's view (Clearances cards)
@@ -117,7 +118,7 @@ async function lockSeat(trx: Knex.Transaction, sessionId: string, personId: stri
 async function markAbsent(trx: Knex.Transaction, instructorId: string, s: SessionRow, seatId: string, personId: string, now: Date): Promise<void> {
   await trx('induction_seats').where({ id: seatId }).update({ state: 'absent', marked_at: now, marked_by: instructorId });
   const person = await personRow(trx, personId);
-  const site = await siteInfo(trx);
+  const site = await getSettings(trx);
   await recordAudit(trx, { actorId: instructorId, kind: 'induction.marked_absent', subjectType: 'induction_seat', subjectId: seatId, summary: `${person.name} marked absent from the ${s.group_name} session (no-show)` });
   await queueMail(trx, person.email, `We missed you at the ${s.group_name} induction`, {
     greeting: `Kia ora ${person.name},`,

@@ -3,14 +3,15 @@
  * so concurrent requests for the last seat are answered one after another (one 201, the rest 409 session_full).
  */
 import type { Knex } from 'knex';
-import { transaction } from '../db';
+import { transaction, type Conn } from '../db';
 import { HttpError } from '../errors';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { clearanceOf } from '../clearances/state';
 import { buildIcs } from '../../ics';
 import { SESSION_KIND_LABELS, placeLabel, seatEligibility, type SeatState } from '../../induction';
-import { formatSessionTime, link, type Q, SAFETY, sessionRow, type SessionRow, type SessionView, siteInfo, view } from './records';
+import { formatSessionTime, link, SAFETY, sessionRow, type SessionRow, type SessionView, view } from './records';
+import { getSettings } from '../settings';
 
 // ---------------------------------------------------------------------------------------------
 // Seats
@@ -29,14 +30,14 @@ export function icsAttachment(s: SessionRow, seatId: string, site: { name: strin
   return { filename: 'induction.ics', contentType: 'text/calendar; charset=utf-8; method=PUBLISH', content: Buffer.from(ics, 'utf8').toString('base64') };
 }
 
-export async function personRow(q: Q, id: string): Promise<{ id: string; email: string; name: string }> {
+export async function personRow(q: Conn, id: string): Promise<{ id: string; email: string; name: string }> {
   const p = await q('people').where({ id, active: true }).first('id', 'email', 'name');
   if (!p) throw new HttpError(404, 'not_found', 'No such person.');
   return p;
 }
 
 /** Why this person may not take a seat at this session now, or null when they may. */
-async function refusal(trx: Q, personId: string, s: SessionRow, now: Date, site: { timeZone: string }): Promise<string | null> {
+async function refusal(trx: Conn, personId: string, s: SessionRow, now: Date, site: { timeZone: string }): Promise<string | null> {
   const c = await clearanceOf(personId, s.group_id, now, trx);
   const other = await trx('induction_seats as x').join('induction_sessions as s', 's.id', 'x.session_id')
     .where({ 'x.person_id': personId, 's.group_id': s.group_id, 'x.state': 'booked', 's.state': 'published' })
@@ -61,7 +62,7 @@ export async function bookSeat(personId: string, sessionId: string, now = new Da
     await trx.raw("SELECT pg_advisory_xact_lock(hashtextextended('induction.person:' || ? || ':' || ?, 0))", [personId, s.group_id]);
     const mine = await trx('induction_seats').where({ session_id: s.id, person_id: personId }).whereNot('state', 'cancelled').first('id');
     if (mine) throw new HttpError(409, 'already_booked', 'You already have a seat at this session.');
-    const site = await siteInfo(trx);
+    const site = await getSettings(trx);
     const why = await refusal(trx, personId, s, now, site);
     if (why) throw new HttpError(403, 'not_eligible', why, { reason: why });
     if (Number(s.seats_taken) >= s.capacity) {
@@ -113,7 +114,7 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
     if (s.starts_at <= now) throw new HttpError(409, 'session_started', 'This session has started; tell the instructor if you cannot stay.');
     await trx('induction_seats').where({ id: seat.id }).update({ state: 'cancelled', cancelled_at: now });
     const person = await personRow(trx, personId);
-    const site = await siteInfo(trx);
+    const site = await getSettings(trx);
     await recordAudit(trx, { actorId: personId, kind: 'induction.seat_cancelled', subjectType: 'induction_seat', subjectId: seat.id, summary: `${person.name} cancelled a seat at the ${s.group_name} session` });
     await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
       greeting: `Kia ora ${person.name},`,
@@ -147,7 +148,7 @@ export async function joinSessionWaitlist(personId: string, sessionId: string, n
   return transaction(async (trx) => {
     const s = await sessionRow(trx, sessionId, true);
     assertOpen(s, now);
-    const site = await siteInfo(trx);
+    const site = await getSettings(trx);
     const why = await refusal(trx, personId, s, now, site);
     if (why) throw new HttpError(403, 'not_eligible', why, { reason: why });
     if (await trx('induction_seats').where({ session_id: s.id, person_id: personId }).whereNot('state', 'cancelled').first('id')) {

@@ -1,24 +1,14 @@
 /** What a person (and the finance report) sees of their money: the account summary, charges, refunds, recharge CSV. */
 import { majorUnits, toCsv } from '../../csv';
-import type { Tier } from '../../pricing';
-import { zonedDate } from '../../time';
+import { startOfZonedDay, zonedDate } from '../../time';
 import { db } from '../db';
-import type { HttpError } from '../errors';
-import { zonedMidnight } from '../prices';
+import type { DomainError } from '../errors';
 import { getSettings } from '../settings';
 import { chargeQuery, personFor, toCharge, type Charge } from './charge-records';
-import { savedCard, type SavedCard } from './cards';
+import { savedCard } from './cards';
+import type { AccountSummary, ChargeSort } from '../../account-views';
 
 
-export interface AccountSummary {
-  tier: Tier;
-  costCentre: string | null;
-  recharge: boolean;
-  card: SavedCard | null;
-  currency: string;
-  balanceOwedMinor: number;
-  failed: number;
-}
 
 export async function accountSummary(personId: string): Promise<AccountSummary> {
   const person = await personFor(personId);
@@ -36,8 +26,6 @@ export async function accountSummary(personId: string): Promise<AccountSummary> 
     failed: Number(owed?.failed ?? 0),
   };
 }
-
-export type ChargeSort = 'date' | 'amount' | 'state' | 'machine';
 
 export async function listCharges(personId: string | null, opts: { page: number; pageSize: number; sort: ChargeSort; dir: 'asc' | 'desc' }): Promise<{ rows: Charge[]; total: number }> {
   const base = db()('charges as c');
@@ -63,9 +51,9 @@ export async function refundsOf(chargeId: string): Promise<{ amountMinor: number
 export async function rechargeCsv(month: string, costCentre?: string): Promise<{ csv: string; totalMinor: number; lines: number }> {
   const { timeZone, currency } = await getSettings();
   const [y, m] = month.split('-').map(Number) as [number, number];
-  const from = zonedMidnight(`${month}-01`, timeZone);
+  const from = startOfZonedDay(`${month}-01`, timeZone);
   const next = m === 12 ? `${y + 1}-01-01` : `${y}-${String(m + 1).padStart(2, '0')}-01`;
-  const to = zonedMidnight(next, timeZone);
+  const to = startOfZonedDay(next, timeZone);
   const q = chargeQuery().where('c.method', 'recharge').whereIn('c.state', ['recharged', 'refunded'])
     .where('c.created_at', '>=', from).where('c.created_at', '<', to).orderBy('c.cost_centre').orderBy('c.created_at');
   if (costCentre) q.where('c.cost_centre', costCentre);
@@ -85,7 +73,7 @@ export async function rechargeCsv(month: string, costCentre?: string): Promise<{
 }
 
 /** What the person sees of a booking's card hold just after booking. */
-export async function bookingHoldNotice(bookingId: string, personId: string, refusal: HttpError | null): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
+export async function bookingHoldNotice(bookingId: string, personId: string, refusal: DomainError | null): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
   if (refusal?.code === 'not_priced') return { state: 'none', notice: 'This machine has no price for your tier yet, so nothing is held now; your booking stands.' };
   const c = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at', 'desc').first('state', 'failure_message');
   if (!c) {

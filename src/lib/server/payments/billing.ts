@@ -2,7 +2,8 @@
 import { pgCode, PG, db, transaction } from '../db';
 import { HttpError } from '../errors';
 import { quoteFor, type PricedQuote } from '../prices';
-import { breakdownOf, settle, type Tier } from '../../pricing';
+import { breakdownOf, settle } from '../../pricing';
+import { type Tier } from '../../vocabulary';
 import { cardOf, getCharge, personFor, updateCharge, type Charge, type ChargeKind, type ChargeState } from './charge-records';
 import { assertCanBook, placeHold, run } from './charge-runs';
 import { assignReceipt, queueReceipt } from './receipts';

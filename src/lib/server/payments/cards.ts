@@ -6,11 +6,8 @@ import { HttpError } from '../errors';
 import { personFor } from './charge-records';
 import { settleOwed } from './charge-runs';
 import { classify, provider, unreachable, type ProviderError } from './provider';
+import type { SavedCard } from '../../account-views';
 
-export interface SavedCard {
-  brand: string;
-  last4: string;
-}
 
 /** The person's customer at the provider, created on first use (and again if the provider lost it). */
 export async function ensureCustomer(personId: string): Promise<string> {

@@ -15,14 +15,12 @@
  *   settled          — a failed or carried charge paid later as part of another charge (settled_by)
  */
 import type { Knex } from 'knex';
-import type { Breakdown, Tier } from '../../pricing';
-import { db } from '../db';
+import type { Breakdown } from '../../pricing';
+import type { ChargeKind, ChargeState, Tier } from '../../vocabulary';
+import { db, type Conn } from '../db';
 import { HttpError } from '../errors';
 
-export type ChargeState =
-  | 'pending' | 'queued' | 'held' | 'captured' | 'released' | 'payment failed' | 'refunded' | 'recharged' | 'carried' | 'waived' | 'settled'
-  | 'refund pending';
-export type ChargeKind = 'beam_time' | 'late_cancellation' | 'no_show';
+export type { ChargeKind, ChargeState } from '../../vocabulary';
 
 export interface Charge {
   id: string;
@@ -93,14 +91,14 @@ export function toCharge(r: Record<string, any>): Charge {
   };
 }
 
-export function chargeQuery(trx: Knex | Knex.Transaction = db()) {
+export function chargeQuery(trx: Conn = db()) {
   return trx('charges as c')
     .leftJoin('machines as m', 'm.id', 'c.machine_id')
     .leftJoin('people as p', 'p.id', 'c.person_id')
     .select('c.*', 'm.name as machine_name', 'p.name as person_name', 'p.email as person_email');
 }
 
-export async function getCharge(id: string, trx: Knex | Knex.Transaction = db()): Promise<Charge | null> {
+export async function getCharge(id: string, trx: Conn = db()): Promise<Charge | null> {
   const r = await chargeQuery(trx).where('c.id', id).first();
   return r ? toCharge(r) : null;
 }
@@ -112,19 +110,19 @@ export async function lockCharge(trx: Knex.Transaction, id: string): Promise<Cha
   return c;
 }
 
-export async function updateCharge(trx: Knex | Knex.Transaction, id: string, patch: Record<string, unknown>): Promise<void> {
+export async function updateCharge(trx: Conn, id: string, patch: Record<string, unknown>): Promise<void> {
   await trx('charges').where({ id }).update({ ...patch, updated_at: trx.fn.now() });
 }
 
 /** The payer: who the charge is for, their tier and cost centre. */
-export async function personFor(personId: string, trx: Knex | Knex.Transaction = db()): Promise<{ id: string; email: string; name: string; tier: Tier; costCentre: string | null }> {
+export async function personFor(personId: string, trx: Conn = db()): Promise<{ id: string; email: string; name: string; tier: Tier; costCentre: string | null }> {
   const p = await trx('people').where({ id: personId }).first('id', 'email', 'name', 'tier', 'cost_centre');
   if (!p) throw new HttpError(404, 'person_not_found', 'No person has that id.');
   return { id: p.id, email: p.email, name: p.name, tier: p.tier, costCentre: p.cost_centre };
 }
 
 /** The saved card of a person, when there is one. */
-export async function cardOf(personId: string, trx: Knex | Knex.Transaction = db()): Promise<{ customerId: string; sourceId: string } | null> {
+export async function cardOf(personId: string, trx: Conn = db()): Promise<{ customerId: string; sourceId: string } | null> {
   const row = await trx('payment_customers').where({ person_id: personId }).first('provider_customer_id', 'card_source_id');
   return row?.card_source_id ? { customerId: row.provider_customer_id, sourceId: row.card_source_id } : null;
 }

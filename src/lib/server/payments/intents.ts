@@ -4,7 +4,7 @@
  */
 import { env } from '../env';
 import { db, transaction } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { log } from '../log';
 import { queueMail } from '../mail';
 import { recordAudit } from '../audit';
@@ -136,7 +136,7 @@ async function holdBooking(bookingId: string): Promise<void> {
     await holdForBooking({ personId: b.person_id, machineId: b.machine_id, bookingId, startsAt: b.starts_at, minutes: Math.round((b.ends_at.getTime() - b.starts_at.getTime()) / 60_000) }, 'intent');
   } catch (err) {
     // no card saved, or a failed payment: nothing is held, beam time is charged at check-out
-    if (err instanceof HttpError && err.status === 402) return;
+    if (err instanceof DomainError && err.kind === 'payment_required') return;
     throw err;
   }
   const after = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at').first('id');
@@ -185,7 +185,7 @@ export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = 
   try {
     await withIntentLock(i, 30, () => runIntentNow(i));
   } catch (err) {
-    if (err instanceof HttpError && err.status < 500) {
+    if (err instanceof DomainError && err.kind !== 'unavailable') {
       log.warn({ event: 'payment_intent', kind: i.kind, err: { message: err.message } }, 'payment intent not done');
       return;
     }
@@ -201,12 +201,12 @@ export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = 
  * A request's one try of an intent it recorded (short provider timeout; gives up waiting after a few seconds when
  * a worker is running it just now). Never throws for the provider: the job is the source of truth. Returns our own refusal (e.g. not priced).
  */
-export async function tryIntentNow(i: PaymentIntent): Promise<HttpError | null> {
+export async function tryIntentNow(i: PaymentIntent): Promise<DomainError | null> {
   try {
     await quickly(() => withIntentLock(i, 4, () => runIntentNow(i)));
     return null;
   } catch (err) {
-    if (err instanceof HttpError && err.status < 500) return err;
+    if (err instanceof DomainError && err.kind !== 'unavailable') return err;
     if (!(err instanceof ProviderNotReady)) log.warn({ event: 'payment_intent', kind: i.kind, err: { message: (err as Error).message } }, 'payment intent left to the worker');
     return null;
   }

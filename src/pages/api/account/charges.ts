@@ -3,11 +3,12 @@ import { json, readQuery, requireSignedIn, route } from '../../../lib/server/htt
 import { listCharges } from '../../../lib/server/payments/account';
 import { page, pageSize } from '../../../lib/schemas';
 import { chargeJson } from '../../../lib/server/charge-json';
+import { CHARGE_SORTS } from '../../../lib/account-views';
 
 const query = z.object({
   page,
   pageSize,
-  sort: z.enum(['date', 'amount', 'state', 'machine']).default('date'),
+  sort: z.enum(CHARGE_SORTS).default('date'),
   dir: z.enum(['asc', 'desc']).default('desc'),
 });
 

@@ -3,7 +3,7 @@ import { json, readJson, readQuery, requireRole, route } from '../../../lib/serv
 import { invitePerson } from '../../../lib/server/accounts';
 import { listPeople } from '../../../lib/server/people';
 import { email, page, pageSize, personName, role, searchText } from '../../../lib/schemas';
-import { TIERS } from '../../../lib/pricing';
+import { TIERS } from '../../../lib/vocabulary';
 
 const query = z.object({
   q: searchText,

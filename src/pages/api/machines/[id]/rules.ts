@@ -3,7 +3,7 @@ import { json, readJson, requireRole, requireSignedIn, route, HttpError } from '
 import { getRules, saveRules } from '../../../../lib/server/booking-rules';
 import { publicRules } from '../../../../lib/server/bookings';
 import { uuid } from '../../../../lib/schemas';
-import { TIERS } from '../../../../lib/availability';
+import { TIERS } from '../../../../lib/vocabulary';
 
 const minutes = (max: number) => z.number().int('Whole minutes.').min(0).max(max);
 const quota = z.number().int('Whole minutes.').min(0).max(10080).nullable();

@@ -1,0 +1,20 @@
+/**
+ * The words of the domain that screens, schemas and server modules share, each declared once here: price tiers and
+ * the states a charge goes through. Pure: no I/O. (Machine statuses are in machines-shared.ts, fault words in
+ * faults-shared.ts, clearance states in clearance-rules.ts, booking states with the bookings workflow.)
+ */
+
+/** Price tiers: who pays what per minute (PRODUCT.md). */
+export const TIERS = ['student', 'staff', 'community', 'commercial'] as const;
+export type Tier = (typeof TIERS)[number];
+export const TIER_LABELS: Record<Tier, string> = { student: 'Student', staff: 'Staff', community: 'Community', commercial: 'Commercial' };
+
+/** The states of a charge (see server/payments/charge-records.ts for what each means). */
+export const CHARGE_STATES = [
+  'pending', 'queued', 'held', 'captured', 'released', 'payment failed', 'refunded', 'recharged', 'carried', 'waived', 'settled', 'refund pending',
+] as const;
+export type ChargeState = (typeof CHARGE_STATES)[number];
+
+/** What a charge is for. */
+export const CHARGE_KINDS = ['beam_time', 'late_cancellation', 'no_show'] as const;
+export type ChargeKind = (typeof CHARGE_KINDS)[number];
