@@ -17,7 +17,7 @@ export default function GroupSettings({ isAdmin }: { isAdmin: boolean }) {
   if (error) return <p className="notice notice-stop" role="alert">{error}</p>;
   if (!groups) return <p className="hint">Loading…</p>;
   return (
-    <ul className="grid gap-4 lg:grid-cols-2">
+    <ul className="grid grid-cols-1 gap-4 lg:grid-cols-2">
       {groups.map((g) => <li key={g.id}><GroupCard group={g} isAdmin={isAdmin} /></li>)}
     </ul>
   );
