@@ -13,7 +13,7 @@ import { recordAudit } from './audit';
 import { queueMail } from './mail';
 import { env } from './env';
 import { clearanceOf, signOffIn } from './clearances';
-import { releaseClassTime, reserveClassTime } from './bookings';
+import { releaseClassTime, reserveClassTime } from './bookings/class-blocks';
 import { buildIcs } from '../ics';
 import {
   HOLDING_SEAT_STATES, SESSION_KIND_LABELS, placeLabel, seatEligibility,

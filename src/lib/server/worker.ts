@@ -9,7 +9,7 @@ import { sendMailNow, type MailMessage } from './mail';
 import { retryQueuedCharge, runIntent } from './payments';
 import { reconcileDaily } from './reconciliation';
 import type { PaymentIntent } from './payment-intents';
-import { sweepBookings } from './bookings';
+import { sweepBookings } from './bookings/sweep';
 import { sweepClearances } from './clearances';
 import { sweepOpenSessions } from './sessions';
 import { remindUpkeep } from './upkeep';
