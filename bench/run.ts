@@ -4,7 +4,8 @@
  * bench/RESULTS.md. Uses its own PostgreSQL database (beamwarden_bench) on its own ports.
  *
  * Environment (all optional): BENCH_PORT, BENCH_PG_PORT, BENCH_DATA_DIR, BENCH_HISTORY (default 1000000),
- * BENCH_REQUESTS (default 3200), BENCH_SECONDS (default 10), BENCH_CONNECTIONS (default 32).
+ * BENCH_REQUESTS (default 3200), BENCH_SECONDS (default 10), BENCH_CONNECTIONS (default 32),
+ * BENCH_APP_NODE_ARGS (extra node options for the app, e.g. "--cpu-prof --cpu-prof-dir=.data/bench/prof").
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -12,7 +13,7 @@ import pg from 'pg';
 import autocannon from 'autocannon';
 import {
   ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig, recreateDatabase,
-  runNode, say, spawnService, stopPostgres, stopServices, waitForPort,
+  logDir, runNode, say, spawnService, stopPostgres, stopServices, waitForPort,
 } from '../scripts/lib/stack';
 
 const cfg = readConfig(
@@ -80,7 +81,11 @@ const span = (await q(`SELECT min(starts_at) AS a, max(starts_at) AS b, count(*)
 say(`  ${span.n.toLocaleString('en')} bookings from ${span.a.toISOString().slice(0, 10)} to ${span.b.toISOString().slice(0, 10)} in ${historySeconds.toFixed(1)} s`);
 
 buildApp(path.join(ROOT, 'dist-bench'), env);
-const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-bench/server/entry.mjs')], env);
+// the app's log from here on: each request's line says its route, duration and SQL statements (queries)
+const appLog = path.join(logDir(cfg), 'app.log');
+const appLogFrom = fs.existsSync(appLog) ? fs.statSync(appLog).size : 0;
+const nodeArgs = (process.env.BENCH_APP_NODE_ARGS ?? '').split(' ').filter(Boolean);
+const app = spawnService(cfg, 'app', [...nodeArgs, path.join(ROOT, 'dist-bench/scripts/serve.mjs')], { ...env, LOG_FORMAT: 'json' });
 await waitForPort(cfg.appPort, 'the bench app', app.child);
 
 // --- sign in the bench people (Auth.js credentials flow) ------------------------------------------------
@@ -232,6 +237,28 @@ for (const period of PERIODS) {
   }
 }
 
+// --- statements per request, from the app's log lines ------------------------------------------------------
+const perRoute = new Map<string, { n: number; queries: number; ms: number }>();
+const logText = fs.readFileSync(appLog).subarray(appLogFrom).toString('utf8');
+for (const raw of logText.split('\n')) {
+  if (!raw.startsWith('{')) continue;
+  let l: { event?: string; method?: string; route?: string; status?: number; queries?: number; durationMs?: number };
+  try {
+    l = JSON.parse(raw);
+  } catch {
+    continue;
+  }
+  if (l.event !== 'request' || !l.route?.startsWith('/api/') || l.route.startsWith('/api/auth/')) continue;
+  const key = `${l.method} ${l.route} → ${l.status}`;
+  const e = perRoute.get(key) ?? { n: 0, queries: 0, ms: 0 };
+  e.n++;
+  e.queries += l.queries ?? 0;
+  e.ms += l.durationMs ?? 0;
+  perRoute.set(key, e);
+}
+const routeRows = [...perRoute].filter(([, e]) => e.n >= 10).sort((a, b) => b[1].n - a[1].n)
+  .map(([k, e]) => `| ${k} | ${e.n} | ${(e.queries / e.n).toFixed(1)} | ${(e.ms / e.n).toFixed(1)} ms |`);
+
 // --- results -----------------------------------------------------------------------------------------------
 const apiCreateRps = apiCreate.requests.total / (apiCreate.duration || 1);
 const sqlCreateTps = REQUESTS / sqlCreateSeconds;
@@ -252,6 +279,12 @@ const lines = [
   '| report | period | status | median | slowest | under 300 ms |',
   '| --- | --- | --- | --- | --- | --- |',
   ...reportRows,
+  '',
+  'SQL statements per request (from the app log; the mean time is inside the app, not queueing in front of it):',
+  '',
+  '| request | count | statements (mean) | time in the app (mean) |',
+  '| --- | --- | --- | --- |',
+  ...routeRows,
 ];
 console.log('\n' + lines.join('\n') + '\n');
 fs.writeFileSync(path.join(ROOT, 'bench/RESULTS.md'), `# Latest bench run\n\n${lines.join('\n')}\n`);

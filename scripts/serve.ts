@@ -84,6 +84,7 @@ const server = http.createServer((req, res) => {
       status,
       durationMs: Math.round(Number(process.hrtime.bigint() - started) / 1e4) / 100,
       ...(context.personId ? { personId: context.personId } : {}),
+      ...(context.queries ? { queries: context.queries } : {}),
     };
     if (status >= 500) log.error(line, 'request');
     else log.info(line, 'request');

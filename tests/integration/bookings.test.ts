@@ -319,7 +319,7 @@ describe('the waitlist', () => {
 
 describe('the no-show sweep', () => {
   it('a booking not checked in 15 minutes after its start becomes a no-show and its time is released', async () => {
-    const { sweepBookings } = await import('../../src/lib/server/bookings');
+    const { sweepBookings } = await import('../../src/lib/server/bookings/sweep');
     const { closeDb } = await import('../../src/lib/server/db');
     const { stopJobs } = await import('../../src/lib/server/jobs');
     const memberRow = await testDb()('people').where({ email: DEMO.member }).first('id');

@@ -145,6 +145,8 @@ describe('request ids and the JSON request log', () => {
     }, 5000);
     expect(line).toMatchObject({ method: 'GET', route: '/api/me', status: 200, personId: me.id });
     expect(typeof line!.durationMs).toBe('number');
+    // the session look-up is at least one statement, counted on the line
+    expect(line!.queries).toBeGreaterThanOrEqual(1);
     expect(typeof line!.time).toBe('string');
     // a request id sent by a client that is not a trusted proxy is not taken over
     const forged = await fetch(new URL('/healthz', APP_URL()), { headers: { 'x-request-id': 'forged-request-id-123' } });

@@ -14,7 +14,7 @@ import { hashPassword, verifyPassword } from './passwords';
 import { createPerson, EmailTaken, getPerson, type Person } from './people';
 import { getSettings, publicBaseUrl } from './settings';
 import { clearSignInCounters } from './sign-in';
-import { cancelFutureBookingsOf } from './bookings';
+import { cancelFutureBookingsOf } from './bookings/cancel';
 import { passwordProblem } from '../password-rules';
 import type { Role } from '../roles';
 import type { Tier } from '../vocabulary';

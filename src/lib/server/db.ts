@@ -5,7 +5,7 @@
 import knexFactory, { type Knex } from 'knex';
 import pg from 'pg';
 import { env } from './env';
-import { onShutdown } from './log';
+import { currentRequest, onShutdown } from './log';
 
 // timestamptz → JS Date (the default); bigint counts (COUNT(*)) → number when they fit.
 pg.types.setTypeParser(pg.types.builtins.INT8, (v: string) => {
@@ -35,6 +35,11 @@ export function db(): Knex {
         },
       },
       acquireConnectionTimeout: 10_000,
+    });
+    // each request's log line says how many statements it ran (scripts/serve.ts)
+    instance.on('query', () => {
+      const request = currentRequest();
+      if (request) request.queries = (request.queries ?? 0) + 1;
     });
     onShutdown('database pool', closeDb);
   }

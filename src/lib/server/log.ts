@@ -31,6 +31,8 @@ export interface RequestContext {
   requestId: string;
   route?: string;
   personId?: string;
+  /** SQL statements the request ran (counted by db.ts), for the request's log line. */
+  queries?: number;
 }
 
 const KEY = Symbol.for('beamwarden.requestContext');

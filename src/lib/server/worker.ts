@@ -10,7 +10,7 @@ import { retryQueuedCharge } from './payments/charge-runs';
 import { runIntent } from './payments/intents';
 import { reconcileDaily } from './reconciliation';
 import type { PaymentIntent } from './payment-intents';
-import { sweepBookings } from './bookings';
+import { sweepBookings } from './bookings/sweep';
 import { sweepClearances } from './clearances/sweep';
 import { sweepOpenSessions } from './machine-sessions';
 import { remindUpkeep } from './upkeep';

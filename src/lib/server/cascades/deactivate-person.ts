@@ -5,7 +5,7 @@
 import { transaction } from '../db';
 import { HttpError } from '../errors';
 import { applyActive, mustGetPerson, type Person } from '../people';
-import { cancelFutureBookingsOf } from '../bookings';
+import { cancelFutureBookingsOf } from '../bookings/cancel';
 
 /**
  * Deactivates a person (admin): they can no longer sign in, and their current session ends at their

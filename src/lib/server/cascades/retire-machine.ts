@@ -6,7 +6,7 @@ import { transaction } from '../db';
 import { recordAudit } from '../audit';
 import { HttpError } from '../errors';
 import { getMachine, type Machine } from '../machines';
-import { cancelFutureBookingsOnMachine } from '../bookings';
+import { cancelFutureBookingsOnMachine } from '../bookings/cancel';
 
 /**
  * Retires a machine (admin): it leaves every list, its label page and the booking calendar, and takes no more

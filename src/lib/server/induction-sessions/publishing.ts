@@ -3,7 +3,7 @@ import { transaction } from '../db';
 import { HttpError } from '../errors';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
-import { releaseClassTime, reserveClassTime } from '../bookings';
+import { releaseClassTime, reserveClassTime } from '../bookings/class-blocks';
 import { SESSION_KIND_LABELS, placeLabel, type SessionInput } from '../../induction';
 import { formatSessionTime, link, sessionRow, type SessionView, view } from './records';
 import { roster } from './roster';

@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { json, readJson, readQuery, requireSignedIn, route } from '../../../lib/server/http';
-import { calendarFeed, createBooking } from '../../../lib/server/bookings';
+import { calendarFeed } from '../../../lib/server/bookings/week-view';
+import { createBooking } from '../../../lib/server/bookings/create';
 import { assertCanBook } from '../../../lib/server/payments/charge-runs';
 import { bookingHoldNotice } from '../../../lib/server/payments/account';
 import { tryIntentNow } from '../../../lib/server/payments/intents';

@@ -1,5 +1,5 @@
 import { json, requireSignedIn, route, HttpError } from '../../../../lib/server/http';
-import { cancelBooking } from '../../../../lib/server/bookings';
+import { cancelBooking } from '../../../../lib/server/bookings/cancel';
 import { uuid } from '../../../../lib/schemas';
 import { tryIntentNow } from '../../../../lib/server/payments/intents';
 import { cancellationIntent } from '../../../../lib/server/payment-intents';

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { json, readQuery, requireSignedIn, route, HttpError } from '../../../../lib/server/http';
-import { machineAvailability } from '../../../../lib/server/bookings';
+import { machineAvailability } from '../../../../lib/server/bookings/week-view';
 import { isoInstant, uuid } from '../../../../lib/schemas';
 
 const query = z

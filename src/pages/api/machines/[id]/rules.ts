@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import { json, readJson, requireRole, requireSignedIn, route, HttpError } from '../../../../lib/server/http';
 import { getRules, saveRules } from '../../../../lib/server/booking-rules';
-import { publicRules } from '../../../../lib/server/bookings';
+import { publicRules } from '../../../../lib/server/bookings/week-view';
 import { uuid } from '../../../../lib/schemas';
 import { TIERS } from '../../../../lib/vocabulary';
 

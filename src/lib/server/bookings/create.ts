@@ -1,0 +1,74 @@
+/** Creating a personal booking: the gate, the rules, the quota, the declared materials, the insert, the e-mail. */
+import { retryOnConflict, transaction } from '../db';
+import { recordAudit } from '../audit';
+import { HttpError } from '../errors';
+import { canOperate } from '../clearances/state';
+import { getTier } from '../booking-rules';
+import { checkDeclaredMaterials } from '../materials';
+import { recordPaymentIntent } from '../payment-intents';
+import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '../../availability';
+import type { Actor, Booking, BookingInput } from './records';
+import { assertFree, insertBooking, lockMachine, lockPerson, outOfService, ruleContext, weeklyMinutes } from './gate';
+import { sendConfirmation } from './messages';
+
+/**
+ * Creates a booking for `actor` (the gate, the rules, the quota, the declared materials, the insert). The card
+ * hold is an intent recorded in the same transaction (payment-intents.ts): the worker places it even if this
+ * process dies right after the commit. The caller (the API route) checks for a failed payment first and may try
+ * the hold once at once.
+ */
+export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<Booking> {
+  // concurrent requests for one slot can deadlock inside the exclusion constraint: the transaction is run again
+  return retryOnConflict(() => createBookingRow(actor, input, now));
+}
+
+async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<Booking> {
+  return transaction(async (trx) => {
+    const machine = await lockMachine(trx, input.machineId);
+    if (machine.status === 'out of service') throw outOfService(machine);
+    const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
+    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+
+    const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
+    const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'personal' }, { now, ...ctx });
+    if (broken) throw new HttpError(422, broken.code, broken.message);
+
+    const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
+    await lockPerson(trx, actor.id);
+    await assertFree(trx, machine.id, input.startsAt, until);
+    const tier = await getTier(actor.id, trx);
+    const used = await weeklyMinutes(trx, actor.id, machine.id, input.startsAt, ctx.timeZone);
+    const over = checkQuota(used, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[tier]);
+    if (over) throw new HttpError(422, over.code, over.message);
+
+    // materials check: every declared material must be allowed on this machine, mode and thickness
+    await checkDeclaredMaterials(machine.id, input.materials, trx);
+
+    const booking = await insertBooking(trx, {
+      machine_id: machine.id,
+      person_id: actor.id,
+      kind: 'personal',
+      starts_at: input.startsAt,
+      ends_at: input.endsAt,
+      occupied_until: until,
+      notes: input.notes,
+    });
+    if (input.materials.length) {
+      await trx('booking_materials').insert(
+        input.materials.map((m) => ({ booking_id: booking.id, material_id: m.materialId, mode: m.mode, thickness_mm: m.thicknessMm })),
+      );
+    }
+
+    await recordAudit(trx, {
+      actorId: actor.id,
+      kind: 'booking.created',
+      subjectType: 'booking',
+      subjectId: booking.id,
+      summary: `Booked ${machine.name}`,
+      after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt, materials: input.materials },
+    });
+    await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName);
+    await recordPaymentIntent(trx, { kind: 'booking.hold', bookingId: booking.id });
+    return booking;
+  });
+}

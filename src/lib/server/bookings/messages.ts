@@ -1,0 +1,103 @@
+/** What a booking's owner is sent: the confirmation and cancellation e-mails and their calendar (.ics) files. */
+import type { Knex } from 'knex';
+import { queueMail, type MailAttachment } from '../mail';
+import { env } from '../env';
+import { buildIcs } from '../../ics';
+import type { Booking, Conn, MachineRow, Row } from './records';
+import { siteSettings } from './gate';
+
+export function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): string {
+  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' }).format(b.startsAt);
+  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
+  return `${day}, ${t.format(b.startsAt)}–${t.format(b.endsAt)}`;
+}
+
+export function bookingIcs(b: Booking, machine: { name: string }, siteName: string, cancelled = false): string {
+  return buildIcs(`${siteName} bookings`, [
+    {
+      id: b.id,
+      startsAt: b.startsAt,
+      endsAt: b.endsAt,
+      summary: b.kind === 'class' ? `${machine.name}: class ${b.courseName}` : `${machine.name} booking`,
+      description: 'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show. Never leave a running job unattended.',
+      location: `${machine.name}, ${siteName}`,
+      cancelled,
+    },
+  ], { method: 'publish' });
+}
+
+/** What a booking's calendar event needs: the row's fields, with the sequence the message carries. */
+export interface CalendarBooking {
+  id: string; kind: string; course_name: string | null; starts_at: Date; ends_at: Date; calendar_sequence: number;
+}
+
+/**
+ * The .ics attached to a cancellation or bump e-mail: the confirmation's UID, METHOD:CANCEL, STATUS:CANCELLED and
+ * the booking's raised SEQUENCE, so the person's calendar app removes (or strikes through) the event.
+ */
+export function cancellationAttachment(r: CalendarBooking, machineName: string, siteName: string): MailAttachment {
+  const ics = buildIcs(`${siteName} bookings`, [
+    {
+      id: r.id,
+      startsAt: r.starts_at,
+      endsAt: r.ends_at,
+      summary: r.kind === 'class' ? `${machineName}: class ${r.course_name}` : `${machineName} booking`,
+      location: `${machineName}, ${siteName}`,
+      cancelled: true,
+      sequence: r.calendar_sequence,
+    },
+  ], { method: 'cancel' });
+  return { filename: 'booking-cancelled.ics', contentType: 'text/calendar; charset=utf-8; method=CANCEL', content: Buffer.from(ics, 'utf8').toString('base64') };
+}
+
+/** The SQL that raises a booking's calendar sequence by one (in the same UPDATE that cancels or bumps it). */
+export const raiseSequence = (trx: Conn) => trx.raw('calendar_sequence + 1');
+
+/** E-mails the owner of a cancelled booking (in the caller's transaction), with the cancellation .ics attached. */
+export async function sendCancellation(trx: Knex.Transaction, r: Row, why: string): Promise<void> {
+  if (r.kind === 'hold') return;
+  const [person, machine, site] = [
+    await trx('people').where({ id: r.person_id }).first('email', 'name'),
+    await trx('machines').where({ id: r.machine_id }).first('name'),
+    await siteSettings(trx),
+  ];
+  if (!person || !machine) return;
+  const range = formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
+  await queueMail(
+    trx,
+    person.email,
+    `Booking cancelled: ${machine.name}, ${range}`,
+    {
+      greeting: `Kia ora ${person.name},`,
+      paragraphs: [
+        `Your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${machine.name} on ${range} (${site.timeZone}) is cancelled.`,
+        why,
+        'The attached calendar file removes it from your calendar.',
+      ],
+      action: { label: 'See your bookings', url: `${env().PUBLIC_BASE_URL}/book` },
+    },
+    [cancellationAttachment(r, machine.name, site.name)],
+  );
+}
+
+export async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Booking, machine: MachineRow, tz: string, siteName: string): Promise<void> {
+  const person = await trx('people').where({ id: personId }).first('email', 'name');
+  if (!person) return;
+  const ics = bookingIcs(b, machine, siteName);
+  await queueMail(
+    trx,
+    person.email,
+    `Booking confirmed: ${machine.name}, ${formatRange(b, tz)}`,
+    {
+      greeting: `Kia ora ${person.name},`,
+      paragraphs: [
+        `${machine.name} is booked for you on ${formatRange(b, tz)} (${tz}).`,
+        'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show and the time is released.',
+        'The attached calendar file adds the booking to your calendar.',
+      ],
+      action: { label: 'See your bookings', url: `${env().PUBLIC_BASE_URL}/book` },
+      footnote: 'Class 4 laser: keep the extractor and air assist on and never leave a running job unattended.',
+    },
+    [{ filename: 'booking.ics', contentType: 'text/calendar; charset=utf-8; method=PUBLISH', content: Buffer.from(ics, 'utf8').toString('base64') }],
+  );
+}
