@@ -13,7 +13,8 @@ import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { canOperate } from './clearances';
 import { getRules, getTier, listClosures, type MachineRules } from './booking-rules';
-import { getSettings } from './settings';
+import { getSettings, siteLocale } from './settings';
+import { siteFormat } from '../format';
 import { queueMail, type MailAttachment } from './mail';
 import { env } from './env';
 import { hasAnyRole, type Role } from '../roles';
@@ -239,10 +240,8 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
   });
 }
 
-function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): string {
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' }).format(b.startsAt);
-  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  return `${day}, ${t.format(b.startsAt)}–${t.format(b.endsAt)}`;
+async function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(), tz).longRange(b.startsAt, b.endsAt);
 }
 
 function bookingIcs(b: Booking, machine: { name: string }, siteName: string, cancelled = false): string {
@@ -295,13 +294,13 @@ async function sendCancellation(trx: Knex.Transaction, r: Row, why: string): Pro
     await siteSettings(trx),
   ];
   if (!person || !machine) return;
-  const range = formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
+  const range = await formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
   await queueMail(
     trx,
     person.email,
     `Booking cancelled: ${machine.name}, ${range}`,
     {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `Your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${machine.name} on ${range} (${site.timeZone}) is cancelled.`,
         why,
@@ -320,11 +319,11 @@ async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Book
   await queueMail(
     trx,
     person.email,
-    `Booking confirmed: ${machine.name}, ${formatRange(b, tz)}`,
+    `Booking confirmed: ${machine.name}, ${await formatRange(b, tz)}`,
     {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
-        `${machine.name} is booked for you on ${formatRange(b, tz)} (${tz}).`,
+        `${machine.name} is booked for you on ${await formatRange(b, tz)} (${tz}).`,
         'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show and the time is released.',
         'The attached calendar file adds the booking to your calendar.',
       ],
@@ -416,9 +415,9 @@ export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actor
   }[];
   for (const r of rows) {
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is retired`, {
-      greeting: `Kia ora ${r.name},`,
+      greeting: `Hello ${r.name},`,
       paragraphs: [
-        `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
+        `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${await formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
         `The reason given: ${why}`,
         'You are not charged for it: any hold on your card is released.',
         'The attached calendar file removes it from your calendar.',
@@ -828,9 +827,9 @@ export async function offerFreedTime(trx: Knex.Transaction, machineId: string, f
     await trx('waitlist_entries').where({ id: c.id }).update({ state: 'offered', hold_booking_id: hold.id, claim_token_hash: hashToken(token), offered_at: now });
     const settings = await siteSettings(trx);
     await queueMail(trx, c.email, `A time on ${machine.name} is free: claim it within ${HOLD_MINUTES} minutes`, {
-      greeting: `Kia ora ${c.name},`,
+      greeting: `Hello ${c.name},`,
       paragraphs: [
-        `The time you were waiting for on ${machine.name} is free: ${formatRange({ startsAt: c.starts_at, endsAt: c.ends_at }, settings.timeZone)}.`,
+        `The time you were waiting for on ${machine.name} is free: ${await formatRange({ startsAt: c.starts_at, endsAt: c.ends_at }, settings.timeZone)}.`,
         `It is held for you for ${HOLD_MINUTES} minutes. After that it goes to the next person waiting.`,
       ],
       action: { label: 'Claim this time', url: `${env().PUBLIC_BASE_URL}/book/claim?token=${token}` },

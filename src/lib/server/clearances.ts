@@ -3,6 +3,7 @@
  * transitions, lapse, levels, next steps) are in the pure module src/lib/clearance-rules.ts.
  * canOperate() is the single gate bookings and check-ins call.
  */
+import { DEFAULT_LOCALE, siteFormat } from '../format';
 import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { HttpError } from './errors';
@@ -48,17 +49,23 @@ interface ClearanceRow {
   updated_at: Date;
 }
 
-async function siteZone(q: Q): Promise<string> {
-  const row = await q('site_settings').where({ id: 1 }).first('time_zone');
-  return (row?.time_zone as string | undefined) ?? 'UTC';
+/** The site's zone and locale: dates in this area's e-mails and screens are written with them. */
+interface SiteZone {
+  timeZone: string;
+  locale: string;
 }
 
-export function formatLocalDate(at: Date, timeZone: string): string {
-  return new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'long', year: 'numeric' }).format(at);
+async function siteZone(q: Q): Promise<SiteZone> {
+  const row = await q('site_settings').where({ id: 1 }).first('time_zone', 'locale');
+  return { timeZone: (row?.time_zone as string | undefined) ?? 'UTC', locale: (row?.locale as string | undefined) ?? DEFAULT_LOCALE };
 }
 
-export function formatLocalDateTime(at: Date, timeZone: string): string {
-  return new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'short', year: 'numeric', hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZoneName: 'short' }).format(at);
+export function formatLocalDate(at: Date, site: SiteZone): string {
+  return siteFormat(site.locale, site.timeZone).date(at);
+}
+
+export function formatLocalDateTime(at: Date, site: SiteZone): string {
+  return siteFormat(site.locale, site.timeZone).dateTimeZone(at);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -230,7 +237,7 @@ export async function recordQuizPass(trx: Knex.Transaction, personId: string, gr
   const update: Record<string, unknown> = { state: to, quiz_passed_at: at, updated_at: at };
   if (to === 'cleared') {
     update.cleared_at = at;
-    update.expires_at = expiryFor(at, g.validity_days, zone);
+    update.expires_at = expiryFor(at, g.validity_days, zone.timeZone);
   }
   await trx('clearances').where({ id: row.id }).update(update);
   await recordAudit(trx, {
@@ -241,14 +248,14 @@ export async function recordQuizPass(trx: Knex.Transaction, personId: string, gr
   const step = nextStep(to, { groupName: g.name, refresher: g.refresher });
   if (to === 'cleared') {
     await queueMail(trx, person.email, `You are cleared again: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [`You passed the ${g.name} refresher quiz, so your clearance is current again until ${formatLocalDate(new Date((update.expires_at as Date).getTime() - 1), zone)}.`],
       action: { label: 'See your clearances', url: link('/clearances') },
       footnote: SAFETY_FOOTNOTE,
     });
   } else {
     await queueMail(trx, person.email, `Quiz passed — book your practical sign-off: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `You passed the ${g.name} quiz. The next step is a practical sign-off: an instructor watches you run the machine — emergency stop, extraction and air assist, focus, framing the job and the fire routine.`,
         'Book a seat at an induction session from your Clearances screen (the next sessions are listed there); bring a small test piece of an allowed material.',
@@ -289,7 +296,7 @@ export async function signOffIn(trx: Knex.Transaction, instructorId: string, inp
     const from = effectiveState(row.state, row.expires_at, at);
     const to = apply(from, { type: 'signed_off', level: input.level, heldLevel: row.cleared_at ? row.level : undefined }, { refresher: g.refresher });
     const zone = await siteZone(trx);
-    const expiresAt = expiryFor(at, g.validity_days, zone);
+    const expiresAt = expiryFor(at, g.validity_days, zone.timeZone);
     await trx('clearances').where({ id: row.id }).update({
       state: to, level: input.level, cleared_at: at, expires_at: expiresAt, signed_off_by: instructorId, lapse_warned_for: null, updated_at: at,
     });
@@ -305,7 +312,7 @@ export async function signOffIn(trx: Knex.Transaction, instructorId: string, inp
       before: { state: from, level: row.level }, after: { state: to, level: input.level, expiresAt: expiresAt.toISOString(), checklist: input.checklist, notes: input.notes },
     });
     await queueMail(trx, person.email, `You are cleared: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `An instructor signed off your practical induction: you are cleared (${input.level}) on ${g.name} until ${formatLocalDate(new Date(expiresAt.getTime() - 1), zone)}.`,
         'You can now book the machine. Stay with every job while it runs and keep the extractor and air assist on.',
@@ -337,7 +344,7 @@ export async function suspend(instructorId: string, clearanceId: string, reason:
       summary: `Suspended ${person.name}'s ${g.name} clearance: ${reason}`, before: { state: from }, after: { state: 'suspended', reason },
     });
     await queueMail(trx, person.email, `Your clearance is suspended: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `An instructor suspended your ${g.name} clearance. The reason given: “${reason}”.`,
         'Until it is reinstated you cannot book or run these machines. Ask an instructor or the laser safety officer what is needed.',
@@ -365,7 +372,7 @@ export async function reinstate(instructorId: string, clearanceId: string, reaso
       summary: `Reinstated ${person.name}'s ${g.name} clearance: ${reason}`, before: { state: 'suspended', reason: row.suspended_reason }, after: { state: to, reason },
     });
     await queueMail(trx, person.email, `Your clearance is reinstated: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [`An instructor reinstated your ${g.name} clearance (“${reason}”). Its state is now: ${to}.`, nextStep(to, { groupName: g.name, refresher: g.refresher })],
       action: { label: 'See your clearances', url: link('/clearances') },
     });
@@ -454,7 +461,7 @@ export async function sweepClearances(at = new Date(), onlyPersonId?: string): P
         summary: `${r.name}'s ${r.group_name} clearance lapsed at ${formatLocalDateTime(r.expires_at, zone)}`, before: { state: 'cleared' }, after: { state: to },
       });
       await queueMail(trx, r.email, `Your clearance has lapsed: ${r.group_name}`, {
-        greeting: `Kia ora ${r.name},`,
+        greeting: `Hello ${r.name},`,
         paragraphs: [`Your ${r.group_name} clearance lapsed at ${formatLocalDateTime(r.expires_at, zone)}.`, nextStep('lapsed', { groupName: r.group_name, refresher: r.refresher })],
         action: { label: 'See your clearances', url: link('/clearances') },
       });
@@ -469,7 +476,7 @@ export async function sweepClearances(at = new Date(), onlyPersonId?: string): P
       await trx('clearances').where({ id: r.id }).update({ lapse_warned_for: r.expires_at });
       const days = Math.ceil((r.expires_at.getTime() - at.getTime()) / 86_400_000);
       await queueMail(trx, r.email, `Your clearance lapses in ${days} day${days === 1 ? '' : 's'}: ${r.group_name}`, {
-        greeting: `Kia ora ${r.name},`,
+        greeting: `Hello ${r.name},`,
         paragraphs: [
           `Your ${r.group_name} clearance is valid until the end of ${formatLocalDate(new Date(r.expires_at.getTime() - 1), zone)}.`,
           r.refresher === 'quiz'

@@ -8,6 +8,8 @@
  * talks to the provider, which must not happen inside a transaction). A `degraded` fault marks the machine
  * degraded and keeps its bookings.
  */
+import { siteLocale } from './settings';
+import { siteFormat } from '../format';
 import { randomUUID } from 'node:crypto';
 import type { Knex } from 'knex';
 import sharp from 'sharp';
@@ -99,10 +101,8 @@ async function siteZone(trx: Conn): Promise<string> {
   return (row?.time_zone as string | undefined) ?? 'UTC';
 }
 
-function formatRange(startsAt: Date, endsAt: Date, tz: string): string {
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long' }).format(startsAt);
-  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  return `${day}, ${t.format(startsAt)}–${t.format(endsAt)}`;
+async function formatRange(startsAt: Date, endsAt: Date, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(), tz).longRange(startsAt, endsAt);
 }
 
 
@@ -207,9 +207,9 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
     await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: `${machine.name} is out of service`, notify: false, actorId: ctx.actorId });
     if (r.kind === 'hold') continue;
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
-      greeting: `Kia ora ${r.name},`,
+      greeting: `Hello ${r.name},`,
       paragraphs: [
-        `${machine.name} was taken out of service after a fault was reported, so your booking on ${formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
+        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
         'You are not charged for it: any hold on your card is released.',
         'Book another time or another machine when it suits you.',
         'The attached calendar file removes it from your calendar.',
@@ -339,7 +339,7 @@ async function mailStewards(
   const stop = f.severity === 'stop';
   for (const s of await activeWithRole('steward', trx)) {
     await queueMail(trx, s.email, `${stop ? 'STOP' : 'Degraded'}: ${machine.name} — ${f.summary}`.slice(0, 200), {
-      greeting: `Kia ora ${s.name},`,
+      greeting: `Hello ${s.name},`,
       paragraphs: [
         `${f.reporter} reported a ${f.severity} fault on ${machine.name}: “${f.summary}”.`,
         ...(f.details ? [f.details] : []),
@@ -523,7 +523,7 @@ export async function resolveFault(actor: Actor, id: string, resolution: string,
       after: { status: 'resolved', resolution },
     });
     await queueMail(trx, f.email, `The fault you reported on ${f.machine_name} is resolved`, {
-      greeting: `Kia ora ${f.reporter_name},`,
+      greeting: `Hello ${f.reporter_name},`,
       paragraphs: [`Thank you for reporting “${f.summary}”. A steward resolved it: ${resolution}`],
       action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
     });
@@ -635,7 +635,7 @@ async function tellStopReporters(trx: Knex.Transaction, machine: MachineRow, to:
     .distinct('p.email', 'p.name');
   for (const r of reporters as { email: string; name: string }[]) {
     await queueMail(trx, r.email, `${machine.name} is back in service`, {
-      greeting: `Kia ora ${r.name},`,
+      greeting: `Hello ${r.name},`,
       paragraphs: [`${machine.name}, which you reported out of service, is back ${to === 'degraded' ? 'in use, marked degraded' : 'in service'}. Steward’s note: ${note}`],
       action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
     });

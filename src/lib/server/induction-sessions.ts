@@ -6,6 +6,8 @@
  * Capacity is held in the database: a seat is taken with the session row locked FOR UPDATE, so concurrent
  * requests for the last seat are answered one after another (one 201, the rest 409 session_full).
  */
+import { siteLocale } from './settings';
+import { siteFormat } from '../format';
 import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { HttpError } from './errors';
@@ -72,11 +74,9 @@ async function siteInfo(q: Q): Promise<{ name: string; timeZone: string }> {
   return row ? { name: row.name, timeZone: row.time_zone } : { name: 'Beamwarden', timeZone: 'UTC' };
 }
 
-/** "Tuesday 8 December 2026, 10:00–12:00" in the site's zone. */
-export function formatSessionTime(startsAt: Date, endsAt: Date, timeZone: string): string {
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone, weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' }).format(startsAt);
-  const t = new Intl.DateTimeFormat('en-NZ', { timeZone, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  return `${day}, ${t.format(startsAt)}–${t.format(endsAt)}`;
+/** "Tuesday, 8 December 2026, 10:00–12:00" in the site's zone and locale. */
+export async function formatSessionTime(startsAt: Date, endsAt: Date, timeZone: string): Promise<string> {
+  return siteFormat(await siteLocale(), timeZone).longRange(startsAt, endsAt);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -151,9 +151,9 @@ export async function cancelSession(actorId: string, id: string, reason: string,
     await trx('induction_waitlist').where({ session_id: id, state: 'waiting' }).update({ state: 'withdrawn' });
     const site = await siteInfo(trx);
     for (const seat of seats) {
-      await queueMail(trx, seat.email, `Induction session cancelled: ${s.group_name}, ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
-        greeting: `Kia ora ${seat.name},`,
-        paragraphs: [`The ${s.group_name} induction session on ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled: ${reason}`, 'Your quiz pass stands. Book a seat at another session from your Clearances screen.'],
+      await queueMail(trx, seat.email, `Induction session cancelled: ${s.group_name}, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+        greeting: `Hello ${seat.name},`,
+        paragraphs: [`The ${s.group_name} induction session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled: ${reason}`, 'Your quiz pass stands. Book a seat at another session from your Clearances screen.'],
         action: { label: 'See the next sessions', url: link('/clearances') },
       }, [icsAttachment(s, seat.id, site, true)]);
     }
@@ -193,7 +193,7 @@ async function refusal(trx: Q, personId: string, s: SessionRow, now: Date, site:
     .whereNot('s.id', s.id).where('s.ends_at', '>', now).first('s.starts_at', 's.ends_at');
   const r = seatEligibility({
     kind: s.kind, groupName: s.group_name, state: c.state, clearedUntil: c.expiresOn, suspendedReason: c.suspendedReason,
-    otherSeatOn: other ? formatSessionTime(other.starts_at, other.ends_at, site.timeZone) : null,
+    otherSeatOn: other ? await formatSessionTime(other.starts_at, other.ends_at, site.timeZone) : null,
   });
   return r.ok ? null : r.reason;
 }
@@ -230,9 +230,9 @@ async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string
     actorId: personId, kind: 'induction.seat_booked', subjectType: 'induction_seat', subjectId: seat.id,
     summary: `${person.name} took a seat at the ${s.group_name} session${fromWaitlist ? ' (from the waitlist)' : ''}`,
   });
-  const when = formatSessionTime(s.starts_at, s.ends_at, site.timeZone);
+  const when = await formatSessionTime(s.starts_at, s.ends_at, site.timeZone);
   await queueMail(trx, person.email, `${fromWaitlist ? 'A seat freed up for you' : 'Seat booked'}: ${s.group_name} induction, ${when}`, {
-    greeting: `Kia ora ${person.name},`,
+    greeting: `Hello ${person.name},`,
     paragraphs: [
       fromWaitlist
         ? `A seat freed up at the ${s.group_name} ${SESSION_KIND_LABELS[s.kind].toLowerCase()} session you were waiting for, and it is now yours: ${when} (${site.timeZone}), at ${placeLabel(s.machine_name, s.place)}.`
@@ -265,9 +265,9 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
     const person = await personRow(trx, personId);
     const site = await siteInfo(trx);
     await recordAudit(trx, { actorId: personId, kind: 'induction.seat_cancelled', subjectType: 'induction_seat', subjectId: seat.id, summary: `${person.name} cancelled a seat at the ${s.group_name} session` });
-    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
-      greeting: `Kia ora ${person.name},`,
-      paragraphs: [`Your seat at the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
+    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+      greeting: `Hello ${person.name},`,
+      paragraphs: [`Your seat at the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
       action: { label: 'See the next sessions', url: link('/clearances') },
     }, [icsAttachment(s, seat.id, site, true)]);
     const offeredTo = await offerFreedSeat(trx, s.id, now, site);
@@ -423,9 +423,9 @@ async function markAbsent(trx: Knex.Transaction, instructorId: string, s: Sessio
   const site = await siteInfo(trx);
   await recordAudit(trx, { actorId: instructorId, kind: 'induction.marked_absent', subjectType: 'induction_seat', subjectId: seatId, summary: `${person.name} marked absent from the ${s.group_name} session (no-show)` });
   await queueMail(trx, person.email, `We missed you at the ${s.group_name} induction`, {
-    greeting: `Kia ora ${person.name},`,
+    greeting: `Hello ${person.name},`,
     paragraphs: [
-      `You were marked absent from the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, so your seat there is released.`,
+      `You were marked absent from the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, so your seat there is released.`,
       'Your quiz pass stands. Book a seat at another session from your Clearances screen — and if you cannot come, cancel the seat so someone else can have it.',
     ],
     action: { label: 'Book another session', url: link('/clearances') },
@@ -502,10 +502,10 @@ export async function remindSeats(now = new Date()): Promise<{ reminded: number 
       const person = await trx('people').where({ id: d.person_id }).first('email', 'name', 'active');
       await trx('induction_seats').where({ id: d.id }).update({ reminded_at: now });
       if (!person?.active) continue;
-      await queueMail(trx, person.email, `Tomorrow: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
-        greeting: `Kia ora ${person.name},`,
+      await queueMail(trx, person.email, `Tomorrow: ${s.group_name} induction, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+        greeting: `Hello ${person.name},`,
         paragraphs: [
-          `A reminder of your seat at the ${s.group_name} session: ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, at ${placeLabel(s.machine_name, s.place)}, with ${s.instructor_name}.`,
+          `A reminder of your seat at the ${s.group_name} session: ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, at ${placeLabel(s.machine_name, s.place)}, with ${s.instructor_name}.`,
           s.bring ? `Bring: ${s.bring}.` : 'Bring a small test piece of an allowed material.',
           'If you cannot come, cancel the seat on your Clearances screen so someone else can have it.',
         ],

@@ -34,9 +34,9 @@ import { log } from './log';
 import { queueMail } from './mail';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
-import { getSettings } from './settings';
+import { getSettings, siteMoney } from './settings';
 import { quoteFor, zonedMidnight, type PricedQuote } from './prices';
-import { breakdownOf, formatMoney, settle, type Breakdown, type Tier } from '../pricing';
+import { breakdownOf, settle, type Breakdown, type Tier } from '../pricing';
 import { formatReceiptNumber, receiptPrefix } from '../receipts';
 
 // ---------------------------------------------------------------------------------------------
@@ -413,9 +413,9 @@ async function markFailed(c: Charge, code: string, message: string): Promise<voi
     await update(trx, c.id, { state: 'payment failed', pending_op: null, failure_code: code, failure_message: message, held_minor: 0 });
     const p = await personFor(c.personId, trx);
     await queueMail(trx, p.email, 'Payment failed', {
-      greeting: `Kia ora ${p.name},`,
+      greeting: `Hello ${p.name},`,
       paragraphs: [
-        `We could not take ${formatMoney(c.cardAmountMinor || c.amountMinor, c.currency)} for ${c.kind.replace('_', ' ')}${c.machineName ? ` on ${c.machineName}` : ''}: ${message}`,
+        `We could not take ${await siteMoney(c.cardAmountMinor || c.amountMinor, c.currency)} for ${c.kind.replace('_', ' ')}${c.machineName ? ` on ${c.machineName}` : ''}: ${message}`,
         'Until it is settled, new bookings are paused. Save a working card on your Account screen and we will try again straight away.',
       ],
       action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
@@ -444,13 +444,13 @@ async function assignReceipt(trx: Knex.Transaction, chargeId: string): Promise<v
 
 async function queueReceipt(trx: Knex.Transaction, c: Charge): Promise<void> {
   const p = await personFor(c.personId, trx);
-  const lines = c.breakdown.lines.map((l) => `${l.label}: ${formatMoney(l.amountMinor, c.currency)}`);
-  if (c.breakdown.carriedInMinor) lines.push(`Earlier small sums carried to this charge: ${formatMoney(c.breakdown.carriedInMinor, c.currency)}`);
-  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${c.breakdown.taxRateBp / 100} % tax: ${formatMoney(c.breakdown.taxMinor, c.currency)}`;
-  const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${formatMoney(c.capturedMinor, c.currency)}`;
-  await queueMail(trx, p.email, `Receipt: ${formatMoney(c.amountMinor, c.currency)}`, {
-    greeting: `Kia ora ${p.name},`,
-    paragraphs: [...(c.receiptNumber ? [`Receipt ${c.receiptNumber}`] : []), ...lines, tax, `Total: ${formatMoney(c.amountMinor, c.currency)}`, paid],
+  const lines = await Promise.all(c.breakdown.lines.map(async (l) => `${l.label}: ${await siteMoney(l.amountMinor, c.currency)}`));
+  if (c.breakdown.carriedInMinor) lines.push(`Earlier small sums carried to this charge: ${await siteMoney(c.breakdown.carriedInMinor, c.currency)}`);
+  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${c.breakdown.taxRateBp / 100} % tax: ${await siteMoney(c.breakdown.taxMinor, c.currency)}`;
+  const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${await siteMoney(c.capturedMinor, c.currency)}`;
+  await queueMail(trx, p.email, `Receipt: ${await siteMoney(c.amountMinor, c.currency)}`, {
+    greeting: `Hello ${p.name},`,
+    paragraphs: [...(c.receiptNumber ? [`Receipt ${c.receiptNumber}`] : []), ...lines, tax, `Total: ${await siteMoney(c.amountMinor, c.currency)}`, paid],
     action: { label: 'Printable receipt', url: `${env().PUBLIC_BASE_URL}/account/receipts/${c.id}` },
   });
 }
@@ -664,7 +664,7 @@ export async function releaseHoldsForBooking(bookingId: string, reason: string, 
   if (done.length && opts.notify !== false) {
     const p = await personFor(done[0]!.personId);
     await queueMail(null, p.email, 'Your booking was released: no charge', {
-      greeting: `Kia ora ${p.name},`,
+      greeting: `Hello ${p.name},`,
       paragraphs: [`Your booking could not go ahead (${reason}). Any hold on your card has been released and anything taken has been refunded. You are not charged for time the space could not give.`],
       action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
     });
@@ -688,7 +688,7 @@ export async function requestRefund(chargeId: string, amountMinor: number, reaso
     }
     const left = paid - c.refundedMinor;
     if (amountMinor < 1 || amountMinor > left) {
-      throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${formatMoney(left, c.currency)} is left to refund.` });
+      throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${await siteMoney(left, c.currency)} is left to refund.` });
     }
     const card = c.method === 'card' && c.providerChargeId !== null;
     await trx('charge_refunds').insert({
@@ -700,7 +700,7 @@ export async function requestRefund(chargeId: string, amountMinor: number, reaso
       await recordPaymentIntent(trx, { kind: 'refund', refundId });
       await recordAudit(trx, {
         actorId, kind: 'charge.refund_requested', subjectType: 'charge', subjectId: c.id,
-        summary: `Refund of ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName} asked for: ${reason}`,
+        summary: `Refund of ${await siteMoney(amountMinor, c.currency)} of ${await siteMoney(paid, c.currency)} to ${c.personName} asked for: ${reason}`,
         before: { state: c.state, refundedMinor: c.refundedMinor }, after: { state: 'refund pending', refundedMinor: c.refundedMinor },
       });
       return { refundId, pending: true };
@@ -722,14 +722,14 @@ async function completeRefund(trx: Knex.Transaction, c: Charge, refundId: string
     kind: 'charge.refunded',
     subjectType: 'charge',
     subjectId: c.id,
-    summary: `Refunded ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName}: ${reason}`,
+    summary: `Refunded ${await siteMoney(amountMinor, c.currency)} of ${await siteMoney(paid, c.currency)} to ${c.personName}: ${reason}`,
     before: { state: c.state, refundedMinor: c.refundedMinor },
     after: { state, refundedMinor: refunded },
   });
   if (notify) {
-    await queueMail(trx, c.personEmail!, `Refund: ${formatMoney(amountMinor, c.currency)}`, {
-      greeting: `Kia ora ${c.personName},`,
-      paragraphs: [`We refunded ${formatMoney(amountMinor, c.currency)} of your charge of ${formatMoney(c.amountMinor, c.currency)}. Reason: ${reason}`,
+    await queueMail(trx, c.personEmail!, `Refund: ${await siteMoney(amountMinor, c.currency)}`, {
+      greeting: `Hello ${c.personName},`,
+      paragraphs: [`We refunded ${await siteMoney(amountMinor, c.currency)} of your charge of ${await siteMoney(c.amountMinor, c.currency)}. Reason: ${reason}`,
         c.method === 'card' ? 'Card refunds usually show on your statement within 5–10 days.' : `The refund is credited to cost centre ${c.costCentre}.`],
     });
   }
@@ -904,7 +904,7 @@ async function giveUp(i: PaymentIntent, reason: string): Promise<void> {
   const why = `The card service could not complete this after every retry (${reason}).`;
   const admins = async (subject: string, paragraphs: string[]) => {
     for (const a of await activeWithRole('admin')) {
-      await queueMail(null, a.email, subject, { greeting: `Kia ora ${a.name},`, paragraphs, action: { label: 'Open Reconciliation', url: `${env().PUBLIC_BASE_URL}/admin/reconciliation` } });
+      await queueMail(null, a.email, subject, { greeting: `Hello ${a.name},`, paragraphs, action: { label: 'Open Reconciliation', url: `${env().PUBLIC_BASE_URL}/admin/reconciliation` } });
     }
   };
   if (i.kind === 'refund') {
@@ -913,14 +913,14 @@ async function giveUp(i: PaymentIntent, reason: string): Promise<void> {
     const c = (await getCharge(r.charge_id))!;
     await transaction(async (trx) => {
       await trx('charge_refunds').where({ id: i.refundId }).update({ state: 'failed', failure_message: why });
-      await update(trx, c.id, { state: 'captured', failure_message: `A refund of ${formatMoney(r.amount_minor, c.currency)} failed: ${why}` });
-      await recordAudit(trx, { actorId: null, kind: 'charge.refund_failed', subjectType: 'charge', subjectId: c.id, summary: `Refund of ${formatMoney(r.amount_minor, c.currency)} to ${c.personName} failed: ${why}` });
-      await queueMail(trx, c.personEmail!, `Refund delayed: ${formatMoney(r.amount_minor, c.currency)}`, {
-        greeting: `Kia ora ${c.personName},`,
-        paragraphs: [`We could not yet refund ${formatMoney(r.amount_minor, c.currency)} to your card. The space's admins have been told and will settle it with you.`],
+      await update(trx, c.id, { state: 'captured', failure_message: `A refund of ${await siteMoney(r.amount_minor, c.currency)} failed: ${why}` });
+      await recordAudit(trx, { actorId: null, kind: 'charge.refund_failed', subjectType: 'charge', subjectId: c.id, summary: `Refund of ${await siteMoney(r.amount_minor, c.currency)} to ${c.personName} failed: ${why}` });
+      await queueMail(trx, c.personEmail!, `Refund delayed: ${await siteMoney(r.amount_minor, c.currency)}`, {
+        greeting: `Hello ${c.personName},`,
+        paragraphs: [`We could not yet refund ${await siteMoney(r.amount_minor, c.currency)} to your card. The space's admins have been told and will settle it with you.`],
       });
     });
-    await admins(`Refund failed for ${c.personName}`, [`A refund of ${formatMoney(r.amount_minor, c.currency)} on charge ${c.id} failed for good. ${why}`, 'Try it again from the charge, or settle it by hand.']);
+    await admins(`Refund failed for ${c.personName}`, [`A refund of ${await siteMoney(r.amount_minor, c.currency)} on charge ${c.id} failed for good. ${why}`, 'Try it again from the charge, or settle it by hand.']);
     return;
   }
   const ids: string[] = [];
@@ -930,12 +930,12 @@ async function giveUp(i: PaymentIntent, reason: string): Promise<void> {
   for (const id of ids) {
     const c = (await getCharge(id))!;
     if (i.kind === 'booking.release') {
-      if (c.state === 'held') await admins(`A card hold could not be released for ${c.personName}`, [`The hold of ${formatMoney(c.heldMinor, c.currency)} on charge ${c.id} could not be released. ${why}`, 'Release it at the provider by hand.']);
+      if (c.state === 'held') await admins(`A card hold could not be released for ${c.personName}`, [`The hold of ${await siteMoney(c.heldMinor, c.currency)} on charge ${c.id} could not be released. ${why}`, 'Release it at the provider by hand.']);
       continue;
     }
     if (c.state !== 'pending' && c.state !== 'queued') continue;
     await markFailed(c, 'provider_unreachable', why);
-    await admins(`Payment failed for ${c.personName}`, [`Charge ${c.id} (${formatMoney(c.cardAmountMinor || c.amountMinor, c.currency)}) is marked payment failed. ${why}`]);
+    await admins(`Payment failed for ${c.personName}`, [`Charge ${c.id} (${await siteMoney(c.cardAmountMinor || c.amountMinor, c.currency)}) is marked payment failed. ${why}`]);
   }
 }
 
@@ -1068,15 +1068,15 @@ export async function handleWebhook(body: string, signature: string | null): Pro
     if (event.type === 'charge.refunded' && typeof obj.amount_refunded === 'number' && obj.amount_refunded > row.refunded_minor) {
       const full = obj.amount_refunded >= row.captured_minor;
       await update(trx, row.id, { refunded_minor: Math.min(obj.amount_refunded, row.captured_minor), state: full ? 'refunded' : row.state });
-      await recordAudit(trx, { actorId: null, kind: 'charge.refunded', subjectType: 'charge', subjectId: row.id, summary: `The provider reported a refund: ${formatMoney(obj.amount_refunded, row.currency)} in total` });
+      await recordAudit(trx, { actorId: null, kind: 'charge.refunded', subjectType: 'charge', subjectId: row.id, summary: `The provider reported a refund: ${await siteMoney(obj.amount_refunded, row.currency)} in total` });
       return { received: true as const, duplicate: false, handled: true };
     }
     if (event.type === 'charge.failed' && row.state !== 'payment failed' && row.state !== 'captured') {
       await update(trx, row.id, { state: 'payment failed', failure_code: obj.failure_code ?? 'failed', failure_message: obj.failure_message ?? 'The provider reported the charge failed.' });
       const p = await personFor(row.person_id, trx);
       await queueMail(trx, p.email, 'Payment failed', {
-        greeting: `Kia ora ${p.name},`,
-        paragraphs: [`A payment of ${formatMoney(row.amount_minor, row.currency)} failed. New bookings are paused until it is settled: save a working card on your Account screen.`],
+        greeting: `Hello ${p.name},`,
+        paragraphs: [`A payment of ${await siteMoney(row.amount_minor, row.currency)} failed. New bookings are paused until it is settled: save a working card on your Account screen.`],
         action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
       });
       return { received: true as const, duplicate: false, handled: true };

@@ -65,6 +65,16 @@ export function siteLook(s: SiteSettings): SiteLook {
   return { locale: s.locale, timeZone: s.timeZone, currency: s.currency };
 }
 
+/** The site locale alone, for server code that already has the zone at hand. */
+export async function siteLocale(): Promise<string> {
+  return (await getSettings()).locale;
+}
+
+/** An amount written the site's way ("$1,234.56" in en-NZ): for e-mails and audit summaries written on the server. */
+export async function siteMoney(amountMinor: number, currency: string): Promise<string> {
+  return siteFormat(await siteLocale(), 'UTC').money(amountMinor, currency);
+}
+
 /** The site's formatter (its locale and time zone), for server code that writes e-mails, receipts and summaries. */
 export async function siteFormatter(): Promise<SiteFormat> {
   const s = await getSettings();
