@@ -419,6 +419,8 @@ function MachineCalendar(p: {
   onPick: (b: FeedBooking) => void;
 }) {
   const ref = useRef<FullCalendar>(null);
+  // the grid holds the site's wall-clock times as UTC instants: write them in the site locale, read in UTC
+  const wall = useMemo(() => siteFormat(p.fmt.locale, 'UTC'), [p.fmt.locale]);
   const shift = (iso: string | Date) => {
     const d = typeof iso === 'string' ? new Date(iso) : iso;
     return new Date(d.getTime() + zoneOffsetMinutes(d, p.tz) * 60_000);
@@ -501,8 +503,8 @@ function MachineCalendar(p: {
       longPressDelay={300}
       selectLongPressDelay={300}
       dayHeaderFormat={p.compact || p.view === 'timeGridDay' ? { weekday: 'short', day: 'numeric' } : { weekday: 'short', day: 'numeric', month: 'short' }}
-      slotLabelFormat={{ hour: 'numeric', minute: '2-digit' }}
-      eventTimeFormat={{ hour: 'numeric', minute: '2-digit' }}
+      slotLabelFormat={(a) => wall.time(a.date.marker)}
+      eventTimeFormat={(a) => (a.end ? `${wall.time(a.start.marker)}–${wall.time(a.end.marker)}` : wall.time(a.date.marker))}
       events={events}
       selectAllow={(span) => !openShifted || openShifted.some((o) => span.start.getTime() >= o.s && span.end.getTime() <= o.e)}
       select={p.onSelect}

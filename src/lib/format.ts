@@ -68,11 +68,15 @@ export function siteFormat(locale: string, timeZone: string): SiteFormat {
   const dateF = dtf('date', { day: 'numeric', month: 'short', year: 'numeric' });
   const longF = dtf('long', { weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' });
   const shortF = dtf('short', { weekday: 'short', day: 'numeric', month: 'short' });
-  const timeF = dtf('time', { hour: 'numeric', minute: '2-digit' });
-  const dateTimeF = dtf('dateTime', { day: 'numeric', month: 'short', year: 'numeric', hour: 'numeric', minute: '2-digit' });
-  const dayTimeF = dtf('dayTime', { weekday: 'short', day: 'numeric', month: 'short', hour: 'numeric', minute: '2-digit' });
-  const weekdayTimeF = dtf('weekdayTime', { weekday: 'short', hour: 'numeric', minute: '2-digit' });
-  const zoneF = dtf('zone', { day: 'numeric', month: 'short', year: 'numeric', hour: 'numeric', minute: '2-digit', timeZoneName: 'short' });
+  // the locale's own short clock ("14:05" en-GB and de-DE, "2:05 pm" en-NZ): timeStyle keeps its leading zero and
+  // 12/24-hour choice, which hour/minute options alone do not; dates and times are joined, not mixed in one pattern
+  const timeF = dtf('time', { timeStyle: 'short' });
+  const weekdayF = dtf('weekday', { weekday: 'short' });
+  const zoneNameF = dtf('zoneName', { hour: 'numeric', timeZoneName: 'short' });
+  const dateTimeF = { format: (at: Date) => `${dateF.format(at)}, ${timeF.format(at)}` };
+  const dayTimeF = { format: (at: Date) => `${shortF.format(at)}, ${timeF.format(at)}` };
+  const weekdayTimeF = { format: (at: Date) => `${weekdayF.format(at)} ${timeF.format(at)}` };
+  const zoneF = { format: (at: Date) => `${dateTimeF.format(at)} ${zoneNameF.formatToParts(at).find((p) => p.type === 'timeZoneName')?.value ?? timeZone}` };
   // plain calendar dates are read at noon UTC and shown in UTC: the date itself is already the site's day
   const plain = (name: string, opts: Intl.DateTimeFormatOptions) => memo(`${loc}|UTC|${name}`, () => new Intl.DateTimeFormat(loc, { timeZone: 'UTC', ...opts }));
   const sameDay = (a: Date, b: Date) => dtf('ymd', { year: 'numeric', month: '2-digit', day: '2-digit' }).format(a) === dtf('ymd', { year: 'numeric', month: '2-digit', day: '2-digit' }).format(b);
