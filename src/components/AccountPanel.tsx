@@ -2,11 +2,10 @@
  * Account: tier, balance owed, the saved card, and the charges table. With practice payments (the provider's
  * test mode) the card choices are described by what they do; the provider's test-token names stay in code.
  */
-import { formatDateTime } from '../lib/site-format';
+import { siteFormat } from '../lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useState, type FormEvent } from 'react';
 import { TIER_LABELS, type Tier } from '../lib/vocabulary';
-import { formatMoney } from '../lib/pricing';
 import { api, ApiError } from './ui/api';
 import type { AccountSummary, ChargeJson, ChargeSort } from '../lib/account-views';
 
@@ -31,7 +30,9 @@ const STATE_TONE: Record<string, string> = {
 };
 const STATE_ICON: Record<string, string> = { captured: '✓', recharged: '✓', settled: '✓', 'payment failed': '✕', held: '⏸', queued: '↻', carried: '→', 'refund pending': '↻' };
 
-export default function AccountPanel({ initial, timeZone, testMode }: { initial: Summary; timeZone: string; testMode: boolean }) {
+export default function AccountPanel({ initial, timeZone, locale, testMode }: { initial: Summary; timeZone: string; locale: string; testMode: boolean }) {
+  const f = siteFormat(locale, timeZone);
+  const formatMoney = (minor: number, currency: string) => f.money(minor, currency);
   const [summary, setSummary] = useState(initial);
   const [token, setToken] = useState('tok_visa');
   const [busy, setBusy] = useState(false);
@@ -81,7 +82,7 @@ export default function AccountPanel({ initial, timeZone, testMode }: { initial:
   const mark = (c: Sort) => (sort === c ? (dir === 'asc' ? ' ▲' : ' ▼') : '');
   const aria = (c: Sort) => (sort === c ? (dir === 'asc' ? 'ascending' : 'descending') : 'none');
   const pages = data ? Math.max(1, Math.ceil(data.total / pageSize)) : 1;
-  const when = { format: (d: Date) => formatDateTime(d, { timeZone }) };
+  const when = { format: (d: Date) => f.dateTime(d) };
 
   return (
     <div className="space-y-6">

@@ -1,6 +1,6 @@
 /** Admin › Audit: the append-only record of changes, filtered by person, kind, text and dates; exported as CSV. */
 import { auditDetailLines, auditKindWords, withSiteDates } from '../lib/audit-words';
-import { formatDateTime } from '../lib/site-format';
+import { siteFormat } from '../lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
@@ -29,7 +29,7 @@ interface Facets {
 }
 type Sort = 'at' | 'kind' | 'actor';
 
-export default function AuditLog({ timeZone }: { timeZone: string }) {
+export default function AuditLog({ timeZone, locale }: { timeZone: string; locale: string }) {
   const [q, setQ] = useState('');
   const [query, setQuery] = useState('');
   const [actor, setActor] = useState('');
@@ -49,8 +49,8 @@ export default function AuditLog({ timeZone }: { timeZone: string }) {
   const latest = useRef(0); // only the answer to the newest request is shown
 
   const when = useMemo(
-    () => ({ format: (d: Date) => formatDateTime(d, { timeZone }) }),
-    [timeZone],
+    () => ({ format: (d: Date) => siteFormat(locale, timeZone).dateTime(d) }),
+    [timeZone, locale],
   );
 
   useEffect(() => {

@@ -1,6 +1,7 @@
 /** Badges (stewards, admins): give the badge just read at a machine to the person standing there, enrol and remove badges. */
 import { useEffect, useId, useState } from 'react';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 
 interface Unknown {
   id: string;
@@ -62,7 +63,8 @@ function PersonSearch({ onPick, label }: { onPick: (p: Found) => void; label: st
   );
 }
 
-export default function BadgesDesk({ timeZone }: { timeZone: string }) {
+export default function BadgesDesk({ timeZone, locale }: { timeZone: string; locale: string }) {
+  const f = siteFormat(locale, timeZone);
   const ids = useId();
   const [unknown, setUnknown] = useState<Unknown[] | null>(null);
   const [assigning, setAssigning] = useState<Unknown | null>(null);
@@ -70,7 +72,7 @@ export default function BadgesDesk({ timeZone }: { timeZone: string }) {
   const [badges, setBadges] = useState<Badge[]>([]);
   const [badge, setBadge] = useState('');
   const [message, setMessage] = useState<{ ok: boolean; text: string } | null>(null);
-  const time = (iso: string) => new Intl.DateTimeFormat('en-NZ', { timeZone, timeStyle: 'short' }).format(new Date(iso));
+  const time = (iso: string) => f.time(new Date(iso));
 
   const loadUnknown = () => api<Unknown[]>('/api/badges/unknown').then(setUnknown);
   const loadBadges = (p: Found) => api<Badge[]>(`/api/people/${p.id}/badges`).then(setBadges);
@@ -127,7 +129,7 @@ export default function BadgesDesk({ timeZone }: { timeZone: string }) {
               <ul className="space-y-1">
                 {badges.map((b) => (
                   <li key={b.id} className="flex items-center justify-between gap-2">
-                    <span><span className="font-mono">…{b.lastFour}</span> <span className="hint">enrolled {new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'medium' }).format(new Date(b.createdAt))}{b.createdByName ? ` by ${b.createdByName}` : ''}</span></span>
+                    <span><span className="font-mono">…{b.lastFour}</span> <span className="hint">enrolled {f.date(new Date(b.createdAt))}{b.createdByName ? ` by ${b.createdByName}` : ''}</span></span>
                     <button type="button" className="btn btn-quiet" onClick={() => {
                       if (!confirm(`Remove badge …${b.lastFour} from ${person.name}?`)) return;
                       void run(async () => { await api(`/api/badges/${b.id}`, { method: 'DELETE' }); await loadBadges(person); return `Badge …${b.lastFour} removed.`; });

@@ -8,6 +8,7 @@
  *
  * Times: the calendar runs in UTC holding the site's wall-clock times ("shifted" instants), so the grid
  * always shows the site's hours whatever the browser's zone; conversions use the pure availability module.
+ * Dates, times and amounts are written in the site locale (a prop from the server), never the browser's.
  */
 import { useEffect, useId, useMemo, useRef, useState } from 'react';
 import BookingMaterials, { declared, newRow, type MaterialRow } from './BookingMaterials';
@@ -17,8 +18,7 @@ import timeGridPlugin from '@fullcalendar/timegrid';
 import interactionPlugin from '@fullcalendar/interaction';
 import type { DateSelectArg, EventClickArg, EventInput } from '@fullcalendar/core';
 import { addDays, isLateCancel, localToInstant, wallClock, zoneOffsetMinutes } from '../lib/availability';
-import { formatMoney } from '../lib/pricing';
-import { formatMinutes, formatShortDay } from '../lib/site-format';
+import { formatMinutes, siteFormat, type SiteFormat } from '../lib/format';
 import { api, ApiError } from './ui/api';
 
 interface MachineInfo {
@@ -66,6 +66,8 @@ interface Feed {
 export interface BookProps {
   machines: MachineInfo[];
   timeZone: string;
+  /** The site locale (BCP 47), from the server's site settings. */
+  locale: string;
   isInstructor: boolean;
   initialMachine?: string;
   /** True when the person may book no machine at all: the page says why, and the form is not shown. */
@@ -123,8 +125,9 @@ function Answer(p: { message: Message | null; children?: React.ReactNode; label:
   );
 }
 
-function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }: BookProps) {
+function Book({ machines, timeZone: tz, locale, isInstructor, initialMachine, hideForm }: BookProps) {
   const qc = useQueryClient();
+  const fmt = useMemo(() => siteFormat(locale, tz), [locale, tz]);
   const today = useMemo(() => {
     const w = wallClock(new Date(), tz);
     return { year: w.year, month: w.month, day: w.day };
@@ -230,7 +233,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
       setDraft(null);
       const notice = (b as { paymentNotice?: string | null }).paymentNotice;
       // no card saved (or no hold placed) is not a problem with the booking: said plainly, in the neutral style
-      setFormMessage({ tone: notice ? 'info' : 'ok', at: Date.now(), text: `Booked: ${machineName(b.machineId)}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), tz)}. A confirmation with a calendar file is on its way by e-mail.${notice ? ` ${notice}` : ''}` });
+      setFormMessage({ tone: notice ? 'info' : 'ok', at: Date.now(), text: `Booked: ${machineName(b.machineId)}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), fmt)}. A confirmation with a calendar file is on its way by e-mail.${notice ? ` ${notice}` : ''}` });
     },
     onSettled: () => qc.invalidateQueries({ queryKey: ['feed'] }),
   });
@@ -275,8 +278,8 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
   const data = feed.data;
   const rangeLabel =
     view === 'timeGridWeek'
-      ? `Week of ${new Intl.DateTimeFormat('en-NZ', { timeZone: tz, day: 'numeric', month: 'long', year: 'numeric' }).format(range.from)}`
-      : new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' }).format(range.from);
+      ? `Week of ${fmt.date(range.from)}`
+      : fmt.longDate(range.from);
 
   return (
     <div className="space-y-4">
@@ -340,6 +343,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
                 from={range.from}
                 to={range.to}
                 tz={tz}
+                fmt={fmt}
                 compact={shown.length > 1}
                 onSelect={(arg) => onSelect(m.id, arg)}
                 onPick={(b) => setSelected(b)}
@@ -355,6 +359,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
           booking={selected}
           machineName={machineName(selected.machineId)}
           tz={tz}
+          fmt={fmt}
           cutoff={data?.machines.find((m) => m.id === selected.machineId)?.cancelCutoffMinutes ?? 0}
           onDone={() => qc.invalidateQueries({ queryKey: ['feed'] })}
           onClose={() => setSelected(null)}
@@ -364,6 +369,7 @@ function Book({ machines, timeZone: tz, isInstructor, initialMachine, hideForm }
       {!hideForm && <BookingForm
         machines={machines}
         tz={tz}
+        fmt={fmt}
         draft={draft}
         machineId={formMachine}
         onMachine={chooseFormMachine}
@@ -407,11 +413,14 @@ function MachineCalendar(p: {
   from: Date;
   to: Date;
   tz: string;
+  fmt: SiteFormat;
   compact: boolean;
   onSelect: (arg: DateSelectArg) => void;
   onPick: (b: FeedBooking) => void;
 }) {
   const ref = useRef<FullCalendar>(null);
+  // the grid holds the site's wall-clock times as UTC instants: write them in the site locale, read in UTC
+  const wall = useMemo(() => siteFormat(p.fmt.locale, 'UTC'), [p.fmt.locale]);
   const shift = (iso: string | Date) => {
     const d = typeof iso === 'string' ? new Date(iso) : iso;
     return new Date(d.getTime() + zoneOffsetMinutes(d, p.tz) * 60_000);
@@ -471,6 +480,7 @@ function MachineCalendar(p: {
       ref={ref}
       plugins={[timeGridPlugin, interactionPlugin]}
       initialView={p.view}
+      locale={p.fmt.locale}
       initialDate={dateKey(p.first)}
       timeZone="UTC"
       headerToolbar={false}
@@ -493,8 +503,8 @@ function MachineCalendar(p: {
       longPressDelay={300}
       selectLongPressDelay={300}
       dayHeaderFormat={p.compact || p.view === 'timeGridDay' ? { weekday: 'short', day: 'numeric' } : { weekday: 'short', day: 'numeric', month: 'short' }}
-      slotLabelFormat={{ hour: '2-digit', minute: '2-digit', hour12: false }}
-      eventTimeFormat={{ hour: '2-digit', minute: '2-digit', hour12: false }}
+      slotLabelFormat={(a) => wall.time(a.date.marker)}
+      eventTimeFormat={(a) => (a.end ? `${wall.time(a.start.marker)}–${wall.time(a.end.marker)}` : wall.time(a.date.marker))}
       events={events}
       selectAllow={(span) => !openShifted || openShifted.some((o) => span.start.getTime() >= o.s && span.end.getTime() <= o.e)}
       select={p.onSelect}
@@ -511,7 +521,7 @@ function MachineCalendar(p: {
           // differs from the visible words, which voice-control users say to pick the event)
           const full = document.createElement('span');
           full.className = 'sr-only';
-          full.textContent = `, ${info.event.title}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), p.tz)}`;
+          full.textContent = `, ${info.event.title}, ${formatRange(new Date(b.startsAt), new Date(b.endsAt), p.fmt)}`;
           info.el.appendChild(full);
           info.el.addEventListener('keydown', (e) => {
             if (e.key === 'Enter' || e.key === ' ') {
@@ -525,19 +535,17 @@ function MachineCalendar(p: {
   );
 }
 
-function formatRange(s: Date, e: Date, tz: string): string {
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'short', day: 'numeric', month: 'short' }).format(s);
-  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  return `${day}, ${t.format(s)}–${t.format(e)}`;
+function formatRange(s: Date, e: Date, fmt: SiteFormat): string {
+  return fmt.range(s, e);
 }
 
 
 /** What cancelling costs, in plain words: the late-cancellation rule and fee, and the card hold released. */
-export function cancelCostText(b: { startsAt: string; cancelTerms?: CancelTerms }, cutoffMinutes: number, now: Date, tz: string): string[] {
+export function cancelCostText(b: { startsAt: string; cancelTerms?: CancelTerms }, cutoffMinutes: number, now: Date, fmt: SiteFormat): string[] {
   const s = new Date(b.startsAt);
   const late = isLateCancel(s, now, { cancelCutoffMinutes: cutoffMinutes });
   const t = b.cancelTerms;
-  const money = (minor: number | null) => (minor !== null && t?.currency ? formatMoney(minor, t.currency) : null);
+  const money = (minor: number | null) => (minor !== null && t?.currency ? fmt.money(minor, t.currency) : null);
   const fee = money(t?.lateFeeMinor ?? null);
   const held = money(t?.heldMinor ?? null);
   const out: string[] = [];
@@ -548,7 +556,7 @@ export function cancelCostText(b: { startsAt: string; cancelTerms?: CancelTerms 
     );
   } else {
     const cut = new Date(s.getTime() - cutoffMinutes * 60_000);
-    out.push(`No fee: you are cancelling before the cut-off. From ${formatShortDay(cut, { timeZone: tz })}, ${new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(cut)} it would count as a late cancellation${fee ? ` (fee ${fee})` : ''}.`);
+    out.push(`No fee: you are cancelling before the cut-off. From ${fmt.dayTime(cut)} it would count as a late cancellation${fee ? ` (fee ${fee})` : ''}.`);
   }
   out.push(held ? `The ${held} held on your card for this booking is released.` : 'Nothing is held on your card for this booking.');
   out.push('The time becomes free for others.');
@@ -556,7 +564,7 @@ export function cancelCostText(b: { startsAt: string; cancelTerms?: CancelTerms 
 }
 
 /** A booking opened from the calendar: a modal dialog over the calendar, where the person clicked. Cancelling asks first. */
-function BookingDialog(p: { booking: FeedBooking; machineName: string; tz: string; cutoff: number; onDone: () => void; onClose: () => void }) {
+function BookingDialog(p: { booking: FeedBooking; machineName: string; tz: string; fmt: SiteFormat; cutoff: number; onDone: () => void; onClose: () => void }) {
   const b = p.booking;
   const s = new Date(b.startsAt);
   const ref = useRef<HTMLDialogElement>(null);
@@ -604,7 +612,7 @@ function BookingDialog(p: { booking: FeedBooking; machineName: string; tz: strin
         </h2>
         <p>
           {stage === 'confirm' && <>{p.machineName}, </>}
-          {formatRange(s, new Date(b.endsAt), p.tz)} · {stage === 'done' ? 'cancelled' : b.state}
+          {formatRange(s, new Date(b.endsAt), p.fmt)} · {stage === 'done' ? 'cancelled' : b.state}
           {b.lateCancel ? ' (late)' : ''}
         </p>
         {stage === 'view' && b.personName && !b.mine && <p className="hint">Booked by {b.personName}</p>}
@@ -614,7 +622,7 @@ function BookingDialog(p: { booking: FeedBooking; machineName: string; tz: strin
         )}
         {stage === 'confirm' && (
           <ul className="list-disc space-y-1 pl-5" data-cancel-terms>
-            {cancelCostText(b, p.cutoff, new Date(), p.tz).map((line) => (
+            {cancelCostText(b, p.cutoff, new Date(), p.fmt).map((line) => (
               <li key={line}>{line}</li>
             ))}
           </ul>
@@ -688,6 +696,7 @@ export function clockChoices(windows: [number, number][] | null, step: number, s
 function BookingForm(p: {
   machines: MachineInfo[];
   tz: string;
+  fmt: SiteFormat;
   draft: { machineId: string; date: string; start: string; end: string } | null;
   machineId: string;
   onMachine: (id: string) => void;
@@ -801,8 +810,8 @@ function BookingForm(p: {
         {windows && (
           <p>
             {closedAllDay
-              ? `${machineName} has no open time left on ${formatShortDay(localToInstant(...ymd(date), 12 * 60, p.tz), { timeZone: p.tz })}. Choose another day.`
-              : `Open on ${formatShortDay(localToInstant(...ymd(date), 12 * 60, p.tz), { timeZone: p.tz })}: ${windows.map(([s, e]) => `${clock(s)}–${clock(e)}`).join(', ')}.`}
+              ? `${machineName} has no open time left on ${p.fmt.shortDate(localToInstant(...ymd(date), 12 * 60, p.tz))}. Choose another day.`
+              : `Open on ${p.fmt.shortDate(localToInstant(...ymd(date), 12 * 60, p.tz))}: ${windows.map(([s, e]) => `${p.fmt.time(localToInstant(...ymd(date), s, p.tz))}–${p.fmt.time(localToInstant(...ymd(date), e, p.tz))}`).join(', ')}.`}
           </p>
         )}
         {week && !isClass && (

@@ -1,6 +1,7 @@
 /** Admin › Machines › Controllers: register the box at a machine (its token shown once), new token, revoke; walk-ups. */
 import { useEffect, useId, useState } from 'react';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 
 interface Machine {
   id: string;
@@ -29,15 +30,15 @@ const REASON_TEXT: Record<string, string> = {
   booking_ended: 'session over',
 };
 
-function seen(iso: string | null, timeZone: string): string {
+function seen(iso: string | null, timeZone: string, locale: string): string {
   if (!iso) return 'never';
   const mins = Math.round((Date.now() - new Date(iso).getTime()) / 60_000);
   if (mins < 1) return 'just now';
   if (mins < 60) return `${mins} min ago`;
-  return new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'medium', timeStyle: 'short' }).format(new Date(iso));
+  return siteFormat(locale, timeZone).dateTime(new Date(iso));
 }
 
-export default function ControllersAdmin({ machines, timeZone }: { machines: Machine[]; timeZone: string }) {
+export default function ControllersAdmin({ machines, timeZone, locale }: { machines: Machine[]; timeZone: string; locale: string }) {
   const ids = useId();
   const [rows, setRows] = useState<ControllerRow[] | null>(null);
   const [walkUps, setWalkUps] = useState(false);
@@ -145,7 +146,7 @@ export default function ControllersAdmin({ machines, timeZone }: { machines: Mac
                       : '— not asked yet'}
                   </td>
                   <td>
-                    {c.revokedAt ? '—' : <>{c.online ? '✓ Online' : '⚠ Offline'} <span className="hint">· {seen(c.lastSeenAt, timeZone)}</span></>}
+                    {c.revokedAt ? '—' : <>{c.online ? '✓ Online' : '⚠ Offline'} <span className="hint">· {seen(c.lastSeenAt, timeZone, locale)}</span></>}
                   </td>
                   <td className="font-mono text-sm">{c.firmware ?? '—'}</td>
                   <td className="whitespace-nowrap">

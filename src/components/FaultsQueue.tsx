@@ -3,6 +3,7 @@ import { useCallback, useEffect, useState } from 'react';
 import { FAULT_SEVERITIES, SEVERITY_TEXT, type FaultSeverity } from '../lib/faults-shared';
 import { STATUS_TEXT, type MachineStatus } from '../lib/machines-shared';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 
 interface FaultView {
   id: string; machineId: string; machineName: string; machineCode: string; machineStatus: MachineStatus; reporterName: string;
@@ -22,14 +23,14 @@ type CheckKey = keyof typeof CHECKS;
 
 type Msg = { tone: 'ok' | 'stop'; text: string } | null;
 
-export default function FaultsQueue({ timeZone }: { timeZone: string }) {
+export default function FaultsQueue({ timeZone, locale }: { timeZone: string; locale: string }) {
   const [status, setStatus] = useState<'unresolved' | 'resolved' | ''>('unresolved');
   const [severity, setSeverity] = useState<FaultSeverity | ''>('');
   const [faults, setFaults] = useState<FaultView[] | null>(null);
   const [machines, setMachines] = useState<MachineView[]>([]);
   const [openStops, setOpenStops] = useState<FaultView[]>([]);
   const [message, setMessage] = useState<Msg>(null);
-  const fmt = (iso: string) => new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(new Date(iso));
+  const fmt = (iso: string) => siteFormat(locale, timeZone).dateTime(new Date(iso));
 
   const load = useCallback(async () => {
     const q = new URLSearchParams();

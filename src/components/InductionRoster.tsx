@@ -7,6 +7,7 @@
 import { useCallback, useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import { localToInstant } from '../lib/availability';
+import { siteFormat } from '../lib/format';
 
 interface Group { id: string; name: string }
 interface MachineOpt { id: string; name: string; groupId: string | null }
@@ -21,13 +22,11 @@ interface Draft { ticked: Record<string, boolean>; level: 'basic' | 'advanced'; 
 
 const KIND = { first: 'First induction', refresher: 'Refresher' } as const;
 
-export default function InductionRoster({ selfId, groups, machines, timeZone, onSignedOff }: { selfId: string; groups: Group[]; machines: MachineOpt[]; timeZone: string; onSignedOff?: () => void }) {
+export default function InductionRoster({ selfId, groups, machines, timeZone, locale, onSignedOff }: { selfId: string; groups: Group[]; machines: MachineOpt[]; timeZone: string; locale: string; onSignedOff?: () => void }) {
   const [sessions, setSessions] = useState<Session[] | null>(null);
   const [openId, setOpenId] = useState<string | null>(null);
   const [publishing, setPublishing] = useState(false);
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone, weekday: 'short', day: 'numeric', month: 'short', year: 'numeric' });
-  const time = new Intl.DateTimeFormat('en-NZ', { timeZone, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  const when = (s: { startsAt: string; endsAt: string }) => `${day.format(new Date(s.startsAt))}, ${time.format(new Date(s.startsAt))}–${time.format(new Date(s.endsAt))}`;
+  const when = (s: { startsAt: string; endsAt: string }) => siteFormat(locale, timeZone).range(new Date(s.startsAt), new Date(s.endsAt));
 
   const load = useCallback(async () => {
     const from = new Date(Date.now() - 2 * 86_400_000).toISOString();
@@ -58,7 +57,7 @@ export default function InductionRoster({ selfId, groups, machines, timeZone, on
                   {openId === s.id ? 'Close the roster' : 'Open the roster'}
                 </button>
               </div>
-              {openId === s.id && <RosterPanel sessionId={s.id} selfId={selfId} timeZone={timeZone} onChange={() => { void load(); onSignedOff?.(); }} />}
+              {openId === s.id && <RosterPanel sessionId={s.id} selfId={selfId} timeZone={timeZone} locale={locale} onChange={() => { void load(); onSignedOff?.(); }} />}
             </li>
           ))}
         </ul>
@@ -129,13 +128,13 @@ function PublishForm({ groups, machines, timeZone, onDone }: { groups: Group[]; 
   );
 }
 
-function RosterPanel({ sessionId, selfId, timeZone, onChange }: { sessionId: string; selfId: string; timeZone: string; onChange: () => void }) {
+function RosterPanel({ sessionId, selfId, timeZone, locale, onChange }: { sessionId: string; selfId: string; timeZone: string; locale: string; onChange: () => void }) {
   const [roster, setRoster] = useState<Roster | null>(null);
   const [drafts, setDrafts] = useState<Record<string, Draft>>({});
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
   const [busy, setBusy] = useState(false);
   const live = useRef<HTMLParagraphElement>(null);
-  const fmt = (iso: string) => new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'short' }).format(new Date(iso));
+  const fmt = (iso: string) => siteFormat(locale, timeZone).date(new Date(iso));
 
   const load = useCallback(async () => setRoster(await api<Roster>(`/api/induction-sessions/${sessionId}/roster`)), [sessionId]);
   useEffect(() => void load().catch((e) => setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'Could not load the roster.' })), [load]);

@@ -3,6 +3,7 @@ import { useCallback, useEffect, useId, useState } from 'react';
 import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
 import { formatClock, localToInstant, parseClock, wallClock } from '../lib/availability';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 
 interface MachineInfo {
   id: string;
@@ -30,7 +31,7 @@ interface Closure {
 
 const WEEKDAYS = ['Monday', 'Tuesday', 'Wednesday', 'Thursday', 'Friday', 'Saturday', 'Sunday'];
 
-export default function MachineRulesAdmin({ machines, timeZone, initialId }: { machines: MachineInfo[]; timeZone: string; initialId?: string }) {
+export default function MachineRulesAdmin({ machines, timeZone, locale, initialId }: { machines: MachineInfo[]; timeZone: string; locale: string; initialId?: string }) {
   const [machineId, setMachineId] = useState(initialId ?? machines[0]?.id ?? '');
   const [rules, setRules] = useState<Rules | null>(null);
   const [hoursText, setHoursText] = useState<{ weekday: number; opens: string; closes: string }[]>([]);
@@ -172,19 +173,20 @@ export default function MachineRulesAdmin({ machines, timeZone, initialId }: { m
           <button type="submit" className="btn btn-primary" disabled={busy}>{busy ? 'Saving…' : 'Save rules'}</button>
         </form>
       )}
-      <Closures machineId={machineId} timeZone={timeZone} closures={closures} reload={load} onMessage={setMessage} />
+      <Closures machineId={machineId} timeZone={timeZone} locale={locale} closures={closures} reload={load} onMessage={setMessage} />
     </div>
   );
 }
 
-function Closures(p: { machineId: string; timeZone: string; closures: Closure[]; reload: () => Promise<void>; onMessage: (m: { tone: 'ok' | 'stop'; text: string }) => void }) {
+function Closures(p: { machineId: string; timeZone: string; locale: string; closures: Closure[]; reload: () => Promise<void>; onMessage: (m: { tone: 'ok' | 'stop'; text: string }) => void }) {
   const today = wallClock(new Date(), p.timeZone);
   const [date, setDate] = useState(`${today.year}-${String(today.month).padStart(2, '0')}-${String(today.day).padStart(2, '0')}`);
   const [endDate, setEndDate] = useState(date);
   const [from, setFrom] = useState('09:00');
   const [until, setUntil] = useState('17:00');
   const [reason, setReason] = useState('');
-  const fmt = new Intl.DateTimeFormat('en-NZ', { timeZone: p.timeZone, weekday: 'short', day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
+  const f = siteFormat(p.locale, p.timeZone);
+  const fmt = { format: (d: Date) => f.dayTime(d) };
 
   async function add(e: React.FormEvent) {
     e.preventDefault();

@@ -2,6 +2,7 @@
 import { useCallback, useEffect, useState } from 'react';
 import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 
 interface Req {
   id: string; name: string; supplier: string; composition: string; thicknessMm: number; mode: MaterialMode; requesterName: string;
@@ -9,7 +10,7 @@ interface Req {
   decidedByName: string | null; decisionReason: string | null; createdAt: string;
 }
 
-export default function MaterialRequestsReview() {
+export default function MaterialRequestsReview({ timeZone, locale }: { timeZone: string; locale: string }) {
   const [rows, setRows] = useState<Req[] | null>(null);
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
   const load = useCallback(async () => {
@@ -20,12 +21,12 @@ export default function MaterialRequestsReview() {
     <div className="space-y-4">
       <p aria-live="polite" className={message ? `notice notice-${message.tone}` : 'sr-only'}>{message?.text ?? ''}</p>
       {rows && rows.length === 0 && <p className="card p-5">No requests yet.</p>}
-      {rows?.map((r) => <RequestCard key={r.id} r={r} onDone={async (text, tone) => { setMessage({ text, tone }); await load(); }} />)}
+      {rows?.map((r) => <RequestCard key={r.id} r={r} askedOn={siteFormat(locale, timeZone).date(new Date(r.createdAt))} onDone={async (text, tone) => { setMessage({ text, tone }); await load(); }} />)}
     </div>
   );
 }
 
-function RequestCard({ r, onDone }: { r: Req; onDone: (text: string, tone: 'ok' | 'stop') => Promise<void> }) {
+function RequestCard({ r, askedOn, onDone }: { r: Req; askedOn: string; onDone: (text: string, tone: 'ok' | 'stop') => Promise<void> }) {
   const [rule, setRule] = useState<MaterialRule>(r.screenVerdict === 'blocked' ? 'blocked' : 'limited');
   const [category, setCategory] = useState('other');
   const [modes, setModes] = useState<MaterialMode[]>([r.mode]);
@@ -45,7 +46,7 @@ function RequestCard({ r, onDone }: { r: Req; onDone: (text: string, tone: 'ok' 
       <div className="flex flex-wrap items-start justify-between gap-2">
         <div>
           <h2 className="text-xl">{r.name}</h2>
-          <p className="hint">{r.supplier} · {r.thicknessMm} mm · {r.mode} · asked by {r.requesterName} on {new Date(r.createdAt).toLocaleDateString()}</p>
+          <p className="hint">{r.supplier} · {r.thicknessMm} mm · {r.mode} · asked by {r.requesterName} on {askedOn}</p>
           <p className="font-mono text-sm">{r.composition}</p>
         </div>
         <span className={`status status-${r.status === 'pending' ? 'warn' : r.status === 'approved' ? 'ok' : 'stop'}`}>{r.status}</span>

@@ -1,5 +1,5 @@
 /** Admin › Material rules: a sortable, filterable table of the catalogue, an edit form, and per-machine overrides. Every save is audited. */
-import { formatMoney } from '../lib/pricing';
+import { siteFormat } from '../lib/format';
 import { useCallback, useEffect, useMemo, useState } from 'react';
 import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
 import { screenMaterial, type ScreenResult } from '../lib/halogen-screen';
@@ -35,7 +35,8 @@ const toDraft = (m: Material): Draft => {
 const FORM_FIELDS = ['name', 'rule', 'composition', 'reason', 'modes', 'maxCutMm', 'densityGPerCm3', 'heatOfGasificationJPerG', 'cutEfficiency', 'sheetSku', 'sheetPriceMinor'];
 const numOrNull = (s: string) => (s.trim() === '' ? null : Number(s));
 
-export default function MaterialRulesAdmin(_: { currencyExponent?: number; currency?: string }) {
+export default function MaterialRulesAdmin({ locale, timeZone }: { locale: string; timeZone: string }) {
+  const formatMoney = (minor: number, currency: string) => siteFormat(locale, timeZone).money(minor, currency);
   const [data, setData] = useState<Data | null>(null);
   const [q, setQ] = useState('');
   const [ruleFilter, setRuleFilter] = useState<MaterialRule | ''>('');
@@ -200,7 +201,7 @@ export default function MaterialRulesAdmin(_: { currencyExponent?: number; curre
           <fieldset className="grid min-w-0 gap-3 rounded-lg border border-line p-3 md:grid-cols-3">
             <legend className="px-1 font-semibold">Sold by the space</legend>
             <label className="inline-flex min-h-8 items-center gap-2"><input type="checkbox" className="h-4 w-4 accent-[var(--color-ember)]" checked={editing.soldBySpace} onChange={(e) => set('soldBySpace', e.target.checked)} />The space sells this by the sheet</label>
-            <SheetField sheets={data?.sheets ?? []} sku={editing.sheetSku} sold={editing.soldBySpace} onChange={(v) => set('sheetSku', v)} error={<>{err('sheetSku')}{err('sheetPriceMinor')}</>} />
+            <SheetField money={formatMoney} sheets={data?.sheets ?? []} sku={editing.sheetSku} sold={editing.soldBySpace} onChange={(v) => set('sheetSku', v)} error={<>{err('sheetSku')}{err('sheetPriceMinor')}</>} />
             <label className="field"><span>Sheet size</span><input className="input" value={editing.sheetSize ?? ''} onChange={(e) => set('sheetSize', e.target.value || null)} maxLength={60} /></label>
           </fieldset>
           {Object.keys(fieldErrors).some((k) => !FORM_FIELDS.includes(k)) && (
@@ -316,7 +317,7 @@ function OverrideRow({ machine, existing, effective, busy, onSave }: {
  * The sheet a sold material is sold as: chosen from the price version in force, whose price (in major units) is
  * shown here and charged at check-out. The price itself is changed on Pricing, as a new price version.
  */
-function SheetField(p: { sheets: Sheet[]; sku: string | null; sold: boolean; onChange: (sku: string | null) => void; error: React.ReactNode }) {
+function SheetField(p: { money: (minor: number, currency: string) => string; sheets: Sheet[]; sku: string | null; sold: boolean; onChange: (sku: string | null) => void; error: React.ReactNode }) {
   const chosen = p.sheets.find((s) => s.sku === p.sku) ?? null;
   return (
     <div className="field min-w-0">
@@ -327,7 +328,7 @@ function SheetField(p: { sheets: Sheet[]; sku: string | null; sold: boolean; onC
           {p.sheets.map((s) => <option key={s.sku} value={s.sku}>{s.name} ({s.sku})</option>)}
         </select></label>
       <p id="sheet-price-now" className="hint" data-testid="sheet-price">
-        {chosen ? <>Price now: <strong className="text-charcoal">{formatMoney(chosen.priceMinor, chosen.currency)}</strong> a sheet. </> : null}
+        {chosen ? <>Price now: <strong className="text-charcoal">{p.money(chosen.priceMinor, chosen.currency)}</strong> a sheet. </> : null}
         Sheet prices are set on <a href="/admin/pricing">Pricing</a> (a new price version); members pay that price at check-out.
       </p>
       {p.error}

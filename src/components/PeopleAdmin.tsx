@@ -1,5 +1,5 @@
 /** Admin › People: search, sort and page through people; grant or remove roles (each change is audited). */
-import { formatDate } from '../lib/site-format';
+import { siteFormat } from '../lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useState } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
@@ -25,7 +25,7 @@ interface PageData {
 }
 type Sort = 'name' | 'email' | 'created';
 
-export default function PeopleAdmin({ selfId, timeZone = 'UTC' }: { selfId: string; timeZone?: string }) {
+export default function PeopleAdmin({ selfId, timeZone = 'UTC', locale }: { selfId: string; timeZone?: string; locale: string }) {
   const [q, setQ] = useState('');
   const [query, setQuery] = useState('');
   const [roleFilter, setRoleFilter] = useState<Role | ''>('');
@@ -201,7 +201,7 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC' }: { selfId: stri
                       onBlur={(e) => { const v = e.target.value.trim() || null; if (v !== p.costCentre) void saveTier(p, p.tier, v); }} />
                   </div>
                 </td>
-                <td className="hidden whitespace-nowrap text-sm md:table-cell">{formatDate(p.createdAt, { timeZone })}</td>
+                <td className="hidden whitespace-nowrap text-sm md:table-cell">{siteFormat(locale, timeZone).date(new Date(p.createdAt))}</td>
               </tr>
             ))}
             {data && data.rows.length === 0 && (

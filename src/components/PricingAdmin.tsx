@@ -1,8 +1,8 @@
 /** Admin › Pricing: a change is a new price version with an effective date; every version stays visible. */
-import { formatDateTime } from '../lib/site-format';
+import { siteFormat } from '../lib/format';
 import { useState, type FormEvent } from 'react';
 import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
-import { formatMinor, formatMoney, parseMajor, type Material } from '../lib/pricing';
+import { formatMinor, parseMajor, type Material } from '../lib/pricing';
 import { api, ApiError } from './ui/api';
 
 export interface VersionView {
@@ -30,12 +30,16 @@ interface Props {
   versions: VersionView[];
   currentId: string | null;
   timeZone: string;
+  /** The site locale, from the server's site settings. */
+  locale: string;
   today: string;
   /** the site's currency and tax (Admin › Site): every charge uses them */
   site: { currency: string; taxRatePercent: number; pricesIncludeTax: boolean };
 }
 
-export default function PricingAdmin({ machines, versions: initialVersions, currentId, timeZone, today, site }: Props) {
+export default function PricingAdmin({ machines, versions: initialVersions, currentId, timeZone, locale, today, site }: Props) {
+  const f = siteFormat(locale, timeZone);
+  const formatMoney = (minor: number, currency: string) => f.money(minor, currency);
   const [versions, setVersions] = useState(initialVersions);
   const base = versions.find((v) => v.id === currentId) ?? versions[0];
   const cur = site.currency;
@@ -112,7 +116,7 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
     }
   }
 
-  const fmt = { format: (d: Date) => formatDateTime(d, { timeZone }) };
+  const fmt = { format: (d: Date) => f.dateTime(d) };
   const now = Date.now();
   const inForce = versions.filter((v) => Date.parse(v.effectiveFrom) <= now).sort((a, b) => b.effectiveFrom.localeCompare(a.effectiveFrom))[0];
 
@@ -238,7 +242,7 @@ export default function PricingAdmin({ machines, versions: initialVersions, curr
                   <summary className="cursor-pointer text-sm">Rates</summary>
                   <ul className="mt-1 text-sm">
                     {machines.map((mc) => (
-                      <li key={mc.id}>{mc.name}: {TIERS.map((t) => `${TIER_LABELS[t]} ${v.rates[mc.id]?.[t] !== undefined ? formatMinor(v.rates[mc.id]![t]!, v.currency) : '—'}`).join(' · ')} /min</li>
+                      <li key={mc.id}>{mc.name}: {TIERS.map((t) => `${TIER_LABELS[t]} ${v.rates[mc.id]?.[t] !== undefined ? formatMoney(v.rates[mc.id]![t]!, v.currency) : '—'}`).join(' · ')} /min</li>
                     ))}
                   </ul>
                 </details>

@@ -9,6 +9,7 @@ import { zodResolver } from '@hookform/resolvers/zod';
 import type { z } from 'zod';
 import { quizDraftSchema, type QuizDraft } from '../lib/quiz-rules';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 
 type FormIn = z.input<typeof quizDraftSchema>;
 
@@ -50,9 +51,9 @@ function setAddress(e: { id: string | null; groupId: string } | null, replace = 
   else window.history.pushState(null, '', url);
 }
 
-const fmt = (iso: string) => new Intl.DateTimeFormat(undefined, { day: 'numeric', month: 'short', year: 'numeric' }).format(new Date(iso));
-
-export default function QuizEditor() {
+/** Dates in the site's locale and zone (props from the server), never the browser's. */
+export default function QuizEditor({ timeZone, locale }: { timeZone: string; locale: string }) {
+  const fmt = (iso: string) => siteFormat(locale, timeZone).date(new Date(iso));
   const [quizzes, setQuizzes] = useState<QuizSummary[] | null>(null);
   const [groups, setGroups] = useState<Group[]>([]);
   const [editing, setEditingState] = useState<{ id: string | null; groupId: string } | null>(null);
@@ -82,6 +83,7 @@ export default function QuizEditor() {
   if (editing) {
     return (
       <Editor
+        fmt={fmt}
         quizId={editing.id}
         groupId={editing.groupId}
         groups={groups}
@@ -140,7 +142,7 @@ function NewQuiz({ groups, onStart }: { groups: Group[]; onStart: (groupId: stri
   );
 }
 
-function Editor({ quizId, groupId, groups, onClose, onCreated }: { quizId: string | null; groupId: string; groups: Group[]; onClose: (message?: string) => void; onCreated: (id: string) => void }) {
+function Editor({ quizId, groupId, groups, fmt, onClose, onCreated }: { quizId: string | null; groupId: string; groups: Group[]; fmt: (iso: string) => string; onClose: (message?: string) => void; onCreated: (id: string) => void }) {
   const [id, setId] = useState<string | null>(quizId);
   const [removed, setRemoved] = useState<{ index: number; value: FormIn['questions'][number]; label: string } | null>(null);
   const [confirmDiscard, setConfirmDiscard] = useState(false);

@@ -1,6 +1,7 @@
 /** Taking a quiz: start an attempt, answer, submit; the server scores it and names the missed topics. */
 import { useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 import type { DeliveredQuestion } from '../lib/quiz-rules';
 import type { QuizIntro } from '../lib/quiz-rules';
 
@@ -30,10 +31,10 @@ interface Result {
   nextStep: string;
 }
 
-export default function QuizTaker({ quizId, intro, timeZone }: { quizId: string; intro: QuizIntro; timeZone: string }) {
-  const when = (iso: string) =>
-    new Intl.DateTimeFormat('en-NZ', { timeZone, weekday: 'short', day: 'numeric', month: 'short', hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(new Date(iso));
-  const clock = (iso: string) => new Intl.DateTimeFormat('en-NZ', { timeZone, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' }).format(new Date(iso));
+export default function QuizTaker({ quizId, intro, timeZone, locale }: { quizId: string; intro: QuizIntro; timeZone: string; locale: string }) {
+  const f = siteFormat(locale, timeZone);
+  const when = (iso: string) => f.dayTime(new Date(iso));
+  const clock = (iso: string) => f.time(new Date(iso));
   const [attempt, setAttempt] = useState<Attempt | null>(null);
   const [answers, setAnswers] = useState<Record<string, string[]>>({});
   const [result, setResult] = useState<Result | null>(null);

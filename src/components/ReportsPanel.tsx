@@ -5,15 +5,8 @@
 import { useEffect, useId, useMemo, useState, type ReactNode } from 'react';
 import { Bar, BarChart, CartesianGrid, Legend, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import { api, ApiError } from './ui/api';
-import { formatMoney } from '../lib/pricing';
-import { formatIsoDay } from '../lib/site-format';
-
-/** "2026-11" → "Nov 2026" */
-function monthWords(ym: string): string {
-  const m = /^(\d{4})-(\d{2})$/.exec(ym);
-  if (!m) return ym;
-  return new Intl.DateTimeFormat('en-NZ', { timeZone: 'UTC', month: 'short', year: 'numeric' }).format(new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, 15)));
-}
+import { currencyExponent } from '../lib/pricing';
+import { siteFormat } from '../lib/format';
 import type { ClearanceRow, FaultRow, NoShowRow, ReportName, RevenueRow, UtilisationRow } from '../lib/reports';
 
 interface Machine {
@@ -23,6 +16,8 @@ interface Machine {
 }
 interface Props {
   timeZone: string;
+  /** The site locale, from the server's site settings: every date, number and amount here is written in it. */
+  locale: string;
   currency: string;
   machines: Machine[];
   defaultFrom: string;
@@ -37,8 +32,6 @@ interface Answer<R, T> {
 
 // no ember here: ember means "your booking" and actions elsewhere. "Booked" is the calendar's booked grey.
 const COLORS = ['#4f4a42', '#2b6a3c', '#1f5f8b', '#875500', '#262522', '#7a4f9a'];
-const pct = (v: number | null) => (v === null ? '—' : `${(v * 100).toFixed(1)} %`);
-const hours = (minutes: number) => `${(minutes / 60).toFixed(1)} h`;
 
 function useReport<R, T>(name: ReportName, params: string, enabled: boolean) {
   const [data, setData] = useState<Answer<R, T> | null>(null);
@@ -103,7 +96,13 @@ export default function ReportsPanel(props: Props) {
   const clear = useReport<ClearanceRow, { quizStarted: number; quizPassed: number; seatsBooked: number; attended: number; signedOff: number; lapsed: number }>('clearances', params, has('clearances'));
   const faults = useReport<FaultRow, { note: number; degraded: number; stop: number; openNow: number; outOfServiceMinutes: number; returnsToService: number; meanMinutesToReturn: number | null }>('faults', params, has('faults'));
   const noShows = useReport<NoShowRow, { bookings: number; noShows: number; lateCancellations: number }>('no-shows', params, has('no-shows'));
-  const money = (m: number) => formatMoney(m, props.currency);
+  const f = useMemo(() => siteFormat(props.locale, props.timeZone), [props.locale, props.timeZone]);
+  const money = (m: number) => f.money(m, props.currency);
+  const pct = (v: number | null) => (v === null ? '—' : f.percent(v));
+  const hours = (minutes: number) => `${f.number(minutes / 60, 1)} h`;
+  const monthWords = (ym: string) => f.month(ym);
+  // chart values in major units of the currency (its own exponent: JPY 0, BHD 3)
+  const major = (minor: number, currency: string) => minor / 10 ** currencyExponent(currency);
   const csv = (n: ReportName) => `/api/reports/${n}.csv?${params}`;
 
   function apply(e: React.FormEvent) {
@@ -127,11 +126,11 @@ export default function ReportsPanel(props: Props) {
     const years = new Set([...byWeek.keys()].map((k) => k.slice(0, 4)));
     const spansYears = years.size > 1;
     return [...byWeek.values()].map((w) => ({
-      week: formatIsoDay(w.week, {}, spansYears),
+      week: f.day(w.week, spansYears),
       Booked: w.open ? Math.round((w.booked / w.open) * 1000) / 10 : 0,
       'Beam time': w.open ? Math.round((w.beam / w.open) * 1000) / 10 : 0,
     }));
-  }, [util.data]);
+  }, [util.data, f]);
 
   // revenue chart: net per month, stacked by machine
   const { revenueChart, revenueMachines } = useMemo(() => {
@@ -140,11 +139,11 @@ export default function ReportsPanel(props: Props) {
     for (const r of revenue.data?.rows ?? []) {
       const row = byMonth.get(r.month) ?? { month: monthWords(r.month) };
       const key = r.machine || 'No machine';
-      row[key] = Number(row[key] ?? 0) + r.net_minor / 100;
+      row[key] = Number(row[key] ?? 0) + major(r.net_minor, r.currency);
       byMonth.set(r.month, row);
     }
     return { revenueChart: [...byMonth.values()], revenueMachines: names };
-  }, [revenue.data]);
+  }, [revenue.data, f]); // eslint-disable-line react-hooks/exhaustive-deps
 
   return (
     <div>
@@ -179,7 +178,7 @@ export default function ReportsPanel(props: Props) {
         <button className="btn btn-primary" type="submit">Show</button>
         {formProblem && <p className="notice notice-stop w-full" role="alert">{formProblem}</p>}
         <p className="hint w-full">
-          Showing {applied.from} to {applied.to} (both days included, {props.timeZone}).
+          Showing {f.day(applied.from)} to {f.day(applied.to)} (both days included, {props.timeZone}).
         </p>
       </form>
 
@@ -201,8 +200,8 @@ export default function ReportsPanel(props: Props) {
                     <BarChart data={utilChart} margin={{ top: 8, right: 8, bottom: 0, left: -16 }}>
                       <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
                       <XAxis dataKey="week" fontSize={12} />
-                      <YAxis unit="%" fontSize={12} />
-                      <Tooltip formatter={(v) => `${v} %`} />
+                      <YAxis fontSize={12} tickFormatter={(v: number) => f.percent(v / 100, 0)} />
+                      <Tooltip formatter={(v) => f.percent(Number(v) / 100)} />
                       <Legend itemSorter={null} />
                       <Bar dataKey="Booked" fill={COLORS[0]} isAnimationActive={false} />
                       <Bar dataKey="Beam time" fill={COLORS[1]} isAnimationActive={false} />
@@ -217,7 +216,7 @@ export default function ReportsPanel(props: Props) {
                     <tbody>
                       {util.data.rows.map((r) => (
                         <tr key={`${r.machine_id}-${r.week_start}`}>
-                          <td>{r.machine}</td><td>{formatIsoDay(r.week_start, {}, true)}</td>
+                          <td>{r.machine}</td><td>{f.day(r.week_start)}</td>
                           <td className="text-right">{hours(r.open_minutes)}</td>
                           <td className="text-right">{hours(r.booked_minutes)} <span className="hint">{pct(r.booked_share)}</span></td>
                           <td className="text-right">{hours(r.beam_minutes)} <span className="hint">{pct(r.beam_share)}</span></td>
@@ -249,8 +248,8 @@ export default function ReportsPanel(props: Props) {
                     <BarChart data={revenueChart} margin={{ top: 8, right: 8, bottom: 0, left: 0 }}>
                       <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
                       <XAxis dataKey="month" fontSize={12} />
-                      <YAxis fontSize={12} />
-                      <Tooltip formatter={(v) => `${props.currency} ${Number(v).toFixed(2)}`} />
+                      <YAxis fontSize={12} width={72} tickFormatter={(v: number) => f.money(Math.round(v * 10 ** currencyExponent(props.currency)), props.currency)} />
+                      <Tooltip formatter={(v) => f.money(Math.round(Number(v) * 10 ** currencyExponent(props.currency)), props.currency)} />
                       <Legend itemSorter={null} />
                       {revenueMachines.map((m, i) => (
                         <Bar key={m} dataKey={m} stackId="net" fill={COLORS[i % COLORS.length]} isAnimationActive={false} />
@@ -268,8 +267,8 @@ export default function ReportsPanel(props: Props) {
                         <tr key={`${r.month}-${r.machine_id}-${r.tier}-${r.method}-${r.currency}`}>
                           <td>{monthWords(r.month)}</td><td>{r.machine || '—'}</td><td>{r.tier}</td><td>{r.method}</td>
                           <td className="text-right">{r.charges}</td>
-                          <td className="text-right">{formatMoney(r.net_minor, r.currency)}</td>
-                          <td className="text-right">{formatMoney(r.tax_minor, r.currency)}</td>
+                          <td className="text-right">{f.money(r.net_minor, r.currency)}</td>
+                          <td className="text-right">{f.money(r.tax_minor, r.currency)}</td>
                         </tr>
                       ))}
                     </tbody>

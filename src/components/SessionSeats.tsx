@@ -5,6 +5,7 @@
  */
 import { useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
+import { siteFormat } from '../lib/format';
 
 export interface SeatSession {
   id: string;
@@ -31,6 +32,8 @@ export interface MySeat {
 interface Props {
   groupName: string;
   timeZone: string;
+  /** The site locale, from the server's site settings. */
+  locale: string;
   sessions: SeatSession[];
   seat: MySeat | null;
   /** Why this person cannot take a seat now (shown instead of the buttons); null when they can. */
@@ -39,14 +42,12 @@ interface Props {
 
 const KIND: Record<SeatSession['kind'], string> = { first: 'First induction', refresher: 'Refresher' };
 
-export default function SessionSeats({ groupName, timeZone, sessions, seat, notEligible }: Props) {
+export default function SessionSeats({ groupName, timeZone, locale, sessions, seat, notEligible }: Props) {
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
   const [busy, setBusy] = useState<string | null>(null);
   const [confirming, setConfirming] = useState(false);
   const live = useRef<HTMLParagraphElement>(null);
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone, weekday: 'short', day: 'numeric', month: 'short' });
-  const time = new Intl.DateTimeFormat('en-NZ', { timeZone, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  const when = (s: { startsAt: string; endsAt: string }) => `${day.format(new Date(s.startsAt))}, ${time.format(new Date(s.startsAt))}–${time.format(new Date(s.endsAt))}`;
+  const when = (s: { startsAt: string; endsAt: string }) => siteFormat(locale, timeZone).range(new Date(s.startsAt), new Date(s.endsAt));
 
   function say(tone: 'ok' | 'stop', text: string) {
     setMessage({ tone, text });

@@ -6,15 +6,16 @@
 import { useCallback, useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import InductionRoster from './InductionRoster';
+import { siteFormat } from '../lib/format';
 
 interface Group { id: string; name: string; checklist: string[] }
 interface QueueEntry { personId: string; personName: string; personEmail: string; groupId: string; groupName: string; quizPassedAt: string | null; checklist: string[] }
 interface ClearanceRow { id: string; personId: string; personName: string; personEmail: string; groupName: string; state: string; level: string; expiresAt: string | null; expiresOn: string | null; suspendedReason: string | null }
 interface MachineOpt { id: string; name: string; groupId: string | null }
 
-const fmt = (iso: string | null) => (iso ? new Intl.DateTimeFormat(undefined, { day: 'numeric', month: 'short', year: 'numeric' }).format(new Date(iso)) : '—');
 
-export default function SignoffDesk({ selfId, groups: groupList, machines, timeZone }: { selfId: string; groups: { id: string; name: string }[]; machines: MachineOpt[]; timeZone: string }) {
+export default function SignoffDesk({ selfId, groups: groupList, machines, timeZone, locale }: { selfId: string; groups: { id: string; name: string }[]; machines: MachineOpt[]; timeZone: string; locale: string }) {
+  const fmt = (iso: string | null) => (iso ? siteFormat(locale, timeZone).date(new Date(iso)) : '—');
   const [groups, setGroups] = useState<Group[]>([]);
   const [version, setVersion] = useState(0);
   const live = useRef<HTMLParagraphElement>(null);
@@ -41,7 +42,7 @@ export default function SignoffDesk({ selfId, groups: groupList, machines, timeZ
 
   return (
     <div className="space-y-8">
-      <InductionRoster selfId={selfId} groups={groupList} machines={machines} timeZone={timeZone} onSignedOff={() => { refreshed(); void load(); }} />
+      <InductionRoster selfId={selfId} groups={groupList} machines={machines} timeZone={timeZone} locale={locale} onSignedOff={() => { refreshed(); void load(); }} />
       <section className="space-y-3" aria-labelledby="queue-heading">
         <div className="flex flex-wrap items-end justify-between gap-3">
           <div>

@@ -1,10 +1,12 @@
-/** Admin › Site: the site's name, time zone, currency, tax and public address. Each save is audited. */
+/** Admin › Site: the site's name, time zone, site locale, currency, tax and public address. Each save is audited. */
 import { useEffect, useId, useState, type FormEvent } from 'react';
 import { api, ApiError } from './ui/api';
+import { isLocale, siteFormat } from '../lib/format';
 
 export interface SiteValues {
   name: string;
   timeZone: string;
+  locale: string;
   currency: string;
   taxRatePercent: number;
   pricesIncludeTax: boolean;
@@ -19,11 +21,14 @@ interface Props {
   /** The server's lists (the server validates against them), so server and browser render the same. */
   zones: string[];
   codes: { code: string; label: string }[];
+  /** Suggested site locales with their names; any other tag Intl supports is accepted too. */
+  locales: { tag: string; label: string }[];
 }
 
-export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, codes }: Props) {
+export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, codes, locales }: Props) {
   const [name, setName] = useState(initial.name);
   const [timeZone, setTimeZone] = useState(initial.timeZone);
+  const [locale, setLocale] = useState(initial.locale);
   const [currency, setCurrency] = useState(initial.currency);
   const [tax, setTax] = useState(String(initial.taxRatePercent));
   const [inclusive, setInclusive] = useState(initial.pricesIncludeTax);
@@ -33,14 +38,15 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
   const [saving, setSaving] = useState(false);
   const id = useId();
   const [now, setNow] = useState<string | null>(null);
-  // the clock in the chosen zone is shown only in the browser (the server's render has none, so both agree)
+  // the clock in the chosen zone and locale is shown only in the browser (the server's render has none, so both agree)
   useEffect(() => {
     try {
-      setNow(new Intl.DateTimeFormat('en-NZ', { timeZone, dateStyle: 'full', timeStyle: 'short' }).format(new Date()));
+      const f = siteFormat(isLocale(locale.trim()) ? locale.trim() : initial.locale, timeZone);
+      setNow(`${f.longDate(new Date())}, ${f.time(new Date())} · ${f.number(1234567.89)} · ${f.money(123456, currency)}`);
     } catch {
       setNow(null);
     }
-  }, [timeZone]);
+  }, [timeZone, locale, currency, initial.locale]);
 
   async function save(e: FormEvent) {
     e.preventDefault();
@@ -48,6 +54,7 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
     const candidate = {
       name,
       timeZone,
+      locale: locale.trim(),
       currency,
       taxRatePercent: tax.trim() === '' ? Number.NaN : Number(tax.replace(',', '.')),
       pricesIncludeTax: inclusive,
@@ -57,6 +64,7 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
     const f: Partial<Record<Field, string>> = {};
     if (!name.trim()) f.name = 'Enter the name of the site.';
     if (!zones.includes(timeZone.trim())) f.timeZone = 'Choose an IANA time zone such as Pacific/Auckland or Europe/London.';
+    if (!isLocale(locale.trim())) f.locale = 'Use a language tag this server knows, such as en-NZ, en-GB or de-DE (language, then region).';
     if (!Number.isFinite(candidate.taxRatePercent)) f.taxRatePercent = 'Enter the tax rate as a number of percent, e.g. 15.';
     if (Object.keys(f).length) {
       setErrors(f);
@@ -69,6 +77,7 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
       setErrors({});
       setName(saved.name);
       setCurrency(saved.currency);
+      setLocale(saved.locale);
       setBaseUrl(saved.publicBaseUrl ?? '');
       document.querySelectorAll('[data-site-name]').forEach((el) => {
         el.textContent = `· ${saved.name}`;
@@ -100,7 +109,16 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
           {zones.map((z) => <option key={z} value={z} />)}
         </datalist>
         {fieldError('timeZone')}
-        <span id={`${id}-tz-hint`} className="hint font-normal">Opening hours, bookings, reports and the audit log are shown in this zone.{now && ` Now there: ${now}.`}</span>
+        <span id={`${id}-tz-hint`} className="hint font-normal">Opening hours, bookings, reports and the audit log are shown in this zone.</span>
+      </label>
+      <label className="field">
+        <span>Site locale (language and region)</span>
+        <input className="input" list={`${id}-locales`} value={locale} maxLength={35} onChange={(e) => setLocale(e.target.value)} aria-invalid={errors.locale ? 'true' : undefined} aria-describedby={describe('locale') ?? `${id}-locale-hint`} autoComplete="off" spellCheck={false} />
+        <datalist id={`${id}-locales`}>
+          {locales.map((l) => <option key={l.tag} value={l.tag}>{l.label}</option>)}
+        </datalist>
+        {fieldError('locale')}
+        <span id={`${id}-locale-hint`} className="hint font-normal">Every date, time, number and amount is written this way, on screens, in e-mails and on receipts (e.g. en-NZ, en-GB, de-DE).{now && ` Example: ${now}.`}</span>
       </label>
       <label className="field">
         <span>Currency (ISO 4217)</span>

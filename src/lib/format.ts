@@ -39,10 +39,24 @@ export interface SiteFormat {
   time(at: Date): string;
   /** "3 Dec 2026, 14:05" */
   dateTime(at: Date): string;
+  /** "Thu 3 Dec, 14:05" — within the year, where the weekday helps more than the year */
+  dayTime(at: Date): string;
+  /** "Thu 14:05" — within the coming week */
+  weekdayTime(at: Date): string;
+  /** "3 Dec 2026, 14:05 NZDT" — with the zone's name, for records read by someone elsewhere */
+  dateTimeZone(at: Date): string;
+  /** "3 Dec 2026" (or "3 Dec" without the year) from a plain calendar date "2026-12-03": no zone shift */
+  day(isoDate: string, withYear?: boolean): string;
+  /** "Dec 2026" from "2026-12" */
+  month(isoMonth: string): string;
+  /** "Thursday, 3 December 2026, 14:00–15:30" (one day) or two full dates and times: for e-mails */
+  longRange(from: Date, to: Date): string;
   /** "Thu 3 Dec, 14:00–15:30" (one day) or "3 Dec 2026, 22:00 – 4 Dec 2026, 01:00" */
   range(from: Date, to: Date): string;
   /** "1,234.5" (en-NZ), "1.234,5" (de-DE) */
   number(n: number, maxFractionDigits?: number): string;
+  /** "12.5 %" (en-NZ), "12,5 %" (de-DE) from a share 0.125 */
+  percent(share: number, maxFractionDigits?: number): string;
   /** "$1,234.56" (en-NZ, NZD), "1.234,56 €" (de-DE, EUR): the currency's own digits, from integer minor units */
   money(amountMinor: number, currency: string): string;
 }
@@ -54,8 +68,17 @@ export function siteFormat(locale: string, timeZone: string): SiteFormat {
   const dateF = dtf('date', { day: 'numeric', month: 'short', year: 'numeric' });
   const longF = dtf('long', { weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' });
   const shortF = dtf('short', { weekday: 'short', day: 'numeric', month: 'short' });
-  const timeF = dtf('time', { hour: 'numeric', minute: '2-digit' });
-  const dateTimeF = dtf('dateTime', { day: 'numeric', month: 'short', year: 'numeric', hour: 'numeric', minute: '2-digit' });
+  // the locale's own short clock ("14:05" en-GB and de-DE, "2:05 pm" en-NZ): timeStyle keeps its leading zero and
+  // 12/24-hour choice, which hour/minute options alone do not; dates and times are joined, not mixed in one pattern
+  const timeF = dtf('time', { timeStyle: 'short' });
+  const weekdayF = dtf('weekday', { weekday: 'short' });
+  const zoneNameF = dtf('zoneName', { hour: 'numeric', timeZoneName: 'short' });
+  const dateTimeF = { format: (at: Date) => `${dateF.format(at)}, ${timeF.format(at)}` };
+  const dayTimeF = { format: (at: Date) => `${shortF.format(at)}, ${timeF.format(at)}` };
+  const weekdayTimeF = { format: (at: Date) => `${weekdayF.format(at)} ${timeF.format(at)}` };
+  const zoneF = { format: (at: Date) => `${dateTimeF.format(at)} ${zoneNameF.formatToParts(at).find((p) => p.type === 'timeZoneName')?.value ?? timeZone}` };
+  // plain calendar dates are read at noon UTC and shown in UTC: the date itself is already the site's day
+  const plain = (name: string, opts: Intl.DateTimeFormatOptions) => memo(`${loc}|UTC|${name}`, () => new Intl.DateTimeFormat(loc, { timeZone: 'UTC', ...opts }));
   const sameDay = (a: Date, b: Date) => dtf('ymd', { year: 'numeric', month: '2-digit', day: '2-digit' }).format(a) === dtf('ymd', { year: 'numeric', month: '2-digit', day: '2-digit' }).format(b);
   return {
     locale: loc,
@@ -65,8 +88,24 @@ export function siteFormat(locale: string, timeZone: string): SiteFormat {
     shortDate: (at) => shortF.format(at),
     time: (at) => timeF.format(at),
     dateTime: (at) => dateTimeF.format(at),
+    dayTime: (at) => dayTimeF.format(at),
+    weekdayTime: (at) => weekdayTimeF.format(at),
+    dateTimeZone: (at) => zoneF.format(at),
+    day: (isoDate, withYear = true) => {
+      const m = /^(\d{4})-(\d{2})-(\d{2})/.exec(isoDate);
+      if (!m) return isoDate;
+      const d = new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3]), 12));
+      return plain(withYear ? 'dayY' : 'day', { day: 'numeric', month: 'short', ...(withYear ? { year: 'numeric' } : {}) }).format(d);
+    },
+    month: (isoMonth) => {
+      const m = /^(\d{4})-(\d{2})/.exec(isoMonth);
+      if (!m) return isoMonth;
+      return plain('month', { month: 'short', year: 'numeric' }).format(new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, 15)));
+    },
     range: (from, to) => (sameDay(from, new Date(to.getTime() - 1)) ? `${shortF.format(from)}, ${timeF.format(from)}–${timeF.format(to)}` : `${dateTimeF.format(from)} – ${dateTimeF.format(to)}`),
+    longRange: (from, to) => (sameDay(from, new Date(to.getTime() - 1)) ? `${longF.format(from)}, ${timeF.format(from)}–${timeF.format(to)}` : `${longF.format(from)}, ${timeF.format(from)} – ${longF.format(to)}, ${timeF.format(to)}`),
     number: (n, maxFractionDigits = 2) => memo(`${loc}|n${maxFractionDigits}`, () => new Intl.NumberFormat(loc, { maximumFractionDigits: maxFractionDigits })).format(n),
+    percent: (share, maxFractionDigits = 1) => memo(`${loc}|p${maxFractionDigits}`, () => new Intl.NumberFormat(loc, { style: 'percent', maximumFractionDigits: maxFractionDigits })).format(share),
     money: (amountMinor, currency) => {
       const code = currency.toUpperCase();
       const digits = currencyExponent(code);
@@ -75,4 +114,12 @@ export function siteFormat(locale: string, timeZone: string): SiteFormat {
       return nf.format(formatMinor(amountMinor, code).replace('−', '-') as unknown as number);
     },
   };
+}
+
+/** "1 h 30 min", "45 min", "2 h": durations in the units' international symbols, the same in every locale. */
+export function formatMinutes(minutes: number): string {
+  const h = Math.floor(minutes / 60);
+  const m = Math.round(minutes % 60);
+  if (h && m) return `${h} h ${m} min`;
+  return h ? `${h} h` : `${m} min`;
 }

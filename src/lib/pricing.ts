@@ -270,10 +270,6 @@ export function formatMinor(amountMinor: number, currency: string): string {
   return `${neg ? '−' : ''}${body}`;
 }
 
-export function formatMoney(amountMinor: number, currency: string): string {
-  return `${currency.toUpperCase()} ${formatMinor(amountMinor, currency)}`;
-}
-
 /** "12.3" → 1230 (NZD); refuses more decimals than the currency has. Returns null when not a plain amount. */
 export function parseMajor(text: string, currency: string): number | null {
   const e = currencyExponent(currency);

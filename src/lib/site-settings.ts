@@ -3,6 +3,7 @@
  * and on the server. Pure (no I/O).
  */
 import { z } from 'zod';
+import { isLocale } from './format';
 
 /** IANA time zones this runtime knows, plus UTC (which Intl lists only under its Etc/ aliases). */
 export function timeZones(): string[] {
@@ -23,6 +24,28 @@ export function isCurrency(code: string): boolean {
   return currencies().includes(code);
 }
 
+/** Locales offered on the Site screen (any other tag Intl supports may be typed in). */
+const SUGGESTED_LOCALES = [
+  'en-NZ', 'en-AU', 'en-GB', 'en-IE', 'en-US', 'en-CA', 'en-IN', 'en-ZA', 'mi-NZ', 'de-DE', 'de-AT', 'de-CH', 'fr-FR', 'fr-CA', 'es-ES',
+  'es-MX', 'it-IT', 'nl-NL', 'pt-PT', 'pt-BR', 'sv-SE', 'nb-NO', 'da-DK', 'fi-FI', 'pl-PL', 'cs-CZ', 'ja-JP', 'ko-KR', 'zh-CN', 'zh-TW', 'hi-IN', 'ar-BH',
+];
+
+/** The suggested locales this runtime supports, each with its English name ("de-DE — German (Germany)"). */
+export function localeChoices(): { tag: string; label: string }[] {
+  const names = new Intl.DisplayNames(['en'], { type: 'language' });
+  return SUGGESTED_LOCALES.filter(isLocale).map((tag) => ({ tag, label: names.of(tag) ?? tag }));
+}
+
+/** "de-de" → "de-DE"; null when the text is not a well-formed BCP 47 tag that Intl supports. */
+export function canonicalLocale(text: string): string | null {
+  try {
+    const [tag] = Intl.getCanonicalLocales(text.trim());
+    return tag && isLocale(tag) ? tag : null;
+  } catch {
+    return null;
+  }
+}
+
 /** A public base URL: http(s), a host, an optional path; no query or fragment; no trailing slash kept. */
 export function normaliseBaseUrl(raw: string): string | null {
   let u: URL;
@@ -41,6 +64,18 @@ export const siteSettingsInput = z
   .object({
     name: z.string().trim().min(1, 'Enter the name of the site.').max(120, 'Use at most 120 characters.'),
     timeZone: z.string().trim().refine(isTimeZone, 'Choose an IANA time zone such as Pacific/Auckland or Europe/London.'),
+    locale: z
+      .string()
+      .max(35, 'Use a language tag such as en-NZ, en-GB or de-DE.')
+      .transform((t, ctx) => {
+        const tag = canonicalLocale(t);
+        if (!tag) {
+          ctx.addIssue({ code: 'custom', message: 'Use a language tag this server knows, such as en-NZ, en-GB or de-DE (language, then region).' });
+          return z.NEVER;
+        }
+        return tag;
+      })
+      .optional(),
     currency: z
       .string()
       .trim()

@@ -52,7 +52,7 @@ describe('account and pricing', () => {
     // newest first: the charge this journey just made (other files may have charged member@ on Laser B too)
     const row = page.locator('tbody tr', { hasText: 'Laser B' }).first();
     // 18 → 20 min × NZD 0.75 + one MDF sheet 4.00 = 19.00 (seeded prices)
-    expect(await row.innerText()).toContain('NZD 19.00');
+    expect(await row.innerText()).toContain('$19.00'); // NZD written the en-NZ way
     expect(await row.innerText()).toContain('captured');
     await shot(page, 'account-desk');
     await row.getByRole('link', { name: 'Receipt' }).click();
@@ -60,8 +60,8 @@ describe('account and pricing', () => {
     const receipt = await page.locator('article').innerText();
     expect(receipt).toContain('Laser B: 20 min');
     expect(receipt).toContain('3 mm MDF');
-    expect(receipt).toMatch(/Tax included \(15 %\)\s+NZD 2\.48/); // 1900 × 15/115 = 247.8 → 248 (NZ GST 15 %: statutory rate, Goods and Services Tax Act 1985 s 8, from memory)
-    expect(receipt).toContain('Paid by card: NZD 19.00');
+    expect(receipt).toMatch(/Tax included \(15%\)\s+\$2\.48/); // 1900 × 15/115 = 247.8 → 248 (NZ GST 15 %: statutory rate, Goods and Services Tax Act 1985 s 8, from memory)
+    expect(receipt).toContain('Paid by card: $19.00');
     await shot(page, 'receipt-desk');
     expect(errors).toEqual([]);
     await ctx.close();

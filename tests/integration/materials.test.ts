@@ -216,7 +216,7 @@ describe('sheet prices: one source, the price version on Pricing', () => {
     const now = await body(await admin.get('/api/material-rules'));
     expect(now.materials.find((m: any) => m.name === 'Acrylic (PMMA)')).toMatchObject({ sheetSku: 'pmma-3', sheetPriceMinor: 1800, sheetCurrency: 'NZD' });
     expect(now.sheets).toContainEqual(expect.objectContaining({ sku: 'pmma-3', priceMinor: 1800, currency: 'NZD' }));
-    expect(await (await member.get('/materials')).text()).toContain('NZD 18.00 a sheet');
+    expect(await (await member.get('/materials')).text()).toContain('$18.00 a sheet');
     const laserA = machine('laser-a');
     const quoteLine = async (sku: string, at?: string) => {
       const q = await body(await member.send('POST', '/api/tools/quote', { machineId: laserA, tier: 'community', minutes: 5, materials: [{ sku, quantity: 1 }], ...(at ? { at } : {}) }));

@@ -16,10 +16,10 @@ describe('site formatting', () => {
     expect(nbsp(nz.time(at))).toMatch(/^2:05 pm$/i);
     const de = siteFormat('de-DE', 'Europe/Berlin');
     expect(de.date(at)).toBe('3. Dez. 2026');
-    expect(de.time(at)).toBe('2:05');
+    expect(de.time(at)).toBe('02:05'); // CLDR de: HH:mm
     const gb = siteFormat('en-GB', 'Europe/London');
     expect(gb.date(at)).toBe('3 Dec 2026');
-    expect(gb.time(at)).toBe('1:05');
+    expect(gb.time(at)).toBe('01:05'); // CLDR en-GB: HH:mm
   });
 
   it('writes a range on one day with the day once', () => {

@@ -1,20 +1,24 @@
 /** Plain words and one date style on the screens: the site's date format, audit words, the label address check. */
 import { describe, expect, it } from 'vitest';
-import { formatDate, formatDateTime, formatIsoDay, formatMinutes } from '../../src/lib/site-format';
+import { formatMinutes, siteFormat } from '../../src/lib/format';
 import { AUDIT_KIND_WORDS, auditDetailLines, auditFieldWords, auditKindWords, withSiteDates } from '../../src/lib/audit-words';
 import { isPublicAddress } from '../../src/lib/labels';
 
 describe('one date style per site', () => {
-  const site = { timeZone: 'Pacific/Auckland' };
+  const site = siteFormat('en-NZ', 'Pacific/Auckland');
+  const nbsp = (s: string) => s.replace(/[\u00a0\u202f]/g, ' ');
   it('writes the full year and the month as a word, in the site zone', () => {
-    // 2026-06-18 13:00 UTC is 19 June 01:00 in Auckland (NZST, UTC+12)
-    expect(formatDate(new Date('2026-06-18T13:00:00Z'), site)).toBe('19 Jun 2026');
-    expect(formatDateTime(new Date('2026-06-18T13:00:00Z'), site)).toBe('19 Jun 2026, 01:00');
-    expect(formatDate(new Date('1992-06-18T00:00:00Z'), site)).toContain('1992'); // never "92"
+    // 2026-06-18 13:00 UTC is 19 June 01:00 in Auckland (NZST, UTC+12); en-NZ writes a 12-hour clock (CLDR)
+    expect(site.date(new Date('2026-06-18T13:00:00Z'))).toBe('19 Jun 2026');
+    expect(nbsp(site.dateTime(new Date('2026-06-18T13:00:00Z')))).toBe('19 Jun 2026, 1:00 am');
+    expect(site.date(new Date('1992-06-18T00:00:00Z'))).toContain('1992'); // never "92"
+    expect(siteFormat('en-GB', 'Pacific/Auckland').dateTime(new Date('2026-06-18T13:00:00Z'))).toBe('19 Jun 2026, 01:00');
   });
   it('reads a calendar date without a zone shift, never as day-month digits', () => {
-    expect(formatIsoDay('2026-11-06')).toBe('6 Nov');
-    expect(formatIsoDay('2026-11-06', {}, true)).toBe('6 Nov 2026');
+    expect(siteFormat('en-NZ', 'Pacific/Kiritimati').day('2026-11-06', false)).toBe('6 Nov');
+    expect(siteFormat('en-NZ', 'Pacific/Pago_Pago').day('2026-11-06')).toBe('6 Nov 2026');
+    expect(siteFormat('de-DE', 'Europe/Berlin').day('2026-11-06')).toBe('6. Nov. 2026');
+    expect(siteFormat('en-NZ', 'UTC').month('2026-11')).toBe('Nov 2026');
   });
   it('says minutes as hours and minutes', () => {
     expect(formatMinutes(90)).toBe('1 h 30 min');
@@ -42,7 +46,7 @@ describe('the audit screen in plain words', () => {
 
 describe('dates inside audit summaries', () => {
   it('shows ISO instants in the site date style and leaves other text alone', () => {
-    const f = (d: Date) => formatDateTime(d, { timeZone: 'Pacific/Auckland' });
+    const f = (d: Date) => siteFormat('en-GB', 'Pacific/Auckland').dateTime(d);
     expect(withSiteDates('New price version from 2027-03-02T11:00:00.000Z (NZD)', f)).toBe('New price version from 3 Mar 2027, 00:00 (NZD)');
     expect(withSiteDates('Booked Laser A', f)).toBe('Booked Laser A');
   });

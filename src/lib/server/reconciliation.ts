@@ -9,7 +9,8 @@ import { env } from './env';
 import { queueMail } from './mail';
 import { activeWithRole } from './people';
 import { getSettings } from './settings';
-import { startOfZonedDay } from '../time';
+import { siteFormat } from '../format';
+import { startOfZonedDay, zonedDate } from '../time';
 import { knownChargeIds, providerActivity, recordedActivity } from './payments/provider-activity';
 import { fromProviderCharge, fromProviderRefund, MISMATCH_TEXT, reconcile, type Mismatch } from '../reconcile';
 
@@ -48,11 +49,11 @@ export async function runReconciliation(from: Date, to: Date, trigger: Reconcili
     .returning('*');
   const run = toRun(row);
   if (mismatches.length) {
-    const { timeZone } = await getSettings();
-    const day = (d: Date) => new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'short', year: 'numeric', hour: '2-digit', minute: '2-digit' }).format(d);
+    const { timeZone, locale } = await getSettings();
+    const day = (d: Date) => siteFormat(locale, timeZone).dateTime(d);
     for (const a of await activeWithRole('admin')) {
       await queueMail(null, a.email, `Card payments do not reconcile: ${mismatches.length} difference${mismatches.length === 1 ? '' : 's'}`, {
-        greeting: `Kia ora ${a.name},`,
+        greeting: `Hello ${a.name},`,
         paragraphs: [
           `Comparing our records with the payment provider's for ${day(from)} – ${day(to)} found ${mismatches.length} difference${mismatches.length === 1 ? '' : 's'}:`,
           ...mismatches.slice(0, 10).map((m) => `${m.object} ${m.providerId}: ${MISMATCH_TEXT[m.kind]} (ours: ${m.ours}; provider: ${m.provider})`),
@@ -68,7 +69,7 @@ export async function runReconciliation(from: Date, to: Date, trigger: Reconcili
 /** The worker's daily run: yesterday in the site's zone. */
 export async function reconcileDaily(now = new Date()): Promise<ReconciliationRun> {
   const { timeZone } = await getSettings();
-  const today = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).format(now);
+  const today = zonedDate(now, timeZone);
   const y = new Date(`${today}T12:00:00Z`);
   y.setUTCDate(y.getUTCDate() - 1);
   const { from, to } = await periodOfDays(y.toISOString().slice(0, 10), y.toISOString().slice(0, 10));

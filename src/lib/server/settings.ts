@@ -1,13 +1,16 @@
-/** Site settings (one row): name, IANA time zone, currency, tax, public base URL. All SQL of this area. */
+/** Site settings (one row): name, IANA time zone, site locale, currency, tax, public base URL. All SQL of this area. */
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { env } from './env';
 import type { SiteSettingsValues } from '../site-settings';
+import { DEFAULT_LOCALE, siteFormat, type SiteFormat } from '../format';
 
 export interface SiteSettings {
   name: string;
   timeZone: string;
+  /** The site locale: a BCP 47 tag (en-NZ, de-DE) for every date, time, number and amount shown. */
+  locale: string;
   currency: string;
   /** Percent, e.g. 15 for 15 % GST. */
   taxRatePercent: number;
@@ -21,6 +24,7 @@ export interface SiteSettings {
 const FALLBACK: SiteSettings = {
   name: 'Beamwarden',
   timeZone: 'UTC',
+  locale: DEFAULT_LOCALE,
   currency: 'NZD',
   taxRatePercent: 0,
   pricesIncludeTax: true,
@@ -28,14 +32,15 @@ const FALLBACK: SiteSettings = {
   updatedAt: null,
 };
 
-const COLUMNS = ['name', 'time_zone', 'currency', 'tax_rate_percent', 'prices_include_tax', 'public_base_url', 'updated_at'] as const;
+const COLUMNS = ['name', 'time_zone', 'locale', 'currency', 'tax_rate_percent', 'prices_include_tax', 'public_base_url', 'updated_at'] as const;
 
-type Row = { name: string; time_zone: string; currency: string; tax_rate_percent: number | string; prices_include_tax: boolean; public_base_url: string | null; updated_at: Date };
+type Row = { name: string; time_zone: string; locale: string; currency: string; tax_rate_percent: number | string; prices_include_tax: boolean; public_base_url: string | null; updated_at: Date };
 
 function toSettings(row: Row): SiteSettings {
   return {
     name: row.name,
     timeZone: row.time_zone,
+    locale: row.locale,
     currency: row.currency,
     taxRatePercent: Number(row.tax_rate_percent),
     pricesIncludeTax: row.prices_include_tax,
@@ -50,19 +55,47 @@ export async function getSettings(conn: Conn = db()): Promise<SiteSettings> {
   return row ? toSettings(row) : FALLBACK;
 }
 
+/** What pages and islands need to show dates, times, numbers and money the site's way (islands get it as props). */
+export interface SiteLook {
+  locale: string;
+  timeZone: string;
+  currency: string;
+}
+
+export function siteLook(s: SiteSettings): SiteLook {
+  return { locale: s.locale, timeZone: s.timeZone, currency: s.currency };
+}
+
+/** The site locale alone, for server code that already has the zone at hand. */
+export async function siteLocale(): Promise<string> {
+  return (await getSettings()).locale;
+}
+
+/** An amount written the site's way ("$1,234.56" in en-NZ): for e-mails and audit summaries written on the server. */
+export async function siteMoney(amountMinor: number, currency: string): Promise<string> {
+  return siteFormat(await siteLocale(), 'UTC').money(amountMinor, currency);
+}
+
+/** The site's formatter (its locale and time zone), for server code that writes e-mails, receipts and summaries. */
+export async function siteFormatter(): Promise<SiteFormat> {
+  const s = await getSettings();
+  return siteFormat(s.locale, s.timeZone);
+}
+
 /** The base of every public link (QR labels): the admin's setting, else PUBLIC_BASE_URL. No trailing slash. */
 export async function publicBaseUrl(): Promise<string> {
   const s = await getSettings();
   return (s.publicBaseUrl ?? env().PUBLIC_BASE_URL).replace(/\/+$/, '');
 }
 
-const EDITABLE = ['name', 'timeZone', 'currency', 'taxRatePercent', 'pricesIncludeTax', 'publicBaseUrl'] as const;
+const EDITABLE = ['name', 'timeZone', 'locale', 'currency', 'taxRatePercent', 'pricesIncludeTax', 'publicBaseUrl'] as const;
 type Editable = Pick<SiteSettings, (typeof EDITABLE)[number]>;
 
 function editable(s: SiteSettings): Editable {
   return {
     name: s.name,
     timeZone: s.timeZone,
+    locale: s.locale,
     currency: s.currency,
     taxRatePercent: s.taxRatePercent,
     pricesIncludeTax: s.pricesIncludeTax,
@@ -81,6 +114,8 @@ export async function updateSettings(actorId: string, input: SiteSettingsValues)
     const after: Editable = {
       name: input.name,
       timeZone: input.timeZone,
+      // left out of the input: the site keeps its locale
+      locale: input.locale ?? before?.locale ?? DEFAULT_LOCALE,
       currency: input.currency,
       taxRatePercent: input.taxRatePercent,
       pricesIncludeTax: input.pricesIncludeTax,
@@ -95,6 +130,7 @@ export async function updateSettings(actorId: string, input: SiteSettingsValues)
     const values = {
       name: after.name,
       time_zone: after.timeZone,
+      locale: after.locale,
       currency: after.currency,
       tax_rate_percent: after.taxRatePercent,
       prices_include_tax: after.pricesIncludeTax,

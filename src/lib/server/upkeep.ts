@@ -2,6 +2,7 @@
  * Upkeep: the log per machine, per-machine intervals (admin), tube hours and the due list (forecast from
  * the last 30 days' beam time by the pure module src/lib/upkeep-forecast.ts). All SQL of this area.
  */
+import { siteFormat } from '../format';
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
@@ -280,8 +281,9 @@ export async function remindUpkeep(opts: { now?: Date; machineIds?: string[] } =
       if (inserted.length) fresh.push({ machineId: c.machineId, machineName: c.machineName, kind: c.kind, label: c.label, state: c.state, dueAt: c.dueAt });
     }
     if (!fresh.length) return { reminders: [], stewards: 0 };
-    const tz = (await getSettings(trx)).timeZone;
-    const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'short', day: 'numeric', month: 'short' });
+    const site = await getSettings(trx);
+    const f = siteFormat(site.locale, site.timeZone);
+    const day = { format: (d: Date) => f.shortDate(d) };
     const line = (r: UpkeepReminder) => `${r.machineName}: ${r.label.toLowerCase()} — ${r.state === 'overdue' ? `overdue${r.dueAt ? ` since ${day.format(r.dueAt)}` : ''}` : `due${r.dueAt ? ` by ${day.format(r.dueAt)}` : ' soon'}`}`;
     const isFresh = (c: { machineId: string; kind: string; state: string }) => fresh.some((f) => f.machineId === c.machineId && f.kind === c.kind && f.state === c.state);
     const stillOverdue = candidates.filter((c) => c.state === 'overdue' && !isFresh(c));
@@ -289,7 +291,7 @@ export async function remindUpkeep(opts: { now?: Date; machineIds?: string[] } =
     const overdue = fresh.filter((r) => r.state === 'overdue').length;
     for (const st of stewards) {
       await queueMail(trx, st.email, `Upkeep: ${fresh.length} item${fresh.length === 1 ? '' : 's'} ${overdue ? 'overdue or due' : 'due soon'}`, {
-        greeting: `Kia ora ${st.name},`,
+        greeting: `Hello ${st.name},`,
         paragraphs: [
           `New on the upkeep list: ${fresh.map(line).join('; ')}.`,
           ...(stillOverdue.length ? [`Still overdue: ${stillOverdue.map(line).join('; ')}.`] : []),

@@ -6,6 +6,7 @@ function view(s: SiteSettings) {
   return {
     name: s.name,
     timeZone: s.timeZone,
+    locale: s.locale,
     currency: s.currency,
     taxRatePercent: s.taxRatePercent,
     pricesIncludeTax: s.pricesIncludeTax,
@@ -21,8 +22,8 @@ export const GET = route(async ({ locals }) => {
 });
 
 /**
- * PUT /api/site {name, timeZone, currency, taxRatePercent, pricesIncludeTax, publicBaseUrl} (admin) →
- * the saved settings. Every field is required (publicBaseUrl may be null); the change is audited as
+ * PUT /api/site {name, timeZone, locale?, currency, taxRatePercent, pricesIncludeTax, publicBaseUrl} (admin) →
+ * the saved settings. Every field is required (publicBaseUrl may be null; locale left out keeps the site's); the change is audited as
  * `site.updated` with the values before and after.
  */
 export const PUT = route(async ({ locals, request }) => {

@@ -5,11 +5,11 @@ import { env } from '../env';
 import { buildIcs } from '../../ics';
 import type { Booking, Conn, MachineRow, Row } from './records';
 import { siteSettings } from './gate';
+import { siteLocale } from '../settings';
+import { siteFormat } from '../../format';
 
-export function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): string {
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' }).format(b.startsAt);
-  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  return `${day}, ${t.format(b.startsAt)}–${t.format(b.endsAt)}`;
+export async function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(), tz).longRange(b.startsAt, b.endsAt);
 }
 
 export function bookingIcs(b: Booking, machine: { name: string }, siteName: string, cancelled = false): string {
@@ -62,13 +62,13 @@ export async function sendCancellation(trx: Knex.Transaction, r: Row, why: strin
     await siteSettings(trx),
   ];
   if (!person || !machine) return;
-  const range = formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
+  const range = await formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
   await queueMail(
     trx,
     person.email,
     `Booking cancelled: ${machine.name}, ${range}`,
     {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `Your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${machine.name} on ${range} (${site.timeZone}) is cancelled.`,
         why,
@@ -87,11 +87,11 @@ export async function sendConfirmation(trx: Knex.Transaction, personId: string, 
   await queueMail(
     trx,
     person.email,
-    `Booking confirmed: ${machine.name}, ${formatRange(b, tz)}`,
+    `Booking confirmed: ${machine.name}, ${await formatRange(b, tz)}`,
     {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
-        `${machine.name} is booked for you on ${formatRange(b, tz)} (${tz}).`,
+        `${machine.name} is booked for you on ${await formatRange(b, tz)} (${tz}).`,
         'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show and the time is released.',
         'The attached calendar file adds the booking to your calendar.',
       ],

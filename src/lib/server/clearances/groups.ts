@@ -73,7 +73,7 @@ export async function listMyClearances(personId: string, at: Date): Promise<MyCl
   const [groups, rows, zone] = await Promise.all([
     listGroups(q),
     q('clearances').where({ person_id: personId }) as Promise<ClearanceRow[]>,
-    getSettings(q).then((s) => s.timeZone),
+    getSettings(q),
   ]);
   return groups.map((g) => {
     const r = rows.find((x) => x.group_id === g.id);

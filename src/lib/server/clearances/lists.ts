@@ -55,7 +55,7 @@ export async function listClearances(filter: { q?: string; groupId?: string }, a
     q.where((w) => w.whereILike('p.name', like).orWhereILike('p.email', like));
   }
   const rows = await q.orderBy('p.name').orderBy('g.name').limit(200).select('c.*', 'p.name as person_name', 'p.email as person_email', 'g.name as group_name');
-  const zone = (await getSettings()).timeZone;
+  const zone = await getSettings();
   return rows.map((r) => ({
     id: r.id, personId: r.person_id, personName: r.person_name, personEmail: r.person_email, groupId: r.group_id, groupName: r.group_name,
     state: effectiveState(r.state, r.expires_at, at), level: r.level, expiresAt: r.expires_at?.toISOString() ?? null,

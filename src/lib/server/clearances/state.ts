@@ -6,6 +6,7 @@
 import { db, type Conn } from '../db';
 import { decideOperate, effectiveState, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
 import { getSettings } from '../settings';
+import { siteFormat } from '../../format';
 export type { ClearanceState } from '../../clearance-rules';
 
 export type OperateVerdict = { ok: true } | { ok: false; state: ClearanceState | 'none'; message: string };
@@ -38,12 +39,18 @@ export interface ClearanceRow {
   updated_at: Date;
 }
 
-export function formatLocalDate(at: Date, timeZone: string): string {
-  return new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'long', year: 'numeric' }).format(at);
+/** The site's zone and locale: dates in this area's e-mails and screens are written with them. */
+export interface SiteZone {
+  timeZone: string;
+  locale: string;
 }
 
-export function formatLocalDateTime(at: Date, timeZone: string): string {
-  return new Intl.DateTimeFormat('en-NZ', { timeZone, day: 'numeric', month: 'short', year: 'numeric', hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZoneName: 'short' }).format(at);
+export function formatLocalDate(at: Date, site: SiteZone): string {
+  return siteFormat(site.locale, site.timeZone).date(at);
+}
+
+export function formatLocalDateTime(at: Date, site: SiteZone): string {
+  return siteFormat(site.locale, site.timeZone).dateTimeZone(at);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -77,7 +84,7 @@ export async function canOperate(personId: string, machineId: string, at: Date, 
 export async function clearanceOf(personId: string, groupId: string, at: Date, q: Conn = db()): Promise<{ state: ClearanceState; expiresAt: Date | null; expiresOn: string | null; suspendedReason: string | null }> {
   const r = (await q('clearances').where({ person_id: personId, group_id: groupId }).first()) as ClearanceRow | undefined;
   if (!r) return { state: 'quiz due', expiresAt: null, expiresOn: null, suspendedReason: null };
-  const zone = (await getSettings(q)).timeZone;
+  const zone = await getSettings(q);
   const state = effectiveState(r.state, r.expires_at, at);
   return {
     state, expiresAt: r.expires_at,

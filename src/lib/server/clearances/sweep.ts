@@ -16,7 +16,7 @@ import { getSettings } from '../settings';
  */
 export async function sweepClearances(at = new Date(), onlyPersonId?: string): Promise<{ lapsed: number; warned: number }> {
   return transaction(async (trx) => {
-    const zone = (await getSettings(trx)).timeZone;
+    const zone = await getSettings(trx);
     const due = trx('clearances as c').join('machine_groups as g', 'g.id', 'c.group_id').join('people as p', 'p.id', 'c.person_id')
       .where('c.state', 'cleared').where('c.expires_at', '<=', at.toISOString());
     if (onlyPersonId) due.where('c.person_id', onlyPersonId);
@@ -29,7 +29,7 @@ export async function sweepClearances(at = new Date(), onlyPersonId?: string): P
         summary: `${r.name}'s ${r.group_name} clearance lapsed at ${formatLocalDateTime(r.expires_at, zone)}`, before: { state: 'cleared' }, after: { state: to },
       });
       await queueMail(trx, r.email, `Your clearance has lapsed: ${r.group_name}`, {
-        greeting: `Kia ora ${r.name},`,
+        greeting: `Hello ${r.name},`,
         paragraphs: [`Your ${r.group_name} clearance lapsed at ${formatLocalDateTime(r.expires_at, zone)}.`, nextStep('lapsed', { groupName: r.group_name, refresher: r.refresher })],
         action: { label: 'See your clearances', url: link('/clearances') },
       });
@@ -44,7 +44,7 @@ export async function sweepClearances(at = new Date(), onlyPersonId?: string): P
       await trx('clearances').where({ id: r.id }).update({ lapse_warned_for: r.expires_at });
       const days = Math.ceil((r.expires_at.getTime() - at.getTime()) / 86_400_000);
       await queueMail(trx, r.email, `Your clearance lapses in ${days} day${days === 1 ? '' : 's'}: ${r.group_name}`, {
-        greeting: `Kia ora ${r.name},`,
+        greeting: `Hello ${r.name},`,
         paragraphs: [
           `Your ${r.group_name} clearance is valid until the end of ${formatLocalDate(new Date(r.expires_at.getTime() - 1), zone)}.`,
           r.refresher === 'quiz'

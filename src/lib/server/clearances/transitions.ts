@@ -44,11 +44,11 @@ export async function recordQuizPass(trx: Knex.Transaction, personId: string, gr
   const row = await lockClearance(trx, personId, groupId);
   const from = effectiveState(row.state, row.expires_at, at);
   const to = apply(from, { type: 'quiz_passed' }, { refresher: g.refresher });
-  const zone = (await getSettings(trx)).timeZone;
+  const zone = await getSettings(trx);
   const update: Record<string, unknown> = { state: to, quiz_passed_at: at, updated_at: at };
   if (to === 'cleared') {
     update.cleared_at = at;
-    update.expires_at = expiryFor(at, g.validity_days, zone);
+    update.expires_at = expiryFor(at, g.validity_days, zone.timeZone);
   }
   await trx('clearances').where({ id: row.id }).update(update);
   await recordAudit(trx, {
@@ -59,14 +59,14 @@ export async function recordQuizPass(trx: Knex.Transaction, personId: string, gr
   const step = nextStep(to, { groupName: g.name, refresher: g.refresher });
   if (to === 'cleared') {
     await queueMail(trx, person.email, `You are cleared again: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [`You passed the ${g.name} refresher quiz, so your clearance is current again until ${formatLocalDate(new Date((update.expires_at as Date).getTime() - 1), zone)}.`],
       action: { label: 'See your clearances', url: link('/clearances') },
       footnote: SAFETY_FOOTNOTE,
     });
   } else {
     await queueMail(trx, person.email, `Quiz passed — book your practical sign-off: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `You passed the ${g.name} quiz. The next step is a practical sign-off: an instructor watches you run the machine — emergency stop, extraction and air assist, focus, framing the job and the fire routine.`,
         'Book a seat at an induction session from your Clearances screen (the next sessions are listed there); bring a small test piece of an allowed material.',
@@ -106,8 +106,8 @@ export async function signOffIn(trx: Knex.Transaction, instructorId: string, inp
     const row = await lockClearance(trx, input.personId, input.groupId);
     const from = effectiveState(row.state, row.expires_at, at);
     const to = apply(from, { type: 'signed_off', level: input.level, heldLevel: row.cleared_at ? row.level : undefined }, { refresher: g.refresher });
-    const zone = (await getSettings(trx)).timeZone;
-    const expiresAt = expiryFor(at, g.validity_days, zone);
+    const zone = await getSettings(trx);
+    const expiresAt = expiryFor(at, g.validity_days, zone.timeZone);
     await trx('clearances').where({ id: row.id }).update({
       state: to, level: input.level, cleared_at: at, expires_at: expiresAt, signed_off_by: instructorId, lapse_warned_for: null, updated_at: at,
     });
@@ -123,7 +123,7 @@ export async function signOffIn(trx: Knex.Transaction, instructorId: string, inp
       before: { state: from, level: row.level }, after: { state: to, level: input.level, expiresAt: expiresAt.toISOString(), checklist: input.checklist, notes: input.notes },
     });
     await queueMail(trx, person.email, `You are cleared: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `An instructor signed off your practical induction: you are cleared (${input.level}) on ${g.name} until ${formatLocalDate(new Date(expiresAt.getTime() - 1), zone)}.`,
         'You can now book the machine. Stay with every job while it runs and keep the extractor and air assist on.',
@@ -155,7 +155,7 @@ export async function suspend(instructorId: string, clearanceId: string, reason:
       summary: `Suspended ${person.name}'s ${g.name} clearance: ${reason}`, before: { state: from }, after: { state: 'suspended', reason },
     });
     await queueMail(trx, person.email, `Your clearance is suspended: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [
         `An instructor suspended your ${g.name} clearance. The reason given: “${reason}”.`,
         'Until it is reinstated you cannot book or run these machines. Ask an instructor or the laser safety officer what is needed.',
@@ -183,7 +183,7 @@ export async function reinstate(instructorId: string, clearanceId: string, reaso
       summary: `Reinstated ${person.name}'s ${g.name} clearance: ${reason}`, before: { state: 'suspended', reason: row.suspended_reason }, after: { state: to, reason },
     });
     await queueMail(trx, person.email, `Your clearance is reinstated: ${g.name}`, {
-      greeting: `Kia ora ${person.name},`,
+      greeting: `Hello ${person.name},`,
       paragraphs: [`An instructor reinstated your ${g.name} clearance (“${reason}”). Its state is now: ${to}.`, nextStep(to, { groupName: g.name, refresher: g.refresher })],
       action: { label: 'See your clearances', url: link('/clearances') },
     });

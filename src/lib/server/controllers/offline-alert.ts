@@ -34,7 +34,7 @@ export async function sweepControllers(now = new Date()): Promise<{ alerted: num
       await recordAudit(trx, { actorId: null, kind: 'controller.offline', subjectType: 'controller', subjectId: r.id, summary: `Controller “${r.name}” on ${r.machine_name} not heard from since ${r.last_seen_at.toISOString()} while booked` });
       for (const st of stewards) {
         await queueMail(trx, st.email, `Controller offline: ${r.machine_name}`, {
-          greeting: `Kia ora ${st.name},`,
+          greeting: `Hello ${st.name},`,
           paragraphs: [
             `The controller “${r.name}” on ${r.machine_name} has not been heard from for more than ${CONTROLLER_OFFLINE_MINUTES} minutes, and the machine is booked now.`,
             'The person booked may not be able to start the machine. Check the box’s power and network; the booking can still be checked in on the phone page.',

@@ -21,12 +21,11 @@ import { offerFreedTime } from '../bookings/waitlist';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
 import type { Conn } from '../db';
 import type { Actor } from '../../roles';
-import { getSettings } from '../settings';
+import { getSettings, siteLocale } from '../settings';
+import { siteFormat } from '../../format';
 
-function formatRange(startsAt: Date, endsAt: Date, tz: string): string {
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, weekday: 'long', day: 'numeric', month: 'long' }).format(startsAt);
-  const t = new Intl.DateTimeFormat('en-NZ', { timeZone: tz, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  return `${day}, ${t.format(startsAt)}–${t.format(endsAt)}`;
+async function formatRange(startsAt: Date, endsAt: Date, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(), tz).longRange(startsAt, endsAt);
 }
 
 interface Effects {
@@ -94,9 +93,9 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
     await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: `${machine.name} is out of service`, notify: false, actorId: ctx.actorId });
     if (r.kind === 'hold') continue;
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
-      greeting: `Kia ora ${r.name},`,
+      greeting: `Hello ${r.name},`,
       paragraphs: [
-        `${machine.name} was taken out of service after a fault was reported, so your booking on ${formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
+        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
         'You are not charged for it: any hold on your card is released.',
         'Book another time or another machine when it suits you.',
         'The attached calendar file removes it from your calendar.',
@@ -202,7 +201,7 @@ async function tellStopReporters(trx: Knex.Transaction, machine: MachineRow, to:
     .distinct('p.email', 'p.name');
   for (const r of reporters as { email: string; name: string }[]) {
     await queueMail(trx, r.email, `${machine.name} is back in service`, {
-      greeting: `Kia ora ${r.name},`,
+      greeting: `Hello ${r.name},`,
       paragraphs: [`${machine.name}, which you reported out of service, is back ${to === 'degraded' ? 'in use, marked degraded' : 'in service'}. Steward’s note: ${note}`],
       action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
     });

@@ -114,7 +114,7 @@ async function mailStewards(
   const stop = f.severity === 'stop';
   for (const s of await activeWithRole('steward', trx)) {
     await queueMail(trx, s.email, `${stop ? 'STOP' : 'Degraded'}: ${machine.name} — ${f.summary}`.slice(0, 200), {
-      greeting: `Kia ora ${s.name},`,
+      greeting: `Hello ${s.name},`,
       paragraphs: [
         `${f.reporter} reported a ${f.severity} fault on ${machine.name}: “${f.summary}”.`,
         ...(f.details ? [f.details] : []),

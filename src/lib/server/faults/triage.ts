@@ -96,7 +96,7 @@ export async function resolveFault(actor: Actor, id: string, resolution: string,
       after: { status: 'resolved', resolution },
     });
     await queueMail(trx, f.email, `The fault you reported on ${f.machine_name} is resolved`, {
-      greeting: `Kia ora ${f.reporter_name},`,
+      greeting: `Hello ${f.reporter_name},`,
       paragraphs: [`Thank you for reporting “${f.summary}”. A steward resolved it: ${resolution}`],
       action: { label: 'Book time', url: `${env().PUBLIC_BASE_URL}/book` },
     });

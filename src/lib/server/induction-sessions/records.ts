@@ -5,6 +5,8 @@
  * seats.ts, roster.ts, reminders.ts.
  */
 import { db, type Conn } from '../db';
+import { siteLocale } from '../settings';
+import { siteFormat } from '../../format';
 import { HttpError } from '../errors';
 import { env } from '../env';
 import { placeLabel, type SessionKind } from '../../induction';
@@ -53,11 +55,9 @@ export function view(r: SessionRow): SessionView {
   };
 }
 
-/** "Tuesday 8 December 2026, 10:00–12:00" in the site's zone. */
-export function formatSessionTime(startsAt: Date, endsAt: Date, timeZone: string): string {
-  const day = new Intl.DateTimeFormat('en-NZ', { timeZone, weekday: 'long', day: 'numeric', month: 'long', year: 'numeric' }).format(startsAt);
-  const t = new Intl.DateTimeFormat('en-NZ', { timeZone, hour: '2-digit', minute: '2-digit', hourCycle: 'h23' });
-  return `${day}, ${t.format(startsAt)}–${t.format(endsAt)}`;
+/** "Tuesday, 8 December 2026, 10:00–12:00" in the site's zone and locale. */
+export async function formatSessionTime(startsAt: Date, endsAt: Date, timeZone: string): Promise<string> {
+  return siteFormat(await siteLocale(), timeZone).longRange(startsAt, endsAt);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -121,9 +121,9 @@ async function markAbsent(trx: Knex.Transaction, instructorId: string, s: Sessio
   const site = await getSettings(trx);
   await recordAudit(trx, { actorId: instructorId, kind: 'induction.marked_absent', subjectType: 'induction_seat', subjectId: seatId, summary: `${person.name} marked absent from the ${s.group_name} session (no-show)` });
   await queueMail(trx, person.email, `We missed you at the ${s.group_name} induction`, {
-    greeting: `Kia ora ${person.name},`,
+    greeting: `Hello ${person.name},`,
     paragraphs: [
-      `You were marked absent from the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, so your seat there is released.`,
+      `You were marked absent from the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, so your seat there is released.`,
       'Your quiz pass stands. Book a seat at another session from your Clearances screen — and if you cannot come, cancel the seat so someone else can have it.',
     ],
     action: { label: 'Book another session', url: link('/clearances') },

@@ -44,7 +44,7 @@ async function refusal(trx: Conn, personId: string, s: SessionRow, now: Date, si
     .whereNot('s.id', s.id).where('s.ends_at', '>', now).first('s.starts_at', 's.ends_at');
   const r = seatEligibility({
     kind: s.kind, groupName: s.group_name, state: c.state, clearedUntil: c.expiresOn, suspendedReason: c.suspendedReason,
-    otherSeatOn: other ? formatSessionTime(other.starts_at, other.ends_at, site.timeZone) : null,
+    otherSeatOn: other ? await formatSessionTime(other.starts_at, other.ends_at, site.timeZone) : null,
   });
   return r.ok ? null : r.reason;
 }
@@ -81,9 +81,9 @@ async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string
     actorId: personId, kind: 'induction.seat_booked', subjectType: 'induction_seat', subjectId: seat.id,
     summary: `${person.name} took a seat at the ${s.group_name} session${fromWaitlist ? ' (from the waitlist)' : ''}`,
   });
-  const when = formatSessionTime(s.starts_at, s.ends_at, site.timeZone);
+  const when = await formatSessionTime(s.starts_at, s.ends_at, site.timeZone);
   await queueMail(trx, person.email, `${fromWaitlist ? 'A seat freed up for you' : 'Seat booked'}: ${s.group_name} induction, ${when}`, {
-    greeting: `Kia ora ${person.name},`,
+    greeting: `Hello ${person.name},`,
     paragraphs: [
       fromWaitlist
         ? `A seat freed up at the ${s.group_name} ${SESSION_KIND_LABELS[s.kind].toLowerCase()} session you were waiting for, and it is now yours: ${when} (${site.timeZone}), at ${placeLabel(s.machine_name, s.place)}.`
@@ -116,9 +116,9 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
     const person = await personRow(trx, personId);
     const site = await getSettings(trx);
     await recordAudit(trx, { actorId: personId, kind: 'induction.seat_cancelled', subjectType: 'induction_seat', subjectId: seat.id, summary: `${person.name} cancelled a seat at the ${s.group_name} session` });
-    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
-      greeting: `Kia ora ${person.name},`,
-      paragraphs: [`Your seat at the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
+    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+      greeting: `Hello ${person.name},`,
+      paragraphs: [`Your seat at the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
       action: { label: 'See the next sessions', url: link('/clearances') },
     }, [icsAttachment(s, seat.id, site, true)]);
     const offeredTo = await offerFreedSeat(trx, s.id, now, site);

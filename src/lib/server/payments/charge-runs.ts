@@ -2,8 +2,8 @@
  * Provider operations on one charge (hold, charge, capture), each with its own idempotency key; a charge waiting
  * for the provider is `queued` with its operation kept in `pending_op` and driven again by the worker.
  */
+import { siteMoney } from '../settings';
 import type { Knex } from 'knex';
-import { formatMoney } from '../../pricing';
 import { recordAudit } from '../audit';
 import { db, transaction } from '../db';
 import { env } from '../env';
@@ -132,9 +132,9 @@ export async function markFailed(c: Charge, code: string, message: string): Prom
     await updateCharge(trx, c.id, { state: 'payment failed', pending_op: null, failure_code: code, failure_message: message, held_minor: 0 });
     const p = await personFor(c.personId, trx);
     await queueMail(trx, p.email, 'Payment failed', {
-      greeting: `Kia ora ${p.name},`,
+      greeting: `Hello ${p.name},`,
       paragraphs: [
-        `We could not take ${formatMoney(c.cardAmountMinor || c.amountMinor, c.currency)} for ${c.kind.replace('_', ' ')}${c.machineName ? ` on ${c.machineName}` : ''}: ${message}`,
+        `We could not take ${await siteMoney(c.cardAmountMinor || c.amountMinor, c.currency)} for ${c.kind.replace('_', ' ')}${c.machineName ? ` on ${c.machineName}` : ''}: ${message}`,
         'Until it is settled, new bookings are paused. Save a working card on your Account screen and we will try again straight away.',
       ],
       action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },

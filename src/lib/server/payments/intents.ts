@@ -2,6 +2,7 @@
  * Payment intents (payment-intents.ts): run by the worker, tried once at once by the request that recorded them,
  * and the calls that record-and-try them: releasing a booking's holds, a booking fee, a refund.
  */
+import { siteMoney } from '../settings';
 import { env } from '../env';
 import { db, transaction } from '../db';
 import { DomainError } from '../errors';
@@ -11,7 +12,6 @@ import { recordAudit } from '../audit';
 import type { PaymentIntent } from '../payment-intents';
 import { activeWithRole } from '../people';
 import { quoteFor } from '../prices';
-import { formatMoney } from '../../pricing';
 import { billQuote, chargeBeamTime, holdForBooking } from './billing';
 import { getCharge, personFor, updateCharge, type Charge } from './charge-records';
 import { drive, markFailed, parseOp } from './charge-runs';
@@ -75,7 +75,7 @@ export async function releaseHoldsForBooking(bookingId: string, reason: string, 
   if (done.length && opts.notify !== false) {
     const p = await personFor(done[0]!.personId);
     await queueMail(null, p.email, 'Your booking was released: no charge', {
-      greeting: `Kia ora ${p.name},`,
+      greeting: `Hello ${p.name},`,
       paragraphs: [`Your booking could not go ahead (${reason}). Any hold on your card has been released and anything taken has been refunded. You are not charged for time the space could not give.`],
       action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
     });
@@ -226,7 +226,7 @@ async function giveUp(i: PaymentIntent, reason: string): Promise<void> {
   const why = `The card service could not complete this after every retry (${reason}).`;
   const admins = async (subject: string, paragraphs: string[]) => {
     for (const a of await activeWithRole('admin')) {
-      await queueMail(null, a.email, subject, { greeting: `Kia ora ${a.name},`, paragraphs, action: { label: 'Open Reconciliation', url: `${env().PUBLIC_BASE_URL}/admin/reconciliation` } });
+      await queueMail(null, a.email, subject, { greeting: `Hello ${a.name},`, paragraphs, action: { label: 'Open Reconciliation', url: `${env().PUBLIC_BASE_URL}/admin/reconciliation` } });
     }
   };
   if (i.kind === 'refund') {
@@ -235,14 +235,14 @@ async function giveUp(i: PaymentIntent, reason: string): Promise<void> {
     const c = (await getCharge(r.charge_id))!;
     await transaction(async (trx) => {
       await trx('charge_refunds').where({ id: i.refundId }).update({ state: 'failed', failure_message: why });
-      await updateCharge(trx, c.id, { state: 'captured', failure_message: `A refund of ${formatMoney(r.amount_minor, c.currency)} failed: ${why}` });
-      await recordAudit(trx, { actorId: null, kind: 'charge.refund_failed', subjectType: 'charge', subjectId: c.id, summary: `Refund of ${formatMoney(r.amount_minor, c.currency)} to ${c.personName} failed: ${why}` });
-      await queueMail(trx, c.personEmail!, `Refund delayed: ${formatMoney(r.amount_minor, c.currency)}`, {
-        greeting: `Kia ora ${c.personName},`,
-        paragraphs: [`We could not yet refund ${formatMoney(r.amount_minor, c.currency)} to your card. The space's admins have been told and will settle it with you.`],
+      await updateCharge(trx, c.id, { state: 'captured', failure_message: `A refund of ${await siteMoney(r.amount_minor, c.currency)} failed: ${why}` });
+      await recordAudit(trx, { actorId: null, kind: 'charge.refund_failed', subjectType: 'charge', subjectId: c.id, summary: `Refund of ${await siteMoney(r.amount_minor, c.currency)} to ${c.personName} failed: ${why}` });
+      await queueMail(trx, c.personEmail!, `Refund delayed: ${await siteMoney(r.amount_minor, c.currency)}`, {
+        greeting: `Hello ${c.personName},`,
+        paragraphs: [`We could not yet refund ${await siteMoney(r.amount_minor, c.currency)} to your card. The space's admins have been told and will settle it with you.`],
       });
     });
-    await admins(`Refund failed for ${c.personName}`, [`A refund of ${formatMoney(r.amount_minor, c.currency)} on charge ${c.id} failed for good. ${why}`, 'Try it again from the charge, or settle it by hand.']);
+    await admins(`Refund failed for ${c.personName}`, [`A refund of ${await siteMoney(r.amount_minor, c.currency)} on charge ${c.id} failed for good. ${why}`, 'Try it again from the charge, or settle it by hand.']);
     return;
   }
   const ids: string[] = [];
@@ -252,12 +252,12 @@ async function giveUp(i: PaymentIntent, reason: string): Promise<void> {
   for (const id of ids) {
     const c = (await getCharge(id))!;
     if (i.kind === 'booking.release') {
-      if (c.state === 'held') await admins(`A card hold could not be released for ${c.personName}`, [`The hold of ${formatMoney(c.heldMinor, c.currency)} on charge ${c.id} could not be released. ${why}`, 'Release it at the provider by hand.']);
+      if (c.state === 'held') await admins(`A card hold could not be released for ${c.personName}`, [`The hold of ${await siteMoney(c.heldMinor, c.currency)} on charge ${c.id} could not be released. ${why}`, 'Release it at the provider by hand.']);
       continue;
     }
     if (c.state !== 'pending' && c.state !== 'queued') continue;
     await markFailed(c, 'provider_unreachable', why);
-    await admins(`Payment failed for ${c.personName}`, [`Charge ${c.id} (${formatMoney(c.cardAmountMinor || c.amountMinor, c.currency)}) is marked payment failed. ${why}`]);
+    await admins(`Payment failed for ${c.personName}`, [`Charge ${c.id} (${await siteMoney(c.cardAmountMinor || c.amountMinor, c.currency)}) is marked payment failed. ${why}`]);
   }
 }
 

@@ -1,10 +1,9 @@
 /** Receipts: the number and date given when money is taken, and the e-mail that carries them. */
 import type { Knex } from 'knex';
-import { formatMoney } from '../../pricing';
 import { formatReceiptNumber, receiptPrefix } from '../../receipts';
 import { env } from '../env';
 import { queueMail } from '../mail';
-import { getSettings } from '../settings';
+import { getSettings, siteMoney } from '../settings';
 import { personFor, updateCharge, type Charge } from './charge-records';
 
 /**
@@ -27,13 +26,13 @@ export async function assignReceipt(trx: Knex.Transaction, chargeId: string): Pr
 
 export async function queueReceipt(trx: Knex.Transaction, c: Charge): Promise<void> {
   const p = await personFor(c.personId, trx);
-  const lines = c.breakdown.lines.map((l) => `${l.label}: ${formatMoney(l.amountMinor, c.currency)}`);
-  if (c.breakdown.carriedInMinor) lines.push(`Earlier small sums carried to this charge: ${formatMoney(c.breakdown.carriedInMinor, c.currency)}`);
-  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${c.breakdown.taxRateBp / 100} % tax: ${formatMoney(c.breakdown.taxMinor, c.currency)}`;
-  const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${formatMoney(c.capturedMinor, c.currency)}`;
-  await queueMail(trx, p.email, `Receipt: ${formatMoney(c.amountMinor, c.currency)}`, {
-    greeting: `Kia ora ${p.name},`,
-    paragraphs: [...(c.receiptNumber ? [`Receipt ${c.receiptNumber}`] : []), ...lines, tax, `Total: ${formatMoney(c.amountMinor, c.currency)}`, paid],
+  const lines = await Promise.all(c.breakdown.lines.map(async (l) => `${l.label}: ${await siteMoney(l.amountMinor, c.currency)}`));
+  if (c.breakdown.carriedInMinor) lines.push(`Earlier small sums carried to this charge: ${await siteMoney(c.breakdown.carriedInMinor, c.currency)}`);
+  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${c.breakdown.taxRateBp / 100} % tax: ${await siteMoney(c.breakdown.taxMinor, c.currency)}`;
+  const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${await siteMoney(c.capturedMinor, c.currency)}`;
+  await queueMail(trx, p.email, `Receipt: ${await siteMoney(c.amountMinor, c.currency)}`, {
+    greeting: `Hello ${p.name},`,
+    paragraphs: [...(c.receiptNumber ? [`Receipt ${c.receiptNumber}`] : []), ...lines, tax, `Total: ${await siteMoney(c.amountMinor, c.currency)}`, paid],
     action: { label: 'Printable receipt', url: `${env().PUBLIC_BASE_URL}/account/receipts/${c.id}` },
   });
 }

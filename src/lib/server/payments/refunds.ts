@@ -1,7 +1,7 @@
 /** Refunds: recorded first (the charge reads `refund pending`), then made at the provider exactly once. */
+import { siteMoney } from '../settings';
 import { randomUUID } from 'node:crypto';
 import type { Knex } from 'knex';
-import { formatMoney } from '../../pricing';
 import { recordAudit } from '../audit';
 import { db, transaction } from '../db';
 import { HttpError } from '../errors';
@@ -26,7 +26,7 @@ export async function requestRefund(chargeId: string, amountMinor: number, reaso
     }
     const left = paid - c.refundedMinor;
     if (amountMinor < 1 || amountMinor > left) {
-      throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${formatMoney(left, c.currency)} is left to refund.` });
+      throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${await siteMoney(left, c.currency)} is left to refund.` });
     }
     const card = c.method === 'card' && c.providerChargeId !== null;
     await trx('charge_refunds').insert({
@@ -38,7 +38,7 @@ export async function requestRefund(chargeId: string, amountMinor: number, reaso
       await recordPaymentIntent(trx, { kind: 'refund', refundId });
       await recordAudit(trx, {
         actorId, kind: 'charge.refund_requested', subjectType: 'charge', subjectId: c.id,
-        summary: `Refund of ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName} asked for: ${reason}`,
+        summary: `Refund of ${await siteMoney(amountMinor, c.currency)} of ${await siteMoney(paid, c.currency)} to ${c.personName} asked for: ${reason}`,
         before: { state: c.state, refundedMinor: c.refundedMinor }, after: { state: 'refund pending', refundedMinor: c.refundedMinor },
       });
       return { refundId, pending: true };
@@ -60,14 +60,14 @@ async function completeRefund(trx: Knex.Transaction, c: Charge, refundId: string
     kind: 'charge.refunded',
     subjectType: 'charge',
     subjectId: c.id,
-    summary: `Refunded ${formatMoney(amountMinor, c.currency)} of ${formatMoney(paid, c.currency)} to ${c.personName}: ${reason}`,
+    summary: `Refunded ${await siteMoney(amountMinor, c.currency)} of ${await siteMoney(paid, c.currency)} to ${c.personName}: ${reason}`,
     before: { state: c.state, refundedMinor: c.refundedMinor },
     after: { state, refundedMinor: refunded },
   });
   if (notify) {
-    await queueMail(trx, c.personEmail!, `Refund: ${formatMoney(amountMinor, c.currency)}`, {
-      greeting: `Kia ora ${c.personName},`,
-      paragraphs: [`We refunded ${formatMoney(amountMinor, c.currency)} of your charge of ${formatMoney(c.amountMinor, c.currency)}. Reason: ${reason}`,
+    await queueMail(trx, c.personEmail!, `Refund: ${await siteMoney(amountMinor, c.currency)}`, {
+      greeting: `Hello ${c.personName},`,
+      paragraphs: [`We refunded ${await siteMoney(amountMinor, c.currency)} of your charge of ${await siteMoney(c.amountMinor, c.currency)}. Reason: ${reason}`,
         c.method === 'card' ? 'Card refunds usually show on your statement within 5–10 days.' : `The refund is credited to cost centre ${c.costCentre}.`],
     });
   }

@@ -1,5 +1,5 @@
 /** Provider webhooks: refunds and failures made elsewhere reach our record. */
-import { formatMoney } from '../../pricing';
+import { siteMoney } from '../settings';
 import { recordAudit } from '../audit';
 import { transaction } from '../db';
 import { env } from '../env';
@@ -20,15 +20,15 @@ export async function handleWebhook(body: string, signature: string | null): Pro
     if (event.type === 'charge.refunded' && typeof obj.amount_refunded === 'number' && obj.amount_refunded > row.refunded_minor) {
       const full = obj.amount_refunded >= row.captured_minor;
       await updateCharge(trx, row.id, { refunded_minor: Math.min(obj.amount_refunded, row.captured_minor), state: full ? 'refunded' : row.state });
-      await recordAudit(trx, { actorId: null, kind: 'charge.refunded', subjectType: 'charge', subjectId: row.id, summary: `The provider reported a refund: ${formatMoney(obj.amount_refunded, row.currency)} in total` });
+      await recordAudit(trx, { actorId: null, kind: 'charge.refunded', subjectType: 'charge', subjectId: row.id, summary: `The provider reported a refund: ${await siteMoney(obj.amount_refunded, row.currency)} in total` });
       return { received: true as const, duplicate: false, handled: true };
     }
     if (event.type === 'charge.failed' && row.state !== 'payment failed' && row.state !== 'captured') {
       await updateCharge(trx, row.id, { state: 'payment failed', failure_code: obj.failure_code ?? 'failed', failure_message: obj.failure_message ?? 'The provider reported the charge failed.' });
       const p = await personFor(row.person_id, trx);
       await queueMail(trx, p.email, 'Payment failed', {
-        greeting: `Kia ora ${p.name},`,
-        paragraphs: [`A payment of ${formatMoney(row.amount_minor, row.currency)} failed. New bookings are paused until it is settled: save a working card on your Account screen.`],
+        greeting: `Hello ${p.name},`,
+        paragraphs: [`A payment of ${await siteMoney(row.amount_minor, row.currency)} failed. New bookings are paused until it is settled: save a working card on your Account screen.`],
         action: { label: 'Open your Account', url: `${env().PUBLIC_BASE_URL}/account` },
       });
       return { received: true as const, duplicate: false, handled: true };

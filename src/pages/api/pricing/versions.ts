@@ -2,7 +2,7 @@ import { z } from 'zod';
 import { HttpError, json, readJson, requireRole, route } from '../../../lib/server/http';
 import { createVersion, listVersions, type PriceVersion } from '../../../lib/server/prices';
 import { getSettings } from '../../../lib/server/settings';
-import { startOfZonedDay } from '../../../lib/time';
+import { startOfZonedDay, zonedDate } from '../../../lib/time';
 import { calendarDate, minor, tier, uuid } from '../../../lib/schemas';
 
 const body = z.object({
@@ -40,7 +40,7 @@ export const POST = route(async ({ locals, request }) => {
   const { timeZone } = await getSettings();
   const effectiveFrom = startOfZonedDay(input.effectiveDate, timeZone);
   if (Number.isNaN(effectiveFrom.getTime())) throw new HttpError(422, 'invalid', 'Not a date.', { effectiveDate: 'Not a calendar date.' });
-  const today = new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric', month: '2-digit', day: '2-digit' }).format(new Date());
+  const today = zonedDate(new Date(), timeZone);
   // "today" means: from now (a version cannot start in the past)
   const from = input.effectiveDate === today ? new Date() : effectiveFrom;
   const { effectiveDate: _d, ...rest } = input;
