@@ -2,7 +2,8 @@
  * Three projects: unit (pure modules, fast, parallel), integration (the running app and the real
  * PostgreSQL started by scripts/test.ts) and e2e (headless Chromium through playwright-core).
  * Files run one at a time: integration and e2e files share one database and one app (unit files are
- * quick, so serialising them costs little).
+ * quick, so serialising them costs little). Each file makes its own data, so any order works
+ * (`npm test -- --sequence.shuffle`).
  */
 import path from 'node:path';
 import { defineConfig } from 'vitest/config';
@@ -34,6 +35,8 @@ export default defineConfig({
           name: 'e2e',
           include: ['tests/e2e/**/*.spec.ts'],
           environment: 'node',
+          // one Chromium for the whole run; each file connects to it and closes its own contexts
+          globalSetup: ['tests/support/browser-server.ts'],
           testTimeout: 90_000,
           hookTimeout: 60_000,
         },

@@ -54,6 +54,8 @@ const env = appEnv(cfg, secrets, {
   TEST_SMTP_PORT: String(cfg.smtpPort),
   TEST_MAIL_WEB_PORT: String(cfg.mailWebPort),
   CHROMIUM_PATH: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
+  // the worker runs queued jobs but no clock-driven sweeps: tests run those themselves (tests/support/queue.ts)
+  WORKER_SCHEDULES: 'off',
 });
 
 runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the test database');

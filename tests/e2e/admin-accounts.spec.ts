@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb } from '../support/db';
-import { to, waitForMail } from '../support/maildev';
+import { to, waitForMail } from '../support/mail';
 
 const AXE = fs.readFileSync(path.resolve(import.meta.dirname, '..', '..', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
 

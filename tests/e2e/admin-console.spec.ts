@@ -6,7 +6,7 @@ import fs from 'node:fs';
 import Papa from 'papaparse';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, signInThroughForm, watchErrors, hydrated } from '../support/browser';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { confirmByDatabase } from '../support/people';
 import { clearSignInLimits, closeTestDb } from '../support/db';
@@ -186,7 +186,7 @@ describe('the admin console', () => {
 
     const theirs = await newContext(browser, PHONE);
     const p2 = await theirs.newPage();
-    await signIn(p2, person.email, person.password);
+    await signInThroughForm(p2, person.email, person.password);
     expect(new URL(p2.url()).pathname).toBe('/signin');
     await expect(p2.getByRole('alert').innerText()).resolves.toContain('do not match an active account');
     await theirs.close();

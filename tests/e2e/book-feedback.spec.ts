@@ -80,7 +80,7 @@ describe('the Book screen as a first-week member meets it', () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, who.email, who.password);
+    await signIn(page, who.email);
     await openBook(page);
     const form = page.getByRole('form', { name: 'Book by date and time' });
     // /book?machine=<id> chooses the machine in the form too
@@ -169,7 +169,7 @@ describe('the Book screen as a first-week member meets it', () => {
     const ctx = await newContext(browser, PHONE);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, who.email, who.password);
+    await signIn(page, who.email);
     await openBook(page);
     await expect.poll(() => page.getByRole('button', { name: 'Day', exact: true }).getAttribute('aria-pressed'), { timeout: 20_000 }).toBe('true');
     const day = dateOf(siteTime(DAY + 1, 12));

@@ -64,7 +64,7 @@ describe('booking on the calendar', () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, who.email, who.password);
+    await signIn(page, who.email);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
 
@@ -108,7 +108,7 @@ describe('booking on the calendar', () => {
     expect(res.status).toBe(201);
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
-    await signIn(page, who.email, who.password);
+    await signIn(page, who.email);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
     // the keyboard path: the form below the calendar

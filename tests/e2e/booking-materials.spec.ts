@@ -40,7 +40,7 @@ describe('materials in the booking form', () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, who.email, who.password);
+    await signIn(page, who.email);
     await page.goto(`/book?machine=${laserA.id}`);
     await hydrated(page);
     const form = page.getByRole('form', { name: 'Book by date and time' });

@@ -7,9 +7,9 @@ import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
 import { closeTestDb, testDb } from '../support/db';
-import { to, waitForMail } from '../support/maildev';
 import { confirmByDatabase } from '../support/people';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
+import { to, waitForMail } from '../support/mail';
 
 let browser: Browser;
 beforeAll(async () => {
@@ -90,7 +90,7 @@ describe('clearance journey', () => {
     await mpage.getByLabel('Password').fill(member.password);
     await Promise.all([mpage.waitForURL(/\/signup\?sent=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
     await confirmByDatabase(member.email);
-    await signIn(mpage, member.email, member.password);
+    await signIn(mpage, member.email);
     await mpage.goto('/clearances');
     const rfCard = mpage.locator('li[data-group="RF laser"]');
     await expect(rfCard.locator('[data-state]').getAttribute('data-state')).resolves.toBe('quiz due');

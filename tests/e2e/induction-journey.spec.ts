@@ -13,9 +13,9 @@ import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } 
 import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
-import { to, waitForMail } from '../support/maildev';
 import { wallClock } from '../../src/lib/availability';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
+import { to, waitForMail } from '../support/mail';
 
 const DAY = 32;
 let browser: Browser;
@@ -111,7 +111,7 @@ describe('from quiz to first cut', () => {
     await mpage.goto(link!);
     await Promise.all([mpage.waitForURL(/\/signin\?confirmed=1/), mpage.getByRole('button', { name: 'Confirm my address' }).click()]);
     expect(await testDb()('people').where({ email: member.email.toLowerCase() }).whereNotNull('email_confirmed_at').first('id')).toBeTruthy();
-    await signIn(mpage, member.email, member.password);
+    await signIn(mpage, member.email);
     await mpage.goto('/clearances');
     const card = mpage.locator('li[data-group="Glass-tube lasers"]');
     await expect(card.innerText()).resolves.toMatch(/3 of 3 attempts left today/);

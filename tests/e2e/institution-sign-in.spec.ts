@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, watchErrors } from '../support/browser';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { DEMO } from '../support/env';
-import { to, waitForMail } from '../support/maildev';
+import { to, waitForMail } from '../support/mail';
 
 let browser: Browser;
 beforeAll(async () => {

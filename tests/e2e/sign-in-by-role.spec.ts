@@ -1,7 +1,7 @@
 /** Journey: each demo person signs in through the real form and sees the screens of their roles. */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, signInThroughForm, watchErrors, hydrated } from '../support/browser';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 
 let browser: Browser;
@@ -27,7 +27,7 @@ describe('signing in as each role', () => {
       const ctx = await newContext(browser);
       const page = await ctx.newPage();
       const errors = watchErrors(page);
-      await signIn(page, c.who);
+      await signInThroughForm(page, c.who);
       expect(new URL(page.url()).pathname).toBe('/');
       const nav = page.getByRole('navigation', { name: 'Main' });
       for (const label of c.sees) await expect(nav.getByRole('link', { name: label, exact: true }).count()).resolves.toBe(1);
@@ -54,7 +54,7 @@ describe('signing in as each role', () => {
   it('a wrong password shows a clear message and stays on the sign-in page', async () => {
     const ctx = await newContext(browser);
     const page = await ctx.newPage();
-    await signIn(page, 'member', 'not the password');
+    await signInThroughForm(page, 'member', 'not the password');
     expect(new URL(page.url()).pathname).toBe('/signin');
     await expect(page.getByRole('alert').innerText()).resolves.toContain('do not match an active account');
     await ctx.close();
@@ -66,7 +66,7 @@ describe('signing in as each role', () => {
     await page.goto('/admin/people?q=ste');
     await hydrated(page);
     expect(new URL(page.url()).pathname).toBe('/signin');
-    await signIn(page, 'admin');
+    await signInThroughForm(page, 'admin');
     const url = new URL(page.url());
     expect(url.pathname + url.search).toBe('/admin/people?q=ste');
     await ctx.close();

@@ -8,15 +8,15 @@ import { unzipSync, strFromU8 } from 'fflate';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { DEMO, DEMO_PASSWORD } from '../support/env';
-import { to, waitForMail, type MailItem } from '../support/maildev';
 import { confirmByDatabase, signUpNew } from '../support/people';
+import { to, type Mail, waitForMail } from '../support/mail';
 
 afterEach(clearSignInLimits);
 afterAll(closeTestDb);
 
 const NEW_PASSWORD = 'a fresh passphrase for the laser room';
 
-function linkToken(mail: MailItem, path: string): string {
+function linkToken(mail: Mail, path: string): string {
   const m = new RegExp(`${path}\\?token=([A-Za-z0-9_-]+)`).exec(mail.text ?? '');
   if (!m?.[1]) throw new Error(`no ${path} link in the e-mail: ${mail.text}`);
   return m[1];

@@ -8,8 +8,9 @@ import ICAL from 'ical.js';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb } from '../support/db';
-import { attachment, iso, machines, setTestRules, siteTime, waitForMail, type Mail, type MachineRef } from '../support/booking';
+import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { clearedNew } from '../support/people';
+import { attachment, type Mail, waitForMail } from '../support/mail';
 
 const D = 30;
 let admin: Client;
@@ -44,7 +45,7 @@ async function bookAndConfirm(hour: number): Promise<{ id: string; confirmation:
   });
   const b = await body(res);
   expect(res.status, JSON.stringify(b)).toBe(201);
-  const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking confirmed: Laser C'), since);
+  const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking confirmed: Laser C'), { since });
   return { id: b.id as string, confirmation: await icsOf(mail, 'booking.ics') };
 }
 
@@ -63,7 +64,7 @@ describe('cancellations reach the person’s calendar', () => {
     const since = new Date();
     const c = await person.client.send('POST', `/api/bookings/${id}/cancel`);
     expect(c.status, JSON.stringify(await body(c))).toBe(200);
-    const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking cancelled: Laser C'), since);
+    const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking cancelled: Laser C'), { since });
     expect(mail.text).toMatch(/You cancelled it/);
     const cancel = await icsOf(mail, 'booking-cancelled.ics');
     expect(cancel.getFirstPropertyValue('method')).toBe('CANCEL');
@@ -86,7 +87,7 @@ describe('cancellations reach the person’s calendar', () => {
     const since = new Date();
     const res = await admin.send('POST', `/api/people/${person.id}/deactivate`);
     expect(res.status, JSON.stringify(await body(res))).toBe(200);
-    const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking cancelled: Laser C'), since);
+    const mail = await waitForMail((m) => toPerson(m) && m.subject.startsWith('Booking cancelled: Laser C'), { since });
     expect(mail.text).toMatch(/deactivated/);
     const cancel = await icsOf(mail, 'booking-cancelled.ics');
     expect(cancel.getFirstPropertyValue('method')).toBe('CANCEL');

@@ -9,7 +9,10 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
-import { attachment, iso, machines, setTestRules, siteTime, waitForMail, type MachineRef } from '../support/booking';
+import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { attachment, waitForMail } from '../support/mail';
+import { expectError } from '../support/api-error';
+import { waitUntil } from '../support/wait';
 
 let admin: Client;
 let member: Client;
@@ -34,14 +37,6 @@ afterAll(async () => {
 const book = (c: Client, machineId: string, startsAt: Date, endsAt: Date, extra: Record<string, unknown> = {}) =>
   c.send('POST', '/api/bookings', { machineId, startsAt: iso(startsAt), endsAt: iso(endsAt), materials: [], notes: '', ...extra });
 
-async function expectError(res: Response, status: number, code: string) {
-  const b = await body(res);
-  expect(res.status, JSON.stringify(b)).toBe(status);
-  expect(b.error.code).toBe(code);
-  expect(typeof b.error.message).toBe('string');
-  return b.error as { code: string; message: string; fields?: Record<string, string> };
-}
-
 describe('POST /api/bookings', () => {
   it('401 signed out', async () => {
     await expectError(await book(new Client(), lasers['laser-a'].id, siteTime(D, 10), siteTime(D, 11)), 401, 'sign_in_required');
@@ -65,7 +60,7 @@ describe('POST /api/bookings', () => {
     expect(row.state).toBe('reserved');
     expect(await testDb()('audit_log').where({ subject_id: b.id, kind: 'booking.created' }).first()).toBeTruthy();
 
-    const mail = await waitForMail((m) => m.subject.startsWith('Booking confirmed: Laser A') && m.to.some((t) => t.address === DEMO.member) && m.text.includes('Check in'), sent);
+    const mail = await waitForMail((m) => m.subject.startsWith('Booking confirmed: Laser A') && m.to.some((t) => t.address === DEMO.member) && m.text.includes('Check in'), { since: sent });
     const att = mail.attachments?.find((a) => a.filename === 'booking.ics');
     expect(att?.contentType).toBe('text/calendar');
     const ics = await attachment(mail.id, att!.generatedFileName ?? att!.filename);
@@ -236,11 +231,10 @@ describe('cancelling', () => {
     // billing: the late-cancellation fee is charged — captured from a saved card (the account journey may have saved
     // one), or a failed payment without one, which would pause member@'s bookings: settled by hand for this file
     // (the fee is taken after the cancel commits: wait while the provider call is in flight)
-    let fee = await testDb()('charges').where({ booking_id: soon.id, kind: 'late_cancellation' }).first();
-    for (let i = 0; i < 80 && (!fee || fee.state === 'pending'); i++) {
-      await new Promise((r) => setTimeout(r, 250));
-      fee = await testDb()('charges').where({ booking_id: soon.id, kind: 'late_cancellation' }).first();
-    }
+    const fee = await waitUntil('the late-cancellation fee settled', async () => {
+      const f = await testDb()('charges').where({ booking_id: soon.id, kind: 'late_cancellation' }).first();
+      return f && f.state !== 'pending' ? f : null;
+    }, 20_000);
     expect(['captured', 'payment failed']).toContain(fee?.state);
     expect(fee.amount_minor).toBeGreaterThan(0);
     expect(await testDb()('charges').where({ booking_id: b.id, kind: 'late_cancellation' }).first()).toBeUndefined();
@@ -303,7 +297,7 @@ describe('the waitlist', () => {
     expect(heldFor).toBeLessThanOrEqual(15);
     await expectError(await book(member, c, startsAt, endsAt), 409, 'slot_taken');
 
-    const mail = await waitForMail((m) => m.to.some((t) => t.address === DEMO.steward) && m.subject.includes('claim it within 15 minutes'), cancelledAt);
+    const mail = await waitForMail((m) => m.to.some((t) => t.address === DEMO.steward) && m.subject.includes('claim it within 15 minutes'), { since: cancelledAt });
     const token = /token=([A-Za-z0-9_-]+)/.exec(mail.text)?.[1];
     expect(token, mail.text).toMatch(/^[A-Za-z0-9_-]{32}$/);
     await expectError(await member.send('POST', '/api/waitlist/claim', { token }), 404, 'not_found');
@@ -334,17 +328,15 @@ describe('the no-show sweep', () => {
       .insert({ machine_id: lasers['laser-c'].id, person_id: memberRow.id, starts_at: fresh, ends_at: new Date(fresh.getTime() + 3600_000), occupied_until: new Date(fresh.getTime() + 4200_000) })
       .returning('id');
     try {
-      // (the worker's own sweep, every minute, may get there first: either way the state is what counts)
       await sweepBookings();
       expect((await testDb()('bookings').where({ id: late.id }).first()).state).toBe('no-show');
       expect((await testDb()('bookings').where({ id: recent.id }).first()).state).toBe('reserved');
       expect(await testDb()('audit_log').where({ subject_id: late.id, kind: 'booking.no_show' }).first()).toBeTruthy();
-      // billing: the no-show fee is charged after the sweep commits (by this call or the worker's own sweep)
-      let fee: { id: string; state: string } | undefined;
-      for (let i = 0; i < 80 && (!fee || fee.state === 'pending'); i++) {
-        fee = await testDb()('charges').where({ booking_id: late.id, kind: 'no_show' }).first('id', 'state');
-        if (!fee || fee.state === 'pending') await new Promise((r) => setTimeout(r, 250));
-      }
+      // billing: the no-show fee is charged after the sweep commits
+      const fee = await waitUntil('the no-show fee settled', async () => {
+        const f = (await testDb()('charges').where({ booking_id: late.id, kind: 'no_show' }).first('id', 'state')) as { id: string; state: string } | undefined;
+        return f && f.state !== 'pending' ? f : null;
+      }, 20_000);
       // captured from a saved card, or a failed payment without one (settled by hand so member@ can book again)
       expect(['captured', 'payment failed']).toContain(fee?.state);
       if (fee!.state === 'payment failed') await testDb()('charges').where({ id: fee!.id }).update({ state: 'waived' });

@@ -6,7 +6,6 @@
  * The database is migrated by the bundled migration runner (node dist-test/scripts/migrate.mjs).
  */
 import { spawnSync } from 'node:child_process';
-import net from 'node:net';
 import path from 'node:path';
 import { HeadObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import pg from 'pg';
@@ -15,6 +14,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ROOT, maildevArgs, portOpen, spawnService, startStorageFake, stopServices } from '../../scripts/lib/stack';
 import { Client } from '../support/client';
 import { closeTestDb } from '../support/db';
+import { waitUntil } from '../support/wait';
+import { freePort, startApp } from '../support/processes';
 
 const main = new URL(process.env.DATABASE_URL!);
 const dbName = `${main.pathname.slice(1)}_configured`;
@@ -24,17 +25,6 @@ const bucket = 'beamwarden-second';
 let ports: { app: number; smtp: number; mailWeb: number; s3: number };
 let appUrl: string;
 
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const srv = net.createServer();
-    srv.once('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address() as net.AddressInfo;
-      srv.close(() => resolve(port));
-    });
-  });
-}
-
 async function superuser(sql: string): Promise<void> {
   const c = new pg.Client({ connectionString: process.env.TEST_SUPERUSER_URL! });
   await c.connect();
@@ -42,19 +32,6 @@ async function superuser(sql: string): Promise<void> {
     await c.query(sql);
   } finally {
     await c.end();
-  }
-}
-
-async function waitUntil(what: string, ok: () => Promise<boolean>, timeoutMs = 30_000): Promise<void> {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    try {
-      if (await ok()) return;
-    } catch {
-      /* not yet */
-    }
-    if (Date.now() > until) throw new Error(`${what} did not happen within ${timeoutMs / 1000} s`);
-    await new Promise((r) => setTimeout(r, 300));
   }
 }
 
@@ -94,13 +71,8 @@ beforeAll(async () => {
     S3_ENDPOINT: `http://127.0.0.1:${ports.s3}`,
     S3_BUCKET: bucket,
   };
-  const app = spawnService({ dataDir }, 'app', [path.join(ROOT, 'dist-test/scripts/serve.mjs')], appEnv);
   spawnService({ dataDir }, 'worker', [path.join(ROOT, 'dist-test/scripts/worker.mjs')], appEnv);
-  appUrl = `http://127.0.0.1:${ports.app}`;
-  await waitUntil('the second app', async () => {
-    if (app.child.exitCode !== null || mail.child.exitCode !== null || storage.child.exitCode !== null) throw new Error('a second service exited early');
-    return portOpen(ports.app);
-  }, 60_000);
+  appUrl = (await startApp('app', { dataDir, port: ports.app, env: appEnv, alsoWatch: [mail, storage], timeoutMs: 60_000 })).url;
 }, 360_000);
 
 afterAll(async () => {

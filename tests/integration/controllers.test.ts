@@ -22,7 +22,7 @@ import { DENY_REASONS } from '../../src/lib/controller-rules';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { APP_URL } from '../support/env';
-import { waitForMail } from '../support/booking';
+import { waitForMail } from '../support/mail';
 
 const MIN = 60_000;
 const ALL_DAY = [1, 2, 3, 4, 5, 6, 7].map((weekday) => ({ weekday, opensMinute: 0, closesMinute: 1440 }));
@@ -355,7 +355,7 @@ describe('commands to the box', () => {
     expect((await sweepControllers(new Date())).alerted).toBeGreaterThanOrEqual(1);
     const row = await testDb()('controllers').where({ id: controllerId }).first('offline_alerted_at');
     expect(row.offline_alerted_at).not.toBeNull();
-    const mail = await waitForMail((m) => m.subject === `Controller offline: ${machine.name}` && m.to.some((t) => t.address === 'steward@tidewater.example'), since);
+    const mail = await waitForMail((m) => m.subject === `Controller offline: ${machine.name}` && m.to.some((t) => t.address === 'steward@tidewater.example'), { since });
     expect(mail.text).toContain('Gate box 1');
     // once: a second sweep does not alert this controller again
     await sweepControllers(new Date());

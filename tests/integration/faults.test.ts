@@ -12,8 +12,11 @@ import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
 import ICAL from 'ical.js';
-import { attachment, iso, machines, setTestRules, siteTime, type Mail, type MachineRef } from '../support/booking';
-import { inbox, to, waitForMail } from '../support/maildev';
+import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { attachment, inbox, to, type Mail, waitForMail } from '../support/mail';
+import { expectError } from '../support/api-error';
+import { makeDue } from '../support/queue';
+import { waitUntil } from '../support/wait';
 
 let admin: Client;
 let member: Client;
@@ -58,13 +61,6 @@ function report(c: Client, code: string, fields: Record<string, string>, files: 
   for (const [k, v] of Object.entries(fields)) form.set(k, v);
   for (const f of files) form.append('photos', new Blob([new Uint8Array(f.bytes)], { type: f.type }), f.name);
   return c.fetch(`/api/machines/${code}/faults`, { method: 'POST', body: form });
-}
-
-async function expectError(res: Response, status: number, code: string) {
-  const b = await body(res);
-  expect(res.status, JSON.stringify(b)).toBe(status);
-  expect(b.error.code).toBe(code);
-  return b.error as { message: string; fields?: Record<string, string> };
 }
 
 describe('a stop fault', () => {
@@ -116,16 +112,16 @@ describe('a stop fault', () => {
     // with a calendar cancellation: METHOD:CANCEL for this booking's UID (the member may have other bump e-mails from
     // other files: the one for this booking is found by its UID), and the bumped booking's sequence raised
     const ics = (m: Mail) => m.attachments?.find((x) => x.filename === 'booking-cancelled.ics');
-    let cal: ICAL.Component | undefined;
-    for (const until = Date.now() + 60_000; !cal && Date.now() < until; await new Promise((r) => setTimeout(r, 500))) {
-      const mails = ((await inbox()) as unknown as Mail[]).filter((m) => to(DEMO.member)(m as never) && m.subject.startsWith('Your booking on Laser B is cancelled') && ics(m));
+    const cal = await waitUntil('the bump e-mail with a cancellation .ics for the booking', async () => {
+      await makeDue('mail.send');
+      const mails = (await inbox()).filter((m) => to(DEMO.member)(m) && m.subject.startsWith('Your booking on Laser B is cancelled') && ics(m));
       for (const m of mails) {
         const c = new ICAL.Component(ICAL.parse(await attachment(m.id, ics(m)!.generatedFileName ?? ics(m)!.filename)));
-        if (new ICAL.Event(c.getFirstSubcomponent('vevent')!).uid === `${mine.id}@beamwarden`) cal = c;
+        if (new ICAL.Event(c.getFirstSubcomponent('vevent')!).uid === `${mine.id}@beamwarden`) return c;
       }
-    }
-    expect(cal, 'the bump e-mail carries a cancellation .ics for the booking').toBeTruthy();
-    expect(cal!.getFirstPropertyValue('method')).toBe('CANCEL');
+      return undefined;
+    }, 60_000);
+    expect(cal.getFirstPropertyValue('method')).toBe('CANCEL');
     expect((await testDb()('bookings').where({ id: mine.id }).first()).calendar_sequence).toBe(1);
     await waitForMail((m) => to(DEMO.steward)(m) && m.subject.startsWith('STOP: Laser B'));
 

@@ -11,13 +11,13 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { signUpNew } from '../support/people';
-import { attachment, iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
-import { to, waitForMail } from '../support/maildev';
+import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { startAttempt } from '../../src/lib/server/quizzes';
 import { remindSeats } from '../../src/lib/server/induction-sessions/reminders';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
+import { attachment, to, waitForMail } from '../support/mail';
 
 const DAY = 30;
 let instructor: Client;

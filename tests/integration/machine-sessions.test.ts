@@ -17,6 +17,8 @@ import { recordQuizPass, signOff } from '../../src/lib/server/clearances/transit
 import { sweepOpenSessions } from '../../src/lib/server/machine-sessions';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
+import { expectError } from '../support/api-error';
+import { waitUntil } from '../support/wait';
 
 const MIN = 60_000;
 const ALL_TICKED = { extractionOn: true, airAssistOn: true, coolantFlowing: true, lensClean: true, extinguisherInPlace: true, willStay: true };
@@ -58,12 +60,6 @@ async function booking(personId: string, code: string, startOffsetMin: number, l
   const [b] = await testDb()('bookings')
     .insert({ machine_id: lasers[code], person_id: personId, starts_at: startsAt, ends_at: endsAt, occupied_until: endsAt, state })
     .returning(['id', 'starts_at', 'ends_at']);
-  return b;
-}
-
-async function expectError(res: Response, status: number, code: string): Promise<{ error: { code: string; message: string; fields?: Record<string, string> } }> {
-  const b = await body(res);
-  expect({ status: res.status, code: b.error?.code }).toEqual({ status, code });
   return b;
 }
 
@@ -165,7 +161,7 @@ describe('check-in', () => {
     await expectError(await member.send('POST', `/api/bookings/${other.id}/check-in`, { checklist: ALL_TICKED, coolantC: 18 }), 403, 'not_your_booking');
     const later = await booking(memberId, 'laser-a', 90, 60);
     const early = await expectError(await member.send('POST', `/api/bookings/${later.id}/check-in`, { checklist: ALL_TICKED, coolantC: 18 }), 409, 'too_early');
-    expect(early.error.message).toMatch(/10 minutes before/);
+    expect(early.message).toMatch(/10 minutes before/);
     const ended = await booking(memberId, 'laser-c', -12, 10);
     await expectError(await member.send('POST', `/api/bookings/${ended.id}/check-in`, { checklist: ALL_TICKED, coolantC: 18 }), 409, 'booking_ended');
     await expectError(await member.send('POST', `/api/bookings/${randomUUID()}/check-in`, { checklist: ALL_TICKED, coolantC: 18 }), 404, 'not_found');
@@ -176,11 +172,11 @@ describe('check-in', () => {
     const b = await booking(memberId, 'laser-a', 8, 60); // 8 minutes ahead: inside the 10-minute check-in window
     const path = `/api/bookings/${b.id}/check-in`;
     const incomplete = await expectError(await member.send('POST', path, { checklist: { ...ALL_TICKED, lensClean: false }, coolantC: 18 }), 422, 'checklist_incomplete');
-    expect(incomplete.error.fields).toHaveProperty(['checklist.lensClean']);
+    expect(incomplete.fields).toHaveProperty(['checklist.lensClean']);
     await expectError(await member.send('POST', path, { checklist: { extractionOn: true }, coolantC: 18 }), 422, 'checklist_incomplete');
     await expectError(await member.send('POST', path, { checklist: ALL_TICKED }), 422, 'checklist_incomplete');
     const hot = await expectError(await member.send('POST', path, { checklist: ALL_TICKED, coolantC: 27 }), 422, 'coolant_out_of_range');
-    expect(hot.error.message).toMatch(/27 °C is above 25 °C/);
+    expect(hot.message).toMatch(/27 °C is above 25 °C/);
     await expectError(await member.send('POST', path, { checklist: ALL_TICKED, coolantC: 12.5 }), 422, 'coolant_out_of_range');
     expect((await testDb()('machine_sessions').where({ booking_id: b.id })).length).toBe(0);
 
@@ -264,18 +260,14 @@ describe('check-out and the charge', () => {
       .insert({ booking_id: fresh.id, machine_id: lasers['laser-a'], person_id: memberId, checked_in_at: new Date(Date.now() - 4 * MIN), checklist: JSON.stringify(ALL_TICKED) })
       .returning('id');
 
-    await sweepOpenSessions(new Date()); // the worker's schedule may also get there first: the result is the same
+    await sweepOpenSessions(new Date());
     const row = await testDb()('machine_sessions').where({ id: s.id }).first();
     expect(row).toMatchObject({ closed_by_system: true, needs_steward: true, beam_minutes: 57 });
     expect(row.checked_out_at.getTime()).toBe(b.ends_at.getTime());
     expect((await testDb()('bookings').where({ id: b.id }).first()).state).toBe('completed');
     expect(await testDb()('audit_log').where({ subject_id: s.id, kind: 'session.auto_closed' }).first()).toBeTruthy();
     expect((await testDb()('machine_sessions').where({ id: open.id }).first()).checked_out_at).toBeNull();
-    let charge;
-    for (let i = 0; i < 50 && !charge; i++) {
-      charge = await testDb()('charges').where({ session_id: s.id }).first();
-      if (!charge) await new Promise((r) => setTimeout(r, 200));
-    }
+    const charge = await waitUntil('the beam-time charge', () => testDb()('charges').where({ session_id: s.id }).first(), 10_000);
     expect(charge).toMatchObject({ minutes: 57, kind: 'beam_time' });
 
     // the steward sees it on Upkeep and marks it reviewed

@@ -9,7 +9,9 @@ import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
 import ICAL from 'ical.js';
-import { attachment, iso, setTestRules, siteTime, TEST_RULES, waitForMail } from '../support/booking';
+import { iso, setTestRules, siteTime, TEST_RULES } from '../support/booking';
+import { attachment, waitForMail } from '../support/mail';
+import { expectError } from '../support/api-error';
 
 let admin: Client;
 let member: Client;
@@ -24,13 +26,6 @@ function machineBody(code: string, over: Record<string, unknown> = {}) {
     bedWidthMm: 600, bedDepthMm: 400, beamDiameterMm: 6, divergenceMrad: 3, lensFocalMm: 50.8, coolantType: 'water', coolantMinC: null, coolantMaxC: null,
     ...over,
   };
-}
-
-async function expectError(res: Response, status: number, code: string) {
-  const b = await body<{ error: { code: string; message: string; fields?: Record<string, string> } }>(res);
-  expect(res.status, JSON.stringify(b)).toBe(status);
-  expect(b.error.code).toBe(code);
-  return b.error;
 }
 
 async function create(code: string, over: Record<string, unknown> = {}) {
@@ -139,7 +134,7 @@ describe('retiring a machine', () => {
 
     expect((await testDb()('bookings').where({ id: booking.id }).first()).state).toBe('cancelled');
     expect(await testDb()('audit_log').where({ kind: 'machine.retired', subject_id: m.id }).first()).toBeTruthy();
-    const mail = await waitForMail((x) => x.subject === `Your booking on ${m.name} is cancelled: the machine is retired` && x.to.some((t) => t.address === person.email), sent);
+    const mail = await waitForMail((x) => x.subject === `Your booking on ${m.name} is cancelled: the machine is retired` && x.to.some((t) => t.address === person.email), { since: sent });
     expect(mail.text).toContain('Tube at end of life');
     // the person's calendar is told too: the confirmation's UID, METHOD:CANCEL, the sequence raised from 0
     const att = mail.attachments?.find((x) => x.filename === 'booking-cancelled.ics');

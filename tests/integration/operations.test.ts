@@ -7,39 +7,17 @@ import fs from 'node:fs';
 import net from 'node:net';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { ROOT, portOpen, spawnService, startPostgresAgain, stopPostgresFast, stopServices } from '../../scripts/lib/stack';
+import { portOpen, startPostgresAgain, stopPostgresFast, stopServices } from '../../scripts/lib/stack';
 import { Client } from '../support/client';
 import { closeTestDb } from '../support/db';
 import { APP_URL } from '../support/env';
+import { waitUntil } from '../support/wait';
+import { startApp } from '../support/processes';
 
 afterAll(async () => {
   await stopServices();
   await closeTestDb();
 });
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const srv = net.createServer();
-    srv.once('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address() as net.AddressInfo;
-      srv.close(() => resolve(port));
-    });
-  });
-}
-
-async function waitUntil(what: string, ok: () => Promise<boolean>, timeoutMs = 30_000): Promise<void> {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    try {
-      if (await ok()) return;
-    } catch {
-      /* not yet */
-    }
-    if (Date.now() > until) throw new Error(`${what} did not happen within ${timeoutMs / 1000} s`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
-}
 
 type Ready = { status: string; checks: Record<string, { state: string; pending?: number; applied?: number }> };
 const readyz = async () => {
@@ -156,14 +134,8 @@ describe('request ids and the JSON request log', () => {
 
 describe('graceful stop', () => {
   it('SIGTERM during a slow request: no new connections, the request finishes, the process exits 0', async () => {
-    const port = await freePort();
     const dataDir = process.env.TEST_DATA_DIR!;
-    const app = spawnService({ dataDir }, 'app-graceful', [path.join(ROOT, 'dist-test/scripts/serve.mjs')], {
-      NODE_ENV: 'production',
-      PORT: String(port),
-      SHUTDOWN_TIMEOUT_MS: '15000',
-    });
-    await waitUntil('the second app listening', () => portOpen(port), 30_000);
+    const { service: app, port } = await startApp('app-graceful', { env: { SHUTDOWN_TIMEOUT_MS: '15000' } });
     const exited = new Promise<number | null>((resolve) => app.child.once('exit', (code) => resolve(code)));
     expect((await fetch(`http://127.0.0.1:${port}/readyz`)).status).toBe(200); // opens its database pool
 

@@ -22,6 +22,9 @@ import { providerChargesOf } from '../../src/lib/server/payments/provider-activi
 import { saveCard } from '../../src/lib/server/payments/cards';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
+import { waitUntil } from '../support/wait';
+import { to, waitForMail } from '../support/mail';
+import { makeDue } from '../support/queue';
 
 let laserA: string;
 let laserC: string;
@@ -31,22 +34,6 @@ async function newMember(label: string): Promise<{ id: string; email: string }> 
   const email = `pay-${label}-${randomUUID().slice(0, 8)}@test.example`;
   const p = await createPerson({ email, name: `Test ${label}`, password: 'a long test password', roles: ['member'] });
   return { id: p.id, email };
-}
-
-async function mailsTo(email: string): Promise<{ subject: string; text: string }[]> {
-  const res = await fetch(`${process.env.MAILDEV_URL}/api/email`);
-  const all = (await res.json()) as { subject: string; text: string; to: { address: string }[] }[];
-  return all.filter((m) => m.to.some((t) => t.address === email));
-}
-
-async function waitFor<T>(what: string, fn: () => Promise<T | null | undefined | false>, timeoutMs = 30_000): Promise<T> {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    const v = await fn();
-    if (v) return v;
-    if (Date.now() > until) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 300));
-  }
 }
 
 beforeAll(async () => {
@@ -87,7 +74,7 @@ describe('cards, holds and captures', () => {
     const provider = await providerChargesOf(m.id);
     expect(provider).toHaveLength(1);
     expect(provider[0]).toMatchObject({ captured: true });
-    await waitFor('the receipt e-mail', async () => (await mailsTo(m.email)).find((x) => x.subject.startsWith('Receipt')));
+    await waitForMail((x) => to(m.email)(x) && x.subject.startsWith('Receipt'));
   });
 
   it('releases the hold and charges anew when the session cost more than the hold', async () => {
@@ -111,7 +98,7 @@ describe('cards, holds and captures', () => {
     await holdForBooking({ personId: m.id, machineId: laserA, bookingId, startsAt: new Date(), minutes: 30 });
     const [released] = await releaseHoldsForBooking(bookingId, 'the machine went out of service');
     expect(released).toMatchObject({ state: 'released', heldMinor: 0, capturedMinor: 0 });
-    await waitFor('the release e-mail', async () => (await mailsTo(m.email)).find((x) => x.subject.includes('released')));
+    await waitForMail((x) => to(m.email)(x) && x.subject.includes('released'));
   });
 });
 
@@ -124,7 +111,7 @@ describe('declines', () => {
     const err = await assertCanBook(m.id).catch((e) => e);
     expect(err).toBeInstanceOf(HttpError);
     expect(err).toMatchObject({ status: 402, code: 'payment_required' });
-    await waitFor('the payment-failed e-mail', async () => (await mailsTo(m.email)).find((x) => x.subject === 'Payment failed'));
+    await waitForMail((x) => to(m.email)(x) && x.subject === 'Payment failed');
     const { settled } = await saveCard(m.id, 'tok_visa');
     expect(settled).toBe(1);
     expect((await getCharge(c.id))?.state).toBe('captured');
@@ -326,7 +313,7 @@ describe('the provider unreachable, then back', () => {
     const stripePort = Number(process.env.TEST_STRIPE_PORT);
     const pid = Number(fs.readFileSync(path.join(dataDir, 'run', 'payments.pid'), 'utf8').trim());
     process.kill(pid, 'SIGTERM');
-    await waitFor('the payment fake to stop', async () => !(await portOpen(stripePort)), 10_000);
+    await waitUntil('the payment fake to stop', async () => !(await portOpen(stripePort)), 10_000);
 
     const c = await chargeBeamTime({ personId: m.id, machineId: laserA, sessionId: randomUUID(), startedAt: new Date(), minutes: 20 });
     expect(c.state).toBe('queued');
@@ -336,7 +323,8 @@ describe('the provider unreachable, then back', () => {
     await waitForPort(stripePort, 'the payment fake', fake.child);
     // the in-memory fake forgot the customer; saving the card again recreates it (a real provider would not forget)
     await saveCard(m.id, 'tok_visa');
-    const done = await waitFor('the queued charge to be captured', async () => {
+    const done = await waitUntil('the queued charge to be captured', async () => {
+      await makeDue('payments.retry'); // the worker's next try now, not after the retry delay
       const now = await getCharge(c.id);
       return now?.state === 'captured' ? now : null;
     }, 90_000);

@@ -1,45 +1,21 @@
 /**
  * Two app processes on one PostgreSQL, as a site behind a proxy runs them: a second app is started here on
- * another port (spawnService from scripts/lib/stack.ts, the same built entry and environment as the first).
+ * another port (startApp from tests/support/processes.ts: the same built entry and environment as the first).
  * Sessions, the sign-in throttle and the no-double-booking rule hold across both, since none of them lives
  * in process memory.
  */
-import net from 'node:net';
-import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ROOT, portOpen, spawnService, stopServices, type Service } from '../../scripts/lib/stack';
+import { stopServices } from '../../scripts/lib/stack';
 import { iso, machines, setTestRules, siteTime } from '../support/booking';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { APP_URL, DEMO, DEMO_PASSWORD } from '../support/env';
+import { startApp } from '../support/processes';
 
-let second: Service;
 let secondUrl: string;
 
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const srv = net.createServer();
-    srv.once('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address() as net.AddressInfo;
-      srv.close(() => resolve(port));
-    });
-  });
-}
-
 beforeAll(async () => {
-  const port = await freePort();
-  second = spawnService({ dataDir: process.env.TEST_DATA_DIR! }, 'app-2', [path.join(ROOT, 'dist-test/server/entry.mjs')], {
-    NODE_ENV: 'production',
-    PORT: String(port),
-  });
-  secondUrl = `http://127.0.0.1:${port}`;
-  const until = Date.now() + 30_000;
-  while (!(await portOpen(port))) {
-    if (second.child.exitCode !== null) throw new Error(`the second app exited (${second.child.exitCode}); see .data/test/logs/app-2.log`);
-    if (Date.now() > until) throw new Error('the second app did not listen within 30 s');
-    await new Promise((r) => setTimeout(r, 150));
-  }
+  secondUrl = (await startApp('app-2', { entry: 'server' })).url;
 }, 60_000);
 
 afterAll(async () => {
@@ -50,7 +26,8 @@ afterAll(async () => {
 
 describe('two app processes on one database', () => {
   it('a session made by one process is honoured by the other', async () => {
-    const one = await Client.as('member');
+    const one = new Client(); // signed in through the first process's form
+    expect((await one.signInAs(DEMO.member, DEMO_PASSWORD)).location).not.toContain('error');
     const two = new Client(secondUrl);
     const res = await two.fetch('/api/me', { headers: { cookie: one.cookieHeader() } });
     expect(res.status).toBe(200);

@@ -11,7 +11,7 @@ import { remindUpkeep } from '../../src/lib/server/upkeep';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
-import { waitForMail } from '../support/booking';
+import { waitForMail } from '../support/mail';
 
 const DAY = 86_400_000;
 let admin: Client;
@@ -58,7 +58,7 @@ describe('upkeep reminders', () => {
     const soon = await sweep(24); // due on day 30: within the 7-day "due soon" window
     expect(soon.reminders.map((r) => [r.kind, r.state])).toEqual([['lens_clean', 'due soon']]);
     expect(soon.stewards).toBeGreaterThan(0);
-    const mail = await waitForMail((m) => m.subject === 'Upkeep: 1 item due soon' && m.to.some((t) => t.address === DEMO.steward) && m.text.includes(machine.name), sent);
+    const mail = await waitForMail((m) => m.subject === 'Upkeep: 1 item due soon' && m.to.some((t) => t.address === DEMO.steward) && m.text.includes(machine.name), { since: sent });
     expect(mail.text).toMatch(/lens clean — due by/i);
     expect(mail.text).toContain('/upkeep');
 

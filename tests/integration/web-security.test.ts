@@ -8,7 +8,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 import { APP_URL, DEMO, DEMO_PASSWORD } from '../support/env';
-import { to, waitForMail } from '../support/maildev';
+import { to, waitForMail } from '../support/mail';
 
 afterAll(async () => {
   await clearSignInLimits();

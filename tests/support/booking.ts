@@ -48,36 +48,3 @@ export function siteTime(dayOffset: number, hour: number, minute = 0): Date {
 export function iso(d: Date): string {
   return d.toISOString();
 }
-
-/** Messages in the mail fake's inbox (maildev REST API). */
-export interface Mail {
-  id: string;
-  time: string;
-  subject: string;
-  to: { address: string }[];
-  text: string;
-  attachments?: { filename: string; contentType: string; generatedFileName?: string }[];
-}
-
-export async function inbox(): Promise<Mail[]> {
-  const res = await fetch(`http://127.0.0.1:${process.env.TEST_MAIL_WEB_PORT}/api/email`);
-  return (await res.json()) as never;
-}
-
-/** The newest message matching `match` that arrived after `since` (the fake's inbox keeps older runs' mail). */
-export async function waitForMail(match: (m: Mail) => boolean, since: Date, timeoutMs = 60_000): Promise<Mail> {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    const found = (await inbox())
-      .filter((m) => new Date(m.time).getTime() >= since.getTime() - 1000 && match(m))
-      .sort((a, b) => new Date(a.time).getTime() - new Date(b.time).getTime());
-    if (found.length) return found[found.length - 1]!;
-    if (Date.now() > until) throw new Error('no matching e-mail arrived');
-    await new Promise((r) => setTimeout(r, 300));
-  }
-}
-
-export async function attachment(mailId: string, fileName: string): Promise<string> {
-  const res = await fetch(`http://127.0.0.1:${process.env.TEST_MAIL_WEB_PORT}/api/email/${mailId}/attachment/${encodeURIComponent(fileName)}`);
-  return res.text();
-}

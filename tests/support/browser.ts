@@ -1,22 +1,18 @@
 /** Headless Chromium from Debian's package, driven by playwright-core (no browser download). */
 import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
+import { inject } from 'vitest';
+import { CHROMIUM_ARGS } from './browser-args';
 import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
+import { SESSION_COOKIE, sessionCookieFor } from './session';
 
+/**
+ * The browser of a spec file: a connection to the run's one Chromium (support/browser-server.ts), or a browser of
+ * its own when the file runs outside the e2e project's set-up. Closing it closes the file's contexts.
+ */
 export async function launch(): Promise<Browser> {
-  return chromium.launch({
-    executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
-    headless: true,
-    args: [
-      '--no-sandbox',
-      '--disable-gpu',
-      '--disable-quic',
-      '--no-first-run',
-      '--disable-background-networking',
-      '--disable-component-update',
-      '--disable-sync',
-      '--disable-dev-shm-usage',
-    ],
-  });
+  const shared = inject('chromiumWsEndpoint');
+  if (shared) return chromium.connect(shared);
+  return chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium', headless: true, args: CHROMIUM_ARGS });
 }
 
 export const PHONE = { width: 390, height: 844 };
@@ -26,8 +22,21 @@ export async function newContext(browser: Browser, viewport = DESK): Promise<Bro
   return browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-NZ' });
 }
 
-/** Signs in through the real form, as a person would. */
-export async function signIn(page: Page, who: DemoPerson | string, password = DEMO_PASSWORD): Promise<void> {
+/**
+ * Signs in without the form (the session cookie written by support/session.ts: no argon2, no form round trips),
+ * then opens where the form would have led: the `callbackUrl` of the sign-in page the browser is on, or the floor.
+ * The sign-in form itself is tested through signInThroughForm (tests/e2e/sign-in-by-role.spec.ts).
+ */
+export async function signIn(page: Page, who: DemoPerson | string): Promise<void> {
+  const email = who in DEMO ? DEMO[who as DemoPerson] : who;
+  await page.context().addCookies([{ name: SESSION_COOKIE, value: await sessionCookieFor(email), url: APP_URL(), httpOnly: true, sameSite: 'Lax' }]);
+  // the sign-in page sends a signed-in person on to its callbackUrl
+  const here = page.url();
+  await page.goto(here.includes('/signin') ? here : '/signin');
+}
+
+/** Signs in through the real form, as a person would (for the tests of the form, a wrong password, a refusal). */
+export async function signInThroughForm(page: Page, who: DemoPerson | string, password = DEMO_PASSWORD): Promise<void> {
   const email = who in DEMO ? DEMO[who as DemoPerson] : who;
   if (!page.url().includes('/signin')) await page.goto('/signin');
   await page.getByLabel('E-mail').fill(email);

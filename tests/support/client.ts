@@ -1,9 +1,11 @@
 /**
  * A small HTTP client for integration tests: keeps cookies like a browser, signs in through the real
- * Auth.js credentials endpoint (CSRF token + form post), and sends JSON with a same-site Origin.
+ * Auth.js credentials endpoint (CSRF token + form post) or with a session cookie written for the person
+ * (Client.as, useSessionOf), and sends JSON with a same-site Origin.
  */
 import http from 'node:http';
-import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
+import { APP_URL, DEMO, type DemoPerson } from './env';
+import { SESSION_COOKIE, sessionCookieFor } from './session';
 
 /** A request sent from a chosen loopback source address (127.x.y.z), so the app sees another client address. */
 async function fetchFrom(localAddress: string, url: URL, init: { method: string; headers: Headers; body?: BodyInit | null }): Promise<Response> {
@@ -111,11 +113,18 @@ export class Client {
     return { status: res.status, location: res.headers.get('location') ?? '' };
   }
 
+  /**
+   * Signs in without the form: holds the session cookie Auth.js would have set for this person (support/session.ts).
+   * The form itself (argon2, the throttle, the CSRF token) is tested through signInAs.
+   */
+  async useSessionOf(email: string): Promise<this> {
+    this.jar.set(SESSION_COOKIE, await sessionCookieFor(email));
+    return this;
+  }
+
+  /** A client signed in as a demo person (through the session cookie, see useSessionOf). */
   static async as(who: DemoPerson, base?: string): Promise<Client> {
-    const c = new Client(base);
-    const r = await c.signInAs(DEMO[who], DEMO_PASSWORD);
-    if (r.location.includes('error')) throw new Error(`sign-in as ${who} failed: ${r.location}`);
-    return c;
+    return new Client(base).useSessionOf(DEMO[who]);
   }
 }
 

@@ -1,6 +1,6 @@
 /**
- * The local mail fake as the tests see it: read the inbox through maildev's REST API, and stop and
- * restart maildev (same command line as scripts/lib/stack.ts startFakes, shared through maildevArgs).
+ * Stopping and restarting the local mail fake (same command line as scripts/lib/stack.ts startFakes, shared through
+ * maildevArgs). Its inbox is read through support/mail.ts.
  */
 import { spawn } from 'node:child_process';
 import fs from 'node:fs';
@@ -12,38 +12,6 @@ function need(name: string): string {
   if (!v) throw new Error(`${name} is not set: run the tests through \`npm test\`.`);
   return v;
 }
-
-export interface MailItem {
-  id: string;
-  subject: string;
-  text?: string;
-  html?: string;
-  to: { address: string; name?: string }[];
-  date?: string;
-}
-
-export async function inbox(): Promise<MailItem[]> {
-  const res = await fetch(new URL('/api/email', need('MAILDEV_URL')));
-  if (!res.ok) throw new Error(`maildev answered ${res.status}`);
-  return (await res.json()) as MailItem[];
-}
-
-/** Waits until a message matching `match` is in the inbox (polls the REST API). */
-export async function waitForMail(match: (m: MailItem) => boolean, timeoutMs = 60_000): Promise<MailItem> {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    try {
-      const found = (await inbox()).find(match);
-      if (found) return found;
-    } catch {
-      /* maildev may be restarting */
-    }
-    if (Date.now() > until) throw new Error('the expected e-mail did not arrive in maildev in time');
-    await new Promise((r) => setTimeout(r, 500));
-  }
-}
-
-export const to = (address: string) => (m: MailItem) => m.to.some((t) => t.address.toLowerCase() === address.toLowerCase());
 
 const pidFile = () => path.join(need('TEST_DATA_DIR'), 'run', 'maildev.pid');
 const ports = () => ({ smtpPort: Number(need('TEST_SMTP_PORT')), mailWebPort: Number(need('TEST_MAIL_WEB_PORT')) });

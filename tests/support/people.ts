@@ -1,7 +1,8 @@
 /**
  * New people for a test, created the way a person would: through the sign-up form, each from its own loopback
  * address (sign-ups are limited per client address). The confirmation link's effect is written straight into
- * the database (the link itself is tested in tests/integration/accounts.test.ts).
+ * the database (the link itself is tested in tests/integration/accounts.test.ts), and the person's session is
+ * written as a cookie (support/session.ts) rather than signed in through the form.
  */
 import { Client, freshLoopbackAddress } from './client';
 import { testDb } from './db';
@@ -22,9 +23,8 @@ export async function signUpNew(label: string): Promise<{ client: Client; email:
   });
   if (res.status !== 303) throw new Error(`sign-up for ${email} answered ${res.status}`);
   await confirmByDatabase(email);
-  // sign-up answers the same for new and taken addresses and starts no session: sign in as the person would
-  const signedIn = await client.signInAs(email, password);
-  if (signedIn.location.includes('error')) throw new Error(`sign-in after sign-up for ${email} failed: ${signedIn.location}`);
+  // sign-up answers the same for new and taken addresses and starts no session: the session a sign-in would give
+  await client.useSessionOf(email);
   return { client, email, name, password };
 }
 

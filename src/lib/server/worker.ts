@@ -108,6 +108,7 @@ export async function startWorker(): Promise<PgBoss> {
       });
     }
   }
-  await schedules(boss);
+  // WORKER_SCHEDULES=off (npm test): queued jobs only, no cron entries or start-up sweeps; tests run sweeps themselves
+  if (process.env.WORKER_SCHEDULES !== 'off') await schedules(boss);
   return boss;
 }

@@ -8,10 +8,12 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { portOpen, restartPostgres, startStorageFake } from '../../scripts/lib/stack';
-import { iso, machines, setTestRules, siteTime, waitForMail, type MachineRef } from '../support/booking';
+import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
+import { waitForMail } from '../support/mail';
+import { waitTimed, waitUntil } from '../support/wait';
 
 let admin: Client;
 let member: Client;
@@ -32,19 +34,6 @@ afterAll(async () => {
   await setTestRules(admin, laser.id);
   await closeTestDb();
 });
-
-async function waitUntil(what: string, ok: () => Promise<boolean>, timeoutMs = 30_000): Promise<number> {
-  const start = Date.now();
-  for (;;) {
-    try {
-      if (await ok()) return Date.now() - start;
-    } catch {
-      /* not yet */
-    }
-    if (Date.now() - start > timeoutMs) throw new Error(`${what} did not happen within ${timeoutMs / 1000} s`);
-    await new Promise((r) => setTimeout(r, 200));
-  }
-}
 
 describe('PostgreSQL restarted while requests flow', () => {
   it('the app answers again without a restart, and every booking is whole or absent', async () => {
@@ -71,7 +60,7 @@ describe('PostgreSQL restarted while requests flow', () => {
     restartPostgres(process.env.TEST_PG_DATA!); // fast shutdown: in-flight transactions are rolled back
     await closeTestDb(); // the test's own pool held connections to the old server
     await Promise.all(writes);
-    const recoveredMs = await waitUntil('the app answering /api/me', async () => (await member.get('/api/me')).status === 200);
+    const { ms: recoveredMs } = await waitTimed('the app answering /api/me', async () => (await member.get('/api/me')).status === 200);
     flowing = false;
     await readLoop;
 
@@ -80,7 +69,7 @@ describe('PostgreSQL restarted while requests flow', () => {
     const after = await book({ startsAt: siteTime(28, 19, 15), endsAt: siteTime(28, 20, 15) }); // a time no other file books
     expect(after.status, await after.text()).toBe(201);
     // and the worker came through the restart too: the confirmation it sends for that booking arrives
-    await waitForMail((m) => m.subject.startsWith('Booking confirmed: Laser A') && m.to.some((t) => t.address === memberEmail), sent);
+    await waitForMail((m) => m.subject.startsWith('Booking confirmed: Laser A') && m.to.some((t) => t.address === memberEmail), { since: sent });
 
     for (const r of results) {
       expect(r.text).not.toMatch(/\bat [\w.<>]+ \(|node_modules/);

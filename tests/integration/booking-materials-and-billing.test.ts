@@ -14,6 +14,8 @@ import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
 import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { expectError } from '../support/api-error';
+import { waitUntil } from '../support/wait';
 
 let admin: Client;
 let member: Client;
@@ -43,13 +45,6 @@ afterAll(async () => {
 
 const book = (c: Client, machineId: string, startsAt: Date, endsAt: Date, materials: unknown[] = []) =>
   c.send('POST', '/api/bookings', { machineId, startsAt: iso(startsAt), endsAt: iso(endsAt), materials, notes: '' });
-
-async function expectError(res: Response, status: number, code: string) {
-  const b = await body(res);
-  expect(res.status, JSON.stringify(b)).toBe(status);
-  expect(b.error.code).toBe(code);
-  return b.error as { message: string; fields?: Record<string, string> };
-}
 
 describe('declared materials', () => {
   it('PVC is refused with the reason (422 material_blocked) and nothing is booked', async () => {
@@ -135,11 +130,6 @@ describe('deactivation', () => {
     const audit = await testDb()('audit_log').where({ kind: 'booking.cancelled', subject_id: f1.id }).first();
     expect(audit.summary).toMatch(/deactivated/);
     // released by the worker: the intent was recorded in the same transaction as the cancellations
-    let state = '';
-    for (const until = Date.now() + 30_000; Date.now() < until; await new Promise((r) => setTimeout(r, 200))) {
-      state = (await testDb()('charges').where({ id: pending.id }).first()).state;
-      if (state === 'released') break;
-    }
-    expect(state).toBe('released');
+    await waitUntil('the hold released', async () => (await testDb()('charges').where({ id: pending.id }).first()).state === 'released');
   });
 });

@@ -13,11 +13,10 @@
  */
 import { randomUUID } from 'node:crypto';
 import fs from 'node:fs';
-import net from 'node:net';
 import path from 'node:path';
 import Stripe from 'stripe';
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
-import { ROOT, portOpen, spawnService, type Service } from '../../scripts/lib/stack';
+import type { Service } from '../../scripts/lib/stack';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import { chargeBeamTime } from '../../src/lib/server/payments/billing';
@@ -25,10 +24,14 @@ import { getCharge } from '../../src/lib/server/payments/charge-records';
 import { providerChargesOf } from '../../src/lib/server/payments/provider-activity';
 import { runIntent } from '../../src/lib/server/payments/intents';
 import { saveCard } from '../../src/lib/server/payments/cards';
-import { iso, machines, setTestRules, siteTime, waitForMail, type MachineRef } from '../support/booking';
+import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
+import { waitForMail } from '../support/mail';
+import { waitTimed } from '../support/wait';
+import { freePort, startApp } from '../support/processes';
+import { makeDue } from '../support/queue';
 
 const stripe = new Stripe('sk_test_beamwarden_local', { host: '127.0.0.1', port: Number(process.env.TEST_STRIPE_PORT), protocol: 'http' });
 const fakePid = () => Number(fs.readFileSync(path.join(process.env.TEST_DATA_DIR!, 'run', 'payments.pid'), 'utf8').trim());
@@ -47,33 +50,11 @@ let admin: Client;
 let laser: MachineRef;
 const spawned: Service[] = [];
 
-async function waitFor<T>(what: string, fn: () => Promise<T | null | undefined | false>, timeoutMs = 60_000): Promise<{ value: T; ms: number }> {
-  const start = Date.now();
-  for (;;) {
-    const v = await fn().catch(() => null);
-    if (v) return { value: v, ms: Date.now() - start };
-    if (Date.now() - start > timeoutMs) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 200));
-  }
-}
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const srv = net.createServer();
-    srv.once('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address() as net.AddressInfo;
-      srv.close(() => resolve(port));
-    });
-  });
-}
-
 /** A second app process of our own (the shared one is never killed), listening on a free port. */
 async function startOwnApp(port: number): Promise<Service> {
-  const app = spawnService({ dataDir: process.env.TEST_DATA_DIR! }, 'app-crash', [path.join(ROOT, 'dist-test/server/entry.mjs')], { NODE_ENV: 'production', PORT: String(port) });
-  spawned.push(app);
-  await waitFor('the own app listening', async () => (app.child.exitCode === null ? portOpen(port) : Promise.reject(new Error('exited'))), 30_000);
-  return app;
+  const { service } = await startApp('app-crash', { port, entry: 'server' });
+  spawned.push(service);
+  return service;
 }
 
 async function member(label: string): Promise<{ client: Client; id: string; email: string }> {
@@ -120,7 +101,7 @@ describe('the app process killed between the booking commit and the hold', () =>
         headers: { cookie: m.client.cookieHeader(), 'content-type': 'application/json' },
         body: JSON.stringify(bookingBody(startsAt, endsAt)),
       }).catch(() => null);
-      const { value: booking } = await waitFor('the booking to commit', async () => (await testDb()('bookings').where({ person_id: m.id, machine_id: laser.id }).first('id')) as { id: string } | undefined, 10_000);
+      const { value: booking } = await waitTimed('the booking to commit', async () => (await testDb()('bookings').where({ person_id: m.id, machine_id: laser.id }).first('id')) as { id: string } | undefined, 10_000);
       process.kill(app.child.pid!, 'SIGKILL');
       killedAfterMs = Date.now() - started;
       const answer = await inFlight;
@@ -135,7 +116,8 @@ describe('the app process killed between the booking commit and the hold', () =>
       app = await startOwnApp(port);
       expect((await viaOwn.fetch('/api/me', { headers: { cookie: m.client.cookieHeader() } })).status).toBe(200);
       resumeFake();
-      const { value: held, ms } = await waitFor('the hold to be placed', async () => {
+      const { value: held, ms } = await waitTimed('the hold to be placed', async () => {
+        await makeDue('payments.intent'); // the worker's next try now, not after its back-off
         const c = await testDb()('charges').where({ booking_id: booking.id, kind: 'beam_time' }).first();
         return c?.state === 'held' ? c : null;
       });
@@ -169,7 +151,10 @@ describe('the payment fake paused during a booking and a refund', () => {
     } finally {
       resumeFake();
     }
-    const { ms } = await waitFor('the hold after the fake resumed', async () => (await testDb()('charges').where({ booking_id: bookingId }).first())?.state === 'held');
+    const { ms } = await waitTimed('the hold after the fake resumed', async () => {
+      await makeDue('payments.intent');
+      return (await testDb()('charges').where({ booking_id: bookingId }).first())?.state === 'held';
+    });
     console.log(`pause test: hold placed ${ms} ms after the fake resumed`);
     const list = await body<{ rows: { state: string }[] }>(await m.client.get('/api/account/charges'));
     expect(list.rows.map((r) => r.state)).toEqual(['held']);
@@ -193,7 +178,10 @@ describe('the payment fake paused during a booking and a refund', () => {
     } finally {
       resumeFake();
     }
-    const { ms } = await waitFor('the refund after the fake resumed', async () => (await getCharge(c.id))?.state === 'refunded');
+    const { ms } = await waitTimed('the refund after the fake resumed', async () => {
+      await makeDue('payments.intent');
+      return (await getCharge(c.id))?.state === 'refunded';
+    });
     console.log(`pause test: refund done ${ms} ms after the fake resumed`);
     const refunds = await stripe.refunds.list({ charge: c.providerChargeId!, limit: 100 });
     expect(refunds.data).toHaveLength(1);
@@ -226,8 +214,8 @@ describe('a provider call that fails for good', () => {
     }
     const c = await getCharge(row.id);
     expect(c).toMatchObject({ state: 'payment failed', failureMessage: expect.stringMatching(/after every retry/) });
-    await waitForMail((mail) => mail.subject === 'Payment failed' && mail.to.some((t) => t.address === m.email), sent);
-    await waitForMail((mail) => mail.subject.startsWith('Payment failed for') && mail.to.some((t) => t.address === 'admin@tidewater.example'), sent);
+    await waitForMail((mail) => mail.subject === 'Payment failed' && mail.to.some((t) => t.address === m.email), { since: sent });
+    await waitForMail((mail) => mail.subject.startsWith('Payment failed for') && mail.to.some((t) => t.address === 'admin@tidewater.example'), { since: sent });
     // what the person sees: the failed payment on Account, and new bookings refused until it is settled
     const list = await body<{ rows: { id: string; state: string }[] }>(await m.client.get('/api/account/charges'));
     expect(list.rows.find((r) => r.id === row.id)?.state).toBe('payment failed');
@@ -260,7 +248,7 @@ describe('reconciliation', () => {
     const page = await (await admin.get(`/admin/reconciliation?run=${run.id}`)).text();
     expect(page).toContain(planted.id);
     expect(page).toContain('in our records, not at the provider');
-    await waitForMail((mail) => mail.subject.startsWith('Card payments do not reconcile') && mail.to.some((t) => t.address === 'admin@tidewater.example'), sent);
+    await waitForMail((mail) => mail.subject.startsWith('Card payments do not reconcile') && mail.to.some((t) => t.address === 'admin@tidewater.example'), { since: sent });
     // the planted row is ours to remove (it would show in later runs)
     await testDb()('charges').where({ id: ours.id }).delete();
   }, 60_000);

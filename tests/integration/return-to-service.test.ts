@@ -13,7 +13,8 @@ import { stopJobs } from '../../src/lib/server/jobs';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
-import { inbox, to, waitForMail } from '../support/maildev';
+import { inbox, to, waitForMail } from '../support/mail';
+import { expectError } from '../support/api-error';
 
 let admin: Client;
 let steward: Client;
@@ -49,13 +50,6 @@ function report(c: Client, fields: Record<string, string>, photos: Buffer[] = []
   for (const [k, v] of Object.entries(fields)) form.set(k, v);
   for (const [i, p] of photos.entries()) form.append('photos', new Blob([new Uint8Array(p)], { type: 'image/jpeg' }), `p${i}.jpg`);
   return c.fetch(`/api/machines/${machine.code}/faults`, { method: 'POST', body: form });
-}
-
-async function expectError(res: Response, status: number, code: string) {
-  const b = await body(res);
-  expect(res.status, JSON.stringify(b)).toBe(status);
-  expect(b.error.code).toBe(code);
-  return b.error as { code: string; message: string; fields?: Record<string, string> };
 }
 
 const setStatus = (status: string, checklist?: typeof CHECKS) =>
