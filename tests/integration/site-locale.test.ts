@@ -13,7 +13,8 @@ import Papa from 'papaparse';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
-import { iso, setTestRules, siteTime, waitForMail, type Mail } from '../support/booking';
+import { iso, setTestRules, siteTime } from '../support/booking';
+import { to, waitForMail, type Mail } from '../support/mail';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { clearedNew } from '../support/people';
 import { localToInstant } from '../../src/lib/availability';
@@ -153,7 +154,7 @@ describe('money and dates in a second locale', () => {
       const startsAt = siteTime(6, 10);
       const res = await person.client.send('POST', '/api/bookings', { machineId: machine.id, startsAt: iso(startsAt), endsAt: iso(siteTime(6, 11)), materials: [], notes: '' });
       expect(res.status, await res.clone().text()).toBe(201);
-      const mail: Mail = await waitForMail((m) => m.to.some((t) => t.address.toLowerCase() === person.email.toLowerCase()) && m.subject.startsWith('Booking confirmed'), since);
+      const mail: Mail = await waitForMail((m) => m.to.some((t) => t.address.toLowerCase() === person.email.toLowerCase()) && m.subject.startsWith('Booking confirmed'), { since });
       // "Booking confirmed: …, Donnerstag, 10. Dezember 2026, 10:00–11:00" (CLDR de: weekday, day. month year; 24-hour clock)
       expect(nbsp(mail.subject)).toMatch(/(Montag|Dienstag|Mittwoch|Donnerstag|Freitag|Samstag|Sonntag), \d{1,2}\. [A-ZÄÖÜ][a-zäöü]+ \d{4}, 10:00–11:00/);
       expect(mail.text).toContain(`Hello ${person.name},`);
