@@ -240,8 +240,8 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
   });
 }
 
-async function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
-  return siteFormat(await siteLocale(), tz).longRange(b.startsAt, b.endsAt);
+async function formatRange(q: Conn, b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(q), tz).longRange(b.startsAt, b.endsAt);
 }
 
 function bookingIcs(b: Booking, machine: { name: string }, siteName: string, cancelled = false): string {
@@ -294,7 +294,7 @@ async function sendCancellation(trx: Knex.Transaction, r: Row, why: string): Pro
     await siteSettings(trx),
   ];
   if (!person || !machine) return;
-  const range = await formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
+  const range = await formatRange(trx, { startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
   await queueMail(
     trx,
     person.email,
@@ -319,11 +319,11 @@ async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Book
   await queueMail(
     trx,
     person.email,
-    `Booking confirmed: ${machine.name}, ${await formatRange(b, tz)}`,
+    `Booking confirmed: ${machine.name}, ${await formatRange(trx, b, tz)}`,
     {
       greeting: `Hello ${person.name},`,
       paragraphs: [
-        `${machine.name} is booked for you on ${await formatRange(b, tz)} (${tz}).`,
+        `${machine.name} is booked for you on ${await formatRange(trx, b, tz)} (${tz}).`,
         'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show and the time is released.',
         'The attached calendar file adds the booking to your calendar.',
       ],
@@ -417,7 +417,7 @@ export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actor
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is retired`, {
       greeting: `Hello ${r.name},`,
       paragraphs: [
-        `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${await formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
+        `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${await formatRange(trx, { startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
         `The reason given: ${why}`,
         'You are not charged for it: any hold on your card is released.',
         'The attached calendar file removes it from your calendar.',
@@ -829,7 +829,7 @@ export async function offerFreedTime(trx: Knex.Transaction, machineId: string, f
     await queueMail(trx, c.email, `A time on ${machine.name} is free: claim it within ${HOLD_MINUTES} minutes`, {
       greeting: `Hello ${c.name},`,
       paragraphs: [
-        `The time you were waiting for on ${machine.name} is free: ${await formatRange({ startsAt: c.starts_at, endsAt: c.ends_at }, settings.timeZone)}.`,
+        `The time you were waiting for on ${machine.name} is free: ${await formatRange(trx, { startsAt: c.starts_at, endsAt: c.ends_at }, settings.timeZone)}.`,
         `It is held for you for ${HOLD_MINUTES} minutes. After that it goes to the next person waiting.`,
       ],
       action: { label: 'Claim this time', url: `${env().PUBLIC_BASE_URL}/book/claim?token=${token}` },

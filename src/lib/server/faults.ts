@@ -101,8 +101,8 @@ async function siteZone(trx: Conn): Promise<string> {
   return (row?.time_zone as string | undefined) ?? 'UTC';
 }
 
-async function formatRange(startsAt: Date, endsAt: Date, tz: string): Promise<string> {
-  return siteFormat(await siteLocale(), tz).longRange(startsAt, endsAt);
+async function formatRange(q: Conn, startsAt: Date, endsAt: Date, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(q), tz).longRange(startsAt, endsAt);
 }
 
 
@@ -209,7 +209,7 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
       greeting: `Hello ${r.name},`,
       paragraphs: [
-        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
+        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(trx, r.starts_at, r.ends_at, tz)} cannot go ahead.`,
         'You are not charged for it: any hold on your card is released.',
         'Book another time or another machine when it suits you.',
         'The attached calendar file removes it from your calendar.',

@@ -6,8 +6,7 @@
  * Capacity is held in the database: a seat is taken with the session row locked FOR UPDATE, so concurrent
  * requests for the last seat are answered one after another (one 201, the rest 409 session_full).
  */
-import { siteLocale } from './settings';
-import { siteFormat } from '../format';
+import { DEFAULT_LOCALE, siteFormat } from '../format';
 import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { HttpError } from './errors';
@@ -69,14 +68,14 @@ function view(r: SessionRow): SessionView {
   };
 }
 
-async function siteInfo(q: Q): Promise<{ name: string; timeZone: string }> {
-  const row = await q('site_settings').where({ id: 1 }).first('name', 'time_zone');
-  return row ? { name: row.name, timeZone: row.time_zone } : { name: 'Beamwarden', timeZone: 'UTC' };
+async function siteInfo(q: Q): Promise<{ name: string; timeZone: string; locale: string }> {
+  const row = await q('site_settings').where({ id: 1 }).first('name', 'time_zone', 'locale');
+  return row ? { name: row.name, timeZone: row.time_zone, locale: row.locale } : { name: 'Beamwarden', timeZone: 'UTC', locale: DEFAULT_LOCALE };
 }
 
 /** "Tuesday, 8 December 2026, 10:00–12:00" in the site's zone and locale. */
-export async function formatSessionTime(startsAt: Date, endsAt: Date, timeZone: string): Promise<string> {
-  return siteFormat(await siteLocale(), timeZone).longRange(startsAt, endsAt);
+export function formatSessionTime(startsAt: Date, endsAt: Date, site: { timeZone: string; locale: string }): string {
+  return siteFormat(site.locale, site.timeZone).longRange(startsAt, endsAt);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -151,9 +150,9 @@ export async function cancelSession(actorId: string, id: string, reason: string,
     await trx('induction_waitlist').where({ session_id: id, state: 'waiting' }).update({ state: 'withdrawn' });
     const site = await siteInfo(trx);
     for (const seat of seats) {
-      await queueMail(trx, seat.email, `Induction session cancelled: ${s.group_name}, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+      await queueMail(trx, seat.email, `Induction session cancelled: ${s.group_name}, ${formatSessionTime(s.starts_at, s.ends_at, site)}`, {
         greeting: `Hello ${seat.name},`,
-        paragraphs: [`The ${s.group_name} induction session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled: ${reason}`, 'Your quiz pass stands. Book a seat at another session from your Clearances screen.'],
+        paragraphs: [`The ${s.group_name} induction session on ${formatSessionTime(s.starts_at, s.ends_at, site)} is cancelled: ${reason}`, 'Your quiz pass stands. Book a seat at another session from your Clearances screen.'],
         action: { label: 'See the next sessions', url: link('/clearances') },
       }, [icsAttachment(s, seat.id, site, true)]);
     }
@@ -165,7 +164,7 @@ export async function cancelSession(actorId: string, id: string, reason: string,
 // ---------------------------------------------------------------------------------------------
 // Seats
 
-function icsAttachment(s: SessionRow, seatId: string, site: { name: string; timeZone: string }, cancelled = false) {
+function icsAttachment(s: SessionRow, seatId: string, site: { name: string; timeZone: string; locale: string }, cancelled = false) {
   const ics = buildIcs(`${site.name} induction`, [{
     id: `seat-${seatId}`,
     startsAt: s.starts_at,
@@ -186,14 +185,14 @@ async function personRow(q: Q, id: string): Promise<{ id: string; email: string;
 }
 
 /** Why this person may not take a seat at this session now, or null when they may. */
-async function refusal(trx: Q, personId: string, s: SessionRow, now: Date, site: { timeZone: string }): Promise<string | null> {
+async function refusal(trx: Q, personId: string, s: SessionRow, now: Date, site: { timeZone: string; locale: string }): Promise<string | null> {
   const c = await clearanceOf(personId, s.group_id, now, trx);
   const other = await trx('induction_seats as x').join('induction_sessions as s', 's.id', 'x.session_id')
     .where({ 'x.person_id': personId, 's.group_id': s.group_id, 'x.state': 'booked', 's.state': 'published' })
     .whereNot('s.id', s.id).where('s.ends_at', '>', now).first('s.starts_at', 's.ends_at');
   const r = seatEligibility({
     kind: s.kind, groupName: s.group_name, state: c.state, clearedUntil: c.expiresOn, suspendedReason: c.suspendedReason,
-    otherSeatOn: other ? await formatSessionTime(other.starts_at, other.ends_at, site.timeZone) : null,
+    otherSeatOn: other ? formatSessionTime(other.starts_at, other.ends_at, site) : null,
   });
   return r.ok ? null : r.reason;
 }
@@ -222,7 +221,7 @@ export async function bookSeat(personId: string, sessionId: string, now = new Da
   });
 }
 
-async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string, now: Date, site: { name: string; timeZone: string }, fromWaitlist = false): Promise<string> {
+async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string, now: Date, site: { name: string; timeZone: string; locale: string }, fromWaitlist = false): Promise<string> {
   const person = await personRow(trx, personId);
   const [seat] = await trx('induction_seats').insert({ session_id: s.id, person_id: personId, state: 'booked', booked_at: now }).returning('id');
   await trx('induction_waitlist').where({ session_id: s.id, person_id: personId, state: 'waiting' }).update({ state: 'seated', seat_id: seat.id, offered_at: now });
@@ -230,7 +229,7 @@ async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string
     actorId: personId, kind: 'induction.seat_booked', subjectType: 'induction_seat', subjectId: seat.id,
     summary: `${person.name} took a seat at the ${s.group_name} session${fromWaitlist ? ' (from the waitlist)' : ''}`,
   });
-  const when = await formatSessionTime(s.starts_at, s.ends_at, site.timeZone);
+  const when = formatSessionTime(s.starts_at, s.ends_at, site);
   await queueMail(trx, person.email, `${fromWaitlist ? 'A seat freed up for you' : 'Seat booked'}: ${s.group_name} induction, ${when}`, {
     greeting: `Hello ${person.name},`,
     paragraphs: [
@@ -265,9 +264,9 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
     const person = await personRow(trx, personId);
     const site = await siteInfo(trx);
     await recordAudit(trx, { actorId: personId, kind: 'induction.seat_cancelled', subjectType: 'induction_seat', subjectId: seat.id, summary: `${person.name} cancelled a seat at the ${s.group_name} session` });
-    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site)}`, {
       greeting: `Hello ${person.name},`,
-      paragraphs: [`Your seat at the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
+      paragraphs: [`Your seat at the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
       action: { label: 'See the next sessions', url: link('/clearances') },
     }, [icsAttachment(s, seat.id, site, true)]);
     const offeredTo = await offerFreedSeat(trx, s.id, now, site);
@@ -276,7 +275,7 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
 }
 
 /** A seat has freed up: the first person waiting who is still eligible gets it, with an e-mail. Caller's transaction, session locked. */
-async function offerFreedSeat(trx: Knex.Transaction, sessionId: string, now: Date, site: { name: string; timeZone: string }): Promise<string | null> {
+async function offerFreedSeat(trx: Knex.Transaction, sessionId: string, now: Date, site: { name: string; timeZone: string; locale: string }): Promise<string | null> {
   const s = await sessionRow(trx, sessionId);
   if (s.state !== 'published' || s.starts_at <= now || Number(s.seats_taken) >= s.capacity) return null;
   const waiting = await trx('induction_waitlist').where({ session_id: sessionId, state: 'waiting' }).orderBy('created_at').forUpdate().select('id', 'person_id');
@@ -425,7 +424,7 @@ async function markAbsent(trx: Knex.Transaction, instructorId: string, s: Sessio
   await queueMail(trx, person.email, `We missed you at the ${s.group_name} induction`, {
     greeting: `Hello ${person.name},`,
     paragraphs: [
-      `You were marked absent from the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, so your seat there is released.`,
+      `You were marked absent from the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site)}, so your seat there is released.`,
       'Your quiz pass stands. Book a seat at another session from your Clearances screen — and if you cannot come, cancel the seat so someone else can have it.',
     ],
     action: { label: 'Book another session', url: link('/clearances') },
@@ -502,10 +501,10 @@ export async function remindSeats(now = new Date()): Promise<{ reminded: number 
       const person = await trx('people').where({ id: d.person_id }).first('email', 'name', 'active');
       await trx('induction_seats').where({ id: d.id }).update({ reminded_at: now });
       if (!person?.active) continue;
-      await queueMail(trx, person.email, `Tomorrow: ${s.group_name} induction, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+      await queueMail(trx, person.email, `Tomorrow: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site)}`, {
         greeting: `Hello ${person.name},`,
         paragraphs: [
-          `A reminder of your seat at the ${s.group_name} session: ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, at ${placeLabel(s.machine_name, s.place)}, with ${s.instructor_name}.`,
+          `A reminder of your seat at the ${s.group_name} session: ${formatSessionTime(s.starts_at, s.ends_at, site)}, at ${placeLabel(s.machine_name, s.place)}, with ${s.instructor_name}.`,
           s.bring ? `Bring: ${s.bring}.` : 'Bring a small test piece of an allowed material.',
           'If you cannot come, cancel the seat on your Clearances screen so someone else can have it.',
         ],
