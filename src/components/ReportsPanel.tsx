@@ -248,7 +248,7 @@ export default function ReportsPanel(props: Props) {
                     <BarChart data={revenueChart} margin={{ top: 8, right: 8, bottom: 0, left: 0 }}>
                       <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
                       <XAxis dataKey="month" fontSize={12} />
-                      <YAxis fontSize={12} width={72} tickFormatter={(v: number) => f.money(Math.round(v * 10 ** currencyExponent(props.currency)), props.currency)} />
+                      <YAxis fontSize={12} width={64} tickFormatter={(v: number) => f.moneyShort(Math.round(v * 10 ** currencyExponent(props.currency)), props.currency)} />
                       <Tooltip formatter={(v) => f.money(Math.round(Number(v) * 10 ** currencyExponent(props.currency)), props.currency)} />
                       <Legend itemSorter={null} />
                       {revenueMachines.map((m, i) => (

@@ -55,6 +55,8 @@ export interface SiteFormat {
   range(from: Date, to: Date): string;
   /** "1,234.5" (en-NZ), "1.234,5" (de-DE) */
   number(n: number, maxFractionDigits?: number): string;
+  /** "$160", "$16K" (en-NZ), "16.000 NZ$" (de-DE): whole units, short, for chart axes (not for amounts people pay) */
+  moneyShort(amountMinor: number, currency: string): string;
   /** "12.5 %" (en-NZ), "12,5 %" (de-DE) from a share 0.125 */
   percent(share: number, maxFractionDigits?: number): string;
   /** "$1,234.56" (en-NZ, NZD), "1.234,56 €" (de-DE, EUR): the currency's own digits, from integer minor units */
@@ -105,6 +107,11 @@ export function siteFormat(locale: string, timeZone: string): SiteFormat {
     range: (from, to) => (sameDay(from, new Date(to.getTime() - 1)) ? `${shortF.format(from)}, ${timeF.format(from)}–${timeF.format(to)}` : `${dateTimeF.format(from)} – ${dateTimeF.format(to)}`),
     longRange: (from, to) => (sameDay(from, new Date(to.getTime() - 1)) ? `${longF.format(from)}, ${timeF.format(from)}–${timeF.format(to)}` : `${longF.format(from)}, ${timeF.format(from)} – ${longF.format(to)}, ${timeF.format(to)}`),
     number: (n, maxFractionDigits = 2) => memo(`${loc}|n${maxFractionDigits}`, () => new Intl.NumberFormat(loc, { maximumFractionDigits: maxFractionDigits })).format(n),
+    moneyShort: (amountMinor, currency) => {
+      const code = currency.toUpperCase();
+      const nf = memo(`${loc}|short|${code}`, () => new Intl.NumberFormat(loc, { style: 'currency', currency: code, notation: 'compact', minimumFractionDigits: 0, maximumFractionDigits: 1 }));
+      return nf.format(amountMinor / 10 ** currencyExponent(code));
+    },
     percent: (share, maxFractionDigits = 1) => memo(`${loc}|p${maxFractionDigits}`, () => new Intl.NumberFormat(loc, { style: 'percent', maximumFractionDigits: maxFractionDigits })).format(share),
     money: (amountMinor, currency) => {
       const code = currency.toUpperCase();

@@ -9,6 +9,7 @@ import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { siteFormat } from '../../src/lib/format';
 import { zonedDate } from '../../src/lib/time';
 
 let browser: Browser;
@@ -58,7 +59,9 @@ describe('reports', () => {
     await page.getByLabel('From', { exact: true }).fill(from);
     await page.getByLabel('To', { exact: true }).fill(to); // (exact: a machine's name may contain "to")
     await page.getByRole('button', { name: 'Show' }).click();
-    await page.getByText(`Showing ${from} to ${to}`).waitFor();
+    // the period line in the site locale (the demo's en-NZ): "Showing 20 Nov 2026 to 3 Dec 2026"
+    const day = (d: string) => siteFormat('en-NZ', tz).day(d);
+    await page.getByText(`Showing ${day(from)} to ${day(to)}`).waitFor();
     await waitForReports(page);
     const screenNet = minorOf((await page.getByTestId('revenue-net').textContent()) ?? '');
     expect(screenNet).toBeGreaterThan(0); // the seeded history has captured and recharged charges last week

@@ -39,6 +39,13 @@ describe('site formatting', () => {
     expect(siteFormat('en-NZ', 'UTC').money(123456789012345, 'NZD')).toBe('$1,234,567,890,123.45');
   });
 
+  it('writes short amounts for chart axes in whole units of the currency', () => {
+    expect(siteFormat('en-NZ', 'UTC').moneyShort(16000, 'NZD')).toBe('$160');
+    expect(siteFormat('en-NZ', 'UTC').moneyShort(1600000, 'NZD')).toBe('$16K');
+    expect(nbsp(siteFormat('de-DE', 'UTC').moneyShort(1600000, 'NZD'))).toBe('16.000 NZ$');
+    expect(siteFormat('en-GB', 'UTC').moneyShort(1600, 'JPY')).toBe('JP¥1.6k');
+  });
+
   it('numbers follow the locale', () => {
     expect(siteFormat('en-NZ', 'UTC').number(1234.5)).toBe('1,234.5');
     expect(nbsp(siteFormat('de-DE', 'UTC').number(1234.5))).toBe('1.234,5');

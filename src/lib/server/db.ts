@@ -46,8 +46,6 @@ export function db(): Knex {
   return instance;
 }
 
-export type Trx = Knex.Transaction;
-export type Db = Knex | Knex.Transaction;
 
 /** Runs `work` in one transaction: everything or nothing is written. */
 export function transaction<T>(work: (trx: Knex.Transaction) => Promise<T>, config?: Knex.TransactionConfig): Promise<T> {

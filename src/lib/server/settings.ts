@@ -66,14 +66,30 @@ export function siteLook(s: SiteSettings): SiteLook {
   return { locale: s.locale, timeZone: s.timeZone, currency: s.currency };
 }
 
-/** The site locale alone, for server code that already has the zone at hand. */
-export async function siteLocale(): Promise<string> {
-  return (await getSettings()).locale;
+/**
+ * The site locale alone, for server code that already has the zone at hand. Inside a transaction pass it, so the
+ * read uses the transaction's connection (a second pool connection per transaction can starve the pool under load).
+ */
+export async function siteLocale(q?: Conn): Promise<string> {
+  return (await getSettings(q)).locale;
+}
+
+let localeMemo: { at: number; value: Promise<string> } | null = null;
+/** The site locale remembered for a few seconds (one read for a burst of e-mails), for code without a connection at hand. */
+function recentLocale(): Promise<string> {
+  if (!localeMemo || Date.now() - localeMemo.at > 5_000) {
+    const value = siteLocale().catch((err) => {
+      localeMemo = null;
+      throw err;
+    });
+    localeMemo = { at: Date.now(), value };
+  }
+  return localeMemo.value;
 }
 
 /** An amount written the site's way ("$1,234.56" in en-NZ): for e-mails and audit summaries written on the server. */
 export async function siteMoney(amountMinor: number, currency: string): Promise<string> {
-  return siteFormat(await siteLocale(), 'UTC').money(amountMinor, currency);
+  return siteFormat(await recentLocale(), 'UTC').money(amountMinor, currency);
 }
 
 /** The site's formatter (its locale and time zone), for server code that writes e-mails, receipts and summaries. */

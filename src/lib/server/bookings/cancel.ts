@@ -92,7 +92,7 @@ export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actor
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is retired`, {
       greeting: `Hello ${r.name},`,
       paragraphs: [
-        `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${await formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
+        `${machine.name} has been retired from use, so your ${r.kind === 'class' ? `class block (${r.course_name ?? 'class'})` : 'booking'} on ${await formatRange(trx, { startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
         `The reason given: ${why}`,
         'You are not charged for it: any hold on your card is released.',
         'The attached calendar file removes it from your calendar.',

@@ -8,8 +8,8 @@ import { siteSettings } from './gate';
 import { siteLocale } from '../settings';
 import { siteFormat } from '../../format';
 
-export async function formatRange(b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
-  return siteFormat(await siteLocale(), tz).longRange(b.startsAt, b.endsAt);
+export async function formatRange(q: Conn, b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(q), tz).longRange(b.startsAt, b.endsAt);
 }
 
 export function bookingIcs(b: Booking, machine: { name: string }, siteName: string, cancelled = false): string {
@@ -62,7 +62,7 @@ export async function sendCancellation(trx: Knex.Transaction, r: Row, why: strin
     await siteSettings(trx),
   ];
   if (!person || !machine) return;
-  const range = await formatRange({ startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
+  const range = await formatRange(trx, { startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone);
   await queueMail(
     trx,
     person.email,
@@ -87,11 +87,11 @@ export async function sendConfirmation(trx: Knex.Transaction, personId: string, 
   await queueMail(
     trx,
     person.email,
-    `Booking confirmed: ${machine.name}, ${await formatRange(b, tz)}`,
+    `Booking confirmed: ${machine.name}, ${await formatRange(trx, b, tz)}`,
     {
       greeting: `Hello ${person.name},`,
       paragraphs: [
-        `${machine.name} is booked for you on ${await formatRange(b, tz)} (${tz}).`,
+        `${machine.name} is booked for you on ${await formatRange(trx, b, tz)} (${tz}).`,
         'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show and the time is released.',
         'The attached calendar file adds the booking to your calendar.',
       ],

@@ -76,7 +76,7 @@ export async function offerFreedTime(trx: Knex.Transaction, machineId: string, f
     await queueMail(trx, c.email, `A time on ${machine.name} is free: claim it within ${HOLD_MINUTES} minutes`, {
       greeting: `Hello ${c.name},`,
       paragraphs: [
-        `The time you were waiting for on ${machine.name} is free: ${await formatRange({ startsAt: c.starts_at, endsAt: c.ends_at }, settings.timeZone)}.`,
+        `The time you were waiting for on ${machine.name} is free: ${await formatRange(trx, { startsAt: c.starts_at, endsAt: c.ends_at }, settings.timeZone)}.`,
         `It is held for you for ${HOLD_MINUTES} minutes. After that it goes to the next person waiting.`,
       ],
       action: { label: 'Claim this time', url: `${env().PUBLIC_BASE_URL}/book/claim?token=${token}` },

@@ -24,8 +24,8 @@ import type { Actor } from '../../roles';
 import { getSettings, siteLocale } from '../settings';
 import { siteFormat } from '../../format';
 
-async function formatRange(startsAt: Date, endsAt: Date, tz: string): Promise<string> {
-  return siteFormat(await siteLocale(), tz).longRange(startsAt, endsAt);
+async function formatRange(q: Conn, startsAt: Date, endsAt: Date, tz: string): Promise<string> {
+  return siteFormat(await siteLocale(q), tz).longRange(startsAt, endsAt);
 }
 
 interface Effects {
@@ -95,7 +95,7 @@ async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { a
     await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
       greeting: `Hello ${r.name},`,
       paragraphs: [
-        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(r.starts_at, r.ends_at, tz)} cannot go ahead.`,
+        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(trx, r.starts_at, r.ends_at, tz)} cannot go ahead.`,
         'You are not charged for it: any hold on your card is released.',
         'Book another time or another machine when it suits you.',
         'The attached calendar file removes it from your calendar.',

@@ -58,9 +58,9 @@ export async function cancelSession(actorId: string, id: string, reason: string,
     await trx('induction_waitlist').where({ session_id: id, state: 'waiting' }).update({ state: 'withdrawn' });
     const site = await getSettings(trx);
     for (const seat of seats) {
-      await queueMail(trx, seat.email, `Induction session cancelled: ${s.group_name}, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+      await queueMail(trx, seat.email, `Induction session cancelled: ${s.group_name}, ${formatSessionTime(s.starts_at, s.ends_at, site)}`, {
         greeting: `Hello ${seat.name},`,
-        paragraphs: [`The ${s.group_name} induction session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled: ${reason}`, 'Your quiz pass stands. Book a seat at another session from your Clearances screen.'],
+        paragraphs: [`The ${s.group_name} induction session on ${formatSessionTime(s.starts_at, s.ends_at, site)} is cancelled: ${reason}`, 'Your quiz pass stands. Book a seat at another session from your Clearances screen.'],
         action: { label: 'See the next sessions', url: link('/clearances') },
       }, [icsAttachment(s, seat.id, site, true)]);
     }

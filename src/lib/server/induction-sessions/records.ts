@@ -5,7 +5,6 @@
  * seats.ts, roster.ts, reminders.ts.
  */
 import { db, type Conn } from '../db';
-import { siteLocale } from '../settings';
 import { siteFormat } from '../../format';
 import { HttpError } from '../errors';
 import { env } from '../env';
@@ -56,8 +55,8 @@ export function view(r: SessionRow): SessionView {
 }
 
 /** "Tuesday, 8 December 2026, 10:00–12:00" in the site's zone and locale. */
-export async function formatSessionTime(startsAt: Date, endsAt: Date, timeZone: string): Promise<string> {
-  return siteFormat(await siteLocale(), timeZone).longRange(startsAt, endsAt);
+export function formatSessionTime(startsAt: Date, endsAt: Date, site: { timeZone: string; locale: string }): string {
+  return siteFormat(site.locale, site.timeZone).longRange(startsAt, endsAt);
 }
 
 // ---------------------------------------------------------------------------------------------

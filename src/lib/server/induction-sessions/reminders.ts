@@ -22,10 +22,10 @@ export async function remindSeats(now = new Date()): Promise<{ reminded: number 
       const person = await trx('people').where({ id: d.person_id }).first('email', 'name', 'active');
       await trx('induction_seats').where({ id: d.id }).update({ reminded_at: now });
       if (!person?.active) continue;
-      await queueMail(trx, person.email, `Tomorrow: ${s.group_name} induction, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+      await queueMail(trx, person.email, `Tomorrow: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site)}`, {
         greeting: `Hello ${person.name},`,
         paragraphs: [
-          `A reminder of your seat at the ${s.group_name} session: ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, at ${placeLabel(s.machine_name, s.place)}, with ${s.instructor_name}.`,
+          `A reminder of your seat at the ${s.group_name} session: ${formatSessionTime(s.starts_at, s.ends_at, site)}, at ${placeLabel(s.machine_name, s.place)}, with ${s.instructor_name}.`,
           s.bring ? `Bring: ${s.bring}.` : 'Bring a small test piece of an allowed material.',
           'If you cannot come, cancel the seat on your Clearances screen so someone else can have it.',
         ],

@@ -123,7 +123,7 @@ async function markAbsent(trx: Knex.Transaction, instructorId: string, s: Sessio
   await queueMail(trx, person.email, `We missed you at the ${s.group_name} induction`, {
     greeting: `Hello ${person.name},`,
     paragraphs: [
-      `You were marked absent from the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}, so your seat there is released.`,
+      `You were marked absent from the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site)}, so your seat there is released.`,
       'Your quiz pass stands. Book a seat at another session from your Clearances screen — and if you cannot come, cancel the seat so someone else can have it.',
     ],
     action: { label: 'Book another session', url: link('/clearances') },

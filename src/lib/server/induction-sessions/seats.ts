@@ -16,7 +16,7 @@ import { getSettings } from '../settings';
 // ---------------------------------------------------------------------------------------------
 // Seats
 
-export function icsAttachment(s: SessionRow, seatId: string, site: { name: string; timeZone: string }, cancelled = false) {
+export function icsAttachment(s: SessionRow, seatId: string, site: { name: string; timeZone: string; locale: string }, cancelled = false) {
   const ics = buildIcs(`${site.name} induction`, [{
     id: `seat-${seatId}`,
     startsAt: s.starts_at,
@@ -37,14 +37,14 @@ export async function personRow(q: Conn, id: string): Promise<{ id: string; emai
 }
 
 /** Why this person may not take a seat at this session now, or null when they may. */
-async function refusal(trx: Conn, personId: string, s: SessionRow, now: Date, site: { timeZone: string }): Promise<string | null> {
+async function refusal(trx: Conn, personId: string, s: SessionRow, now: Date, site: { timeZone: string; locale: string }): Promise<string | null> {
   const c = await clearanceOf(personId, s.group_id, now, trx);
   const other = await trx('induction_seats as x').join('induction_sessions as s', 's.id', 'x.session_id')
     .where({ 'x.person_id': personId, 's.group_id': s.group_id, 'x.state': 'booked', 's.state': 'published' })
     .whereNot('s.id', s.id).where('s.ends_at', '>', now).first('s.starts_at', 's.ends_at');
   const r = seatEligibility({
     kind: s.kind, groupName: s.group_name, state: c.state, clearedUntil: c.expiresOn, suspendedReason: c.suspendedReason,
-    otherSeatOn: other ? await formatSessionTime(other.starts_at, other.ends_at, site.timeZone) : null,
+    otherSeatOn: other ? formatSessionTime(other.starts_at, other.ends_at, site) : null,
   });
   return r.ok ? null : r.reason;
 }
@@ -73,7 +73,7 @@ export async function bookSeat(personId: string, sessionId: string, now = new Da
   });
 }
 
-async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string, now: Date, site: { name: string; timeZone: string }, fromWaitlist = false): Promise<string> {
+async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string, now: Date, site: { name: string; timeZone: string; locale: string }, fromWaitlist = false): Promise<string> {
   const person = await personRow(trx, personId);
   const [seat] = await trx('induction_seats').insert({ session_id: s.id, person_id: personId, state: 'booked', booked_at: now }).returning('id');
   await trx('induction_waitlist').where({ session_id: s.id, person_id: personId, state: 'waiting' }).update({ state: 'seated', seat_id: seat.id, offered_at: now });
@@ -81,7 +81,7 @@ async function insertSeat(trx: Knex.Transaction, s: SessionRow, personId: string
     actorId: personId, kind: 'induction.seat_booked', subjectType: 'induction_seat', subjectId: seat.id,
     summary: `${person.name} took a seat at the ${s.group_name} session${fromWaitlist ? ' (from the waitlist)' : ''}`,
   });
-  const when = await formatSessionTime(s.starts_at, s.ends_at, site.timeZone);
+  const when = formatSessionTime(s.starts_at, s.ends_at, site);
   await queueMail(trx, person.email, `${fromWaitlist ? 'A seat freed up for you' : 'Seat booked'}: ${s.group_name} induction, ${when}`, {
     greeting: `Hello ${person.name},`,
     paragraphs: [
@@ -116,9 +116,9 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
     const person = await personRow(trx, personId);
     const site = await getSettings(trx);
     await recordAudit(trx, { actorId: personId, kind: 'induction.seat_cancelled', subjectType: 'induction_seat', subjectId: seat.id, summary: `${person.name} cancelled a seat at the ${s.group_name} session` });
-    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)}`, {
+    await queueMail(trx, person.email, `Seat cancelled: ${s.group_name} induction, ${formatSessionTime(s.starts_at, s.ends_at, site)}`, {
       greeting: `Hello ${person.name},`,
-      paragraphs: [`Your seat at the ${s.group_name} session on ${await formatSessionTime(s.starts_at, s.ends_at, site.timeZone)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
+      paragraphs: [`Your seat at the ${s.group_name} session on ${formatSessionTime(s.starts_at, s.ends_at, site)} is cancelled. Your quiz pass stands: book another session when it suits you.`],
       action: { label: 'See the next sessions', url: link('/clearances') },
     }, [icsAttachment(s, seat.id, site, true)]);
     const offeredTo = await offerFreedSeat(trx, s.id, now, site);
@@ -127,7 +127,7 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
 }
 
 /** A seat has freed up: the first person waiting who is still eligible gets it, with an e-mail. Caller's transaction, session locked. */
-export async function offerFreedSeat(trx: Knex.Transaction, sessionId: string, now: Date, site: { name: string; timeZone: string }): Promise<string | null> {
+export async function offerFreedSeat(trx: Knex.Transaction, sessionId: string, now: Date, site: { name: string; timeZone: string; locale: string }): Promise<string | null> {
   const s = await sessionRow(trx, sessionId);
   if (s.state !== 'published' || s.starts_at <= now || Number(s.seats_taken) >= s.capacity) return null;
   const waiting = await trx('induction_waitlist').where({ session_id: sessionId, state: 'waiting' }).orderBy('created_at').forUpdate().select('id', 'person_id');
