@@ -2,6 +2,7 @@
  * Reconciliation: our card charges and refunds compared with the payment provider's for a period. Pure: the
  * provider's list answers and our rows come in, the differences go out.
  */
+import { formatMoney } from './pricing';
 
 /** A charge as the provider lists it (the fields we compare). */
 export interface ProviderCharge {
@@ -55,6 +56,14 @@ export const MISMATCH_TEXT: Record<MismatchKind, string> = {
   amount_differs: 'amounts differ',
   state_differs: 'states differ',
 };
+
+/**
+ * One side of a difference as people read it: the amount at its end is kept in minor units ("captured 2400"), shown
+ * in the currency ("captured NZD 24.00"). Text without an amount ("captured", "—") is unchanged.
+ */
+export function readableSide(text: string, currency: string): string {
+  return text.replace(/(^|\s)(\d+)$/, (_all, space: string, n: string) => `${space}${formatMoney(Number(n), currency)}`);
+}
 
 /** What the provider's side of one of our charges should look like. */
 function expected(c: OurCharge): { captured: boolean | null; capturedMinor: number | null; refundedMinor: number | null; state: string } {
