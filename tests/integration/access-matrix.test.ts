@@ -153,6 +153,7 @@ const MATRIX: Record<string, Row> = {
   'POST /api/people/[id]/deactivate': api(404, 'admin'),
   'POST /api/people/[id]/reactivate': api(404, 'admin'),
   'PUT /api/people/[id]/roles': api(422, 'admin'),
+  'POST /api/people/[id]/invitation': api(404, 'admin'),
   'PUT /api/people/[id]/tier': api(422, 'admin'),
   'GET /api/pricing/versions': api(200, 'admin'),
   'POST /api/pricing/versions': api(422, 'admin'),
