@@ -648,3 +648,32 @@ export async function statusHistory(machineId: string, limit = 50): Promise<{ fr
     .orderBy('c.changed_at', 'desc').limit(limit).select('c.*', 'p.name as actor_name');
   return rows.map((r: Record<string, any>) => ({ from: r.from_status, to: r.to_status, at: r.changed_at, reason: r.reason, actorName: r.actor_name, faultId: r.fault_id }));
 }
+
+/**
+ * Closes the open faults of a machine that is being retired, inside the retire cascade's transaction: each is
+ * resolved "Machine retired: <reason>" by the admin retiring it (so it leaves the stewards' queue), audited as
+ * `fault.resolved` with `closedBy: 'machine retired'`, and its reporter is told. Returns the faults' ids.
+ */
+export async function closeFaultsOfRetiredMachine(trx: Knex.Transaction, actorId: string, machine: { id: string; name: string }, reason: string, now: Date): Promise<string[]> {
+  const open = (await trx('faults as f').join('people as p', 'p.id', 'f.reported_by').where('f.machine_id', machine.id).whereNot('f.status', 'resolved')
+    .forUpdate('f').orderBy('f.created_at').select('f.id', 'f.status', 'f.summary', 'f.triaged_at', 'p.email', 'p.name as reporter_name')) as
+    { id: string; status: FaultStatus; summary: string; triaged_at: Date | null; email: string; reporter_name: string }[];
+  const resolution = `Machine retired: ${reason}`;
+  for (const f of open) {
+    await trx('faults').where({ id: f.id }).update({ status: 'resolved', resolution, resolved_by: actorId, resolved_at: now, triaged_at: f.triaged_at ?? now });
+    await recordAudit(trx, {
+      actorId,
+      kind: 'fault.resolved',
+      subjectType: 'fault',
+      subjectId: f.id,
+      summary: `Fault on ${machine.name} closed because the machine was retired: ${f.summary}`.slice(0, 500),
+      before: { status: f.status },
+      after: { status: 'resolved', resolution, closedBy: 'machine retired' },
+    });
+    await queueMail(trx, f.email, `The fault you reported on ${machine.name} is closed`, {
+      greeting: `Kia ora ${f.reporter_name},`,
+      paragraphs: [`Thank you for reporting “${f.summary}”. ${machine.name} has been retired, so the fault is closed. The reason given: ${reason}`],
+    });
+  }
+  return open.map((f) => f.id);
+}
