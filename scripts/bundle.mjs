@@ -1,5 +1,5 @@
 /**
- * Bundles the server wrapper, the worker, the migration runner and backup/restore (TypeScript) into plain ESM under
+ * Bundles the server wrapper, the worker, the migration runner, backup/restore and reconcile (TypeScript) into plain ESM under
  * <outDir>/scripts/, and each migration into <outDir>/migrations/, so production runs them with node alone
  * (no tsx). Packages stay external: `npm ci --omit=dev` provides them. Run by `npm run build` after astro build.
  *   node scripts/bundle.mjs [outDir]   (default: dist)
@@ -12,7 +12,7 @@ const root = path.resolve(import.meta.dirname, '..');
 const outDir = path.resolve(root, process.argv[2] ?? 'dist');
 
 await build({
-  entryPoints: ['serve', 'worker', 'migrate', 'backup', 'restore'].map((n) => path.join(root, 'scripts', `${n}.ts`)),
+  entryPoints: ['serve', 'worker', 'migrate', 'backup', 'restore', 'reconcile'].map((n) => path.join(root, 'scripts', `${n}.ts`)),
   outdir: path.join(outDir, 'scripts'),
   outExtension: { '.js': '.mjs' },
   bundle: true,
@@ -37,4 +37,4 @@ await build({
   target: 'node20',
   logLevel: 'warning',
 });
-console.log(`• Bundled serve, worker, migrate, backup and restore (${migrations.length} migrations) into ${path.relative(root, outDir)}/`);
+console.log(`• Bundled serve, worker, migrate, backup, restore and reconcile (${migrations.length} migrations) into ${path.relative(root, outDir)}/`);

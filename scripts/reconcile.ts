@@ -12,7 +12,7 @@ import { appEnv, demoConfig, loadSecrets } from './lib/stack';
 const { values } = parseArgs({ options: { from: { type: 'string' }, to: { type: 'string' }, csv: { type: 'string' } } });
 const day = /^\d{4}-\d{2}-\d{2}$/;
 if (!values.from || !values.to || !day.test(values.from) || !day.test(values.to) || values.to < values.from) {
-  console.error('Usage: npm run reconcile -- --from YYYY-MM-DD --to YYYY-MM-DD [--csv file]   (site days, both included)');
+  console.error('Usage: npm run reconcile -- --from YYYY-MM-DD --to YYYY-MM-DD [--csv file]   (site days, both included)\n       in a production install: node dist/scripts/reconcile.mjs --from … --to … [--csv file]');
   process.exit(2);
 }
 if (!process.env.DATABASE_URL) {

@@ -9,6 +9,7 @@ import type { Knex } from 'knex';
 import { addDays, localToInstant, wallClock } from '../src/lib/availability';
 import { beamTimeMinor, breakdownOf, quote, type PriceTable } from '../src/lib/pricing';
 import type { Tier } from '../src/lib/vocabulary';
+import { formatReceiptNumber, receiptPrefix } from '../src/lib/receipts';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 const MIN = 60_000;
@@ -105,7 +106,7 @@ async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promis
     chargedToday.set(dayKey, (chargedToday.get(dayKey) ?? 0) + beamTimeMinor(q));
     const recharge = rechargeTiers.includes(b.tier) && b.cost_centre !== null;
     const breakdown = breakdownOf(q);
-    await knex('charges').insert({
+    const [charge] = await knex('charges').insert({
       person_id: b.person_id,
       tier: b.tier,
       machine_id: b.machine_id,
@@ -126,8 +127,21 @@ async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promis
       breakdown: JSON.stringify(breakdown),
       created_at: checkedOut,
       updated_at: checkedOut,
-    });
+    }).returning('id');
+    await seedReceipt(knex, charge.id, checkedOut, tz);
   }
+}
+
+/** Dates and numbers a seeded charge's receipt from the year's counter, as taking the payment at check-out does. */
+async function seedReceipt(knex: Knex, chargeId: string, at: Date, tz: string): Promise<void> {
+  const name = ((await knex('site_settings').where({ id: 1 }).first('name'))?.name as string | undefined) ?? 'Beamwarden';
+  const year = Number(new Intl.DateTimeFormat('en-CA', { timeZone: tz, year: 'numeric' }).format(at));
+  const r = await knex.raw(
+    'INSERT INTO receipt_counters (year, last_number) VALUES (?, 1) ON CONFLICT (year) DO UPDATE SET last_number = receipt_counters.last_number + 1 RETURNING last_number',
+    [year],
+  );
+  const n = Number((r as { rows: { last_number: number }[] }).rows[0]!.last_number);
+  await knex('charges').where({ id: chargeId }).update({ receipt_number: formatReceiptNumber(receiptPrefix(name), year, n), charged_at: at });
 }
 
 async function seedFaults(knex: Knex, tz: string, now: Date): Promise<void> {

@@ -52,8 +52,8 @@ function PersonSearch({ onPick, label }: { onPick: (p: Found) => void; label: st
         <ul className="space-y-1">
           {found.map((p) => (
             <li key={p.id}>
-              <button type="button" className="btn btn-quiet w-full text-left" onClick={() => onPick(p)}>
-                {p.name} <span className="hint">{p.email}{p.active ? '' : ' · not active'} · {p.badges} badge{p.badges === 1 ? '' : 's'}</span>
+              <button type="button" className="btn btn-quiet w-full flex-wrap justify-start gap-x-2 text-left" onClick={() => { setFound(null); onPick(p); }}>
+                {p.name} <span className="hint break-all font-normal">{p.email}{p.active ? '' : ' · not active'} · {p.badges} badge{p.badges === 1 ? '' : 's'}</span>
               </button>
             </li>
           ))}
@@ -71,7 +71,7 @@ export default function BadgesDesk({ timeZone, locale }: { timeZone: string; loc
   const [person, setPerson] = useState<Found | null>(null);
   const [badges, setBadges] = useState<Badge[]>([]);
   const [badge, setBadge] = useState('');
-  const [message, setMessage] = useState<{ ok: boolean; text: string } | null>(null);
+  const [message, setMessage] = useState<{ ok: boolean; text: string; where: 'unknown' | 'person' } | null>(null);
   const time = (iso: string) => f.time(new Date(iso));
 
   const loadUnknown = () => api<Unknown[]>('/api/badges/unknown').then(setUnknown);
@@ -80,14 +80,16 @@ export default function BadgesDesk({ timeZone, locale }: { timeZone: string; loc
     void loadUnknown().catch(() => setUnknown([]));
   }, []);
 
-  async function run(work: () => Promise<string>) {
+  async function run(where: 'unknown' | 'person', work: () => Promise<string>) {
     setMessage(null);
     try {
-      setMessage({ ok: true, text: await work() });
+      setMessage({ ok: true, text: await work(), where });
     } catch (err) {
-      setMessage({ ok: false, text: err instanceof ApiError ? err.message : 'Something went wrong; try again.' });
+      setMessage({ ok: false, text: err instanceof ApiError ? err.message : 'Something went wrong; try again.', where });
     }
   }
+  const answer = (where: 'unknown' | 'person') =>
+    message?.where === where ? <p className={`notice ${message.ok ? 'notice-ok' : 'notice-stop'}`} role={message.ok ? 'status' : 'alert'}>{message.text}</p> : null;
 
   return (
     <div className="grid gap-8 lg:grid-cols-2">
@@ -108,7 +110,7 @@ export default function BadgesDesk({ timeZone, locale }: { timeZone: string; loc
         {assigning && (
           <div className="notice space-y-2">
             <p className="font-medium">Give badge …{assigning.lastFour} to:</p>
-            <PersonSearch label="Person standing at the machine" onPick={(p) => void run(async () => {
+            <PersonSearch label="Person standing at the machine" onPick={(p) => void run('unknown', async () => {
               await api(`/api/badges/unknown/${assigning.id}/assign`, { method: 'POST', json: { personId: p.id } });
               setAssigning(null);
               await loadUnknown();
@@ -117,14 +119,15 @@ export default function BadgesDesk({ timeZone, locale }: { timeZone: string; loc
             <button type="button" className="btn btn-quiet" onClick={() => setAssigning(null)}>Cancel</button>
           </div>
         )}
+        {answer('unknown')}
       </section>
 
       <section aria-labelledby={`${ids}-e`} className="card space-y-3 p-4">
         <h2 id={`${ids}-e`} className="text-xl">A person’s badges</h2>
-        <PersonSearch label="Find the person" onPick={(p) => { setPerson(p); void loadBadges(p); }} />
+        <PersonSearch label="Find the person" onPick={(p) => { setPerson(p); setMessage(null); void loadBadges(p); }} />
         {person && (
-          <div className="space-y-3">
-            <p className="font-medium">{person.name} <span className="hint">{person.email}</span></p>
+          <div className="space-y-3 border-t border-[var(--color-line)] pt-3" aria-label={`Badges of ${person.name}`} role="group">
+            <h3 className="font-semibold">Badges of {person.name} <span className="hint block break-all font-normal">{person.email}</span></h3>
             {badges.length === 0 ? <p className="hint">No badges yet.</p> : (
               <ul className="space-y-1">
                 {badges.map((b) => (
@@ -132,7 +135,7 @@ export default function BadgesDesk({ timeZone, locale }: { timeZone: string; loc
                     <span><span className="font-mono">…{b.lastFour}</span> <span className="hint">enrolled {f.date(new Date(b.createdAt))}{b.createdByName ? ` by ${b.createdByName}` : ''}</span></span>
                     <button type="button" className="btn btn-quiet" onClick={() => {
                       if (!confirm(`Remove badge …${b.lastFour} from ${person.name}?`)) return;
-                      void run(async () => { await api(`/api/badges/${b.id}`, { method: 'DELETE' }); await loadBadges(person); return `Badge …${b.lastFour} removed.`; });
+                      void run('person', async () => { await api(`/api/badges/${b.id}`, { method: 'DELETE' }); await loadBadges(person); return `Badge …${b.lastFour} removed.`; });
                     }}>Remove</button>
                   </li>
                 ))}
@@ -140,7 +143,7 @@ export default function BadgesDesk({ timeZone, locale }: { timeZone: string; loc
             )}
             <form className="flex flex-wrap items-end gap-2" onSubmit={(e) => {
               e.preventDefault();
-              void run(async () => {
+              void run('person', async () => {
                 const r = await api<Badge>(`/api/people/${person.id}/badges`, { method: 'POST', json: { badge } });
                 setBadge('');
                 await loadBadges(person);
@@ -156,8 +159,8 @@ export default function BadgesDesk({ timeZone, locale }: { timeZone: string; loc
             <p className="hint text-sm">Only the last four characters are kept readable; the rest is stored as a fingerprint.</p>
           </div>
         )}
+        {answer('person')}
       </section>
-      {message && <p className={`notice ${message.ok ? 'notice-ok' : 'notice-stop'} lg:col-span-2`} role={message.ok ? 'status' : 'alert'}>{message.text}</p>}
     </div>
   );
 }

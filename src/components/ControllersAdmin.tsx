@@ -46,6 +46,7 @@ export default function ControllersAdmin({ machines, timeZone, locale }: { machi
   const [name, setName] = useState('');
   const [token, setToken] = useState<{ label: string; token: string } | null>(null);
   const [error, setError] = useState<string | null>(null);
+  const [saved, setSaved] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
 
   async function load() {
@@ -60,6 +61,7 @@ export default function ControllersAdmin({ machines, timeZone, locale }: { machi
   async function act(work: () => Promise<void>) {
     setBusy(true);
     setError(null);
+    setSaved(null);
     try {
       await work();
       await load();
@@ -80,7 +82,7 @@ export default function ControllersAdmin({ machines, timeZone, locale }: { machi
   };
 
   return (
-    <section aria-labelledby={`${ids}-h`} className="min-w-0 max-w-full space-y-4 overflow-x-hidden">
+    <section aria-labelledby={`${ids}-h`} className="min-w-0 max-w-full space-y-4">
       <h2 id={`${ids}-h`} className="text-xl">Controllers</h2>
       <p className="hint">
         A controller is the box at a machine: a badge reader and a relay on the machine’s enable line. It asks Beamwarden whether a badge may
@@ -114,14 +116,15 @@ export default function ControllersAdmin({ machines, timeZone, locale }: { machi
         <legend className="px-1 font-medium">Without a booking</legend>
         <label className="flex items-start gap-2 text-sm">
           <input type="radio" name={`${ids}-walk`} checked={!walkUps} disabled={busy}
-            onChange={() => void act(async () => void (await api('/api/controllers/walk-ups', { method: 'PUT', json: { mode: 'bookings_only' } })))} />
+            onChange={() => void act(async () => { await api('/api/controllers/walk-ups', { method: 'PUT', json: { mode: 'bookings_only' } }); setSaved('Saved: a badge fires a machine only during a booking.'); })} />
           <span>Bookings only: a badge fires a machine only during the person’s booking.</span>
         </label>
         <label className="flex items-start gap-2 text-sm">
           <input type="radio" name={`${ids}-walk`} checked={walkUps} disabled={busy}
-            onChange={() => void act(async () => void (await api('/api/controllers/walk-ups', { method: 'PUT', json: { mode: 'walk_ups_allowed' } })))} />
+            onChange={() => void act(async () => { await api('/api/controllers/walk-ups', { method: 'PUT', json: { mode: 'walk_ups_allowed' } }); setSaved('Saved: walk-ups are allowed on free machines during opening hours.'); })} />
           <span>Walk-ups allowed: a cleared person may also start a session on a free machine during opening hours, until the next booking (at most 2 hours).</span>
         </label>
+        <p role="status" className={saved ? 'text-sm font-medium text-[var(--color-ok)]' : 'sr-only'}>{saved ? `✓ ${saved}` : ''}</p>
       </fieldset>
       {rows === null ? (
         <p className="hint">Loading controllers…</p>
@@ -131,25 +134,27 @@ export default function ControllersAdmin({ machines, timeZone, locale }: { machi
         <div className="max-w-full overflow-x-auto">
           <table className="table">
             <caption className="sr-only">Controllers</caption>
-            <thead>
+            <thead className="hidden sm:table-header-group">
               <tr><th>Machine</th><th>Box</th><th>Relay</th><th>Last seen</th><th>Firmware</th><th><span className="sr-only">Actions</span></th></tr>
             </thead>
             <tbody>
               {rows.map((c) => (
-                <tr key={c.id} className={c.revokedAt ? 'opacity-60' : undefined}>
-                  <td>{c.machineName}</td>
-                  <td>{c.name}</td>
-                  <td>
+                <tr key={c.id} data-controller={c.id} className={`block border-b border-[var(--color-line)] py-2 sm:table-row sm:border-0 sm:py-0${c.revokedAt ? ' opacity-60' : ''}`}>
+                  <td className="block border-0 py-1 font-medium sm:table-cell sm:border-b sm:py-[.6rem] sm:font-normal">{c.machineName}</td>
+                  <td className="block border-0 py-1 sm:table-cell sm:border-b sm:py-[.6rem]"><Label>Box</Label>{c.name}</td>
+                  <td className="block border-0 py-1 sm:table-cell sm:border-b sm:py-[.6rem]">
+                    <Label>Relay</Label>
                     {c.revokedAt ? '✕ Revoked'
                       : c.lastState === 'enabled' ? '● Enabled'
                       : c.lastState === 'cut' ? `○ Cut${c.lastStateReason ? ` (${REASON_TEXT[c.lastStateReason] ?? c.lastStateReason})` : ''}`
                       : '— not asked yet'}
                   </td>
-                  <td>
+                  <td className="block border-0 py-1 sm:table-cell sm:border-b sm:py-[.6rem]">
+                    <Label>Last seen</Label>
                     {c.revokedAt ? '—' : <>{c.online ? '✓ Online' : '⚠ Offline'} <span className="hint">· {seen(c.lastSeenAt, timeZone, locale)}</span></>}
                   </td>
-                  <td className="font-mono text-sm">{c.firmware ?? '—'}</td>
-                  <td className="whitespace-nowrap">
+                  <td className="block border-0 py-1 sm:table-cell sm:border-b sm:py-[.6rem]"><Label>Firmware</Label><span className="font-mono text-sm">{c.firmware ?? '—'}</span></td>
+                  <td className="block border-0 py-1 sm:table-cell sm:whitespace-nowrap sm:border-b sm:py-[.6rem]">
                     {!c.revokedAt && (
                       <>
                         <button type="button" className="btn btn-quiet" disabled={busy}
@@ -159,12 +164,12 @@ export default function ControllersAdmin({ machines, timeZone, locale }: { machi
                               const r = await api<{ token: string }>(`/api/controllers/${c.id}/rotate`, { method: 'POST' });
                               setToken({ label: `${c.name} on ${c.machineName}`, token: r.token });
                             });
-                          }}>New token</button>{' '}
+                          }}>New token<span className="sr-only"> for {c.name}</span></button>{' '}
                         <button type="button" className="btn btn-quiet" disabled={busy}
                           onClick={() => {
                             if (!confirm(`Revoke “${c.name}”? Its token stops working at once and cannot be restored.`)) return;
                             void act(async () => void (await api(`/api/controllers/${c.id}/revoke`, { method: 'POST' })));
-                          }}>Revoke</button>
+                          }}>Revoke<span className="sr-only"> {c.name}</span></button>
                       </>
                     )}
                   </td>
@@ -177,4 +182,9 @@ export default function ControllersAdmin({ machines, timeZone, locale }: { machi
       <p className="hint text-sm">A controller silent for 2 minutes while its machine is booked is e-mailed to the stewards once.</p>
     </section>
   );
+}
+
+/** The column's name in front of a value, on a phone only (the table's header row is hidden there). */
+function Label({ children }: { children: string }) {
+  return <span className="font-semibold text-charcoal-soft sm:hidden">{children}: </span>;
 }

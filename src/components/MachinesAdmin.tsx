@@ -122,8 +122,8 @@ export default function MachinesAdmin({ machines: initial, groups }: { machines:
     if (!retiring) return;
     setBusy(true);
     try {
-      const r = await api<{ cancelledBookings: number }>(`/api/machines/${retiring.id}/retire`, { method: 'POST', json: { reason } });
-      window.location.assign(`/admin/machines?retired=${encodeURIComponent(retiring.name)}&cancelled=${r.cancelledBookings}`);
+      const r = await api<{ cancelledBookings: number; closedFaults: number }>(`/api/machines/${retiring.id}/retire`, { method: 'POST', json: { reason } });
+      window.location.assign(`/admin/machines?retired=${encodeURIComponent(retiring.name)}&cancelled=${r.cancelledBookings}&faults=${r.closedFaults}`);
     } catch (err) {
       setMessage({ tone: 'stop', text: err instanceof ApiError ? err.message : 'Not retired.', ...(err instanceof ApiError && err.fields ? { fields: err.fields } : {}) });
       setBusy(false);
@@ -240,11 +240,11 @@ export default function MachinesAdmin({ machines: initial, groups }: { machines:
       {retiring && (
         <form className="card space-y-4 border-stop p-4" onSubmit={retire} aria-label={`Retire ${retiring.name}`}>
           <h3 className="text-lg">Retire {retiring.name}?</h3>
-          <p>It leaves the booking calendar, the Floor and its label page, and takes no more bookings. Every reserved booking on it that has not ended is cancelled, the people are e-mailed with your reason, and card holds are released. Its history stays in the reports and the audit log. This cannot be undone here; its label code is never reused.</p>
+          <p>It leaves the booking calendar, the Floor and its label page, and takes no more bookings. Every reserved booking on it that has not ended is cancelled, the people are e-mailed with your reason, and card holds are released; its open faults are closed as “Machine retired”. Its history stays in the reports and the audit log. This cannot be undone here; its label code is never reused.</p>
           <label className="field">
             <span>Why it is retired</span>
             <textarea className="input" rows={2} maxLength={500} value={reason} onChange={(e) => setReason(e.target.value)} required minLength={3} aria-describedby={`${ids}-reason`} />
-            <small id={`${ids}-reason`} className="hint">The people whose bookings are cancelled read this.</small>
+            <small id={`${ids}-reason`} className="hint">The people whose bookings are cancelled, and those who reported its open faults, read this.</small>
           </label>
           {message && <p role="alert" className={`notice notice-${message.tone}`}>{message.text}</p>}
           <div className="flex flex-wrap gap-3">

@@ -16,6 +16,8 @@ interface PersonRow {
   createdAt: string;
   tier: Tier;
   costCentre: string | null;
+  /** invited by an admin and no password chosen yet */
+  awaitingInvitation: boolean;
 }
 interface PageData {
   total: number;
@@ -97,6 +99,21 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC', locale }: { self
     }
   }
 
+  // A person invited by an admin who has not chosen a password yet: a new link replaces the old one.
+  async function resendInvitation(person: PersonRow) {
+    setBusy(`${person.id}:invite`);
+    setMessage(null);
+    try {
+      const r = await api<{ email: string; name: string; expiresInDays: number }>(`/api/people/${person.id}/invitation`, { method: 'POST' });
+      setMessage({ tone: 'ok', text: `A new invitation went to ${r.name} <${r.email}>. Its link works for ${r.expiresInDays} days; the link in any earlier invitation no longer works.` });
+    } catch (e) {
+      setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'The invitation was not sent.' });
+      if (e instanceof ApiError && e.status === 409) void load();
+    } finally {
+      setBusy(null);
+    }
+  }
+
   async function saveTier(person: PersonRow, tier: Tier, costCentre: string | null) {
     setBusy(`${person.id}:tier`);
     setMessage(null);
@@ -162,6 +179,14 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC', locale }: { self
                 <td className="font-medium">
                   {p.name}{!p.active && <span className="status status-stop ml-2">Deactivated</span>}
                   <span className="block break-all text-sm font-normal text-charcoal-soft md:hidden">{p.email}</span>
+                  {p.awaitingInvitation && p.active && (
+                    <span className="mt-1 block text-sm font-normal" data-testid="awaiting-invitation">
+                      <span className="status status-warn">✉ Invited, no password yet</span>
+                      <button type="button" className="flex min-h-8 items-center text-sm font-normal text-ember-dark underline disabled:opacity-50" disabled={busy !== null} onClick={() => void resendInvitation(p)}>
+                        {busy === `${p.id}:invite` ? 'Sending…' : 'Send a new invitation'}<span className="sr-only"> to {p.name}</span>
+                      </button>
+                    </span>
+                  )}
                   {p.id !== selfId && (
                     <button type="button" className="mt-1 flex min-h-8 items-center text-sm font-normal text-ember-dark underline disabled:opacity-50" disabled={busy !== null} onClick={() => void setActive(p, !p.active)}>
                       {p.active ? 'Deactivate' : 'Reactivate'}<span className="sr-only"> {p.name}</span>

@@ -40,6 +40,7 @@ export const AUDIT_KIND_WORDS: Readonly<Record<string, string>> = {
   'material_request.rejected': 'Material request refused',
   'person.created': 'Person added',
   'person.deactivated': 'Person deactivated',
+  'person.invitation_resent': 'New invitation sent',
   'person.reactivated': 'Person reactivated',
   'person.tier_changed': 'Tier changed',
   'price.version_created': 'New price version',
@@ -76,6 +77,8 @@ export const AUDIT_FIELD_WORDS: Readonly<Record<string, string>> = {
   coolantC: 'Coolant temperature (°C)',
   beamMinutes: 'Beam time (minutes)',
   jobTimerMinutes: 'Job timer (minutes)',
+  closedBy: 'Closed because',
+  closedFaults: 'Open faults closed',
 };
 
 /** "machine.status_changed" → "Machine status changed" (known codes), else the code made readable. */

@@ -56,6 +56,14 @@ export const MISMATCH_TEXT: Record<MismatchKind, string> = {
   state_differs: 'states differ',
 };
 
+/**
+ * One side of a difference as people read it: the amount at its end is kept in minor units ("captured 2400"), shown
+ * in the currency ("captured NZD 24.00"). Text without an amount ("captured", "—") is unchanged.
+ */
+export function readableSide(text: string, money: (amountMinor: number) => string): string {
+  return text.replace(/(^|\s)(\d+)$/, (_all, space: string, n: string) => `${space}${money(Number(n))}`);
+}
+
 /** What the provider's side of one of our charges should look like. */
 function expected(c: OurCharge): { captured: boolean | null; capturedMinor: number | null; refundedMinor: number | null; state: string } {
   switch (c.state) {

@@ -110,6 +110,17 @@ describe('admin: accounts', () => {
     await expect.poll(() => answer.textContent()).toMatch(/already has an account/);
     expect(await form.getByLabel('E-mail', { exact: true }).getAttribute('aria-invalid')).toBe('true');
 
+    // until they choose a password the list says so, and a new invitation can be sent from their row
+    await page.getByLabel('Search by name or e-mail').fill(email);
+    const row = page.locator(`tr[data-person="${email}"]`);
+    await row.getByTestId('awaiting-invitation').waitFor();
+    expect(await row.getByTestId('awaiting-invitation').innerText()).toContain('Invited, no password yet');
+    await row.getByRole('button', { name: `Send a new invitation to ${name}` }).click();
+    await page.getByText(`A new invitation went to ${name} <${email}>`).waitFor();
+    const again = await waitForMail((m) => to(email)(m) && /new invitation/i.test(m.subject));
+    expect(again.text).toContain('no longer works');
+    await shot(page, 'admin-people-reinvited-desk');
+
     const problems = await checkBothWidths(page, 'admin-people');
     const all = [...problems, ...unexpected(errors)];
     expect(all, all.join('\n')).toEqual([]);

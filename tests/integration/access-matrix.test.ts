@@ -76,7 +76,8 @@ const MATRIX: Record<string, Row> = {
   'GET /clearances': page('member', 'instructor', 'steward'),
   'GET /clearances/quiz/[id]': page('member', 'instructor', 'steward'),
   'GET /hazard': page(),
-  'GET /hazard/[id]': page(),
+  // public: safety information reached from the machine's QR page, which is public too
+  'GET /hazard/[id]': everyone(200),
   'GET /materials': page(),
   'GET /materials/requests': page('steward', 'admin'),
   'GET /quizzes': page('instructor'),
@@ -152,6 +153,7 @@ const MATRIX: Record<string, Row> = {
   'POST /api/people': api(422, 'admin'),
   'POST /api/people/[id]/deactivate': api(404, 'admin'),
   'POST /api/people/[id]/reactivate': api(404, 'admin'),
+  'POST /api/people/[id]/invitation': api(404, 'admin'),
   'PUT /api/people/[id]/roles': api(422, 'admin'),
   'PUT /api/people/[id]/tier': api(422, 'admin'),
   'GET /api/pricing/versions': api(200, 'admin'),

@@ -8,13 +8,15 @@ import { unzipSync, strFromU8 } from 'fflate';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { DEMO, DEMO_PASSWORD } from '../support/env';
+import { createHash } from 'node:crypto';
 import { confirmByDatabase, signUpNew } from '../support/people';
-import { to, type Mail, waitForMail } from '../support/mail';
+import { inbox, to, type Mail, waitForMail } from '../support/mail';
 
 afterEach(clearSignInLimits);
 afterAll(closeTestDb);
 
 const NEW_PASSWORD = 'a fresh passphrase for the laser room';
+const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
 
 function linkToken(mail: Mail, path: string): string {
   const m = new RegExp(`${path}\\?token=([A-Za-z0-9_-]+)`).exec(mail.text ?? '');
@@ -274,6 +276,65 @@ describe('invitations', () => {
     const res = await admin.send('POST', '/api/people', { name: 'Tama Tier', email, roles: ['member'], tier: 'staff' });
     expect(res.status).toBe(201);
     expect(await body(res)).toMatchObject({ email, tier: 'staff', roles: ['member'] });
+  });
+});
+
+describe('sending a new invitation', () => {
+  it('a person who has not chosen a password gets a new link; the old one stops working; throttled; audited; refused once the password is set', async () => {
+    const admin = await Client.as('admin');
+    const email = `reinvited-${Date.now()}@tidewater.example`;
+    const made = await body(await admin.send('POST', '/api/people', { name: 'Wiremu Reinvited', email, roles: ['member'] }));
+    const first = await waitForMail((m) => to(email)(m) && /invited/.test(m.subject));
+    const oldToken = linkToken(first, '/reset-password');
+
+    // the People list says who is still to choose a password
+    const listed = await body(await admin.get(`/api/people?q=${encodeURIComponent(email)}`));
+    expect(listed.rows).toEqual([expect.objectContaining({ id: made.id, awaitingInvitation: true })]);
+
+    const res = await admin.send('POST', `/api/people/${made.id}/invitation`);
+    expect(res.status, await res.clone().text()).toBe(200);
+    expect(await body(res)).toEqual({ email, name: 'Wiremu Reinvited', expiresInDays: 7 });
+    const second = await waitForMail((m) => to(email)(m) && /new invitation/i.test(m.subject));
+    expect(second.text).toContain('no longer works');
+    const newToken = linkToken(second, '/reset-password');
+    expect(newToken).not.toBe(oldToken);
+
+    // the earlier link no longer works; the page says so rather than "already used"
+    const c = new Client(undefined, freshLoopbackAddress());
+    const old = await c.send('POST', '/api/account/password-reset/confirm', { token: oldToken, password: NEW_PASSWORD });
+    expect(old.status).toBe(404);
+    expect((await body(old)).error.code).toBe('token_unknown');
+
+    const audit = await testDb()('audit_log').where({ kind: 'person.invitation_resent', subject_id: made.id }).select('actor_id', 'summary');
+    expect(audit).toHaveLength(1);
+    expect(audit[0]!.summary).toContain(email);
+
+    // throttled: 3 an hour to one person (request-limits.ts); the 4th answers 429 with Retry-After, and sends nothing
+    expect((await admin.send('POST', `/api/people/${made.id}/invitation`)).status).toBe(200);
+    expect((await admin.send('POST', `/api/people/${made.id}/invitation`)).status).toBe(200);
+    const limited = await admin.send('POST', `/api/people/${made.id}/invitation`);
+    expect(limited.status).toBe(429);
+    expect(Number(limited.headers.get('retry-after'))).toBeGreaterThan(0);
+    expect(await testDb()('audit_log').where({ kind: 'person.invitation_resent', subject_id: made.id }).count({ n: '*' }).first()).toEqual({ n: '3' });
+    await clearSignInLimits();
+
+    // the newest link sets the password; from then on there is nothing to resend
+    const live = (await testDb()('account_tokens').where({ person_id: made.id, purpose: 'invite' }).whereNull('used_at').pluck('token_hash')) as string[];
+    expect(live).toHaveLength(1);
+    await waitForMail((m) => to(email)(m) && /new invitation/i.test(m.subject) && live.includes(sha256(linkToken(m, '/reset-password'))));
+    const newest = (await inbox()).find((m) => to(email)(m) && /new invitation/i.test(m.subject) && live.includes(sha256(linkToken(m, '/reset-password'))))!;
+    expect((await c.send('POST', '/api/account/password-reset/confirm', { token: linkToken(newest, '/reset-password'), password: NEW_PASSWORD })).status).toBe(200);
+    const after = await admin.send('POST', `/api/people/${made.id}/invitation`);
+    expect(after.status).toBe(409);
+    expect((await body(after)).error.code).toBe('not_awaiting_invitation');
+    expect((await body(await admin.get(`/api/people?q=${encodeURIComponent(email)}`))).rows[0].awaitingInvitation).toBe(false);
+
+    // someone who signed up themselves was never invited: nothing to resend
+    const selfMade = await signUpNew('not-invited');
+    const selfId = ((await testDb()('people').where({ email: selfMade.email }).first('id')) as { id: string }).id;
+    expect((await admin.send('POST', `/api/people/${selfId}/invitation`)).status).toBe(409);
+    // only admins
+    expect((await selfMade.client.send('POST', `/api/people/${made.id}/invitation`)).status).toBe(403);
   });
 });
 

@@ -146,6 +146,25 @@ describe('the machine page', () => {
     expect((await member.get('/m/no-such-laser')).status).toBe(404);
   });
 
+  it('signed out, the full hazard sheet opens from the machine page: figures, sources and cautions, nothing about people', async () => {
+    const visitor = new Client();
+    const page = await (await visitor.get('/m/laser-a')).text();
+    expect(page).toContain(`href="/hazard/${lasers['laser-a']}"`);
+    const res = await visitor.get(`/hazard/${lasers['laser-a']}`);
+    expect(res.status).toBe(200);
+    const html = await res.text();
+    expect(html).toContain('data-testid="eyewear"');
+    expect(html).toContain('data-figure="class"');
+    expect(html).toContain('ANSI Z136.1');
+    expect(html).toContain('Cautions');
+    // no one's name or address: the demo people's e-mails never appear, and the frame offers a sign-in
+    expect(html).not.toMatch(/@tidewater\.example/);
+    expect(html).toContain('href="/signin');
+    // the recompute form (a GET) works signed out too; an unknown machine is the 404 page
+    expect((await visitor.get(`/hazard/${lasers['laser-a']}?exposureS=0.25`)).status).toBe(200);
+    expect((await visitor.get('/hazard/00000000-0000-4000-8000-000000000000')).status).toBe(404);
+  });
+
   it('shows status, now and next, the hazard summary and the fault link', async () => {
     const html = await (await member.get('/m/laser-a')).text();
     expect(html).toContain('data-status="in service"');

@@ -153,6 +153,50 @@ describe('retiring a machine', () => {
     await expectError(await admin.send('POST', '/api/machines', machineBody(m.code)), 409, 'code_taken');
   });
 
+  it('closes its open faults in the same step ("Machine retired"), so they leave the stewards\' queue; each is audited and its reporter told', async () => {
+    const m = await create(`t-rfault-${stamp}`);
+    const steward = await Client.as('steward');
+    const reporter = await clearedNew('retire-fault', [m.code]);
+    const report = async (severity: string, summary: string) => {
+      const form = new FormData();
+      for (const [k, v] of Object.entries({ severity, summary, details: '' })) form.set(k, v);
+      const res = await reporter.client.fetch(`/api/machines/${m.code}/faults`, { method: 'POST', body: form });
+      const b = await body(res);
+      expect(res.status, JSON.stringify(b)).toBe(201);
+      return b.fault.id as string;
+    };
+    const noted = await report('note', 'Honeycomb bed is bent in one corner');
+    const degraded = await report('degraded', 'Air assist is weak');
+    expect((await steward.send('POST', `/api/faults/${degraded}/triage`, { note: 'Compressor due for service.' })).status).toBe(200);
+    // an earlier, resolved fault keeps its own resolution
+    const done = await report('note', 'Lid handle loose');
+    expect((await steward.send('POST', `/api/faults/${done}/resolve`, { resolution: 'Handle tightened.' })).status).toBe(200);
+    const queue = async () => ((await body(await steward.get(`/api/faults?status=unresolved&machineId=${m.id}`))) as { id: string }[]).map((f) => f.id);
+    expect((await queue()).sort()).toEqual([noted, degraded].sort());
+
+    const sent = new Date();
+    const res = await admin.send('POST', `/api/machines/${m.id}/retire`, { reason: 'Replaced by a larger machine.' });
+    const r = await body(res);
+    expect(res.status, JSON.stringify(r)).toBe(200);
+    expect(r.closedFaults).toBe(2);
+    expect(await queue()).toEqual([]);
+    const rows = await testDb()('faults').whereIn('id', [noted, degraded, done]).select('id', 'status', 'resolution', 'resolved_at', 'resolved_by');
+    const byId = new Map(rows.map((f) => [f.id, f]));
+    const adminId = ((await testDb()('people').where({ email: 'admin@tidewater.example' }).first('id')) as { id: string }).id;
+    for (const id of [noted, degraded]) {
+      expect(byId.get(id)).toMatchObject({ status: 'resolved', resolution: 'Machine retired: Replaced by a larger machine.', resolved_by: adminId });
+      // in the same transaction as the retirement: the same instant
+      const retiredAt = (await testDb()('machines').where({ id: m.id }).first('retired_at')).retired_at as Date;
+      expect(new Date(byId.get(id)!.resolved_at).getTime()).toBe(new Date(retiredAt).getTime());
+      const audit = await testDb()('audit_log').where({ kind: 'fault.resolved', subject_id: id }).first('actor_id', 'after');
+      expect(audit).toMatchObject({ actor_id: adminId, after: { status: 'resolved', closedBy: 'machine retired' } });
+    }
+    expect(byId.get(done)).toMatchObject({ status: 'resolved', resolution: 'Handle tightened.' });
+    expect((await testDb()('audit_log').where({ kind: 'machine.retired', subject_id: m.id }).first('after')).after).toMatchObject({ closedFaults: 2 });
+    const mail = await waitForMail((x) => x.subject === `The fault you reported on ${m.name} is closed` && x.to.some((t) => t.address === reporter.email), { since: sent });
+    expect(mail.text).toContain('Replaced by a larger machine.');
+  });
+
   it('is refused while someone is checked in on it (409 machine_in_use), and nothing changes', async () => {
     const m = await create(`t-busy-${stamp}`);
     // open all day on a five-minute grid, so a booking can start within the ten minutes before check-in opens

@@ -15,6 +15,7 @@ import { createPerson, EmailTaken, getPerson, type Person } from './people';
 import { getSettings, publicBaseUrl } from './settings';
 import { clearSignInCounters } from './sign-in';
 import { cancelFutureBookingsOf } from './bookings/cancel';
+import { countRequest } from './request-limits';
 import { passwordProblem } from '../password-rules';
 import type { Role } from '../roles';
 import type { Tier } from '../vocabulary';
@@ -183,27 +184,80 @@ export async function confirmEmail(token: string): Promise<{ email: string }> {
 
 /** An admin adds a person: no password is chosen for them; they get an invitation link to set their own. */
 export async function invitePerson(actorId: string, input: { name: string; email: string; roles: Role[]; tier?: Tier }): Promise<Person> {
-  const [site, base] = await Promise.all([getSettings(), publicBaseUrl()]);
   try {
     return await createPerson({
       ...input,
       password: randomBytes(32).toString('base64url'),
       actorId,
       confirmed: false,
-      then: async (trx, person) => {
-        const token = await issueToken(trx, person.id, 'invite', INVITE_LINK_DAYS * 86_400_000);
-        await queueMail(trx, person.email, `You are invited to ${site.name}`, {
-          greeting: `Hello ${person.name},`,
-          paragraphs: [`An administrator of ${site.name} made an account for you on Beamwarden, where the laser room's bookings, clearances and faults are kept. Choose your password to start.`],
-          action: { label: 'Choose my password', url: `${base}/reset-password?token=${token}` },
-          footnote: `The link works once, for ${INVITE_LINK_DAYS} days. An administrator can send a new one.`,
-        });
-      },
+      then: (trx, person) => queueInvitation(trx, person),
     });
   } catch (err) {
     if (err instanceof EmailTaken) throw new HttpError(409, 'email_taken', 'That address already has an account.');
     throw err;
   }
+}
+
+/** The invitation e-mail: a link to choose a password, good for INVITE_LINK_DAYS days. */
+async function queueInvitation(trx: Knex.Transaction, person: { id: string; email: string; name: string }, again = false): Promise<void> {
+  const [site, base] = await Promise.all([getSettings(), publicBaseUrl()]);
+  const token = await issueToken(trx, person.id, 'invite', INVITE_LINK_DAYS * 86_400_000);
+  await queueMail(trx, person.email, again ? `Your new invitation to ${site.name}` : `You are invited to ${site.name}`, {
+    greeting: `Hello ${person.name},`,
+    paragraphs: [
+      `An administrator of ${site.name} made an account for you on Beamwarden, where the laser room's bookings, clearances and faults are kept. Choose your password to start.`,
+      ...(again ? ['This link replaces the one in any earlier invitation, which no longer works.'] : []),
+    ],
+    action: { label: 'Choose my password', url: `${base}/reset-password?token=${token}` },
+    footnote: `The link works once, for ${INVITE_LINK_DAYS} days. An administrator can send a new one.`,
+  });
+}
+
+/**
+ * The people among `personIds` who were invited by an admin and have not set a password yet (their address is
+ * unconfirmed: choosing a password from any e-mailed link, or signing in through the institution, confirms it).
+ */
+export async function awaitingInvitation(personIds: readonly string[]): Promise<Set<string>> {
+  if (personIds.length === 0) return new Set();
+  const rows = (await db()('people as p')
+    .whereIn('p.id', [...personIds])
+    .whereNull('p.email_confirmed_at')
+    .whereNull('p.closed_at')
+    .whereExists(db()('account_tokens as t').whereRaw('t.person_id = p.id').where('t.purpose', 'invite'))
+    .select('p.id')) as { id: string }[];
+  return new Set(rows.map((r) => r.id));
+}
+
+/**
+ * An admin sends a fresh invitation to a person they invited who has not chosen a password yet: a new link is
+ * e-mailed and every earlier invitation link stops working (removed, so it answers "not valid"). 404 unknown
+ * person; 409 `not_awaiting_invitation` once they have set a password (or were never invited, or are
+ * deactivated); 429 when asked too often for the same person. Audited as `person.invitation_resent`.
+ */
+export async function resendInvitation(actorId: string, personId: string): Promise<{ email: string; name: string; expiresInDays: number }> {
+  const p = await db()('people').where({ id: personId }).first('id', 'email', 'name', 'active', 'closed_at');
+  if (!p || p.closed_at) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (!(await awaitingInvitation([p.id])).has(p.id)) {
+    throw new HttpError(409, 'not_awaiting_invitation', `${p.name} has already chosen a password (or was not invited by an admin): they sign in as usual, and "Forgot your password?" sends them a reset link.`);
+  }
+  if (!p.active) throw new HttpError(409, 'not_awaiting_invitation', `${p.name} is deactivated: reactivate the account before sending an invitation.`);
+  // limits (request-limits.ts, `invite`): per invited address, and per admin (their id stands in for the client address)
+  await countRequest('invite', p.email, `admin:${actorId}`);
+  await transaction(async (trx) => {
+    const person = await trx('people').where({ id: p.id }).forUpdate().first('id', 'email', 'name', 'email_confirmed_at');
+    if (!person || person.email_confirmed_at) throw new HttpError(409, 'not_awaiting_invitation', `${p.name} has already chosen a password.`);
+    // the old links go: a replaced invitation answers "not valid", never "already used"
+    await trx('account_tokens').where({ person_id: p.id, purpose: 'invite' }).whereNull('used_at').delete();
+    await queueInvitation(trx, person, true);
+    await recordAudit(trx, {
+      actorId,
+      kind: 'person.invitation_resent',
+      subjectType: 'person',
+      subjectId: p.id,
+      summary: `A new invitation was sent to ${p.name} <${p.email}>; earlier invitation links no longer work`,
+    });
+  });
+  return { email: p.email, name: p.name, expiresInDays: INVITE_LINK_DAYS };
 }
 
 // ------------------------------------------------------------------------------------------------

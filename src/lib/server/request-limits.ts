@@ -7,12 +7,14 @@ import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
 import { db } from './db';
 import { HttpError } from './errors';
 
-export type LimitedAction = 'signup' | 'reset' | 'resend';
+export type LimitedAction = 'signup' | 'reset' | 'resend' | 'invite';
 
 export const REQUEST_LIMITS: Record<LimitedAction, { perEmail: number; perAddress: number; durationS: number }> = {
   signup: { perEmail: 3, perAddress: 20, durationS: 60 * 60 },
   reset: { perEmail: 5, perAddress: 20, durationS: 60 * 60 },
   resend: { perEmail: 5, perAddress: 20, durationS: 60 * 60 },
+  // an admin sending someone a new invitation: 3 an hour to one address, 30 an hour from one admin
+  invite: { perEmail: 3, perAddress: 30, durationS: 60 * 60 },
 };
 
 const cache = new Map<string, RateLimiterPostgres>();

@@ -7,7 +7,8 @@ import { queueMail } from '../mail';
 import { releaseHoldsAfterCancel } from '../payments/intents';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
 import { changeStatus, returnToService, statusFor, type ReturnChecklist } from './machine-status';
-import { getFault, lockMachine, openFaultCounts, type Fault, type MachineRow } from './records';
+import { getFault, lockMachine, openFaultCounts, type Fault, type FaultStatus, type MachineRow } from './records';
+import type { Knex } from 'knex';
 import type { Conn } from '../db';
 import type { Actor } from '../../roles';
 
@@ -123,4 +124,33 @@ async function outcomeOf(trx: Conn, machine: MachineRow, statusChanged: boolean)
   else if (machine.status === 'out of service') next = `${machine.name} is still out of service: no stop fault is left, so put it back into service with the checks when it is safe.`;
   else next = `${machine.name} stays ${machine.status}.${open.all ? ` ${n(open.all, 'fault')} left on it.` : ' No open faults are left on it.'}`;
   return { machineName: machine.name, machineStatus: machine.status, statusChanged, openStopFaults: open.stop.length, openFaults: open.all, next };
+}
+
+/**
+ * Closes the open faults of a machine that is being retired, inside the retire cascade's transaction: each is
+ * resolved "Machine retired: <reason>" by the admin retiring it (so it leaves the stewards' queue), audited as
+ * `fault.resolved` with `closedBy: 'machine retired'`, and its reporter is told. Returns the faults' ids.
+ */
+export async function closeFaultsOfRetiredMachine(trx: Knex.Transaction, actorId: string, machine: { id: string; name: string }, reason: string, now: Date): Promise<string[]> {
+  const open = (await trx('faults as f').join('people as p', 'p.id', 'f.reported_by').where('f.machine_id', machine.id).whereNot('f.status', 'resolved')
+    .forUpdate('f').orderBy('f.created_at').select('f.id', 'f.status', 'f.summary', 'f.triaged_at', 'p.email', 'p.name as reporter_name')) as
+    { id: string; status: FaultStatus; summary: string; triaged_at: Date | null; email: string; reporter_name: string }[];
+  const resolution = `Machine retired: ${reason}`;
+  for (const f of open) {
+    await trx('faults').where({ id: f.id }).update({ status: 'resolved', resolution, resolved_by: actorId, resolved_at: now, triaged_at: f.triaged_at ?? now });
+    await recordAudit(trx, {
+      actorId,
+      kind: 'fault.resolved',
+      subjectType: 'fault',
+      subjectId: f.id,
+      summary: `Fault on ${machine.name} closed because the machine was retired: ${f.summary}`.slice(0, 500),
+      before: { status: f.status },
+      after: { status: 'resolved', resolution, closedBy: 'machine retired' },
+    });
+    await queueMail(trx, f.email, `The fault you reported on ${machine.name} is closed`, {
+      greeting: `Hello ${f.reporter_name},`,
+      paragraphs: [`Thank you for reporting “${f.summary}”. ${machine.name} has been retired, so the fault is closed. The reason given: ${reason}`],
+    });
+  }
+  return open.map((f) => f.id);
 }

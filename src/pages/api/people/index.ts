@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { json, readJson, readQuery, requireRole, route } from '../../../lib/server/http';
-import { invitePerson } from '../../../lib/server/accounts';
+import { awaitingInvitation, invitePerson } from '../../../lib/server/accounts';
 import { listPeople } from '../../../lib/server/people';
 import { email, page, pageSize, personName, role, searchText } from '../../../lib/schemas';
 import { TIERS } from '../../../lib/vocabulary';
@@ -14,16 +14,17 @@ const query = z.object({
   dir: z.enum(['asc', 'desc']).default('asc'),
 });
 
-/** GET /api/people?q=&role=&page=&pageSize=&sort=&dir= (admin) → a page of people with their roles. */
+/** GET /api/people?q=&role=&page=&pageSize=&sort=&dir= (admin) → a page of people with their roles (and `awaitingInvitation`: invited, no password chosen yet). */
 export const GET = route(async ({ locals, url }) => {
   requireRole(locals, 'admin');
   const opts = readQuery(url, query);
   const { rows, total } = await listPeople(opts);
+  const invited = await awaitingInvitation(rows.map((p) => p.id));
   return json({
     total,
     page: opts.page,
     pageSize: opts.pageSize,
-    rows: rows.map((p) => ({ id: p.id, email: p.email, name: p.name, roles: p.roles, active: p.active, createdAt: p.createdAt.toISOString(), tier: p.tier, costCentre: p.costCentre })),
+    rows: rows.map((p) => ({ id: p.id, email: p.email, name: p.name, roles: p.roles, active: p.active, createdAt: p.createdAt.toISOString(), tier: p.tier, costCentre: p.costCentre, awaitingInvitation: invited.has(p.id) })),
   });
 });
 
