@@ -25,7 +25,7 @@ import Stripe from 'stripe';
 import type { Knex } from 'knex';
 import { majorUnits, toCsv } from '../csv';
 import { zonedDate } from '../time';
-import { db, pgCode, PG, transaction } from './db';
+import { db, holdingAConnection, pgCode, PG, transaction } from './db';
 import { env } from './env';
 import { recordPaymentIntent, type PaymentIntent } from './payment-intents';
 export { heldOnBookings } from './payment-intents';
@@ -881,7 +881,8 @@ export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = 
  */
 export async function tryIntentNow(i: PaymentIntent): Promise<HttpError | null> {
   try {
-    await quick.run(true, () => withIntentLock(i, 4, () => runIntentNow(i)));
+    // the intent lock holds a connection while the work asks for others: at most half the pool does that at once
+    await quick.run(true, () => holdingAConnection(() => withIntentLock(i, 4, () => runIntentNow(i))));
     return null;
   } catch (err) {
     if (err instanceof HttpError && err.status < 500) return err;
