@@ -5,7 +5,9 @@
  *
  * Environment (all optional): BENCH_PORT, BENCH_PG_PORT, BENCH_DATA_DIR, BENCH_HISTORY (default 1000000),
  * BENCH_REQUESTS (default 3200), BENCH_SECONDS (default 10), BENCH_CONNECTIONS (default 32),
- * BENCH_APP_NODE_ARGS (extra node options for the app, e.g. "--cpu-prof --cpu-prof-dir=.data/bench/prof").
+ * BENCH_APP_NODE_ARGS (extra node options for the app, e.g. "--cpu-prof --cpu-prof-dir=.data/bench/prof"),
+ * BENCH_REUSE=1 (keep the database of an earlier run when it holds the same history: its bench bookings in the
+ * future are deleted and new migrations applied, which saves generating the history again).
  */
 import fs from 'node:fs';
 import path from 'node:path';
@@ -41,44 +43,68 @@ const secrets = loadSecrets(cfg);
 const info = await ensurePostgres(cfg, secrets);
 pgData = info.pgData;
 pgStartedHere = info.startedHere;
-await recreateDatabase(cfg, secrets, cfg.dbName);
+const REUSE = process.env.BENCH_REUSE === '1';
+/** An earlier run's database with the same history (its bench people and HISTORY completed bookings), when BENCH_REUSE=1. */
+async function earlierHistory(): Promise<boolean> {
+  if (!REUSE) return false;
+  const probe = new pg.Client({ connectionString: databaseUrl(cfg, secrets) });
+  try {
+    await probe.connect();
+    const r = await probe.query(`SELECT (SELECT count(*) FROM people WHERE email LIKE 'bench%')::int AS people,
+                                        (SELECT count(*) FROM bookings WHERE state = 'completed' AND created_at < now() - interval '1 day')::int AS history`);
+    return r.rows[0].people === PEOPLE && r.rows[0].history >= HISTORY;
+  } catch {
+    return false;
+  } finally {
+    await probe.end().catch(() => undefined);
+  }
+}
+const reuse = await earlierHistory();
+if (!reuse) await recreateDatabase(cfg, secrets, cfg.dbName);
 const env = appEnv(cfg, secrets, { DATABASE_POOL_MAX: '20' });
-runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the bench database');
+runNode(['--import', 'tsx', 'scripts/migrate.ts', ...(reuse ? [] : ['--seed-if-empty'])], env, 'Migrating and seeding the bench database');
 
 const pool = new pg.Pool({ connectionString: databaseUrl(cfg, secrets), max: CONNECTIONS });
 const q = (text: string, values: unknown[] = []) => pool.query(text, values);
 
-// --- the data: bench people, open-all-day rules without quotas, then the history ------------------------
-say(`Generating ${HISTORY.toLocaleString('en')} historical bookings with generate_series`);
-await q(`INSERT INTO people (email, name, password_hash, tier)
-         SELECT 'bench' || i || '@tidewater.example', 'Bench person ' || i, (SELECT password_hash FROM people WHERE email = 'member@tidewater.example'), 'commercial'
-         FROM generate_series(1, $1::int) i`, [PEOPLE]);
-await q(`INSERT INTO role_grants (person_id, role) SELECT id, 'member' FROM people WHERE email LIKE 'bench%'`);
-// cleared (advanced) on every machine group, so the clearance gate lets them book: its check is part of the work measured
-await q(`INSERT INTO clearances (person_id, group_id, state, level, quiz_passed_at, cleared_at, expires_at)
-         SELECT p.id, g.id, 'cleared', 'advanced', now(), now(), now() + interval '1 year'
-         FROM people p CROSS JOIN machine_groups g WHERE p.email LIKE 'bench%'`);
-await q(`UPDATE machine_booking_rules SET horizon_days = 365, min_minutes = 15, max_minutes = 180, lead_minutes = 0, buffer_minutes = 10, slot_minutes = 15`);
-await q(`DELETE FROM machine_tier_quotas`);
-await q(`DELETE FROM opening_hours`);
-await q(`INSERT INTO opening_hours (machine_id, weekday, opens_minute, closes_minute) SELECT m.id, d, 0, 1440 FROM machines m, generate_series(1, 7) d`);
-// 17 more machines like Laser A, so the history spreads over 20 machines (about 7 years of 75-minute turns each)
-await q(`INSERT INTO machines (code, name, power_w, tube_type, wavelength_um, bed_width_mm, bed_depth_mm, beam_diameter_mm, divergence_mrad, lens_focal_mm, coolant_type)
-         SELECT 'bench-' || i, 'Bench laser ' || i, power_w, tube_type, wavelength_um, bed_width_mm, bed_depth_mm, beam_diameter_mm, divergence_mrad, lens_focal_mm, coolant_type
-         FROM machines, generate_series(1, 17) i WHERE code = 'laser-a'`);
-const t0 = Date.now();
-await q(`
-  INSERT INTO bookings (machine_id, person_id, kind, state, starts_at, ends_at, occupied_until, checked_in_at, created_at)
-  SELECT m.ids[1 + i % 20], p.ids[1 + i % array_length(p.ids, 1)], 'personal', 'completed',
-         t.s, t.s + interval '1 hour', t.s + interval '70 minutes', t.s, t.s - interval '2 days'
-  FROM generate_series(1, $1::int) i
-  CROSS JOIN (SELECT array_agg(id ORDER BY code) AS ids FROM machines) m
-  CROSS JOIN (SELECT array_agg(id) AS ids FROM people) p
-  CROSS JOIN LATERAL (SELECT date_trunc('hour', now()) - interval '2 days' - (i / 20) * interval '75 minutes' AS s) t`, [HISTORY]);
-await q('ANALYZE bookings');
-const historySeconds = (Date.now() - t0) / 1000;
-const span = (await q(`SELECT min(starts_at) AS a, max(starts_at) AS b, count(*)::int AS n FROM bookings`)).rows[0];
-say(`  ${span.n.toLocaleString('en')} bookings from ${span.a.toISOString().slice(0, 10)} to ${span.b.toISOString().slice(0, 10)} in ${historySeconds.toFixed(1)} s`);
+let historySeconds = 0;
+if (reuse) {
+  say('Reusing the history of an earlier run (BENCH_REUSE=1): deleting its bench bookings in the future');
+  await q(`DELETE FROM bookings WHERE starts_at > now() AND person_id IN (SELECT id FROM people WHERE email LIKE 'bench%')`);
+  await q('VACUUM ANALYZE bookings');
+} else {
+  // --- the data: bench people, open-all-day rules without quotas, then the history ------------------------
+  say(`Generating ${HISTORY.toLocaleString('en')} historical bookings with generate_series`);
+  await q(`INSERT INTO people (email, name, password_hash, tier)
+           SELECT 'bench' || i || '@tidewater.example', 'Bench person ' || i, (SELECT password_hash FROM people WHERE email = 'member@tidewater.example'), 'commercial'
+           FROM generate_series(1, $1::int) i`, [PEOPLE]);
+  await q(`INSERT INTO role_grants (person_id, role) SELECT id, 'member' FROM people WHERE email LIKE 'bench%'`);
+  // cleared (advanced) on every machine group, so the clearance gate lets them book: its check is part of the work measured
+  await q(`INSERT INTO clearances (person_id, group_id, state, level, quiz_passed_at, cleared_at, expires_at)
+           SELECT p.id, g.id, 'cleared', 'advanced', now(), now(), now() + interval '1 year'
+           FROM people p CROSS JOIN machine_groups g WHERE p.email LIKE 'bench%'`);
+  await q(`UPDATE machine_booking_rules SET horizon_days = 365, min_minutes = 15, max_minutes = 180, lead_minutes = 0, buffer_minutes = 10, slot_minutes = 15`);
+  await q(`DELETE FROM machine_tier_quotas`);
+  await q(`DELETE FROM opening_hours`);
+  await q(`INSERT INTO opening_hours (machine_id, weekday, opens_minute, closes_minute) SELECT m.id, d, 0, 1440 FROM machines m, generate_series(1, 7) d`);
+  // 17 more machines like Laser A, so the history spreads over 20 machines (about 7 years of 75-minute turns each)
+  await q(`INSERT INTO machines (code, name, power_w, tube_type, wavelength_um, bed_width_mm, bed_depth_mm, beam_diameter_mm, divergence_mrad, lens_focal_mm, coolant_type)
+           SELECT 'bench-' || i, 'Bench laser ' || i, power_w, tube_type, wavelength_um, bed_width_mm, bed_depth_mm, beam_diameter_mm, divergence_mrad, lens_focal_mm, coolant_type
+           FROM machines, generate_series(1, 17) i WHERE code = 'laser-a'`);
+  const t0 = Date.now();
+  await q(`
+    INSERT INTO bookings (machine_id, person_id, kind, state, starts_at, ends_at, occupied_until, checked_in_at, created_at)
+    SELECT m.ids[1 + i % 20], p.ids[1 + i % array_length(p.ids, 1)], 'personal', 'completed',
+           t.s, t.s + interval '1 hour', t.s + interval '70 minutes', t.s, t.s - interval '2 days'
+    FROM generate_series(1, $1::int) i
+    CROSS JOIN (SELECT array_agg(id ORDER BY code) AS ids FROM machines) m
+    CROSS JOIN (SELECT array_agg(id) AS ids FROM people) p
+    CROSS JOIN LATERAL (SELECT date_trunc('hour', now()) - interval '2 days' - (i / 20) * interval '75 minutes' AS s) t`, [HISTORY]);
+  await q('ANALYZE bookings');
+  historySeconds = (Date.now() - t0) / 1000;
+  const span = (await q(`SELECT min(starts_at) AS a, max(starts_at) AS b, count(*)::int AS n FROM bookings`)).rows[0];
+  say(`  ${span.n.toLocaleString('en')} bookings from ${span.a.toISOString().slice(0, 10)} to ${span.b.toISOString().slice(0, 10)} in ${historySeconds.toFixed(1)} s`);
+}
 
 buildApp(path.join(ROOT, 'dist-bench'), env);
 // the app's log from here on: each request's line says its route, duration and SQL statements (queries)
@@ -267,7 +293,7 @@ const apiFeedRps = apiFeed.requests.average;
 const others = (r: { statusCodeStats?: Record<string, { count: number }> }) =>
   Object.entries(r.statusCodeStats ?? {}).filter(([code]) => !code.startsWith('2')).map(([code, v]) => `${code} × ${v.count}`).join(', ') || 'none';
 const lines = [
-  `Run ${new Date().toISOString()} · Node ${process.version} · ${HISTORY.toLocaleString('en')} historical bookings (generated in ${historySeconds.toFixed(1)} s) · ${CONNECTIONS} concurrent clients`,
+  `Run ${new Date().toISOString()} · Node ${process.version} · ${HISTORY.toLocaleString('en')} historical bookings (${reuse ? 'reused from an earlier run' : `generated in ${historySeconds.toFixed(1)} s`}) · ${CONNECTIONS} concurrent clients`,
   '',
   '| work | API (Astro + Knex) | raw SQL through pg | API ÷ SQL |',
   '| --- | --- | --- | --- |',

@@ -97,3 +97,32 @@ describe('cancellations reach the person’s calendar', () => {
     expect(cancelled.sequence).toBe(confirmed.sequence + 1);
   });
 });
+
+describe('the week feed answers 304 while nothing in it changed', () => {
+  it('a repeated request with If-None-Match gets 304 and no body; after a booking in the week, 200 and a new ETag', async () => {
+    // its own person (the tests above deactivate theirs)
+    const viewer = await clearedNew('calendar-etag', ['laser-c']);
+    const from = iso(siteTime(D, 0));
+    const to = iso(siteTime(D + 1, 0));
+    const feedPath = `/api/bookings?machineId=${laserC.id}&from=${encodeURIComponent(from)}&to=${encodeURIComponent(to)}`;
+    const first = await viewer.client.get(feedPath);
+    expect(first.status).toBe(200);
+    const etag = first.headers.get('etag');
+    expect(etag).toMatch(/^W\/".+"$/);
+    expect(first.headers.get('cache-control')).toBe('private, no-cache');
+    await first.text();
+
+    const again = await viewer.client.fetch(feedPath, { headers: { 'if-none-match': etag! } });
+    expect(again.status).toBe(304);
+    expect(await again.text()).toBe('');
+
+    const res = await viewer.client.send('POST', '/api/bookings', {
+      machineId: laserC.id, startsAt: iso(siteTime(D, 17)), endsAt: iso(siteTime(D, 17, 30)), materials: [], notes: '',
+    });
+    expect(res.status, JSON.stringify(await body(res))).toBe(201);
+    const changed = await viewer.client.fetch(feedPath, { headers: { 'if-none-match': etag! } });
+    expect(changed.status).toBe(200);
+    expect(changed.headers.get('etag')).not.toBe(etag);
+    expect(((await changed.json()) as { bookings: unknown[] }).bookings.length).toBeGreaterThan(0);
+  });
+});

@@ -17,30 +17,45 @@ export interface ClosureRow extends Closure {
   machineId: string | null;
 }
 
+/** A machine's rules with its opening hours and quotas, in one statement (it is read on every booking and feed). */
 export async function getRules(machineId: string, trx: Conn = db()): Promise<MachineRules> {
-  const [row, quotaRows, hourRows] = await Promise.all([
-    trx('machine_booking_rules').where({ machine_id: machineId }).first(),
-    trx('machine_tier_quotas').where({ machine_id: machineId }),
-    trx('opening_hours').where({ machine_id: machineId }).orderBy(['weekday', 'opens_minute']),
-  ]);
-  const quotas = Object.fromEntries(TIERS.map((t) => [t, null])) as Record<Tier, number | null>;
-  for (const q of quotaRows as { tier: Tier; weekly_minutes: number }[]) quotas[q.tier] = q.weekly_minutes;
-  return {
-    machineId,
-    slotMinutes: row?.slot_minutes ?? DEFAULT_RULES.slotMinutes,
-    minMinutes: row?.min_minutes ?? DEFAULT_RULES.minMinutes,
-    maxMinutes: row?.max_minutes ?? DEFAULT_RULES.maxMinutes,
-    bufferMinutes: row?.buffer_minutes ?? DEFAULT_RULES.bufferMinutes,
-    leadMinutes: row?.lead_minutes ?? DEFAULT_RULES.leadMinutes,
-    horizonDays: row?.horizon_days ?? DEFAULT_RULES.horizonDays,
-    cancelCutoffMinutes: row?.cancel_cutoff_minutes ?? DEFAULT_RULES.cancelCutoffMinutes,
-    quotas,
-    hours: (hourRows as { weekday: number; opens_minute: number; closes_minute: number }[]).map((h) => ({
-      weekday: h.weekday,
-      opensMinute: h.opens_minute,
-      closesMinute: h.closes_minute,
-    })),
-  };
+  return (await getRulesOf([machineId], trx)).get(machineId)!;
+}
+
+type RulesRow = { n: number; hours: WeeklyHours[] | null; quotas: { tier: Tier; minutes: number }[] | null }
+  & Record<'slot_minutes' | 'min_minutes' | 'max_minutes' | 'buffer_minutes' | 'lead_minutes' | 'horizon_days' | 'cancel_cutoff_minutes', number | null>;
+
+/** The rules of each of these machines (defaults where a machine has none), in one statement. */
+export async function getRulesOf(machineIds: readonly string[], trx: Conn = db()): Promise<Map<string, MachineRules>> {
+  const out = new Map<string, MachineRules>();
+  if (!machineIds.length) return out;
+  const { rows } = await trx.raw(
+    `SELECT m.n, r.slot_minutes, r.min_minutes, r.max_minutes, r.buffer_minutes, r.lead_minutes, r.horizon_days, r.cancel_cutoff_minutes,
+       (SELECT json_agg(json_build_object('weekday', h.weekday, 'opensMinute', h.opens_minute, 'closesMinute', h.closes_minute) ORDER BY h.weekday, h.opens_minute)
+          FROM opening_hours h WHERE h.machine_id = m.id) AS hours,
+       (SELECT json_agg(json_build_object('tier', q.tier, 'minutes', q.weekly_minutes)) FROM machine_tier_quotas q WHERE q.machine_id = m.id) AS quotas
+     FROM unnest(?::uuid[]) WITH ORDINALITY AS m(id, n) LEFT JOIN machine_booking_rules r ON r.machine_id = m.id`,
+    [[...machineIds]],
+  );
+  for (const row of rows as RulesRow[]) {
+    const quotas = Object.fromEntries(TIERS.map((t) => [t, null])) as Record<Tier, number | null>;
+    for (const q of row.quotas ?? []) quotas[q.tier] = q.minutes;
+    // keyed by the id as the caller wrote it
+    const id = machineIds[Number(row.n) - 1]!;
+    out.set(id, {
+      machineId: id,
+      slotMinutes: row.slot_minutes ?? DEFAULT_RULES.slotMinutes,
+      minMinutes: row.min_minutes ?? DEFAULT_RULES.minMinutes,
+      maxMinutes: row.max_minutes ?? DEFAULT_RULES.maxMinutes,
+      bufferMinutes: row.buffer_minutes ?? DEFAULT_RULES.bufferMinutes,
+      leadMinutes: row.lead_minutes ?? DEFAULT_RULES.leadMinutes,
+      horizonDays: row.horizon_days ?? DEFAULT_RULES.horizonDays,
+      cancelCutoffMinutes: row.cancel_cutoff_minutes ?? DEFAULT_RULES.cancelCutoffMinutes,
+      quotas,
+      hours: row.hours ?? [],
+    });
+  }
+  return out;
 }
 
 export interface RulesInput extends BookingRules {

@@ -60,6 +60,27 @@ export async function closeDb(): Promise<void> {
   }
 }
 
+let nestedRunning = 0;
+const nestedWaiting: (() => void)[] = [];
+
+/**
+ * Runs `work` that holds a pooled connection (e.g. a transaction taking a lock) while it asks the pool for more:
+ * at most half the pool does that at once, the rest wait their turn here. Without the limit, as many such requests
+ * as the pool has connections each hold one and all wait for a second, until the pool's acquire timeout.
+ */
+export async function holdingAConnection<T>(work: () => Promise<T>): Promise<T> {
+  const limit = Math.max(1, Math.floor(env().DATABASE_POOL_MAX / 2));
+  if (nestedRunning < limit) nestedRunning++;
+  else await new Promise<void>((resolve) => nestedWaiting.push(resolve)); // handed a running slot by the one finishing
+  try {
+    return await work();
+  } finally {
+    const next = nestedWaiting.shift();
+    if (next) next();
+    else nestedRunning--;
+  }
+}
+
 /** PostgreSQL error codes the modules map to HTTP answers. */
 export const PG = {
   uniqueViolation: '23505',

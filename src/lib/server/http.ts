@@ -2,6 +2,7 @@
  * Conventions of every JSON API route: errors as
  * {"error": {"code", "message", "fields"?}} with a 4xx status, never a stack trace.
  */
+import { createHash } from 'node:crypto';
 import type { APIContext, APIRoute } from 'astro';
 import { z, type ZodType } from 'zod';
 import { hasAnyRole, type Role } from '../roles';
@@ -47,6 +48,19 @@ export function json(data: unknown, status = 200, headers: Record<string, string
     status,
     headers: { 'content-type': 'application/json; charset=utf-8', ...NO_STORE, ...headers },
   });
+}
+
+/**
+ * A JSON answer the browser may keep and ask about again (private, revalidated each time): its ETag is a hash of the
+ * body, and a request whose If-None-Match names it gets 304 with no body.
+ */
+export function jsonWithEtag(request: Request, data: unknown): Response {
+  const body = JSON.stringify(data);
+  const etag = `W/"${createHash('sha256').update(body).digest('base64url').slice(0, 32)}"`;
+  const headers = { 'cache-control': 'private, no-cache', etag, vary: 'Cookie' };
+  const asked = request.headers.get('if-none-match');
+  if (asked && asked.split(',').some((t) => t.trim() === etag)) return new Response(null, { status: 304, headers });
+  return new Response(body, { status: 200, headers: { 'content-type': 'application/json; charset=utf-8', ...headers } });
 }
 
 export function errorResponse(status: number, code: string, message: string, fields?: Record<string, string>, headers?: Record<string, string>): Response {

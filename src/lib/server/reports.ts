@@ -78,27 +78,41 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
   ]);
   const cells: { machineId: string; start: Date; end: Date }[] = [];
   for (const m of machines) for (const w of weeks) cells.push({ machineId: m.id, start: w.start, end: w.end });
+  // One pass over the period's bookings and sessions (not one probe per machine and week): each booking is split
+  // into the weeks it overlaps — width_bucket finds the week of its (clipped) start and end among the week starts,
+  // which are contiguous from the period's start to its end — and its minutes in each are summed per machine and week.
+  const starts = weeks.map((w) => w.start);
+  const ends = weeks.map((w) => w.end);
+  const lastEnd = ends[ends.length - 1]!;
   const measured = await db().raw(
-    `WITH cell AS (
-       SELECT * FROM unnest(?::uuid[], ?::timestamptz[], ?::timestamptz[]) WITH ORDINALITY AS c(machine_id, week_start, week_end, n)
+    `WITH w AS (SELECT ?::timestamptz[] AS starts, ?::timestamptz[] AS ends),
+     booked AS (
+       SELECT b.machine_id, k.k, sum(extract(epoch FROM least(b.ends_at, w.ends[k.k]) - greatest(b.starts_at, w.starts[k.k]))) / 60 AS minutes
+       FROM bookings b
+       CROSS JOIN w
+       CROSS JOIN LATERAL generate_series(width_bucket(greatest(b.starts_at, w.starts[1]), w.starts),
+                                          width_bucket(least(b.ends_at, w.ends[cardinality(w.ends)]) - interval '1 microsecond', w.starts)) AS k(k)
+       WHERE b.machine_id = ANY(?::uuid[]) AND b.state = ANY(?::text[]) AND b.kind <> 'hold'
+         AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)')
+         AND b.starts_at < ? AND b.ends_at > ?
+       GROUP BY b.machine_id, k.k
+     ),
+     beam AS (
+       SELECT s.machine_id, width_bucket(s.checked_in_at, w.starts) AS k, sum(s.beam_minutes) AS minutes
+       FROM machine_sessions s CROSS JOIN w
+       WHERE s.machine_id = ANY(?::uuid[]) AND s.checked_in_at >= ? AND s.checked_in_at < ?
+       GROUP BY 1, 2
      )
-     SELECT cell.n,
-       coalesce((
-         SELECT sum(extract(epoch FROM least(b.ends_at, cell.week_end) - greatest(b.starts_at, cell.week_start))) / 60
-         FROM bookings b
-         WHERE b.machine_id = cell.machine_id AND b.state = ANY(?::text[]) AND b.kind <> 'hold'
-           AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(cell.week_start, cell.week_end, '[)')
-           AND b.starts_at < cell.week_end AND b.ends_at > cell.week_start
-       ), 0) AS booked,
-       coalesce((
-         SELECT sum(s.beam_minutes) FROM machine_sessions s
-         WHERE s.machine_id = cell.machine_id AND s.checked_in_at >= cell.week_start AND s.checked_in_at < cell.week_end
-       ), 0) AS beam
-     FROM cell ORDER BY cell.n`,
-    [cells.map((c) => c.machineId), cells.map((c) => c.start), cells.map((c) => c.end), [...BOOKED_STATES]],
+     SELECT coalesce(booked.machine_id, beam.machine_id) AS machine_id, coalesce(booked.k, beam.k) AS k,
+            coalesce(booked.minutes, 0) AS booked, coalesce(beam.minutes, 0) AS beam
+     FROM booked FULL JOIN beam ON beam.machine_id = booked.machine_id AND beam.k = booked.k`,
+    [starts, ends, ids, [...BOOKED_STATES], scope.period.start, lastEnd, lastEnd, scope.period.start, ids, scope.period.start, lastEnd],
   );
-  const byN = new Map<number, { booked: number; beam: number }>();
-  for (const r of measured.rows as { n: string; booked: string; beam: string }[]) byN.set(Number(r.n), { booked: Number(r.booked), beam: Number(r.beam) });
+  const byCell = new Map<string, { booked: number; beam: number }>();
+  for (const r of measured.rows as { machine_id: string; k: number; booked: string; beam: string }[]) {
+    byCell.set(`${r.machine_id} ${r.k}`, { booked: Number(r.booked), beam: Number(r.beam) });
+  }
+  const weekIndex = new Map(weeks.map((w, i) => [w.start.getTime(), i + 1]));
 
   const hoursOf = new Map<string, WeeklyHours[]>();
   for (const h of hoursRows as { machine_id: string; weekday: number; opens_minute: number; closes_minute: number }[]) {
@@ -112,12 +126,22 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
       .map((c) => ({ startsAt: c.starts_at, endsAt: c.ends_at, reason: c.reason }));
 
   const name = new Map(machines.map((m) => [m.id, m.name]));
-  const rows: UtilisationRow[] = cells.map((c, i) => {
-    const open = openIntervals(c.start, c.end, scope.timeZone, hoursOf.get(c.machineId) ?? [], closuresOf(c.machineId)).reduce(
-      (sum, iv) => sum + minutesBetween(iv.start, iv.end),
-      0,
-    );
-    const m = byN.get(i + 1) ?? { booked: 0, beam: 0 };
+  // machines with the same hours and closures have the same open minutes in a week: worked out once per week
+  const openOf = new Map<string, number>();
+  const openMinutesOf = (c: { machineId: string; start: Date; end: Date }): number => {
+    const hours = hoursOf.get(c.machineId) ?? [];
+    const closures = closuresOf(c.machineId);
+    const key = JSON.stringify([c.start, c.end, hours, closures]);
+    let open = openOf.get(key);
+    if (open === undefined) {
+      open = openIntervals(c.start, c.end, scope.timeZone, hours, closures).reduce((sum, iv) => sum + minutesBetween(iv.start, iv.end), 0);
+      openOf.set(key, open);
+    }
+    return open;
+  };
+  const rows: UtilisationRow[] = cells.map((c) => {
+    const open = openMinutesOf(c);
+    const m = byCell.get(`${c.machineId} ${weekIndex.get(c.start.getTime())}`) ?? { booked: 0, beam: 0 };
     const openMinutes = Math.round(open);
     const booked = Math.round(m.booked);
     const beam = Math.round(m.beam);

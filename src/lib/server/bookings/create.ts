@@ -3,12 +3,11 @@ import { retryOnConflict, transaction } from '../db';
 import { recordAudit } from '../audit';
 import { HttpError } from '../errors';
 import { canOperate } from '../clearances/state';
-import { getTier } from '../booking-rules';
 import { checkDeclaredMaterials } from '../materials';
 import { recordPaymentIntent } from '../payment-intents';
 import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '../../availability';
 import type { Actor, Booking, BookingInput } from './records';
-import { assertFree, insertBooking, lockMachine, lockPerson, outOfService, ruleContext, weeklyMinutes } from './gate';
+import { clashAndUse, insertBooking, lockMachine, outOfService, ruleContext, slotTaken } from './gate';
 import { sendConfirmation } from './messages';
 
 /**
@@ -24,7 +23,8 @@ export async function createBooking(actor: Actor, input: BookingInput, now = new
 
 async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<Booking> {
   return transaction(async (trx) => {
-    const machine = await lockMachine(trx, input.machineId);
+    // the machine's row lock and the person's lock in one statement (the quota reads below come after it)
+    const machine = await lockMachine(trx, input.machineId, actor.id);
     if (machine.status === 'out of service') throw outOfService(machine);
     const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
     if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
@@ -34,16 +34,15 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
     if (broken) throw new HttpError(422, broken.code, broken.message);
 
     const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
-    await lockPerson(trx, actor.id);
-    await assertFree(trx, machine.id, input.startsAt, until);
-    const tier = await getTier(actor.id, trx);
-    const used = await weeklyMinutes(trx, actor.id, machine.id, input.startsAt, ctx.timeZone);
-    const over = checkQuota(used, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[tier]);
+    const use = await clashAndUse(trx, actor.id, machine.id, input.startsAt, until, ctx.timeZone);
+    if (use.clash) throw slotTaken();
+    const over = checkQuota(use.usedMinutes, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[use.tier]);
     if (over) throw new HttpError(422, over.code, over.message);
 
     // materials check: every declared material must be allowed on this machine, mode and thickness
-    await checkDeclaredMaterials(machine.id, input.materials, trx);
+    if (input.materials.length) await checkDeclaredMaterials(machine.id, input.materials, trx);
 
+    // no savepoint: a refused insert ends this transaction anyway (409 slot_taken)
     const booking = await insertBooking(trx, {
       machine_id: machine.id,
       person_id: actor.id,
@@ -52,7 +51,7 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
       ends_at: input.endsAt,
       occupied_until: until,
       notes: input.notes,
-    });
+    }, { savepoint: false });
     if (input.materials.length) {
       await trx('booking_materials').insert(
         input.materials.map((m) => ({ booking_id: booking.id, material_id: m.materialId, mode: m.mode, thickness_mm: m.thicknessMm })),
@@ -67,7 +66,7 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
       summary: `Booked ${machine.name}`,
       after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt, materials: input.materials },
     });
-    await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName);
+    await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName, use.person);
     await recordPaymentIntent(trx, { kind: 'booking.hold', bookingId: booking.id });
     return booking;
   });

@@ -4,18 +4,27 @@
  * The weekly quota is checked under a per-person advisory lock held to the end of the transaction.
  */
 import type { Knex } from 'knex';
-import { pgCode, PG } from '../db';
+import { db, pgCode, PG } from '../db';
 import { HttpError } from '../errors';
 import { getRules, listClosures } from '../booking-rules';
+import type { Tier } from '../../vocabulary';
 import { localWeek } from '../../availability';
 import { ACTIVE_STATES, QUOTA_STATES, toBooking, type Booking, type Conn, type MachineRow, type Row } from './records';
 
-export async function lockMachine(trx: Knex.Transaction, machineId: string): Promise<MachineRow> {
-  // FOR SHARE: a concurrent status change (out of service) waits for this booking, or this booking sees it
-  const m = (await trx('machines').where({ id: machineId }).whereNull('retired_at').forShare().first('id', 'name', 'code', 'status')) as MachineRow | undefined;
+/**
+ * Locks the machine row FOR SHARE: a concurrent status change (out of service) waits for this booking, or this
+ * booking sees it. With `personId`, the same statement also takes that person's advisory lock (lockPerson), so the
+ * statements after it see every booking the person's other requests committed.
+ */
+export async function lockMachine(trx: Knex.Transaction, machineId: string, personId?: string): Promise<MachineRow> {
+  const columns: (string | Knex.Raw)[] = ['id', 'name', 'code', 'status'];
+  if (personId) columns.push(trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock`, [personId]));
+  const m = (await trx('machines').where({ id: machineId }).whereNull('retired_at').forShare().first(...columns)) as MachineRow | undefined;
   if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
-  return m;
+  return { id: m.id, name: m.name, code: m.code, status: m.status };
 }
+
+const PERSON_LOCK = "hashtextextended('bookings.person:' || ?, 0)";
 
 export function outOfService(m: MachineRow): HttpError {
   return new HttpError(409, 'machine_out_of_service', `${m.name} is out of service and takes no bookings until a steward puts it back in service.`);
@@ -23,7 +32,7 @@ export function outOfService(m: MachineRow): HttpError {
 
 /** Serialises quota checks of one person: concurrent bookings by the same person run one after another. */
 export async function lockPerson(trx: Knex.Transaction, personId: string): Promise<void> {
-  await trx.raw("SELECT pg_advisory_xact_lock(hashtextextended('bookings.person:' || ?, 0))", [personId]);
+  await trx.raw(`SELECT pg_advisory_xact_lock(${PERSON_LOCK})`, [personId]);
 }
 
 export async function assertFree(trx: Conn, machineId: string, startsAt: Date, until: Date, exceptId?: string): Promise<void> {
@@ -54,6 +63,51 @@ export async function weeklyMinutes(trx: Conn, personId: string, machineId: stri
   return Number((r as { minutes?: number } | undefined)?.minutes ?? 0);
 }
 
+/**
+ * For a new personal booking, in one statement (run after the person's lock): the first active booking clashing
+ * with [startsAt, until) (what assertFree looks for), the person's minutes on the machine in the site week of
+ * `startsAt` (weeklyMinutes), and the person's tier, e-mail and name.
+ */
+export async function clashAndUse(trx: Conn, personId: string, machineId: string, startsAt: Date, until: Date, tz: string) {
+  const week = localWeek(startsAt, tz);
+  const { rows } = await trx.raw(
+    `SELECT (SELECT b.id FROM bookings b WHERE b.machine_id = ? AND b.state = ANY(?::text[])
+               AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)') LIMIT 1) AS clash,
+            (SELECT coalesce(sum(extract(epoch from (b.ends_at - b.starts_at)) / 60), 0)::float8 FROM bookings b
+              WHERE b.person_id = ? AND b.machine_id = ? AND b.kind IN ('personal', 'hold') AND b.state = ANY(?::text[])
+                AND b.starts_at >= ? AND b.starts_at < ?) AS minutes,
+            p.tier, p.email, p.name
+     FROM (SELECT 1) one LEFT JOIN people p ON p.id = ?`,
+    [machineId, [...ACTIVE_STATES], startsAt, until, personId, machineId, QUOTA_STATES, week.start, week.end, personId],
+  );
+  const r = rows[0] as { clash: string | null; minutes: number | null; tier: Tier | null; email: string | null; name: string | null };
+  return {
+    clash: r.clash,
+    usedMinutes: Number(r.minutes ?? 0),
+    tier: (r.tier ?? 'community') as Tier,
+    person: r.email !== null ? { email: r.email, name: r.name ?? '' } : null,
+  };
+}
+
+/**
+ * The person's tier and their minutes on each of these machines in `week` (what weeklyMinutes counts), in one
+ * statement: the week view shows both for every machine it lists.
+ */
+export async function tierAndWeeklyMinutes(personId: string, machineIds: readonly string[], week: { start: Date; end: Date }, trx: Conn = db()) {
+  const { rows } = await trx.raw(
+    `SELECT p.tier,
+            (SELECT json_agg(json_build_object('machineId', u.machine_id, 'minutes', u.minutes)) FROM (
+               SELECT b.machine_id, sum(extract(epoch from (b.ends_at - b.starts_at)) / 60)::float8 AS minutes FROM bookings b
+               WHERE b.person_id = ? AND b.machine_id = ANY(?::uuid[]) AND b.kind IN ('personal', 'hold') AND b.state = ANY(?::text[])
+                 AND b.starts_at >= ? AND b.starts_at < ?
+               GROUP BY b.machine_id) u) AS used
+     FROM (SELECT 1) one LEFT JOIN people p ON p.id = ?`,
+    [personId, [...machineIds], QUOTA_STATES, week.start, week.end, personId],
+  );
+  const r = rows[0] as { tier: Tier | null; used: { machineId: string; minutes: number }[] | null };
+  return { tier: (r.tier ?? 'community') as Tier, usedOf: new Map((r.used ?? []).map((u) => [u.machineId, Number(u.minutes)])) };
+}
+
 /** Site settings read on the caller's connection (inside a transaction, never a second pooled connection). */
 export async function siteSettings(trx: Conn): Promise<{ name: string; timeZone: string }> {
   const row = await trx('site_settings').where({ id: 1 }).first('name', 'time_zone');
@@ -65,10 +119,14 @@ export async function ruleContext(machineId: string, from: Date, to: Date, trx: 
   return { rules, hours: rules.hours, timeZone: settings.timeZone, siteName: settings.name, closures };
 }
 
-export async function insertBooking(trx: Knex.Transaction, row: Record<string, unknown>): Promise<Booking> {
+/**
+ * Inserts a booking; 409 slot_taken when the exclusion constraint refuses it. `savepoint: false` (the caller's
+ * transaction ends on that refusal anyway) saves the SAVEPOINT and RELEASE round trips.
+ */
+export async function insertBooking(trx: Knex.Transaction, row: Record<string, unknown>, { savepoint = true } = {}): Promise<Booking> {
   try {
     // a savepoint, so a refused insert can be answered without poisoning the caller's transaction
-    const [r] = await trx.transaction(async (sp) => sp('bookings').insert(row).returning('*'));
+    const [r] = savepoint ? await trx.transaction(async (sp) => sp('bookings').insert(row).returning('*')) : await trx('bookings').insert(row).returning('*');
     return toBooking(r as Row);
   } catch (err) {
     if (pgCode(err) === PG.exclusionViolation) throw slotTaken();

@@ -80,8 +80,9 @@ export async function sendCancellation(trx: Knex.Transaction, r: Row, why: strin
   );
 }
 
-export async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Booking, machine: MachineRow, tz: string, siteName: string): Promise<void> {
-  const person = await trx('people').where({ id: personId }).first('email', 'name');
+/** E-mails the booking's confirmation with its .ics (queued in the caller's transaction); `known` saves reading the person. */
+export async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Booking, machine: MachineRow, tz: string, siteName: string, known?: { email: string; name: string } | null): Promise<void> {
+  const person = known ?? (await trx('people').where({ id: personId }).first('email', 'name'));
   if (!person) return;
   const ics = bookingIcs(b, machine, siteName);
   await queueMail(

@@ -63,19 +63,23 @@ export function formatLocalDateTime(at: Date, site: SiteZone): string {
  */
 export async function canOperate(personId: string, machineId: string, at: Date, trx?: Conn): Promise<OperateVerdict> {
   const q = trx ?? db();
+  // one statement (it runs on every booking): the machine's group, the person's clearance on it, a published quiz
   const machine = await q('machines as m')
     .leftJoin('machine_groups as g', 'g.id', 'm.group_id')
+    .leftJoin('clearances as c', (j) => j.on('c.group_id', 'm.group_id').andOn('c.person_id', q.raw('?', [personId])))
     .where('m.id', machineId)
-    .first('m.name as machine_name', 'm.required_level', 'm.group_id', 'g.name as group_name', 'g.refresher');
+    .first(
+      'm.name as machine_name', 'm.required_level', 'm.group_id', 'g.name as group_name', 'g.refresher',
+      'c.id as clearance_id', 'c.state', 'c.level', 'c.expires_at',
+      q.raw("EXISTS (SELECT 1 FROM quizzes z JOIN quiz_versions v ON v.quiz_id = z.id WHERE z.group_id = m.group_id AND v.status = 'published') AS has_quiz"),
+    );
   if (!machine) return { ok: false, state: 'none', message: 'This machine does not exist or has been retired.' };
   if (!machine.group_id) {
     return { ok: false, state: 'none', message: `${machine.machine_name} is not in a clearance group yet; an admin must assign one before anyone can run it.` };
   }
-  const clearance = (await q('clearances').where({ person_id: personId, group_id: machine.group_id }).first()) as ClearanceRow | undefined;
-  const hasQuiz = Boolean(await q('quizzes as z').join('quiz_versions as v', 'v.quiz_id', 'z.id').where({ 'z.group_id': machine.group_id, 'v.status': 'published' }).first('z.id'));
   return decideOperate(
-    clearance ? { state: clearance.state, level: clearance.level, expiresAt: clearance.expires_at } : null,
-    { requiredLevel: machine.required_level, groupName: machine.group_name, refresher: machine.refresher, hasQuiz },
+    machine.clearance_id ? { state: machine.state, level: machine.level, expiresAt: machine.expires_at } : null,
+    { requiredLevel: machine.required_level, groupName: machine.group_name, refresher: machine.refresher, hasQuiz: Boolean(machine.has_quiz) },
     at,
   );
 }

@@ -4,7 +4,7 @@
  */
 import { siteMoney } from '../settings';
 import { env } from '../env';
-import { db, transaction } from '../db';
+import { db, holdingAConnection, transaction } from '../db';
 import { DomainError } from '../errors';
 import { log } from '../log';
 import { queueMail } from '../mail';
@@ -203,7 +203,8 @@ export async function runIntent(i: PaymentIntent, attempt: { final: boolean } = 
  */
 export async function tryIntentNow(i: PaymentIntent): Promise<DomainError | null> {
   try {
-    await quickly(() => withIntentLock(i, 4, () => runIntentNow(i)));
+    // the intent lock holds a connection while the work asks for others: at most half the pool does that at once
+    await quickly(() => holdingAConnection(() => withIntentLock(i, 4, () => runIntentNow(i))));
     return null;
   } catch (err) {
     if (err instanceof DomainError && err.kind !== 'unavailable') return err;

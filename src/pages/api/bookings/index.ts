@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { json, readJson, readQuery, requireSignedIn, route } from '../../../lib/server/http';
+import { json, jsonWithEtag, readJson, readQuery, requireSignedIn, route } from '../../../lib/server/http';
 import { calendarFeed } from '../../../lib/server/bookings/week-view';
 import { createBooking } from '../../../lib/server/bookings/create';
 import { assertCanBook } from '../../../lib/server/payments/charge-runs';
@@ -12,11 +12,14 @@ const feedQuery = z
   .refine((q) => !(q.to instanceof Date && q.from instanceof Date) || q.to > q.from, { path: ['to'], message: '`to` must be after `from`.' })
   .refine((q) => !(q.to instanceof Date && q.from instanceof Date) || q.to.getTime() - q.from.getTime() <= 42 * 86_400_000, { path: ['to'], message: 'Ask for at most 42 days at a time.' });
 
-/** GET /api/bookings?machineId=&from=&to= → the calendar feed of the signed-in person's view. */
-export const GET = route(async ({ locals, url }) => {
+/**
+ * GET /api/bookings?machineId=&from=&to= → the calendar feed of the signed-in person's view. Its ETag is a hash of
+ * the answer: a browser asking again with If-None-Match gets 304 and no body when nothing in it changed.
+ */
+export const GET = route(async ({ locals, url, request }) => {
   const person = requireSignedIn(locals);
   const q = readQuery(url, feedQuery);
-  return json(await calendarFeed(person, q));
+  return jsonWithEtag(request, await calendarFeed(person, q));
 });
 
 const createBody = z.object({

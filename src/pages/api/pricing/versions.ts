@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { HttpError, json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createVersion, listVersions, type PriceVersion } from '../../../lib/server/prices';
+import { createVersion, listVersions } from '../../../lib/server/prices';
+import { type PriceVersion } from '../../../lib/pricing';
 import { getSettings } from '../../../lib/server/settings';
 import { startOfZonedDay, zonedDate } from '../../../lib/time';
 import { calendarDate, minor, tier, uuid } from '../../../lib/schemas';
