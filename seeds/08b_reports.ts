@@ -9,6 +9,7 @@ import type { Knex } from 'knex';
 import { addDays, localToInstant, wallClock } from '../src/lib/availability';
 import { beamTimeMinor, breakdownOf, quote, type PriceTable } from '../src/lib/pricing';
 import type { Tier } from '../src/lib/vocabulary';
+import { seedLookups } from './lib/lookups';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 const MIN = 60_000;
@@ -133,10 +134,7 @@ async function seedSessionsAndCharges(knex: Knex, tz: string, now: Date): Promis
 async function seedFaults(knex: Knex, tz: string, now: Date): Promise<void> {
   const existing = await knex('faults').count({ n: '*' }).first();
   if (Number(existing?.n ?? 0) > 0) return;
-  const machines = (await knex('machines').select('id', 'code')) as { id: string; code: string }[];
-  const people = (await knex('people').select('id', 'email')) as { id: string; email: string }[];
-  const m = (code: string) => machines.find((x) => x.code === code)?.id;
-  const p = (local: string) => people.find((x) => x.email === `${local}@tidewater.example`)?.id;
+  const { machineId: m, personId: p } = await seedLookups(knex);
   const laserA = m('laser-a');
   const laserB = m('laser-b');
   const member = p('member');

@@ -2,21 +2,9 @@
 import { useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import type { DeliveredQuestion } from '../lib/quiz-rules';
-import type { QuizIntro } from '../lib/quiz-rules';
+import type { QuizIntro, StartedAttempt } from '../lib/quiz-rules';
 
-interface Attempt {
-  attemptId: string;
-  quizId: string;
-  version: number;
-  title: string;
-  groupName: string;
-  passMarkPct: number;
-  questions: DeliveredQuestion[];
-  submitBy: string;
-  timeLimitMinutes: number;
-  answers: Record<string, string[]>;
-  resumed: boolean;
-}
+type Attempt = StartedAttempt;
 
 interface Result {
   scorePct: number;

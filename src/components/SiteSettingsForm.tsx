@@ -1,15 +1,7 @@
 /** Admin › Site: the site's name, time zone, currency, tax and public address. Each save is audited. */
 import { useEffect, useId, useState, type FormEvent } from 'react';
 import { api, ApiError } from './ui/api';
-
-export interface SiteValues {
-  name: string;
-  timeZone: string;
-  currency: string;
-  taxRatePercent: number;
-  pricesIncludeTax: boolean;
-  publicBaseUrl: string | null;
-}
+import type { SiteValues } from '../lib/site-settings';
 
 type Field = keyof SiteValues;
 

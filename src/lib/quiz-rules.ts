@@ -230,3 +230,20 @@ export interface QuizIntro {
   /** When the quiz is not for this person now (already passed, cleared, suspended). */
   notNeeded: string | null;
 }
+
+/** A quiz attempt as the person taking it sees it (started, or resumed as it was left). */
+export interface StartedAttempt {
+  attemptId: string;
+  quizId: string;
+  version: number;
+  title: string;
+  groupName: string;
+  passMarkPct: number;
+  questions: DeliveredQuestion[];
+  submitBy: string;
+  timeLimitMinutes: number;
+  /** Answers saved so far (an attempt that was open is returned as it was left). */
+  answers: Answers;
+  /** True when this is the attempt that was already open (it did not count again). */
+  resumed: boolean;
+}
