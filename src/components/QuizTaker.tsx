@@ -2,21 +2,11 @@
 import { useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import type { DeliveredQuestion } from '../lib/quiz-rules';
-import type { QuizIntro, StartedAttempt } from '../lib/quiz-rules';
+import type { QuizIntro, StartedAttempt, SubmittedAttempt } from '../lib/quiz-rules';
 
 type Attempt = StartedAttempt;
 
-interface Result {
-  scorePct: number;
-  correctCount: number;
-  total: number;
-  passMarkPct: number;
-  passed: boolean;
-  missedTopics: string[];
-  results: { questionId: string; topic: string; prompt: string; correct: boolean; explanation?: string }[];
-  clearanceState: string;
-  nextStep: string;
-}
+type Result = Omit<SubmittedAttempt, 'attemptId' | 'clearanceState'> & { clearanceState: string };
 
 export default function QuizTaker({ quizId, intro, timeZone }: { quizId: string; intro: QuizIntro; timeZone: string }) {
   const when = (iso: string) =>

@@ -284,19 +284,9 @@ export function parseMajor(text: string, currency: string): number | null {
   return Number(m[1]) * 10 ** e + Number(frac.padEnd(e, '0') || '0');
 }
 
-/** The terms a price version sets, shared by a stored version and a new one. */
-export interface VersionTerms {
-  currency: string;
-  incrementMinutes: number;
-  minimumChargeMinor: number;
-  dailyCapMinor: number | null;
-  lateCancelFeeMinor: number;
-  noShowFeeMinor: number;
-  taxMode: TaxMode;
-  taxRateBp: number;
-  minimumRule: MinimumRule;
+/** The terms a price version sets, shared by a stored version and a new one: the table without its rates, plus who pays by recharge and a note. */
+export interface VersionTerms extends Omit<PriceTable, 'rates'> {
   rechargeTiers: Tier[];
-  materials: Material[];
   note: string;
 }
 

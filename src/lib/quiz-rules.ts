@@ -3,6 +3,7 @@
  * shuffling an attempt, scoring on the server, and attempt limits. Pure (no I/O).
  */
 import { z } from 'zod';
+import type { ClearanceState } from './clearance-rules';
 
 // no probe for eval (zod's JIT): the pages' Content-Security-Policy forbids it, and the probe reports a violation
 z.config({ jitless: true });
@@ -246,4 +247,18 @@ export interface StartedAttempt {
   answers: Answers;
   /** True when this is the attempt that was already open (it did not count again). */
   resumed: boolean;
+}
+
+/** A submitted attempt as the person sees it: the score, what was missed and the clearance's next step. */
+export interface SubmittedAttempt {
+  attemptId: string;
+  scorePct: number;
+  correctCount: number;
+  total: number;
+  passMarkPct: number;
+  passed: boolean;
+  missedTopics: string[];
+  results: { questionId: string; topic: string; prompt: string; correct: boolean; explanation?: string }[];
+  clearanceState: ClearanceState;
+  nextStep: string;
 }

@@ -11,7 +11,7 @@ import { recordQuizPass } from './clearances/transitions';
 import { effectiveState, type ClearanceState } from '../clearance-rules';
 import {
   SUBMIT_GRACE_SECONDS, attemptGate, attemptOpen, attemptsLeft, deliver, drawQuestions, scoreAttempt,
-  type Answers, type DeliveredQuestion, type StartedAttempt, type DrawnQuestion, type QuizDraft, type QuizQuestion,
+  type Answers, type DeliveredQuestion, type StartedAttempt, type SubmittedAttempt, type DrawnQuestion, type QuizDraft, type QuizQuestion,
 } from '../quiz-rules';
 
 export interface QuizVersionView {
@@ -224,19 +224,6 @@ export async function startAttempt(personId: string, quizId: string, now = new D
       timeLimitMinutes: version.time_limit_minutes, answers: {}, resumed: false,
     };
   });
-}
-
-export interface SubmittedAttempt {
-  attemptId: string;
-  scorePct: number;
-  correctCount: number;
-  total: number;
-  passMarkPct: number;
-  passed: boolean;
-  missedTopics: string[];
-  results: { questionId: string; topic: string; prompt: string; correct: boolean; explanation?: string }[];
-  clearanceState: ClearanceState;
-  nextStep: string;
 }
 
 /** Scores an attempt on the server; a pass moves the clearance on (in the same transaction). */
