@@ -4,15 +4,15 @@
  */
 import type { Knex } from 'knex';
 import { addDays, localToInstant, occupiedUntil, wallClock } from '../src/lib/availability';
+import { seedLookups } from './lib/lookups';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 
 export async function seed(knex: Knex): Promise<void> {
   const tz = ((await knex('site_settings').where({ id: 1 }).first('time_zone'))?.time_zone as string | undefined) ?? TZ_FALLBACK;
-  const machines = (await knex('machines').select('id', 'code')) as { id: string; code: string }[];
-  const people = (await knex('people').select('id', 'email')) as { id: string; email: string }[];
-  const m = (code: string) => machines.find((x) => x.code === code)!.id;
-  const p = (local: string) => people.find((x) => x.email === `${local}@tidewater.example`)!.id;
+  const look = await seedLookups(knex);
+  const m = (code: string) => look.machineId(code)!;
+  const p = (local: string) => look.personId(local)!;
 
   await knex('people').where({ id: p('student') }).update({ tier: 'student' });
   await knex('people').where({ id: p('instructor') }).update({ tier: 'staff' });

@@ -4,15 +4,15 @@
  * clean is overdue, so the warning shows on its page).
  */
 import type { Knex } from 'knex';
+import { seedLookups } from './lib/lookups';
 
 const DAY = 86_400_000;
 const CHECKLIST = { extractionOn: true, airAssistOn: true, coolantFlowing: true, lensClean: true, extinguisherInPlace: true, willStay: true };
 
 export async function seed(knex: Knex): Promise<void> {
-  const machines = (await knex('machines').select('id', 'code', 'coolant_type')) as { id: string; code: string; coolant_type: string }[];
-  const people = (await knex('people').select('id', 'email')) as { id: string; email: string }[];
-  const m = (code: string) => machines.find((x) => x.code === code)!;
-  const p = (local: string) => people.find((x) => x.email === `${local}@tidewater.example`)!.id;
+  const look = await seedLookups(knex);
+  const m = (code: string) => look.machine(code)!;
+  const p = (local: string) => look.personId(local)!;
   const now = Date.now();
 
   // sessions of the completed demo bookings
@@ -22,7 +22,7 @@ export async function seed(knex: Knex): Promise<void> {
   for (const b of done) {
     const inAt = new Date(b.starts_at.getTime() + 2 * 60_000);
     const outAt = new Date(Math.max(inAt.getTime() + 10 * 60_000, b.ends_at.getTime() - 5 * 60_000));
-    const water = machines.find((x) => x.id === b.machine_id)?.coolant_type === 'water';
+    const water = look.machines.find((x) => x.id === b.machine_id)?.coolant_type === 'water';
     await knex('machine_sessions').insert({
       booking_id: b.id, machine_id: b.machine_id, person_id: b.person_id, checked_in_at: inAt, checked_out_at: outAt,
       beam_minutes: Math.round((outAt.getTime() - inAt.getTime()) / 60_000), checklist: JSON.stringify(CHECKLIST),

@@ -3,14 +3,12 @@
  * show time out of service, and one open note. Nothing here takes a machine out of service now.
  */
 import type { Knex } from 'knex';
+import { seedLookups } from './lib/lookups';
 
 const DAY = 86_400_000;
 
 export async function seed(knex: Knex): Promise<void> {
-  const machines = (await knex('machines').select('id', 'code')) as { id: string; code: string }[];
-  const people = (await knex('people').select('id', 'email')) as { id: string; email: string }[];
-  const m = (code: string) => machines.find((x) => x.code === code)?.id;
-  const p = (local: string) => people.find((x) => x.email === `${local}@tidewater.example`)?.id;
+  const { machineId: m, personId: p } = await seedLookups(knex);
   const laserA = m('laser-a');
   const laserB = m('laser-b');
   const laserC = m('laser-c');

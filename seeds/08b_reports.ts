@@ -10,6 +10,7 @@ import { addDays, localToInstant, wallClock } from '../src/lib/availability';
 import { beamTimeMinor, breakdownOf, quote, type PriceTable } from '../src/lib/pricing';
 import type { Tier } from '../src/lib/vocabulary';
 import { formatReceiptNumber, receiptPrefix } from '../src/lib/receipts';
+import { seedLookups } from './lib/lookups';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 const MIN = 60_000;
@@ -147,10 +148,7 @@ async function seedReceipt(knex: Knex, chargeId: string, at: Date, tz: string): 
 async function seedFaults(knex: Knex, tz: string, now: Date): Promise<void> {
   const existing = await knex('faults').count({ n: '*' }).first();
   if (Number(existing?.n ?? 0) > 0) return;
-  const machines = (await knex('machines').select('id', 'code')) as { id: string; code: string }[];
-  const people = (await knex('people').select('id', 'email')) as { id: string; email: string }[];
-  const m = (code: string) => machines.find((x) => x.code === code)?.id;
-  const p = (local: string) => people.find((x) => x.email === `${local}@tidewater.example`)?.id;
+  const { machineId: m, personId: p } = await seedLookups(knex);
   const laserA = m('laser-a');
   const laserB = m('laser-b');
   const member = p('member');

@@ -4,19 +4,10 @@ import { siteFormat } from '../lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
+import type { AuditRow as AuditRecord } from '../lib/audit-filter';
+import type { Json } from '../lib/json';
 
-interface AuditRow {
-  id: number;
-  at: string;
-  actorId: string | null;
-  actorName: string | null;
-  kind: string;
-  subjectType: string;
-  subjectId: string | null;
-  summary: string;
-  before: unknown;
-  after: unknown;
-}
+type AuditRow = Json<AuditRecord>;
 interface PageData {
   total: number;
   page: number;

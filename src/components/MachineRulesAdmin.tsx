@@ -1,7 +1,8 @@
 /** Admin › Machines: booking rules per machine — opening hours, grid, lengths, cool-down, lead, horizon, quotas, cut-off, closures. */
 import { useCallback, useEffect, useId, useState } from 'react';
 import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
-import { formatClock, localToInstant, parseClock, wallClock } from '../lib/availability';
+import { formatClock, localToInstant, parseClock, wallClock, type ClosureRow, type MachineRules } from '../lib/availability';
+import type { Json } from '../lib/json';
 import { api, ApiError } from './ui/api';
 import { siteFormat } from '../lib/format';
 
@@ -10,24 +11,8 @@ interface MachineInfo {
   name: string;
   status: string;
 }
-interface Rules {
-  slotMinutes: number;
-  minMinutes: number;
-  maxMinutes: number;
-  bufferMinutes: number;
-  leadMinutes: number;
-  horizonDays: number;
-  cancelCutoffMinutes: number;
-  quotas: Record<Tier, number | null>;
-  hours: { weekday: number; opensMinute: number; closesMinute: number }[];
-}
-interface Closure {
-  id: string;
-  machineId: string | null;
-  startsAt: string;
-  endsAt: string;
-  reason: string;
-}
+type Rules = Omit<MachineRules, 'machineId'>;
+type Closure = Json<ClosureRow>;
 
 const WEEKDAYS = ['Monday', 'Tuesday', 'Wednesday', 'Thursday', 'Friday', 'Saturday', 'Sunday'];
 

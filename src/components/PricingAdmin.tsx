@@ -2,28 +2,11 @@
 import { siteFormat } from '../lib/format';
 import { useState, type FormEvent } from 'react';
 import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
-import { formatMinor, parseMajor, type Material } from '../lib/pricing';
+import type { Json } from '../lib/json';
+import { formatMinor, parseMajor, type Material, type PriceVersion } from '../lib/pricing';
 import { api, ApiError } from './ui/api';
 
-export interface VersionView {
-  id: string;
-  effectiveFrom: string;
-  currency: string;
-  incrementMinutes: number;
-  minimumChargeMinor: number;
-  dailyCapMinor: number | null;
-  lateCancelFeeMinor: number;
-  noShowFeeMinor: number;
-  taxMode: 'inclusive' | 'exclusive';
-  taxRateBp: number;
-  minimumRule: 'carry' | 'waive';
-  rechargeTiers: Tier[];
-  materials: Material[];
-  note: string;
-  createdByName: string | null;
-  createdAt: string;
-  rates: Record<string, Partial<Record<Tier, number>>>;
-}
+export type VersionView = Json<PriceVersion>;
 
 interface Props {
   machines: { id: string; name: string }[];

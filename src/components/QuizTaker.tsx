@@ -3,33 +3,11 @@ import { useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import { siteFormat } from '../lib/format';
 import type { DeliveredQuestion } from '../lib/quiz-rules';
-import type { QuizIntro } from '../lib/quiz-rules';
+import type { QuizIntro, StartedAttempt, SubmittedAttempt } from '../lib/quiz-rules';
 
-interface Attempt {
-  attemptId: string;
-  quizId: string;
-  version: number;
-  title: string;
-  groupName: string;
-  passMarkPct: number;
-  questions: DeliveredQuestion[];
-  submitBy: string;
-  timeLimitMinutes: number;
-  answers: Record<string, string[]>;
-  resumed: boolean;
-}
+type Attempt = StartedAttempt;
 
-interface Result {
-  scorePct: number;
-  correctCount: number;
-  total: number;
-  passMarkPct: number;
-  passed: boolean;
-  missedTopics: string[];
-  results: { questionId: string; topic: string; prompt: string; correct: boolean; explanation?: string }[];
-  clearanceState: string;
-  nextStep: string;
-}
+type Result = Omit<SubmittedAttempt, 'attemptId' | 'clearanceState'> & { clearanceState: string };
 
 export default function QuizTaker({ quizId, intro, timeZone, locale }: { quizId: string; intro: QuizIntro; timeZone: string; locale: string }) {
   const f = siteFormat(locale, timeZone);

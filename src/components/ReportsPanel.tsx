@@ -6,7 +6,7 @@ import { useEffect, useId, useMemo, useState, type ReactNode } from 'react';
 import { Bar, BarChart, CartesianGrid, Legend, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import { api, ApiError } from './ui/api';
 import { currencyExponent } from '../lib/pricing';
-import { siteFormat } from '../lib/format';
+import { siteFormat, type SiteFormat } from '../lib/format';
 import type { ClearanceRow, FaultRow, NoShowRow, ReportName, RevenueRow, UtilisationRow } from '../lib/reports';
 
 interface Machine {
@@ -78,6 +78,78 @@ function Empty({ what }: { what: string }) {
   return <p className="hint">No {what} in this period.</p>;
 }
 
+/** One column of a report table: its heading and how a row shows in it (numbers are right-aligned). */
+interface Column<R> {
+  head: string;
+  cell: (r: R) => ReactNode;
+  numeric?: boolean;
+}
+
+/** A report's table, driven by its columns list; with `empty`, no rows shows "No … in this period." instead. */
+function ReportTable<R>(props: { label: string; rows: R[]; columns: Column<R>[]; rowKey: (r: R) => string; empty?: string }) {
+  if (props.empty !== undefined && props.rows.length === 0) return <Empty what={props.empty} />;
+  const align = (c: Column<R>) => (c.numeric ? 'text-right' : undefined);
+  return (
+    <Scroll label={props.label}>
+      <table className="table whitespace-nowrap">
+        <thead><tr>{props.columns.map((c) => <th key={c.head} className={align(c)}>{c.head}</th>)}</tr></thead>
+        <tbody>
+          {props.rows.map((r) => (
+            <tr key={props.rowKey(r)}>{props.columns.map((c) => <td key={c.head} className={align(c)}>{c.cell(r)}</td>)}</tr>
+          ))}
+        </tbody>
+      </table>
+    </Scroll>
+  );
+}
+
+/** The columns of each report's table, written in the site's locale. */
+function reportColumns(f: SiteFormat) {
+  const pct = (v: number | null) => (v === null ? '—' : f.percent(v));
+  const hours = (minutes: number) => `${f.number(minutes / 60, 1)} h`;
+  const UTILISATION_COLUMNS: Column<UtilisationRow>[] = [
+    { head: 'Machine', cell: (r) => r.machine },
+    { head: 'Week from', cell: (r) => f.day(r.week_start) },
+    { head: 'Open', numeric: true, cell: (r) => hours(r.open_minutes) },
+    { head: 'Booked', numeric: true, cell: (r) => <>{hours(r.booked_minutes)} <span className="hint">{pct(r.booked_share)}</span></> },
+    { head: 'Beam time', numeric: true, cell: (r) => <>{hours(r.beam_minutes)} <span className="hint">{pct(r.beam_share)}</span></> },
+  ];
+  const REVENUE_COLUMNS: Column<RevenueRow>[] = [
+    { head: 'Month', cell: (r) => f.month(r.month) },
+    { head: 'Machine', cell: (r) => r.machine || '—' },
+    { head: 'Tier', cell: (r) => r.tier },
+    { head: 'Method', cell: (r) => r.method },
+    { head: 'Charges', numeric: true, cell: (r) => r.charges },
+    { head: 'Net', numeric: true, cell: (r) => f.money(r.net_minor, r.currency) },
+    { head: 'Tax', numeric: true, cell: (r) => f.money(r.tax_minor, r.currency) },
+  ];
+  const CLEARANCE_COLUMNS: Column<ClearanceRow>[] = [
+    { head: 'Group', cell: (r) => r.group },
+    { head: 'Quiz started', numeric: true, cell: (r) => r.quiz_started },
+    { head: 'Passed', numeric: true, cell: (r) => r.quiz_passed },
+    { head: 'Seat booked', numeric: true, cell: (r) => r.seats_booked },
+    { head: 'Attended', numeric: true, cell: (r) => r.attended },
+    { head: 'Signed off', numeric: true, cell: (r) => r.signed_off },
+    { head: 'Lapsed', numeric: true, cell: (r) => r.lapsed },
+  ];
+  const FAULT_COLUMNS: Column<FaultRow>[] = [
+    { head: 'Machine', cell: (r) => r.machine },
+    { head: 'Stop', numeric: true, cell: (r) => r.stop },
+    { head: 'Degraded', numeric: true, cell: (r) => r.degraded },
+    { head: 'Note', numeric: true, cell: (r) => r.note },
+    { head: 'Open now', numeric: true, cell: (r) => r.open_now },
+    { head: 'Out of service', numeric: true, cell: (r) => hours(r.out_of_service_minutes) },
+    { head: 'Mean to return', numeric: true, cell: (r) => (r.mean_minutes_to_return === null ? '—' : hours(r.mean_minutes_to_return)) },
+  ];
+  const NO_SHOW_COLUMNS: Column<NoShowRow>[] = [
+    { head: 'Person', cell: (r) => <>{r.person} <span className="hint">{r.email}</span></> },
+    { head: 'Bookings', numeric: true, cell: (r) => r.bookings },
+    { head: 'No-shows', numeric: true, cell: (r) => <>{r.no_shows} <span className="hint">{pct(r.no_show_share)}</span></> },
+    { head: 'Late cancellations', numeric: true, cell: (r) => r.late_cancellations },
+  ];
+  return { UTILISATION_COLUMNS, REVENUE_COLUMNS, CLEARANCE_COLUMNS, FAULT_COLUMNS, NO_SHOW_COLUMNS };
+}
+
 export default function ReportsPanel(props: Props) {
   const ids = { from: useId(), to: useId() };
   const [from, setFrom] = useState(props.defaultFrom);
@@ -101,6 +173,7 @@ export default function ReportsPanel(props: Props) {
   const pct = (v: number | null) => (v === null ? '—' : f.percent(v));
   const hours = (minutes: number) => `${f.number(minutes / 60, 1)} h`;
   const monthWords = (ym: string) => f.month(ym);
+  const { UTILISATION_COLUMNS, REVENUE_COLUMNS, CLEARANCE_COLUMNS, FAULT_COLUMNS, NO_SHOW_COLUMNS } = useMemo(() => reportColumns(f), [f]);
   // chart values in major units of the currency (its own exponent: JPY 0, BHD 3)
   const major = (minor: number, currency: string) => minor / 10 ** currencyExponent(currency);
   const csv = (n: ReportName) => `/api/reports/${n}.csv?${params}`;
@@ -209,23 +282,8 @@ export default function ReportsPanel(props: Props) {
                   </ResponsiveContainer>
                 </figure>
               )}
-              {util.data.rows.length === 0 ? <Empty what="machines" /> : (
-                <Scroll label="Utilisation table (scrolls sideways)">
-                  <table className="table whitespace-nowrap">
-                    <thead><tr><th>Machine</th><th>Week from</th><th className="text-right">Open</th><th className="text-right">Booked</th><th className="text-right">Beam time</th></tr></thead>
-                    <tbody>
-                      {util.data.rows.map((r) => (
-                        <tr key={`${r.machine_id}-${r.week_start}`}>
-                          <td>{r.machine}</td><td>{f.day(r.week_start)}</td>
-                          <td className="text-right">{hours(r.open_minutes)}</td>
-                          <td className="text-right">{hours(r.booked_minutes)} <span className="hint">{pct(r.booked_share)}</span></td>
-                          <td className="text-right">{hours(r.beam_minutes)} <span className="hint">{pct(r.beam_share)}</span></td>
-                        </tr>
-                      ))}
-                    </tbody>
-                  </table>
-                </Scroll>
-              )}
+              <ReportTable label="Utilisation table (scrolls sideways)" rows={util.data.rows} columns={UTILISATION_COLUMNS} empty="machines"
+                rowKey={(r) => `${r.machine_id}-${r.week_start}`} />
             </>
           )}
         </Section>
@@ -258,23 +316,8 @@ export default function ReportsPanel(props: Props) {
                   </ResponsiveContainer>
                 </figure>
               )}
-              {revenue.data.rows.length === 0 ? <Empty what="charges" /> : (
-                <Scroll label="Revenue table (scrolls sideways)">
-                  <table className="table whitespace-nowrap">
-                    <thead><tr><th>Month</th><th>Machine</th><th>Tier</th><th>Method</th><th className="text-right">Charges</th><th className="text-right">Net</th><th className="text-right">Tax</th></tr></thead>
-                    <tbody>
-                      {revenue.data.rows.map((r) => (
-                        <tr key={`${r.month}-${r.machine_id}-${r.tier}-${r.method}-${r.currency}`}>
-                          <td>{monthWords(r.month)}</td><td>{r.machine || '—'}</td><td>{r.tier}</td><td>{r.method}</td>
-                          <td className="text-right">{r.charges}</td>
-                          <td className="text-right">{f.money(r.net_minor, r.currency)}</td>
-                          <td className="text-right">{f.money(r.tax_minor, r.currency)}</td>
-                        </tr>
-                      ))}
-                    </tbody>
-                  </table>
-                </Scroll>
-              )}
+              <ReportTable label="Revenue table (scrolls sideways)" rows={revenue.data.rows} columns={REVENUE_COLUMNS} empty="charges"
+                rowKey={(r) => `${r.month}-${r.machine_id}-${r.tier}-${r.method}-${r.currency}`} />
             </>
           )}
         </Section>
@@ -283,22 +326,9 @@ export default function ReportsPanel(props: Props) {
       {has('clearances') && (
         <Section id="r-clear" title="Clearance funnel" csvHref={csv('clearances')} loading={clear.loading} problem={clear.problem}
           intro="People per machine group who, in this period, started a quiz, passed it, booked a seat at an induction session starting in the period, attended it, were signed off, and whose clearance lapsed without renewal.">
-          {clear.data && (clear.data.rows.length === 0 ? <Empty what="machine groups" /> : (
-            <Scroll label="Clearance funnel table (scrolls sideways)">
-              <table className="table whitespace-nowrap">
-                <thead><tr><th>Group</th><th className="text-right">Quiz started</th><th className="text-right">Passed</th><th className="text-right">Seat booked</th><th className="text-right">Attended</th><th className="text-right">Signed off</th><th className="text-right">Lapsed</th></tr></thead>
-                <tbody>
-                  {clear.data.rows.map((r) => (
-                    <tr key={r.group_id}>
-                      <td>{r.group}</td><td className="text-right">{r.quiz_started}</td><td className="text-right">{r.quiz_passed}</td>
-                      <td className="text-right">{r.seats_booked}</td><td className="text-right">{r.attended}</td>
-                      <td className="text-right">{r.signed_off}</td><td className="text-right">{r.lapsed}</td>
-                    </tr>
-                  ))}
-                </tbody>
-              </table>
-            </Scroll>
-          ))}
+          {clear.data && (
+            <ReportTable label="Clearance funnel table (scrolls sideways)" rows={clear.data.rows} columns={CLEARANCE_COLUMNS} empty="machine groups" rowKey={(r) => r.group_id} />
+          )}
         </Section>
       )}
 
@@ -312,20 +342,7 @@ export default function ReportsPanel(props: Props) {
                 {hours(faults.data.totals.outOfServiceMinutes)} · mean time to return{' '}
                 {faults.data.totals.meanMinutesToReturn === null ? '—' : hours(faults.data.totals.meanMinutesToReturn)}
               </p>
-              <Scroll label="Faults table (scrolls sideways)">
-                <table className="table whitespace-nowrap">
-                  <thead><tr><th>Machine</th><th className="text-right">Stop</th><th className="text-right">Degraded</th><th className="text-right">Note</th><th className="text-right">Open now</th><th className="text-right">Out of service</th><th className="text-right">Mean to return</th></tr></thead>
-                  <tbody>
-                    {faults.data.rows.map((r) => (
-                      <tr key={r.machine_id}>
-                        <td>{r.machine}</td><td className="text-right">{r.stop}</td><td className="text-right">{r.degraded}</td><td className="text-right">{r.note}</td>
-                        <td className="text-right">{r.open_now}</td><td className="text-right">{hours(r.out_of_service_minutes)}</td>
-                        <td className="text-right">{r.mean_minutes_to_return === null ? '—' : hours(r.mean_minutes_to_return)}</td>
-                      </tr>
-                    ))}
-                  </tbody>
-                </table>
-              </Scroll>
+              <ReportTable label="Faults table (scrolls sideways)" rows={faults.data.rows} columns={FAULT_COLUMNS} rowKey={(r) => r.machine_id} />
             </>
           )}
         </Section>
@@ -334,22 +351,9 @@ export default function ReportsPanel(props: Props) {
       {has('no-shows') && (
         <Section id="r-noshow" title="No-shows and late cancellations" csvHref={csv('no-shows')} loading={noShows.loading} problem={noShows.problem}
           intro="People with a no-show or a late cancellation among their personal bookings that started in this period: a starting point for a fair-use conversation, not a verdict.">
-          {noShows.data && (noShows.data.rows.length === 0 ? <Empty what="no-shows or late cancellations" /> : (
-            <Scroll label="No-shows table (scrolls sideways)">
-              <table className="table whitespace-nowrap">
-                <thead><tr><th>Person</th><th className="text-right">Bookings</th><th className="text-right">No-shows</th><th className="text-right">Late cancellations</th></tr></thead>
-                <tbody>
-                  {noShows.data.rows.map((r) => (
-                    <tr key={r.person_id}>
-                      <td>{r.person} <span className="hint">{r.email}</span></td><td className="text-right">{r.bookings}</td>
-                      <td className="text-right">{r.no_shows} <span className="hint">{pct(r.no_show_share)}</span></td>
-                      <td className="text-right">{r.late_cancellations}</td>
-                    </tr>
-                  ))}
-                </tbody>
-              </table>
-            </Scroll>
-          ))}
+          {noShows.data && (
+            <ReportTable label="No-shows table (scrolls sideways)" rows={noShows.data.rows} columns={NO_SHOW_COLUMNS} empty="no-shows or late cancellations" rowKey={(r) => r.person_id} />
+          )}
         </Section>
       )}
     </div>

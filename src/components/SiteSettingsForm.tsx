@@ -2,16 +2,7 @@
 import { useEffect, useId, useState, type FormEvent } from 'react';
 import { api, ApiError } from './ui/api';
 import { isLocale, siteFormat } from '../lib/format';
-
-export interface SiteValues {
-  name: string;
-  timeZone: string;
-  locale: string;
-  currency: string;
-  taxRatePercent: number;
-  pricesIncludeTax: boolean;
-  publicBaseUrl: string | null;
-}
+import type { SiteValues } from '../lib/site-settings';
 
 type Field = keyof SiteValues;
 

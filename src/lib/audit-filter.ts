@@ -38,3 +38,17 @@ export function toAuditFilter(query: AuditFilterQuery, timeZone: string): { acto
     ...(end ? { to: end } : {}),
   };
 }
+
+/** One entry of the audit log, as the server reads it (the Audit screen gets it as Json<AuditRow>). */
+export interface AuditRow {
+  id: number;
+  at: Date;
+  actorId: string | null;
+  actorName: string | null;
+  kind: string;
+  subjectType: string;
+  subjectId: string | null;
+  summary: string;
+  before: unknown;
+  after: unknown;
+}

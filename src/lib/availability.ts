@@ -50,6 +50,20 @@ export interface Closure {
   reason: string;
 }
 
+/** A machine's booking rules as stored: the rules, the weekly quota per tier and the opening hours. */
+export interface MachineRules extends BookingRules {
+  machineId: string;
+  /** Weekly minutes per tier; null = no limit. */
+  quotas: Record<Tier, number | null>;
+  hours: WeeklyHours[];
+}
+
+/** A closure as stored: for one machine, or the whole site (machineId null). */
+export interface ClosureRow extends Closure {
+  id: string;
+  machineId: string | null;
+}
+
 /** An active booking's occupied range: its time plus its cool-down. */
 export interface Occupied {
   startsAt: Date;

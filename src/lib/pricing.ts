@@ -279,3 +279,19 @@ export function parseMajor(text: string, currency: string): number | null {
   if (frac.length > e) return null;
   return Number(m[1]) * 10 ** e + Number(frac.padEnd(e, '0') || '0');
 }
+
+/** The terms a price version sets, shared by a stored version and a new one: the table without its rates, plus who pays by recharge and a note. */
+export interface VersionTerms extends Omit<PriceTable, 'rates'> {
+  rechargeTiers: Tier[];
+  note: string;
+}
+
+export interface PriceVersion extends VersionTerms {
+  id: string;
+  effectiveFrom: Date;
+  createdBy: string | null;
+  createdByName: string | null;
+  createdAt: Date;
+  /** machine id → tier → per-minute rate in minor units */
+  rates: Record<string, Partial<Record<Tier, number>>>;
+}

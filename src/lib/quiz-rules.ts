@@ -3,6 +3,7 @@
  * shuffling an attempt, scoring on the server, and attempt limits. Pure (no I/O).
  */
 import { z } from 'zod';
+import type { ClearanceState } from './clearance-rules';
 
 // no probe for eval (zod's JIT): the pages' Content-Security-Policy forbids it, and the probe reports a violation
 z.config({ jitless: true });
@@ -229,4 +230,35 @@ export interface QuizIntro {
   nextAllowed: { at: string; reason: 'daily_limit' | 'cooldown' } | null;
   /** When the quiz is not for this person now (already passed, cleared, suspended). */
   notNeeded: string | null;
+}
+
+/** A quiz attempt as the person taking it sees it (started, or resumed as it was left). */
+export interface StartedAttempt {
+  attemptId: string;
+  quizId: string;
+  version: number;
+  title: string;
+  groupName: string;
+  passMarkPct: number;
+  questions: DeliveredQuestion[];
+  submitBy: string;
+  timeLimitMinutes: number;
+  /** Answers saved so far (an attempt that was open is returned as it was left). */
+  answers: Answers;
+  /** True when this is the attempt that was already open (it did not count again). */
+  resumed: boolean;
+}
+
+/** A submitted attempt as the person sees it: the score, what was missed and the clearance's next step. */
+export interface SubmittedAttempt {
+  attemptId: string;
+  scorePct: number;
+  correctCount: number;
+  total: number;
+  passMarkPct: number;
+  passed: boolean;
+  missedTopics: string[];
+  results: { questionId: string; topic: string; prompt: string; correct: boolean; explanation?: string }[];
+  clearanceState: ClearanceState;
+  nextStep: string;
 }

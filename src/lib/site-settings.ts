@@ -106,3 +106,26 @@ export const siteSettingsInput = z
 
 export type SiteSettingsInput = z.input<typeof siteSettingsInput>;
 export type SiteSettingsValues = z.output<typeof siteSettingsInput>;
+
+/** What an admin edits on the Site screen; the settings read and the API answer are these plus when they changed. */
+export interface SiteValues {
+  name: string;
+  timeZone: string;
+  /** The site locale: a BCP 47 tag (en-NZ, de-DE) for every date, time, number and amount shown. */
+  locale: string;
+  currency: string;
+  /** Percent, e.g. 15 for 15 % GST. */
+  taxRatePercent: number;
+  /** True: prices are entered and shown with tax included; false: tax is added on top. */
+  pricesIncludeTax: boolean;
+  /** The address printed on QR labels as set by an admin; null means the environment's PUBLIC_BASE_URL. */
+  publicBaseUrl: string | null;
+}
+
+/** The fields an admin edits, in the order the audit lists them. */
+export const SITE_FIELDS = ['name', 'timeZone', 'locale', 'currency', 'taxRatePercent', 'pricesIncludeTax', 'publicBaseUrl'] as const satisfies readonly (keyof SiteValues)[];
+
+/** Just the editable values of a settings record (the form's initial values, the audit's before and after). */
+export function siteValues(s: SiteValues): SiteValues {
+  return { name: s.name, timeZone: s.timeZone, locale: s.locale, currency: s.currency, taxRatePercent: s.taxRatePercent, pricesIncludeTax: s.pricesIncludeTax, publicBaseUrl: s.publicBaseUrl };
+}

@@ -1,5 +1,6 @@
 /** The append-only audit log: who changed what, when, with the state before and after. */
 import { db, type Conn } from './db';
+import type { AuditRow } from '../audit-filter';
 
 export interface AuditEntry {
   actorId: string | null;
@@ -23,18 +24,6 @@ export async function recordAudit(trx: Conn, e: AuditEntry): Promise<void> {
   });
 }
 
-export interface AuditRow {
-  id: number;
-  at: Date;
-  actorId: string | null;
-  actorName: string | null;
-  kind: string;
-  subjectType: string;
-  subjectId: string | null;
-  summary: string;
-  before: unknown;
-  after: unknown;
-}
 
 export type AuditSort = 'at' | 'kind' | 'actor';
 

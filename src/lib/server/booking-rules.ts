@@ -2,20 +2,10 @@
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
-import { DEFAULT_RULES, type BookingRules, type Closure, type WeeklyHours } from '../availability';
+import { DEFAULT_RULES, type BookingRules, type Closure, type ClosureRow, type MachineRules, type WeeklyHours } from '../availability';
 import { TIERS, type Tier } from '../vocabulary';
 
-export interface MachineRules extends BookingRules {
-  machineId: string;
-  /** Weekly minutes per tier; null = no limit. */
-  quotas: Record<Tier, number | null>;
-  hours: WeeklyHours[];
-}
-
-export interface ClosureRow extends Closure {
-  id: string;
-  machineId: string | null;
-}
+export type { ClosureRow, MachineRules } from '../availability';
 
 /** A machine's rules with its opening hours and quotas, in one statement (it is read on every booking and feed). */
 export async function getRules(machineId: string, trx: Conn = db()): Promise<MachineRules> {

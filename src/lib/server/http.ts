@@ -128,6 +128,54 @@ async function readLimited(request: Request, limit: number): Promise<string> {
   return Buffer.concat(chunks).toString('utf8');
 }
 
+/** A posted form: text fields as strings ('' when absent or a file), files, and every text field. */
+export interface PostedForm {
+  /** false when the body could not be read as a form (every field then reads as empty) */
+  readonly ok: boolean;
+  text(name: string): string;
+  /** a text field as sent, undefined when it is absent (or a file) */
+  value(name: string): string | undefined;
+  files(...names: string[]): File[];
+  entries(): [string, string][];
+}
+
+function postedForm(form: FormData | null): PostedForm {
+  return {
+    ok: form !== null,
+    text: (name) => {
+      const v = form?.get(name);
+      return typeof v === 'string' ? v : '';
+    },
+    value: (name) => {
+      const v = form?.get(name);
+      return typeof v === 'string' ? v : undefined;
+    },
+    files: (...names) => names.flatMap((n) => form?.getAll(n) ?? []).filter((f): f is File => f instanceof File && f.size > 0),
+    entries: () => [...(form?.entries() ?? [])].flatMap(([k, v]) => (typeof v === 'string' ? [[k, v] as [string, string]] : [])),
+  };
+}
+
+/** A page's posted form (urlencoded or multipart); never throws: an unreadable body reads as an empty form (`ok` false). */
+export async function readForm(request: Request): Promise<PostedForm> {
+  return postedForm(await request.formData().catch(() => null));
+}
+
+/**
+ * An API route's multipart body: 415 when it is not multipart/form-data, 413 when it declares more than `maxBytes`,
+ * 400 when it cannot be read.
+ */
+export async function readMultipart(request: Request, opts: { maxBytes: number; tooLarge: string; what: string }): Promise<PostedForm> {
+  if (!/^multipart\/form-data\b/i.test(request.headers.get('content-type') ?? '')) {
+    throw new HttpError(415, 'unsupported_media_type', `Send ${opts.what} as multipart/form-data.`);
+  }
+  if (Number(request.headers.get('content-length') ?? '0') > opts.maxBytes) throw new HttpError(413, 'file_too_large', opts.tooLarge);
+  try {
+    return postedForm(await request.formData());
+  } catch {
+    throw new HttpError(400, 'bad_form', 'The form data could not be read.');
+  }
+}
+
 export function parseWith<T>(schema: ZodType<T>, data: unknown): T {
   const parsed = schema.safeParse(data);
   if (!parsed.success) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', fieldMessages(parsed.error));
@@ -154,8 +202,13 @@ export function requireRole(locals: App.Locals, ...roles: Role[]): SignedInPerso
 
 const UUID_RE = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
-/** A route's id parameter: a malformed id is simply not found (404), never a database error. */
+/** Is this an id (a UUID) at all? The one check every route and page uses before a look-up. */
+export function isId(value: unknown): value is string {
+  return typeof value === 'string' && UUID_RE.test(value);
+}
+
+/** A route's id parameter: a malformed id is simply not found (404 not_found), never a database error. */
 export function idParam(value: string | undefined, what = 'record'): string {
-  if (!value || !UUID_RE.test(value)) throw new HttpError(404, 'not_found', `No such ${what}.`);
+  if (!isId(value)) throw new HttpError(404, 'not_found', `No such ${what}.`);
   return value.toLowerCase();
 }

@@ -24,6 +24,7 @@ import {
 } from '../checklist';
 import { billableMinutes } from '../controller-rules';
 import { log } from './log';
+import { lockMachine } from './machines';
 
 export interface MachineSession {
   id: string;
@@ -98,7 +99,7 @@ export async function checkIn(actor: Actor, bookingId: string, input: CheckInInp
     const window = checkInWindow(b.starts_at, b.ends_at, now);
     if (!window.ok) throw new HttpError(409, window.code, window.message);
     // FOR UPDATE: a stop fault taking the machine out of service waits for this check-in, or this check-in sees it
-    const m = await trx('machines').where({ id: b.machine_id }).forUpdate().first('id', 'name', 'status');
+    const m = await lockMachine(trx, b.machine_id, 'update');
     if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
     if (m.status === 'out of service') throw new HttpError(409, 'machine_out_of_service', `${m.name} is out of service. Do not use it; a steward will put it back in service.`);
     const verdict = await canOperate(actor.id, b.machine_id, now, trx);

@@ -165,3 +165,22 @@ export async function updateMachine(actorId: string, id: string, input: Partial<
   });
 }
 
+/** A machine's row as the lock returns it. */
+export interface LockedMachine {
+  id: string;
+  code: string;
+  name: string;
+  status: MachineStatus;
+  retiredAt: Date | null;
+}
+
+/**
+ * The one machine lock, in the caller's transaction. FOR UPDATE to change the machine (its status, retiring it): a
+ * booking being made holds the row FOR SHARE, so it either commits first (and is bumped or cancelled by the change)
+ * or waits and then sees the change. FOR SHARE to book or check in on it. Null when no machine has the id.
+ */
+export async function lockMachine(trx: Knex.Transaction, id: string, mode: 'update' | 'share' = 'update'): Promise<LockedMachine | null> {
+  const q = trx('machines').where({ id });
+  const row = await (mode === 'share' ? q.forShare() : q.forUpdate()).first('id', 'code', 'name', 'status', 'retired_at');
+  return row ? { id: row.id, code: row.code, name: row.name, status: row.status, retiredAt: row.retired_at } : null;
+}

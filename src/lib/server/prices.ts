@@ -10,34 +10,10 @@ import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { startOfZonedDay, zonedDayBounds } from '../time';
 import { getSettings } from './settings';
-import { PricingError, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type Quote, type QuoteInput, type TaxMode } from '../pricing';
+import { PricingError, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type PriceVersion, type Quote, type QuoteInput, type TaxMode, type VersionTerms } from '../pricing';
+
+export type { PriceVersion } from '../pricing';
 import { TIERS, type Tier } from '../vocabulary';
-
-/** The terms a price version sets, shared by a stored version and a new one. */
-interface VersionTerms {
-  currency: string;
-  incrementMinutes: number;
-  minimumChargeMinor: number;
-  dailyCapMinor: number | null;
-  lateCancelFeeMinor: number;
-  noShowFeeMinor: number;
-  taxMode: TaxMode;
-  taxRateBp: number;
-  minimumRule: MinimumRule;
-  rechargeTiers: Tier[];
-  materials: Material[];
-  note: string;
-}
-
-export interface PriceVersion extends VersionTerms {
-  id: string;
-  effectiveFrom: Date;
-  createdBy: string | null;
-  createdByName: string | null;
-  createdAt: Date;
-  /** machine id → tier → per-minute rate in minor units */
-  rates: Record<string, Partial<Record<Tier, number>>>;
-}
 
 type Row = {
   id: string; effective_from: Date; currency: string; increment_minutes: number; minimum_charge_minor: number;

@@ -11,7 +11,7 @@ import { recordQuizPass } from './clearances/transitions';
 import { effectiveState, type ClearanceState } from '../clearance-rules';
 import {
   SUBMIT_GRACE_SECONDS, attemptGate, attemptOpen, attemptsLeft, deliver, drawQuestions, scoreAttempt,
-  type Answers, type DeliveredQuestion, type DrawnQuestion, type QuizDraft, type QuizQuestion,
+  type Answers, type DeliveredQuestion, type StartedAttempt, type SubmittedAttempt, type DrawnQuestion, type QuizDraft, type QuizQuestion,
 } from '../quiz-rules';
 
 export interface QuizVersionView {
@@ -156,22 +156,6 @@ export async function publish(actorId: string, quizId: string): Promise<{ versio
 // ---------------------------------------------------------------------------------------------
 // Taking a quiz
 
-export interface StartedAttempt {
-  attemptId: string;
-  quizId: string;
-  version: number;
-  title: string;
-  groupName: string;
-  passMarkPct: number;
-  questions: DeliveredQuestion[];
-  submitBy: string;
-  timeLimitMinutes: number;
-  /** Answers saved so far (an attempt that was open is returned as it was left). */
-  answers: Answers;
-  /** True when this is the attempt that was already open (it did not count again). */
-  resumed: boolean;
-}
-
 const QUIZ_STATES: ClearanceState[] = ['quiz due', 'lapsed'];
 
 async function clearanceStateFor(trx: any, personId: string, groupId: string, at: Date): Promise<ClearanceState> {
@@ -240,19 +224,6 @@ export async function startAttempt(personId: string, quizId: string, now = new D
       timeLimitMinutes: version.time_limit_minutes, answers: {}, resumed: false,
     };
   });
-}
-
-export interface SubmittedAttempt {
-  attemptId: string;
-  scorePct: number;
-  correctCount: number;
-  total: number;
-  passMarkPct: number;
-  passed: boolean;
-  missedTopics: string[];
-  results: { questionId: string; topic: string; prompt: string; correct: boolean; explanation?: string }[];
-  clearanceState: ClearanceState;
-  nextStep: string;
 }
 
 /** Scores an attempt on the server; a pass moves the clearance on (in the same transaction). */

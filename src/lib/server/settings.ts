@@ -3,21 +3,10 @@ import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { HttpError } from './errors';
 import { env } from './env';
-import type { SiteSettingsValues } from '../site-settings';
+import { SITE_FIELDS, siteValues, type SiteSettingsValues, type SiteValues } from '../site-settings';
 import { DEFAULT_LOCALE, siteFormat, type SiteFormat } from '../format';
 
-export interface SiteSettings {
-  name: string;
-  timeZone: string;
-  /** The site locale: a BCP 47 tag (en-NZ, de-DE) for every date, time, number and amount shown. */
-  locale: string;
-  currency: string;
-  /** Percent, e.g. 15 for 15 % GST. */
-  taxRatePercent: number;
-  /** True: prices are entered and shown with tax included; false: tax is added on top. */
-  pricesIncludeTax: boolean;
-  /** The address printed on QR labels as set by an admin; null means the environment's PUBLIC_BASE_URL. */
-  publicBaseUrl: string | null;
+export interface SiteSettings extends SiteValues {
   updatedAt: Date | null;
 }
 
@@ -104,21 +93,6 @@ export async function publicBaseUrl(): Promise<string> {
   return (s.publicBaseUrl ?? env().PUBLIC_BASE_URL).replace(/\/+$/, '');
 }
 
-const EDITABLE = ['name', 'timeZone', 'locale', 'currency', 'taxRatePercent', 'pricesIncludeTax', 'publicBaseUrl'] as const;
-type Editable = Pick<SiteSettings, (typeof EDITABLE)[number]>;
-
-function editable(s: SiteSettings): Editable {
-  return {
-    name: s.name,
-    timeZone: s.timeZone,
-    locale: s.locale,
-    currency: s.currency,
-    taxRatePercent: s.taxRatePercent,
-    pricesIncludeTax: s.pricesIncludeTax,
-    publicBaseUrl: s.publicBaseUrl,
-  };
-}
-
 /**
  * Saves the site settings (validated by siteSettingsInput). Audited as `site.updated` with the values
  * before and after; a save that changes nothing writes nothing.
@@ -126,18 +100,10 @@ function editable(s: SiteSettings): Editable {
 export async function updateSettings(actorId: string, input: SiteSettingsValues): Promise<SiteSettings> {
   return transaction(async (trx) => {
     const row = (await trx('site_settings').where({ id: 1 }).forUpdate().first(...COLUMNS)) as Row | undefined;
-    const before = row ? editable(toSettings(row)) : null;
-    const after: Editable = {
-      name: input.name,
-      timeZone: input.timeZone,
-      // left out of the input: the site keeps its locale
-      locale: input.locale ?? before?.locale ?? DEFAULT_LOCALE,
-      currency: input.currency,
-      taxRatePercent: input.taxRatePercent,
-      pricesIncludeTax: input.pricesIncludeTax,
-      publicBaseUrl: input.publicBaseUrl,
-    };
-    const changed = EDITABLE.filter((k) => !before || before[k] !== after[k]);
+    const before = row ? siteValues(toSettings(row)) : null;
+    // left out of the input: the site keeps its locale
+    const after: SiteValues = siteValues({ ...input, locale: input.locale ?? before?.locale ?? DEFAULT_LOCALE });
+    const changed = SITE_FIELDS.filter((k) => !before || before[k] !== after[k]);
     if (changed.length === 0 && row) return toSettings(row);
     // amounts are integers of the currency's minor unit: once money has been charged, the currency stays
     if (before && changed.includes('currency') && (await trx('charges').whereNot('currency', after.currency).first('id'))) {

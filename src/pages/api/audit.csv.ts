@@ -1,6 +1,6 @@
 import { readQuery, requireRole, route } from '../../lib/server/http';
 import { iterateAudit } from '../../lib/server/audit';
-import { type AuditRow } from '../../lib/audit-filter';
+import type { AuditRow } from '../../lib/audit-filter';
 import { getSettings } from '../../lib/server/settings';
 import { auditFilterQuery, toAuditFilter } from '../../lib/audit-filter';
 import { BOM, csvHeaders, csvRows } from '../../lib/csv';

@@ -1,16 +1,10 @@
 import { json, readJson, requireRole, route } from '../../lib/server/http';
 import { getSettings, updateSettings, type SiteSettings } from '../../lib/server/settings';
-import { siteSettingsInput } from '../../lib/site-settings';
+import { siteSettingsInput, siteValues } from '../../lib/site-settings';
 
 function view(s: SiteSettings) {
   return {
-    name: s.name,
-    timeZone: s.timeZone,
-    locale: s.locale,
-    currency: s.currency,
-    taxRatePercent: s.taxRatePercent,
-    pricesIncludeTax: s.pricesIncludeTax,
-    publicBaseUrl: s.publicBaseUrl,
+    ...siteValues(s),
     updatedAt: s.updatedAt ? s.updatedAt.toISOString() : null,
   };
 }

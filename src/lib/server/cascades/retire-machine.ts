@@ -5,7 +5,7 @@
 import { transaction } from '../db';
 import { recordAudit } from '../audit';
 import { HttpError } from '../errors';
-import { getMachine, type Machine } from '../machines';
+import { getMachine, lockMachine, type Machine } from '../machines';
 import { cancelFutureBookingsOnMachine } from '../bookings/cancel';
 import { closeFaultsOfRetiredMachine } from '../faults/triage';
 
@@ -19,9 +19,9 @@ import { closeFaultsOfRetiredMachine } from '../faults/triage';
 export async function retireMachine(actorId: string, id: string, reason: string, now = new Date()): Promise<{ machine: Machine; cancelledBookings: number; closedFaults: number }> {
   const { machine, cancelled, closed } = await transaction(async (trx) => {
     // FOR UPDATE: a booking being made holds the machine row FOR SHARE, so it commits first (and is cancelled here) or sees the retirement
-    const row = (await trx('machines').where({ id }).forUpdate().first()) as { name: string; code: string; retired_at: Date | null } | undefined;
+    const row = await lockMachine(trx, id, 'update');
     if (!row) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
-    if (row.retired_at) throw new HttpError(409, 'machine_retired', `${row.name} is already retired.`);
+    if (row.retiredAt) throw new HttpError(409, 'machine_retired', `${row.name} is already retired.`);
     const open = await trx('machine_sessions').where({ machine_id: id }).whereNull('checked_out_at').first('id');
     if (open) throw new HttpError(409, 'machine_in_use', `Someone is checked in on ${row.name}; retire it after they check out (or a steward closes the session).`);
     await trx('machines').where({ id }).update({ retired_at: now, updated_at: trx.fn.now() });

@@ -9,7 +9,7 @@
  */
 import type { Knex } from 'knex';
 import { recordAudit } from '../audit';
-import { findMachine, lockMachine, openFaultCounts, type MachineRow } from './records';
+import { findMachine, lockMachineForChange, openFaultCounts, type MachineRow } from './records';
 import { transaction } from '../db';
 import { env } from '../env';
 import { HttpError } from '../errors';
@@ -147,7 +147,7 @@ export async function setMachineStatus(actor: Actor, machineIdOrCode: string, in
   const found = await findMachine(machineIdOrCode);
   if (!found) throw new HttpError(404, 'machine_not_found', 'No machine has that id or code.');
   const result = await transaction(async (trx) => {
-    const machine = await lockMachine(trx, found.id);
+    const machine = await lockMachineForChange(trx, found.id);
     if (machine.status === input.status) throw new HttpError(409, 'status_unchanged', `${machine.name} is already ${input.status}.`);
     if (input.status !== 'out of service' && machine.status === 'out of service') {
       const r = await returnToService(trx, actor, machine, { reason: input.reason, checklist: input.checklist ?? {}, to: input.status }, now);

@@ -39,3 +39,15 @@ export async function preparePhotos(photos: readonly PhotoUpload[]): Promise<{ b
   }
   return out;
 }
+
+/** The photos of a posted report form: at most MAX_PHOTOS (422 too_many_photos), each at most PHOTO_MAX_BYTES (413). */
+export async function photoUploads(files: readonly File[]): Promise<PhotoUpload[]> {
+  const maxMb = PHOTO_MAX_BYTES / 1024 / 1024;
+  if (files.length > MAX_PHOTOS) throw new HttpError(422, 'too_many_photos', `Attach at most ${MAX_PHOTOS} photos.`, { photos: `At most ${MAX_PHOTOS} photos.` });
+  const photos: PhotoUpload[] = [];
+  for (const f of files) {
+    if (f.size > PHOTO_MAX_BYTES) throw new HttpError(413, 'file_too_large', `Each photo may be at most ${maxMb} MB.`, { photos: `${f.name} is larger than ${maxMb} MB.` });
+    photos.push({ bytes: new Uint8Array(await f.arrayBuffer()) });
+  }
+  return photos;
+}

@@ -6,6 +6,7 @@ import type { Knex } from 'knex';
 import { db, type Conn } from '../db';
 import { HttpError } from '../errors';
 import { getObject } from '../storage';
+import { lockMachine } from '../machines';
 import { hasAnyRole, type Actor } from '../../roles';
 import type { FaultSeverity, FaultStatus, MachineStatus } from '../../faults-shared';
 
@@ -56,12 +57,11 @@ export async function findMachine(idOrCode: string, trx: Conn = db()): Promise<M
   return ((await q.first('id', 'code', 'name', 'status')) as MachineRow | undefined) ?? null;
 }
 
-export async function lockMachine(trx: Knex.Transaction, machineId: string): Promise<MachineRow> {
-  // FOR UPDATE: a booking being created (FOR SHARE on the machine) either commits first — and is bumped here —
-  // or waits and then sees the machine out of service
-  const m = (await trx('machines').where({ id: machineId }).forUpdate().first('id', 'code', 'name', 'status')) as MachineRow | undefined;
+/** The machine, locked FOR UPDATE (machines.ts lockMachine) before its status changes. */
+export async function lockMachineForChange(trx: Knex.Transaction, machineId: string): Promise<MachineRow> {
+  const m = await lockMachine(trx, machineId, 'update');
   if (!m) throw new HttpError(404, 'machine_not_found', 'No machine has that id or code.');
-  return m;
+  return { id: m.id, code: m.code, name: m.name, status: m.status };
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -12,7 +12,7 @@ import { putObject } from '../storage';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
 import { changeStatus, statusFor } from './machine-status';
 import { preparePhotos, type PhotoUpload } from './photos';
-import { findMachine, getFault, lockMachine, UUID, type Fault, type FaultPhoto, type MachineRow } from './records';
+import { findMachine, getFault, lockMachineForChange, UUID, type Fault, type FaultPhoto, type MachineRow } from './records';
 import type { Actor } from '../../roles';
 
 export interface FaultInput {
@@ -81,7 +81,7 @@ export async function reportFault(actor: Actor, machineIdOrCode: string, input: 
 
 async function fileFault(actor: Actor, machineId: string, faultId: string, input: FaultInput, stored: FaultPhoto[], now: Date) {
   return transaction(async (trx) => {
-    const machine = await lockMachine(trx, machineId);
+    const machine = await lockMachineForChange(trx, machineId);
     const before = machine.status;
     const reporter = await trx('people').where({ id: actor.id }).first('name', 'email');
     await trx('faults').insert({

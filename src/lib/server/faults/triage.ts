@@ -7,7 +7,7 @@ import { queueMail } from '../mail';
 import { releaseHoldsAfterCancel } from '../payments/intents';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
 import { changeStatus, returnToService, statusFor, type ReturnChecklist } from './machine-status';
-import { getFault, lockMachine, openFaultCounts, type Fault, type FaultStatus, type MachineRow } from './records';
+import { getFault, lockMachineForChange, openFaultCounts, type Fault, type FaultStatus, type MachineRow } from './records';
 import type { Knex } from 'knex';
 import type { Conn } from '../db';
 import type { Actor } from '../../roles';
@@ -37,7 +37,7 @@ export async function triageFault(actor: Actor, id: string, input: TriageInput, 
     });
     let out: string[] = [];
     if (severity !== f.severity && severity !== 'note') {
-      const machine = await lockMachine(trx, f.machine_id);
+      const machine = await lockMachineForChange(trx, f.machine_id);
       const to = statusFor(severity, machine.status);
       out = (await changeStatus(trx, machine, to, { actorId: actor.id, faultId: id, reason: `Triaged as ${severity}: ${f.summary}`, now })).bumped;
     }
@@ -85,7 +85,7 @@ export async function resolveFault(actor: Actor, id: string, resolution: string,
       .first('f.*', 'p.email', 'p.name as reporter_name', 'm.name as machine_name');
     if (!f) throw new HttpError(404, 'not_found', 'No such fault.');
     if (f.status === 'resolved') throw new HttpError(409, 'fault_resolved', 'This fault is already resolved.');
-    const machine = await lockMachine(trx, f.machine_id);
+    const machine = await lockMachineForChange(trx, f.machine_id);
     await trx('faults').where({ id }).update({ status: 'resolved', resolution, resolved_by: actor.id, resolved_at: now, triaged_at: f.triaged_at ?? now });
     await recordAudit(trx, {
       actorId: actor.id,

@@ -29,7 +29,7 @@ export async function holdForBooking(input: { personId: string; machineId: strin
       pending_op: 'hold',
     })
     .returning('id');
-  return mode === 'intent' ? run(row.id, { op: 'hold' }, 'intent') : placeHold(row.id);
+  return placeHold(row.id, mode);
 }
 
 export interface BeamTimeInput {

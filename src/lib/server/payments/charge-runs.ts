@@ -165,11 +165,11 @@ export async function drive(chargeId: string): Promise<Charge | null> {
 }
 
 /** Places the hold (capture: false) for a charge row in state `pending`. Idempotent. */
-export async function placeHold(chargeId: string): Promise<Charge> {
+export async function placeHold(chargeId: string, mode: 'request' | 'intent' = 'request'): Promise<Charge> {
   const c = await getCharge(chargeId);
   if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
   if (c.state !== 'pending') return c;
-  return run(chargeId, { op: 'hold' });
+  return run(chargeId, { op: 'hold' }, mode);
 }
 
 /** Takes `amountMinor` from a held charge (releasing and charging anew when it is higher than the hold). */

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { HttpError, json, parseWith, requireSignedIn, route } from '../../../lib/server/http';
+import { HttpError, json, parseWith, readMultipart, requireSignedIn, route } from '../../../lib/server/http';
 import { createRequest, listRequests, SDS_MAX_BYTES, type MaterialRequest } from '../../../lib/server/material-requests';
 import { hasAnyRole } from '../../../lib/roles';
 import { materialMode } from '../../../lib/material-schemas';
@@ -39,23 +39,17 @@ export const GET = route(async ({ locals, url }) => {
  */
 export const POST = route(async ({ locals, request }) => {
   const person = requireSignedIn(locals);
-  if (!/^multipart\/form-data\b/i.test(request.headers.get('content-type') ?? '')) {
-    throw new HttpError(415, 'unsupported_media_type', 'Send the request as multipart/form-data with the safety data sheet attached.');
-  }
-  const declared = Number(request.headers.get('content-length') ?? '0');
-  if (declared > SDS_MAX_BYTES + 64 * 1024) throw new HttpError(413, 'file_too_large', 'The safety data sheet is larger than 10 MB.');
-  let form: FormData;
-  try {
-    form = await request.formData();
-  } catch {
-    throw new HttpError(400, 'bad_form', 'The form data could not be read.');
-  }
-  const file = form.get('sds');
-  const input = parseWith(fields, {
-    name: form.get('name') ?? undefined, supplier: form.get('supplier') ?? undefined, composition: form.get('composition') ?? undefined,
-    thicknessMm: form.get('thicknessMm') ?? undefined, mode: form.get('mode') ?? undefined,
+  const form = await readMultipart(request, {
+    what: 'the request, with the safety data sheet attached,',
+    maxBytes: SDS_MAX_BYTES + 64 * 1024,
+    tooLarge: 'The safety data sheet is larger than 10 MB.',
   });
-  if (!(file instanceof File) || file.size === 0) throw new HttpError(422, 'invalid', 'Attach the supplier\'s safety data sheet (PDF).', { sds: 'Attach the safety data sheet as a PDF.' });
+  const [file] = form.files('sds');
+  const input = parseWith(fields, {
+    name: form.value('name'), supplier: form.value('supplier'), composition: form.value('composition'),
+    thicknessMm: form.value('thicknessMm'), mode: form.value('mode'),
+  });
+  if (!file) throw new HttpError(422, 'invalid', 'Attach the supplier\'s safety data sheet (PDF).', { sds: 'Attach the safety data sheet as a PDF.' });
   if (file.size > SDS_MAX_BYTES) throw new HttpError(413, 'file_too_large', 'The safety data sheet is larger than 10 MB.');
   const created = await createRequest(person.id, { ...input, sds: { filename: file.name, bytes: new Uint8Array(await file.arrayBuffer()) } });
   return json(requestJson(created), 201);

@@ -1,6 +1,6 @@
-import { HttpError, json, readJson, requireSignedIn, route } from '../../../../lib/server/http';
+import { json, readJson, requireSignedIn, route, idParam } from '../../../../lib/server/http';
 import { checkIn } from '../../../../lib/server/machine-sessions';
-import { uuid } from '../../../../lib/schemas';
+
 import { checkInBody } from '../../../../lib/session-schemas';
 
 /**
@@ -10,8 +10,7 @@ import { checkInBody } from '../../../../lib/session-schemas';
  */
 export const POST = route(async ({ locals, params, request }) => {
   const person = requireSignedIn(locals);
-  const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'not_found', 'No such booking.');
+  const id = idParam(params.id, 'booking');
   const input = await readJson(request, checkInBody);
-  return json(await checkIn(person, id.data, { checklist: input.checklist, coolantC: input.coolantC ?? null }));
+  return json(await checkIn(person, id, { checklist: input.checklist, coolantC: input.coolantC ?? null }));
 });

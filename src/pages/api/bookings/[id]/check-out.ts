@@ -1,6 +1,6 @@
-import { HttpError, json, readJson, requireSignedIn, route } from '../../../../lib/server/http';
+import { json, readJson, requireSignedIn, route, idParam } from '../../../../lib/server/http';
 import { checkOut } from '../../../../lib/server/machine-sessions';
-import { uuid } from '../../../../lib/schemas';
+
 import { checkOutBody } from '../../../../lib/session-schemas';
 
 /**
@@ -10,10 +10,9 @@ import { checkOutBody } from '../../../../lib/session-schemas';
  */
 export const POST = route(async ({ locals, params, request }) => {
   const person = requireSignedIn(locals);
-  const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'not_found', 'No such booking.');
+  const id = idParam(params.id, 'booking');
   const input = await readJson(request, checkOutBody);
   return json(
-    await checkOut(person, id.data, { jobTimerMinutes: input.jobTimerMinutes ?? null, materials: input.materials, checkout: { leftCleanAndClear: input.leftCleanAndClear } }),
+    await checkOut(person, id, { jobTimerMinutes: input.jobTimerMinutes ?? null, materials: input.materials, checkout: { leftCleanAndClear: input.leftCleanAndClear } }),
   );
 });

@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
+import { HttpError, json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
 import { getCharge } from '../../../../lib/server/payments/charge-records';
 import { refund } from '../../../../lib/server/payments/intents';
 import { chargeJson } from '../../../../lib/server/charge-json';
-import { minor, uuid } from '../../../../lib/schemas';
+import { minor } from '../../../../lib/schemas';
 
 const body = z.object({
   amountMinor: minor.optional(),
@@ -17,10 +17,9 @@ const body = z.object({
  */
 export const POST = route(async ({ locals, params, request }) => {
   const actor = requireRole(locals, 'steward', 'admin');
-  const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  const id = idParam(params.id, 'charge');
   const input = await readJson(request, body);
-  const c = await getCharge(id.data);
+  const c = await getCharge(id);
   if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
   const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
   const amount = input.amountMinor ?? paid - c.refundedMinor;

@@ -1,8 +1,8 @@
-import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
+import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
 import { resolveFault } from '../../../../lib/server/faults/triage';
 import { faultJson } from '../../../../lib/server/fault-json';
 import { resolveBody } from '../../../../lib/faults-shared';
-import { uuid } from '../../../../lib/schemas';
+
 
 /**
  * POST /api/faults/:id/resolve { resolution, returnToService?: { checklist } } (steward, admin) → the fault, resolved,
@@ -12,9 +12,8 @@ import { uuid } from '../../../../lib/schemas';
  */
 export const POST = route(async ({ locals, params, request }) => {
   const person = requireRole(locals, 'steward', 'admin');
-  const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'not_found', 'No such fault.');
+  const id = idParam(params.id, 'fault');
   const input = await readJson(request, resolveBody);
-  const f = await resolveFault(person, id.data, input.resolution, new Date(), input.returnToService ? { returnToService: input.returnToService } : {});
+  const f = await resolveFault(person, id, input.resolution, new Date(), input.returnToService ? { returnToService: input.returnToService } : {});
   return json({ ...faultJson(f), outcome: f.outcome });
 });

@@ -1,14 +1,13 @@
-import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
+import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
 import { triageFault } from '../../../../lib/server/faults/triage';
 import { faultJson } from '../../../../lib/server/fault-json';
 import { triageBody } from '../../../../lib/faults-shared';
-import { uuid } from '../../../../lib/schemas';
+
 
 /** POST /api/faults/:id/triage { severity?, note? } (steward, admin) → the fault, triaged. A change to `stop` takes the machine out of service. */
 export const POST = route(async ({ locals, params, request }) => {
   const person = requireRole(locals, 'steward', 'admin');
-  const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'not_found', 'No such fault.');
+  const id = idParam(params.id, 'fault');
   const input = await readJson(request, triageBody);
-  return json(faultJson(await triageFault(person, id.data, input)));
+  return json(faultJson(await triageFault(person, id, input)));
 });

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readQuery, requireSignedIn, route, HttpError } from '../../../../lib/server/http';
+import { json, readQuery, requireSignedIn, route, idParam } from '../../../../lib/server/http';
 import { machineAvailability } from '../../../../lib/server/bookings/week-view';
-import { isoInstant, uuid } from '../../../../lib/schemas';
+import { isoInstant } from '../../../../lib/schemas';
 
 const query = z
   .object({ from: isoInstant, to: isoInstant })
@@ -11,8 +11,7 @@ const query = z
 /** GET /api/machines/:id/availability?from=&to= → free ranges by the machine's booking rules. */
 export const GET = route(async ({ locals, params, url }) => {
   requireSignedIn(locals);
-  const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'not_found', 'No such machine.');
+  const id = idParam(params.id, 'machine');
   const q = readQuery(url, query);
-  return json(await machineAvailability(id.data, q.from, q.to));
+  return json(await machineAvailability(id, q.from, q.to));
 });

@@ -1,5 +1,5 @@
-import { HttpError, json, parseWith, requireSignedIn, route } from '../../../../lib/server/http';
-import { MAX_PHOTOS, PHOTO_MAX_BYTES, type PhotoUpload } from '../../../../lib/server/faults/photos';
+import { json, parseWith, readMultipart, requireSignedIn, route } from '../../../../lib/server/http';
+import { MAX_PHOTOS, PHOTO_MAX_BYTES, photoUploads } from '../../../../lib/server/faults/photos';
 import { reportFault } from '../../../../lib/server/faults/reporting';
 import { faultReportFields } from '../../../../lib/faults-shared';
 import { faultJson } from '../../../../lib/server/fault-json';
@@ -12,30 +12,18 @@ import { faultJson } from '../../../../lib/server/fault-json';
  */
 export const POST = route(async ({ locals, params, request }) => {
   const person = requireSignedIn(locals);
-  if (!/^multipart\/form-data\b/i.test(request.headers.get('content-type') ?? '')) {
-    throw new HttpError(415, 'unsupported_media_type', 'Send the report as multipart/form-data.');
-  }
-  const declared = Number(request.headers.get('content-length') ?? '0');
-  if (declared > (MAX_PHOTOS + 1) * PHOTO_MAX_BYTES) throw new HttpError(413, 'file_too_large', `Each photo may be at most ${PHOTO_MAX_BYTES / 1024 / 1024} MB.`);
-  let form: FormData;
-  try {
-    form = await request.formData();
-  } catch {
-    throw new HttpError(400, 'bad_form', 'The form data could not be read.');
-  }
-  const input = parseWith(faultReportFields, {
-    summary: form.get('summary') ?? undefined,
-    details: form.get('details') ?? undefined,
-    severity: form.get('severity') ?? undefined,
-    clientId: form.get('clientId') || undefined,
+  const form = await readMultipart(request, {
+    what: 'the report',
+    maxBytes: (MAX_PHOTOS + 1) * PHOTO_MAX_BYTES,
+    tooLarge: `Each photo may be at most ${PHOTO_MAX_BYTES / 1024 / 1024} MB.`,
   });
-  const files = [...form.getAll('photos'), ...form.getAll('photos[]')].filter((f): f is File => f instanceof File && f.size > 0);
-  if (files.length > MAX_PHOTOS) throw new HttpError(422, 'too_many_photos', `Attach at most ${MAX_PHOTOS} photos.`, { photos: `At most ${MAX_PHOTOS} photos.` });
-  const photos: PhotoUpload[] = [];
-  for (const f of files) {
-    if (f.size > PHOTO_MAX_BYTES) throw new HttpError(413, 'file_too_large', `Each photo may be at most ${PHOTO_MAX_BYTES / 1024 / 1024} MB.`);
-    photos.push({ bytes: new Uint8Array(await f.arrayBuffer()) });
-  }
+  const input = parseWith(faultReportFields, {
+    summary: form.value('summary'),
+    details: form.value('details'),
+    severity: form.value('severity'),
+    clientId: form.value('clientId') || undefined,
+  });
+  const photos = await photoUploads(form.files('photos', 'photos[]'));
   const r = await reportFault(person, params.id ?? '', input, photos);
   return json({ fault: faultJson(r.fault), machineStatus: r.machineStatus, bumpedBookings: r.bumpedBookings, statusBefore: r.statusBefore, duplicate: r.duplicate }, r.duplicate ? 200 : 201);
 });

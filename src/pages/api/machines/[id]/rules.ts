@@ -1,8 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, requireSignedIn, route, HttpError } from '../../../../lib/server/http';
+import { idParam, json, readJson, requireRole, requireSignedIn, route } from '../../../../lib/server/http';
 import { getRules, saveRules } from '../../../../lib/server/booking-rules';
 import { publicRules } from '../../../../lib/server/bookings/week-view';
-import { uuid } from '../../../../lib/schemas';
 import { TIERS } from '../../../../lib/vocabulary';
 
 const minutes = (max: number) => z.number().int('Whole minutes.').min(0).max(max);
@@ -42,11 +41,7 @@ const body = z
     }
   });
 
-function machineId(raw: string | undefined): string {
-  const id = uuid.safeParse(raw);
-  if (!id.success) throw new HttpError(404, 'not_found', 'No such machine.');
-  return id.data;
-}
+const machineId = (raw: string | undefined) => idParam(raw, 'machine');
 
 /** GET /api/machines/:id/rules → the machine's booking rules (signed in). */
 export const GET = route(async ({ locals, params }) => {

@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { HttpError, json, readJson, requireRole, route } from '../../../../lib/server/http';
+import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
 import { decideRequest } from '../../../../lib/server/material-requests';
 import { materialCategory, materialMode, materialRule } from '../../../../lib/material-schemas';
-import { uuid } from '../../../../lib/schemas';
+
 import { requestJson } from '../index';
 
 const body = z.discriminatedUnion('decision', [
@@ -23,12 +23,11 @@ const body = z.discriminatedUnion('decision', [
 /** POST /api/material-requests/:id/decision (steward, admin) → approve into the catalogue with a rule, or refuse with a reason. */
 export const POST = route(async ({ locals, params, request }) => {
   const reviewer = requireRole(locals, 'steward', 'admin');
-  const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'request_not_found', 'No request has that id.');
+  const id = idParam(params.id, 'request');
   const b = await readJson(request, body);
   const result = await decideRequest(
     reviewer.id,
-    id.data,
+    id,
     b.decision === 'refuse'
       ? { decision: 'refuse', reason: b.reason }
       : {

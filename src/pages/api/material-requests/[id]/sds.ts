@@ -1,13 +1,11 @@
-import { HttpError, requireSignedIn, route } from '../../../../lib/server/http';
+import { HttpError, idParam, requireSignedIn, route } from '../../../../lib/server/http';
 import { getRequest, getRequestSds } from '../../../../lib/server/material-requests';
 import { hasAnyRole } from '../../../../lib/roles';
-import { uuid } from '../../../../lib/schemas';
 
 /** GET /api/material-requests/:id/sds → the stored PDF (the requester, stewards and admins). */
 export const GET = route(async ({ locals, params }) => {
   const person = requireSignedIn(locals);
-  const id = uuid.safeParse(params.id);
-  const r = id.success ? await getRequest(id.data) : null;
+  const r = await getRequest(idParam(params.id, 'request'));
   if (!r || (r.requesterId !== person.id && !hasAnyRole(person.roles, ['steward', 'admin']))) {
     throw new HttpError(404, 'request_not_found', 'No request has that id.');
   }

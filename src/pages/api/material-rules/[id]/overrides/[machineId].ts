@@ -1,14 +1,9 @@
-import { HttpError, json, readJson, requireRole, route } from '../../../../../lib/server/http';
+import { idParam, json, readJson, requireRole, route } from '../../../../../lib/server/http';
 import { setOverride } from '../../../../../lib/server/materials';
 import { overrideInput } from '../../../../../lib/material-schemas';
-import { uuid } from '../../../../../lib/schemas';
 
 function ids(params: Record<string, string | undefined>) {
-  const m = uuid.safeParse(params.id);
-  const k = uuid.safeParse(params.machineId);
-  if (!m.success) throw new HttpError(404, 'material_not_found', 'No material has that id.');
-  if (!k.success) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
-  return [m.data, k.data] as const;
+  return [idParam(params.id, 'material'), idParam(params.machineId, 'machine')] as const;
 }
 
 /** PUT /api/material-rules/:id/overrides/:machineId (admin) {rule, modes, maxCutMm, note} → the override; audited. */
