@@ -37,6 +37,8 @@ export default defineConfig({
           environment: 'node',
           // one Chromium for the whole run; each file connects to it and closes its own contexts
           globalSetup: ['tests/support/browser-server.ts'],
+          // a screen's answer can take a few seconds on a busy machine: poll for it longer than vitest's 1 s default
+          expect: { poll: { timeout: 15_000 } },
           testTimeout: 90_000,
           hookTimeout: 60_000,
         },

@@ -55,13 +55,11 @@ async function cspViolations(page: Page): Promise<string[]> {
   return page.evaluate(() => (window as unknown as { __csp?: string[] }).__csp ?? []);
 }
 
-// the groups run side by side, each in its own context of the one browser: a page waiting for the network leaves the
-// processor to another
-describe.concurrent('main screens under the Content-Security-Policy, checked with axe-core at phone and desk widths', () => {
+describe('main screens under the Content-Security-Policy, checked with axe-core at phone and desk widths', () => {
   const byWho = new Map<string, typeof SCREENS>();
   for (const s of SCREENS) byWho.set(s.who ?? 'out', [...(byWho.get(s.who ?? 'out') ?? []), s]);
   for (const [who, screens] of byWho) {
-    it(`${who}: ${screens.map((s) => s.path).join(', ')} — no policy violation, no page error, no serious or critical violation`, async ({ expect }) => {
+    it(`${who}: ${screens.map((s) => s.path).join(', ')} — no policy violation, no page error, no serious or critical violation`, async () => {
       const problems: string[] = [];
       // one page load per screen: checked at desk width, then resized to phone width and checked again
       const ctx = await newContext(browser, DESK);

@@ -2,11 +2,10 @@
  * Journey: the admin runs the site from the admin console — grants a role and finds it in the audit
  * log (filters, CSV), renames the site, and deactivates a person who then cannot sign in.
  */
-import fs from 'node:fs';
 import Papa from 'papaparse';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, signInThroughForm, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, signInThroughForm, watchErrors, hydrated, downloadedText } from '../support/browser';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { confirmByDatabase } from '../support/people';
 import { clearSignInLimits, closeTestDb } from '../support/db';
@@ -106,7 +105,7 @@ describe('the admin console', () => {
 
     const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('link', { name: 'Download CSV' }).click()]);
     expect(download.suggestedFilename()).toMatch(/^beamwarden-audit-\d{4}-\d{2}-\d{2}\.csv$/);
-    const csv = fs.readFileSync((await download.path())!, 'utf8');
+    const csv = await downloadedText(download);
     const parsed = Papa.parse<Record<string, string>>(csv, { header: true, skipEmptyLines: true });
     expect(parsed.errors).toEqual([]);
     expect(parsed.data).toHaveLength(1);

@@ -3,11 +3,10 @@
  * the revenue CSV, which parses (papaparse) to the same net total as the screen shows. An instructor sees
  * only the clearance funnel. Screenshots at desk and phone width.
  */
-import fs from 'node:fs';
 import Papa from 'papaparse';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, downloadedText } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { siteFormat } from '../../src/lib/format';
 import { zonedDate } from '../../src/lib/time';
@@ -69,7 +68,7 @@ describe('reports', () => {
     const revenue = page.locator('section', { has: page.getByRole('heading', { name: 'Revenue and recharge' }) });
     const [download] = await Promise.all([page.waitForEvent('download'), revenue.getByRole('link', { name: 'Download CSV' }).click()]);
     expect(download.suggestedFilename()).toBe(`beamwarden-revenue-${from}-to-${to}.csv`);
-    const csv = fs.readFileSync((await download.path())!, 'utf8');
+    const csv = await downloadedText(download);
     const parsed = Papa.parse<Record<string, string>>(csv.trim(), { header: true });
     expect(parsed.errors).toEqual([]);
     expect(parsed.data.reduce((s, r) => s + Math.round(Number(r['net (NZD)']) * 100), 0)).toBe(screenNet); // major units in the file

@@ -14,6 +14,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ROOT, maildevArgs, portOpen, spawnService, startStorageFake, stopServices } from '../../scripts/lib/stack';
 import { Client } from '../support/client';
 import { closeTestDb } from '../support/db';
+import { DEMO, DEMO_PASSWORD } from '../support/env';
 import { waitUntil } from '../support/wait';
 import { freePort, startApp } from '../support/processes';
 
@@ -116,7 +117,9 @@ describe('services chosen by the environment', () => {
   });
 
   it('a fault photo goes to the configured storage and its e-mail to the configured mail server, not to the defaults', async () => {
-    const member = await Client.as('member', appUrl);
+    // signed in through the form: this site has a database of its own (its people are not the test database's)
+    const member = new Client(appUrl);
+    expect((await member.signInAs(DEMO.member, DEMO_PASSWORD)).location).not.toContain('error');
     const summary = `Configured services check ${Date.now()}`;
     const photo = await sharp({ create: { width: 64, height: 48, channels: 3, background: { r: 20, g: 90, b: 160 } } }).jpeg().toBuffer();
     const form = new FormData();

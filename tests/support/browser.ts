@@ -1,5 +1,5 @@
 /** Headless Chromium from Debian's package, driven by playwright-core (no browser download). */
-import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
+import { chromium, type Browser, type BrowserContext, type Download, type Page } from 'playwright-core';
 import { inject } from 'vitest';
 import { CHROMIUM_ARGS } from './browser-args';
 import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
@@ -66,4 +66,12 @@ export async function shot(page: Page, name: string): Promise<void> {
  */
 export async function hydrated(page: Page, timeoutMs = 30_000): Promise<void> {
   await page.waitForFunction(() => document.querySelectorAll('astro-island[ssr]').length === 0, undefined, { timeout: timeoutMs });
+}
+
+/** The text of a finished download (read through the browser connection: the file sits with the browser process). */
+export async function downloadedText(download: Download): Promise<string> {
+  const stream = await download.createReadStream();
+  const chunks: Buffer[] = [];
+  for await (const chunk of stream) chunks.push(chunk as Buffer);
+  return Buffer.concat(chunks).toString('utf8');
 }

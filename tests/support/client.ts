@@ -115,7 +115,8 @@ export class Client {
 
   /**
    * Signs in without the form: holds the session cookie Auth.js would have set for this person (support/session.ts).
-   * The form itself (argon2, the throttle, the CSRF token) is tested through signInAs.
+   * The form itself (argon2, the throttle, the CSRF token) is tested through signInAs. The person is looked up in the
+   * test database: an app on a database of its own (configured-services) is signed in to through signInAs.
    */
   async useSessionOf(email: string): Promise<this> {
     this.jar.set(SESSION_COOKIE, await sessionCookieFor(email));
