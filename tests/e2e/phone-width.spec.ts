@@ -122,6 +122,6 @@ describe('every screen fits a 390 px phone', () => {
       expect(wide, wide.join('\n')).toEqual([]);
       expect(errors).toEqual([]);
       await ctx.close();
-    });
+    }, 300_000); // up to 25 screens one after another, each waiting for its network to settle
   }
 });
