@@ -191,7 +191,7 @@ describe('a stop fault', () => {
     const r = await body(await report(member, 'laser-a', { summary: 'Honeycomb bed is worn', severity: 'note' }));
     expect(r).toMatchObject({ machineStatus: 'in service', fault: { severity: 'note' } });
     expect((await report(new Client(), 'laser-a', { summary: 'x y z', severity: 'note' })).status).toBe(401);
-    await expectError(await report(member, 'no-such-laser', { summary: 'Something', severity: 'note' }), 404, 'machine_not_found');
+    await expectError(await report(member, 'no-such-laser', { summary: 'Something', severity: 'note' }), 404, 'not_found');
     await expectError(await report(member, 'laser-a', { summary: 'Something', severity: 'panic' }), 422, 'invalid');
   });
 });

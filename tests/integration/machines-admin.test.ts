@@ -111,7 +111,7 @@ describe('editing a machine', () => {
     await expectError(await admin.send('PATCH', `/api/machines/${m.id}`, { code: 'other' }), 422, 'invalid');
     await expectError(await admin.send('PATCH', `/api/machines/${m.id}`, {}), 422, 'invalid');
     await expectError(await admin.send('PATCH', `/api/machines/${m.id}`, { coolantType: 'water', coolantMinC: 20, coolantMaxC: 18 }), 422, 'invalid');
-    await expectError(await admin.send('PATCH', '/api/machines/00000000-0000-4000-8000-00000000beef', { name: 'Ghost' }), 404, 'machine_not_found');
+    await expectError(await admin.send('PATCH', '/api/machines/00000000-0000-4000-8000-00000000beef', { name: 'Ghost' }), 404, 'not_found');
   });
 });
 
@@ -149,7 +149,7 @@ describe('retiring a machine', () => {
     expect((await member.get(`/m/${m.code}`)).status).toBe(404);
     await expectError(await person.client.send('POST', '/api/bookings', { machineId: m.id, startsAt: iso(siteTime(13, 10)), endsAt: iso(siteTime(13, 11)), materials: [], notes: '' }), 404, 'not_found');
     await expectError(await admin.send('POST', `/api/machines/${m.id}/retire`, { reason: 'again' }), 409, 'machine_retired');
-    await expectError(await admin.send('PATCH', `/api/machines/${m.id}`, { name: 'Back' }), 404, 'machine_not_found');
+    await expectError(await admin.send('PATCH', `/api/machines/${m.id}`, { name: 'Back' }), 404, 'not_found');
     await expectError(await admin.send('POST', '/api/machines', machineBody(m.code)), 409, 'code_taken');
   });
 

@@ -12,7 +12,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { portOpen, startPaymentsFake, waitForPort } from '../../scripts/lib/stack';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
-import { HttpError } from '../../src/lib/server/http';
+import { DomainError } from '../../src/lib/server/http';
 import { createPerson, setTier } from '../../src/lib/server/people';
 import { assertCanBook, placeHold } from '../../src/lib/server/payments/charge-runs';
 import { chargeBeamTime, holdForBooking } from '../../src/lib/server/payments/billing';
@@ -56,7 +56,7 @@ describe('cards, holds and captures', () => {
     expect(card).toEqual({ brand: 'Visa', last4: '4242' });
     const row = await testDb()('payment_customers').where({ person_id: m.id }).first();
     expect(row.provider_customer_id).toMatch(/^cus_/);
-    await expect(saveCard(m.id, 'tok_chargeDeclined')).rejects.toMatchObject({ status: 402, code: 'card_declined' });
+    await expect(saveCard(m.id, 'tok_chargeDeclined')).rejects.toMatchObject({ kind: 'payment_required', code: 'card_declined' });
   });
 
   it('holds the estimate at booking and captures the measured beam time at check-out', async () => {
@@ -109,8 +109,8 @@ describe('declines', () => {
     const c = await chargeBeamTime({ personId: m.id, machineId: laserA, sessionId: randomUUID(), startedAt: new Date(), minutes: 10 });
     expect(c.state).toBe('payment failed');
     const err = await assertCanBook(m.id).catch((e) => e);
-    expect(err).toBeInstanceOf(HttpError);
-    expect(err).toMatchObject({ status: 402, code: 'payment_required' });
+    expect(err).toBeInstanceOf(DomainError);
+    expect(err).toMatchObject({ kind: 'payment_required', code: 'payment_required' });
     await waitForMail((x) => to(m.email)(x) && x.subject === 'Payment failed');
     const { settled } = await saveCard(m.id, 'tok_visa');
     expect(settled).toBe(1);
@@ -120,7 +120,7 @@ describe('declines', () => {
 
   it('no saved card: a hold at booking is refused with 402 payment_required', async () => {
     const m = await newMember('nocard');
-    await expect(holdForBooking({ personId: m.id, machineId: laserA, bookingId: randomUUID(), startsAt: new Date(), minutes: 30 })).rejects.toMatchObject({ status: 402, code: 'payment_required' });
+    await expect(holdForBooking({ personId: m.id, machineId: laserA, bookingId: randomUUID(), startsAt: new Date(), minutes: 30 })).rejects.toMatchObject({ kind: 'payment_required', code: 'payment_required' });
   });
 });
 
@@ -211,7 +211,7 @@ describe('webhooks', () => {
     const res = await post(payload, sign(payload));
     expect(await body(res)).toMatchObject({ handled: true });
     expect((await getCharge(held.id))?.state).toBe('payment failed');
-    await expect(assertCanBook(m.id)).rejects.toMatchObject({ status: 402, code: 'payment_required' });
+    await expect(assertCanBook(m.id)).rejects.toMatchObject({ kind: 'payment_required', code: 'payment_required' });
     const unsigned = await fetch(new URL('/api/webhooks/payments', process.env.APP_URL), { method: 'POST', headers: { 'content-type': 'application/json' }, body: payload });
     expect(unsigned.status).toBe(400);
   });

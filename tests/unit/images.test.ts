@@ -2,7 +2,7 @@
 import zlib from 'node:zlib';
 import sharp from 'sharp';
 import { describe, expect, it } from 'vitest';
-import { HttpError } from '../../src/lib/server/http';
+import { DomainError } from '../../src/lib/server/http';
 import { PHOTO_MAX_PIXELS, safePhoto } from '../../src/lib/server/images';
 
 function chunk(type: string, data: Buffer): Buffer {
@@ -29,15 +29,15 @@ describe('safePhoto', () => {
     const bomb = bombPng(60_000, 60_000);
     expect(bomb.length).toBeLessThan(10_000);
     const err = await safePhoto(bomb).catch((e: unknown) => e);
-    expect(err).toBeInstanceOf(HttpError);
-    expect((err as HttpError).status).toBe(422);
+    expect(err).toBeInstanceOf(DomainError);
+    expect((err as DomainError).kind).toBe('invalid');
     expect(60_000 * 60_000).toBeGreaterThan(PHOTO_MAX_PIXELS);
   });
 
   it('refuses an SVG with a script, whatever it is called', async () => {
     const svg = Buffer.from('<svg xmlns="http://www.w3.org/2000/svg" width="10" height="10"><script>alert(1)</script></svg>');
     const err = await safePhoto(svg).catch((e: unknown) => e);
-    expect((err as HttpError).status).toBe(415);
+    expect((err as DomainError).kind).toBe('unsupported_type');
   });
 
   it('re-encodes a real photo as JPEG and drops its metadata (GPS and the like)', async () => {

@@ -7,7 +7,7 @@
 import { stringify } from 'csv-stringify/sync';
 import { strToU8, zipSync } from 'fflate';
 import { db } from './db';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { safeCell } from '../csv';
 
 export interface PersonalData {
@@ -24,7 +24,7 @@ export interface PersonalData {
 export async function exportPersonalData(personId: string): Promise<PersonalData> {
   const k = db();
   const person = await k('people').where({ id: personId }).first('id', 'email', 'name', 'tier', 'cost_centre as costCentre', 'active', 'email_confirmed_at as emailConfirmedAt', 'created_at as createdAt');
-  if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (!person) throw new DomainError('not_found', 'not_found', 'No person has that id.');
   const roles = await k('role_grants').where({ person_id: personId }).orderBy('role').pluck('role');
   const [clearances, quizAttempts, bookings, sessions, charges, faults] = await Promise.all([
     k('clearances as c').leftJoin('machine_groups as g', 'g.id', 'c.group_id').where('c.person_id', personId).orderBy('c.created_at')

@@ -8,7 +8,7 @@ import type { Knex } from 'knex';
 import { db, transaction } from './db';
 import { env } from './env';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { queueMail } from './mail';
 import { hashPassword, verifyPassword } from './passwords';
 import { createPerson, EmailTaken, getPerson, type Person } from './people';
@@ -38,9 +38,9 @@ async function issueToken(trx: Knex.Transaction, personId: string, purpose: Toke
 /** Takes a token for one of `purposes` (locks it); 404 unknown, 410 `token_used` / `token_expired`. */
 async function takeToken(trx: Knex.Transaction, token: string, purposes: TokenPurpose[]): Promise<{ id: string; personId: string; purpose: TokenPurpose }> {
   const row = await trx('account_tokens').where({ token_hash: sha256(token) }).whereIn('purpose', purposes).forUpdate().first('id', 'person_id', 'purpose', 'expires_at', 'used_at');
-  if (!row) throw new HttpError(404, 'token_unknown', 'This link is not valid. Ask for a new one.');
-  if (row.used_at) throw new HttpError(410, 'token_used', 'This link has already been used. Ask for a new one if you need it.');
-  if (new Date(row.expires_at).getTime() <= Date.now()) throw new HttpError(410, 'token_expired', 'This link has expired. Ask for a new one.');
+  if (!row) throw new DomainError('not_found', 'token_unknown', 'This link is not valid. Ask for a new one.');
+  if (row.used_at) throw new DomainError('gone', 'token_used', 'This link has already been used. Ask for a new one if you need it.');
+  if (new Date(row.expires_at).getTime() <= Date.now()) throw new DomainError('gone', 'token_expired', 'This link has expired. Ask for a new one.');
   await trx('account_tokens').where({ id: row.id }).update({ used_at: trx.fn.now() });
   return { id: row.id, personId: row.person_id, purpose: row.purpose };
 }
@@ -56,7 +56,7 @@ export async function inspectToken(token: string): Promise<{ ok: true; purpose: 
 
 function weakPassword(password: string, context: { email: string; name: string }): never | void {
   const problem = passwordProblem(password, context);
-  if (problem) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', { password: problem });
+  if (problem) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', { password: problem });
 }
 
 // ------------------------------------------------------------------------------------------------
@@ -92,7 +92,7 @@ export async function completePasswordLink(token: string, password: string): Pro
   const person = await transaction(async (trx) => {
     const t = await takeToken(trx, token, ['reset', 'invite']);
     const p = await trx('people').where({ id: t.personId }).forUpdate().first('id', 'email', 'name', 'active', 'closed_at');
-    if (!p || !p.active || p.closed_at) throw new HttpError(410, 'token_expired', 'This account is no longer open.');
+    if (!p || !p.active || p.closed_at) throw new DomainError('gone', 'token_expired', 'This account is no longer open.');
     weakPassword(password, p);
     await trx('people')
       .where({ id: p.id })
@@ -116,8 +116,8 @@ export async function completePasswordLink(token: string, password: string): Pro
 export async function changePassword(personId: string, current: string, next: string): Promise<Person> {
   return transaction(async (trx) => {
     const p = await trx('people').where({ id: personId }).forUpdate().first('id', 'email', 'name', 'password_hash');
-    if (!p) throw new HttpError(404, 'person_not_found', 'No person has that id.');
-    if (!(await verifyPassword(p.password_hash, current))) throw new HttpError(403, 'wrong_password', 'The current password is not right.');
+    if (!p) throw new DomainError('not_found', 'not_found', 'No person has that id.');
+    if (!(await verifyPassword(p.password_hash, current))) throw new DomainError('forbidden', 'wrong_password', 'The current password is not right.');
     weakPassword(next, p);
     await trx('people').where({ id: p.id }).update({ password_hash: await hashPassword(next), session_epoch: trx.raw('session_epoch + 1'), updated_at: trx.fn.now() });
     await recordAudit(trx, { actorId: p.id, kind: 'password.changed', subjectType: 'person', subjectId: p.id, summary: `${p.name} changed their password; other sessions ended` });
@@ -193,7 +193,7 @@ export async function invitePerson(actorId: string, input: { name: string; email
       then: (trx, person) => queueInvitation(trx, person),
     });
   } catch (err) {
-    if (err instanceof EmailTaken) throw new HttpError(409, 'email_taken', 'That address already has an account.');
+    if (err instanceof EmailTaken) throw new DomainError('conflict', 'email_taken', 'That address already has an account.');
     throw err;
   }
 }
@@ -236,16 +236,16 @@ export async function awaitingInvitation(personIds: readonly string[]): Promise<
  */
 export async function resendInvitation(actorId: string, personId: string): Promise<{ email: string; name: string; expiresInDays: number }> {
   const p = await db()('people').where({ id: personId }).first('id', 'email', 'name', 'active', 'closed_at');
-  if (!p || p.closed_at) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (!p || p.closed_at) throw new DomainError('not_found', 'not_found', 'No person has that id.');
   if (!(await awaitingInvitation([p.id])).has(p.id)) {
-    throw new HttpError(409, 'not_awaiting_invitation', `${p.name} has already chosen a password (or was not invited by an admin): they sign in as usual, and "Forgot your password?" sends them a reset link.`);
+    throw new DomainError('conflict', 'not_awaiting_invitation', `${p.name} has already chosen a password (or was not invited by an admin): they sign in as usual, and "Forgot your password?" sends them a reset link.`);
   }
-  if (!p.active) throw new HttpError(409, 'not_awaiting_invitation', `${p.name} is deactivated: reactivate the account before sending an invitation.`);
+  if (!p.active) throw new DomainError('conflict', 'not_awaiting_invitation', `${p.name} is deactivated: reactivate the account before sending an invitation.`);
   // limits (request-limits.ts, `invite`): per invited address, and per admin (their id stands in for the client address)
   await countRequest('invite', p.email, `admin:${actorId}`);
   await transaction(async (trx) => {
     const person = await trx('people').where({ id: p.id }).forUpdate().first('id', 'email', 'name', 'email_confirmed_at');
-    if (!person || person.email_confirmed_at) throw new HttpError(409, 'not_awaiting_invitation', `${p.name} has already chosen a password.`);
+    if (!person || person.email_confirmed_at) throw new DomainError('conflict', 'not_awaiting_invitation', `${p.name} has already chosen a password.`);
     // the old links go: a replaced invitation answers "not valid", never "already used"
     await trx('account_tokens').where({ person_id: p.id, purpose: 'invite' }).whereNull('used_at').delete();
     await queueInvitation(trx, person, true);
@@ -274,8 +274,8 @@ export async function closeAccount(personId: string, password: string | null): P
   // the cancelled bookings' card holds are released by the worker (intents recorded with the cancellations)
   await transaction(async (trx) => {
     const p = await trx('people').where({ id: personId }).forUpdate().first('id', 'name', 'email', 'password_hash', 'closed_at');
-    if (!p || p.closed_at) throw new HttpError(404, 'person_not_found', 'No open account.');
-    if (password !== null && !(await verifyPassword(p.password_hash, password))) throw new HttpError(403, 'wrong_password', 'The password is not right.');
+    if (!p || p.closed_at) throw new DomainError('not_found', 'not_found', 'No open account.');
+    if (password !== null && !(await verifyPassword(p.password_hash, password))) throw new DomainError('forbidden', 'wrong_password', 'The password is not right.');
     const ids = await cancelFutureBookingsOf(trx, personId, personId);
     await trx('people')
       .where({ id: personId })

@@ -6,7 +6,7 @@
 import { createHash } from 'node:crypto';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { UNKNOWN_BADGE_LIST_MINUTES, badgeHint, normaliseBadge } from '../controller-rules';
 
 /** SHA-256 of the normalised UID, with a fixed label so the digest is of this use only. */
@@ -31,12 +31,12 @@ export async function listBadges(personId: string): Promise<Badge[]> {
 async function insertBadge(actorId: string, personId: string, hash: string, lastFour: string, how: string): Promise<Badge> {
   return transaction(async (trx) => {
     const p = await trx('people').where({ id: personId }).first('id', 'name');
-    if (!p) throw new HttpError(404, 'not_found', 'No such person.');
+    if (!p) throw new DomainError('not_found', 'not_found', 'No such person.');
     let row: { id: string; created_at: Date };
     try {
       [row] = (await trx.transaction(async (sp) => sp('badges').insert({ person_id: personId, badge_hash: hash, last_four: lastFour, created_by: actorId }).returning(['id', 'created_at']))) as [{ id: string; created_at: Date }];
     } catch (err) {
-      if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'badge_taken', 'This badge is already enrolled (to this person or someone else). Remove it there first.');
+      if (pgCode(err) === PG.uniqueViolation) throw new DomainError('conflict', 'badge_taken', 'This badge is already enrolled (to this person or someone else). Remove it there first.');
       throw err;
     }
     await trx('unknown_badge_sightings').where({ badge_hash: hash }).delete();
@@ -47,14 +47,14 @@ async function insertBadge(actorId: string, personId: string, hash: string, last
 
 export async function enrolBadge(actorId: string, personId: string, raw: string): Promise<Badge> {
   const badge = normaliseBadge(raw);
-  if (badge.length < 4) throw new HttpError(422, 'invalid', 'A badge UID has at least 4 characters.', { badge: 'Too short.' });
+  if (badge.length < 4) throw new DomainError('invalid', 'invalid', 'A badge UID has at least 4 characters.', { badge: 'Too short.' });
   return insertBadge(actorId, personId, badgeHash(badge), badgeHint(badge), '');
 }
 
 export async function removeBadge(actorId: string, badgeId: string): Promise<void> {
   await transaction(async (trx) => {
     const b = await trx('badges as b').join('people as p', 'p.id', 'b.person_id').where('b.id', badgeId).first('b.id', 'b.person_id', 'b.last_four', 'p.name');
-    if (!b) throw new HttpError(404, 'not_found', 'No such badge.');
+    if (!b) throw new DomainError('not_found', 'not_found', 'No such badge.');
     await trx('badges').where({ id: badgeId }).delete();
     await recordAudit(trx, { actorId, kind: 'badge.removed', subjectType: 'person', subjectId: b.person_id, summary: `Badge …${b.last_four} removed from ${b.name}`, before: { badgeId, lastFour: b.last_four } });
   });
@@ -83,7 +83,7 @@ export async function recentUnknownBadges(now = new Date()): Promise<UnknownBadg
 /** Gives an unknown badge seen in the last hour to a person (the one standing at the machine). */
 export async function assignUnknownBadge(actorId: string, sightingId: string, personId: string, now = new Date()): Promise<Badge> {
   const u = await db()('unknown_badge_sightings').where({ id: sightingId }).where('seen_at', '>', new Date(now.getTime() - UNKNOWN_BADGE_LIST_MINUTES * 60_000)).first('badge_hash', 'last_four');
-  if (!u) throw new HttpError(404, 'not_found', 'No such unknown badge in the last hour.');
+  if (!u) throw new DomainError('not_found', 'not_found', 'No such unknown badge in the last hour.');
   return insertBadge(actorId, personId, u.badge_hash, u.last_four, ' from the unknown badges list');
 }
 

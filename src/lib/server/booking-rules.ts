@@ -1,7 +1,7 @@
 /** Booking rules of each machine: opening hours, closures, grid, lengths, buffer, lead, horizon, quotas. All SQL of this area. */
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { DEFAULT_RULES, type BookingRules, type Closure, type ClosureRow, type MachineRules, type WeeklyHours } from '../availability';
 import { TIERS, type Tier } from '../vocabulary';
 
@@ -57,7 +57,7 @@ export interface RulesInput extends BookingRules {
 export async function saveRules(actorId: string, machineId: string, input: RulesInput): Promise<MachineRules> {
   return transaction(async (trx) => {
     const machine = await trx('machines').where({ id: machineId }).whereNull('retired_at').first('id', 'name');
-    if (!machine) throw new HttpError(404, 'not_found', 'No such machine.');
+    if (!machine) throw new DomainError('not_found', 'not_found', 'No such machine.');
     const before = await getRules(machineId, trx);
     const row = {
       machine_id: machineId,
@@ -109,11 +109,11 @@ export async function listClosures(machineId: string | null, from: Date, to: Dat
 }
 
 export async function addClosure(actorId: string, input: { machineId: string | null; startsAt: Date; endsAt: Date; reason: string }): Promise<ClosureRow> {
-  if (input.endsAt <= input.startsAt) throw new HttpError(422, 'invalid', 'A closure ends after it starts.', { endsAt: 'Choose an end after the start.' });
+  if (input.endsAt <= input.startsAt) throw new DomainError('invalid', 'invalid', 'A closure ends after it starts.', { endsAt: 'Choose an end after the start.' });
   return transaction(async (trx) => {
     if (input.machineId) {
       const m = await trx('machines').where({ id: input.machineId }).first('id');
-      if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+      if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
     }
     const [r] = await trx('closures')
       .insert({ machine_id: input.machineId, starts_at: input.startsAt, ends_at: input.endsAt, reason: input.reason, created_by: actorId })
@@ -133,7 +133,7 @@ export async function addClosure(actorId: string, input: { machineId: string | n
 export async function removeClosure(actorId: string, id: string): Promise<void> {
   await transaction(async (trx) => {
     const r = await trx('closures').where({ id }).first();
-    if (!r) throw new HttpError(404, 'not_found', 'No such closure.');
+    if (!r) throw new DomainError('not_found', 'not_found', 'No such closure.');
     await trx('closures').where({ id }).delete();
     await recordAudit(trx, {
       actorId,

@@ -50,29 +50,3 @@ export class DomainError extends Error {
     this.name = 'DomainError';
   }
 }
-
-const KIND_OF_STATUS: Record<number, ErrorKind> = {
-  400: 'bad_request', 401: 'unauthenticated', 402: 'payment_required', 403: 'forbidden', 404: 'not_found', 409: 'conflict',
-  410: 'gone', 413: 'too_large', 415: 'unsupported_type', 422: 'invalid', 429: 'too_many', 503: 'unavailable',
-};
-
-/**
- * @deprecated Throw a DomainError with a kind. Kept only so code written before the change still merges and runs;
- * the throw sites are rewritten mechanically (codemod-domain-errors.mjs) and this goes once none is left.
- */
-export class HttpError extends DomainError {
-  constructor(
-    public readonly status: number,
-    code: string,
-    message: string,
-    fields?: Record<string, string>,
-    headers?: Record<string, string>,
-  ) {
-    const retry = headers?.['retry-after'];
-    const challenge = headers?.['www-authenticate'];
-    super(KIND_OF_STATUS[status] ?? 'invalid', code, message, fields, {
-      ...(retry === undefined ? {} : { retryAfterSeconds: Number(retry) }),
-      ...(challenge === undefined ? {} : { challenge }),
-    });
-  }
-}

@@ -3,7 +3,7 @@
  * browser claims. Executables are refused outright, whatever they are called.
  */
 import { fileTypeFromBuffer } from 'file-type';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 
 export interface Sniffed {
   mime: string;
@@ -41,16 +41,16 @@ export function looksExecutable(bytes: Uint8Array, sniffed: Sniffed | null): boo
  * Throws 413 file_too_large or 415 file_type_refused with a message that names `label`.
  */
 export async function checkUpload(bytes: Uint8Array, allowed: readonly string[], label: string, maxBytes: number): Promise<Sniffed> {
-  if (bytes.byteLength === 0) throw new HttpError(422, 'invalid', `The ${label} is empty.`, { file: 'The file is empty.' });
+  if (bytes.byteLength === 0) throw new DomainError('invalid', 'invalid', `The ${label} is empty.`, { file: 'The file is empty.' });
   if (bytes.byteLength > maxBytes) {
-    throw new HttpError(413, 'file_too_large', `The ${label} is larger than ${Math.round(maxBytes / 1024 / 1024)} MB.`);
+    throw new DomainError('too_large', 'file_too_large', `The ${label} is larger than ${Math.round(maxBytes / 1024 / 1024)} MB.`);
   }
   const sniffed = await sniffFile(bytes);
   if (looksExecutable(bytes, sniffed)) {
-    throw new HttpError(415, 'file_type_refused', `The ${label} is a program, not a document; programs are never accepted.`);
+    throw new DomainError('unsupported_type', 'file_type_refused', `The ${label} is a program, not a document; programs are never accepted.`);
   }
   if (!sniffed || !allowed.includes(sniffed.mime)) {
-    throw new HttpError(415, 'file_type_refused', `The ${label} must be ${allowed.join(' or ')}; this file is ${sniffed ? sniffed.mime : 'of an unknown type'} by its content.`);
+    throw new DomainError('unsupported_type', 'file_type_refused', `The ${label} must be ${allowed.join(' or ')}; this file is ${sniffed ? sniffed.mime : 'of an unknown type'} by its content.`);
   }
   return sniffed;
 }

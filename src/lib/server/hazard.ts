@@ -1,5 +1,5 @@
 /** Hazard sheets of stored machines; the figures come from the pure module src/lib/hazard.ts. */
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { getMachine, type Machine } from './machines';
 import { hazardSheet, HazardInputError, type HazardInput, type HazardSheet } from '../hazard';
 
@@ -8,14 +8,14 @@ export function hazardOrThrow(input: HazardInput): HazardSheet {
   try {
     return hazardSheet(input);
   } catch (err) {
-    if (err instanceof HazardInputError) throw new HttpError(422, 'invalid', err.message, { [err.field]: err.message });
+    if (err instanceof HazardInputError) throw new DomainError('invalid', 'invalid', err.message, { [err.field]: err.message });
     throw err;
   }
 }
 
 export async function machineHazard(machineId: string, exposureS?: number): Promise<{ machine: Machine; sheet: HazardSheet }> {
   const machine = /^[0-9a-f-]{36}$/i.test(machineId) ? await getMachine(machineId) : null;
-  if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+  if (!machine) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
   const sheet = hazardOrThrow({
     powerW: machine.powerW, wavelengthUm: machine.wavelengthUm, beamDiameterMm: machine.beamDiameterMm,
     divergenceMrad: machine.divergenceMrad, lensFocalMm: machine.lensFocalMm, ...(exposureS !== undefined ? { exposureS } : {}),

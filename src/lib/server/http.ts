@@ -7,10 +7,10 @@ import type { APIContext, APIRoute } from 'astro';
 import { z, type ZodType } from 'zod';
 import { hasAnyRole, type Role } from '../roles';
 import type { SignedInPerson } from '../signed-in-person';
-import { DomainError, HttpError, type ErrorKind } from './errors';
+import { DomainError, type ErrorKind } from './errors';
 import { log } from './log';
 
-export { DomainError, HttpError };
+export { DomainError };
 
 /** The one place a domain error's kind becomes an HTTP status. */
 export const STATUS_OF_KIND: Record<ErrorKind, number> = {
@@ -97,15 +97,15 @@ const MAX_JSON_BYTES = 256 * 1024;
 /** Reads and validates a JSON body: 415 when it is not JSON, 413 when too large, 400 when unparsable, 422 when invalid. */
 export async function readJson<T>(request: Request, schema: ZodType<T>): Promise<T> {
   const type = request.headers.get('content-type') ?? '';
-  if (!/^application\/json\b/i.test(type)) throw new HttpError(415, 'unsupported_media_type', 'Send the body as JSON (Content-Type: application/json).');
+  if (!/^application\/json\b/i.test(type)) throw new DomainError('unsupported_type', 'unsupported_media_type', 'Send the body as JSON (Content-Type: application/json).');
   const declared = Number(request.headers.get('content-length') ?? '0');
-  if (declared > MAX_JSON_BYTES) throw new HttpError(413, 'body_too_large', `The body is larger than ${MAX_JSON_BYTES / 1024} KB.`);
+  if (declared > MAX_JSON_BYTES) throw new DomainError('too_large', 'body_too_large', `The body is larger than ${MAX_JSON_BYTES / 1024} KB.`);
   const text = await readLimited(request, MAX_JSON_BYTES);
   let data: unknown;
   try {
     data = JSON.parse(text);
   } catch {
-    throw new HttpError(400, 'bad_json', 'The body is not valid JSON.');
+    throw new DomainError('bad_request', 'bad_json', 'The body is not valid JSON.');
   }
   return parseWith(schema, data);
 }
@@ -121,7 +121,7 @@ async function readLimited(request: Request, limit: number): Promise<string> {
     size += value.byteLength;
     if (size > limit) {
       await reader.cancel();
-      throw new HttpError(413, 'body_too_large', `The body is larger than ${limit / 1024} KB.`);
+      throw new DomainError('too_large', 'body_too_large', `The body is larger than ${limit / 1024} KB.`);
     }
     chunks.push(value);
   }
@@ -166,19 +166,19 @@ export async function readForm(request: Request): Promise<PostedForm> {
  */
 export async function readMultipart(request: Request, opts: { maxBytes: number; tooLarge: string; what: string }): Promise<PostedForm> {
   if (!/^multipart\/form-data\b/i.test(request.headers.get('content-type') ?? '')) {
-    throw new HttpError(415, 'unsupported_media_type', `Send ${opts.what} as multipart/form-data.`);
+    throw new DomainError('unsupported_type', 'unsupported_media_type', `Send ${opts.what} as multipart/form-data.`);
   }
-  if (Number(request.headers.get('content-length') ?? '0') > opts.maxBytes) throw new HttpError(413, 'file_too_large', opts.tooLarge);
+  if (Number(request.headers.get('content-length') ?? '0') > opts.maxBytes) throw new DomainError('too_large', 'file_too_large', opts.tooLarge);
   try {
     return postedForm(await request.formData());
   } catch {
-    throw new HttpError(400, 'bad_form', 'The form data could not be read.');
+    throw new DomainError('bad_request', 'bad_form', 'The form data could not be read.');
   }
 }
 
 export function parseWith<T>(schema: ZodType<T>, data: unknown): T {
   const parsed = schema.safeParse(data);
-  if (!parsed.success) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', fieldMessages(parsed.error));
+  if (!parsed.success) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', fieldMessages(parsed.error));
   return parsed.data;
 }
 
@@ -188,14 +188,14 @@ export function readQuery<T>(url: URL, schema: ZodType<T>): T {
 }
 
 export function requireSignedIn(locals: App.Locals): SignedInPerson {
-  if (!locals.person) throw new HttpError(401, 'sign_in_required', 'Sign in first.');
+  if (!locals.person) throw new DomainError('unauthenticated', 'sign_in_required', 'Sign in first.');
   return locals.person;
 }
 
 export function requireRole(locals: App.Locals, ...roles: Role[]): SignedInPerson {
   const person = requireSignedIn(locals);
   if (!hasAnyRole(person.roles, roles)) {
-    throw new HttpError(403, 'forbidden', `This needs the ${roles.join(' or ')} role.`);
+    throw new DomainError('forbidden', 'forbidden', `This needs the ${roles.join(' or ')} role.`);
   }
   return person;
 }
@@ -209,6 +209,6 @@ export function isId(value: unknown): value is string {
 
 /** A route's id parameter: a malformed id is simply not found (404 not_found), never a database error. */
 export function idParam(value: string | undefined, what = 'record'): string {
-  if (!isId(value)) throw new HttpError(404, 'not_found', `No such ${what}.`);
+  if (!isId(value)) throw new DomainError('not_found', 'not_found', `No such ${what}.`);
   return value.toLowerCase();
 }

@@ -5,7 +5,7 @@
  */
 import sharp from 'sharp';
 import { checkUpload } from './file-types';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 
 export const PHOTO_MAX_BYTES = 10 * 1024 * 1024;
 /** 50 megapixels: above any phone camera, far below what would exhaust memory. */
@@ -18,10 +18,10 @@ export async function safePhoto(bytes: Uint8Array, maxEdge = 2000): Promise<{ by
   try {
     meta = await sharp(bytes, { limitInputPixels: PHOTO_MAX_PIXELS }).metadata();
   } catch {
-    throw new HttpError(422, 'bad_image', 'The photo could not be read.', { photo: 'Choose a JPEG, PNG or WebP photo.' });
+    throw new DomainError('invalid', 'bad_image', 'The photo could not be read.', { photo: 'Choose a JPEG, PNG or WebP photo.' });
   }
   if (!meta.width || !meta.height || meta.width * meta.height > PHOTO_MAX_PIXELS) {
-    throw new HttpError(422, 'image_too_large', `The photo has more than ${PHOTO_MAX_PIXELS / 1e6} megapixels.`, { photo: 'Take a smaller photo.' });
+    throw new DomainError('invalid', 'image_too_large', `The photo has more than ${PHOTO_MAX_PIXELS / 1e6} megapixels.`, { photo: 'Take a smaller photo.' });
   }
   try {
     const { data, info } = await sharp(bytes, { limitInputPixels: PHOTO_MAX_PIXELS, failOn: 'error' })
@@ -31,6 +31,6 @@ export async function safePhoto(bytes: Uint8Array, maxEdge = 2000): Promise<{ by
       .toBuffer({ resolveWithObject: true });
     return { bytes: new Uint8Array(data), contentType: 'image/jpeg', width: info.width, height: info.height };
   } catch {
-    throw new HttpError(422, 'bad_image', 'The photo could not be read.', { photo: 'Choose a JPEG, PNG or WebP photo.' });
+    throw new DomainError('invalid', 'bad_image', 'The photo could not be read.', { photo: 'Choose a JPEG, PNG or WebP photo.' });
   }
 }

@@ -1,7 +1,7 @@
 /** QR codes and printable labels of machines (qrcode for the symbol, sharp to rasterise the label). */
 import QRCode from 'qrcode';
 import sharp from 'sharp';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
 import { publicBaseUrl } from './settings';
 import { escapeXml, LABEL_CAUTIONS, machinePageUrl, wrapText } from '../labels';
@@ -10,7 +10,7 @@ const QR_OPTIONS = { errorCorrectionLevel: 'M' as const, margin: 2 };
 
 async function machineOr404(id: string): Promise<Machine> {
   const m = /^[0-9a-f-]{36}$/i.test(id) ? await getMachine(id) : null;
-  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
   return m;
 }
 

@@ -7,7 +7,7 @@
  */
 import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { DomainError, HttpError } from './errors';
+import { DomainError } from './errors';
 import { canOperate } from './clearances/state';
 import { chargeBeamTime } from './payments/billing';
 import { type Charge } from './payments/charge-records';
@@ -69,7 +69,7 @@ function toSession(r: Row): MachineSession {
 /** The chiller rule of a machine (air-cooled: no reading). */
 export async function machineCoolant(machineId: string, trx: Conn = db()): Promise<CoolantPolicy> {
   const m = await trx('machines').where({ id: machineId }).first('coolant_type', 'coolant_min_c', 'coolant_max_c');
-  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
   return coolantPolicy({
     coolantType: m.coolant_type,
     coolantMinC: m.coolant_min_c === null ? null : Number(m.coolant_min_c),
@@ -92,20 +92,20 @@ type BookingRow = { id: string; machine_id: string; person_id: string; state: st
 export async function checkIn(actor: Actor, bookingId: string, input: CheckInInput, now = new Date()): Promise<MachineSession> {
   return transaction(async (trx) => {
     const b = (await trx('bookings').where({ id: bookingId }).forUpdate().first()) as BookingRow | undefined;
-    if (!b) throw new HttpError(404, 'not_found', 'No such booking.');
-    if (b.person_id !== actor.id) throw new HttpError(403, 'not_your_booking', 'This booking is someone else\'s. Only the person who booked can check in.');
-    if (b.state === 'checked in') throw new HttpError(409, 'already_checked_in', 'You are already checked in on this booking.');
-    if (b.state !== 'reserved') throw new HttpError(409, 'booking_not_active', `This booking is ${b.state}; it cannot be checked in.`);
+    if (!b) throw new DomainError('not_found', 'not_found', 'No such booking.');
+    if (b.person_id !== actor.id) throw new DomainError('forbidden', 'not_your_booking', 'This booking is someone else\'s. Only the person who booked can check in.');
+    if (b.state === 'checked in') throw new DomainError('conflict', 'already_checked_in', 'You are already checked in on this booking.');
+    if (b.state !== 'reserved') throw new DomainError('conflict', 'booking_not_active', `This booking is ${b.state}; it cannot be checked in.`);
     const window = checkInWindow(b.starts_at, b.ends_at, now);
-    if (!window.ok) throw new HttpError(409, window.code, window.message);
+    if (!window.ok) throw new DomainError('conflict', window.code, window.message);
     // FOR UPDATE: a stop fault taking the machine out of service waits for this check-in, or this check-in sees it
     const m = await lockMachine(trx, b.machine_id, 'update');
-    if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
-    if (m.status === 'out of service') throw new HttpError(409, 'machine_out_of_service', `${m.name} is out of service. Do not use it; a steward will put it back in service.`);
+    if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
+    if (m.status === 'out of service') throw new DomainError('conflict', 'machine_out_of_service', `${m.name} is out of service. Do not use it; a steward will put it back in service.`);
     const verdict = await canOperate(actor.id, b.machine_id, now, trx);
-    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+    if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
     const pre = checkPreUse(input, await machineCoolant(b.machine_id, trx));
-    if (!pre.ok) throw new HttpError(422, pre.code, pre.message, pre.fields);
+    if (!pre.ok) throw new DomainError('invalid', pre.code, pre.message, pre.fields);
     let row: Row;
     try {
       [row] = (await trx.transaction(async (sp) =>
@@ -117,7 +117,7 @@ export async function checkIn(actor: Actor, bookingId: string, input: CheckInInp
           .returning('*'),
       )) as Row[] as [Row];
     } catch (err) {
-      if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'machine_in_use', `Another session is still open on ${m.name}. A steward can close it.`);
+      if (pgCode(err) === PG.uniqueViolation) throw new DomainError('conflict', 'machine_in_use', `Another session is still open on ${m.name}. A steward can close it.`);
       throw err;
     }
     await trx('bookings').where({ id: b.id }).update({ state: 'checked in', checked_in_at: now, updated_at: trx.fn.now() });
@@ -166,25 +166,25 @@ export async function soldMaterials(at = new Date()): Promise<{ sku: string; nam
  */
 export async function checkOut(actor: Actor, bookingId: string, input: CheckOutInput, now = new Date()): Promise<CheckOutResult> {
   const answers = checkCheckOut(input.checkout);
-  if (!answers.ok) throw new HttpError(422, answers.code, answers.message, answers.fields);
+  if (!answers.ok) throw new DomainError('invalid', answers.code, answers.message, answers.fields);
   const skus = new Set<string>();
   for (const m of input.materials) {
-    if (skus.has(m.sku)) throw new HttpError(422, 'invalid', 'List each sheet once.', { materials: `${m.sku} appears twice.` });
+    if (skus.has(m.sku)) throw new DomainError('invalid', 'invalid', 'List each sheet once.', { materials: `${m.sku} appears twice.` });
     skus.add(m.sku);
   }
   const materials = input.materials.filter((m) => m.quantity > 0);
   const session = await transaction(async (trx) => {
     const b = (await trx('bookings').where({ id: bookingId }).forUpdate().first()) as BookingRow | undefined;
-    if (!b) throw new HttpError(404, 'not_found', 'No such booking.');
+    if (!b) throw new DomainError('not_found', 'not_found', 'No such booking.');
     const mine = b.person_id === actor.id;
-    if (!mine && !hasAnyRole(actor.roles, ['steward', 'admin'])) throw new HttpError(403, 'not_your_booking', 'This booking is someone else\'s.');
+    if (!mine && !hasAnyRole(actor.roles, ['steward', 'admin'])) throw new DomainError('forbidden', 'not_your_booking', 'This booking is someone else\'s.');
     const open = (await trx('machine_sessions').where({ booking_id: b.id }).whereNull('checked_out_at').forUpdate().first()) as Row | undefined;
-    if (!open) throw new HttpError(409, 'not_checked_in', 'There is no open session on this booking: check in first.');
+    if (!open) throw new DomainError('conflict', 'not_checked_in', 'There is no open session on this booking: check in first.');
     if (materials.length) {
       const v = await versionAt(open.checked_in_at, trx);
       const sold = new Set((v?.materials ?? []).map((m) => m.sku));
       const unknown = materials.filter((m) => !sold.has(m.sku));
-      if (unknown.length) throw new HttpError(422, 'unknown_material', `The space does not sell ${unknown.map((m) => m.sku).join(', ')}.`, { materials: 'Choose sheets from the list.' });
+      if (unknown.length) throw new DomainError('invalid', 'unknown_material', `The space does not sell ${unknown.map((m) => m.sku).join(', ')}.`, { materials: 'Choose sheets from the list.' });
     }
     // beam seconds measured by the machine's controller, when it reported any, else the wall clock
     const { minutes, source } = billableMinutes(open.checked_in_at, now, open.measured_beam_seconds);
@@ -272,8 +272,8 @@ export async function sessionsNeedingSteward(limit = 50): Promise<(MachineSessio
 export async function clearStewardFlag(actor: Actor, sessionId: string, note: string): Promise<MachineSession> {
   return transaction(async (trx) => {
     const r = (await trx('machine_sessions').where({ id: sessionId }).forUpdate().first()) as Row | undefined;
-    if (!r) throw new HttpError(404, 'not_found', 'No such session.');
-    if (!r.needs_steward) throw new HttpError(409, 'not_flagged', 'This session is not waiting for a steward.');
+    if (!r) throw new DomainError('not_found', 'not_found', 'No such session.');
+    if (!r.needs_steward) throw new DomainError('conflict', 'not_flagged', 'This session is not waiting for a steward.');
     const [u] = (await trx('machine_sessions').where({ id: sessionId }).update({ needs_steward: false }).returning('*')) as Row[];
     await recordAudit(trx, { actorId: actor.id, kind: 'session.reviewed', subjectType: 'machine_session', subjectId: sessionId, summary: note || 'Auto-closed session reviewed', before: { needsSteward: true }, after: { needsSteward: false } });
     return toSession(u!);

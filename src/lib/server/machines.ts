@@ -2,7 +2,7 @@
 import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '../machines-shared';
 import type { ClearanceLevel } from '../clearance-rules';
 
@@ -98,12 +98,12 @@ export const NEW_MACHINE_HOURS = [1, 2, 3, 4, 5].map((weekday) => ({ weekday, op
 
 async function mustHaveGroup(trx: Knex.Transaction, groupId: string): Promise<void> {
   if (!(await trx('machine_groups').where({ id: groupId }).first('id'))) {
-    throw new HttpError(422, 'group_not_found', 'Choose one of the machine groups (Admin › Machine groups).', { groupId: 'No such machine group.' });
+    throw new DomainError('invalid', 'group_not_found', 'Choose one of the machine groups (Admin › Machine groups).', { groupId: 'No such machine group.' });
   }
 }
 
 function duplicateCode(err: unknown, code: string): never {
-  if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'code_taken', `Another machine (perhaps a retired one) already has the code “${code}”; label codes are never reused.`, { code: 'Taken.' });
+  if (pgCode(err) === PG.uniqueViolation) throw new DomainError('conflict', 'code_taken', `Another machine (perhaps a retired one) already has the code “${code}”; label codes are never reused.`, { code: 'Taken.' });
   throw err;
 }
 
@@ -140,12 +140,12 @@ export async function createMachine(actorId: string, input: MachineFields & { co
 export async function updateMachine(actorId: string, id: string, input: Partial<MachineFields>): Promise<Machine> {
   return transaction(async (trx) => {
     const row = (await trx('machines').where({ id }).whereNull('retired_at').forUpdate().first()) as Row | undefined;
-    if (!row) throw new HttpError(404, 'machine_not_found', 'No machine in use has that id.');
+    if (!row) throw new DomainError('not_found', 'not_found', 'No machine in use has that id.');
     const before = fieldsOf(toMachine(row));
     if (input.groupId) await mustHaveGroup(trx, input.groupId);
     const merged = { ...before, ...input };
     if (merged.coolantMinC !== null && merged.coolantMaxC !== null && merged.coolantMinC >= merged.coolantMaxC) {
-      throw new HttpError(422, 'invalid', 'The lowest coolant temperature must be below the highest.', { coolantMaxC: 'Above the lowest.' });
+      throw new DomainError('invalid', 'invalid', 'The lowest coolant temperature must be below the highest.', { coolantMaxC: 'Above the lowest.' });
     }
     const changed = Object.fromEntries(Object.entries(input).filter(([k, v]) => v !== undefined && before[k as keyof MachineFields] !== v)) as Partial<MachineFields>;
     if (!Object.keys(changed).length) return toMachine(row);

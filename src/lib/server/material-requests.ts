@@ -6,7 +6,7 @@
 import { randomUUID } from 'node:crypto';
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { queueMail } from './mail';
 import { env } from './env';
 import { checkUpload } from './file-types';
@@ -70,7 +70,7 @@ export function screenOrThrow(composition: string): ScreenResult {
   try {
     return screenComposition(composition);
   } catch (err) {
-    if (err instanceof FormulaError) throw new HttpError(422, 'invalid_formula', err.message, { composition: err.message });
+    if (err instanceof FormulaError) throw new DomainError('invalid', 'invalid_formula', err.message, { composition: err.message });
     throw err;
   }
 }
@@ -80,7 +80,7 @@ export function screenMaterialOrThrow(name: string | null, composition: string |
   try {
     return screenMaterial({ name, composition });
   } catch (err) {
-    if (err instanceof FormulaError) throw new HttpError(422, 'invalid_formula', err.message, { composition: err.message });
+    if (err instanceof FormulaError) throw new DomainError('invalid', 'invalid_formula', err.message, { composition: err.message });
     throw err;
   }
 }
@@ -145,8 +145,8 @@ export type Decision =
 export async function decideRequest(actorId: string, id: string, d: Decision): Promise<{ request: MaterialRequest; material: Material | null }> {
   return transaction(async (t) => {
     const row = (await t('material_requests').where({ id }).forUpdate().first()) as { status: RequestStatus; name: string; composition: string } | undefined;
-    if (!row) throw new HttpError(404, 'request_not_found', 'No request has that id.');
-    if (row.status !== 'pending') throw new HttpError(409, 'already_decided', `This request was already ${row.status}.`);
+    if (!row) throw new DomainError('not_found', 'not_found', 'No request has that id.');
+    if (row.status !== 'pending') throw new DomainError('conflict', 'already_decided', `This request was already ${row.status}.`);
     let material: Material | null = null;
     if (d.decision === 'approve') {
       const composition = d.material.composition ?? row.composition.split('+').map((s) => s.trim()).filter(Boolean);

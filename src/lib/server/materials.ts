@@ -5,7 +5,7 @@
 import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
 import { sheetCodesFrom, versionAt } from './prices';
 import {
@@ -109,7 +109,7 @@ export function assertHalogenRule(m: { name: string; composition: readonly strin
     try {
       screenComposition(f);
     } catch (err) {
-      if (err instanceof FormulaError) throw new HttpError(422, 'invalid_formula', err.message, { [`composition.${i}`]: err.message, composition: err.message });
+      if (err instanceof FormulaError) throw new DomainError('invalid', 'invalid_formula', err.message, { [`composition.${i}`]: err.message, composition: err.message });
       throw err;
     }
   }
@@ -121,10 +121,10 @@ export function assertHalogenRule(m: { name: string; composition: readonly strin
     const message = `${m.name} carries ${elements} by ${via}, so it can only be blocked, not ${rule}. ${finding.reason}`;
     const fields: Record<string, string> = { rule: `Only "blocked" is possible: it carries ${elements}.` };
     if (target === 'material') fields.composition = `Carries ${elements}.`;
-    throw new HttpError(422, 'halogen_not_allowed', message, fields);
+    throw new DomainError('invalid', 'halogen_not_allowed', message, fields);
   }
   if (target === 'material' && m.composition.length === 0 && !screenMaterial({ name: m.name }).matchedName) {
-    throw new HttpError(422, 'composition_required', `${m.name} has no composition and is not a name we recognise: give the formula from the safety data sheet, or block it until a steward has reviewed it.`, {
+    throw new DomainError('invalid', 'composition_required', `${m.name} has no composition and is not a name we recognise: give the formula from the safety data sheet, or block it until a steward has reviewed it.`, {
       composition: 'Give at least one formula, or block the material.',
     });
   }
@@ -181,20 +181,20 @@ function auditShape(m: Material) {
  */
 async function assertSheet(input: MaterialInput, trx: Conn): Promise<void> {
   if (!input.soldBySpace) return;
-  if (!input.sheetSku) throw new HttpError(422, 'invalid', 'A material the space sells needs its sheet from the price list.', { sheetSku: 'Choose the sheet from the price list on Pricing.' });
+  if (!input.sheetSku) throw new DomainError('invalid', 'invalid', 'A material the space sells needs its sheet from the price list.', { sheetSku: 'Choose the sheet from the price list on Pricing.' });
   const now = new Date();
   if (!(await sheetCodesFrom(now, trx)).has(input.sheetSku)) {
-    throw new HttpError(422, 'unknown_sheet', `No price version sells a sheet with the code ${input.sheetSku}: add it on Pricing first.`, { sheetSku: 'Not in the price list.' });
+    throw new DomainError('invalid', 'unknown_sheet', `No price version sells a sheet with the code ${input.sheetSku}: add it on Pricing first.`, { sheetSku: 'Not in the price list.' });
   }
   const s = (await sheetsInForce(now, trx)).get(input.sheetSku);
   if (input.sheetPriceMinor != null && input.sheetPriceMinor !== s?.priceMinor) {
-    throw new HttpError(422, 'price_on_pricing', 'Sheet prices are set on the Pricing screen (a new price version), not on a material.', { sheetPriceMinor: 'Change the price on Pricing.' });
+    throw new DomainError('invalid', 'price_on_pricing', 'Sheet prices are set on the Pricing screen (a new price version), not on a material.', { sheetPriceMinor: 'Change the price on Pricing.' });
   }
 }
 
 function mapWriteError(err: unknown): never {
-  if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'material_exists', 'A material with that name is already in the catalogue.', { name: 'Already in the catalogue.' });
-  if (pgCode(err) === PG.checkViolation) throw new HttpError(422, 'invalid', 'A value is out of range.');
+  if (pgCode(err) === PG.uniqueViolation) throw new DomainError('conflict', 'material_exists', 'A material with that name is already in the catalogue.', { name: 'Already in the catalogue.' });
+  if (pgCode(err) === PG.checkViolation) throw new DomainError('invalid', 'invalid', 'A value is out of range.');
   throw err;
 }
 
@@ -219,7 +219,7 @@ export async function updateMaterial(actorId: string, id: string, input: Materia
   try {
     return await transaction(async (t) => {
       const before = (await t('materials').where({ id }).forUpdate().first()) as Row | undefined;
-      if (!before) throw new HttpError(404, 'material_not_found', 'No material has that id.');
+      if (!before) throw new DomainError('not_found', 'not_found', 'No material has that id.');
       // an override that would now let a halogen-bearing material under the beam is refused too
       const loose = (await t('material_machine_overrides').where({ material_id: id }).whereIn('rule', ['allowed', 'limited']).first('rule')) as { rule: MaterialRule } | undefined;
       if (loose) assertHalogenRule(input, loose.rule, 'override');
@@ -245,9 +245,9 @@ export async function updateMaterial(actorId: string, id: string, input: Materia
 export async function setOverride(actorId: string, materialId: string, machineId: string, o: RuleOverride | null): Promise<MaterialOverride | null> {
   return transaction(async (t) => {
     const material = await getMaterial(materialId, t);
-    if (!material) throw new HttpError(404, 'material_not_found', 'No material has that id.');
+    if (!material) throw new DomainError('not_found', 'not_found', 'No material has that id.');
     const machine = await getMachine(machineId, t);
-    if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+    if (!machine) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
     if (o) assertHalogenRule(material, o.rule ?? material.rule, 'override');
     const beforeRow = (await t('material_machine_overrides').where({ material_id: materialId, machine_id: machineId }).forUpdate().first()) as OverrideRow | undefined;
     const before = beforeRow ? toOverride(beforeRow) : null;
@@ -297,7 +297,7 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /**
  * The booking check: every declared material must be allowed on `machineId` in its mode and thickness.
- * Throws HttpError 422 `material_blocked` (naming the material and the reason), 422 `material_limited` (mode not
+ * Throws DomainError 422 `material_blocked` (naming the material and the reason), 422 `material_limited` (mode not
  * allowed, or thicker than the machine may cut, per-machine overrides included), 422 `invalid` for an unknown
  * material id or a thickness out of range, 404 `machine_not_found`. Resolves with advice (thicker than the machine
  * cuts in one pass, by the estimate) when all are fine: the machine's reach warns, only the rule's limit refuses.
@@ -305,7 +305,7 @@ const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 export async function checkDeclaredMaterials(machineId: string, materials: DeclaredMaterial[], trx?: Conn): Promise<string[]> {
   const q = trx ?? db();
   const machine = UUID.test(machineId) ? await getMachine(machineId, q) : null;
-  if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+  if (!machine) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
   const ids = [...new Set(materials.map((m) => m.materialId))];
   const bad = ids.filter((id) => !UUID.test(id));
   const rows = bad.length ? [] : ((await q('materials').whereIn('id', ids)) as Row[]);
@@ -316,12 +316,12 @@ export async function checkDeclaredMaterials(machineId: string, materials: Decla
   const warnings: string[] = [];
   for (const [i, d] of materials.entries()) {
     const material = byId.get(d.materialId);
-    if (!material) throw new HttpError(422, 'invalid', 'A declared material is not in the catalogue.', { [`materials.${i}.materialId`]: 'Unknown material.' });
+    if (!material) throw new DomainError('invalid', 'invalid', 'A declared material is not in the catalogue.', { [`materials.${i}.materialId`]: 'Unknown material.' });
     if (!(Number.isFinite(d.thicknessMm) && d.thicknessMm > 0 && d.thicknessMm <= 100)) {
-      throw new HttpError(422, 'invalid', 'A declared thickness is out of range.', { [`materials.${i}.thicknessMm`]: 'Thickness must be above 0 mm and at most 100 mm.' });
+      throw new DomainError('invalid', 'invalid', 'A declared thickness is out of range.', { [`materials.${i}.thicknessMm`]: 'Thickness must be above 0 mm and at most 100 mm.' });
     }
     const decision = decide(material, machine, d, overrides.find((o) => o.materialId === material.id));
-    if (!decision.ok) throw new HttpError(422, decision.code, decision.message, { [`materials.${i}`]: decision.message });
+    if (!decision.ok) throw new DomainError('invalid', decision.code, decision.message, { [`materials.${i}`]: decision.message });
     warnings.push(...decision.warnings);
   }
   return warnings;
@@ -338,12 +338,12 @@ export type CutAdvice =
  */
 export async function cutEstimateFor(materialId: string, on: { powerW?: number; machineId?: string }, thicknessMm: number, kerfMm?: number): Promise<CutAdvice> {
   const m = await getMaterial(materialId);
-  if (!m) throw new HttpError(422, 'invalid', 'Unknown material.', { materialId: 'Unknown material.' });
+  if (!m) throw new DomainError('invalid', 'invalid', 'Unknown material.', { materialId: 'Unknown material.' });
   let machine: Machine | null = null;
   let effective: EffectiveRule | null = null;
   if (on.machineId) {
     machine = UUID.test(on.machineId) ? await getMachine(on.machineId) : null;
-    if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+    if (!machine) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
     const o = (await db()('material_machine_overrides').where({ material_id: m.id, machine_id: machine.id }).first()) as OverrideRow | undefined;
     effective = effectiveRule(m, machine, o ? toOverride(o) : null);
     const brief = { id: machine.id, name: machine.name, powerW: machine.powerW };
@@ -351,13 +351,13 @@ export async function cutEstimateFor(materialId: string, on: { powerW?: number; 
     if (!effective.modes.includes('cut')) return { notOnThisMachine: true, machine: brief, message: `Not on this machine: ${m.name} may not be cut on ${machine.name} (${effective.modes.join(', ') || 'nothing'} only). ${effective.reason}` };
   } else {
     const c = catalogueRule(m);
-    if (c.rule === 'blocked') throw new HttpError(422, 'not_estimable', `${m.name} is blocked: ${c.reason}`, { materialId: 'Blocked material.' });
+    if (c.rule === 'blocked') throw new DomainError('invalid', 'not_estimable', `${m.name} is blocked: ${c.reason}`, { materialId: 'Blocked material.' });
   }
   if (m.densityGPerCm3 == null || m.heatOfGasificationJPerG == null || m.cutEfficiency == null || !m.modes.includes('cut')) {
-    throw new HttpError(422, 'not_estimable', `${m.name} is not cut on these machines, or has no cutting figures on record.`, { materialId: 'No cutting figures for this material.' });
+    throw new DomainError('invalid', 'not_estimable', `${m.name} is not cut on these machines, or has no cutting figures on record.`, { materialId: 'No cutting figures for this material.' });
   }
   const powerW = machine ? machine.powerW : on.powerW;
-  if (powerW === undefined) throw new HttpError(422, 'invalid', 'Give a machine or a power.', { powerW: 'Give a machine or a power.' });
+  if (powerW === undefined) throw new DomainError('invalid', 'invalid', 'Give a machine or a power.', { powerW: 'Give a machine or a power.' });
   try {
     const e = estimateCut(
       { name: m.name, densityGPerCm3: m.densityGPerCm3, heatOfGasificationJPerG: m.heatOfGasificationJPerG, efficiency: m.cutEfficiency, maxCutMm: effective ? effective.maxCutMm : m.maxCutMm },
@@ -370,7 +370,7 @@ export async function cutEstimateFor(materialId: string, on: { powerW?: number; 
     else if (!e.withinReach) notes.push(`Beyond what the estimate says ${machine ? machine.name : `${powerW} W`} cuts in one pass (about ${e.reachMm} mm): expect several passes. Advice only.`);
     return { ...e, machine: machine ? { id: machine.id, name: machine.name, powerW: machine.powerW } : null, ruleMaxCutMm, allowedByRule, notes };
   } catch (err) {
-    if (err instanceof CutInputError) throw new HttpError(422, 'invalid', err.message, { [err.field]: err.message });
+    if (err instanceof CutInputError) throw new DomainError('invalid', 'invalid', err.message, { [err.field]: err.message });
     throw err;
   }
 }

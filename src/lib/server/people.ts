@@ -4,7 +4,7 @@ import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { hashPassword } from './passwords';
 import { normaliseRoles, type Role } from '../roles';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import type { Tier } from '../vocabulary';
 
 export interface Person {
@@ -126,10 +126,10 @@ export async function setRoles(actorId: string, personId: string, roles: Role[])
   const wanted = normaliseRoles(roles);
   return transaction(async (trx) => {
     const target = await trx('people').where({ id: personId }).forUpdate().first('id', 'name');
-    if (!target) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    if (!target) throw new DomainError('not_found', 'not_found', 'No person has that id.');
     const current = normaliseRoles((await trx('role_grants').where({ person_id: personId }).pluck('role')) as string[]);
     if (actorId === personId && current.includes('admin') && !wanted.includes('admin')) {
-      throw new HttpError(409, 'cannot_remove_own_admin', 'You cannot remove your own admin role; ask another admin to do it.');
+      throw new DomainError('conflict', 'cannot_remove_own_admin', 'You cannot remove your own admin role; ask another admin to do it.');
     }
     const added = wanted.filter((r) => !current.includes(r));
     const removed = current.filter((r) => !wanted.includes(r));
@@ -147,7 +147,7 @@ export async function setRoles(actorId: string, personId: string, roles: Role[])
       });
     }
     const person = await getPerson(personId, trx);
-    if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    if (!person) throw new DomainError('not_found', 'not_found', 'No person has that id.');
     return person;
   });
 }
@@ -155,7 +155,7 @@ export async function setRoles(actorId: string, personId: string, roles: Role[])
 /** Sets `active` on a locked person row and audits the change; false when it was already so. */
 export async function applyActive(trx: Knex.Transaction, actorId: string, personId: string, active: boolean): Promise<boolean> {
   const target = await trx('people').where({ id: personId }).forUpdate().first('id', 'name', 'email', 'active');
-  if (!target) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (!target) throw new DomainError('not_found', 'not_found', 'No person has that id.');
   if (target.active === active) return false;
   await trx('people').where({ id: personId }).update({ active, deactivated_at: active ? null : trx.fn.now(), updated_at: trx.fn.now() });
   await recordAudit(trx, {
@@ -172,7 +172,7 @@ export async function applyActive(trx: Knex.Transaction, actorId: string, person
 
 export async function mustGetPerson(personId: string, trx: Knex.Transaction): Promise<Person> {
   const person = await getPerson(personId, trx);
-  if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (!person) throw new DomainError('not_found', 'not_found', 'No person has that id.');
   return person;
 }
 
@@ -189,7 +189,7 @@ export async function reactivatePerson(actorId: string, personId: string): Promi
 export async function setTier(actorId: string, personId: string, tier: Tier, costCentre: string | null): Promise<Person> {
   return transaction(async (trx) => {
     const target = await trx('people').where({ id: personId }).forUpdate().first('id', 'name', 'tier', 'cost_centre');
-    if (!target) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    if (!target) throw new DomainError('not_found', 'not_found', 'No person has that id.');
     if (target.tier !== tier || target.cost_centre !== costCentre) {
       await trx('people').where({ id: personId }).update({ tier, cost_centre: costCentre, updated_at: trx.fn.now() });
       await recordAudit(trx, {
@@ -203,7 +203,7 @@ export async function setTier(actorId: string, personId: string, tier: Tier, cos
       });
     }
     const person = await getPerson(personId, trx);
-    if (!person) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+    if (!person) throw new DomainError('not_found', 'not_found', 'No person has that id.');
     return person;
   });
 }

@@ -7,7 +7,7 @@
  */
 import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { startOfZonedDay, zonedDayBounds } from '../time';
 import { getSettings } from './settings';
 import { PricingError, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type PriceVersion, type Quote, type QuoteInput, type TaxMode, type VersionTerms } from '../pricing';
@@ -67,7 +67,7 @@ export async function siteTax(trx: Conn = db()): Promise<SiteTax> {
 async function taxFor(v: PriceVersion, trx: Conn): Promise<SiteTax> {
   const tax = await siteTax(trx);
   if (v.currency !== tax.currency) {
-    throw new HttpError(409, 'no_prices', `The price version in force is in ${v.currency} but the site's currency is ${tax.currency}; an admin makes a new price version on the Pricing screen.`);
+    throw new DomainError('conflict', 'no_prices', `The price version in force is in ${v.currency} but the site's currency is ${tax.currency}; an admin makes a new price version on the Pricing screen.`);
   }
   return tax;
 }
@@ -114,7 +114,7 @@ export async function sheetCodesFrom(at: Date, trx: Conn = db()): Promise<Set<st
 
 async function requireVersionAt(at: Date, trx: Conn = db()): Promise<PriceVersion> {
   const v = await versionAt(at, trx);
-  if (!v) throw new HttpError(409, 'no_prices', 'No price version is in force at that time; an admin sets prices on the Pricing screen.');
+  if (!v) throw new DomainError('conflict', 'no_prices', 'No price version is in force at that time; an admin sets prices on the Pricing screen.');
   return v;
 }
 
@@ -122,7 +122,7 @@ async function requireVersionAt(at: Date, trx: Conn = db()): Promise<PriceVersio
 export async function priceFor(machineId: string, tier: Tier, startedAt: Date, trx: Conn = db()): Promise<{ versionId: string; effectiveFrom: Date; currency: string; perMinuteMinor: number; table: PriceTable }> {
   const v = await requireVersionAt(startedAt, trx);
   const rate = v.rates[machineId]?.[tier];
-  if (rate === undefined) throw new HttpError(409, 'not_priced', `This machine has no ${tier} rate in the price version in force.`);
+  if (rate === undefined) throw new DomainError('conflict', 'not_priced', `This machine has no ${tier} rate in the price version in force.`);
   return { versionId: v.id, effectiveFrom: v.effectiveFrom, currency: v.currency, perMinuteMinor: rate, table: toTable(v, await taxFor(v, trx)) };
 }
 
@@ -164,7 +164,7 @@ export async function quoteFor(req: QuoteRequest, trx: Conn = db()): Promise<Pri
   const at = req.at ?? new Date();
   const v = await requireVersionAt(at, trx);
   const machine = await trx('machines').where({ id: req.machineId }).first('name');
-  if (!machine) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+  if (!machine) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
   const input: QuoteInput = {
     machineId: req.machineId,
     machineName: machine.name,
@@ -180,7 +180,7 @@ export async function quoteFor(req: QuoteRequest, trx: Conn = db()): Promise<Pri
     const q = quote(toTable(v, await taxFor(v, trx)), input);
     return { ...q, priceVersionId: v.id, effectiveFrom: v.effectiveFrom, minimumRule: v.minimumRule, rechargeTiers: v.rechargeTiers };
   } catch (err) {
-    if (err instanceof PricingError) throw new HttpError(422, err.code, err.message);
+    if (err instanceof PricingError) throw new DomainError('invalid', err.code, err.message);
     throw err;
   }
 }
@@ -194,11 +194,11 @@ export interface NewVersion extends Omit<VersionTerms, 'currency' | 'taxMode' | 
 /** Adds a price version (audited). The effective date may not be in the past: history is never rewritten. */
 export async function createVersion(actorId: string, input: NewVersion): Promise<PriceVersion> {
   if (input.effectiveFrom.getTime() < Date.now() - 60_000) {
-    throw new HttpError(422, 'invalid', 'A new price version takes effect now or later, never in the past.', { effectiveFrom: 'Choose today or a later date.' });
+    throw new DomainError('invalid', 'invalid', 'A new price version takes effect now or later, never in the past.', { effectiveFrom: 'Choose today or a later date.' });
   }
   const skus = new Set<string>();
   for (const m of input.materials) {
-    if (skus.has(m.sku)) throw new HttpError(422, 'invalid', 'Each material code appears once.', { materials: `${m.sku} appears twice.` });
+    if (skus.has(m.sku)) throw new DomainError('invalid', 'invalid', 'Each material code appears once.', { materials: `${m.sku} appears twice.` });
     skus.add(m.sku);
   }
   try {
@@ -207,7 +207,7 @@ export async function createVersion(actorId: string, input: NewVersion): Promise
       const currency = tax.currency;
       const machineIds = new Set((await trx('machines').pluck('id')) as string[]);
       for (const r of input.rates) {
-        if (!machineIds.has(r.machineId)) throw new HttpError(422, 'invalid', 'A rate names a machine that does not exist.', { rates: r.machineId });
+        if (!machineIds.has(r.machineId)) throw new DomainError('invalid', 'invalid', 'A rate names a machine that does not exist.', { rates: r.machineId });
       }
       const [row] = await trx('price_versions')
         .insert({
@@ -247,7 +247,7 @@ export async function createVersion(actorId: string, input: NewVersion): Promise
       return version!;
     });
   } catch (err) {
-    if (pgCode(err) === PG.uniqueViolation) throw new HttpError(409, 'version_exists', 'A price version already starts at that moment; choose another date.');
+    if (pgCode(err) === PG.uniqueViolation) throw new DomainError('conflict', 'version_exists', 'A price version already starts at that moment; choose another date.');
     throw err;
   }
 }

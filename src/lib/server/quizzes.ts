@@ -5,7 +5,7 @@
  */
 import type { QuizIntro } from '../quiz-rules';
 import { db, transaction } from './db';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { recordAudit } from './audit';
 import { recordQuizPass } from './clearances/transitions';
 import { effectiveState, type ClearanceState } from '../clearance-rules';
@@ -68,7 +68,7 @@ export async function listQuizzes(): Promise<QuizSummary[]> {
 export async function getQuizForEditor(id: string) {
   const q = db();
   const quiz = await q('quizzes as z').join('machine_groups as g', 'g.id', 'z.group_id').where('z.id', id).first('z.id', 'z.group_id', 'g.name as group_name', 'z.title');
-  if (!quiz) throw new HttpError(404, 'not_found', 'No such quiz.');
+  if (!quiz) throw new DomainError('not_found', 'not_found', 'No such quiz.');
   const versions = await q('quiz_versions').where({ quiz_id: id }).orderBy('version', 'desc');
   const current = versions.find((v) => v.status === 'draft') ?? versions.find((v) => v.status === 'published') ?? versions[0];
   return {
@@ -81,9 +81,9 @@ export async function getQuizForEditor(id: string) {
 export async function createQuiz(actorId: string, groupId: string, draft: QuizDraft): Promise<{ id: string; version: number }> {
   return transaction(async (trx) => {
     const g = await trx('machine_groups').where({ id: groupId }).first('id', 'name');
-    if (!g) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', { groupId: 'No such machine group.' });
+    if (!g) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', { groupId: 'No such machine group.' });
     if (await trx('quizzes').where({ group_id: groupId }).first('id')) {
-      throw new HttpError(409, 'quiz_exists', `${g.name} already has a quiz; edit it to make a new version.`);
+      throw new DomainError('conflict', 'quiz_exists', `${g.name} already has a quiz; edit it to make a new version.`);
     }
     const [quiz] = await trx('quizzes').insert({ group_id: groupId, title: draft.title, created_by: actorId }).returning('id');
     await trx('quiz_versions').insert({ quiz_id: quiz.id, version: 1, status: 'draft', ...draftColumns(draft), edited_by: actorId });
@@ -103,7 +103,7 @@ function draftColumns(d: QuizDraft) {
 export async function saveDraft(actorId: string, quizId: string, draft: QuizDraft): Promise<{ version: number }> {
   return transaction(async (trx) => {
     const quiz = await trx('quizzes').where({ id: quizId }).forUpdate().first();
-    if (!quiz) throw new HttpError(404, 'not_found', 'No such quiz.');
+    if (!quiz) throw new DomainError('not_found', 'not_found', 'No such quiz.');
     const open = await trx('quiz_versions').where({ quiz_id: quizId, status: 'draft' }).first();
     let version: number;
     if (open) {
@@ -124,11 +124,11 @@ export async function saveDraft(actorId: string, quizId: string, draft: QuizDraf
 export async function discardDraft(actorId: string, quizId: string): Promise<{ discardedVersion: number }> {
   return transaction(async (trx) => {
     const quiz = await trx('quizzes').where({ id: quizId }).forUpdate().first('id', 'title');
-    if (!quiz) throw new HttpError(404, 'not_found', 'No such quiz.');
+    if (!quiz) throw new DomainError('not_found', 'not_found', 'No such quiz.');
     const draft = await trx('quiz_versions').where({ quiz_id: quizId, status: 'draft' }).first('id', 'version', 'title');
-    if (!draft) throw new HttpError(409, 'no_draft', 'There is no draft to discard.');
+    if (!draft) throw new DomainError('conflict', 'no_draft', 'There is no draft to discard.');
     const published = await trx('quiz_versions').where({ quiz_id: quizId, status: 'published' }).first('title');
-    if (!published) throw new HttpError(409, 'never_published', 'This quiz has never been published: its draft is all there is. Edit it instead.');
+    if (!published) throw new DomainError('conflict', 'never_published', 'This quiz has never been published: its draft is all there is. Edit it instead.');
     await trx('quiz_versions').where({ id: draft.id }).delete();
     await trx('quizzes').where({ id: quizId }).update({ title: published.title, updated_at: trx.fn.now() });
     await recordAudit(trx, { actorId, kind: 'quiz.draft_discarded', subjectType: 'quiz', subjectId: quizId, summary: `Discarded draft version ${draft.version} of “${draft.title}”` });
@@ -140,11 +140,11 @@ export async function discardDraft(actorId: string, quizId: string): Promise<{ d
 export async function publish(actorId: string, quizId: string): Promise<{ version: number }> {
   return transaction(async (trx) => {
     const quiz = await trx('quizzes').where({ id: quizId }).forUpdate().first();
-    if (!quiz) throw new HttpError(404, 'not_found', 'No such quiz.');
+    if (!quiz) throw new DomainError('not_found', 'not_found', 'No such quiz.');
     const draft = await trx('quiz_versions').where({ quiz_id: quizId, status: 'draft' }).first();
-    if (!draft) throw new HttpError(409, 'nothing_to_publish', 'There is no draft to publish; edit the quiz first.');
+    if (!draft) throw new DomainError('conflict', 'nothing_to_publish', 'There is no draft to publish; edit the quiz first.');
     if (draft.questions_per_attempt > (draft.questions as unknown[]).length) {
-      throw new HttpError(409, 'draft_invalid', 'The draft draws more questions than its bank holds.');
+      throw new DomainError('conflict', 'draft_invalid', 'The draft draws more questions than its bank holds.');
     }
     await trx('quiz_versions').where({ quiz_id: quizId, status: 'published' }).update({ status: 'retired', updated_at: trx.fn.now() });
     await trx('quiz_versions').where({ id: draft.id }).update({ status: 'published', published_at: trx.fn.now(), published_by: actorId, updated_at: trx.fn.now() });
@@ -169,18 +169,18 @@ function refuseState(state: ClearanceState): never {
     cleared: 'You are already cleared on these machines; the quiz is taken again when the clearance lapses.',
     suspended: 'Your clearance is suspended; ask an instructor about reinstating it.',
   };
-  throw new HttpError(409, 'quiz_not_needed', why[state] ?? 'This quiz is not open to you now.');
+  throw new DomainError('conflict', 'quiz_not_needed', why[state] ?? 'This quiz is not open to you now.');
 }
 
 /** Starts an attempt on the published version: draws and shuffles questions; answers stay on the server. */
 export async function startAttempt(personId: string, quizId: string, now = new Date()): Promise<StartedAttempt> {
   return transaction(async (trx) => {
     const quiz = await trx('quizzes as z').join('machine_groups as g', 'g.id', 'z.group_id').where('z.id', quizId).first('z.id', 'z.group_id', 'g.name as group_name');
-    if (!quiz) throw new HttpError(404, 'not_found', 'No such quiz.');
+    if (!quiz) throw new DomainError('not_found', 'not_found', 'No such quiz.');
     // one start at a time per person and group, so concurrent requests cannot exceed the limit
     await trx.raw('SELECT pg_advisory_xact_lock(hashtext(?))', [`quiz-attempt:${personId}:${quiz.group_id}`]);
     const version = await trx('quiz_versions').where({ quiz_id: quizId, status: 'published' }).first();
-    if (!version) throw new HttpError(409, 'not_published', 'This quiz has no published version yet.');
+    if (!version) throw new DomainError('conflict', 'not_published', 'This quiz has no published version yet.');
     const state = await clearanceStateFor(trx, personId, quiz.group_id, now);
     if (!QUIZ_STATES.includes(state)) refuseState(state);
     const bank = version.questions as QuizQuestion[];
@@ -211,7 +211,7 @@ export async function startAttempt(personId: string, quizId: string, now = new D
         ? `Take a break after a missed attempt: you can try again from ${when}. Read over the topics you missed meanwhile.`
         : `You have used the ${version.attempts_per_day} attempts allowed in 24 hours; the next is allowed from ${when}.`;
       const retryAfter = String(Math.max(1, Math.ceil((gate.nextAllowedAt.getTime() - now.getTime()) / 1000)));
-      throw new HttpError(429, 'attempt_limit', text, { nextAllowedAt: when, reason: gate.reason }, { 'retry-after': retryAfter });
+      throw new DomainError('too_many', 'attempt_limit', text, { nextAllowedAt: when, reason: gate.reason }, { retryAfterSeconds: Number(retryAfter) });
     }
     const drawn = drawQuestions(bank, version.questions_per_attempt);
     const [attempt] = await trx('quiz_attempts').insert({
@@ -232,15 +232,15 @@ export async function submitAttempt(personId: string, quizId: string, attemptId:
     const attempt = await trx('quiz_attempts as a').join('quiz_versions as v', 'v.id', 'a.quiz_version_id')
       .where('a.id', attemptId).where('v.quiz_id', quizId).forUpdate('a')
       .first('a.id', 'a.person_id', 'a.group_id', 'a.drawn', 'a.started_at', 'a.submitted_at', 'v.questions', 'v.pass_mark_pct', 'v.time_limit_minutes');
-    if (!attempt || attempt.person_id !== personId) throw new HttpError(404, 'not_found', 'No such attempt.');
-    if (attempt.submitted_at) throw new HttpError(409, 'already_submitted', 'This attempt was already submitted; start a new one.');
+    if (!attempt || attempt.person_id !== personId) throw new DomainError('not_found', 'not_found', 'No such attempt.');
+    if (attempt.submitted_at) throw new DomainError('conflict', 'already_submitted', 'This attempt was already submitted; start a new one.');
     if (!attemptOpen(attempt.started_at, attempt.time_limit_minutes + SUBMIT_GRACE_SECONDS / 60, now)) {
-      throw new HttpError(409, 'attempt_expired', `The ${attempt.time_limit_minutes} minutes of this attempt have run out; it counts as one of today’s attempts. Start a new one when the quiz allows.`);
+      throw new DomainError('conflict', 'attempt_expired', `The ${attempt.time_limit_minutes} minutes of this attempt have run out; it counts as one of today’s attempts. Start a new one when the quiz allows.`);
     }
     const drawn = attempt.drawn as DrawnQuestion[];
     const known = new Set(drawn.map((d) => d.id));
     const extra = Object.keys(answers).filter((k) => !known.has(k));
-    if (extra.length) throw new HttpError(422, 'invalid', 'Some answers are for questions not in this attempt.', { answers: `Unknown question(s): ${extra.slice(0, 5).join(', ')}` });
+    if (extra.length) throw new DomainError('invalid', 'invalid', 'Some answers are for questions not in this attempt.', { answers: `Unknown question(s): ${extra.slice(0, 5).join(', ')}` });
     const score = scoreAttempt(attempt.questions as QuizQuestion[], drawn, answers, attempt.pass_mark_pct);
     await trx('quiz_attempts').where({ id: attemptId }).update({
       submitted_at: now, answers: JSON.stringify(answers), score_pct: score.scorePct, passed: score.passed, missed_topics: JSON.stringify(score.missedTopics),
@@ -273,14 +273,14 @@ export async function saveAnswers(personId: string, quizId: string, attemptId: s
     const attempt = await trx('quiz_attempts as a').join('quiz_versions as v', 'v.id', 'a.quiz_version_id')
       .where('a.id', attemptId).where('v.quiz_id', quizId).forUpdate('a')
       .first('a.id', 'a.person_id', 'a.drawn', 'a.started_at', 'a.submitted_at', 'v.time_limit_minutes');
-    if (!attempt || attempt.person_id !== personId) throw new HttpError(404, 'not_found', 'No such attempt.');
-    if (attempt.submitted_at) throw new HttpError(409, 'already_submitted', 'This attempt was already submitted.');
+    if (!attempt || attempt.person_id !== personId) throw new DomainError('not_found', 'not_found', 'No such attempt.');
+    if (attempt.submitted_at) throw new DomainError('conflict', 'already_submitted', 'This attempt was already submitted.');
     if (!attemptOpen(attempt.started_at, attempt.time_limit_minutes + SUBMIT_GRACE_SECONDS / 60, now)) {
-      throw new HttpError(409, 'attempt_expired', `The ${attempt.time_limit_minutes} minutes of this attempt have run out.`);
+      throw new DomainError('conflict', 'attempt_expired', `The ${attempt.time_limit_minutes} minutes of this attempt have run out.`);
     }
     const known = new Set((attempt.drawn as DrawnQuestion[]).map((d) => d.id));
     const extra = Object.keys(answers).filter((k) => !known.has(k));
-    if (extra.length) throw new HttpError(422, 'invalid', 'Some answers are for questions not in this attempt.', { answers: `Unknown question(s): ${extra.slice(0, 5).join(', ')}` });
+    if (extra.length) throw new DomainError('invalid', 'invalid', 'Some answers are for questions not in this attempt.', { answers: `Unknown question(s): ${extra.slice(0, 5).join(', ')}` });
     await trx('quiz_attempts').where({ id: attemptId }).update({ answers: JSON.stringify(answers), answers_saved_at: now });
     return { savedAt: now.toISOString(), answered: Object.values(answers).filter((a) => a.length > 0).length };
   });

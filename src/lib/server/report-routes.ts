@@ -3,7 +3,7 @@
  * (period in the site's time zone, machines), the report from src/lib/server/reports.ts, then JSON or CSV.
  */
 import type { APIRoute } from 'astro';
-import { HttpError, json, readQuery, requireRole, route } from './http';
+import { DomainError, json, readQuery, requireRole, route } from './http';
 import { getSettings } from './settings';
 import { clearanceReport, faultReport, noShowReport, revenueReport, utilisationReport, type ReportScope } from './reports';
 import { COLUMNS, PeriodError, reportQuery, resolvePeriod, type ReportName } from '../reports';
@@ -36,7 +36,7 @@ export function reportRoute(name: ReportName, format: 'json' | 'csv'): APIRoute 
     try {
       period = resolvePeriod(q, zonedDate(new Date(), timeZone), timeZone);
     } catch (err) {
-      if (err instanceof PeriodError) throw new HttpError(422, 'invalid', err.message, { [err.field]: err.message });
+      if (err instanceof PeriodError) throw new DomainError('invalid', 'invalid', err.message, { [err.field]: err.message });
       throw err;
     }
     const report = await RUN[name]({ period, timeZone, ...(q.machineId ? { machineIds: q.machineId } : {}) });

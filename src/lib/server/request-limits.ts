@@ -5,7 +5,7 @@
  */
 import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
 import { db } from './db';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 
 export type LimitedAction = 'signup' | 'reset' | 'resend' | 'invite';
 
@@ -33,9 +33,9 @@ function limiter(action: LimitedAction, by: 'email' | 'addr'): RateLimiterPostgr
   return l;
 }
 
-export class TooManyRequests extends HttpError {
+export class TooManyRequests extends DomainError {
   constructor(public readonly retryAfterS: number) {
-    super(429, 'too_many_requests', `Too many requests. Try again in ${Math.max(1, Math.ceil(retryAfterS / 60))} minute(s).`, undefined, { 'retry-after': String(retryAfterS) });
+    super('too_many', 'too_many_requests', `Too many requests. Try again in ${Math.max(1, Math.ceil(retryAfterS / 60))} minute(s).`, undefined, { retryAfterSeconds: retryAfterS });
   }
 }
 

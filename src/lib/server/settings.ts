@@ -1,7 +1,7 @@
 /** Site settings (one row): name, IANA time zone, site locale, currency, tax, public base URL. All SQL of this area. */
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { env } from './env';
 import { SITE_FIELDS, siteValues, type SiteSettingsValues, type SiteValues } from '../site-settings';
 import { DEFAULT_LOCALE, siteFormat, type SiteFormat } from '../format';
@@ -107,7 +107,7 @@ export async function updateSettings(actorId: string, input: SiteSettingsValues)
     if (changed.length === 0 && row) return toSettings(row);
     // amounts are integers of the currency's minor unit: once money has been charged, the currency stays
     if (before && changed.includes('currency') && (await trx('charges').whereNot('currency', after.currency).first('id'))) {
-      throw new HttpError(409, 'currency_in_use', `Charges have been made in ${before.currency}; the site's currency cannot change any more (amounts are not converted).`, { currency: `Charges exist in ${before.currency}.` });
+      throw new DomainError('conflict', 'currency_in_use', `Charges have been made in ${before.currency}; the site's currency cannot change any more (amounts are not converted).`, { currency: `Charges exist in ${before.currency}.` });
     }
     const values = {
       name: after.name,

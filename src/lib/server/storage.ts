@@ -4,7 +4,7 @@
  */
 import { CreateBucketCommand, GetObjectCommand, HeadBucketCommand, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
 import { env } from './env';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { log } from './log';
 
 let client: S3Client | undefined;
@@ -61,7 +61,7 @@ async function unavailableAs503<T>(fn: () => Promise<T>): Promise<T> {
     const network = ['ECONNREFUSED', 'ECONNRESET', 'ETIMEDOUT', 'EHOSTUNREACH', 'ENOTFOUND', 'EPIPE'].includes(e.code ?? e.cause?.code ?? '');
     if (network || e.name === 'TimeoutError' || (status !== undefined && status >= 500) || (status === undefined && !e.name?.startsWith('NoSuch'))) {
       log.warn({ event: 'provider_call', provider: 'storage', outcome: 'unavailable', code: e.code ?? e.name }, 'storage unavailable');
-      throw new HttpError(503, 'storage_unavailable', 'File storage is not answering just now, so nothing was saved. Try again in a few minutes.', undefined, { 'retry-after': '60' });
+      throw new DomainError('unavailable', 'storage_unavailable', 'File storage is not answering just now, so nothing was saved. Try again in a few minutes.', undefined, { retryAfterSeconds: 60 });
     }
     throw err;
   }

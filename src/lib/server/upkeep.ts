@@ -5,7 +5,7 @@
 import { siteFormat } from '../format';
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
-import { HttpError } from './errors';
+import { DomainError } from './errors';
 import { queueMail } from './mail';
 import { env } from './env';
 import { activeWithRole } from './people';
@@ -53,7 +53,7 @@ type MachineRow = { id: string; name: string; code: string; tube_type: 'dc_glass
 
 async function machineRow(machineId: string, trx: Conn = db()): Promise<MachineRow> {
   const m = (await trx('machines').where({ id: machineId }).whereNull('retired_at').first('id', 'name', 'code', 'tube_type', 'coolant_type', 'created_at')) as MachineRow | undefined;
-  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
   return m;
 }
 
@@ -80,12 +80,12 @@ export interface UpkeepInput {
 /** Logs upkeep done on a machine (steward, admin), audited in the same transaction. */
 export async function logUpkeep(actorId: string, machineId: string, input: UpkeepInput, now = new Date()): Promise<UpkeepEntry> {
   const at = input.performedAt ?? now;
-  if (at.getTime() > now.getTime() + 5 * 60_000) throw new HttpError(422, 'invalid', 'Log upkeep when it is done, not ahead of time.', { performedAt: 'Use a time that has passed.' });
+  if (at.getTime() > now.getTime() + 5 * 60_000) throw new DomainError('invalid', 'invalid', 'Log upkeep when it is done, not ahead of time.', { performedAt: 'Use a time that has passed.' });
   if (input.kind !== 'tube_replacement' && (input.tubeModel || input.tubeRatedHours)) {
-    throw new HttpError(422, 'invalid', 'Tube type and rated life belong to a tube replacement.', { tubeModel: 'Only for a tube replacement.' });
+    throw new DomainError('invalid', 'invalid', 'Tube type and rated life belong to a tube replacement.', { tubeModel: 'Only for a tube replacement.' });
   }
   if (input.kind === 'tube_replacement' && !input.tubeRatedHours) {
-    throw new HttpError(422, 'invalid', 'Record the new tube\'s rated life (hours, from its data sheet).', { tubeRatedHours: 'Enter the rated life in hours.' });
+    throw new DomainError('invalid', 'invalid', 'Record the new tube\'s rated life (hours, from its data sheet).', { tubeRatedHours: 'Enter the rated life in hours.' });
   }
   return transaction(async (trx) => {
     const m = await machineRow(machineId, trx);

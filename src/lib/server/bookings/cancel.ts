@@ -2,7 +2,7 @@
 import type { Knex } from 'knex';
 import { transaction } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { getRules } from '../booking-rules';
 import { queueMail } from '../mail';
 import { env } from '../env';
@@ -26,11 +26,11 @@ export async function cancelBooking(actor: Actor, id: string, now = new Date()):
 async function cancelBookingRow(actor: Actor, id: string, now: Date): Promise<Booking> {
   return transaction(async (trx) => {
     const r = (await trx('bookings').where({ id }).forUpdate().first()) as Row | undefined;
-    if (!r) throw new HttpError(404, 'not_found', 'No such booking.');
+    if (!r) throw new DomainError('not_found', 'not_found', 'No such booking.');
     const mine = r.person_id === actor.id;
-    if (!mine && !hasAnyRole(actor.roles, ['steward', 'admin'])) throw new HttpError(404, 'not_found', 'No such booking.');
-    if (r.state !== 'reserved') throw new HttpError(409, 'not_cancellable', `This booking is ${r.state} and cannot be cancelled.`);
-    if (r.ends_at <= now) throw new HttpError(409, 'not_cancellable', 'This booking has ended.');
+    if (!mine && !hasAnyRole(actor.roles, ['steward', 'admin'])) throw new DomainError('not_found', 'not_found', 'No such booking.');
+    if (r.state !== 'reserved') throw new DomainError('conflict', 'not_cancellable', `This booking is ${r.state} and cannot be cancelled.`);
+    if (r.ends_at <= now) throw new DomainError('conflict', 'not_cancellable', 'This booking has ended.');
     const rules = await getRules(r.machine_id, trx);
     const late = r.kind !== 'hold' && isLateCancel(r.starts_at, now, rules);
     const [u] = await trx('bookings')

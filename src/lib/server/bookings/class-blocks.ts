@@ -2,7 +2,7 @@
 import type { Knex } from 'knex';
 import { transaction } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { canOperate } from '../clearances/state';
 import { checkRequest, occupiedUntil } from '../../availability';
 import type { Actor, Booking, MachineRow, Row } from './records';
@@ -32,7 +32,7 @@ async function placeClassTime(trx: Knex.Transaction, actorId: string, input: Cla
   if (beforeRules) await beforeRules(machine);
   const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
   const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'class' }, { now, ...ctx });
-  if (broken) throw new HttpError(422, broken.code, broken.message);
+  if (broken) throw new DomainError('invalid', broken.code, broken.message);
   const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
   await assertFree(trx, machine.id, input.startsAt, until);
   const booking = await insertBooking(trx, {
@@ -54,14 +54,14 @@ export async function createClassBlock(actor: Actor, input: ClassBlockInput, now
     let students: Student[] = [];
     const { booking, machine, ctx } = await placeClassTime(trx, actor.id, input, now, async (machine) => {
       const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
-      if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+      if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
       const emails = [...new Set(input.studentEmails.map((e) => e.toLowerCase()))];
       students = emails.length
         ? ((await trx('people').whereRaw('lower(email) = ANY(?)', [emails]).where({ active: true }).select('id', 'name', 'email')) as Student[])
         : [];
       const missing = emails.filter((e) => !students.some((s) => s.email.toLowerCase() === e));
       if (missing.length) {
-        throw new HttpError(422, 'invalid', 'Some students have no account.', { studentEmails: `No active account for: ${missing.join(', ')}` });
+        throw new DomainError('invalid', 'invalid', 'Some students have no account.', { studentEmails: `No active account for: ${missing.join(', ')}` });
       }
     });
     if (students.length) await trx('class_block_students').insert(students.map((s) => ({ booking_id: booking.id, person_id: s.id })));

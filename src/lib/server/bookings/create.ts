@@ -1,7 +1,7 @@
 /** Creating a personal booking: the gate, the rules, the quota, the declared materials, the insert, the e-mail. */
 import { retryOnConflict, transaction } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { canOperate } from '../clearances/state';
 import { checkDeclaredMaterials } from '../materials';
 import { recordPaymentIntent } from '../payment-intents';
@@ -27,17 +27,17 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
     const machine = await lockMachine(trx, input.machineId, actor.id);
     if (machine.status === 'out of service') throw outOfService(machine);
     const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
-    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+    if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
 
     const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
     const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'personal' }, { now, ...ctx });
-    if (broken) throw new HttpError(422, broken.code, broken.message);
+    if (broken) throw new DomainError('invalid', broken.code, broken.message);
 
     const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
     const use = await clashAndUse(trx, actor.id, machine.id, input.startsAt, until, ctx.timeZone);
     if (use.clash) throw slotTaken();
     const over = checkQuota(use.usedMinutes, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[use.tier]);
-    if (over) throw new HttpError(422, over.code, over.message);
+    if (over) throw new DomainError('invalid', over.code, over.message);
 
     // materials check: every declared material must be allowed on this machine, mode and thickness
     if (input.materials.length) await checkDeclaredMaterials(machine.id, input.materials, trx);

@@ -5,7 +5,7 @@
  */
 import type { Knex } from 'knex';
 import { db, pgCode, PG } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { getRules, listClosures } from '../booking-rules';
 import type { Tier } from '../../vocabulary';
 import { localWeek } from '../../availability';
@@ -20,14 +20,14 @@ export async function lockMachine(trx: Knex.Transaction, machineId: string, pers
   const columns: (string | Knex.Raw)[] = ['id', 'name', 'code', 'status'];
   if (personId) columns.push(trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock`, [personId]));
   const m = (await trx('machines').where({ id: machineId }).whereNull('retired_at').forShare().first(...columns)) as MachineRow | undefined;
-  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
   return { id: m.id, name: m.name, code: m.code, status: m.status };
 }
 
 const PERSON_LOCK = "hashtextextended('bookings.person:' || ?, 0)";
 
-export function outOfService(m: MachineRow): HttpError {
-  return new HttpError(409, 'machine_out_of_service', `${m.name} is out of service and takes no bookings until a steward puts it back in service.`);
+export function outOfService(m: MachineRow): DomainError {
+  return new DomainError('conflict', 'machine_out_of_service', `${m.name} is out of service and takes no bookings until a steward puts it back in service.`);
 }
 
 /** Serialises quota checks of one person: concurrent bookings by the same person run one after another. */
@@ -45,8 +45,8 @@ export async function assertFree(trx: Conn, machineId: string, startsAt: Date, u
   if (clash) throw slotTaken();
 }
 
-export function slotTaken(): HttpError {
-  return new HttpError(409, 'slot_taken', 'Someone else has that time (or its cool-down) on this machine. Choose another free time.');
+export function slotTaken(): DomainError {
+  return new DomainError('conflict', 'slot_taken', 'Someone else has that time (or its cool-down) on this machine. Choose another free time.');
 }
 
 /** Minutes the person has booked on the machine in the site's week containing `at`. */

@@ -3,7 +3,7 @@ import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import { transaction } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { canOperate } from '../clearances/state';
 import { getRules, getTier } from '../booking-rules';
 import { queueMail } from '../mail';
@@ -17,15 +17,15 @@ export async function joinWaitlist(actor: Actor, input: { machineId: string; sta
   return transaction(async (trx) => {
     const machine = await lockMachine(trx, input.machineId);
     const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
-    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+    if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
     const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
     const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'personal' }, { now, ...ctx });
-    if (broken) throw new HttpError(422, broken.code, broken.message);
+    if (broken) throw new DomainError('invalid', broken.code, broken.message);
     const dup = await trx('waitlist_entries')
       .where({ machine_id: machine.id, person_id: actor.id, starts_at: input.startsAt, ends_at: input.endsAt })
       .whereIn('state', ['waiting', 'offered'])
       .first('id');
-    if (dup) throw new HttpError(409, 'already_waiting', 'You are already on the waitlist for that time.');
+    if (dup) throw new DomainError('conflict', 'already_waiting', 'You are already on the waitlist for that time.');
     const [r] = await trx('waitlist_entries')
       .insert({ machine_id: machine.id, person_id: actor.id, starts_at: input.startsAt, ends_at: input.endsAt })
       .returning('*');
@@ -67,7 +67,7 @@ export async function offerFreedTime(trx: Knex.Transaction, machineId: string, f
         hold_expires_at: new Date(now.getTime() + HOLD_MINUTES * 60_000),
       });
     } catch (err) {
-      if (err instanceof HttpError && err.code === 'slot_taken') continue;
+      if (err instanceof DomainError && err.code === 'slot_taken') continue;
       throw err;
     }
     const token = crypto.randomBytes(24).toString('base64url');
@@ -90,22 +90,22 @@ export async function offerFreedTime(trx: Knex.Transaction, machineId: string, f
 export async function claimWaitlist(actor: Actor, token: string, now = new Date()): Promise<Booking> {
   return transaction(async (trx) => {
     const e = await trx('waitlist_entries').where({ claim_token_hash: hashToken(token) }).forUpdate().first();
-    if (!e || e.person_id !== actor.id) throw new HttpError(404, 'not_found', 'This claim link is not valid for you.');
-    if (e.state !== 'offered') throw new HttpError(409, 'claim_expired', 'This offer has expired or was already used.');
+    if (!e || e.person_id !== actor.id) throw new DomainError('not_found', 'not_found', 'This claim link is not valid for you.');
+    if (e.state !== 'offered') throw new DomainError('conflict', 'claim_expired', 'This offer has expired or was already used.');
     const hold = (await trx('bookings').where({ id: e.hold_booking_id }).forUpdate().first()) as Row | undefined;
     if (!hold || hold.state !== 'reserved' || hold.kind !== 'hold' || (hold.hold_expires_at && hold.hold_expires_at < now)) {
-      throw new HttpError(409, 'claim_expired', 'The 15 minutes to claim this time have passed.');
+      throw new DomainError('conflict', 'claim_expired', 'The 15 minutes to claim this time have passed.');
     }
     const machine = await lockMachine(trx, e.machine_id);
     if (machine.status === 'out of service') throw outOfService(machine);
     const verdict = await canOperate(actor.id, machine.id, hold.starts_at, trx);
-    if (!verdict.ok) throw new HttpError(403, 'clearance_required', verdict.message);
+    if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
     const settings = await siteSettings(trx);
     await lockPerson(trx, actor.id);
     const rules = await getRules(machine.id, trx);
     const used = await weeklyMinutes(trx, actor.id, machine.id, hold.starts_at, settings.timeZone, hold.id);
     const over = checkQuota(used, minutesBetween(hold.starts_at, hold.ends_at), rules.quotas[await getTier(actor.id, trx)]);
-    if (over) throw new HttpError(422, over.code, over.message);
+    if (over) throw new DomainError('invalid', over.code, over.message);
     const [u] = await trx('bookings').where({ id: hold.id }).update({ kind: 'personal', hold_expires_at: null, updated_at: trx.fn.now() }).returning('*');
     await trx('waitlist_entries').where({ id: e.id }).update({ state: 'claimed' });
     const booking = toBooking(u as Row);

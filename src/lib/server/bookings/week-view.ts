@@ -1,6 +1,6 @@
 /** The Book screen's reads: the week feed of bookings, closures and open hours, free ranges, my bookings, now and next. */
 import { db } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { getRulesOf, listClosures } from '../booking-rules';
 import { type MachineRules } from '../../availability';
 import type { Tier } from '../../vocabulary';
@@ -59,7 +59,7 @@ export async function calendarFeed(viewer: Actor, filter: { machineId?: string; 
   const mq = db()('machines').whereNull('retired_at').orderBy('name');
   if (filter.machineId) mq.where({ id: filter.machineId });
   const machines = (await mq.select('id', 'name', 'status')) as { id: string; name: string; status: string }[];
-  if (filter.machineId && !machines.length) throw new HttpError(404, 'not_found', 'No such machine.');
+  if (filter.machineId && !machines.length) throw new DomainError('not_found', 'not_found', 'No such machine.');
   const ids = machines.map((m) => m.id);
   const rows = await db()('bookings as b')
     .join('people as p', 'p.id', 'b.person_id')
@@ -141,7 +141,7 @@ async function cancelTermsOf(rows: Row[], tier: Tier): Promise<Map<string, Cance
 /** Free ranges of a machine in [from, to), by the same rules createBooking applies. */
 export async function machineAvailability(machineId: string, from: Date, to: Date, now = new Date()) {
   const m = await db()('machines').where({ id: machineId }).whereNull('retired_at').first('id', 'status');
-  if (!m) throw new HttpError(404, 'not_found', 'No such machine.');
+  if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
   const ctx = await ruleContext(machineId, from, to, db());
   const occupied = (await db()('bookings')
     .where({ machine_id: machineId })

@@ -3,7 +3,7 @@
  * the people entity and the bookings workflow so that neither imports the other.
  */
 import { transaction } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { applyActive, mustGetPerson, type Person } from '../people';
 import { cancelFutureBookingsOf } from '../bookings/cancel';
 
@@ -14,7 +14,7 @@ import { cancelFutureBookingsOf } from '../bookings/cancel';
  */
 export async function deactivatePerson(actorId: string, personId: string): Promise<Person> {
   if (actorId === personId) {
-    throw new HttpError(409, 'cannot_deactivate_self', 'You cannot deactivate your own account; ask another admin to do it.');
+    throw new DomainError('conflict', 'cannot_deactivate_self', 'You cannot deactivate your own account; ask another admin to do it.');
   }
   return transaction(async (trx) => {
     const changed = await applyActive(trx, actorId, personId, false);

@@ -4,7 +4,7 @@
  */
 import { transaction } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { getMachine, lockMachine, type Machine } from '../machines';
 import { cancelFutureBookingsOnMachine } from '../bookings/cancel';
 import { closeFaultsOfRetiredMachine } from '../faults/triage';
@@ -20,10 +20,10 @@ export async function retireMachine(actorId: string, id: string, reason: string,
   const { machine, cancelled, closed } = await transaction(async (trx) => {
     // FOR UPDATE: a booking being made holds the machine row FOR SHARE, so it commits first (and is cancelled here) or sees the retirement
     const row = await lockMachine(trx, id, 'update');
-    if (!row) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
-    if (row.retiredAt) throw new HttpError(409, 'machine_retired', `${row.name} is already retired.`);
+    if (!row) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
+    if (row.retiredAt) throw new DomainError('conflict', 'machine_retired', `${row.name} is already retired.`);
     const open = await trx('machine_sessions').where({ machine_id: id }).whereNull('checked_out_at').first('id');
-    if (open) throw new HttpError(409, 'machine_in_use', `Someone is checked in on ${row.name}; retire it after they check out (or a steward closes the session).`);
+    if (open) throw new DomainError('conflict', 'machine_in_use', `Someone is checked in on ${row.name}; retire it after they check out (or a steward closes the session).`);
     await trx('machines').where({ id }).update({ retired_at: now, updated_at: trx.fn.now() });
     const cancelled = await cancelFutureBookingsOnMachine(trx, actorId, { id, name: row.name }, reason, now);
     const closed = await closeFaultsOfRetiredMachine(trx, actorId, { id, name: row.name }, reason, now);

@@ -1,6 +1,6 @@
 /** Machine groups (what a clearance is for) and the member's own clearances. */
 import { db, transaction, type Conn } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { recordAudit } from '../audit';
 import { effectiveState, nextStep, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
 import { type ClearanceRow, formatLocalDate, type MachineGroup } from './state';
@@ -33,7 +33,7 @@ export async function getGroup(id: string, q: Conn = db()): Promise<MachineGroup
 export async function updateGroup(actorId: string, id: string, patch: { validityDays?: number; refresher?: RefresherRule; checklist?: string[] }): Promise<MachineGroup> {
   return transaction(async (trx) => {
     const before = await trx('machine_groups').where({ id }).forUpdate().first();
-    if (!before) throw new HttpError(404, 'not_found', 'No such machine group.');
+    if (!before) throw new DomainError('not_found', 'not_found', 'No such machine group.');
     const update: Record<string, unknown> = { updated_at: trx.fn.now() };
     if (patch.validityDays !== undefined) update.validity_days = patch.validityDays;
     if (patch.refresher !== undefined) update.refresher = patch.refresher;

@@ -1,7 +1,7 @@
 /** Clearance transitions: quiz passed, signed off, suspended, reinstated — each in the caller's transaction, audited. */
 import type { Knex } from 'knex';
 import { transaction, type Conn } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { env } from '../env';
@@ -19,19 +19,19 @@ async function lockClearance(trx: Knex.Transaction, personId: string, groupId: s
 
 async function groupRow(trx: Conn, groupId: string) {
   const g = await trx('machine_groups').where({ id: groupId }).first();
-  if (!g) throw new HttpError(404, 'not_found', 'No such machine group.');
+  if (!g) throw new DomainError('not_found', 'not_found', 'No such machine group.');
   return g as { id: string; name: string; validity_days: number; refresher: RefresherRule; checklist: string[] };
 }
 
 async function personRow(trx: Conn, personId: string) {
   const p = await trx('people').where({ id: personId }).first('id', 'email', 'name', 'active');
-  if (!p) throw new HttpError(404, 'not_found', 'No such person.');
+  if (!p) throw new DomainError('not_found', 'not_found', 'No such person.');
   return p as { id: string; email: string; name: string; active: boolean };
 }
 
 export function apply(from: ClearanceState, event: ClearanceEvent, ctx: Parameters<typeof transition>[2]): ClearanceState {
   const r = transition(from, event, ctx);
-  if (!r.ok) throw new HttpError(409, 'transition_refused', r.reason);
+  if (!r.ok) throw new DomainError('conflict', 'transition_refused', r.reason);
   return r.to;
 }
 
@@ -94,14 +94,14 @@ export async function signOff(instructorId: string, input: SignOffInput, at = ne
 /** The same sign-off on the caller's transaction (the induction roster marks attendance and signs off in one). */
 export async function signOffIn(trx: Knex.Transaction, instructorId: string, input: SignOffInput, at = new Date()) {
   if (instructorId === input.personId) {
-    throw new HttpError(403, 'self_signoff', 'You cannot sign off your own practical induction; another instructor must.');
+    throw new DomainError('forbidden', 'self_signoff', 'You cannot sign off your own practical induction; another instructor must.');
   }
   {
     const g = await groupRow(trx, input.groupId);
     const person = await personRow(trx, input.personId);
     const missing = g.checklist.filter((item) => !input.checklist.some((c) => c.item === item && c.done));
     if (missing.length) {
-      throw new HttpError(422, 'checklist_incomplete', `Every item of the practical checklist must be shown before sign-off. Not yet: ${missing.join('; ')}.`, { checklist: `Not ticked: ${missing.join('; ')}` });
+      throw new DomainError('invalid', 'checklist_incomplete', `Every item of the practical checklist must be shown before sign-off. Not yet: ${missing.join('; ')}.`, { checklist: `Not ticked: ${missing.join('; ')}` });
     }
     const row = await lockClearance(trx, input.personId, input.groupId);
     const from = effectiveState(row.state, row.expires_at, at);
@@ -142,7 +142,7 @@ export async function signOffIn(trx: Knex.Transaction, instructorId: string, inp
 export async function suspend(instructorId: string, clearanceId: string, reason: string, at = new Date()) {
   return transaction(async (trx) => {
     const row = (await trx('clearances').where({ id: clearanceId }).forUpdate().first()) as ClearanceRow | undefined;
-    if (!row) throw new HttpError(404, 'not_found', 'No such clearance.');
+    if (!row) throw new DomainError('not_found', 'not_found', 'No such clearance.');
     const g = await groupRow(trx, row.group_id);
     const from = effectiveState(row.state, row.expires_at, at);
     apply(from, { type: 'suspended' }, { refresher: g.refresher });
@@ -169,7 +169,7 @@ export async function suspend(instructorId: string, clearanceId: string, reason:
 export async function reinstate(instructorId: string, clearanceId: string, reason: string, at = new Date()) {
   return transaction(async (trx) => {
     const row = (await trx('clearances').where({ id: clearanceId }).forUpdate().first()) as ClearanceRow | undefined;
-    if (!row) throw new HttpError(404, 'not_found', 'No such clearance.');
+    if (!row) throw new DomainError('not_found', 'not_found', 'No such clearance.');
     const g = await groupRow(trx, row.group_id);
     const to = apply(row.state, { type: 'reinstated' }, {
       refresher: g.refresher, suspendedFrom: row.suspended_from, expired: Boolean(row.expires_at && row.expires_at.getTime() <= at.getTime()),

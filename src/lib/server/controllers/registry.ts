@@ -6,7 +6,7 @@
 import { createHash, randomBytes } from 'node:crypto';
 import { db, transaction, type Conn } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { CONTROLLER_OFFLINE_MINUTES } from '../../controller-rules';
 
 export interface Controller {
@@ -63,8 +63,8 @@ export async function listControllers(now = new Date()): Promise<ControllerListR
 export async function createController(actorId: string, input: { machineId: string; name: string }): Promise<{ id: string; token: string }> {
   return transaction(async (trx) => {
     const m = await trx('machines').where({ id: input.machineId }).first('id', 'name', 'retired_at');
-    if (!m) throw new HttpError(422, 'invalid', 'Choose a machine.', { machineId: 'No such machine.' });
-    if (m.retired_at) throw new HttpError(409, 'machine_retired', `${m.name} is retired.`);
+    if (!m) throw new DomainError('invalid', 'invalid', 'Choose a machine.', { machineId: 'No such machine.' });
+    if (m.retired_at) throw new DomainError('conflict', 'machine_retired', `${m.name} is retired.`);
     const { token, hash } = newToken();
     const [row] = (await trx('controllers').insert({ machine_id: m.id, name: input.name, token_hash: hash, created_by: actorId }).returning('*')) as Row[];
     await recordAudit(trx, { actorId, kind: 'controller.registered', subjectType: 'controller', subjectId: row!.id, summary: `Registered controller “${input.name}” on ${m.name}`, after: { machineId: m.id, name: input.name } });
@@ -76,8 +76,8 @@ export async function createController(actorId: string, input: { machineId: stri
 export async function rotateToken(actorId: string, id: string): Promise<{ id: string; token: string }> {
   return transaction(async (trx) => {
     const r = (await trx('controllers').where({ id }).forUpdate().first()) as Row | undefined;
-    if (!r) throw new HttpError(404, 'not_found', 'No such controller.');
-    if (r.revoked_at) throw new HttpError(409, 'controller_revoked', 'This controller is revoked; register a new one.');
+    if (!r) throw new DomainError('not_found', 'not_found', 'No such controller.');
+    if (r.revoked_at) throw new DomainError('conflict', 'controller_revoked', 'This controller is revoked; register a new one.');
     const { token, hash } = newToken();
     await trx('controllers').where({ id }).update({ token_hash: hash, token_rotated_at: trx.fn.now(), last_state: null });
     await recordAudit(trx, { actorId, kind: 'controller.token_rotated', subjectType: 'controller', subjectId: id, summary: `New device token for controller “${r.name}”` });
@@ -88,7 +88,7 @@ export async function rotateToken(actorId: string, id: string): Promise<{ id: st
 export async function revokeController(actorId: string, id: string): Promise<Controller> {
   return transaction(async (trx) => {
     const r = (await trx('controllers').where({ id }).forUpdate().first()) as Row | undefined;
-    if (!r) throw new HttpError(404, 'not_found', 'No such controller.');
+    if (!r) throw new DomainError('not_found', 'not_found', 'No such controller.');
     if (r.revoked_at) return toController(r);
     const [u] = (await trx('controllers').where({ id }).update({ revoked_at: trx.fn.now() }).returning('*')) as Row[];
     await recordAudit(trx, { actorId, kind: 'controller.revoked', subjectType: 'controller', subjectId: id, summary: `Revoked controller “${r.name}”` });
@@ -119,12 +119,12 @@ export async function setWalkUpsAllowed(actorId: string, allowed: boolean): Prom
 /** The controller holding `authorization` (a `Bearer <token>` header), marked as seen now; 401 otherwise. */
 export async function authenticate(authorization: string | null): Promise<Controller> {
   const m = /^Bearer\s+(\S+)$/i.exec(authorization ?? '');
-  if (!m) throw new HttpError(401, 'token_required', 'Send the device token: Authorization: Bearer <token>.', undefined, { 'www-authenticate': 'Bearer' });
+  if (!m) throw new DomainError('unauthenticated', 'token_required', 'Send the device token: Authorization: Bearer <token>.', undefined, { challenge: 'Bearer' });
   const [row] = (await db()('controllers')
     .where({ token_hash: sha256(m[1]!) })
     .whereNull('revoked_at')
     .update({ last_seen_at: db().fn.now() })
     .returning('*')) as Row[];
-  if (!row) throw new HttpError(401, 'invalid_token', 'This device token is not valid (wrong, rotated or revoked).', undefined, { 'www-authenticate': 'Bearer error="invalid_token"' });
+  if (!row) throw new DomainError('unauthenticated', 'invalid_token', 'This device token is not valid (wrong, rotated or revoked).', undefined, { challenge: 'Bearer error="invalid_token"' });
   return toController(row);
 }

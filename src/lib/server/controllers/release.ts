@@ -1,7 +1,7 @@
 /** The device's heartbeat (measured beam seconds) and release (badge out or time up: the person is checked out). */
 import { db } from '../db';
 import { recordAudit } from '../audit';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { checkOut, getSession, type MachineSession } from '../machine-sessions';
 import { getCharge, type Charge } from '../payments/charge-records';
 import { billableMinutes } from '../../controller-rules';
@@ -14,7 +14,7 @@ import type { Conn } from '../db';
 
 async function ownSession(ctrl: Controller, sessionId: string, trx: Conn = db()) {
   const s = await trx('machine_sessions').where({ id: sessionId }).first('id', 'machine_id', 'person_id', 'booking_id', 'checked_out_at', 'measured_beam_seconds');
-  if (!s || s.machine_id !== ctrl.machineId) throw new HttpError(404, 'not_found', 'No such session on this controller\'s machine.');
+  if (!s || s.machine_id !== ctrl.machineId) throw new DomainError('not_found', 'not_found', 'No such session on this controller\'s machine.');
   return s as { id: string; machine_id: string; person_id: string; booking_id: string | null; checked_out_at: Date | null; measured_beam_seconds: number | null };
 }
 
@@ -59,7 +59,7 @@ export async function release(ctrl: Controller, input: { sessionId: string; beam
     const c = await db()('charges').where({ session_id: s.id }).first('id');
     return releaseAnswer(closed, s.measured_beam_seconds, c ? await getCharge(c.id) : null, c ? null : 'Not charged yet.');
   }
-  if (!s.booking_id) throw new HttpError(409, 'no_booking', 'This session has no booking; a steward closes it.');
+  if (!s.booking_id) throw new DomainError('conflict', 'no_booking', 'This session has no booking; a steward closes it.');
   await recordBeamSeconds(s.id, input.beamSeconds);
   const result = await checkOut({ id: s.person_id, roles: [] }, s.booking_id, { jobTimerMinutes: null, materials: [], checkout: { leftCleanAndClear: true } }, now);
   const measured = (await db()('machine_sessions').where({ id: s.id }).first('measured_beam_seconds')).measured_beam_seconds as number | null;

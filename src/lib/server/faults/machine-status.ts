@@ -12,7 +12,7 @@ import { recordAudit } from '../audit';
 import { findMachine, lockMachineForChange, openFaultCounts, type MachineRow } from './records';
 import { transaction } from '../db';
 import { env } from '../env';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { queueMail } from '../mail';
 import { recordPaymentIntent } from '../payment-intents';
 import { releaseHoldsAfterCancel } from '../payments/intents';
@@ -145,10 +145,10 @@ export interface StatusInput {
  */
 export async function setMachineStatus(actor: Actor, machineIdOrCode: string, input: StatusInput, now = new Date()): Promise<{ machineId: string; status: MachineStatus; bumpedBookings: number }> {
   const found = await findMachine(machineIdOrCode);
-  if (!found) throw new HttpError(404, 'machine_not_found', 'No machine has that id or code.');
+  if (!found) throw new DomainError('not_found', 'not_found', 'No machine has that id or code.');
   const result = await transaction(async (trx) => {
     const machine = await lockMachineForChange(trx, found.id);
-    if (machine.status === input.status) throw new HttpError(409, 'status_unchanged', `${machine.name} is already ${input.status}.`);
+    if (machine.status === input.status) throw new DomainError('conflict', 'status_unchanged', `${machine.name} is already ${input.status}.`);
     if (input.status !== 'out of service' && machine.status === 'out of service') {
       const r = await returnToService(trx, actor, machine, { reason: input.reason, checklist: input.checklist ?? {}, to: input.status }, now);
       return { machineId: machine.id, status: machine.status, bumped: r.bumped };
@@ -176,13 +176,13 @@ export async function returnToService(
   const open = await openFaultCounts(trx, machine.id);
   if (open.stop.length) {
     const names = open.stop.map((f) => `“${f.summary}”`).join(', ');
-    throw new HttpError(409, 'open_stop_fault',
+    throw new DomainError('conflict', 'open_stop_fault',
       `${machine.name} has ${open.stop.length === 1 ? 'an open stop fault' : `${open.stop.length} open stop faults`}: ${names}. Resolve ${open.stop.length === 1 ? 'it' : 'them'} first, or use “Resolve and return to service” on the last one.`,
       { faults: open.stop.map((f) => f.id).join(',') });
   }
   const missing = (Object.keys(RETURN_CHECKLIST) as (keyof ReturnChecklist)[]).filter((k) => input.checklist[k] !== true);
   if (missing.length) {
-    throw new HttpError(422, 'checklist_incomplete', 'Confirm every check before the machine goes back into service.',
+    throw new DomainError('invalid', 'checklist_incomplete', 'Confirm every check before the machine goes back into service.',
       Object.fromEntries(missing.map((k) => [`checklist.${k}`, `Confirm: ${RETURN_CHECKLIST[k]}.`])));
   }
   const degradedLeft = await trx('faults').where({ machine_id: machine.id, severity: 'degraded' }).whereNot('status', 'resolved').first('id');

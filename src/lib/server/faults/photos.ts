@@ -1,6 +1,6 @@
 /** The photos of a fault report: checked by content, re-encoded without their metadata. */
 import sharp from 'sharp';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { checkUpload } from '../file-types';
 
 /** At most this many photos per report, each at most this many bytes before re-encoding. */
@@ -21,7 +21,7 @@ export interface PhotoUpload {
  */
 export async function preparePhotos(photos: readonly PhotoUpload[]): Promise<{ bytes: Buffer; width: number; height: number }[]> {
   if (photos.length > MAX_PHOTOS) {
-    throw new HttpError(422, 'too_many_photos', `Attach at most ${MAX_PHOTOS} photos.`, { photos: `At most ${MAX_PHOTOS} photos.` });
+    throw new DomainError('invalid', 'too_many_photos', `Attach at most ${MAX_PHOTOS} photos.`, { photos: `At most ${MAX_PHOTOS} photos.` });
   }
   const out = [];
   for (const [i, p] of photos.entries()) {
@@ -34,7 +34,7 @@ export async function preparePhotos(photos: readonly PhotoUpload[]): Promise<{ b
         .toBuffer({ resolveWithObject: true });
       out.push({ bytes: data, width: info.width, height: info.height });
     } catch {
-      throw new HttpError(415, 'file_type_refused', `Photo ${i + 1} could not be read as an image.`, { photos: `Photo ${i + 1} is not a readable image.` });
+      throw new DomainError('unsupported_type', 'file_type_refused', `Photo ${i + 1} could not be read as an image.`, { photos: `Photo ${i + 1} is not a readable image.` });
     }
   }
   return out;
@@ -43,10 +43,10 @@ export async function preparePhotos(photos: readonly PhotoUpload[]): Promise<{ b
 /** The photos of a posted report form: at most MAX_PHOTOS (422 too_many_photos), each at most PHOTO_MAX_BYTES (413). */
 export async function photoUploads(files: readonly File[]): Promise<PhotoUpload[]> {
   const maxMb = PHOTO_MAX_BYTES / 1024 / 1024;
-  if (files.length > MAX_PHOTOS) throw new HttpError(422, 'too_many_photos', `Attach at most ${MAX_PHOTOS} photos.`, { photos: `At most ${MAX_PHOTOS} photos.` });
+  if (files.length > MAX_PHOTOS) throw new DomainError('invalid', 'too_many_photos', `Attach at most ${MAX_PHOTOS} photos.`, { photos: `At most ${MAX_PHOTOS} photos.` });
   const photos: PhotoUpload[] = [];
   for (const f of files) {
-    if (f.size > PHOTO_MAX_BYTES) throw new HttpError(413, 'file_too_large', `Each photo may be at most ${maxMb} MB.`, { photos: `${f.name} is larger than ${maxMb} MB.` });
+    if (f.size > PHOTO_MAX_BYTES) throw new DomainError('too_large', 'file_too_large', `Each photo may be at most ${maxMb} MB.`, { photos: `${f.name} is larger than ${maxMb} MB.` });
     photos.push({ bytes: new Uint8Array(await f.arrayBuffer()) });
   }
   return photos;

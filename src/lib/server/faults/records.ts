@@ -4,7 +4,7 @@
  */
 import type { Knex } from 'knex';
 import { db, type Conn } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { getObject } from '../storage';
 import { lockMachine } from '../machines';
 import { hasAnyRole, type Actor } from '../../roles';
@@ -60,7 +60,7 @@ export async function findMachine(idOrCode: string, trx: Conn = db()): Promise<M
 /** The machine, locked FOR UPDATE (machines.ts lockMachine) before its status changes. */
 export async function lockMachineForChange(trx: Knex.Transaction, machineId: string): Promise<MachineRow> {
   const m = await lockMachine(trx, machineId, 'update');
-  if (!m) throw new HttpError(404, 'machine_not_found', 'No machine has that id or code.');
+  if (!m) throw new DomainError('not_found', 'not_found', 'No machine has that id or code.');
   return { id: m.id, code: m.code, name: m.name, status: m.status };
 }
 
@@ -140,9 +140,9 @@ export async function faultPhoto(viewer: Actor, faultId: string, n: number): Pro
   const f = await getFault(faultId);
   const allowed = f && (f.reportedBy === viewer.id || hasAnyRole(viewer.roles, ['steward', 'admin']));
   const photo = allowed ? f.photos[n - 1] : undefined;
-  if (!photo) throw new HttpError(404, 'not_found', 'No such photo.');
+  if (!photo) throw new DomainError('not_found', 'not_found', 'No such photo.');
   const obj = await getObject(photo.key);
-  if (!obj) throw new HttpError(404, 'not_found', 'No such photo.');
+  if (!obj) throw new DomainError('not_found', 'not_found', 'No such photo.');
   return obj;
 }
 

@@ -4,7 +4,7 @@ import type { Knex } from 'knex';
 import { recordAudit } from '../audit';
 import { db, transaction } from '../db';
 import { env } from '../env';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { queueMail } from '../mail';
 import { releaseHoldsAfterCancel } from '../payments/intents';
 import { activeWithRole } from '../people';
@@ -37,7 +37,7 @@ export interface ReportResult {
 async function byClientId(actor: Actor, clientId: string): Promise<ReportResult | null> {
   const row = await db()('faults').where({ client_id: clientId }).first('id', 'reported_by');
   if (!row) return null;
-  if (row.reported_by !== actor.id) throw new HttpError(409, 'client_id_taken', 'That report id belongs to another report. Send the report again.');
+  if (row.reported_by !== actor.id) throw new DomainError('conflict', 'client_id_taken', 'That report id belongs to another report. Send the report again.');
   const fault = (await getFault(row.id))!;
   return { fault, machineStatus: fault.machineStatus, bumpedBookings: 0, statusBefore: fault.machineStatus, duplicate: true };
 }
@@ -47,9 +47,9 @@ async function byClientId(actor: Actor, clientId: string): Promise<ReportResult 
  * With a `clientId` already filed by the same person, answers that fault and writes and sends nothing.
  */
 export async function reportFault(actor: Actor, machineIdOrCode: string, input: FaultInput, photos: readonly PhotoUpload[], now = new Date()): Promise<ReportResult> {
-  if (input.clientId !== undefined && !UUID.test(input.clientId)) throw new HttpError(422, 'invalid', 'The report id is not a UUID.', { clientId: 'A UUID.' });
+  if (input.clientId !== undefined && !UUID.test(input.clientId)) throw new DomainError('invalid', 'invalid', 'The report id is not a UUID.', { clientId: 'A UUID.' });
   const found = await findMachine(machineIdOrCode);
-  if (!found) throw new HttpError(404, 'machine_not_found', 'No machine has that id or code.');
+  if (!found) throw new DomainError('not_found', 'not_found', 'No machine has that id or code.');
   if (input.clientId) {
     const earlier = await byClientId(actor, input.clientId);
     if (earlier) return earlier;

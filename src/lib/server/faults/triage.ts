@@ -2,7 +2,7 @@
 import { recordAudit } from '../audit';
 import { transaction } from '../db';
 import { env } from '../env';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { queueMail } from '../mail';
 import { releaseHoldsAfterCancel } from '../payments/intents';
 import type { FaultSeverity, MachineStatus } from '../../faults-shared';
@@ -21,8 +21,8 @@ export interface TriageInput {
 export async function triageFault(actor: Actor, id: string, input: TriageInput, now = new Date()): Promise<Fault> {
   const bumped = await transaction(async (trx) => {
     const f = await trx('faults').where({ id }).forUpdate().first();
-    if (!f) throw new HttpError(404, 'not_found', 'No such fault.');
-    if (f.status === 'resolved') throw new HttpError(409, 'fault_resolved', 'This fault is resolved; report a new one if the problem is back.');
+    if (!f) throw new DomainError('not_found', 'not_found', 'No such fault.');
+    if (f.status === 'resolved') throw new DomainError('conflict', 'fault_resolved', 'This fault is resolved; report a new one if the problem is back.');
     const severity = input.severity ?? (f.severity as FaultSeverity);
     await trx('faults').where({ id }).update({ status: 'triaged', severity, triaged_at: f.triaged_at ?? now });
     if (input.note) await trx('fault_notes').insert({ fault_id: id, author_id: actor.id, body: input.note, created_at: now });
@@ -51,7 +51,7 @@ export async function triageFault(actor: Actor, id: string, input: TriageInput, 
 export async function addFaultNote(actor: Actor, id: string, body: string, now = new Date()): Promise<Fault> {
   await transaction(async (trx) => {
     const f = await trx('faults').where({ id }).first('id');
-    if (!f) throw new HttpError(404, 'not_found', 'No such fault.');
+    if (!f) throw new DomainError('not_found', 'not_found', 'No such fault.');
     await trx('fault_notes').insert({ fault_id: id, author_id: actor.id, body, created_at: now });
     await recordAudit(trx, { actorId: actor.id, kind: 'fault.noted', subjectType: 'fault', subjectId: id, summary: body.slice(0, 500) });
   });
@@ -83,8 +83,8 @@ export async function resolveFault(actor: Actor, id: string, resolution: string,
   const { outcome, bumped } = await transaction(async (trx) => {
     const f = await trx('faults as f').join('people as p', 'p.id', 'f.reported_by').join('machines as m', 'm.id', 'f.machine_id').where('f.id', id).forUpdate('f')
       .first('f.*', 'p.email', 'p.name as reporter_name', 'm.name as machine_name');
-    if (!f) throw new HttpError(404, 'not_found', 'No such fault.');
-    if (f.status === 'resolved') throw new HttpError(409, 'fault_resolved', 'This fault is already resolved.');
+    if (!f) throw new DomainError('not_found', 'not_found', 'No such fault.');
+    if (f.status === 'resolved') throw new DomainError('conflict', 'fault_resolved', 'This fault is already resolved.');
     const machine = await lockMachineForChange(trx, f.machine_id);
     await trx('faults').where({ id }).update({ status: 'resolved', resolution, resolved_by: actor.id, resolved_at: now, triaged_at: f.triaged_at ?? now });
     await recordAudit(trx, {
@@ -104,7 +104,7 @@ export async function resolveFault(actor: Actor, id: string, resolution: string,
     let bumped: string[] = [];
     let changed = false;
     if (opts.returnToService) {
-      if (machine.status !== 'out of service') throw new HttpError(409, 'status_unchanged', `${machine.name} is not out of service; resolve the fault on its own.`);
+      if (machine.status !== 'out of service') throw new DomainError('conflict', 'status_unchanged', `${machine.name} is not out of service; resolve the fault on its own.`);
       const r = await returnToService(trx, actor, machine, { reason: `Fault resolved: ${resolution}`, checklist: opts.returnToService.checklist }, now);
       bumped = r.bumped;
       changed = true;

@@ -1,6 +1,6 @@
 /** Publishing and cancelling an induction session (instructor), with its class block on the machine. */
 import { transaction } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { releaseClassTime, reserveClassTime } from '../bookings/class-blocks';
@@ -16,13 +16,13 @@ import { getSettings } from '../settings';
 export async function createSession(actorId: string, input: SessionInput, now = new Date()): Promise<SessionView> {
   return transaction(async (trx) => {
     const group = await trx('machine_groups').where({ id: input.groupId }).first('id', 'name');
-    if (!group) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', { groupId: 'No such machine group.' });
-    if (input.startsAt <= now) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', { startsAt: 'Choose a time in the future.' });
+    if (!group) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', { groupId: 'No such machine group.' });
+    if (input.startsAt <= now) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', { startsAt: 'Choose a time in the future.' });
     let machineName: string | null = null;
     if (input.machineId) {
       const m = await trx('machines').where({ id: input.machineId }).whereNull('retired_at').first('id', 'name', 'group_id');
-      if (!m) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', { machineId: 'No such machine.' });
-      if (m.group_id !== group.id) throw new HttpError(422, 'invalid', 'Some fields are not valid; see fields.', { machineId: `${m.name} is not in the ${group.name} group.` });
+      if (!m) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', { machineId: 'No such machine.' });
+      if (m.group_id !== group.id) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', { machineId: `${m.name} is not in the ${group.name} group.` });
       machineName = m.name;
     }
     const [row] = await trx('induction_sessions').insert({
@@ -49,8 +49,8 @@ export async function createSession(actorId: string, input: SessionInput, now = 
 export async function cancelSession(actorId: string, id: string, reason: string, now = new Date()): Promise<SessionView> {
   return transaction(async (trx) => {
     const s = await sessionRow(trx, id, true);
-    if (s.state === 'cancelled') throw new HttpError(409, 'session_cancelled', 'This session is already cancelled.');
-    if (s.starts_at <= now) throw new HttpError(409, 'session_started', 'This session has started; mark attendance on the roster instead.');
+    if (s.state === 'cancelled') throw new DomainError('conflict', 'session_cancelled', 'This session is already cancelled.');
+    if (s.starts_at <= now) throw new DomainError('conflict', 'session_started', 'This session has started; mark attendance on the roster instead.');
     await trx('induction_sessions').where({ id }).update({ state: 'cancelled', cancelled_at: now, updated_at: now });
     if (s.booking_id) await releaseClassTime(trx, actorId, s.booking_id, now);
     const seats = await trx('induction_seats as x').join('people as p', 'p.id', 'x.person_id').where({ 'x.session_id': id, 'x.state': 'booked' }).select('x.id', 'p.email', 'p.name');

@@ -6,7 +6,7 @@
  */
 import { db, type Conn } from '../db';
 import { siteFormat } from '../../format';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { env } from '../env';
 import { placeLabel, type SessionKind } from '../../induction';
 
@@ -75,7 +75,7 @@ export async function listSessions(filter: { groupId?: string; from?: Date; to?:
 export async function sessionRow(q: Conn, id: string, lock = false): Promise<SessionRow> {
   if (lock) await q('induction_sessions').where({ id }).forUpdate().first('id');
   const r = (await sessionQuery(q).where('s.id', id).first()) as SessionRow | undefined;
-  if (!r) throw new HttpError(404, 'not_found', 'No such induction session.');
+  if (!r) throw new DomainError('not_found', 'not_found', 'No such induction session.');
   return r;
 }
 

@@ -1,7 +1,7 @@
 /** The member's view of their sessions, and the instructor's roster: attendance and sign-off. */
 import type { Knex } from 'knex';
 import { db, transaction } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { clearanceOf } from '../clearances/state';
@@ -110,7 +110,7 @@ export async function roster(sessionId: string, now = new Date()): Promise<Roste
 
 async function lockSeat(trx: Knex.Transaction, sessionId: string, personId: string) {
   const seat = await trx('induction_seats').where({ session_id: sessionId, person_id: personId }).whereNot('state', 'cancelled').forUpdate().first('id', 'state', 'signoff_id');
-  if (!seat) throw new HttpError(404, 'not_on_roster', 'This person has no seat at this session.');
+  if (!seat) throw new DomainError('not_found', 'not_on_roster', 'This person has no seat at this session.');
   return seat as { id: string; state: SeatState; signoff_id: string | null };
 }
 
@@ -135,9 +135,9 @@ async function markAbsent(trx: Knex.Transaction, instructorId: string, s: Sessio
 export async function markAttendance(instructorId: string, sessionId: string, personId: string, present: boolean, now = new Date()): Promise<{ seatId: string; state: SeatState }> {
   return transaction(async (trx) => {
     const s = await sessionRow(trx, sessionId, true);
-    if (s.state === 'cancelled') throw new HttpError(409, 'session_cancelled', 'This session was cancelled.');
+    if (s.state === 'cancelled') throw new DomainError('conflict', 'session_cancelled', 'This session was cancelled.');
     const seat = await lockSeat(trx, sessionId, personId);
-    if (seat.signoff_id) throw new HttpError(409, 'already_signed_off', 'This person is already signed off from this session.');
+    if (seat.signoff_id) throw new DomainError('conflict', 'already_signed_off', 'This person is already signed off from this session.');
     const want: SeatState = present ? 'present' : 'absent';
     if (seat.state === want) return { seatId: seat.id, state: want };
     if (present) {
@@ -166,9 +166,9 @@ export interface RosterSignOffInput {
 export async function signOffFromRoster(instructorId: string, sessionId: string, input: RosterSignOffInput, now = new Date()) {
   return transaction(async (trx) => {
     const s = await sessionRow(trx, sessionId, true);
-    if (s.state === 'cancelled') throw new HttpError(409, 'session_cancelled', 'This session was cancelled.');
+    if (s.state === 'cancelled') throw new DomainError('conflict', 'session_cancelled', 'This session was cancelled.');
     const seat = await lockSeat(trx, sessionId, input.personId);
-    if (seat.signoff_id) throw new HttpError(409, 'already_signed_off', 'This person is already signed off from this session.');
+    if (seat.signoff_id) throw new DomainError('conflict', 'already_signed_off', 'This person is already signed off from this session.');
     if (!input.present) {
       if (seat.state !== 'absent') await markAbsent(trx, instructorId, s, seat.id, input.personId, now);
       return { signedOff: false as const, seatId: seat.id, seatState: 'absent' as SeatState };

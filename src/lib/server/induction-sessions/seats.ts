@@ -4,7 +4,7 @@
  */
 import type { Knex } from 'knex';
 import { transaction, type Conn } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { recordAudit } from '../audit';
 import { queueMail } from '../mail';
 import { clearanceOf } from '../clearances/state';
@@ -32,7 +32,7 @@ export function icsAttachment(s: SessionRow, seatId: string, site: { name: strin
 
 export async function personRow(q: Conn, id: string): Promise<{ id: string; email: string; name: string }> {
   const p = await q('people').where({ id, active: true }).first('id', 'email', 'name');
-  if (!p) throw new HttpError(404, 'not_found', 'No such person.');
+  if (!p) throw new DomainError('not_found', 'not_found', 'No such person.');
   return p;
 }
 
@@ -50,8 +50,8 @@ async function refusal(trx: Conn, personId: string, s: SessionRow, now: Date, si
 }
 
 function assertOpen(s: SessionRow, now: Date): void {
-  if (s.state === 'cancelled') throw new HttpError(409, 'session_cancelled', 'This session was cancelled; choose another.');
-  if (s.starts_at <= now) throw new HttpError(409, 'session_started', 'This session has already started; choose a later one.');
+  if (s.state === 'cancelled') throw new DomainError('conflict', 'session_cancelled', 'This session was cancelled; choose another.');
+  if (s.starts_at <= now) throw new DomainError('conflict', 'session_started', 'This session has already started; choose a later one.');
 }
 
 /** Books a seat for `personId`: eligible (403 not_eligible with the reason), not full (409 session_full), one live seat per session. */
@@ -61,12 +61,12 @@ export async function bookSeat(personId: string, sessionId: string, now = new Da
     assertOpen(s, now);
     await trx.raw("SELECT pg_advisory_xact_lock(hashtextextended('induction.person:' || ? || ':' || ?, 0))", [personId, s.group_id]);
     const mine = await trx('induction_seats').where({ session_id: s.id, person_id: personId }).whereNot('state', 'cancelled').first('id');
-    if (mine) throw new HttpError(409, 'already_booked', 'You already have a seat at this session.');
+    if (mine) throw new DomainError('conflict', 'already_booked', 'You already have a seat at this session.');
     const site = await getSettings(trx);
     const why = await refusal(trx, personId, s, now, site);
-    if (why) throw new HttpError(403, 'not_eligible', why, { reason: why });
+    if (why) throw new DomainError('forbidden', 'not_eligible', why, { reason: why });
     if (Number(s.seats_taken) >= s.capacity) {
-      throw new HttpError(409, 'session_full', `All ${s.capacity} seats are taken. Join the waitlist and you will be e-mailed if a seat frees up, or choose another session.`);
+      throw new DomainError('conflict', 'session_full', `All ${s.capacity} seats are taken. Join the waitlist and you will be e-mailed if a seat frees up, or choose another session.`);
     }
     const seat = await insertSeat(trx, s, personId, now, site);
     return { seatId: seat, session: view(await sessionRow(trx, s.id)) };
@@ -109,9 +109,9 @@ export async function cancelMySeat(personId: string, sessionId: string, now = ne
         await trx('induction_waitlist').where({ id: waiting.id }).update({ state: 'withdrawn' });
         return { seatId: waiting.id as string, state: 'cancelled' as SeatState, offeredTo: null };
       }
-      throw new HttpError(404, 'not_found', 'You have no seat at this session.');
+      throw new DomainError('not_found', 'not_found', 'You have no seat at this session.');
     }
-    if (s.starts_at <= now) throw new HttpError(409, 'session_started', 'This session has started; tell the instructor if you cannot stay.');
+    if (s.starts_at <= now) throw new DomainError('conflict', 'session_started', 'This session has started; tell the instructor if you cannot stay.');
     await trx('induction_seats').where({ id: seat.id }).update({ state: 'cancelled', cancelled_at: now });
     const person = await personRow(trx, personId);
     const site = await getSettings(trx);
@@ -150,13 +150,13 @@ export async function joinSessionWaitlist(personId: string, sessionId: string, n
     assertOpen(s, now);
     const site = await getSettings(trx);
     const why = await refusal(trx, personId, s, now, site);
-    if (why) throw new HttpError(403, 'not_eligible', why, { reason: why });
+    if (why) throw new DomainError('forbidden', 'not_eligible', why, { reason: why });
     if (await trx('induction_seats').where({ session_id: s.id, person_id: personId }).whereNot('state', 'cancelled').first('id')) {
-      throw new HttpError(409, 'already_booked', 'You already have a seat at this session.');
+      throw new DomainError('conflict', 'already_booked', 'You already have a seat at this session.');
     }
-    if (Number(s.seats_taken) < s.capacity) throw new HttpError(409, 'seats_free', 'There are free seats: book one instead of waiting.');
+    if (Number(s.seats_taken) < s.capacity) throw new DomainError('conflict', 'seats_free', 'There are free seats: book one instead of waiting.');
     if (await trx('induction_waitlist').where({ session_id: s.id, person_id: personId, state: 'waiting' }).first('id')) {
-      throw new HttpError(409, 'already_waiting', 'You are already on the waitlist for this session.');
+      throw new DomainError('conflict', 'already_waiting', 'You are already on the waitlist for this session.');
     }
     const [w] = await trx('induction_waitlist').insert({ session_id: s.id, person_id: personId }).returning('id');
     const position = Number((await trx('induction_waitlist').where({ session_id: s.id, state: 'waiting' }).count<{ n: number }[]>('* as n'))[0]?.n ?? 1);

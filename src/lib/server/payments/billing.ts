@@ -1,6 +1,6 @@
 /** Billing: the hold at booking, the charge for beam time at check-out, and how a quote becomes a charge. */
 import { pgCode, PG, db, transaction } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { quoteFor, type PricedQuote } from '../prices';
 import { breakdownOf, settle } from '../../pricing';
 import { type Tier } from '../../vocabulary';
@@ -20,7 +20,7 @@ export async function holdForBooking(input: { personId: string; machineId: strin
   if (q.rechargeTiers.includes(person.tier) && person.costCentre) return null;
   const s = settle(q.amountMinor, q.currency, q.minimumRule);
   if (s.chargeNowMinor === 0) return null;
-  if (!(await cardOf(input.personId))) throw new HttpError(402, 'payment_required', 'Save a card on your Account screen before booking paid time.');
+  if (!(await cardOf(input.personId))) throw new DomainError('payment_required', 'payment_required', 'Save a card on your Account screen before booking paid time.');
   const [row] = await db()('charges')
     .insert({
       person_id: input.personId, tier: person.tier, machine_id: input.machineId, booking_id: input.bookingId, kind: 'beam_time', method: 'card',

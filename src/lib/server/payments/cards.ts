@@ -2,7 +2,7 @@
 import { createHash } from 'node:crypto';
 import { recordAudit } from '../audit';
 import { db, transaction } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { personFor } from './charge-records';
 import { settleOwed } from './charge-runs';
 import { classify, provider, unreachable, type ProviderError } from './provider';
@@ -56,10 +56,10 @@ export async function saveCard(personId: string, token: string): Promise<{ card:
     await provider().customers.update(customerId, { default_source: source.id }, { idempotencyKey: `beamwarden-person-${personId}-default-${source.id}` });
   } catch (err) {
     const kind = classify(err);
-    if (kind === 'card') throw new HttpError(402, 'card_declined', `The card was declined: ${(err as ProviderError).message ?? 'no reason given'}. Try another card.`);
+    if (kind === 'card') throw new DomainError('payment_required', 'card_declined', `The card was declined: ${(err as ProviderError).message ?? 'no reason given'}. Try another card.`);
     if (kind === 'unreachable') throw unreachable();
     if (kind === 'missing' || (err as ProviderError).type === 'StripeInvalidRequestError') {
-      throw new HttpError(422, 'invalid', 'The card details were not accepted.', { token: (err as ProviderError).message ?? 'Not a card token.' });
+      throw new DomainError('invalid', 'invalid', 'The card details were not accepted.', { token: (err as ProviderError).message ?? 'Not a card token.' });
     }
     throw err;
   }

@@ -18,7 +18,7 @@ import type { Knex } from 'knex';
 import type { Breakdown } from '../../pricing';
 import type { ChargeKind, ChargeState, Tier } from '../../vocabulary';
 import { db, type Conn } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 
 export type { ChargeKind, ChargeState } from '../../vocabulary';
 
@@ -106,7 +106,7 @@ export async function getCharge(id: string, trx: Conn = db()): Promise<Charge | 
 export async function lockCharge(trx: Knex.Transaction, id: string): Promise<Charge> {
   await trx('charges').where({ id }).forUpdate().first('id');
   const c = await getCharge(id, trx);
-  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  if (!c) throw new DomainError('not_found', 'not_found', 'No charge has that id.');
   return c;
 }
 
@@ -117,7 +117,7 @@ export async function updateCharge(trx: Conn, id: string, patch: Record<string, 
 /** The payer: who the charge is for, their tier and cost centre. */
 export async function personFor(personId: string, trx: Conn = db()): Promise<{ id: string; email: string; name: string; tier: Tier; costCentre: string | null }> {
   const p = await trx('people').where({ id: personId }).first('id', 'email', 'name', 'tier', 'cost_centre');
-  if (!p) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (!p) throw new DomainError('not_found', 'not_found', 'No person has that id.');
   return { id: p.id, email: p.email, name: p.name, tier: p.tier, costCentre: p.cost_centre };
 }
 

@@ -7,7 +7,7 @@ import type { Knex } from 'knex';
 import { recordAudit } from '../audit';
 import { db, transaction } from '../db';
 import { env } from '../env';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { queueMail } from '../mail';
 import { recordPaymentIntent } from '../payment-intents';
 import { cardOf, getCharge, personFor, updateCharge, type Charge } from './charge-records';
@@ -30,7 +30,7 @@ export function parseOp(s: string): Op | null {
  */
 export async function run(chargeId: string, op: Op, mode: 'request' | 'intent' = 'request'): Promise<Charge> {
   const c = await getCharge(chargeId);
-  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  if (!c) throw new DomainError('not_found', 'not_found', 'No charge has that id.');
   try {
     await perform(c, op);
   } catch (err) {
@@ -167,7 +167,7 @@ export async function drive(chargeId: string): Promise<Charge | null> {
 /** Places the hold (capture: false) for a charge row in state `pending`. Idempotent. */
 export async function placeHold(chargeId: string, mode: 'request' | 'intent' = 'request'): Promise<Charge> {
   const c = await getCharge(chargeId);
-  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  if (!c) throw new DomainError('not_found', 'not_found', 'No charge has that id.');
   if (c.state !== 'pending') return c;
   return run(chargeId, { op: 'hold' }, mode);
 }
@@ -175,7 +175,7 @@ export async function placeHold(chargeId: string, mode: 'request' | 'intent' = '
 /** Takes `amountMinor` from a held charge (releasing and charging anew when it is higher than the hold). */
 export async function capture(chargeId: string, amountMinor: number): Promise<Charge> {
   const c = await getCharge(chargeId);
-  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  if (!c) throw new DomainError('not_found', 'not_found', 'No charge has that id.');
   if (c.state !== 'held') return c;
   return run(chargeId, { op: 'capture', amountMinor });
 }
@@ -196,5 +196,5 @@ export async function settleOwed(personId: string): Promise<number> {
 /** Throws 402 payment_required while the person has a failed payment. Booking calls this first. */
 export async function assertCanBook(personId: string): Promise<void> {
   const failed = await db()('charges').where({ person_id: personId, state: 'payment failed' }).first('id');
-  if (failed) throw new HttpError(402, 'payment_required', 'A payment failed on this account. Save a working card on the Account screen to settle it, then book again.');
+  if (failed) throw new DomainError('payment_required', 'payment_required', 'A payment failed on this account. Save a working card on the Account screen to settle it, then book again.');
 }

@@ -7,7 +7,7 @@
 import { AsyncLocalStorage } from 'node:async_hooks';
 import Stripe from 'stripe';
 import { env } from '../env';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { log } from '../log';
 
 let client: Stripe | undefined;
@@ -59,17 +59,17 @@ export function classify(err: unknown): 'card' | 'unreachable' | 'missing' | 'ot
 
 export const key = (chargeId: string, op: string) => `beamwarden-charge-${chargeId}-${op}`;
 
-/** Verifies a provider webhook signature; throws HttpError 400 when it does not match. */
+/** Verifies a provider webhook signature; throws DomainError 400 when it does not match. */
 export function verifyWebhook(body: string, signature: string | null): { id: string; type: string; data: { object: Record<string, unknown> } } {
-  if (!signature) throw new HttpError(400, 'bad_signature', 'The webhook signature header is missing.');
+  if (!signature) throw new DomainError('bad_request', 'bad_signature', 'The webhook signature header is missing.');
   try {
     return provider().webhooks.constructEvent(body, signature, env().STRIPE_WEBHOOK_SECRET) as never;
   } catch {
-    throw new HttpError(400, 'bad_signature', 'The webhook signature does not match.');
+    throw new DomainError('bad_request', 'bad_signature', 'The webhook signature does not match.');
   }
 }
 
-export const unreachable = () => new HttpError(503, 'provider_unreachable', 'The card service cannot be reached just now. Try again in a minute.');
+export const unreachable = () => new DomainError('unavailable', 'provider_unreachable', 'The card service cannot be reached just now. Try again in a minute.');
 
 /** The provider has not answered yet: thrown so the job retries. */
 export class ProviderNotReady extends Error {}

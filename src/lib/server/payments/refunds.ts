@@ -4,7 +4,7 @@ import { randomUUID } from 'node:crypto';
 import type { Knex } from 'knex';
 import { recordAudit } from '../audit';
 import { db, transaction } from '../db';
-import { HttpError } from '../errors';
+import { DomainError } from '../errors';
 import { queueMail } from '../mail';
 import { recordPaymentIntent } from '../payment-intents';
 import { getCharge, lockCharge, updateCharge, type Charge, type ChargeState } from './charge-records';
@@ -22,11 +22,11 @@ export async function requestRefund(chargeId: string, amountMinor: number, reaso
     const c = await lockCharge(trx, chargeId);
     const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
     if (!(c.state === 'captured' || c.state === 'recharged')) {
-      throw new HttpError(409, 'not_refundable', c.state === 'refund pending' ? 'A refund of this charge is already waiting for the card service; it completes by itself.' : `A charge in state "${c.state}" cannot be refunded.`);
+      throw new DomainError('conflict', 'not_refundable', c.state === 'refund pending' ? 'A refund of this charge is already waiting for the card service; it completes by itself.' : `A charge in state "${c.state}" cannot be refunded.`);
     }
     const left = paid - c.refundedMinor;
     if (amountMinor < 1 || amountMinor > left) {
-      throw new HttpError(422, 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${await siteMoney(left, c.currency)} is left to refund.` });
+      throw new DomainError('invalid', 'invalid', `Refund between 1 and ${left} minor units.`, { amountMinor: `At most ${await siteMoney(left, c.currency)} is left to refund.` });
     }
     const card = c.method === 'card' && c.providerChargeId !== null;
     await trx('charge_refunds').insert({

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { HttpError, idParam, json, readJson, requireRole, route } from '../../../lib/server/http';
+import { DomainError, idParam, json, readJson, requireRole, route } from '../../../lib/server/http';
 import { updateGroup } from '../../../lib/server/clearances/groups';
 import { REFRESHER_RULES } from '../../../lib/clearance-rules';
 import { hasAnyRole } from '../../../lib/roles';
@@ -21,7 +21,7 @@ export const PATCH = route(async ({ locals, params, request }) => {
   const id = idParam(params.id, 'machine group');
   const input = await readJson(request, body);
   if ((input.validityDays !== undefined || input.refresher !== undefined) && !hasAnyRole(person.roles, ['admin'])) {
-    throw new HttpError(403, 'forbidden', 'Only an admin sets the validity period and the refresher rule.');
+    throw new DomainError('forbidden', 'forbidden', 'Only an admin sets the validity period and the refresher rule.');
   }
   return json(await updateGroup(person.id, id, input));
 });

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { HttpError, json, parseWith, readMultipart, requireSignedIn, route } from '../../../lib/server/http';
+import { DomainError, json, parseWith, readMultipart, requireSignedIn, route } from '../../../lib/server/http';
 import { createRequest, listRequests, SDS_MAX_BYTES, type MaterialRequest } from '../../../lib/server/material-requests';
 import { hasAnyRole } from '../../../lib/roles';
 import { materialMode } from '../../../lib/material-schemas';
@@ -49,8 +49,8 @@ export const POST = route(async ({ locals, request }) => {
     name: form.value('name'), supplier: form.value('supplier'), composition: form.value('composition'),
     thicknessMm: form.value('thicknessMm'), mode: form.value('mode'),
   });
-  if (!file) throw new HttpError(422, 'invalid', 'Attach the supplier\'s safety data sheet (PDF).', { sds: 'Attach the safety data sheet as a PDF.' });
-  if (file.size > SDS_MAX_BYTES) throw new HttpError(413, 'file_too_large', 'The safety data sheet is larger than 10 MB.');
+  if (!file) throw new DomainError('invalid', 'invalid', 'Attach the supplier\'s safety data sheet (PDF).', { sds: 'Attach the safety data sheet as a PDF.' });
+  if (file.size > SDS_MAX_BYTES) throw new DomainError('too_large', 'file_too_large', 'The safety data sheet is larger than 10 MB.');
   const created = await createRequest(person.id, { ...input, sds: { filename: file.name, bytes: new Uint8Array(await file.arrayBuffer()) } });
   return json(requestJson(created), 201);
 });

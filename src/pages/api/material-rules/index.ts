@@ -1,4 +1,4 @@
-import { HttpError, json, readJson, requireRole, route } from '../../../lib/server/http';
+import { DomainError, json, readJson, requireRole, route } from '../../../lib/server/http';
 import { createMaterial, halogenViolations, rulesByMachine, listOverrides, sheetsInForce } from '../../../lib/server/materials';
 import { materialInput } from '../../../lib/material-schemas';
 
@@ -12,7 +12,7 @@ export const GET = route(async ({ locals, url }) => {
   requireRole(locals, 'admin');
   const atText = url.searchParams.get('at');
   const at = atText === null ? new Date() : new Date(atText);
-  if (Number.isNaN(at.getTime())) throw new HttpError(422, 'invalid', 'at is a date and time such as 2026-12-03T09:00:00Z.', { at: 'Not a date and time.' });
+  if (Number.isNaN(at.getTime())) throw new DomainError('invalid', 'invalid', 'at is a date and time such as 2026-12-03T09:00:00Z.', { at: 'Not a date and time.' });
   const [{ machines, materials, effective }, overrides, sheets] = await Promise.all([rulesByMachine(at), listOverrides(), sheetsInForce(at)]);
   return json({
     machines: machines.map((m) => ({ id: m.id, code: m.code, name: m.name, powerW: m.powerW })),

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { HttpError, json, readJson, requireRole, route } from '../../../lib/server/http';
+import { DomainError, json, readJson, requireRole, route } from '../../../lib/server/http';
 import { createVersion, listVersions } from '../../../lib/server/prices';
 import { type PriceVersion } from '../../../lib/pricing';
 import { getSettings } from '../../../lib/server/settings';
@@ -40,7 +40,7 @@ export const POST = route(async ({ locals, request }) => {
   const input = await readJson(request, body);
   const { timeZone } = await getSettings();
   const effectiveFrom = startOfZonedDay(input.effectiveDate, timeZone);
-  if (Number.isNaN(effectiveFrom.getTime())) throw new HttpError(422, 'invalid', 'Not a date.', { effectiveDate: 'Not a calendar date.' });
+  if (Number.isNaN(effectiveFrom.getTime())) throw new DomainError('invalid', 'invalid', 'Not a date.', { effectiveDate: 'Not a calendar date.' });
   const today = zonedDate(new Date(), timeZone);
   // "today" means: from now (a version cannot start in the past)
   const from = input.effectiveDate === today ? new Date() : effectiveFrom;

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { HttpError, json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
+import { DomainError, json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
 import { getCharge } from '../../../../lib/server/payments/charge-records';
 import { refund } from '../../../../lib/server/payments/intents';
 import { chargeJson } from '../../../../lib/server/charge-json';
@@ -20,7 +20,7 @@ export const POST = route(async ({ locals, params, request }) => {
   const id = idParam(params.id, 'charge');
   const input = await readJson(request, body);
   const c = await getCharge(id);
-  if (!c) throw new HttpError(404, 'charge_not_found', 'No charge has that id.');
+  if (!c) throw new DomainError('not_found', 'not_found', 'No charge has that id.');
   const paid = c.method === 'recharge' ? c.amountMinor : c.capturedMinor;
   const amount = input.amountMinor ?? paid - c.refundedMinor;
   const after = await refund(c.id, amount, input.reason, actor.id);

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { json, readJson, readQuery, requireRole, requireSignedIn, route, HttpError } from '../../../../lib/server/http';
+import { json, readJson, readQuery, requireRole, requireSignedIn, route, DomainError } from '../../../../lib/server/http';
 import { addClosure, listClosures } from '../../../../lib/server/booking-rules';
 import { isoInstant, uuid } from '../../../../lib/schemas';
 
@@ -11,7 +11,7 @@ const query = z.object({ from: isoInstant, to: isoInstant });
 
 function machineId(raw: string | undefined): string {
   const id = uuid.safeParse(raw);
-  if (!id.success) throw new HttpError(404, 'not_found', 'No such machine.');
+  if (!id.success) throw new DomainError('not_found', 'not_found', 'No such machine.');
   return id.data;
 }
 

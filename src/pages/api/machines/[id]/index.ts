@@ -1,4 +1,4 @@
-import { json, readJson, requireRole, route, idParam, HttpError } from '../../../../lib/server/http';
+import { json, readJson, requireRole, route, idParam, DomainError } from '../../../../lib/server/http';
 import { getMachine, updateMachine } from '../../../../lib/server/machines';
 import { machineFields } from '../../../../lib/schemas';
 
@@ -8,7 +8,7 @@ const patchBody = machineFields.partial().refine((v) => Object.keys(v).length > 
 export const GET = route(async ({ locals, params }) => {
   requireRole(locals, 'admin');
   const m = await getMachine(idParam(params.id, 'machine'));
-  if (!m) throw new HttpError(404, 'machine_not_found', 'No machine has that id.');
+  if (!m) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
   return json(m);
 });
 

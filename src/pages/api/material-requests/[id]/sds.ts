@@ -1,4 +1,4 @@
-import { HttpError, idParam, requireSignedIn, route } from '../../../../lib/server/http';
+import { DomainError, idParam, requireSignedIn, route } from '../../../../lib/server/http';
 import { getRequest, getRequestSds } from '../../../../lib/server/material-requests';
 import { hasAnyRole } from '../../../../lib/roles';
 
@@ -7,10 +7,10 @@ export const GET = route(async ({ locals, params }) => {
   const person = requireSignedIn(locals);
   const r = await getRequest(idParam(params.id, 'request'));
   if (!r || (r.requesterId !== person.id && !hasAnyRole(person.roles, ['steward', 'admin']))) {
-    throw new HttpError(404, 'request_not_found', 'No request has that id.');
+    throw new DomainError('not_found', 'not_found', 'No request has that id.');
   }
   const sds = await getRequestSds(r.id);
-  if (!sds) throw new HttpError(404, 'file_not_found', 'The safety data sheet is missing from storage.');
+  if (!sds) throw new DomainError('not_found', 'not_found', 'The safety data sheet is missing from storage.');
   return new Response(Buffer.from(sds.bytes), {
     status: 200,
     headers: {

@@ -1,4 +1,4 @@
-import { HttpError, json, requireRole, route } from '../../../../lib/server/http';
+import { DomainError, json, requireRole, route } from '../../../../lib/server/http';
 import { resendInvitation } from '../../../../lib/server/accounts';
 import { uuid } from '../../../../lib/schemas';
 
@@ -10,6 +10,6 @@ import { uuid } from '../../../../lib/schemas';
 export const POST = route(async ({ locals, params }) => {
   const admin = requireRole(locals, 'admin');
   const id = uuid.safeParse(params.id);
-  if (!id.success) throw new HttpError(404, 'person_not_found', 'No person has that id.');
+  if (!id.success) throw new DomainError('not_found', 'not_found', 'No person has that id.');
   return json(await resendInvitation(admin.id, id.data));
 });
