@@ -2,12 +2,12 @@
  * Account: tier, balance owed, the saved card, and the charges table. With practice payments (the provider's
  * test mode) the card choices are described by what they do; the provider's test-token names stay in code.
  */
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useState, type FormEvent } from 'react';
-import { TIER_LABELS, type Tier } from '../lib/vocabulary';
+import { TIER_LABELS, type Tier } from '@lib/vocabulary';
 import { api, ApiError } from './ui/api';
-import type { AccountSummary, ChargeJson, ChargeSort } from '../lib/account-views';
+import type { AccountSummary, ChargeJson, ChargeSort } from '@lib/account-views';
 
 type Summary = AccountSummary;
 type ChargeRow = ChargeJson;

@@ -1,11 +1,11 @@
 /** Admin › Audit: the append-only record of changes, filtered by person, kind, text and dates; exported as CSV. */
-import { auditDetailLines, auditKindWords, withSiteDates } from '../lib/audit-words';
-import { siteFormat } from '../lib/format';
+import { auditDetailLines, auditKindWords, withSiteDates } from '@lib/audit-words';
+import { siteFormat } from '@lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
-import type { AuditRow as AuditRecord } from '../lib/audit-filter';
-import type { Json } from '../lib/json';
+import type { AuditRow as AuditRecord } from '@lib/audit-filter';
+import type { Json } from '@lib/json';
 
 type AuditRow = Json<AuditRecord>;
 interface PageData {

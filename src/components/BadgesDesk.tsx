@@ -1,7 +1,7 @@
 /** Badges (stewards, admins): give the badge just read at a machine to the person standing there, enrol and remove badges. */
 import { useEffect, useId, useState } from 'react';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 interface Unknown {
   id: string;

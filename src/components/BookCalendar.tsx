@@ -17,8 +17,8 @@ import FullCalendar from '@fullcalendar/react';
 import timeGridPlugin from '@fullcalendar/timegrid';
 import interactionPlugin from '@fullcalendar/interaction';
 import type { DateSelectArg, EventClickArg, EventInput } from '@fullcalendar/core';
-import { addDays, isLateCancel, localToInstant, wallClock, zoneOffsetMinutes } from '../lib/availability';
-import { formatMinutes, siteFormat, type SiteFormat } from '../lib/format';
+import { addDays, isLateCancel, localToInstant, wallClock, zoneOffsetMinutes } from '@lib/availability';
+import { formatMinutes, siteFormat, type SiteFormat } from '@lib/format';
 import { api, ApiError } from './ui/api';
 
 interface MachineInfo {

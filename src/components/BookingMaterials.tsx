@@ -4,7 +4,7 @@
  */
 import { useEffect, useState } from 'react';
 import { useQuery } from '@tanstack/react-query';
-import { MATERIAL_MODES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
+import { MATERIAL_MODES, RULE_TEXT, type MaterialMode, type MaterialRule } from '@lib/material-rules';
 import { api, ApiError } from './ui/api';
 
 export interface MaterialRow {

@@ -1,7 +1,7 @@
 /** Admin › Machines › Controllers: register the box at a machine (its token shown once), new token, revoke; walk-ups. */
 import { useEffect, useId, useState } from 'react';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 interface Machine {
   id: string;

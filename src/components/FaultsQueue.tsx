@@ -1,9 +1,9 @@
 /** Stewards and admins: the fault queue — triage, notes, resolve — and putting machines back into service. */
 import { useCallback, useEffect, useState } from 'react';
-import { FAULT_SEVERITIES, SEVERITY_TEXT, type FaultSeverity } from '../lib/faults-shared';
-import { STATUS_TEXT, type MachineStatus } from '../lib/machines-shared';
+import { FAULT_SEVERITIES, SEVERITY_TEXT, type FaultSeverity } from '@lib/faults-shared';
+import { STATUS_TEXT, type MachineStatus } from '@lib/machines-shared';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 interface FaultView {
   id: string; machineId: string; machineName: string; machineCode: string; machineStatus: MachineStatus; reporterName: string;

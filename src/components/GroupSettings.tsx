@@ -3,7 +3,7 @@
  * checklist (set by instructors and admins) of each group a clearance covers.
  */
 import { useEffect, useState } from 'react';
-import { REFRESHER_LABELS, REFRESHER_RULES, type RefresherRule } from '../lib/clearance-rules';
+import { REFRESHER_LABELS, REFRESHER_RULES, type RefresherRule } from '@lib/clearance-rules';
 import { api, ApiError } from './ui/api';
 
 interface Group { id: string; name: string; validityDays: number; refresher: RefresherRule; checklist: string[]; machines: { name: string; requiredLevel: string }[] }

@@ -6,8 +6,8 @@
  */
 import { useCallback, useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
-import { localToInstant } from '../lib/availability';
-import { siteFormat } from '../lib/format';
+import { localToInstant } from '@lib/availability';
+import { siteFormat } from '@lib/format';
 
 interface Group { id: string; name: string }
 interface MachineOpt { id: string; name: string; groupId: string | null }

@@ -3,7 +3,7 @@
  * and what an admin decides (button name, claim → tier mapping, password sign-in off). Each save is audited.
  */
 import { useId, useRef, useState, type FormEvent } from 'react';
-import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
+import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
 import { api, ApiError } from './ui/api';
 
 export interface InstitutionView {

@@ -1,7 +1,7 @@
 /** Admin › People: invite a person. The server makes the account without a password and e-mails a link to choose one. */
 import { useId, useRef, useState, type FormEvent } from 'react';
-import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
-import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
+import { ROLES, ROLE_LABELS, type Role } from '@lib/roles';
+import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
 import { api, ApiError } from './ui/api';
 
 type Field = 'name' | 'email' | 'roles' | 'tier';

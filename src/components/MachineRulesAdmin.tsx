@@ -1,10 +1,10 @@
 /** Admin › Machines: booking rules per machine — opening hours, grid, lengths, cool-down, lead, horizon, quotas, cut-off, closures. */
 import { useCallback, useEffect, useId, useState } from 'react';
-import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
-import { formatClock, localToInstant, parseClock, wallClock, type ClosureRow, type MachineRules } from '../lib/availability';
-import type { Json } from '../lib/json';
+import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
+import { formatClock, localToInstant, parseClock, wallClock, type ClosureRow, type MachineRules } from '@lib/availability';
+import type { Json } from '@lib/json';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 interface MachineInfo {
   id: string;

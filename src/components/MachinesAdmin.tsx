@@ -1,6 +1,6 @@
 /** Admin › Machines: the machines in use — add one, edit what it is (group, clearance level, tube, optics, cooling), retire it. */
 import { useId, useState } from 'react';
-import { TUBE_LABELS, TUBE_TYPES, STATUS_TEXT, type MachineRecord } from '../lib/machines-shared';
+import { TUBE_LABELS, TUBE_TYPES, STATUS_TEXT, type MachineRecord } from '@lib/machines-shared';
 import { api, ApiError } from './ui/api';
 
 export type AdminMachine = MachineRecord;

@@ -1,8 +1,8 @@
 /** Stewards and admins: review new-material requests — approve into the catalogue with a rule, or refuse with a reason. */
 import { useCallback, useEffect, useState } from 'react';
-import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
+import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '@lib/material-rules';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 interface Req {
   id: string; name: string; supplier: string; composition: string; thicknessMm: number; mode: MaterialMode; requesterName: string;

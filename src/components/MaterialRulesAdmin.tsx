@@ -1,8 +1,8 @@
 /** Admin › Material rules: a sortable, filterable table of the catalogue, an edit form, and per-machine overrides. Every save is audited. */
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 import { useCallback, useEffect, useMemo, useState } from 'react';
-import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '../lib/material-rules';
-import { screenMaterial, type ScreenResult } from '../lib/halogen-screen';
+import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES, RULE_TEXT, type MaterialMode, type MaterialRule } from '@lib/material-rules';
+import { screenMaterial, type ScreenResult } from '@lib/halogen-screen';
 import { api, ApiError } from './ui/api';
 
 interface Material {

@@ -1,7 +1,7 @@
 /** Members: screen a chemical formula for halogens, and ask for a new material to be reviewed (with its safety data sheet). */
 import { useEffect, useRef, useState } from 'react';
-import { MATERIAL_MODES } from '../lib/material-rules';
-import { FormulaError, screenMaterial, type ScreenResult } from '../lib/halogen-screen';
+import { MATERIAL_MODES } from '@lib/material-rules';
+import { FormulaError, screenMaterial, type ScreenResult } from '@lib/halogen-screen';
 import { api, ApiError } from './ui/api';
 
 type Screen = ScreenResult;

@@ -1,10 +1,10 @@
 /** Admin › People: search, sort and page through people; grant or remove roles (each change is audited). */
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useState } from 'react';
-import { ROLES, ROLE_LABELS, type Role } from '../lib/roles';
+import { ROLES, ROLE_LABELS, type Role } from '@lib/roles';
 import { api, ApiError } from './ui/api';
-import { TIERS, TIER_LABELS, type Tier } from '../lib/vocabulary';
+import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
 import InvitePersonForm from './InvitePersonForm';
 
 interface PersonRow {

@@ -7,9 +7,9 @@ import { useCallback, useEffect, useState } from 'react';
 import { useFieldArray, useForm, useWatch, type Control, type UseFormRegister, type UseFormSetValue, type FieldErrors } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
 import type { z } from 'zod';
-import { quizDraftSchema, type QuizDraft } from '../lib/quiz-rules';
+import { quizDraftSchema, type QuizDraft } from '@lib/quiz-rules';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 type FormIn = z.input<typeof quizDraftSchema>;
 

@@ -1,9 +1,9 @@
 /** Taking a quiz: start an attempt, answer, submit; the server scores it and names the missed topics. */
 import { useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
-import type { DeliveredQuestion } from '../lib/quiz-rules';
-import type { QuizIntro, StartedAttempt, SubmittedAttempt } from '../lib/quiz-rules';
+import { siteFormat } from '@lib/format';
+import type { DeliveredQuestion } from '@lib/quiz-rules';
+import type { QuizIntro, StartedAttempt, SubmittedAttempt } from '@lib/quiz-rules';
 
 type Attempt = StartedAttempt;
 

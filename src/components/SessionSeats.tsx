@@ -5,7 +5,7 @@
  */
 import { useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 export interface SeatSession {
   id: string;

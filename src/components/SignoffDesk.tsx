@@ -6,7 +6,7 @@
 import { useCallback, useEffect, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
 import InductionRoster from './InductionRoster';
-import { siteFormat } from '../lib/format';
+import { siteFormat } from '@lib/format';
 
 interface Group { id: string; name: string; checklist: string[] }
 interface QueueEntry { personId: string; personName: string; personEmail: string; groupId: string; groupName: string; quizPassedAt: string | null; checklist: string[] }

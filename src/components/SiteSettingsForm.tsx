@@ -1,8 +1,8 @@
 /** Admin › Site: the site's name, time zone, site locale, currency, tax and public address. Each save is audited. */
 import { useEffect, useId, useState, type FormEvent } from 'react';
 import { api, ApiError } from './ui/api';
-import { isLocale, siteFormat } from '../lib/format';
-import type { SiteValues } from '../lib/site-settings';
+import { isLocale, siteFormat } from '@lib/format';
+import type { SiteValues } from '@lib/site-settings';
 
 type Field = keyof SiteValues;
 

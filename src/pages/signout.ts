@@ -1,6 +1,6 @@
 /** Sign-out: a form POST from the page header (Astro's origin check refuses cross-site posts). */
 import type { APIRoute } from 'astro';
-import { endSession } from '../lib/server/auth-forms';
+import { endSession } from '@lib/server/auth-forms';
 
 export const POST: APIRoute = (ctx) => {
   endSession(ctx);

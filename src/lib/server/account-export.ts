@@ -8,7 +8,7 @@ import { stringify } from 'csv-stringify/sync';
 import { strToU8, zipSync } from 'fflate';
 import { db } from './db';
 import { DomainError } from './errors';
-import { safeCell } from '../csv';
+import { safeCell } from '@lib/csv';
 
 export interface PersonalData {
   exportedAt: string;

@@ -16,9 +16,9 @@ import { getSettings, publicBaseUrl } from './settings';
 import { clearSignInCounters } from './sign-in';
 import { cancelFutureBookingsOf } from './bookings/cancel';
 import { countRequest } from './request-limits';
-import { passwordProblem } from '../password-rules';
-import type { Role } from '../roles';
-import type { Tier } from '../vocabulary';
+import { passwordProblem } from '@lib/password-rules';
+import type { Role } from '@lib/roles';
+import type { Tier } from '@lib/vocabulary';
 
 export type TokenPurpose = 'reset' | 'confirm' | 'invite';
 

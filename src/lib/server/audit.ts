@@ -1,6 +1,6 @@
 /** The append-only audit log: who changed what, when, with the state before and after. */
 import { db, type Conn } from './db';
-import type { AuditRow } from '../audit-filter';
+import type { AuditRow } from '@lib/audit-filter';
 
 export interface AuditEntry {
   actorId: string | null;

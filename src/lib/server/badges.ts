@@ -7,7 +7,7 @@ import { createHash } from 'node:crypto';
 import { db, pgCode, PG, transaction } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
-import { UNKNOWN_BADGE_LIST_MINUTES, badgeHint, normaliseBadge } from '../controller-rules';
+import { UNKNOWN_BADGE_LIST_MINUTES, badgeHint, normaliseBadge } from '@lib/controller-rules';
 
 /** SHA-256 of the normalised UID, with a fixed label so the digest is of this use only. */
 export function badgeHash(normalised: string): string {

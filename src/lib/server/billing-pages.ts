@@ -3,9 +3,9 @@ import { env } from './env';
 import { getSettings } from './settings';
 import { accountSummary, refundsOf } from './payments/account';
 import { getCharge } from './payments/charge-records';
-import { hasAnyRole } from '../roles';
-import { zonedDate } from '../time';
-import type { SignedInPerson } from '../signed-in-person';
+import { hasAnyRole } from '@lib/roles';
+import { zonedDate } from '@lib/time';
+import type { SignedInPerson } from '@lib/signed-in-person';
 
 export async function accountPage(personId: string) {
   const [summary, settings] = await Promise.all([accountSummary(personId), getSettings()]);

@@ -2,10 +2,10 @@
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
-import { DEFAULT_RULES, type BookingRules, type Closure, type ClosureRow, type MachineRules, type WeeklyHours } from '../availability';
-import { TIERS, type Tier } from '../vocabulary';
+import { DEFAULT_RULES, type BookingRules, type Closure, type ClosureRow, type MachineRules, type WeeklyHours } from '@lib/availability';
+import { TIERS, type Tier } from '@lib/vocabulary';
 
-export type { ClosureRow, MachineRules } from '../availability';
+export type { ClosureRow, MachineRules } from '@lib/availability';
 
 /** A machine's rules with its opening hours and quotas, in one statement (it is read on every booking and feed). */
 export async function getRules(machineId: string, trx: Conn = db()): Promise<MachineRules> {

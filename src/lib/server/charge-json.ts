@@ -1,5 +1,5 @@
 /** A charge as API answers give it (the shape is ChargeJson in src/lib/account-views.ts). */
-import type { ChargeJson } from '../account-views';
+import type { ChargeJson } from '@lib/account-views';
 import type { Charge } from './payments/charge-records';
 
 export function chargeJson(c: Charge): ChargeJson {

@@ -1,6 +1,6 @@
 /** Role checks for pages (API routes use requireRole in http.ts). */
 import type { AstroGlobal } from 'astro';
-import { hasAnyRole, type Role } from '../roles';
+import { hasAnyRole, type Role } from '@lib/roles';
 
 /**
  * Signed out → the sign-in page, coming back here afterwards; signed in without any of `roles` →

@@ -1,7 +1,7 @@
 /** Hazard sheets of stored machines; the figures come from the pure module src/lib/hazard.ts. */
 import { DomainError } from './errors';
 import { getMachine, type Machine } from './machines';
-import { hazardSheet, HazardInputError, type HazardInput, type HazardSheet } from '../hazard';
+import { hazardSheet, HazardInputError, type HazardInput, type HazardSheet } from '@lib/hazard';
 
 /** Runs the pure computation; an out-of-range number becomes a 422 naming the field. */
 export function hazardOrThrow(input: HazardInput): HazardSheet {

@@ -5,8 +5,8 @@
 import { createHash } from 'node:crypto';
 import type { APIContext, APIRoute } from 'astro';
 import { z, type ZodType } from 'zod';
-import { hasAnyRole, type Role } from '../roles';
-import type { SignedInPerson } from '../signed-in-person';
+import { hasAnyRole, type Role } from '@lib/roles';
+import type { SignedInPerson } from '@lib/signed-in-person';
 import { DomainError, type ErrorKind } from './errors';
 import { log } from './log';
 

@@ -9,8 +9,8 @@ import { env } from './env';
 import { recordAudit } from './audit';
 import { createPerson, EmailTaken } from './people';
 import { getSettings } from './settings';
-import { checkClaims, domainOf, parseDomains, tierFromClaim, type InstitutionSettings } from '../institution-sign-in';
-import type { Tier } from '../vocabulary';
+import { checkClaims, domainOf, parseDomains, tierFromClaim, type InstitutionSettings } from '@lib/institution-sign-in';
+import type { Tier } from '@lib/vocabulary';
 
 export interface InstitutionConnection {
   issuer: string;

@@ -4,7 +4,7 @@ import sharp from 'sharp';
 import { DomainError } from './errors';
 import { getMachine, listMachines, type Machine } from './machines';
 import { publicBaseUrl } from './settings';
-import { escapeXml, LABEL_CAUTIONS, machinePageUrl, wrapText } from '../labels';
+import { escapeXml, LABEL_CAUTIONS, machinePageUrl, wrapText } from '@lib/labels';
 
 const QR_OPTIONS = { errorCorrectionLevel: 'M' as const, margin: 2 };
 

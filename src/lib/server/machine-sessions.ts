@@ -13,7 +13,7 @@ import { chargeBeamTime } from './payments/billing';
 import { type Charge } from './payments/charge-records';
 import { recordPaymentIntent } from './payment-intents';
 import { versionAt } from './prices';
-import { hasAnyRole, type Actor } from '../roles';
+import { hasAnyRole, type Actor } from '@lib/roles';
 import {
   AUTO_CLOSE_GRACE_MINUTES,
   checkCheckOut,
@@ -21,8 +21,8 @@ import {
   checkPreUse,
   coolantPolicy,
   type CoolantPolicy,
-} from '../checklist';
-import { billableMinutes } from '../controller-rules';
+} from '@lib/checklist';
+import { billableMinutes } from '@lib/controller-rules';
 import { log } from './log';
 import { lockMachine } from './machines';
 

@@ -3,8 +3,8 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
-import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '../machines-shared';
-import type { ClearanceLevel } from '../clearance-rules';
+import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '@lib/machines-shared';
+import type { ClearanceLevel } from '@lib/clearance-rules';
 
 export interface Machine extends MachineRecord {
   retiredAt: Date | null;

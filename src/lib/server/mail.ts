@@ -7,7 +7,7 @@ import type { Knex } from 'knex';
 import { env } from './env';
 import { enqueue } from './jobs';
 import { log } from './log';
-import { renderEmail, type EmailContent } from '../email-layout';
+import { renderEmail, type EmailContent } from '@lib/email-layout';
 
 export interface MailAttachment {
   filename: string;

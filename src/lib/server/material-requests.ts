@@ -12,8 +12,8 @@ import { env } from './env';
 import { checkUpload } from './file-types';
 import { getObject, putObject } from './storage';
 import { createMaterial, type Material, type MaterialInput } from './materials';
-import { FormulaError, screenComposition, screenMaterial, type ScreenResult } from '../halogen-screen';
-import type { MaterialMode } from '../material-rules';
+import { FormulaError, screenComposition, screenMaterial, type ScreenResult } from '@lib/halogen-screen';
+import type { MaterialMode } from '@lib/material-rules';
 
 export const SDS_MAX_BYTES = 10 * 1024 * 1024;
 

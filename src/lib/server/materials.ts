@@ -11,9 +11,9 @@ import { sheetCodesFrom, versionAt } from './prices';
 import {
   catalogueRule, decide, effectiveRule, halogenFinding, type EffectiveRule, type MaterialCategory, type MaterialMode,
   type MaterialRule, type RuleMaterial, type RuleOverride,
-} from '../material-rules';
-import { CutInputError, estimateCut, type CutEstimate } from '../cut-estimate';
-import { FormulaError, screenComposition, screenMaterial } from '../halogen-screen';
+} from '@lib/material-rules';
+import { CutInputError, estimateCut, type CutEstimate } from '@lib/cut-estimate';
+import { FormulaError, screenComposition, screenMaterial } from '@lib/halogen-screen';
 
 export interface Material extends RuleMaterial {
   category: MaterialCategory;

@@ -3,9 +3,9 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { hashPassword } from './passwords';
-import { normaliseRoles, type Role } from '../roles';
+import { normaliseRoles, type Role } from '@lib/roles';
 import { DomainError } from './errors';
-import type { Tier } from '../vocabulary';
+import type { Tier } from '@lib/vocabulary';
 
 export interface Person {
   id: string;

@@ -8,12 +8,12 @@
 import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
-import { startOfZonedDay, zonedDayBounds } from '../time';
+import { startOfZonedDay, zonedDayBounds } from '@lib/time';
 import { getSettings } from './settings';
-import { PricingError, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type PriceVersion, type Quote, type QuoteInput, type TaxMode, type VersionTerms } from '../pricing';
+import { PricingError, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type PriceVersion, type Quote, type QuoteInput, type TaxMode, type VersionTerms } from '@lib/pricing';
 
-export type { PriceVersion } from '../pricing';
-import { TIERS, type Tier } from '../vocabulary';
+export type { PriceVersion } from '@lib/pricing';
+import { TIERS, type Tier } from '@lib/vocabulary';
 
 type Row = {
   id: string; effective_from: Date; currency: string; increment_minutes: number; minimum_charge_minor: number;

@@ -3,16 +3,16 @@
  * publishing freezes it (a database trigger refuses later edits); every attempt records its version.
  * Answers are scored here only — the answer key never leaves the server.
  */
-import type { QuizIntro } from '../quiz-rules';
+import type { QuizIntro } from '@lib/quiz-rules';
 import { db, transaction } from './db';
 import { DomainError } from './errors';
 import { recordAudit } from './audit';
 import { recordQuizPass } from './clearances/transitions';
-import { effectiveState, type ClearanceState } from '../clearance-rules';
+import { effectiveState, type ClearanceState } from '@lib/clearance-rules';
 import {
   SUBMIT_GRACE_SECONDS, attemptGate, attemptOpen, attemptsLeft, deliver, drawQuestions, scoreAttempt,
   type Answers, type DeliveredQuestion, type StartedAttempt, type SubmittedAttempt, type DrawnQuestion, type QuizDraft, type QuizQuestion,
-} from '../quiz-rules';
+} from '@lib/quiz-rules';
 
 export interface QuizVersionView {
   id: string;

@@ -9,10 +9,10 @@ import { env } from './env';
 import { queueMail } from './mail';
 import { activeWithRole } from './people';
 import { getSettings } from './settings';
-import { siteFormat } from '../format';
-import { startOfZonedDay, zonedDate } from '../time';
+import { siteFormat } from '@lib/format';
+import { startOfZonedDay, zonedDate } from '@lib/time';
 import { knownChargeIds, providerActivity, recordedActivity } from './payments/provider-activity';
-import { fromProviderCharge, fromProviderRefund, MISMATCH_TEXT, reconcile, type Mismatch } from '../reconcile';
+import { fromProviderCharge, fromProviderRefund, MISMATCH_TEXT, reconcile, type Mismatch } from '@lib/reconcile';
 
 export interface ReconciliationRun {
   id: string;

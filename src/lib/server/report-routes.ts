@@ -6,9 +6,9 @@ import type { APIRoute } from 'astro';
 import { DomainError, json, readQuery, requireRole, route } from './http';
 import { getSettings } from './settings';
 import { clearanceReport, faultReport, noShowReport, revenueReport, utilisationReport, type ReportScope } from './reports';
-import { COLUMNS, PeriodError, reportQuery, resolvePeriod, type ReportName } from '../reports';
-import { csvHeaders, majorUnits, moneyHeading, toCsv } from '../csv';
-import { zonedDate } from '../time';
+import { COLUMNS, PeriodError, reportQuery, resolvePeriod, type ReportName } from '@lib/reports';
+import { csvHeaders, majorUnits, moneyHeading, toCsv } from '@lib/csv';
+import { zonedDate } from '@lib/time';
 
 const RUN: Record<ReportName, (scope: ReportScope) => Promise<{ rows: object[]; totals: object }>> = {
   utilisation: utilisationReport,

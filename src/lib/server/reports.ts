@@ -6,7 +6,7 @@
  */
 import type { Knex } from 'knex';
 import { db } from './db';
-import { openIntervals, minutesBetween, type Closure, type WeeklyHours } from '../availability';
+import { openIntervals, minutesBetween, type Closure, type WeeklyHours } from '@lib/availability';
 import {
   BOOKED_STATES,
   REVENUE_STATES,
@@ -18,8 +18,8 @@ import {
   type Period,
   type RevenueRow,
   type UtilisationRow,
-} from '../reports';
-import { zonedDate } from '../time';
+} from '@lib/reports';
+import { zonedDate } from '@lib/time';
 
 export interface ReportScope {
   period: Period;

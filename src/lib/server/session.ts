@@ -11,7 +11,7 @@
 import { decode } from '@auth/core/jwt';
 import { env } from './env';
 import { getPerson } from './people';
-import type { SignedInPerson } from '../signed-in-person';
+import type { SignedInPerson } from '@lib/signed-in-person';
 
 export type { SignedInPerson };
 

@@ -3,8 +3,8 @@ import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
 import { env } from './env';
-import { SITE_FIELDS, siteValues, type SiteSettingsValues, type SiteValues } from '../site-settings';
-import { DEFAULT_LOCALE, siteFormat, type SiteFormat } from '../format';
+import { SITE_FIELDS, siteValues, type SiteSettingsValues, type SiteValues } from '@lib/site-settings';
+import { DEFAULT_LOCALE, siteFormat, type SiteFormat } from '@lib/format';
 
 export interface SiteSettings extends SiteValues {
   updatedAt: Date | null;

@@ -2,7 +2,7 @@
  * Upkeep: the log per machine, per-machine intervals (admin), tube hours and the due list (forecast from
  * the last 30 days' beam time by the pure module src/lib/upkeep-forecast.ts). All SQL of this area.
  */
-import { siteFormat } from '../format';
+import { siteFormat } from '@lib/format';
 import { db, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
@@ -19,7 +19,7 @@ import {
   type Forecast,
   type UpkeepInterval,
   type UpkeepKind,
-} from '../upkeep-forecast';
+} from '@lib/upkeep-forecast';
 import { getSettings } from './settings';
 
 export const RECENT_WINDOW_DAYS = 30;

@@ -1,11 +1,11 @@
-import { readQuery, requireRole, route } from '../../lib/server/http';
-import { iterateAudit } from '../../lib/server/audit';
-import type { AuditRow } from '../../lib/audit-filter';
-import { getSettings } from '../../lib/server/settings';
-import { auditFilterQuery, toAuditFilter } from '../../lib/audit-filter';
-import { BOM, csvHeaders, csvRows } from '../../lib/csv';
-import { isoLocal } from '../../lib/time';
-import { log } from '../../lib/server/log';
+import { readQuery, requireRole, route } from '@lib/server/http';
+import { iterateAudit } from '@lib/server/audit';
+import type { AuditRow } from '@lib/audit-filter';
+import { getSettings } from '@lib/server/settings';
+import { auditFilterQuery, toAuditFilter } from '@lib/audit-filter';
+import { BOM, csvHeaders, csvRows } from '@lib/csv';
+import { isoLocal } from '@lib/time';
+import { log } from '@lib/server/log';
 
 /**
  * GET /api/audit.csv?actor=&kind=&q=&from=&to= (admin) → every audit row that matches the filter,

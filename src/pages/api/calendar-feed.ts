@@ -1,5 +1,5 @@
-import { json, requireSignedIn, route } from '../../lib/server/http';
-import { feedStatus, revokeFeed, rotateFeedToken } from '../../lib/server/bookings/ics-feeds';
+import { json, requireSignedIn, route } from '@lib/server/http';
+import { feedStatus, revokeFeed, rotateFeedToken } from '@lib/server/bookings/ics-feeds';
 
 /** GET /api/calendar-feed → whether the person has a private feed URL. */
 export const GET = route(async ({ locals }) => json(await feedStatus(requireSignedIn(locals).id)));

@@ -1,4 +1,4 @@
-import { json, requireSignedIn, route } from '../../lib/server/http';
+import { json, requireSignedIn, route } from '@lib/server/http';
 
 /** GET /api/me → the signed-in person and their roles; 401 when signed out. */
 export const GET = route(({ locals }) => {

@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route } from '../../lib/server/http';
-import { getSettings, updateSettings, type SiteSettings } from '../../lib/server/settings';
-import { siteSettingsInput, siteValues } from '../../lib/site-settings';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { getSettings, updateSettings, type SiteSettings } from '@lib/server/settings';
+import { siteSettingsInput, siteValues } from '@lib/site-settings';
 
 function view(s: SiteSettings) {
   return {

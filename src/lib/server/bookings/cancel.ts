@@ -1,14 +1,14 @@
 /** Cancelling bookings: one by its owner or a steward, and all future ones of a person or a machine (cascades). */
 import type { Knex } from 'knex';
-import { transaction } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { getRules } from '../booking-rules';
-import { queueMail } from '../mail';
-import { env } from '../env';
-import { cancellationIntent, recordPaymentIntent } from '../payment-intents';
-import { hasAnyRole } from '../../roles';
-import { isLateCancel } from '../../availability';
+import { transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { getRules } from '@lib/server/booking-rules';
+import { queueMail } from '@lib/server/mail';
+import { env } from '@lib/server/env';
+import { cancellationIntent, recordPaymentIntent } from '@lib/server/payment-intents';
+import { hasAnyRole } from '@lib/roles';
+import { isLateCancel } from '@lib/availability';
 import { toBooking, type Actor, type Booking, type BookingKind, type Row } from './records';
 import { siteSettings } from './gate';
 import { cancellationAttachment, formatRange, raiseSequence, sendCancellation } from './messages';

@@ -1,10 +1,10 @@
 /** Class blocks: an instructor's teaching time, and the machine time of an induction session. */
 import type { Knex } from 'knex';
-import { transaction } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { canOperate } from '../clearances/state';
-import { checkRequest, occupiedUntil } from '../../availability';
+import { transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { canOperate } from '@lib/server/clearances/state';
+import { checkRequest, occupiedUntil } from '@lib/availability';
 import type { Actor, Booking, MachineRow, Row } from './records';
 import { assertFree, insertBooking, lockMachine, outOfService, ruleContext } from './gate';
 import { raiseSequence, sendConfirmation } from './messages';

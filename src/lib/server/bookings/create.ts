@@ -1,11 +1,11 @@
 /** Creating a personal booking: the gate, the rules, the quota, the declared materials, the insert, the e-mail. */
-import { retryOnConflict, transaction } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { canOperate } from '../clearances/state';
-import { checkDeclaredMaterials } from '../materials';
-import { recordPaymentIntent } from '../payment-intents';
-import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '../../availability';
+import { retryOnConflict, transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { canOperate } from '@lib/server/clearances/state';
+import { checkDeclaredMaterials } from '@lib/server/materials';
+import { recordPaymentIntent } from '@lib/server/payment-intents';
+import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '@lib/availability';
 import type { Actor, Booking, BookingInput } from './records';
 import { clashAndUse, insertBooking, lockMachine, outOfService, ruleContext, slotTaken } from './gate';
 import { sendConfirmation } from './messages';

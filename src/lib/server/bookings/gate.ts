@@ -4,11 +4,11 @@
  * The weekly quota is checked under a per-person advisory lock held to the end of the transaction.
  */
 import type { Knex } from 'knex';
-import { db, pgCode, PG } from '../db';
-import { DomainError } from '../errors';
-import { getRules, listClosures } from '../booking-rules';
-import type { Tier } from '../../vocabulary';
-import { localWeek } from '../../availability';
+import { db, pgCode, PG } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { getRules, listClosures } from '@lib/server/booking-rules';
+import type { Tier } from '@lib/vocabulary';
+import { localWeek } from '@lib/availability';
 import { ACTIVE_STATES, QUOTA_STATES, toBooking, type Booking, type Conn, type MachineRow, type Row } from './records';
 
 /**

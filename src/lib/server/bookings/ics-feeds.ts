@@ -1,10 +1,10 @@
 /** Private calendar feeds: a secret URL per person serving their bookings as an .ics document. */
 import crypto from 'node:crypto';
-import { db, transaction } from '../db';
-import { recordAudit } from '../audit';
-import { env } from '../env';
-import { getSettings } from '../settings';
-import { buildIcs } from '../../ics';
+import { db, transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { env } from '@lib/server/env';
+import { getSettings } from '@lib/server/settings';
+import { buildIcs } from '@lib/ics';
 import { hashToken, type Row } from './records';
 
 export async function feedStatus(personId: string): Promise<{ active: boolean; createdAt: Date | null }> {

@@ -1,12 +1,12 @@
 /** What a booking's owner is sent: the confirmation and cancellation e-mails and their calendar (.ics) files. */
 import type { Knex } from 'knex';
-import { queueMail, type MailAttachment } from '../mail';
-import { env } from '../env';
-import { buildIcs } from '../../ics';
+import { queueMail, type MailAttachment } from '@lib/server/mail';
+import { env } from '@lib/server/env';
+import { buildIcs } from '@lib/ics';
 import type { Booking, Conn, MachineRow, Row } from './records';
 import { siteSettings } from './gate';
-import { siteLocale } from '../settings';
-import { siteFormat } from '../../format';
+import { siteLocale } from '@lib/server/settings';
+import { siteFormat } from '@lib/format';
 
 export async function formatRange(q: Conn, b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
   return siteFormat(await siteLocale(q), tz).longRange(b.startsAt, b.endsAt);

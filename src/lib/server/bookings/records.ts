@@ -5,8 +5,8 @@
  */
 import crypto from 'node:crypto';
 import type { Knex } from 'knex';
-import { db } from '../db';
-import type { Role } from '../../roles';
+import { db } from '@lib/server/db';
+import type { Role } from '@lib/roles';
 
 export type Conn = Knex | Knex.Transaction;
 

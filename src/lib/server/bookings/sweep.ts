@@ -1,8 +1,8 @@
 /** The sweep (run every minute by the worker): no-shows and expired waitlist holds. */
-import { transaction } from '../db';
-import { recordAudit } from '../audit';
-import { recordPaymentIntent } from '../payment-intents';
-import { NO_SHOW_AFTER_MINUTES } from '../../availability';
+import { transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { recordPaymentIntent } from '@lib/server/payment-intents';
+import { NO_SHOW_AFTER_MINUTES } from '@lib/availability';
 import type { Row } from './records';
 import { offerFreedTime } from './waitlist';
 

@@ -1,14 +1,14 @@
 /** The waitlist: joining it, offering freed time as a 15-minute hold, and claiming the hold. */
 import crypto from 'node:crypto';
 import type { Knex } from 'knex';
-import { transaction } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { canOperate } from '../clearances/state';
-import { getRules, getTier } from '../booking-rules';
-import { queueMail } from '../mail';
-import { env } from '../env';
-import { checkQuota, checkRequest, minutesBetween, occupiedUntil, type Interval } from '../../availability';
+import { transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { canOperate } from '@lib/server/clearances/state';
+import { getRules, getTier } from '@lib/server/booking-rules';
+import { queueMail } from '@lib/server/mail';
+import { env } from '@lib/server/env';
+import { checkQuota, checkRequest, minutesBetween, occupiedUntil, type Interval } from '@lib/availability';
 import { hashToken, HOLD_MINUTES, toBooking, type Actor, type Booking, type Row } from './records';
 import { assertFree, insertBooking, lockMachine, lockPerson, outOfService, ruleContext, siteSettings, weeklyMinutes } from './gate';
 import { formatRange, sendConfirmation } from './messages';

@@ -1,14 +1,14 @@
 /** The Book screen's reads: the week feed of bookings, closures and open hours, free ranges, my bookings, now and next. */
-import { db } from '../db';
-import { DomainError } from '../errors';
-import { getRulesOf, listClosures } from '../booking-rules';
-import { type MachineRules } from '../../availability';
-import type { Tier } from '../../vocabulary';
-import { getSettings } from '../settings';
-import { heldOnBookings } from '../payment-intents';
-import { quoteFor } from '../prices';
-import { hasAnyRole } from '../../roles';
-import { freeRanges, localWeek, openIntervals, type Interval } from '../../availability';
+import { db } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { getRulesOf, listClosures } from '@lib/server/booking-rules';
+import { type MachineRules } from '@lib/availability';
+import type { Tier } from '@lib/vocabulary';
+import { getSettings } from '@lib/server/settings';
+import { heldOnBookings } from '@lib/server/payment-intents';
+import { quoteFor } from '@lib/server/prices';
+import { hasAnyRole } from '@lib/roles';
+import { freeRanges, localWeek, openIntervals, type Interval } from '@lib/availability';
 import { ACTIVE_STATES, toBooking, type Actor, type Booking, type BookingKind, type BookingState, type Row } from './records';
 import { ruleContext, tierAndWeeklyMinutes } from './gate';
 

@@ -2,10 +2,10 @@
  * Cascade: deactivating a person cancels their future bookings (the worker releases their holds) — it sits above
  * the people entity and the bookings workflow so that neither imports the other.
  */
-import { transaction } from '../db';
-import { DomainError } from '../errors';
-import { applyActive, mustGetPerson, type Person } from '../people';
-import { cancelFutureBookingsOf } from '../bookings/cancel';
+import { transaction } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { applyActive, mustGetPerson, type Person } from '@lib/server/people';
+import { cancelFutureBookingsOf } from '@lib/server/bookings/cancel';
 
 /**
  * Deactivates a person (admin): they can no longer sign in, and their current session ends at their

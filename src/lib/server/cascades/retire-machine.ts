@@ -2,12 +2,12 @@
  * Cascade: retiring a machine reaches into bookings (cancelled, holds released) and faults (closed) — so it lives
  * above the machines entity and those workflows, and none of them imports the other.
  */
-import { transaction } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { getMachine, lockMachine, type Machine } from '../machines';
-import { cancelFutureBookingsOnMachine } from '../bookings/cancel';
-import { closeFaultsOfRetiredMachine } from '../faults/triage';
+import { transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { getMachine, lockMachine, type Machine } from '@lib/server/machines';
+import { cancelFutureBookingsOnMachine } from '@lib/server/bookings/cancel';
+import { closeFaultsOfRetiredMachine } from '@lib/server/faults/triage';
 
 /**
  * Retires a machine (admin): it leaves every list, its label page and the booking calendar, and takes no more

@@ -1,10 +1,10 @@
 /** Machine groups (what a clearance is for) and the member's own clearances. */
-import { db, transaction, type Conn } from '../db';
-import { DomainError } from '../errors';
-import { recordAudit } from '../audit';
-import { effectiveState, nextStep, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
+import { db, transaction, type Conn } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { recordAudit } from '@lib/server/audit';
+import { effectiveState, nextStep, type ClearanceLevel, type ClearanceState, type RefresherRule } from '@lib/clearance-rules';
 import { type ClearanceRow, formatLocalDate, type MachineGroup } from './state';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // Groups

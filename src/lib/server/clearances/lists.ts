@@ -1,8 +1,8 @@
 /** What instructors see: the sign-off queue and the list of clearances. */
-import { db } from '../db';
-import { effectiveState, type ClearanceLevel, type ClearanceState } from '../../clearance-rules';
+import { db } from '@lib/server/db';
+import { effectiveState, type ClearanceLevel, type ClearanceState } from '@lib/clearance-rules';
 import { formatLocalDate } from './state';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // Instructor views

@@ -3,11 +3,11 @@
  * check-ins call. The rules themselves (states, transitions, lapse, levels, next steps) are in the pure module
  * src/lib/clearance-rules.ts. Beside it: groups.ts, transitions.ts, lists.ts, sweep.ts.
  */
-import { db, type Conn } from '../db';
-import { decideOperate, effectiveState, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
-import { getSettings } from '../settings';
-import { siteFormat } from '../../format';
-export type { ClearanceState } from '../../clearance-rules';
+import { db, type Conn } from '@lib/server/db';
+import { decideOperate, effectiveState, type ClearanceLevel, type ClearanceState, type RefresherRule } from '@lib/clearance-rules';
+import { getSettings } from '@lib/server/settings';
+import { siteFormat } from '@lib/format';
+export type { ClearanceState } from '@lib/clearance-rules';
 
 export type OperateVerdict = { ok: true } | { ok: false; state: ClearanceState | 'none'; message: string };
 

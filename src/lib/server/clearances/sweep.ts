@@ -1,11 +1,11 @@
 /** Timed work (run by the worker on a schedule): clearances lapse, and people are warned before. */
-import { transaction } from '../db';
-import { recordAudit } from '../audit';
-import { queueMail } from '../mail';
-import { needsLapseWarning, nextStep } from '../../clearance-rules';
+import { transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { queueMail } from '@lib/server/mail';
+import { needsLapseWarning, nextStep } from '@lib/clearance-rules';
 import { formatLocalDate, formatLocalDateTime } from './state';
 import { apply, link } from './transitions';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // Timed work (run by the worker on a schedule)

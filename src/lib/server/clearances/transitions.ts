@@ -1,13 +1,13 @@
 /** Clearance transitions: quiz passed, signed off, suspended, reinstated — each in the caller's transaction, audited. */
 import type { Knex } from 'knex';
-import { transaction, type Conn } from '../db';
-import { DomainError } from '../errors';
-import { recordAudit } from '../audit';
-import { queueMail } from '../mail';
-import { env } from '../env';
-import { effectiveState, expiryFor, nextStep, transition, type ClearanceEvent, type ClearanceLevel, type ClearanceState, type RefresherRule } from '../../clearance-rules';
+import { transaction, type Conn } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { recordAudit } from '@lib/server/audit';
+import { queueMail } from '@lib/server/mail';
+import { env } from '@lib/server/env';
+import { effectiveState, expiryFor, nextStep, transition, type ClearanceEvent, type ClearanceLevel, type ClearanceState, type RefresherRule } from '@lib/clearance-rules';
 import { type ClearanceRow, formatLocalDate } from './state';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // Transitions (each in the caller's transaction, audited)

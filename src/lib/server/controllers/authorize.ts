@@ -1,16 +1,16 @@
 /** A controller asks whether a badge may start its machine: the person's clearance, booking or walk-up, and the checks. */
-import { db, pgCode, PG, transaction } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { canOperate } from '../clearances/state';
-import { checkIn, machineCoolant } from '../machine-sessions';
-import { assertCanBook } from '../payments/charge-runs';
-import { getRules, listClosures } from '../booking-rules';
-import { getSettings } from '../settings';
-import { badgeHash } from '../badges';
-import { openIntervals } from '../../availability';
-import { PRE_USE_ITEMS } from '../../checklist';
-import { DENY_MESSAGES, WALK_UP_MAX_MINUTES, badgeHint, normaliseBadge, type DenyReason } from '../../controller-rules';
+import { db, pgCode, PG, transaction } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { canOperate } from '@lib/server/clearances/state';
+import { checkIn, machineCoolant } from '@lib/server/machine-sessions';
+import { assertCanBook } from '@lib/server/payments/charge-runs';
+import { getRules, listClosures } from '@lib/server/booking-rules';
+import { getSettings } from '@lib/server/settings';
+import { badgeHash } from '@lib/server/badges';
+import { openIntervals } from '@lib/availability';
+import { PRE_USE_ITEMS } from '@lib/checklist';
+import { DENY_MESSAGES, WALK_UP_MAX_MINUTES, badgeHint, normaliseBadge, type DenyReason } from '@lib/controller-rules';
 import { type Controller, walkUpsAllowed } from './registry';
 
 // ---------------------------------------------------------------------------------------------

@@ -1,10 +1,10 @@
 /** Controllers not heard from while their machine is booked: the stewards are told once. */
-import { transaction } from '../db';
-import { env } from '../env';
-import { recordAudit } from '../audit';
-import { queueMail } from '../mail';
-import { activeWithRole } from '../people';
-import { CONTROLLER_OFFLINE_MINUTES } from '../../controller-rules';
+import { transaction } from '@lib/server/db';
+import { env } from '@lib/server/env';
+import { recordAudit } from '@lib/server/audit';
+import { queueMail } from '@lib/server/mail';
+import { activeWithRole } from '@lib/server/people';
+import { CONTROLLER_OFFLINE_MINUTES } from '@lib/controller-rules';
 import type { Controller } from './registry';
 
 // ---------------------------------------------------------------------------------------------

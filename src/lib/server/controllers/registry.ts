@@ -4,10 +4,10 @@
  * check-in and check-out go through machine-sessions.ts, exactly as from the phone.
  */
 import { createHash, randomBytes } from 'node:crypto';
-import { db, transaction, type Conn } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { CONTROLLER_OFFLINE_MINUTES } from '../../controller-rules';
+import { db, transaction, type Conn } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { CONTROLLER_OFFLINE_MINUTES } from '@lib/controller-rules';
 
 export interface Controller {
   id: string;

@@ -1,13 +1,13 @@
 /** The device's heartbeat (measured beam seconds) and release (badge out or time up: the person is checked out). */
-import { db } from '../db';
-import { recordAudit } from '../audit';
-import { DomainError } from '../errors';
-import { checkOut, getSession, type MachineSession } from '../machine-sessions';
-import { getCharge, type Charge } from '../payments/charge-records';
-import { billableMinutes } from '../../controller-rules';
+import { db } from '@lib/server/db';
+import { recordAudit } from '@lib/server/audit';
+import { DomainError } from '@lib/server/errors';
+import { checkOut, getSession, type MachineSession } from '@lib/server/machine-sessions';
+import { getCharge, type Charge } from '@lib/server/payments/charge-records';
+import { billableMinutes } from '@lib/controller-rules';
 import type { Controller } from './registry';
 import { answerOf, snapshot, type StateAnswer } from './state';
-import type { Conn } from '../db';
+import type { Conn } from '@lib/server/db';
 
 // ---------------------------------------------------------------------------------------------
 // Heartbeat and release

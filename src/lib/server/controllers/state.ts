@@ -1,11 +1,11 @@
 /** The machine's enable state as its controller sees it: computed from the facts, and a long-poll woken by database notifications. */
 import { EventEmitter } from 'node:events';
 import pg from 'pg';
-import { db } from '../db';
-import { env } from '../env';
-import { log } from '../log';
-import { canOperate } from '../clearances/state';
-import { decideState, stateDeadline, type ControllerState, type StateFacts } from '../../controller-rules';
+import { db } from '@lib/server/db';
+import { env } from '@lib/server/env';
+import { log } from '@lib/server/log';
+import { canOperate } from '@lib/server/clearances/state';
+import { decideState, stateDeadline, type ControllerState, type StateFacts } from '@lib/controller-rules';
 import type { Controller } from './registry';
 
 // ---------------------------------------------------------------------------------------------

@@ -8,21 +8,21 @@
  * degraded and keeps its bookings.
  */
 import type { Knex } from 'knex';
-import { recordAudit } from '../audit';
+import { recordAudit } from '@lib/server/audit';
 import { findMachine, lockMachineForChange, openFaultCounts, type MachineRow } from './records';
-import { transaction } from '../db';
-import { env } from '../env';
-import { DomainError } from '../errors';
-import { queueMail } from '../mail';
-import { recordPaymentIntent } from '../payment-intents';
-import { releaseHoldsAfterCancel } from '../payments/intents';
-import { cancellationAttachment, raiseSequence } from '../bookings/messages';
-import { offerFreedTime } from '../bookings/waitlist';
-import type { FaultSeverity, MachineStatus } from '../../faults-shared';
-import type { Conn } from '../db';
-import type { Actor } from '../../roles';
-import { getSettings, siteLocale } from '../settings';
-import { siteFormat } from '../../format';
+import { transaction } from '@lib/server/db';
+import { env } from '@lib/server/env';
+import { DomainError } from '@lib/server/errors';
+import { queueMail } from '@lib/server/mail';
+import { recordPaymentIntent } from '@lib/server/payment-intents';
+import { releaseHoldsAfterCancel } from '@lib/server/payments/intents';
+import { cancellationAttachment, raiseSequence } from '@lib/server/bookings/messages';
+import { offerFreedTime } from '@lib/server/bookings/waitlist';
+import type { FaultSeverity, MachineStatus } from '@lib/faults-shared';
+import type { Conn } from '@lib/server/db';
+import type { Actor } from '@lib/roles';
+import { getSettings, siteLocale } from '@lib/server/settings';
+import { siteFormat } from '@lib/format';
 
 async function formatRange(q: Conn, startsAt: Date, endsAt: Date, tz: string): Promise<string> {
   return siteFormat(await siteLocale(q), tz).longRange(startsAt, endsAt);

@@ -1,7 +1,7 @@
 /** The photos of a fault report: checked by content, re-encoded without their metadata. */
 import sharp from 'sharp';
-import { DomainError } from '../errors';
-import { checkUpload } from '../file-types';
+import { DomainError } from '@lib/server/errors';
+import { checkUpload } from '@lib/server/file-types';
 
 /** At most this many photos per report, each at most this many bytes before re-encoding. */
 export const MAX_PHOTOS = 3;

@@ -3,14 +3,14 @@
  * and its status history. The writes live beside: reporting.ts, triage.ts, machine-status.ts.
  */
 import type { Knex } from 'knex';
-import { db, type Conn } from '../db';
-import { DomainError } from '../errors';
-import { getObject } from '../storage';
-import { lockMachine } from '../machines';
-import { hasAnyRole, type Actor } from '../../roles';
-import type { FaultSeverity, FaultStatus, MachineStatus } from '../../faults-shared';
+import { db, type Conn } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { getObject } from '@lib/server/storage';
+import { lockMachine } from '@lib/server/machines';
+import { hasAnyRole, type Actor } from '@lib/roles';
+import type { FaultSeverity, FaultStatus, MachineStatus } from '@lib/faults-shared';
 
-export type { FaultSeverity, FaultStatus, MachineStatus } from '../../faults-shared';
+export type { FaultSeverity, FaultStatus, MachineStatus } from '@lib/faults-shared';
 
 export interface FaultPhoto {
   key: string;

@@ -1,19 +1,19 @@
 /** Reporting a fault at a machine (anyone signed in): photos stored, the record, the stewards told, the status changed. */
 import { randomUUID } from 'node:crypto';
 import type { Knex } from 'knex';
-import { recordAudit } from '../audit';
-import { db, transaction } from '../db';
-import { env } from '../env';
-import { DomainError } from '../errors';
-import { queueMail } from '../mail';
-import { releaseHoldsAfterCancel } from '../payments/intents';
-import { activeWithRole } from '../people';
-import { putObject } from '../storage';
-import type { FaultSeverity, MachineStatus } from '../../faults-shared';
+import { recordAudit } from '@lib/server/audit';
+import { db, transaction } from '@lib/server/db';
+import { env } from '@lib/server/env';
+import { DomainError } from '@lib/server/errors';
+import { queueMail } from '@lib/server/mail';
+import { releaseHoldsAfterCancel } from '@lib/server/payments/intents';
+import { activeWithRole } from '@lib/server/people';
+import { putObject } from '@lib/server/storage';
+import type { FaultSeverity, MachineStatus } from '@lib/faults-shared';
 import { changeStatus, statusFor } from './machine-status';
 import { preparePhotos, type PhotoUpload } from './photos';
 import { findMachine, getFault, lockMachineForChange, UUID, type Fault, type FaultPhoto, type MachineRow } from './records';
-import type { Actor } from '../../roles';
+import type { Actor } from '@lib/roles';
 
 export interface FaultInput {
   summary: string;

@@ -1,16 +1,16 @@
 /** Steward work on a fault: triage (a change to `stop` takes the machine out of service), notes, resolving. */
-import { recordAudit } from '../audit';
-import { transaction } from '../db';
-import { env } from '../env';
-import { DomainError } from '../errors';
-import { queueMail } from '../mail';
-import { releaseHoldsAfterCancel } from '../payments/intents';
-import type { FaultSeverity, MachineStatus } from '../../faults-shared';
+import { recordAudit } from '@lib/server/audit';
+import { transaction } from '@lib/server/db';
+import { env } from '@lib/server/env';
+import { DomainError } from '@lib/server/errors';
+import { queueMail } from '@lib/server/mail';
+import { releaseHoldsAfterCancel } from '@lib/server/payments/intents';
+import type { FaultSeverity, MachineStatus } from '@lib/faults-shared';
 import { changeStatus, returnToService, statusFor, type ReturnChecklist } from './machine-status';
 import { getFault, lockMachineForChange, openFaultCounts, type Fault, type FaultStatus, type MachineRow } from './records';
 import type { Knex } from 'knex';
-import type { Conn } from '../db';
-import type { Actor } from '../../roles';
+import type { Conn } from '@lib/server/db';
+import type { Actor } from '@lib/roles';
 
 export interface TriageInput {
   severity?: FaultSeverity;

@@ -1,14 +1,14 @@
 /** Publishing and cancelling an induction session (instructor), with its class block on the machine. */
-import { transaction } from '../db';
-import { DomainError } from '../errors';
-import { recordAudit } from '../audit';
-import { queueMail } from '../mail';
-import { releaseClassTime, reserveClassTime } from '../bookings/class-blocks';
-import { SESSION_KIND_LABELS, placeLabel, type SessionInput } from '../../induction';
+import { transaction } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { recordAudit } from '@lib/server/audit';
+import { queueMail } from '@lib/server/mail';
+import { releaseClassTime, reserveClassTime } from '@lib/server/bookings/class-blocks';
+import { SESSION_KIND_LABELS, placeLabel, type SessionInput } from '@lib/induction';
 import { formatSessionTime, link, sessionRow, type SessionView, view } from './records';
 import { roster } from './roster';
 import { icsAttachment } from './seats';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // Publishing

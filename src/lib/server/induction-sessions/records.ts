@@ -4,11 +4,11 @@
  * signs people off from the roster. This file: the session records and how they are read. Beside it: publishing.ts,
  * seats.ts, roster.ts, reminders.ts.
  */
-import { db, type Conn } from '../db';
-import { siteFormat } from '../../format';
-import { DomainError } from '../errors';
-import { env } from '../env';
-import { placeLabel, type SessionKind } from '../../induction';
+import { db, type Conn } from '@lib/server/db';
+import { siteFormat } from '@lib/format';
+import { DomainError } from '@lib/server/errors';
+import { env } from '@lib/server/env';
+import { placeLabel, type SessionKind } from '@lib/induction';
 
 export interface SessionView {
   id: string;

@@ -1,10 +1,10 @@
 /** Timed work: seat reminders before a session. */
-import { transaction } from '../db';
-import { queueMail } from '../mail';
-import { placeLabel } from '../../induction';
+import { transaction } from '@lib/server/db';
+import { queueMail } from '@lib/server/mail';
+import { placeLabel } from '@lib/induction';
 import { formatSessionTime, link, SAFETY, sessionRow } from './records';
 import { icsAttachment } from './seats';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // Timed work

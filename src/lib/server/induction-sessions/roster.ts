@@ -1,16 +1,16 @@
 /** The member's view of their sessions, and the instructor's roster: attendance and sign-off. */
 import type { Knex } from 'knex';
-import { db, transaction } from '../db';
-import { DomainError } from '../errors';
-import { recordAudit } from '../audit';
-import { queueMail } from '../mail';
-import { clearanceOf } from '../clearances/state';
-import { signOffIn } from '../clearances/transitions';
-import { placeLabel, type SeatState, type SessionKind } from '../../induction';
-import type { ClearanceLevel, ClearanceState } from '../../clearance-rules';
+import { db, transaction } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { recordAudit } from '@lib/server/audit';
+import { queueMail } from '@lib/server/mail';
+import { clearanceOf } from '@lib/server/clearances/state';
+import { signOffIn } from '@lib/server/clearances/transitions';
+import { placeLabel, type SeatState, type SessionKind } from '@lib/induction';
+import type { ClearanceLevel, ClearanceState } from '@lib/clearance-rules';
 import { formatSessionTime, link, sessionQuery, sessionRow, type SessionRow, type SessionView, view } from './records';
 import { offerFreedSeat, personRow } from './seats';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // The member's view (Clearances cards)

@@ -3,15 +3,15 @@
  * so concurrent requests for the last seat are answered one after another (one 201, the rest 409 session_full).
  */
 import type { Knex } from 'knex';
-import { transaction, type Conn } from '../db';
-import { DomainError } from '../errors';
-import { recordAudit } from '../audit';
-import { queueMail } from '../mail';
-import { clearanceOf } from '../clearances/state';
-import { buildIcs } from '../../ics';
-import { SESSION_KIND_LABELS, placeLabel, seatEligibility, type SeatState } from '../../induction';
+import { transaction, type Conn } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { recordAudit } from '@lib/server/audit';
+import { queueMail } from '@lib/server/mail';
+import { clearanceOf } from '@lib/server/clearances/state';
+import { buildIcs } from '@lib/ics';
+import { SESSION_KIND_LABELS, placeLabel, seatEligibility, type SeatState } from '@lib/induction';
 import { formatSessionTime, link, SAFETY, sessionRow, type SessionRow, type SessionView, view } from './records';
-import { getSettings } from '../settings';
+import { getSettings } from '@lib/server/settings';
 
 // ---------------------------------------------------------------------------------------------
 // Seats

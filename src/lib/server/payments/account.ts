@@ -1,12 +1,12 @@
 /** What a person (and the finance report) sees of their money: the account summary, charges, refunds, recharge CSV. */
-import { majorUnits, toCsv } from '../../csv';
-import { startOfZonedDay, zonedDate } from '../../time';
-import { db } from '../db';
-import type { DomainError } from '../errors';
-import { getSettings } from '../settings';
+import { majorUnits, toCsv } from '@lib/csv';
+import { startOfZonedDay, zonedDate } from '@lib/time';
+import { db } from '@lib/server/db';
+import type { DomainError } from '@lib/server/errors';
+import { getSettings } from '@lib/server/settings';
 import { chargeQuery, personFor, toCharge, type Charge } from './charge-records';
 import { savedCard } from './cards';
-import type { AccountSummary, ChargeSort } from '../../account-views';
+import type { AccountSummary, ChargeSort } from '@lib/account-views';
 
 
 

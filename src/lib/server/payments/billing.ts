@@ -1,9 +1,9 @@
 /** Billing: the hold at booking, the charge for beam time at check-out, and how a quote becomes a charge. */
-import { pgCode, PG, db, transaction } from '../db';
-import { DomainError } from '../errors';
-import { quoteFor, type PricedQuote } from '../prices';
-import { breakdownOf, settle } from '../../pricing';
-import { type Tier } from '../../vocabulary';
+import { pgCode, PG, db, transaction } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { quoteFor, type PricedQuote } from '@lib/server/prices';
+import { breakdownOf, settle } from '@lib/pricing';
+import { type Tier } from '@lib/vocabulary';
 import { cardOf, getCharge, personFor, updateCharge, type Charge, type ChargeKind, type ChargeState } from './charge-records';
 import { assertCanBook, placeHold, run } from './charge-runs';
 import { assignReceipt, queueReceipt } from './receipts';

@@ -1,12 +1,12 @@
 /** Customers and cards at the provider: the person's customer, the saved card. */
 import { createHash } from 'node:crypto';
-import { recordAudit } from '../audit';
-import { db, transaction } from '../db';
-import { DomainError } from '../errors';
+import { recordAudit } from '@lib/server/audit';
+import { db, transaction } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
 import { personFor } from './charge-records';
 import { settleOwed } from './charge-runs';
 import { classify, provider, unreachable, type ProviderError } from './provider';
-import type { SavedCard } from '../../account-views';
+import type { SavedCard } from '@lib/account-views';
 
 
 /** The person's customer at the provider, created on first use (and again if the provider lost it). */

@@ -15,12 +15,12 @@
  *   settled          — a failed or carried charge paid later as part of another charge (settled_by)
  */
 import type { Knex } from 'knex';
-import type { Breakdown } from '../../pricing';
-import type { ChargeKind, ChargeState, Tier } from '../../vocabulary';
-import { db, type Conn } from '../db';
-import { DomainError } from '../errors';
+import type { Breakdown } from '@lib/pricing';
+import type { ChargeKind, ChargeState, Tier } from '@lib/vocabulary';
+import { db, type Conn } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
 
-export type { ChargeKind, ChargeState } from '../../vocabulary';
+export type { ChargeKind, ChargeState } from '@lib/vocabulary';
 
 export interface Charge {
   id: string;

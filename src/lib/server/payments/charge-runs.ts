@@ -2,14 +2,14 @@
  * Provider operations on one charge (hold, charge, capture), each with its own idempotency key; a charge waiting
  * for the provider is `queued` with its operation kept in `pending_op` and driven again by the worker.
  */
-import { siteMoney } from '../settings';
+import { siteMoney } from '@lib/server/settings';
 import type { Knex } from 'knex';
-import { recordAudit } from '../audit';
-import { db, transaction } from '../db';
-import { env } from '../env';
-import { DomainError } from '../errors';
-import { queueMail } from '../mail';
-import { recordPaymentIntent } from '../payment-intents';
+import { recordAudit } from '@lib/server/audit';
+import { db, transaction } from '@lib/server/db';
+import { env } from '@lib/server/env';
+import { DomainError } from '@lib/server/errors';
+import { queueMail } from '@lib/server/mail';
+import { recordPaymentIntent } from '@lib/server/payment-intents';
 import { cardOf, getCharge, personFor, updateCharge, type Charge } from './charge-records';
 import { classify, key, provider, ProviderNotReady, type ProviderError } from './provider';
 import { assignReceipt, queueReceipt } from './receipts';

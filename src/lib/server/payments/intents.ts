@@ -2,16 +2,16 @@
  * Payment intents (payment-intents.ts): run by the worker, tried once at once by the request that recorded them,
  * and the calls that record-and-try them: releasing a booking's holds, a booking fee, a refund.
  */
-import { siteMoney } from '../settings';
-import { env } from '../env';
-import { db, holdingAConnection, transaction } from '../db';
-import { DomainError } from '../errors';
-import { log } from '../log';
-import { queueMail } from '../mail';
-import { recordAudit } from '../audit';
-import type { PaymentIntent } from '../payment-intents';
-import { activeWithRole } from '../people';
-import { quoteFor } from '../prices';
+import { siteMoney } from '@lib/server/settings';
+import { env } from '@lib/server/env';
+import { db, holdingAConnection, transaction } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { log } from '@lib/server/log';
+import { queueMail } from '@lib/server/mail';
+import { recordAudit } from '@lib/server/audit';
+import type { PaymentIntent } from '@lib/server/payment-intents';
+import { activeWithRole } from '@lib/server/people';
+import { quoteFor } from '@lib/server/prices';
 import { billQuote, chargeBeamTime, holdForBooking } from './billing';
 import { getCharge, personFor, updateCharge, type Charge } from './charge-records';
 import { drive, markFailed, parseOp } from './charge-runs';

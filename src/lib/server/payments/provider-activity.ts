@@ -1,5 +1,5 @@
 /** For reconciliation and support: what the provider and our records say happened in a period. */
-import { db } from '../db';
+import { db } from '@lib/server/db';
 import { provider } from './provider';
 
 /**

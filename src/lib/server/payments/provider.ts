@@ -6,9 +6,9 @@
  */
 import { AsyncLocalStorage } from 'node:async_hooks';
 import Stripe from 'stripe';
-import { env } from '../env';
-import { DomainError } from '../errors';
-import { log } from '../log';
+import { env } from '@lib/server/env';
+import { DomainError } from '@lib/server/errors';
+import { log } from '@lib/server/log';
 
 let client: Stripe | undefined;
 let quickClient: Stripe | undefined;

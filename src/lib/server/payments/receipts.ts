@@ -1,9 +1,9 @@
 /** Receipts: the number and date given when money is taken, and the e-mail that carries them. */
 import type { Knex } from 'knex';
-import { formatReceiptNumber, receiptPrefix } from '../../receipts';
-import { env } from '../env';
-import { queueMail } from '../mail';
-import { getSettings, siteMoney } from '../settings';
+import { formatReceiptNumber, receiptPrefix } from '@lib/receipts';
+import { env } from '@lib/server/env';
+import { queueMail } from '@lib/server/mail';
+import { getSettings, siteMoney } from '@lib/server/settings';
 import { personFor, updateCharge, type Charge } from './charge-records';
 
 /**

@@ -1,12 +1,12 @@
 /** Refunds: recorded first (the charge reads `refund pending`), then made at the provider exactly once. */
-import { siteMoney } from '../settings';
+import { siteMoney } from '@lib/server/settings';
 import { randomUUID } from 'node:crypto';
 import type { Knex } from 'knex';
-import { recordAudit } from '../audit';
-import { db, transaction } from '../db';
-import { DomainError } from '../errors';
-import { queueMail } from '../mail';
-import { recordPaymentIntent } from '../payment-intents';
+import { recordAudit } from '@lib/server/audit';
+import { db, transaction } from '@lib/server/db';
+import { DomainError } from '@lib/server/errors';
+import { queueMail } from '@lib/server/mail';
+import { recordPaymentIntent } from '@lib/server/payment-intents';
 import { getCharge, lockCharge, updateCharge, type Charge, type ChargeState } from './charge-records';
 import { classify, provider, ProviderNotReady, type ProviderError } from './provider';
 

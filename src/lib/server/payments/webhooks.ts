@@ -1,9 +1,9 @@
 /** Provider webhooks: refunds and failures made elsewhere reach our record. */
-import { siteMoney } from '../settings';
-import { recordAudit } from '../audit';
-import { transaction } from '../db';
-import { env } from '../env';
-import { queueMail } from '../mail';
+import { siteMoney } from '@lib/server/settings';
+import { recordAudit } from '@lib/server/audit';
+import { transaction } from '@lib/server/db';
+import { env } from '@lib/server/env';
+import { queueMail } from '@lib/server/mail';
 import { personFor, updateCharge } from './charge-records';
 import { verifyWebhook } from './provider';
 

@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { saveCard } from '../../../lib/server/payments/cards';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { saveCard } from '@lib/server/payments/cards';
 
 const body = z.object({ token: z.string().trim().regex(/^tok_[A-Za-z0-9_]{1,100}$/, 'Not a card token (tok_…).') }).strict();
 

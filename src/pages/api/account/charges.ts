@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { json, readQuery, requireSignedIn, route } from '../../../lib/server/http';
-import { listCharges } from '../../../lib/server/payments/account';
-import { page, pageSize } from '../../../lib/schemas';
-import { chargeJson } from '../../../lib/server/charge-json';
-import { CHARGE_SORTS } from '../../../lib/account-views';
+import { json, readQuery, requireSignedIn, route } from '@lib/server/http';
+import { listCharges } from '@lib/server/payments/account';
+import { page, pageSize } from '@lib/schemas';
+import { chargeJson } from '@lib/server/charge-json';
+import { CHARGE_SORTS } from '@lib/account-views';
 
 const query = z.object({
   page,

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { closeAccount } from '../../../lib/server/accounts';
-import { endSession } from '../../../lib/server/auth-forms';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { closeAccount } from '@lib/server/accounts';
+import { endSession } from '@lib/server/auth-forms';
 
 const body = z.object({ confirm: z.literal(true, { error: 'Tick the box to confirm.' }), password: z.string().min(1).max(1000) }).strict();
 

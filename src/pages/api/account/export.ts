@@ -1,5 +1,5 @@
-import { json, requireSignedIn, route } from '../../../lib/server/http';
-import { exportPersonalData } from '../../../lib/server/account-export';
+import { json, requireSignedIn, route } from '@lib/server/http';
+import { exportPersonalData } from '@lib/server/account-export';
 
 /** GET /api/account/export (signed in) → 200 JSON {person, clearances, quizAttempts, bookings, sessions, charges, faults}: the person's own rows only. */
 export const GET = route(async ({ locals, url }) => {

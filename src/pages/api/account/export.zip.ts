@@ -1,5 +1,5 @@
-import { requireSignedIn, route } from '../../../lib/server/http';
-import { exportPersonalData, personalDataZip } from '../../../lib/server/account-export';
+import { requireSignedIn, route } from '@lib/server/http';
+import { exportPersonalData, personalDataZip } from '@lib/server/account-export';
 
 /** GET /api/account/export.zip (signed in) → the same data as a zip of CSV files, one per part. */
 export const GET = route(async ({ locals }) => {

@@ -1,5 +1,5 @@
-import { json, requireSignedIn, route } from '../../../lib/server/http';
-import { accountSummary } from '../../../lib/server/payments/account';
+import { json, requireSignedIn, route } from '@lib/server/http';
+import { accountSummary } from '@lib/server/payments/account';
 
 /** GET /api/account (signed in) → tier, cost centre, saved card (brand, last4), balance owed. */
 export const GET = route(async ({ locals }) => {

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { changePassword } from '../../../lib/server/accounts';
-import { startSession } from '../../../lib/server/auth-forms';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { changePassword } from '@lib/server/accounts';
+import { startSession } from '@lib/server/auth-forms';
 
 const body = z.object({ current: z.string().min(1).max(1000), password: z.string().min(1).max(1000) }).strict();
 

@@ -1,5 +1,5 @@
-import { json, requireRole, route } from '../../../lib/server/http';
-import { auditFacets } from '../../../lib/server/audit';
+import { json, requireRole, route } from '@lib/server/http';
+import { auditFacets } from '@lib/server/audit';
 
 /** GET /api/audit/facets (admin) → {kinds, actors}: the choices of the Audit screen's filters. */
 export const GET = route(async ({ locals }) => {

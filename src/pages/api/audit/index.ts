@@ -1,7 +1,7 @@
-import { json, readQuery, requireRole, route } from '../../../lib/server/http';
-import { listAudit } from '../../../lib/server/audit';
-import { getSettings } from '../../../lib/server/settings';
-import { auditPageQuery, toAuditFilter } from '../../../lib/audit-filter';
+import { json, readQuery, requireRole, route } from '@lib/server/http';
+import { listAudit } from '@lib/server/audit';
+import { getSettings } from '@lib/server/settings';
+import { auditPageQuery, toAuditFilter } from '@lib/audit-filter';
 
 /**
  * GET /api/audit?actor=&kind=&q=&from=&to=&page=&pageSize=&sort=&dir= (admin) → a page of the audit

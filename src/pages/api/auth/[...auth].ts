@@ -1,8 +1,8 @@
 /** Auth.js endpoints (sign-in callback, session, csrf). The client address is passed on for throttling. */
 import type { APIContext, APIRoute } from 'astro';
 import { AstroAuth } from 'auth-astro/server';
-import { CLIENT_ADDRESS_HEADER, clientAddressOf } from '../../../lib/server/client-address';
-import { errorResponse } from '../../../lib/server/http';
+import { CLIENT_ADDRESS_HEADER, clientAddressOf } from '@lib/server/client-address';
+import { errorResponse } from '@lib/server/http';
 
 const handlers = AstroAuth();
 

@@ -1,5 +1,5 @@
-import { idParam, json, requireRole, route } from '../../../lib/server/http';
-import { removeBadge } from '../../../lib/server/badges';
+import { idParam, json, requireRole, route } from '@lib/server/http';
+import { removeBadge } from '@lib/server/badges';
 
 /** DELETE /api/badges/:id (steward, admin) → 200 {removed: true}. */
 export const DELETE = route(async ({ locals, params }) => {

@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readQuery, requireRole, route } from '../../../lib/server/http';
-import { findPeople } from '../../../lib/server/badges';
+import { json, readQuery, requireRole, route } from '@lib/server/http';
+import { findPeople } from '@lib/server/badges';
 
 const query = z.object({ q: z.string().trim().min(2, 'Type at least 2 characters.').max(100) }).strict();
 

@@ -1,5 +1,5 @@
-import { json, requireRole, route } from '../../../lib/server/http';
-import { recentUnknownBadges } from '../../../lib/server/badges';
+import { json, requireRole, route } from '@lib/server/http';
+import { recentUnknownBadges } from '@lib/server/badges';
 
 /** GET /api/badges/unknown (steward, admin) → badges controllers read in the last hour that nobody holds. */
 export const GET = route(async ({ locals }) => {

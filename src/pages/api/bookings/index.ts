@@ -1,11 +1,11 @@
 import { z } from 'zod';
-import { json, jsonWithEtag, readJson, readQuery, requireSignedIn, route } from '../../../lib/server/http';
-import { calendarFeed } from '../../../lib/server/bookings/week-view';
-import { createBooking } from '../../../lib/server/bookings/create';
-import { assertCanBook } from '../../../lib/server/payments/charge-runs';
-import { bookingHoldNotice } from '../../../lib/server/payments/account';
-import { tryIntentNow } from '../../../lib/server/payments/intents';
-import { bookingNotes, endsAfterStart, endsAfterStartMessage, isoInstant, materialDeclaration, uuid } from '../../../lib/schemas';
+import { json, jsonWithEtag, readJson, readQuery, requireSignedIn, route } from '@lib/server/http';
+import { calendarFeed } from '@lib/server/bookings/week-view';
+import { createBooking } from '@lib/server/bookings/create';
+import { assertCanBook } from '@lib/server/payments/charge-runs';
+import { bookingHoldNotice } from '@lib/server/payments/account';
+import { tryIntentNow } from '@lib/server/payments/intents';
+import { bookingNotes, endsAfterStart, endsAfterStartMessage, isoInstant, materialDeclaration, uuid } from '@lib/schemas';
 
 const feedQuery = z
   .object({ machineId: uuid.optional(), from: isoInstant, to: isoInstant })

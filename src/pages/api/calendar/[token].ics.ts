@@ -1,5 +1,5 @@
-import { route, errorResponse } from '../../../lib/server/http';
-import { feedIcs } from '../../../lib/server/bookings/ics-feeds';
+import { route, errorResponse } from '@lib/server/http';
+import { feedIcs } from '@lib/server/bookings/ics-feeds';
 
 /** GET /api/calendar/<token>.ics → the person's private calendar feed (no sign-in: the token is the key). */
 export const GET = route(async ({ params }) => {

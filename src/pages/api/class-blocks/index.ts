@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createClassBlock } from '../../../lib/server/bookings/class-blocks';
-import { bookingNotes, email, endsAfterStart, endsAfterStartMessage, isoInstant, uuid } from '../../../lib/schemas';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { createClassBlock } from '@lib/server/bookings/class-blocks';
+import { bookingNotes, email, endsAfterStart, endsAfterStartMessage, isoInstant, uuid } from '@lib/schemas';
 
 const body = z.object({
   startsAt: isoInstant,

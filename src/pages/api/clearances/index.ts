@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readQuery, requireRole, route } from '../../../lib/server/http';
-import { listClearances } from '../../../lib/server/clearances/lists';
-import { searchText, uuid } from '../../../lib/schemas';
+import { json, readQuery, requireRole, route } from '@lib/server/http';
+import { listClearances } from '@lib/server/clearances/lists';
+import { searchText, uuid } from '@lib/schemas';
 
 const query = z.object({ q: searchText, groupId: uuid.optional() });
 

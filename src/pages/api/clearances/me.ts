@@ -1,5 +1,5 @@
-import { json, requireSignedIn, route } from '../../../lib/server/http';
-import { listMyClearances } from '../../../lib/server/clearances/groups';
+import { json, requireSignedIn, route } from '@lib/server/http';
+import { listMyClearances } from '@lib/server/clearances/groups';
 
 /** GET /api/clearances/me → the signed-in person's clearance for each machine group: state, level, expiry, next step. */
 export const GET = route(async ({ locals }) => {

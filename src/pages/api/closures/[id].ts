@@ -1,5 +1,5 @@
-import { json, requireRole, route, idParam } from '../../../lib/server/http';
-import { removeClosure } from '../../../lib/server/booking-rules';
+import { json, requireRole, route, idParam } from '@lib/server/http';
+import { removeClosure } from '@lib/server/booking-rules';
 
 
 /** DELETE /api/closures/:id (admin). */

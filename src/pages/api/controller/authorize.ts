@@ -1,7 +1,7 @@
-import { json, readJson, route } from '../../../lib/server/http';
-import { authenticate } from '../../../lib/server/controllers/registry';
-import { authorize } from '../../../lib/server/controllers/authorize';
-import { authorizeBody } from '../../../lib/controller-schemas';
+import { json, readJson, route } from '@lib/server/http';
+import { authenticate } from '@lib/server/controllers/registry';
+import { authorize } from '@lib/server/controllers/authorize';
+import { authorizeBody } from '@lib/controller-schemas';
 
 /**
  * POST /api/controller/authorize {badge} (device token) → 200 {allow: true, sessionId, personName, until, walkUp}

@@ -1,7 +1,7 @@
-import { json, readJson, route } from '../../../lib/server/http';
-import { authenticate } from '../../../lib/server/controllers/registry';
-import { heartbeat } from '../../../lib/server/controllers/release';
-import { heartbeatBody } from '../../../lib/controller-schemas';
+import { json, readJson, route } from '@lib/server/http';
+import { authenticate } from '@lib/server/controllers/registry';
+import { heartbeat } from '@lib/server/controllers/release';
+import { heartbeatBody } from '@lib/controller-schemas';
 
 /** POST /api/controller/heartbeat {sessionId?, beamSeconds?, firmware?} (device token) → 200 {ok, state, …}. */
 export const POST = route(async ({ request }) => {

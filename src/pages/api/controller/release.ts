@@ -1,7 +1,7 @@
-import { json, readJson, route } from '../../../lib/server/http';
-import { authenticate } from '../../../lib/server/controllers/registry';
-import { release } from '../../../lib/server/controllers/release';
-import { releaseBody } from '../../../lib/controller-schemas';
+import { json, readJson, route } from '@lib/server/http';
+import { authenticate } from '@lib/server/controllers/registry';
+import { release } from '@lib/server/controllers/release';
+import { releaseBody } from '@lib/controller-schemas';
 
 /** POST /api/controller/release {sessionId, beamSeconds} (device token) → 200 the closed session with its charge. */
 export const POST = route(async ({ request }) => {

@@ -1,7 +1,7 @@
-import { json, readQuery, route } from '../../../lib/server/http';
-import { authenticate } from '../../../lib/server/controllers/registry';
-import { controllerState } from '../../../lib/server/controllers/state';
-import { stateQuery } from '../../../lib/controller-schemas';
+import { json, readQuery, route } from '@lib/server/http';
+import { authenticate } from '@lib/server/controllers/registry';
+import { controllerState } from '@lib/server/controllers/state';
+import { stateQuery } from '@lib/controller-schemas';
 
 /**
  * GET /api/controller/state?wait=25 (device token) → 200 {state: 'enabled', until, sessionId} or {state: 'cut', reason,

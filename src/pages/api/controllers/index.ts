@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createController, listControllers, walkUpsAllowed } from '../../../lib/server/controllers/registry';
-import { createControllerBody } from '../../../lib/controller-schemas';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { createController, listControllers, walkUpsAllowed } from '@lib/server/controllers/registry';
+import { createControllerBody } from '@lib/controller-schemas';
 
 /** GET /api/controllers (admin) → {walkUpsAllowed, controllers: [...]} (never a token). */
 export const GET = route(async ({ locals }) => {

@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { setWalkUpsAllowed } from '../../../lib/server/controllers/registry';
-import { walkUpsBody } from '../../../lib/controller-schemas';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { setWalkUpsAllowed } from '@lib/server/controllers/registry';
+import { walkUpsBody } from '@lib/controller-schemas';
 
 /** PUT /api/controllers/walk-ups {mode: 'bookings_only' | 'walk_ups_allowed'} (admin) → 200 {mode}. */
 export const PUT = route(async ({ locals, request }) => {

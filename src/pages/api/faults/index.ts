@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { json, readQuery, requireRole, route } from '../../../lib/server/http';
-import { listFaults } from '../../../lib/server/faults/records';
-import { faultJson } from '../../../lib/server/fault-json';
-import { FAULT_SEVERITIES, FAULT_STATUSES } from '../../../lib/faults-shared';
-import { uuid } from '../../../lib/schemas';
+import { json, readQuery, requireRole, route } from '@lib/server/http';
+import { listFaults } from '@lib/server/faults/records';
+import { faultJson } from '@lib/server/fault-json';
+import { FAULT_SEVERITIES, FAULT_STATUSES } from '@lib/faults-shared';
+import { uuid } from '@lib/schemas';
 
 const query = z.object({
   status: z.enum([...FAULT_STATUSES, 'unresolved']).optional(),

@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { json, readJson, readQuery, requireRole, requireSignedIn, route } from '../../../lib/server/http';
-import { createSession } from '../../../lib/server/induction-sessions/publishing';
-import { listSessions } from '../../../lib/server/induction-sessions/records';
-import { sessionInput } from '../../../lib/induction';
-import { isoInstant, uuid } from '../../../lib/schemas';
+import { json, readJson, readQuery, requireRole, requireSignedIn, route } from '@lib/server/http';
+import { createSession } from '@lib/server/induction-sessions/publishing';
+import { listSessions } from '@lib/server/induction-sessions/records';
+import { sessionInput } from '@lib/induction';
+import { isoInstant, uuid } from '@lib/schemas';
 
 const query = z.object({ groupId: uuid.optional(), from: isoInstant.optional(), to: isoInstant.optional() });
 

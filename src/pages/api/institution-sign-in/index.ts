@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { institutionConnection, institutionSettings, updateInstitutionSettings } from '../../../lib/server/institution';
-import { institutionSettingsInput } from '../../../lib/institution-sign-in';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { institutionConnection, institutionSettings, updateInstitutionSettings } from '@lib/server/institution';
+import { institutionSettingsInput } from '@lib/institution-sign-in';
 
 function view(settings: Awaited<ReturnType<typeof institutionSettings>>) {
   const c = institutionConnection();

@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { DomainError, idParam, json, readJson, requireRole, route } from '../../../lib/server/http';
-import { updateGroup } from '../../../lib/server/clearances/groups';
-import { REFRESHER_RULES } from '../../../lib/clearance-rules';
-import { hasAnyRole } from '../../../lib/roles';
+import { DomainError, idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { updateGroup } from '@lib/server/clearances/groups';
+import { REFRESHER_RULES } from '@lib/clearance-rules';
+import { hasAnyRole } from '@lib/roles';
 
 const body = z
   .object({

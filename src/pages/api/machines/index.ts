@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, requireSignedIn, route } from '../../../lib/server/http';
-import { createMachine, listMachines, machineSummary } from '../../../lib/server/machines';
-import { machineCode, machineFields } from '../../../lib/schemas';
+import { json, readJson, requireRole, requireSignedIn, route } from '@lib/server/http';
+import { createMachine, listMachines, machineSummary } from '@lib/server/machines';
+import { machineCode, machineFields } from '@lib/schemas';
 
 const coolantRange = { path: ['coolantMaxC'], message: 'The highest coolant temperature must be above the lowest.' };
 const createBody = machineFields

@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { DomainError, json, parseWith, readMultipart, requireSignedIn, route } from '../../../lib/server/http';
-import { createRequest, listRequests, SDS_MAX_BYTES, type MaterialRequest } from '../../../lib/server/material-requests';
-import { hasAnyRole } from '../../../lib/roles';
-import { materialMode } from '../../../lib/material-schemas';
+import { DomainError, json, parseWith, readMultipart, requireSignedIn, route } from '@lib/server/http';
+import { createRequest, listRequests, SDS_MAX_BYTES, type MaterialRequest } from '@lib/server/material-requests';
+import { hasAnyRole } from '@lib/roles';
+import { materialMode } from '@lib/material-schemas';
 
 const fields = z
   .object({

@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route, idParam } from '../../../lib/server/http';
-import { updateMaterial } from '../../../lib/server/materials';
-import { materialInput } from '../../../lib/material-schemas';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { updateMaterial } from '@lib/server/materials';
+import { materialInput } from '@lib/material-schemas';
 
 
 /** PUT /api/material-rules/:id (admin) {every field} → the material; the change is audited with before and after. */

@@ -1,6 +1,6 @@
-import { DomainError, json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createMaterial, halogenViolations, rulesByMachine, listOverrides, sheetsInForce } from '../../../lib/server/materials';
-import { materialInput } from '../../../lib/material-schemas';
+import { DomainError, json, readJson, requireRole, route } from '@lib/server/http';
+import { createMaterial, halogenViolations, rulesByMachine, listOverrides, sheetsInForce } from '@lib/server/materials';
+import { materialInput } from '@lib/material-schemas';
 
 /**
  * GET /api/material-rules[?at=ISO instant] (admin) → every material with all its fields, the machines, overrides, effective limits and

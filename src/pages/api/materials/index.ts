@@ -1,5 +1,5 @@
-import { json, requireSignedIn, route } from '../../../lib/server/http';
-import { listMaterials, materialSummary } from '../../../lib/server/materials';
+import { json, requireSignedIn, route } from '@lib/server/http';
+import { listMaterials, materialSummary } from '@lib/server/materials';
 
 /** GET /api/materials (signed in) → [{ id, name, category, rule, reason, modes, composition }] by name. */
 export const GET = route(async ({ locals }) => {

@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { json, readJson, readQuery, requireRole, route } from '../../../lib/server/http';
-import { awaitingInvitation, invitePerson } from '../../../lib/server/accounts';
-import { listPeople } from '../../../lib/server/people';
-import { email, page, pageSize, personName, role, searchText } from '../../../lib/schemas';
-import { TIERS } from '../../../lib/vocabulary';
+import { json, readJson, readQuery, requireRole, route } from '@lib/server/http';
+import { awaitingInvitation, invitePerson } from '@lib/server/accounts';
+import { listPeople } from '@lib/server/people';
+import { email, page, pageSize, personName, role, searchText } from '@lib/schemas';
+import { TIERS } from '@lib/vocabulary';
 
 const query = z.object({
   q: searchText,

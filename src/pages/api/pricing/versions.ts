@@ -1,10 +1,10 @@
 import { z } from 'zod';
-import { DomainError, json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createVersion, listVersions } from '../../../lib/server/prices';
-import { type PriceVersion } from '../../../lib/pricing';
-import { getSettings } from '../../../lib/server/settings';
-import { startOfZonedDay, zonedDate } from '../../../lib/time';
-import { calendarDate, minor, tier, uuid } from '../../../lib/schemas';
+import { DomainError, json, readJson, requireRole, route } from '@lib/server/http';
+import { createVersion, listVersions } from '@lib/server/prices';
+import { type PriceVersion } from '@lib/pricing';
+import { getSettings } from '@lib/server/settings';
+import { startOfZonedDay, zonedDate } from '@lib/time';
+import { calendarDate, minor, tier, uuid } from '@lib/schemas';
 
 const body = z.object({
   /** the version starts at 00:00 of this date in the site's time zone */

@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { createQuiz, listQuizzes } from '../../../lib/server/quizzes';
-import { quizDraftSchema } from '../../../lib/quiz-rules';
-import { uuid } from '../../../lib/schemas';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { createQuiz, listQuizzes } from '@lib/server/quizzes';
+import { quizDraftSchema } from '@lib/quiz-rules';
+import { uuid } from '@lib/schemas';
 
 /** GET /api/quizzes (instructor) → every quiz with its published and draft versions. */
 export const GET = route(async ({ locals }) => {

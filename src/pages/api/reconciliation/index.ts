@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route } from '../../../lib/server/http';
-import { listRuns, periodOfDays, runReconciliation } from '../../../lib/server/reconciliation';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { listRuns, periodOfDays, runReconciliation } from '@lib/server/reconciliation';
 
 const day = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date as YYYY-MM-DD.');
 const body = z.object({ from: day, to: day }).strict().refine((b) => b.to >= b.from, { path: ['to'], message: '`to` is on or after `from`.' })

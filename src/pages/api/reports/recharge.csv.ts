@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { readQuery, requireRole, route } from '../../../lib/server/http';
-import { rechargeCsv } from '../../../lib/server/payments/account';
-import { costCentre } from '../../../lib/schemas';
-import { csvHeaders } from '../../../lib/csv';
+import { readQuery, requireRole, route } from '@lib/server/http';
+import { rechargeCsv } from '@lib/server/payments/account';
+import { costCentre } from '@lib/schemas';
+import { csvHeaders } from '@lib/csv';
 
 const query = z.object({
   month: z.string().regex(/^\d{4}-(0[1-9]|1[0-2])$/, 'Use a month as YYYY-MM, e.g. 2026-12.'),

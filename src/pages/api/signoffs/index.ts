@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { json, readJson, readQuery, requireRole, route } from '../../../lib/server/http';
-import { signOff } from '../../../lib/server/clearances/transitions';
-import { signoffQueue } from '../../../lib/server/clearances/lists';
-import { uuid } from '../../../lib/schemas';
-import { LEVELS } from '../../../lib/clearance-rules';
+import { json, readJson, readQuery, requireRole, route } from '@lib/server/http';
+import { signOff } from '@lib/server/clearances/transitions';
+import { signoffQueue } from '@lib/server/clearances/lists';
+import { uuid } from '@lib/schemas';
+import { LEVELS } from '@lib/clearance-rules';
 
 const query = z.object({ groupId: uuid.optional() });
 

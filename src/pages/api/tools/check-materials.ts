@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { checkDeclaredMaterials } from '../../../lib/server/materials';
-import { declaredMaterial } from '../../../lib/material-schemas';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { checkDeclaredMaterials } from '@lib/server/materials';
+import { declaredMaterial } from '@lib/material-schemas';
 
 const body = z.object({ machineId: z.string().min(1).max(64), materials: z.array(declaredMaterial).min(1).max(20) }).strict();
 

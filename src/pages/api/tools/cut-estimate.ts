@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readQuery, requireSignedIn, route } from '../../../lib/server/http';
-import { cutEstimateFor } from '../../../lib/server/materials';
-import { uuid } from '../../../lib/schemas';
+import { json, readQuery, requireSignedIn, route } from '@lib/server/http';
+import { cutEstimateFor } from '@lib/server/materials';
+import { uuid } from '@lib/schemas';
 
 const n = (label: string) => z.coerce.number({ error: `${label} must be a number.` }).refine(Number.isFinite, `${label} must be a number.`);
 const query = z

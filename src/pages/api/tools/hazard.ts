@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readQuery, requireSignedIn, route } from '../../../lib/server/http';
-import { hazardOrThrow, hazardResponse } from '../../../lib/server/hazard';
+import { json, readQuery, requireSignedIn, route } from '@lib/server/http';
+import { hazardOrThrow, hazardResponse } from '@lib/server/hazard';
 
 const n = (label: string) => z.coerce.number({ error: `${label} must be a number.` }).refine(Number.isFinite, `${label} must be a number.`);
 const query = z.object({

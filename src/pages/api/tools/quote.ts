@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { quoteFor } from '../../../lib/server/prices';
-import { isoInstant, materialsWanted, tier, uuid } from '../../../lib/schemas';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { quoteFor } from '@lib/server/prices';
+import { isoInstant, materialsWanted, tier, uuid } from '@lib/schemas';
 
 const body = z.object({
   machineId: uuid,

@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { screenMaterialOrThrow } from '../../../lib/server/material-requests';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { screenMaterialOrThrow } from '@lib/server/material-requests';
 
 const body = z
   .object({

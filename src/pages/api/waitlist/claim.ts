@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { claimWaitlist } from '../../../lib/server/bookings/waitlist';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { claimWaitlist } from '@lib/server/bookings/waitlist';
 
 const body = z.object({ token: z.string().min(20).max(64) }).strict();
 

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireSignedIn, route } from '../../../lib/server/http';
-import { joinWaitlist } from '../../../lib/server/bookings/waitlist';
-import { endsAfterStart, endsAfterStartMessage, isoInstant, uuid } from '../../../lib/schemas';
+import { json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { joinWaitlist } from '@lib/server/bookings/waitlist';
+import { endsAfterStart, endsAfterStartMessage, isoInstant, uuid } from '@lib/schemas';
 
 const body = z.object({ machineId: uuid, startsAt: isoInstant, endsAt: isoInstant }).strict().refine(endsAfterStart, endsAfterStartMessage);
 

@@ -1,5 +1,5 @@
-import { DomainError, json, route } from '../../../lib/server/http';
-import { handleWebhook } from '../../../lib/server/payments/webhooks';
+import { DomainError, json, route } from '@lib/server/http';
+import { handleWebhook } from '@lib/server/payments/webhooks';
 
 const MAX = 512 * 1024;
 

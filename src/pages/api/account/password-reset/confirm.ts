@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, route } from '../../../../lib/server/http';
-import { completePasswordLink } from '../../../../lib/server/accounts';
-import { startSession } from '../../../../lib/server/auth-forms';
+import { json, readJson, route } from '@lib/server/http';
+import { completePasswordLink } from '@lib/server/accounts';
+import { startSession } from '@lib/server/auth-forms';
 
 const body = z.object({ token: z.string().min(10).max(200), password: z.string().min(1).max(1000) }).strict();
 

@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { json, readJson, route } from '../../../../lib/server/http';
-import { clientAddressOf } from '../../../../lib/server/client-address';
-import { countRequest } from '../../../../lib/server/request-limits';
-import { requestPasswordReset } from '../../../../lib/server/accounts';
-import { email } from '../../../../lib/schemas';
+import { json, readJson, route } from '@lib/server/http';
+import { clientAddressOf } from '@lib/server/client-address';
+import { countRequest } from '@lib/server/request-limits';
+import { requestPasswordReset } from '@lib/server/accounts';
+import { email } from '@lib/schemas';
 
 const body = z.object({ email }).strict();
 

@@ -1,8 +1,8 @@
-import { json, requireSignedIn, route, idParam } from '../../../../lib/server/http';
-import { cancelBooking } from '../../../../lib/server/bookings/cancel';
+import { json, requireSignedIn, route, idParam } from '@lib/server/http';
+import { cancelBooking } from '@lib/server/bookings/cancel';
 
-import { tryIntentNow } from '../../../../lib/server/payments/intents';
-import { cancellationIntent } from '../../../../lib/server/payment-intents';
+import { tryIntentNow } from '@lib/server/payments/intents';
+import { cancellationIntent } from '@lib/server/payment-intents';
 
 /** POST /api/bookings/:id/cancel → the cancelled booking (lateCancel true after the cut-off). */
 export const POST = route(async ({ locals, params }) => {

@@ -1,7 +1,7 @@
-import { json, readJson, requireSignedIn, route, idParam } from '../../../../lib/server/http';
-import { checkIn } from '../../../../lib/server/machine-sessions';
+import { json, readJson, requireSignedIn, route, idParam } from '@lib/server/http';
+import { checkIn } from '@lib/server/machine-sessions';
 
-import { checkInBody } from '../../../../lib/session-schemas';
+import { checkInBody } from '@lib/session-schemas';
 
 /**
  * POST /api/bookings/:id/check-in {checklist: {extractionOn, airAssistOn, lensClean, extinguisherInPlace, willStay}, coolantC}

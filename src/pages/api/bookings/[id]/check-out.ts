@@ -1,7 +1,7 @@
-import { json, readJson, requireSignedIn, route, idParam } from '../../../../lib/server/http';
-import { checkOut } from '../../../../lib/server/machine-sessions';
+import { json, readJson, requireSignedIn, route, idParam } from '@lib/server/http';
+import { checkOut } from '@lib/server/machine-sessions';
 
-import { checkOutBody } from '../../../../lib/session-schemas';
+import { checkOutBody } from '@lib/session-schemas';
 
 /**
  * POST /api/bookings/:id/check-out {jobTimerMinutes?, materials: [{sku, quantity}], leftCleanAndClear}

@@ -1,9 +1,9 @@
 import { z } from 'zod';
-import { DomainError, json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { getCharge } from '../../../../lib/server/payments/charge-records';
-import { refund } from '../../../../lib/server/payments/intents';
-import { chargeJson } from '../../../../lib/server/charge-json';
-import { minor } from '../../../../lib/schemas';
+import { DomainError, json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { getCharge } from '@lib/server/payments/charge-records';
+import { refund } from '@lib/server/payments/intents';
+import { chargeJson } from '@lib/server/charge-json';
+import { minor } from '@lib/schemas';
 
 const body = z.object({
   amountMinor: minor.optional(),

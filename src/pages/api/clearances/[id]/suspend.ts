@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { idParam, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { suspend } from '../../../../lib/server/clearances/transitions';
+import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { suspend } from '@lib/server/clearances/transitions';
 
 const body = z.object({ reason: z.string().trim().min(3, 'Give the reason (at least 3 characters).').max(500, 'Use at most 500 characters.') }).strict();
 

@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { addFaultNote } from '../../../../lib/server/faults/triage';
-import { faultJson } from '../../../../lib/server/fault-json';
-import { faultNoteText } from '../../../../lib/faults-shared';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { addFaultNote } from '@lib/server/faults/triage';
+import { faultJson } from '@lib/server/fault-json';
+import { faultNoteText } from '@lib/faults-shared';
 
 
 const body = z.object({ body: faultNoteText }).strict();

@@ -1,7 +1,7 @@
-import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { resolveFault } from '../../../../lib/server/faults/triage';
-import { faultJson } from '../../../../lib/server/fault-json';
-import { resolveBody } from '../../../../lib/faults-shared';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { resolveFault } from '@lib/server/faults/triage';
+import { faultJson } from '@lib/server/fault-json';
+import { resolveBody } from '@lib/faults-shared';
 
 
 /**

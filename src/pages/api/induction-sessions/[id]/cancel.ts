@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { idParam, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { cancelSession } from '../../../../lib/server/induction-sessions/publishing';
+import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { cancelSession } from '@lib/server/induction-sessions/publishing';
 
 const body = z.object({ reason: z.string().trim().min(3, 'Say why, in a few words.').max(500, 'Use at most 500 characters.') }).strict();
 

@@ -1,6 +1,6 @@
-import { idParam, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { signOffFromRoster } from '../../../../lib/server/induction-sessions/roster';
-import { rosterSignoffInput } from '../../../../lib/induction';
+import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { signOffFromRoster } from '@lib/server/induction-sessions/roster';
+import { rosterSignoffInput } from '@lib/induction';
 
 /**
  * POST /api/induction-sessions/:id/signoffs (instructor) { personId, present, checklist: { item: true… }, level, notes }

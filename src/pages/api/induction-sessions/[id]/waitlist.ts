@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { idParam, json, readJson, requireSignedIn, route } from '../../../../lib/server/http';
-import { joinSessionWaitlist } from '../../../../lib/server/induction-sessions/seats';
+import { idParam, json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { joinSessionWaitlist } from '@lib/server/induction-sessions/seats';
 
 const body = z.object({}).strict();
 

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readQuery, requireSignedIn, route, idParam } from '../../../../lib/server/http';
-import { machineAvailability } from '../../../../lib/server/bookings/week-view';
-import { isoInstant } from '../../../../lib/schemas';
+import { json, readQuery, requireSignedIn, route, idParam } from '@lib/server/http';
+import { machineAvailability } from '@lib/server/bookings/week-view';
+import { isoInstant } from '@lib/schemas';
 
 const query = z
   .object({ from: isoInstant, to: isoInstant })

@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, readQuery, requireRole, requireSignedIn, route, DomainError } from '../../../../lib/server/http';
-import { addClosure, listClosures } from '../../../../lib/server/booking-rules';
-import { isoInstant, uuid } from '../../../../lib/schemas';
+import { json, readJson, readQuery, requireRole, requireSignedIn, route, DomainError } from '@lib/server/http';
+import { addClosure, listClosures } from '@lib/server/booking-rules';
+import { isoInstant, uuid } from '@lib/schemas';
 
 const body = z
   .object({ startsAt: isoInstant, endsAt: isoInstant, reason: z.string().trim().min(1, 'Give a reason people will see.').max(200) })

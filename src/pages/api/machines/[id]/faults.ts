@@ -1,8 +1,8 @@
-import { json, parseWith, readMultipart, requireSignedIn, route } from '../../../../lib/server/http';
-import { MAX_PHOTOS, PHOTO_MAX_BYTES, photoUploads } from '../../../../lib/server/faults/photos';
-import { reportFault } from '../../../../lib/server/faults/reporting';
-import { faultReportFields } from '../../../../lib/faults-shared';
-import { faultJson } from '../../../../lib/server/fault-json';
+import { json, parseWith, readMultipart, requireSignedIn, route } from '@lib/server/http';
+import { MAX_PHOTOS, PHOTO_MAX_BYTES, photoUploads } from '@lib/server/faults/photos';
+import { reportFault } from '@lib/server/faults/reporting';
+import { faultReportFields } from '@lib/faults-shared';
+import { faultJson } from '@lib/server/fault-json';
 
 /**
  * POST /api/machines/:idOrCode/faults (signed in; multipart/form-data: summary, details?, severity, clientId?, photos[] up to 3)

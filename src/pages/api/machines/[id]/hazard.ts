@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readQuery, requireSignedIn, route } from '../../../../lib/server/http';
-import { hazardResponse, machineHazard } from '../../../../lib/server/hazard';
+import { json, readQuery, requireSignedIn, route } from '@lib/server/http';
+import { hazardResponse, machineHazard } from '@lib/server/hazard';
 
 const query = z.object({ exposureS: z.coerce.number({ error: 'exposureS must be a number.' }).optional() });
 

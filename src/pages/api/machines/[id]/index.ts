@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route, idParam, DomainError } from '../../../../lib/server/http';
-import { getMachine, updateMachine } from '../../../../lib/server/machines';
-import { machineFields } from '../../../../lib/schemas';
+import { json, readJson, requireRole, route, idParam, DomainError } from '@lib/server/http';
+import { getMachine, updateMachine } from '@lib/server/machines';
+import { machineFields } from '@lib/schemas';
 
 const patchBody = machineFields.partial().refine((v) => Object.keys(v).length > 0, 'Send at least one field to change.');
 

@@ -1,5 +1,5 @@
-import { requireRole, route } from '../../../../lib/server/http';
-import { labelPngFor } from '../../../../lib/server/labels';
+import { requireRole, route } from '@lib/server/http';
+import { labelPngFor } from '@lib/server/labels';
 
 /** GET /api/machines/:id/label.png (steward, admin) → the printable label as PNG (1080 × 600, 12 px/mm). */
 export const GET = route(async ({ locals, params }) => {

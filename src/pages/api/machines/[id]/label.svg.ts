@@ -1,5 +1,5 @@
-import { requireRole, route } from '../../../../lib/server/http';
-import { labelSvgFor } from '../../../../lib/server/labels';
+import { requireRole, route } from '@lib/server/http';
+import { labelSvgFor } from '@lib/server/labels';
 
 /** GET /api/machines/:id/label.svg (steward, admin) → the printable label: QR, name, three cautions (90 × 50 mm). */
 export const GET = route(async ({ locals, params }) => {

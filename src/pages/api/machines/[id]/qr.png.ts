@@ -1,5 +1,5 @@
-import { requireSignedIn, route } from '../../../../lib/server/http';
-import { qrFor, qrPng } from '../../../../lib/server/labels';
+import { requireSignedIn, route } from '@lib/server/http';
+import { qrFor, qrPng } from '@lib/server/labels';
 
 /** GET /api/machines/:id/qr.png (signed in) → the QR symbol (PNG, 600 px) encoding the machine page's URL. */
 export const GET = route(async ({ locals, params }) => {

@@ -1,5 +1,5 @@
-import { requireSignedIn, route } from '../../../../lib/server/http';
-import { qrFor, qrSvg } from '../../../../lib/server/labels';
+import { requireSignedIn, route } from '@lib/server/http';
+import { qrFor, qrSvg } from '@lib/server/labels';
 
 /** GET /api/machines/:id/qr.svg (signed in) → the QR symbol encoding the machine page's URL. */
 export const GET = route(async ({ locals, params }) => {

@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { retireMachine } from '../../../../lib/server/cascades/retire-machine';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { retireMachine } from '@lib/server/cascades/retire-machine';
 
 const body = z.object({ reason: z.string().trim().min(3, 'Say why the machine is retired (the people whose bookings are cancelled read it).').max(500, 'Use at most 500 characters.') }).strict();
 

@@ -1,8 +1,8 @@
 import { z } from 'zod';
-import { idParam, json, readJson, requireRole, requireSignedIn, route } from '../../../../lib/server/http';
-import { getRules, saveRules } from '../../../../lib/server/booking-rules';
-import { publicRules } from '../../../../lib/server/bookings/week-view';
-import { TIERS } from '../../../../lib/vocabulary';
+import { idParam, json, readJson, requireRole, requireSignedIn, route } from '@lib/server/http';
+import { getRules, saveRules } from '@lib/server/booking-rules';
+import { publicRules } from '@lib/server/bookings/week-view';
+import { TIERS } from '@lib/vocabulary';
 
 const minutes = (max: number) => z.number().int('Whole minutes.').min(0).max(max);
 const quota = z.number().int('Whole minutes.').min(0).max(10080).nullable();

@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { setMachineStatus } from '../../../../lib/server/faults/machine-status';
-import { statusBody } from '../../../../lib/faults-shared';
+import { json, readJson, requireRole, route } from '@lib/server/http';
+import { setMachineStatus } from '@lib/server/faults/machine-status';
+import { statusBody } from '@lib/faults-shared';
 
 /**
  * POST /api/machines/:idOrCode/status { status, reason, checklist? } (steward, admin) → 200 { machineId, status, bumpedBookings }.

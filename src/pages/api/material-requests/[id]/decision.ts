@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { decideRequest } from '../../../../lib/server/material-requests';
-import { materialCategory, materialMode, materialRule } from '../../../../lib/material-schemas';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { decideRequest } from '@lib/server/material-requests';
+import { materialCategory, materialMode, materialRule } from '@lib/material-schemas';
 
 import { requestJson } from '../index';
 

@@ -1,6 +1,6 @@
-import { DomainError, idParam, requireSignedIn, route } from '../../../../lib/server/http';
-import { getRequest, getRequestSds } from '../../../../lib/server/material-requests';
-import { hasAnyRole } from '../../../../lib/roles';
+import { DomainError, idParam, requireSignedIn, route } from '@lib/server/http';
+import { getRequest, getRequestSds } from '@lib/server/material-requests';
+import { hasAnyRole } from '@lib/roles';
 
 /** GET /api/material-requests/:id/sds → the stored PDF (the requester, stewards and admins). */
 export const GET = route(async ({ locals, params }) => {

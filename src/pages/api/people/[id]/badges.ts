@@ -1,6 +1,6 @@
-import { idParam, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { enrolBadge, listBadges } from '../../../../lib/server/badges';
-import { enrolBadgeBody } from '../../../../lib/controller-schemas';
+import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { enrolBadge, listBadges } from '@lib/server/badges';
+import { enrolBadgeBody } from '@lib/controller-schemas';
 
 const toJson = (b: { id: string; lastFour: string; createdAt: Date; createdByName: string | null }) => ({ id: b.id, lastFour: b.lastFour, createdAt: b.createdAt.toISOString(), createdByName: b.createdByName });
 

@@ -1,5 +1,5 @@
-import { json, requireRole, route, idParam } from '../../../../lib/server/http';
-import { deactivatePerson } from '../../../../lib/server/cascades/deactivate-person';
+import { json, requireRole, route, idParam } from '@lib/server/http';
+import { deactivatePerson } from '@lib/server/cascades/deactivate-person';
 
 
 /**

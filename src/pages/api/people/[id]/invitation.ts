@@ -1,6 +1,6 @@
-import { DomainError, json, requireRole, route } from '../../../../lib/server/http';
-import { resendInvitation } from '../../../../lib/server/accounts';
-import { uuid } from '../../../../lib/schemas';
+import { DomainError, json, requireRole, route } from '@lib/server/http';
+import { resendInvitation } from '@lib/server/accounts';
+import { uuid } from '@lib/schemas';
 
 /**
  * POST /api/people/:id/invitation (admin) → {email, name, expiresInDays}: a new invitation link is e-mailed to a

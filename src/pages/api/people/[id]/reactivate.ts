@@ -1,5 +1,5 @@
-import { json, requireRole, route, idParam } from '../../../../lib/server/http';
-import { reactivatePerson } from '../../../../lib/server/people';
+import { json, requireRole, route, idParam } from '@lib/server/http';
+import { reactivatePerson } from '@lib/server/people';
 
 
 /** POST /api/people/:id/reactivate (admin) → the person, active again (they may sign in). Audited. */

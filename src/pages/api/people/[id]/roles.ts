@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { setRoles } from '../../../../lib/server/people';
-import { role } from '../../../../lib/schemas';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { setRoles } from '@lib/server/people';
+import { role } from '@lib/schemas';
 
 const body = z.object({ roles: z.array(role).max(4) }).strict();
 

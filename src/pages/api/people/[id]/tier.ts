@@ -1,7 +1,7 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { setTier } from '../../../../lib/server/people';
-import { costCentre, tier } from '../../../../lib/schemas';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { setTier } from '@lib/server/people';
+import { costCentre, tier } from '@lib/schemas';
 
 const body = z.object({ tier, costCentre: costCentre.nullable().default(null) }).strict();
 

@@ -1,5 +1,5 @@
-import { idParam, json, requireSignedIn, route } from '../../../../lib/server/http';
-import { startAttempt } from '../../../../lib/server/quizzes';
+import { idParam, json, requireSignedIn, route } from '@lib/server/http';
+import { startAttempt } from '@lib/server/quizzes';
 
 /**
  * POST /api/quizzes/:id/attempt (no body) → 201 a new attempt on the published version: questions drawn and

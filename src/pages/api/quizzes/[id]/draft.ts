@@ -1,6 +1,6 @@
-import { idParam, json, readJson, requireRole, route } from '../../../../lib/server/http';
-import { discardDraft, saveDraft } from '../../../../lib/server/quizzes';
-import { quizDraftSchema } from '../../../../lib/quiz-rules';
+import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { discardDraft, saveDraft } from '@lib/server/quizzes';
+import { quizDraftSchema } from '@lib/quiz-rules';
 
 /** PUT /api/quizzes/:id/draft (instructor) → saves the open draft, or starts a new draft version after the published one. */
 export const PUT = route(async ({ locals, params, request }) => {

@@ -1,5 +1,5 @@
-import { DomainError, requireRole, route } from '../../../../lib/server/http';
-import { getRun, runCsv } from '../../../../lib/server/reconciliation';
+import { DomainError, requireRole, route } from '@lib/server/http';
+import { getRun, runCsv } from '@lib/server/reconciliation';
 
 /** GET /api/reconciliation/:id/csv (admin) → the run's differences as CSV. */
 export const GET = route(async ({ locals, params }) => {

@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { json, readJson, requireRole, route, idParam } from '../../../../lib/server/http';
-import { clearStewardFlag } from '../../../../lib/server/machine-sessions';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { clearStewardFlag } from '@lib/server/machine-sessions';
 
 
 const body = z.object({ note: z.string().trim().max(1000).default('') }).strict();

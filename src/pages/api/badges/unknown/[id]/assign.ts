@@ -1,6 +1,6 @@
-import { idParam, json, readJson, requireRole, route } from '../../../../../lib/server/http';
-import { assignUnknownBadge } from '../../../../../lib/server/badges';
-import { assignUnknownBody } from '../../../../../lib/controller-schemas';
+import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { assignUnknownBadge } from '@lib/server/badges';
+import { assignUnknownBody } from '@lib/controller-schemas';
 
 /** POST /api/badges/unknown/:id/assign {personId} (steward, admin) → 201 the badge, now the person's. */
 export const POST = route(async ({ locals, params, request }) => {

@@ -1,5 +1,5 @@
-import { DomainError, idParam, requireSignedIn, route } from '../../../../../lib/server/http';
-import { faultPhoto } from '../../../../../lib/server/faults/records';
+import { DomainError, idParam, requireSignedIn, route } from '@lib/server/http';
+import { faultPhoto } from '@lib/server/faults/records';
 
 /** GET /api/faults/:id/photos/:n (stewards, admins and the reporter) → the cleaned JPEG; 404 for anyone else. */
 export const GET = route(async ({ locals, params }) => {

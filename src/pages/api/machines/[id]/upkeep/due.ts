@@ -1,5 +1,5 @@
-import { json, requireRole, route, idParam } from '../../../../../lib/server/http';
-import { upkeepStatus } from '../../../../../lib/server/upkeep';
+import { json, requireRole, route, idParam } from '@lib/server/http';
+import { upkeepStatus } from '@lib/server/upkeep';
 
 /** GET /api/machines/:id/upkeep/due (steward, admin) → tube hours, rate of use and the due list, most urgent first. */
 export const GET = route(async ({ locals, params }) => {

@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route, idParam } from '../../../../../lib/server/http';
-import { listUpkeep, logUpkeep } from '../../../../../lib/server/upkeep';
-import { upkeepBody } from '../../../../../lib/session-schemas';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { listUpkeep, logUpkeep } from '@lib/server/upkeep';
+import { upkeepBody } from '@lib/session-schemas';
 
 /** GET /api/machines/:id/upkeep (steward, admin) → the machine's upkeep log, newest first. */
 export const GET = route(async ({ locals, params }) => {

@@ -1,6 +1,6 @@
-import { json, readJson, requireRole, route, idParam } from '../../../../../lib/server/http';
-import { intervalsFor, setUpkeepInterval } from '../../../../../lib/server/upkeep';
-import { intervalBody } from '../../../../../lib/session-schemas';
+import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
+import { intervalsFor, setUpkeepInterval } from '@lib/server/upkeep';
+import { intervalBody } from '@lib/session-schemas';
 
 /** GET /api/machines/:id/upkeep/intervals (steward, admin) → each kind's interval (custom or the common-practice default). */
 export const GET = route(async ({ locals, params }) => {

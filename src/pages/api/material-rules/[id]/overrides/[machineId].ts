@@ -1,6 +1,6 @@
-import { idParam, json, readJson, requireRole, route } from '../../../../../lib/server/http';
-import { setOverride } from '../../../../../lib/server/materials';
-import { overrideInput } from '../../../../../lib/material-schemas';
+import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
+import { setOverride } from '@lib/server/materials';
+import { overrideInput } from '@lib/material-schemas';
 
 function ids(params: Record<string, string | undefined>) {
   return [idParam(params.id, 'material'), idParam(params.machineId, 'machine')] as const;

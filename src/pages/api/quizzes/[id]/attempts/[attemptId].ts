@@ -1,6 +1,6 @@
 import { z } from 'zod';
-import { idParam, json, readJson, requireSignedIn, route } from '../../../../../lib/server/http';
-import { saveAnswers, submitAttempt } from '../../../../../lib/server/quizzes';
+import { idParam, json, readJson, requireSignedIn, route } from '@lib/server/http';
+import { saveAnswers, submitAttempt } from '@lib/server/quizzes';
 
 const body = z
   .object({
