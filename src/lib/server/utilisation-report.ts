@@ -3,7 +3,6 @@
  * PostgreSQL in one pass over the period's bookings; opening hours and closures are turned into open minutes by the
  * pure availability module (the same rules the booking screen uses). Beside it: reports.ts (the other reports).
  */
-import type { Knex } from 'knex';
 import { db } from './db';
 import { int, scopeMachines, type ReportScope } from './reports';
 import { openIntervals, minutesBetween, type Closure, type WeeklyHours } from '@lib/availability';
