@@ -20,7 +20,7 @@ const SRC = path.join(ROOT, 'src');
 const LAYERS: Array<[string, string[]]> = [
   ['infrastructure', ['db', 'env', 'errors', 'log', 'audit', 'jobs', 'mail', 'storage', 'passwords', 'file-types', 'images', 'client-address', 'security-headers', 'request-limits', 'payment-intents']],
   ['entities', ['settings', 'people', 'machines', 'prices', 'materials', 'clearances/*', 'booking-rules', 'quizzes', 'hazard', 'labels', 'institution', 'badges']],
-  ['workflows', ['bookings/*', 'payments/*', 'machine-sessions', 'faults/*', 'material-requests', 'upkeep', 'reports', 'induction-sessions/*', 'controllers/*', 'reconciliation', 'sign-in', 'account-export']],
+  ['workflows', ['bookings/*', 'payments/*', 'machine-sessions', 'faults/*', 'material-requests', 'upkeep', 'reports', 'utilisation-report', 'induction-sessions/*', 'controllers/*', 'reconciliation', 'sign-in', 'account-export']],
   ['cascades', ['cascades/*', 'accounts', 'sign-up']],
   ['web', ['http', 'health', 'session', 'guards', 'auth-forms', 'billing-pages', 'report-routes', 'charge-json', 'fault-json', 'worker']],
 ];

@@ -5,7 +5,8 @@
 import type { APIRoute } from 'astro';
 import { DomainError, json, readQuery, requireRole, route } from './http';
 import { getSettings } from './settings';
-import { clearanceReport, faultReport, noShowReport, revenueReport, utilisationReport, type ReportScope } from './reports';
+import { clearanceReport, faultReport, noShowReport, revenueReport, type ReportScope } from './reports';
+import { utilisationReport } from './utilisation-report';
 import { COLUMNS, PeriodError, reportQuery, resolvePeriod, type ReportName } from '@lib/reports';
 import { csvHeaders, majorUnits, moneyHeading, toCsv } from '@lib/csv';
 import { zonedDate } from '@lib/time';

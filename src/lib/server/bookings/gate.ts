@@ -7,6 +7,7 @@ import type { Knex } from 'knex';
 import { db, pgCode, PG } from '@lib/server/db';
 import { DomainError } from '@lib/server/errors';
 import { getRules, listClosures } from '@lib/server/booking-rules';
+import { getSettings } from '@lib/server/settings';
 import type { Tier } from '@lib/vocabulary';
 import { localWeek } from '@lib/availability';
 import { ACTIVE_STATES, QUOTA_STATES, toBooking, type Booking, type Conn, type MachineRow, type Row } from './records';
@@ -109,10 +110,7 @@ export async function tierAndWeeklyMinutes(personId: string, machineIds: readonl
 }
 
 /** Site settings read on the caller's connection (inside a transaction, never a second pooled connection). */
-export async function siteSettings(trx: Conn): Promise<{ name: string; timeZone: string }> {
-  const row = await trx('site_settings').where({ id: 1 }).first('name', 'time_zone');
-  return row ? { name: row.name, timeZone: row.time_zone } : { name: 'Beamwarden', timeZone: 'UTC' };
-}
+export const siteSettings = (trx: Conn) => getSettings(trx);
 
 export async function ruleContext(machineId: string, from: Date, to: Date, trx: Conn) {
   const [rules, settings, closures] = await Promise.all([getRules(machineId, trx), siteSettings(trx), listClosures(machineId, from, to, trx)]);

@@ -6,9 +6,12 @@
 import crypto from 'node:crypto';
 import type { Knex } from 'knex';
 import { db } from '@lib/server/db';
-import type { Role } from '@lib/roles';
+import type { Actor, Role } from '@lib/roles';
+import type { Conn } from '@lib/server/db';
 
-export type Conn = Knex | Knex.Transaction;
+export type { Actor, Conn };
+
+
 
 export const ACTIVE_STATES = ['reserved', 'checked in'] as const;
 /** States that count against the weekly quota. */
@@ -60,10 +63,6 @@ export function toBooking(r: Row): Booking {
   };
 }
 
-export interface Actor {
-  id: string;
-  roles: readonly Role[];
-}
 
 export interface MaterialDeclaration {
   materialId: string;

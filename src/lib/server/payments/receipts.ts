@@ -1,6 +1,8 @@
 /** Receipts: the number and date given when money is taken, and the e-mail that carries them. */
 import type { Knex } from 'knex';
 import { formatReceiptNumber, receiptPrefix } from '@lib/receipts';
+import { siteFormat } from '@lib/format';
+import { zonedDate } from '@lib/time';
 import { env } from '@lib/server/env';
 import { queueMail } from '@lib/server/mail';
 import { getSettings, siteMoney } from '@lib/server/settings';
@@ -13,9 +15,10 @@ import { personFor, updateCharge, type Charge } from './charge-records';
 export async function assignReceipt(trx: Knex.Transaction, chargeId: string): Promise<void> {
   const row = await trx('charges').where({ id: chargeId }).forUpdate().first('receipt_number');
   if (!row || row.receipt_number) return;
-  const { name, timeZone } = await getSettings();
+  // read on this transaction's connection: a second pooled connection per open transaction can starve the pool
+  const { name, timeZone } = await getSettings(trx);
   const now = new Date();
-  const year = Number(new Intl.DateTimeFormat('en-CA', { timeZone, year: 'numeric' }).format(now));
+  const year = Number(zonedDate(now, timeZone).slice(0, 4));
   const r = await trx.raw(
     'INSERT INTO receipt_counters (year, last_number) VALUES (?, 1) ON CONFLICT (year) DO UPDATE SET last_number = receipt_counters.last_number + 1 RETURNING last_number',
     [year],
@@ -28,7 +31,9 @@ export async function queueReceipt(trx: Knex.Transaction, c: Charge): Promise<vo
   const p = await personFor(c.personId, trx);
   const lines = await Promise.all(c.breakdown.lines.map(async (l) => `${l.label}: ${await siteMoney(l.amountMinor, c.currency)}`));
   if (c.breakdown.carriedInMinor) lines.push(`Earlier small sums carried to this charge: ${await siteMoney(c.breakdown.carriedInMinor, c.currency)}`);
-  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${c.breakdown.taxRateBp / 100} % tax: ${await siteMoney(c.breakdown.taxMinor, c.currency)}`;
+  const site = await getSettings(trx);
+  const rate = siteFormat(site.locale, site.timeZone).percent(c.breakdown.taxRateBp / 10_000);
+  const tax = `${c.breakdown.taxMode === 'inclusive' ? 'Includes' : 'Plus'} ${rate} tax: ${await siteMoney(c.breakdown.taxMinor, c.currency)}`;
   const paid = c.method === 'recharge' ? `Billed to cost centre ${c.costCentre}` : `Paid by card: ${await siteMoney(c.capturedMinor, c.currency)}`;
   await queueMail(trx, p.email, `Receipt: ${await siteMoney(c.amountMinor, c.currency)}`, {
     greeting: `Hello ${p.name},`,
