@@ -1,9 +1,9 @@
 /** Admin › Pricing: a change is a new price version with an effective date; every version stays visible. */
-import { siteFormat } from '@lib/format';
+import { formatMinor, parseMajor, siteFormat } from '@lib/format';
 import { useState, type FormEvent } from 'react';
 import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
 import type { Json } from '@lib/json';
-import { formatMinor, parseMajor, type Material, type PriceVersion } from '@lib/pricing';
+import type { Material, PriceVersion } from '@lib/pricing';
 import { api, ApiError } from './ui/api';
 
 export type VersionView = Json<PriceVersion>;

@@ -1,6 +1,6 @@
 /** Steward/admin: refund a charge in full or in part, with a reason (audited on the server). */
 import { useState, type FormEvent } from 'react';
-import { formatMinor, parseMajor } from '@lib/pricing';
+import { formatMinor, parseMajor } from '@lib/format';
 import { api, ApiError } from './ui/api';
 
 export default function RefundForm({ chargeId, currency, leftMinor }: { chargeId: string; currency: string; leftMinor: number }) {

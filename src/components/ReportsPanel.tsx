@@ -5,8 +5,7 @@
 import { useEffect, useId, useMemo, useState, type ReactNode } from 'react';
 import { Bar, BarChart, CartesianGrid, Legend, ResponsiveContainer, Tooltip, XAxis, YAxis } from 'recharts';
 import { api, ApiError } from './ui/api';
-import { currencyExponent } from '@lib/pricing';
-import { siteFormat, type SiteFormat } from '@lib/format';
+import { currencyExponent, siteFormat, type SiteFormat } from '@lib/format';
 import type { ClearanceRow, FaultRow, NoShowRow, ReportName, RevenueRow, UtilisationRow } from '@lib/reports';
 
 interface Machine {

@@ -4,7 +4,7 @@
  * currency in the column's heading. Pure (no I/O).
  */
 import { stringify } from 'csv-stringify/sync';
-import { formatMinor } from './pricing';
+import { formatMinor } from './format';
 
 export const BOM = '\uFEFF';
 

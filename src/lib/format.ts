@@ -3,7 +3,6 @@
  * en-NZ or de-DE) and the site's IANA time zone, used by pages, islands, e-mails and receipts alike. Pure (Intl
  * only), so islands format in the site's zone and locale, never the browser's.
  */
-import { currencyExponent, formatMinor } from './pricing';
 
 export const DEFAULT_LOCALE = 'en-NZ';
 
@@ -129,4 +128,55 @@ export function formatMinutes(minutes: number): string {
   const m = Math.round(minutes % 60);
   if (h && m) return `${h} h ${m} min`;
   return h ? `${h} h` : `${m} min`;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Currency exponents and plain amounts (input fields, CSV cells): the one source of a currency's minor unit
+
+const exponents = new Map<string, number>();
+
+/**
+ * Where the ISO 4217 exponent differs from the digits Intl shows by default (CLDR drops the minor unit of currencies
+ * whose coins are out of use, but ISO 4217 — and card processors — keep it). From memory of ISO 4217 list one.
+ */
+const ISO_WHERE_INTL_DIFFERS: Readonly<Record<string, number>> = {
+  AFN: 2, ALL: 2, COP: 2, HUF: 2, IDR: 2, IRR: 2, KPW: 2, LAK: 2, LBP: 2, MGA: 2, MMK: 2, PKR: 2, SLL: 2, SOS: 2, SYP: 2, YER: 2,
+  IQD: 3,
+};
+
+const KNOWN = new Set(typeof Intl.supportedValuesOf === 'function' ? Intl.supportedValuesOf('currency') : []);
+
+/**
+ * The currency's minor-unit exponent (ISO 4217: NZD 2, JPY 0, BHD 3), from the platform's Intl currency data (with
+ * the ISO corrections above), so every code the Site screen accepts (any code Intl knows) has one. RangeError for a
+ * code Intl does not know.
+ */
+export function currencyExponent(currency: string): number {
+  const code = currency.toUpperCase();
+  let e = exponents.get(code);
+  if (e === undefined) {
+    if (!/^[A-Z]{3}$/.test(code) || !KNOWN.has(code)) throw new RangeError(`Unknown currency ${currency}: not an ISO 4217 code this runtime knows.`);
+    e = ISO_WHERE_INTL_DIFFERS[code] ?? new Intl.NumberFormat('en', { style: 'currency', currency: code }).resolvedOptions().maximumFractionDigits ?? 2;
+    exponents.set(code, e);
+  }
+  return e;
+}
+
+/** "12.34" for 1234 NZD, "1234" for 1234 JPY, "1.234" for 1234 BHD — string arithmetic, no floats. */
+export function formatMinor(amountMinor: number, currency: string): string {
+  const e = currencyExponent(currency);
+  const neg = amountMinor < 0;
+  const digits = String(Math.abs(amountMinor)).padStart(e + 1, '0');
+  const body = e === 0 ? digits : `${digits.slice(0, -e)}.${digits.slice(-e)}`;
+  return `${neg ? '−' : ''}${body}`;
+}
+
+/** "12.3" → 1230 (NZD); refuses more decimals than the currency has. Returns null when not a plain amount. */
+export function parseMajor(text: string, currency: string): number | null {
+  const e = currencyExponent(currency);
+  const m = /^\s*(\d{1,12})(?:\.(\d*))?\s*$/.exec(text); // up to 10^12 major units stays a safe integer in minor units
+  if (!m) return null;
+  const frac = m[2] ?? '';
+  if (frac.length > e) return null;
+  return Number(m[1]) * 10 ** e + Number(frac.padEnd(e, '0') || '0');
 }

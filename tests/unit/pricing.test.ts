@@ -1,7 +1,8 @@
 /** The pricing engine: worked examples and properties (fast-check). */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { PROVIDER_MINIMUM_MINOR, beamTimeMinor, billableMinutes, currencyExponent, divRoundHalfUp, formatMinor, parseMajor, percentToBp, quote, settle, taxOf, type PriceTable } from '../../src/lib/pricing';
+import { PROVIDER_MINIMUM_MINOR, beamTimeMinor, billableMinutes, divRoundHalfUp, percentToBp, quote, settle, taxOf, type PriceTable } from '../../src/lib/pricing';
+import { currencyExponent, formatMinor, parseMajor } from '../../src/lib/format';
 import { TIERS } from '../../src/lib/vocabulary';
 
 const table = (over: Partial<PriceTable> = {}): PriceTable => ({
