@@ -103,7 +103,8 @@ export function sentText(s: SentReport): string {
   const what = `Your saved ${s.report.severity} report on ${s.report.machineName} (“${s.report.summary}”)`;
   if (s.outcome === 'refused') return `${what} was not accepted: ${s.message}`;
   if (s.outcome === 'duplicate') return `${what} had already arrived; it is stored once.`;
-  if (s.report.severity === 'stop') {
+  // statusBefore is unknown when the service worker sent it in the background
+  if (s.report.severity === 'stop' && s.statusBefore !== undefined) {
     return s.statusBefore === 'out of service'
       ? `${what} is sent. ${s.report.machineName} was already out of service: someone reported a fault before you.`
       : `${what} is sent. ${s.report.machineName} is now out of service for everyone.`;

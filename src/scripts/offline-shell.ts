@@ -2,7 +2,7 @@
  * The offline part every QR page shares: registers the service worker, caches this page for offline use,
  * shows what needs the network while there is none, and sends fault reports saved on this phone.
  */
-import { queuedReports, sendQueued, sentText } from './fault-queue';
+import { queuedReports, sendQueued, sentText, type QueuedReport, type SentReport } from './fault-queue';
 
 function setOffline(offline: boolean): void {
   document.querySelectorAll<HTMLElement>('[data-offline-note], [data-offline-only]').forEach((el) => el.classList.toggle('hidden', !offline));
@@ -34,7 +34,14 @@ async function showWaiting(): Promise<void> {
 /** Sends saved reports; `onSent` hears about each one (the machine page reloads to show the new status). */
 export async function flush(onSent?: (count: number) => void): Promise<void> {
   if (!navigator.onLine) return;
-  const sent = await sendQueued().catch(() => []);
+  const before = await queuedReports().catch((): QueuedReport[] => []);
+  const sentHere = await sendQueued().catch((): SentReport[] => []);
+  // the service worker's background sync shares the queue (and its lock): what it sent meanwhile is gone from the
+  // queue without passing through this page, so the person is told about those too
+  const left = new Set((await queuedReports().catch(() => before)).map((r) => r.clientId));
+  const handled = new Set(sentHere.map((s) => s.report.clientId));
+  const byWorker: SentReport[] = before.filter((r) => !left.has(r.clientId) && !handled.has(r.clientId)).map((report) => ({ report, outcome: 'sent' }));
+  const sent = [...sentHere, ...byWorker];
   if (sent.length) {
     showQueueNote(sent.map(sentText), sent.some((s) => s.outcome === 'refused') ? 'warn' : 'ok');
     onSent?.(sent.length);
