@@ -3,15 +3,13 @@
  * (no violation, no page error), and axe-core finds no serious or critical accessibility violation.
  * axe is evaluated through the browser's debugging protocol, which the page's policy does not govern.
  */
-import fs from 'node:fs';
-import path from 'node:path';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
+import { axe } from '../support/axe';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 import type { DemoPerson } from '../support/env';
 
-const AXE = fs.readFileSync(path.resolve(import.meta.dirname, '..', '..', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
 
 /** Screen, who sees it, and what shows that its island has run. */
 const SCREENS: { path: string; who: DemoPerson | null; ready: string }[] = [
@@ -41,16 +39,6 @@ afterAll(async () => {
   await closeTestDb();
 });
 
-interface AxeResult {
-  violations: { id: string; impact: string | null; help: string; nodes: { target: string[] }[] }[];
-}
-
-async function axe(page: Page): Promise<AxeResult['violations']> {
-  await page.evaluate(AXE);
-  const result = (await page.evaluate(`axe.run(document, { resultTypes: ['violations'] })`)) as AxeResult;
-  return result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-}
-
 async function cspViolations(page: Page): Promise<string[]> {
   return page.evaluate(() => (window as unknown as { __csp?: string[] }).__csp ?? []);
 }
@@ -77,14 +65,14 @@ describe('main screens under the Content-Security-Policy, checked with axe-core 
         await page.goto(s.path);
         await hydrated(page);
         await page.locator(s.ready).first().waitFor();
-        await page.waitForLoadState('networkidle');
+        await settled(page);
         const name = s.path.replace(/\W+/g, '-').replace(/^-|-$/g, '') || 'floor';
         for (const [label, viewport] of [['desk', DESK], ['phone', PHONE]] as const) {
           if (label === 'phone') {
             await page.setViewportSize(viewport);
-            await page.waitForTimeout(200);
+            await page.evaluate(() => new Promise((r) => requestAnimationFrame(() => requestAnimationFrame(r))));
           }
-          for (const v of await axe(page)) problems.push(`${s.path} (${label}): ${v.impact} ${v.id} — ${v.help} at ${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join(', ')}`);
+          for (const v of await axe(page)) problems.push(`${s.path} (${label}): ${v}`);
           await shot(page, `a11y-${name}-${label}`);
         }
         for (const v of await cspViolations(page)) problems.push(`${s.path}: policy violation ${v}`);

@@ -6,7 +6,7 @@
 import { randomUUID } from 'node:crypto';
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
 import { closeTestDb, testDb } from '../support/db';
 import { chargeBeamTime } from '../../src/lib/server/payments/billing';
 import { closeDb } from '../../src/lib/server/db';
@@ -30,7 +30,7 @@ describe('account and pricing', () => {
     const errors = watchErrors(page);
     await signIn(page, 'member');
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Account', exact: true }).click();
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     expect(await page.getByRole('heading', { level: 1 }).innerText()).toBe('Account');
     // practice payments in plain words: no provider test-token names, no "TEST MODE"
     expect(await page.getByText('Practice payments — no real money moves').count()).toBe(1);
@@ -48,7 +48,7 @@ describe('account and pricing', () => {
     const charge = await chargeBeamTime({ personId: member.id, machineId: laserB.id, sessionId: randomUUID(), startedAt: new Date(), minutes: 18, materials: [{ sku: 'mdf-3', quantity: 1 }] });
     expect(charge.state).toBe('captured');
     await page.reload();
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     // newest first: the charge this journey just made (other files may have charged member@ on Laser B too)
     const row = page.locator('tbody tr', { hasText: 'Laser B' }).first();
     // 18 → 20 min × NZD 0.75 + one MDF sheet 4.00 = 19.00 (seeded prices)
@@ -56,7 +56,7 @@ describe('account and pricing', () => {
     expect(await row.innerText()).toContain('captured');
     await shot(page, 'account-desk');
     await row.getByRole('link', { name: 'Receipt' }).click();
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     const receipt = await page.locator('article').innerText();
     expect(receipt).toContain('Laser B: 20 min');
     expect(receipt).toContain('3 mm MDF');
@@ -70,7 +70,7 @@ describe('account and pricing', () => {
     const p2 = await phone.newPage();
     await signIn(p2, 'member');
     await p2.goto('/account');
-    await p2.waitForLoadState('networkidle');
+    await settled(p2);
     expect(await p2.getByTestId('card').innerText()).toBe('Visa •••• 4242');
     const overflow = await p2.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
     expect(overflow).toBeLessThanOrEqual(0);
@@ -84,7 +84,7 @@ describe('account and pricing', () => {
     const errors = watchErrors(page);
     await signIn(page, 'admin');
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Pricing', exact: true }).click();
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     const future = new Date(Date.now() + 90 * 86_400_000).toISOString().slice(0, 10);
     await page.getByLabel(/Effective from/).fill(future);
     await page.getByLabel('Laser A, Community rate per minute').fill('2.00');
@@ -109,7 +109,7 @@ describe('account and pricing', () => {
     const p2 = await phone.newPage();
     await signIn(p2, 'admin');
     await p2.goto('/admin/pricing');
-    await p2.waitForLoadState('networkidle');
+    await settled(p2);
     await shot(p2, 'pricing-phone');
     await phone.close();
   });

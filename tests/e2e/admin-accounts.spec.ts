@@ -3,16 +3,14 @@
  * institution sign-in on Site (the sign-in page then offers "Sign in with <name>"). Both screens are checked with
  * axe-core at desk and phone widths. The institution settings are put back afterwards for the other files.
  */
-import fs from 'node:fs';
-import path from 'node:path';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { checkBothWidths } from '../support/axe';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb } from '../support/db';
 import { to, waitForMail } from '../support/mail';
 
-const AXE = fs.readFileSync(path.resolve(import.meta.dirname, '..', '..', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
 
 let browser: Browser;
 let admin: Client;
@@ -31,26 +29,6 @@ afterAll(async () => {
   await clearSignInLimits();
   await closeTestDb();
 });
-
-/** Serious or critical axe-core violations on the page as it is now. */
-async function axe(page: Page): Promise<string[]> {
-  await page.evaluate(AXE);
-  const result = (await page.evaluate(`axe.run(document, { resultTypes: ['violations'] })`)) as { violations: { id: string; impact: string | null; help: string; nodes: { target: string[] }[] }[] };
-  return result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical').map((v) => `${v.impact} ${v.id} — ${v.help} at ${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join(', ')}`);
-}
-
-/** axe at desk width, then the same page at phone width; screenshots of both. */
-async function checkBothWidths(page: Page, name: string): Promise<string[]> {
-  const problems: string[] = [];
-  for (const [label, viewport] of [['desk', DESK], ['phone', PHONE]] as const) {
-    await page.setViewportSize(viewport);
-    await page.waitForTimeout(200);
-    for (const v of await axe(page)) problems.push(`${name} (${label}): ${v}`);
-    await shot(page, `${name}-${label}`);
-  }
-  await page.setViewportSize(DESK);
-  return problems;
-}
 
 /** Page errors, less the browser's own log line for the refusals this test provokes on purpose (409, 422). */
 const unexpected = (errors: string[]) => errors.filter((e) => !/Failed to load resource: the server responded with a status of (409|422)/.test(e));

@@ -5,18 +5,16 @@
  * where the person clicked, and "Cancel booking" asks first, saying what cancelling costs. At desk and phone
  * widths, with axe-core on the screen and on the open dialog.
  */
-import fs from 'node:fs';
-import path from 'node:path';
 import type { Browser, Locator, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled, SCREENSHOTS } from '../support/browser';
+import { axe } from '../support/axe';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { wallClock } from '../../src/lib/availability';
 
-const AXE = fs.readFileSync(path.resolve(import.meta.dirname, '..', '..', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
 const DAY = 26; // Laser B, a day no other file books on it (integration 15–22 and 29, booking journeys 23–24 and 31 on Laser A)
 
 let browser: Browser;
@@ -42,12 +40,6 @@ function dateOf(d: Date): string {
   return `${w.year}-${String(w.month).padStart(2, '0')}-${String(w.day).padStart(2, '0')}`;
 }
 
-async function axe(page: Page): Promise<string[]> {
-  await page.evaluate(AXE);
-  const r = (await page.evaluate(`axe.run(document, { resultTypes: ['violations'] })`)) as { violations: { id: string; impact: string | null; nodes: { target: string[] }[] }[] };
-  return r.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical').map((v) => `${v.impact} ${v.id} at ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(', ')}`);
-}
-
 /** The element is inside the viewport (wholly, or filling it) and holds the keyboard focus. */
 async function seenAndFocused(page: Page, el: Locator): Promise<void> {
   await el.waitFor();
@@ -61,14 +53,14 @@ async function seenAndFocused(page: Page, el: Locator): Promise<void> {
 /** What the person sees right now (the viewport), beside the full-page shot. */
 async function view(page: Page, name: string): Promise<void> {
   await shot(page, name);
-  await page.screenshot({ path: `screenshots/${name}-view.png` });
+  if (SCREENSHOTS) await page.screenshot({ path: `screenshots/${name}-view.png` });
 }
 
 async function openBook(page: Page) {
   await page.goto(`/book?machine=${laserB.id}`);
   await hydrated(page);
   await page.locator('.fc-timegrid-slot-lane').first().waitFor();
-  await page.waitForLoadState('networkidle');
+  await settled(page);
 }
 
 describe('the Book screen as a first-week member meets it', () => {
@@ -90,7 +82,7 @@ describe('the Book screen as a first-week member meets it', () => {
     const day = dateOf(siteTime(DAY, 12));
     await page.getByLabel('Go to date').fill(day);
     await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).waitFor();
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     const formDate = await form.getByLabel('Date').inputValue();
     const shownDays = await page.locator('td.fc-timegrid-col[data-date]').evaluateAll((els) => els.map((e) => e.getAttribute('data-date')));
     expect(shownDays).toContain(formDate);
@@ -175,7 +167,7 @@ describe('the Book screen as a first-week member meets it', () => {
     const day = dateOf(siteTime(DAY + 1, 12));
     await page.getByLabel('Go to date').fill(day);
     await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).waitFor();
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     const form = page.getByRole('form', { name: 'Book by date and time' });
     // the form's date followed the calendar's day
     expect(await form.getByLabel('Date').inputValue()).toBe(day);

@@ -4,7 +4,7 @@
  */
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
@@ -41,7 +41,7 @@ async function openBook(page: Page, day: string) {
   await page.locator('.fc-timegrid-slot-lane').first().waitFor();
   await page.getByLabel('Go to date').fill(day);
   await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).waitFor();
-  await page.waitForLoadState('networkidle');
+  await settled(page);
 }
 
 /** Drags down one day column from `from` to the slot that starts at `lastSlot` (HH:MM:SS). */
@@ -154,7 +154,7 @@ describe('booking on the calendar', () => {
     await expect.poll(() => page.getByRole('button', { name: 'Day', exact: true }).getAttribute('aria-pressed'), { timeout: 20_000 }).toBe('true');
     // the seed books Laser A most days: go to tomorrow (site time) so the day shows bookings
     await page.getByRole('button', { name: 'Next day' }).click();
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     expect(await page.locator('td.fc-timegrid-col[data-date]').count()).toBe(1);
     const width = await page.evaluate(() => document.documentElement.scrollWidth);
     expect(width).toBeLessThanOrEqual(PHONE.width);
@@ -177,7 +177,7 @@ describe('booking on the calendar', () => {
     await hydrated(page);
     await page.getByLabel('Machine', { exact: true }).first().selectOption('all');
     await expect.poll(() => page.locator('[data-machine-calendar]').count()).toBe(3);
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     await shot(page, 'book-all-machines-desk');
     expect(errors).toEqual([]);
     await ctx.close();

@@ -6,7 +6,7 @@
 import sharp from 'sharp';
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 
 let browser: Browser;
@@ -63,7 +63,7 @@ describe('a stop fault from the phone to the steward', () => {
     // the photo is lazy-loaded: bring it into view and give a busy machine time to load it
     await card.locator('img').first().scrollIntoViewIfNeeded();
     await expect.poll(() => card.locator('img').first().evaluate((img) => (img as HTMLImageElement).naturalWidth), { timeout: 20_000 }).toBeGreaterThan(0);
-    await sp.waitForLoadState('networkidle');
+    await settled(sp);
     await shot(sp, 'faults-queue-desk');
 
     await card.getByLabel('Resolution (what was done)').fill('Coolant hose reseated, tube inspected, no crack.');

@@ -9,7 +9,7 @@
  */
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, settled, SCREENSHOTS } from '../support/browser';
 import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
@@ -63,7 +63,7 @@ async function both(page: Page, name: string, first: 'desk' | 'phone' = 'phone')
   const order = first === 'phone' ? [['phone', PHONE], ['desk', DESK]] as const : [['desk', DESK], ['phone', PHONE]] as const;
   for (const [label, size] of order) {
     await page.setViewportSize(size);
-    await page.waitForTimeout(150);
+    if (SCREENSHOTS) await page.waitForTimeout(150); // let the layout settle before the picture
     await shot(page, `induction-${name}-${label}`);
   }
 }
@@ -201,7 +201,7 @@ describe('from quiz to first cut', () => {
     await mpage.locator('.fc-timegrid-slot-lane').first().waitFor();
     await mpage.getByLabel('Go to date').fill(day);
     await mpage.locator(`td.fc-timegrid-col[data-date="${day}"]`).waitFor();
-    await mpage.waitForLoadState('networkidle');
+    await settled(mpage);
     await mpage.locator('td.fc-timegrid-slot-lane[data-time="10:00:00"]').evaluate((el) => el.scrollIntoView({ block: 'center' }));
     const col = (await mpage.locator(`td.fc-timegrid-col[data-date="${day}"]`).boundingBox())!;
     const top = (await mpage.locator('td.fc-timegrid-slot-lane[data-time="10:00:00"]').boundingBox())!;

@@ -5,7 +5,7 @@
  */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, watchErrors } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, watchErrors, settled } from '../support/browser';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { DEMO } from '../support/env';
 import { to, waitForMail } from '../support/mail';
@@ -38,7 +38,7 @@ describe('institution sign-in', () => {
     await page.locator('input[name="password"]').fill('anything');
     await shot(page, 'institution-provider-login');
     await Promise.all([page.waitForURL((u) => u.origin === new URL(process.env.APP_URL!).origin && !u.pathname.startsWith('/api/auth')), page.locator('button[type="submit"]').first().click()]);
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     const me = await (await page.request.get('/api/me')).json();
     expect(me, `landed on ${page.url()}`).toMatchObject({ email: DEMO.student, roles: ['member'] });
     await page.goto('/account');

@@ -6,7 +6,7 @@
  */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { TEST_RULES, machines, setTestRules, type MachineRef } from '../support/booking';
@@ -105,7 +105,7 @@ describe('at the machine', () => {
     // the receipt is on Account
     await page.goto('/account');
     await hydrated(page);
-    await page.waitForLoadState('networkidle');
+    await settled(page);
     await page.locator(`a[href="${href}"]`).first().waitFor();
     await shot(page, 'account-after-check-out-phone');
     await page.goto(href!);

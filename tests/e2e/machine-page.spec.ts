@@ -6,16 +6,14 @@
  * stop fault open is refused and the panel says why, and "Resolve and return to service" does both; axe finds
  * no serious or critical issue on these screens at desk and phone widths.
  */
-import fs from 'node:fs';
-import path from 'node:path';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { checkBothWidths } from '../support/axe';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 
-const AXE = fs.readFileSync(path.resolve(import.meta.dirname, '..', '..', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
 
 let browser: Browser;
 let admin: Client;
@@ -33,21 +31,6 @@ afterAll(async () => {
   await closeTestDb();
 });
 
-async function axe(page: Page): Promise<string[]> {
-  await page.evaluate(AXE);
-  const r = (await page.evaluate(`axe.run(document, { resultTypes: ['violations'] })`)) as { violations: { id: string; impact: string | null; help: string; nodes: { target: string[] }[] }[] };
-  return r.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical').map((v) => `${v.impact} ${v.id} — ${v.help} at ${v.nodes.slice(0, 3).map((n) => n.target.join(' ')).join(', ')}`);
-}
-
-async function checkBothWidths(page: Page, name: string, problems: string[]): Promise<void> {
-  for (const [label, viewport] of [['desk', DESK], ['phone', PHONE]] as const) {
-    await page.setViewportSize(viewport);
-    await page.waitForTimeout(200);
-    for (const v of await axe(page)) problems.push(`${name} (${label}): ${v}`);
-    await shot(page, `${name}-${label}`);
-  }
-}
-
 describe('the QR page signed out', () => {
   it('shows the machine, its status, today and the hazards; signing in from it comes back to it', async () => {
     const ctx = await newContext(browser, PHONE);
@@ -61,7 +44,7 @@ describe('the QR page signed out', () => {
     await page.getByRole('heading', { name: 'Hazards in short' }).waitFor();
     await page.getByRole('heading', { name: /Fire, smoke that does not clear/ }).waitFor();
     const problems: string[] = [];
-    await checkBothWidths(page, 'qr-signed-out', problems);
+    problems.push(...(await checkBothWidths(page, 'qr-signed-out')));
     await page.setViewportSize(PHONE);
     const signInLink = page.getByRole('link', { name: 'Sign in to check in or report a fault' });
     // the way to act is on the first screen of a phone
@@ -72,9 +55,9 @@ describe('the QR page signed out', () => {
     expect(new URL(page.url()).pathname).toBe(`/m/${machine.code}`);
     const report = page.getByRole('link', { name: 'Report a fault' });
     expect((await report.boundingBox())!.y + 40).toBeLessThan(PHONE.height); // above the fold on a phone
-    await checkBothWidths(page, 'qr-signed-in', problems);
+    problems.push(...(await checkBothWidths(page, 'qr-signed-in')));
     await page.goto(`/m/${machine.code}/fault`);
-    await checkBothWidths(page, 'qr-fault-form', problems);
+    problems.push(...(await checkBothWidths(page, 'qr-fault-form')));
     expect(problems, problems.join('\n')).toEqual([]);
     expect(errors).toEqual([]);
     await ctx.close();
@@ -155,7 +138,7 @@ describe('back into service while a stop fault is open', () => {
     expect((await testDb()('machines').where({ id: machine.id }).first()).status).toBe('in service');
     expect((await testDb()('faults').where({ id: faultId }).first()).status).toBe('resolved');
     const problems: string[] = [];
-    await checkBothWidths(page, 'faults', problems);
+    problems.push(...(await checkBothWidths(page, 'faults')));
     expect(problems, problems.join('\n')).toEqual([]);
     // the refused return is a 409 the browser logs as a failed resource; nothing else may go wrong
     expect(errors.filter((e) => !e.includes('status of 409'))).toEqual([]);

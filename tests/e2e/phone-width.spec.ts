@@ -7,7 +7,7 @@
  */
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { navFor } from '../../src/lib/nav';
@@ -109,7 +109,7 @@ describe('every screen fits a 390 px phone', () => {
         const res = await page.goto(path);
         expect(res?.status(), path).toBeLessThan(400);
         await hydrated(page);
-        await page.waitForLoadState('networkidle'); // islands that load their rows after hydrating
+        await settled(page); // islands that load their rows after hydrating
         if (path === '/admin/machines') {
           // the screen as the lead measured it: the controller's row and the long name in the list
           await page.locator(`[data-machine-row="${longMachine!.code}"]`).waitFor();

@@ -10,7 +10,7 @@ import zlib from 'node:zlib';
 import sharp from 'sharp';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { PHONE, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { PHONE, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
@@ -42,7 +42,7 @@ async function jsWeight(page: Page, path: string): Promise<{ files: number; inli
   };
   page.on('response', onResponse);
   await page.goto(path);
-  await page.waitForLoadState('networkidle');
+  await settled(page);
   page.off('response', onResponse);
   const inline = await page.evaluate(() => [...document.querySelectorAll('script:not([src])')].map((s) => s.textContent ?? '').filter((t) => t.trim()));
   const gz = (b: Buffer | string) => zlib.gzipSync(b, { level: 9 }).byteLength;

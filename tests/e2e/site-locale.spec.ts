@@ -9,8 +9,7 @@
  */
 import type { Browser, BrowserContext } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, shot, signIn, watchErrors } from '../support/browser';
-import { APP_URL } from '../support/env';
+import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
 import { Client, body } from '../support/client';
 import { closeTestDb } from '../support/db';
 
@@ -39,7 +38,7 @@ afterAll(async () => {
 
 /** A browser whose own locale and zone differ from the site's: islands must not use them. */
 function elsewhere(viewport: { width: number; height: number }): Promise<BrowserContext> {
-  return browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-US', timezoneId: 'America/New_York' });
+  return newContext(browser, viewport, { locale: 'en-US', timezoneId: 'America/New_York' });
 }
 
 const GERMAN_DATE = /\d{1,2}\. (Jan|Feb|März|Apr|Mai|Juni|Juli|Aug|Sep|Okt|Nov|Dez)[a-zä]*\.? \d{4}/;
@@ -67,7 +66,7 @@ describe('the main screens in a second site locale (de-DE)', () => {
 
       await page.goto('/account');
       await hydrated(page);
-      await page.waitForLoadState('networkidle');
+      await settled(page);
       const account = nbsp(await page.locator('main').innerText());
       expect(account).not.toMatch(/NZD \d/);
       expect(account).toMatch(/\d,\d{2} NZ\$/); // the balance owed and the charges: "0,00 NZ$"
@@ -85,7 +84,7 @@ describe('the main screens in a second site locale (de-DE)', () => {
       expect(reports).toMatch(new RegExp(`Showing ${GERMAN_DATE.source} to ${GERMAN_DATE.source}`));
       expect(nbsp(await apage.getByTestId('revenue-net').innerText())).toMatch(/^-?[\d.]+,\d{2} NZ\$$/);
       expect(nbsp(await apage.getByTestId('util-totals').innerText())).not.toMatch(/\d\.\d h|\d\.\d %/); // "12,5 h", "40,2 %": decimal commas
-      await apage.waitForLoadState('networkidle');
+      await settled(apage);
       await shot(apage, `site-locale-de-reports-${size}`);
       expect(aerrors).toEqual([]);
       await actx.close();

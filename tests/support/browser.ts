@@ -1,5 +1,5 @@
 /** Headless Chromium from Debian's package, driven by playwright-core (no browser download). */
-import { chromium, type Browser, type BrowserContext, type Download, type Page } from 'playwright-core';
+import { chromium, type Browser, type BrowserContext, type BrowserContextOptions, type Download, type Page, type Request } from 'playwright-core';
 import { inject } from 'vitest';
 import { CHROMIUM_ARGS } from './browser-args';
 import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
@@ -18,8 +18,48 @@ export async function launch(): Promise<Browser> {
 export const PHONE = { width: 390, height: 844 };
 export const DESK = { width: 1280, height: 800 };
 
-export async function newContext(browser: Browser, viewport = DESK): Promise<BrowserContext> {
-  return browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-NZ' });
+export async function newContext(browser: Browser, viewport = DESK, options: BrowserContextOptions = {}): Promise<BrowserContext> {
+  const ctx = await browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-NZ', ...options });
+  ctx.on('page', track);
+  return ctx;
+}
+
+/** The requests each page has in flight, counted from when the page opened (see `settled`). */
+const inFlight = new WeakMap<Page, { open: Set<Request>; lastChange: number }>();
+
+function track(page: Page): { open: Set<Request>; lastChange: number } {
+  const known = inFlight.get(page);
+  if (known) return known;
+  const state = { open: new Set<Request>(), lastChange: Date.now() };
+  inFlight.set(page, state);
+  const done = (r: Request) => {
+    if (state.open.delete(r)) state.lastChange = Date.now();
+  };
+  page.on('request', (r) => {
+    state.open.add(r);
+    state.lastChange = Date.now();
+  });
+  page.on('requestfinished', done);
+  page.on('requestfailed', done);
+  page.on('close', () => state.open.clear());
+  return state;
+}
+
+/**
+ * Waits until the page has loaded and no request of it has been in flight for `quietMs` — what Playwright's
+ * 'networkidle' does with a fixed 500 ms of quiet, here with a shorter quiet time (islands that fetch their rows
+ * after hydrating start within a few milliseconds). Pages of contexts made by `newContext` are counted from
+ * their first request; any other page from this call on.
+ */
+export async function settled(page: Page, quietMs = 120, timeoutMs = 20_000): Promise<void> {
+  const state = track(page);
+  await page.waitForLoadState('load');
+  const until = Date.now() + timeoutMs;
+  for (;;) {
+    if (state.open.size === 0 && Date.now() - state.lastChange >= quietMs) return;
+    if (Date.now() > until) throw new Error(`still loading after ${timeoutMs} ms: ${[...state.open].map((r) => r.url()).slice(0, 5).join(', ')}`);
+    await new Promise((r) => setTimeout(r, 20));
+  }
 }
 
 /**
@@ -42,7 +82,7 @@ export async function signInThroughForm(page: Page, who: DemoPerson | string, pa
   await page.getByLabel('E-mail').fill(email);
   await page.getByLabel('Password').fill(password);
   await Promise.all([page.waitForLoadState('load'), page.getByRole('button', { name: 'Sign in', exact: true }).click()]);
-  await page.waitForLoadState('networkidle');
+  await settled(page);
 }
 
 /** Collects uncaught page errors and console errors, so a spec can assert there were none. */
@@ -55,9 +95,15 @@ export function watchErrors(page: Page): string[] {
   return errors;
 }
 
-/** Screenshots go to the git-ignored screenshots/ folder, to be looked at by people. */
+/**
+ * Screenshots for people to look at, in the git-ignored screenshots/ folder — taken when TEST_SCREENSHOTS=1
+ * (`TEST_SCREENSHOTS=1 npm test -- tests/e2e/…`). A full-page picture costs a third of a second, and the specs take
+ * over two hundred, so a plain `npm test` leaves them out; what the specs check does not depend on them.
+ */
+export const SCREENSHOTS = process.env.TEST_SCREENSHOTS === '1';
+
 export async function shot(page: Page, name: string): Promise<void> {
-  await page.screenshot({ path: `screenshots/${name}.png`, fullPage: true });
+  if (SCREENSHOTS) await page.screenshot({ path: `screenshots/${name}.png`, fullPage: true });
 }
 
 /**
