@@ -103,6 +103,53 @@ export async function cancelFutureBookingsOnMachine(trx: Knex.Transaction, actor
   return ids;
 }
 
+/**
+ * The one way a cascade ends bookings: every reserved booking of a person or a machine that has not ended yet, in
+ * the caller's transaction, locked, each audited, its waitlist hold closed, its freed time offered to the waitlist
+ * (unless `offer: false`) and its card hold released by an intent recorded with it. `cancelled` for a person
+ * leaving and a machine retired; `bumped` for a machine going out of service (offerFreedTime offers nothing on
+ * a machine out of service; the time is offered again when it returns). Returns the ended rows as they now are.
+ */
+export async function endFutureBookings(
+  trx: Knex.Transaction,
+  actorId: string | null,
+  where: { person_id: string } | { machine_id: string },
+  how: { state?: 'cancelled' | 'bumped'; summary: string; reason: string; offer?: boolean; mail?: string },
+  now: Date,
+): Promise<Row[]> {
+  const bumped = how.state === 'bumped';
+  const rows = (await trx('bookings')
+    .where({ ...where, state: 'reserved' })
+    .where('ends_at', '>', now)
+    .orderBy('starts_at')
+    .forUpdate()
+    .select('*')) as Row[];
+  const ended: Row[] = [];
+  for (const r of rows) {
+    const change = bumped
+      ? { state: 'bumped' }
+      : { state: 'cancelled', late_cancel: false, cancelled_at: now, cancelled_by: actorId };
+    const [u] = await trx('bookings').where({ id: r.id })
+      .update({ ...change, calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() })
+      .returning('*');
+    ended.push(u as Row);
+    if (how.mail) await sendCancellation(trx, u as Row, how.mail);
+    if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: bumped ? 'expired' : 'withdrawn' });
+    await recordAudit(trx, {
+      actorId,
+      kind: bumped ? 'booking.bumped' : 'booking.cancelled',
+      subjectType: 'booking',
+      subjectId: r.id,
+      summary: how.summary,
+      before: { state: 'reserved' },
+      after: bumped ? { state: 'bumped', reason: how.reason } : { state: 'cancelled', lateCancel: false, reason: how.reason },
+    });
+    if (how.offer !== false) await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
+    await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: how.reason, notify: false, actorId });
+  }
+  return ended;
+}
+
 async function cancelFutureBookings(
   trx: Knex.Transaction,
   actorId: string,
@@ -110,29 +157,5 @@ async function cancelFutureBookings(
   how: { summary: string; reason: string; offer?: boolean; mail?: string },
   now: Date,
 ): Promise<string[]> {
-  const rows = (await trx('bookings')
-    .where({ ...where, state: 'reserved' })
-    .where('ends_at', '>', now)
-    .orderBy('starts_at')
-    .forUpdate()
-    .select('*')) as Row[];
-  for (const r of rows) {
-    const [u] = await trx('bookings').where({ id: r.id })
-      .update({ state: 'cancelled', late_cancel: false, cancelled_at: now, cancelled_by: actorId, calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() })
-      .returning('*');
-    if (how.mail) await sendCancellation(trx, u as Row, how.mail);
-    if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: 'withdrawn' });
-    await recordAudit(trx, {
-      actorId,
-      kind: 'booking.cancelled',
-      subjectType: 'booking',
-      subjectId: r.id,
-      summary: how.summary,
-      before: { state: 'reserved' },
-      after: { state: 'cancelled', lateCancel: false, reason: how.reason },
-    });
-    if (how.offer !== false) await offerFreedTime(trx, r.machine_id, { start: r.starts_at > now ? r.starts_at : now, end: r.ends_at }, now);
-    await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: how.reason, notify: false, actorId });
-  }
-  return rows.map((r) => r.id);
+  return (await endFutureBookings(trx, actorId, where, how, now)).map((r) => r.id);
 }

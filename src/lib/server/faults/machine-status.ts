@@ -14,19 +14,13 @@ import { transaction } from '@lib/server/db';
 import { env } from '@lib/server/env';
 import { DomainError } from '@lib/server/errors';
 import { queueMail } from '@lib/server/mail';
-import { recordPaymentIntent } from '@lib/server/payment-intents';
 import { releaseHoldsAfterCancel } from '@lib/server/payments/intents';
-import { cancellationAttachment, raiseSequence } from '@lib/server/bookings/messages';
+import { cancellationAttachment, formatRange } from '@lib/server/bookings/messages';
+import { endFutureBookings } from '@lib/server/bookings/cancel';
 import { offerFreedTime } from '@lib/server/bookings/waitlist';
 import type { FaultSeverity, MachineStatus } from '@lib/faults-shared';
-import type { Conn } from '@lib/server/db';
 import type { Actor } from '@lib/roles';
-import { getSettings, siteLocale } from '@lib/server/settings';
-import { siteFormat } from '@lib/format';
-
-async function formatRange(q: Conn, startsAt: Date, endsAt: Date, tz: string): Promise<string> {
-  return siteFormat(await siteLocale(q), tz).longRange(startsAt, endsAt);
-}
+import { getSettings } from '@lib/server/settings';
 
 interface Effects {
   bumped: string[];
@@ -64,44 +58,24 @@ export async function changeStatus(
 }
 
 async function bumpBookings(trx: Knex.Transaction, machine: MachineRow, ctx: { actorId: string | null; reason: string; now: Date }): Promise<string[]> {
-  const rows = (await trx('bookings as b')
-    .join('people as p', 'p.id', 'b.person_id')
-    .where({ 'b.machine_id': machine.id, 'b.state': 'reserved' })
-    .where('b.ends_at', '>', ctx.now)
-    .orderBy('b.starts_at')
-    .forUpdate('b')
-    .select('b.id', 'b.kind', 'b.course_name', 'b.starts_at', 'b.ends_at', 'b.calendar_sequence', 'b.person_id', 'p.email', 'p.name')) as {
-    id: string; kind: string; course_name: string | null; starts_at: Date; ends_at: Date; calendar_sequence: number; person_id: string; email: string; name: string;
-  }[];
-  if (!rows.length) return [];
+  const why = `${machine.name} is out of service`;
+  const rows = await endFutureBookings(trx, ctx.actorId, { machine_id: machine.id }, { state: 'bumped', summary: `Bumped: ${why}`, reason: why }, ctx.now);
+  const mailed = rows.filter((r) => r.kind !== 'hold');
+  if (!mailed.length) return rows.map((r) => r.id);
   const site = await getSettings(trx);
-  const tz = site.timeZone;
-  await trx('bookings').whereIn('id', rows.map((r) => r.id)).update({ state: 'bumped', calendar_sequence: raiseSequence(trx), updated_at: trx.fn.now() });
-  for (const r of rows) {
-    if (r.kind === 'hold') await trx('waitlist_entries').where({ hold_booking_id: r.id }).update({ state: 'expired' });
-    await recordAudit(trx, {
-      actorId: ctx.actorId,
-      kind: 'booking.bumped',
-      subjectType: 'booking',
-      subjectId: r.id,
-      summary: `Bumped: ${machine.name} is out of service`,
-      before: { state: 'reserved' },
-      after: { state: 'bumped' },
-    });
-    // the machine is out of service now, so offerFreedTime offers nothing on it until it is back (see offerBumpedTime)
-    await offerFreedTime(trx, machine.id, { start: r.starts_at > ctx.now ? r.starts_at : ctx.now, end: r.ends_at }, ctx.now);
-    await recordPaymentIntent(trx, { kind: 'booking.release', bookingId: r.id, reason: `${machine.name} is out of service`, notify: false, actorId: ctx.actorId });
-    if (r.kind === 'hold') continue;
-    await queueMail(trx, r.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
-      greeting: `Hello ${r.name},`,
+  const people = new Map(((await trx('people').whereIn('id', mailed.map((r) => r.person_id)).select('id', 'email', 'name')) as { id: string; email: string; name: string }[]).map((p) => [p.id, p]));
+  for (const r of mailed) {
+    const p = people.get(r.person_id)!;
+    await queueMail(trx, p.email, `Your booking on ${machine.name} is cancelled: the machine is out of service`, {
+      greeting: `Hello ${p.name},`,
       paragraphs: [
-        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(trx, r.starts_at, r.ends_at, tz)} cannot go ahead.`,
+        `${machine.name} was taken out of service after a fault was reported, so your booking on ${await formatRange(trx, { startsAt: r.starts_at, endsAt: r.ends_at }, site.timeZone)} cannot go ahead.`,
         'You are not charged for it: any hold on your card is released.',
         'Book another time or another machine when it suits you.',
         'The attached calendar file removes it from your calendar.',
       ],
       action: { label: 'Book another time', url: `${env().PUBLIC_BASE_URL}/book` },
-    }, [cancellationAttachment({ ...r, calendar_sequence: r.calendar_sequence + 1 }, machine.name, site.name)]);
+    }, [cancellationAttachment(r, machine.name, site.name)]);
   }
   return rows.map((r) => r.id);
 }
