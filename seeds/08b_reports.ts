@@ -6,11 +6,12 @@
  * card otherwise); and last week's faults with the machine status changes they caused.
  */
 import type { Knex } from 'knex';
-import { addDays, localToInstant, wallClock } from '../src/lib/availability';
+import { wallClock } from '../src/lib/availability';
 import { beamTimeMinor, breakdownOf, quote, type PriceTable } from '../src/lib/pricing';
 import type { Tier } from '../src/lib/vocabulary';
 import { formatReceiptNumber, receiptPrefix } from '../src/lib/receipts';
 import { seedLookups } from './lib/lookups';
+import { siteDays } from './lib/site-days';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 const MIN = 60_000;
@@ -154,11 +155,7 @@ async function seedFaults(knex: Knex, tz: string, now: Date): Promise<void> {
   const member = p('member');
   const steward = p('steward');
   if (!laserA || !laserB || !member || !steward) return;
-  const today = wallClock(now, tz);
-  const at = (dayOffset: number, hour: number, minute = 0) => {
-    const d = addDays(today.year, today.month, today.day, dayOffset);
-    return localToInstant(d.year, d.month, d.day, hour * 60 + minute, tz);
-  };
+  const { at } = siteDays(now, tz);
 
   // A stop fault on Laser B six days ago after its last booking; back in service the next morning before the first.
   const stopAt = at(-6, 17, 5);
