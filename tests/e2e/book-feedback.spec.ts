@@ -14,7 +14,7 @@ import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
-import { wallClock } from '../../src/lib/availability';
+import { zonedDate } from '../../src/lib/time';
 
 const AXE = fs.readFileSync(path.resolve(import.meta.dirname, '..', '..', 'node_modules', 'axe-core', 'axe.min.js'), 'utf8');
 const DAY = 26; // Laser B, a day no other file books on it (integration 15–22 and 29, booking journeys 23–24 and 31 on Laser A)
@@ -37,10 +37,7 @@ afterAll(async () => {
   await closeTestDb();
 });
 
-function dateOf(d: Date): string {
-  const w = wallClock(d, SITE_TZ);
-  return `${w.year}-${String(w.month).padStart(2, '0')}-${String(w.day).padStart(2, '0')}`;
-}
+const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
 
 async function axe(page: Page): Promise<string[]> {
   await page.evaluate(AXE);
