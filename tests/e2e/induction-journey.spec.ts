@@ -17,6 +17,7 @@ import { zonedDate } from '../../src/lib/time';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 import { to, waitForMail } from '../support/mail';
 import { dragSelect, goToDay } from '../support/calendar';
+import { signUpThroughForm } from '../support/signup';
 
 const DAY = 32;
 let browser: Browser;
@@ -97,11 +98,7 @@ describe('from quiz to first cut', () => {
     const mpage = await mctx.newPage();
     mpage.setDefaultTimeout(20_000);
     const merrors = watchErrors(mpage);
-    await mpage.goto('/signup');
-    await mpage.getByLabel('Your name').fill(member.name);
-    await mpage.getByLabel('E-mail').fill(member.email);
-    await mpage.getByLabel('Password').fill(member.password);
-    await Promise.all([mpage.waitForURL(/\/signup\?sent=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    await signUpThroughForm(mpage, member);
     // the address is confirmed from the e-mailed link before the first sign-in
     const confirmation = await waitForMail((m) => to(member.email)(m) && /confirm/i.test(m.subject));
     const link = /\/confirm-email\?token=[A-Za-z0-9_-]+/.exec(`${confirmation.text ?? ''} ${confirmation.html ?? ''}`)?.[0];
