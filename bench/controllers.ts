@@ -13,15 +13,11 @@ import path from 'node:path';
 import { performance } from 'node:perf_hooks';
 import pg from 'pg';
 import {
-  ROOT, HOST, appEnv, buildApp, databaseUrl, readConfig, recreateDatabase, runNode, say, spawnService, waitForPort,
+  ROOT, HOST, appEnv, buildApp, databaseUrl, recreateDatabase, runNode, say, spawnService, waitForPort,
 } from '../scripts/lib/stack';
-import { addClearedPeople, benchStack } from './setup';
+import { addClearedPeople, benchConfig, benchStack } from './setup';
 
-const cfg = readConfig(
-  'bench',
-  { dataDir: 'BENCH_CTRL_DATA_DIR', appPort: 'BENCH_CTRL_PORT', pgPort: 'BENCH_CTRL_PG_PORT', smtpPort: 'BENCH_CTRL_SMTP_PORT', mailWebPort: 'BENCH_CTRL_MAIL_WEB_PORT', stripePort: 'BENCH_CTRL_STRIPE_PORT', s3Port: 'BENCH_CTRL_S3_PORT' },
-  { dataDir: '.data/bench-controllers', appPort: 4343, pgPort: 54351, smtpPort: 1137, mailWebPort: 1192, stripePort: 12133, s3Port: 4591, dbName: 'beamwarden_bench_ctrl' },
-);
+const cfg = benchConfig('BENCH_CTRL', { dataDir: '.data/bench-controllers', appPort: 4343, pgPort: 54351, smtpPort: 1137, mailWebPort: 1192, stripePort: 12133, s3Port: 4591, dbName: 'beamwarden_bench_ctrl' });
 const N = Number(process.env.BENCH_CTRL_CONTROLLERS ?? 20);
 const ROUNDS = Number(process.env.BENCH_CTRL_ROUNDS ?? 50);
 const CYCLES = Number(process.env.BENCH_CTRL_CYCLES ?? 10);

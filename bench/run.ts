@@ -14,15 +14,11 @@ import path from 'node:path';
 import pg from 'pg';
 import autocannon from 'autocannon';
 import {
-  ROOT, HOST, appEnv, buildApp, databaseUrl, readConfig, recreateDatabase, logDir, runNode, say, spawnService, waitForPort,
+  ROOT, HOST, appEnv, buildApp, databaseUrl, recreateDatabase, logDir, runNode, say, spawnService, waitForPort,
 } from '../scripts/lib/stack';
-import { addClearedPeople, benchStack } from './setup';
+import { addClearedPeople, benchConfig, benchStack } from './setup';
 
-const cfg = readConfig(
-  'bench',
-  { dataDir: 'BENCH_DATA_DIR', appPort: 'BENCH_PORT', pgPort: 'BENCH_PG_PORT', smtpPort: 'BENCH_SMTP_PORT', mailWebPort: 'BENCH_MAIL_WEB_PORT', stripePort: 'BENCH_STRIPE_PORT', s3Port: 'BENCH_S3_PORT' },
-  { dataDir: '.data/bench', appPort: 4341, pgPort: 54349, smtpPort: 1135, mailWebPort: 1190, stripePort: 12131, s3Port: 4589, dbName: 'beamwarden_bench' },
-);
+const cfg = benchConfig('BENCH', { dataDir: '.data/bench', appPort: 4341, pgPort: 54349, smtpPort: 1135, mailWebPort: 1190, stripePort: 12131, s3Port: 4589, dbName: 'beamwarden_bench' });
 const HISTORY = Number(process.env.BENCH_HISTORY ?? 1_000_000);
 const REQUESTS = Number(process.env.BENCH_REQUESTS ?? 3200);
 const SECONDS = Number(process.env.BENCH_SECONDS ?? 10);

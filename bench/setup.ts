@@ -3,7 +3,19 @@
  * not running, stopped again at the end or on Ctrl-C) and the bench people they book and badge with.
  */
 import type pg from 'pg';
-import { assertPortFree, ensurePostgres, loadSecrets, stopPostgres, stopServices, type StackConfig } from '../scripts/lib/stack';
+import { assertPortFree, ensurePostgres, loadSecrets, readConfig, stopPostgres, stopServices, type StackConfig } from '../scripts/lib/stack';
+
+/** A bench's ports and data folder, each from `<prefix>_PORT`, `<prefix>_PG_PORT`, … `<prefix>_DATA_DIR` or its default. */
+export function benchConfig(prefix: string, defaults: Parameters<typeof readConfig>[2]): StackConfig {
+  return readConfig(
+    'bench',
+    {
+      dataDir: `${prefix}_DATA_DIR`, appPort: `${prefix}_PORT`, pgPort: `${prefix}_PG_PORT`, smtpPort: `${prefix}_SMTP_PORT`,
+      mailWebPort: `${prefix}_MAIL_WEB_PORT`, stripePort: `${prefix}_STRIPE_PORT`, s3Port: `${prefix}_S3_PORT`,
+    },
+    defaults,
+  );
+}
 
 /** Checks the bench app's port is free (named by `portVar` in the message) and makes sure the cluster runs. */
 export async function benchStack(cfg: StackConfig, portVar: string) {
