@@ -13,33 +13,17 @@ import path from 'node:path';
 import { performance } from 'node:perf_hooks';
 import pg from 'pg';
 import {
-  ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig, recreateDatabase,
-  runNode, say, spawnService, stopPostgres, stopServices, waitForPort,
+  ROOT, HOST, appEnv, buildApp, databaseUrl, recreateDatabase, runNode, say, spawnService, waitForPort,
 } from '../scripts/lib/stack';
+import { addClearedPeople, benchConfig, benchStack } from './setup';
 
-const cfg = readConfig(
-  'bench',
-  { dataDir: 'BENCH_CTRL_DATA_DIR', appPort: 'BENCH_CTRL_PORT', pgPort: 'BENCH_CTRL_PG_PORT', smtpPort: 'BENCH_CTRL_SMTP_PORT', mailWebPort: 'BENCH_CTRL_MAIL_WEB_PORT', stripePort: 'BENCH_CTRL_STRIPE_PORT', s3Port: 'BENCH_CTRL_S3_PORT' },
-  { dataDir: '.data/bench-controllers', appPort: 4343, pgPort: 54351, smtpPort: 1137, mailWebPort: 1192, stripePort: 12133, s3Port: 4591, dbName: 'beamwarden_bench_ctrl' },
-);
+const cfg = benchConfig('BENCH_CTRL', { dataDir: '.data/bench-controllers', appPort: 4343, pgPort: 54351, smtpPort: 1137, mailWebPort: 1192, stripePort: 12133, s3Port: 4591, dbName: 'beamwarden_bench_ctrl' });
 const N = Number(process.env.BENCH_CTRL_CONTROLLERS ?? 20);
 const ROUNDS = Number(process.env.BENCH_CTRL_ROUNDS ?? 50);
 const CYCLES = Number(process.env.BENCH_CTRL_CYCLES ?? 10);
 const APP = `http://${HOST}:${cfg.appPort}`;
 
-let pgData: string | undefined;
-let pgStartedHere = false;
-async function cleanup() {
-  await stopServices();
-  if (pgData && pgStartedHere) stopPostgres(pgData);
-}
-process.on('SIGINT', () => void cleanup().then(() => process.exit(130)));
-
-await assertPortFree(cfg.appPort, 'the bench app (BENCH_CTRL_PORT)');
-const secrets = loadSecrets(cfg);
-const info = await ensurePostgres(cfg, secrets);
-pgData = info.pgData;
-pgStartedHere = info.startedHere;
+const { secrets, cleanup } = await benchStack(cfg, 'BENCH_CTRL_PORT');
 await recreateDatabase(cfg, secrets, cfg.dbName);
 const env = appEnv(cfg, secrets, { DATABASE_POOL_MAX: '20' });
 runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the controller bench database');
@@ -54,12 +38,7 @@ await q(`INSERT INTO machines (code, name, group_id, required_level, power_w, tu
          SELECT 'gate-' || i, 'Gate laser ' || i, group_id, required_level, power_w, tube_type, wavelength_um, bed_width_mm, bed_depth_mm, beam_diameter_mm, divergence_mrad, lens_focal_mm, coolant_type
          FROM machines, generate_series(1, $1::int) i WHERE code = 'laser-b'`, [N]);
 await q(`INSERT INTO opening_hours (machine_id, weekday, opens_minute, closes_minute) SELECT m.id, d, 0, 1440 FROM machines m, generate_series(1, 7) d WHERE m.code LIKE 'gate-%'`);
-await q(`INSERT INTO people (email, name, password_hash, tier)
-         SELECT 'gate' || i || '@tidewater.example', 'Gate person ' || i, (SELECT password_hash FROM people WHERE email = 'member@tidewater.example'), 'commercial'
-         FROM generate_series(1, $1::int) i`, [N]);
-await q(`INSERT INTO role_grants (person_id, role) SELECT id, 'member' FROM people WHERE email LIKE 'gate%'`);
-await q(`INSERT INTO clearances (person_id, group_id, state, level, quiz_passed_at, cleared_at, expires_at)
-         SELECT p.id, g.id, 'cleared', 'advanced', now(), now(), now() + interval '1 year' FROM people p CROSS JOIN machine_groups g WHERE p.email LIKE 'gate%'`);
+await addClearedPeople(q, 'gate', 'Gate person', N);
 const machines = (await q(`SELECT id, code FROM machines WHERE code LIKE 'gate-%' ORDER BY code`)).rows as { id: string; code: string }[];
 const people = (await q(`SELECT id FROM people WHERE email LIKE 'gate%' ORDER BY email`)).rows as { id: string }[];
 const boxes: { token: string; badge: string; machineId: string }[] = [];

@@ -14,15 +14,11 @@ import path from 'node:path';
 import pg from 'pg';
 import autocannon from 'autocannon';
 import {
-  ROOT, HOST, appEnv, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig, recreateDatabase,
-  logDir, runNode, say, spawnService, stopPostgres, stopServices, waitForPort,
+  ROOT, HOST, appEnv, buildApp, databaseUrl, recreateDatabase, logDir, runNode, say, spawnService, waitForPort,
 } from '../scripts/lib/stack';
+import { addClearedPeople, benchConfig, benchStack } from './setup';
 
-const cfg = readConfig(
-  'bench',
-  { dataDir: 'BENCH_DATA_DIR', appPort: 'BENCH_PORT', pgPort: 'BENCH_PG_PORT', smtpPort: 'BENCH_SMTP_PORT', mailWebPort: 'BENCH_MAIL_WEB_PORT', stripePort: 'BENCH_STRIPE_PORT', s3Port: 'BENCH_S3_PORT' },
-  { dataDir: '.data/bench', appPort: 4341, pgPort: 54349, smtpPort: 1135, mailWebPort: 1190, stripePort: 12131, s3Port: 4589, dbName: 'beamwarden_bench' },
-);
+const cfg = benchConfig('BENCH', { dataDir: '.data/bench', appPort: 4341, pgPort: 54349, smtpPort: 1135, mailWebPort: 1190, stripePort: 12131, s3Port: 4589, dbName: 'beamwarden_bench' });
 const HISTORY = Number(process.env.BENCH_HISTORY ?? 1_000_000);
 const REQUESTS = Number(process.env.BENCH_REQUESTS ?? 3200);
 const SECONDS = Number(process.env.BENCH_SECONDS ?? 10);
@@ -30,19 +26,7 @@ const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 32);
 const PEOPLE = 32;
 const APP = `http://${HOST}:${cfg.appPort}`;
 
-let pgData: string | undefined;
-let pgStartedHere = false;
-async function cleanup() {
-  await stopServices();
-  if (pgData && pgStartedHere) stopPostgres(pgData);
-}
-process.on('SIGINT', () => void cleanup().then(() => process.exit(130)));
-
-await assertPortFree(cfg.appPort, 'the bench app (BENCH_PORT)');
-const secrets = loadSecrets(cfg);
-const info = await ensurePostgres(cfg, secrets);
-pgData = info.pgData;
-pgStartedHere = info.startedHere;
+const { secrets, cleanup } = await benchStack(cfg, 'BENCH_PORT');
 const REUSE = process.env.BENCH_REUSE === '1';
 /** An earlier run's database with the same history (its bench people and HISTORY completed bookings), when BENCH_REUSE=1. */
 async function earlierHistory(): Promise<boolean> {
@@ -75,14 +59,8 @@ if (reuse) {
 } else {
   // --- the data: bench people, open-all-day rules without quotas, then the history ------------------------
   say(`Generating ${HISTORY.toLocaleString('en')} historical bookings with generate_series`);
-  await q(`INSERT INTO people (email, name, password_hash, tier)
-           SELECT 'bench' || i || '@tidewater.example', 'Bench person ' || i, (SELECT password_hash FROM people WHERE email = 'member@tidewater.example'), 'commercial'
-           FROM generate_series(1, $1::int) i`, [PEOPLE]);
-  await q(`INSERT INTO role_grants (person_id, role) SELECT id, 'member' FROM people WHERE email LIKE 'bench%'`);
   // cleared (advanced) on every machine group, so the clearance gate lets them book: its check is part of the work measured
-  await q(`INSERT INTO clearances (person_id, group_id, state, level, quiz_passed_at, cleared_at, expires_at)
-           SELECT p.id, g.id, 'cleared', 'advanced', now(), now(), now() + interval '1 year'
-           FROM people p CROSS JOIN machine_groups g WHERE p.email LIKE 'bench%'`);
+  await addClearedPeople(q, 'bench', 'Bench person', PEOPLE);
   await q(`UPDATE machine_booking_rules SET horizon_days = 365, min_minutes = 15, max_minutes = 180, lead_minutes = 0, buffer_minutes = 10, slot_minutes = 15`);
   await q(`DELETE FROM machine_tier_quotas`);
   await q(`DELETE FROM opening_hours`);

@@ -3,8 +3,9 @@
  * of bookings around the seed time (last week's completed, this week's reserved) and one class block.
  */
 import type { Knex } from 'knex';
-import { addDays, localToInstant, occupiedUntil, wallClock } from '../src/lib/availability';
+import { occupiedUntil } from '../src/lib/availability';
 import { seedLookups } from './lib/lookups';
+import { siteDays } from './lib/site-days';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 
@@ -48,16 +49,7 @@ export async function seed(knex: Knex): Promise<void> {
   }
 
   const now = new Date();
-  const today = wallClock(now, tz);
-  const at = (dayOffset: number, hour: number, minute = 0) => {
-    const d = addDays(today.year, today.month, today.day, dayOffset);
-    return localToInstant(d.year, d.month, d.day, hour * 60 + minute, tz);
-  };
-  const weekdayOf = (dayOffset: number) => {
-    const d = addDays(today.year, today.month, today.day, dayOffset);
-    const js = new Date(Date.UTC(d.year, d.month - 1, d.day)).getUTCDay();
-    return js === 0 ? 7 : js;
-  };
+  const { at, weekdayOf } = siteDays(now, tz);
 
   // a closure on Laser B three days from now, 09:00–13:00
   await knex('closures').insert({

@@ -49,24 +49,32 @@ export async function seed(knex: Knex): Promise<void> {
 
   // upkeep history
   const steward = p('steward');
-  const entry = (code: string, kind: string, daysAgo: number, notes: string, tube?: { model: string; rated: number }) => ({
-    machine_id: m(code).id, kind, performed_by: steward, performed_at: new Date(now - daysAgo * DAY), notes,
-    tube_model: tube?.model ?? null, tube_rated_hours: tube?.rated ?? null,
-  });
+  // per machine: [kind, days ago, notes] and, for a tube replacement, the tube fitted
+  const entries = (code: string, rows: [kind: string, daysAgo: number, notes: string, tube?: { model: string; rated: number }][]) =>
+    rows.map(([kind, daysAgo, notes, tube]) => ({
+      machine_id: m(code).id, kind, performed_by: steward, performed_at: new Date(now - daysAgo * DAY), notes,
+      tube_model: tube?.model ?? null, tube_rated_hours: tube?.rated ?? null,
+    }));
   await knex('upkeep_entries').insert([
-    entry('laser-a', 'tube_replacement', 120, 'New tube fitted and aligned; old tube had lost about a third of its power.', { model: '60 W sealed glass CO2 tube', rated: 2000 }),
-    entry('laser-a', 'coolant_change', 45, 'Distilled water with a biocide; chiller reservoir flushed.'),
-    entry('laser-a', 'extractor_filter', 60, 'Pre-filter replaced.'),
-    entry('laser-a', 'alignment_check', 18, 'Mirrors 1–3 checked with tape shots; small correction on mirror 2.'),
-    entry('laser-a', 'mirror_clean', 9, 'Light film on mirror 3.'),
-    entry('laser-a', 'lens_clean', 3, 'Cleaned with lens tissue and isopropyl alcohol.'),
-    entry('laser-b', 'alignment_check', 25, 'Checked; no correction needed.'),
-    entry('laser-b', 'mirror_clean', 10, 'Routine clean.'),
-    entry('laser-b', 'lens_clean', 4, 'Routine clean.'),
-    entry('laser-b', 'extractor_filter', 90, 'Carbon filter replaced.'),
-    entry('laser-c', 'coolant_change', 70, 'Distilled water.'),
-    entry('laser-c', 'alignment_check', 22, 'Checked after the bed was moved.'),
-    entry('laser-c', 'mirror_clean', 13, 'Routine clean.'),
-    entry('laser-c', 'lens_clean', 11, 'Heavy residue after a long acrylic job.'),
+    ...entries('laser-a', [
+      ['tube_replacement', 120, 'New tube fitted and aligned; old tube had lost about a third of its power.', { model: '60 W sealed glass CO2 tube', rated: 2000 }],
+      ['coolant_change', 45, 'Distilled water with a biocide; chiller reservoir flushed.'],
+      ['extractor_filter', 60, 'Pre-filter replaced.'],
+      ['alignment_check', 18, 'Mirrors 1–3 checked with tape shots; small correction on mirror 2.'],
+      ['mirror_clean', 9, 'Light film on mirror 3.'],
+      ['lens_clean', 3, 'Cleaned with lens tissue and isopropyl alcohol.'],
+    ]),
+    ...entries('laser-b', [
+      ['alignment_check', 25, 'Checked; no correction needed.'],
+      ['mirror_clean', 10, 'Routine clean.'],
+      ['lens_clean', 4, 'Routine clean.'],
+      ['extractor_filter', 90, 'Carbon filter replaced.'],
+    ]),
+    ...entries('laser-c', [
+      ['coolant_change', 70, 'Distilled water.'],
+      ['alignment_check', 22, 'Checked after the bed was moved.'],
+      ['mirror_clean', 13, 'Routine clean.'],
+      ['lens_clean', 11, 'Heavy residue after a long acrylic job.'],
+    ]),
   ]);
 }

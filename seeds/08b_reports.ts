@@ -6,11 +6,12 @@
  * card otherwise); and last week's faults with the machine status changes they caused.
  */
 import type { Knex } from 'knex';
-import { addDays, localToInstant, wallClock } from '../src/lib/availability';
+import { wallClock } from '../src/lib/availability';
 import { beamTimeMinor, breakdownOf, quote, type PriceTable } from '../src/lib/pricing';
 import type { Tier } from '../src/lib/vocabulary';
 import { formatReceiptNumber, receiptPrefix } from '../src/lib/receipts';
 import { seedLookups } from './lib/lookups';
+import { siteDays } from './lib/site-days';
 
 const TZ_FALLBACK = 'Pacific/Auckland';
 const MIN = 60_000;
@@ -154,54 +155,41 @@ async function seedFaults(knex: Knex, tz: string, now: Date): Promise<void> {
   const member = p('member');
   const steward = p('steward');
   if (!laserA || !laserB || !member || !steward) return;
-  const today = wallClock(now, tz);
-  const at = (dayOffset: number, hour: number, minute = 0) => {
-    const d = addDays(today.year, today.month, today.day, dayOffset);
-    return localToInstant(d.year, d.month, d.day, hour * 60 + minute, tz);
-  };
+  const { at } = siteDays(now, tz);
 
   // A stop fault on Laser B six days ago after its last booking; back in service the next morning before the first.
-  const stopAt = at(-6, 17, 5);
-  const [stop] = await knex('faults')
-    .insert({
-      machine_id: laserB,
-      reported_by: member,
-      severity: 'stop',
+  // A degraded fault on Laser A three days ago, fixed the same evening. Each took the machine out of its normal
+  // status a few minutes after the report (`downAfter`) and back to in service when resolved.
+  const resolvedFaults = [
+    {
+      machineId: laserB, severity: 'stop', reportedAt: at(-6, 17, 5), triagedAfter: 20 * MIN, downAfter: 5 * MIN, resolvedAt: at(-5, 10, 30),
       summary: 'Air assist stopped; small flare-up on the honeycomb bed',
       details: 'Flame went out when the lid was opened and the job stopped. Extinguisher not used.',
-      status: 'resolved',
       resolution: 'Air-assist pump fuse replaced; honeycomb cleaned; test cut on 3 mm ply was clean.',
-      resolved_by: steward,
-      created_at: stopAt,
-      triaged_at: new Date(stopAt.getTime() + 20 * MIN),
-      resolved_at: at(-5, 10, 30),
-    })
-    .returning('id');
-  await knex('machine_status_changes').insert([
-    { machine_id: laserB, from_status: 'in service', to_status: 'out of service', changed_at: new Date(stopAt.getTime() + 5 * MIN), actor_id: steward, fault_id: stop.id, reason: 'Stop fault: air assist' },
-    { machine_id: laserB, from_status: 'out of service', to_status: 'in service', changed_at: at(-5, 10, 30), actor_id: steward, fault_id: stop.id, reason: 'Pump fuse replaced, test cut clean' },
-  ]);
-
-  // A degraded fault on Laser A three days ago, fixed the same evening.
-  const degradedAt = at(-3, 12, 40);
-  const [degraded] = await knex('faults')
-    .insert({
-      machine_id: laserA,
-      reported_by: member,
-      severity: 'degraded',
+      downTo: 'out of service', downReason: 'Stop fault: air assist', upReason: 'Pump fuse replaced, test cut clean',
+    },
+    {
+      machineId: laserA, severity: 'degraded', reportedAt: at(-3, 12, 40), triagedAfter: 30 * MIN, downAfter: 30 * MIN, resolvedAt: at(-3, 21, 15),
       summary: 'Cuts not going through 3 mm ply at the usual settings',
-      status: 'resolved',
+      details: '',
       resolution: 'Lens cleaned; power back to normal.',
-      resolved_by: steward,
-      created_at: degradedAt,
-      triaged_at: new Date(degradedAt.getTime() + 30 * MIN),
-      resolved_at: at(-3, 21, 15),
-    })
-    .returning('id');
-  await knex('machine_status_changes').insert([
-    { machine_id: laserA, from_status: 'in service', to_status: 'degraded', changed_at: new Date(degradedAt.getTime() + 30 * MIN), actor_id: steward, fault_id: degraded.id, reason: 'Weak cuts' },
-    { machine_id: laserA, from_status: 'degraded', to_status: 'in service', changed_at: at(-3, 21, 15), actor_id: steward, fault_id: degraded.id, reason: 'Lens cleaned' },
-  ]);
+      downTo: 'degraded', downReason: 'Weak cuts', upReason: 'Lens cleaned',
+    },
+  ];
+  for (const f of resolvedFaults) {
+    const [fault] = await knex('faults')
+      .insert({
+        machine_id: f.machineId, reported_by: member, severity: f.severity, summary: f.summary, details: f.details, status: 'resolved',
+        resolution: f.resolution, resolved_by: steward, created_at: f.reportedAt,
+        triaged_at: new Date(f.reportedAt.getTime() + f.triagedAfter), resolved_at: f.resolvedAt,
+      })
+      .returning('id');
+    const change = { machine_id: f.machineId, actor_id: steward, fault_id: fault.id };
+    await knex('machine_status_changes').insert([
+      { ...change, from_status: 'in service', to_status: f.downTo, changed_at: new Date(f.reportedAt.getTime() + f.downAfter), reason: f.downReason },
+      { ...change, from_status: f.downTo, to_status: 'in service', changed_at: f.resolvedAt, reason: f.upReason },
+    ]);
+  }
 
   // A note that is still open.
   await knex('faults').insert({

@@ -4,7 +4,8 @@
  * refresher. The student, whose glass-tube quiz is passed, already has a seat at the Laser C session.
  */
 import type { Knex } from 'knex';
-import { addDays, localToInstant, occupiedUntil, wallClock } from '../src/lib/availability';
+import { occupiedUntil } from '../src/lib/availability';
+import { siteDays } from './lib/site-days';
 
 export async function seed(knex: Knex): Promise<void> {
   const tz = ((await knex('site_settings').where({ id: 1 }).first('time_zone'))?.time_zone as string | undefined) ?? 'Pacific/Auckland';
@@ -17,16 +18,7 @@ export async function seed(knex: Knex): Promise<void> {
   const laserC = (await knex('machines').where({ code: 'laser-c' }).first('id'))?.id as string | undefined;
   if (!glass || !rf || !instructor) return;
 
-  const today = wallClock(new Date(), tz);
-  const at = (dayOffset: number, hour: number, minute = 0) => {
-    const d = addDays(today.year, today.month, today.day, dayOffset);
-    return localToInstant(d.year, d.month, d.day, hour * 60 + minute, tz);
-  };
-  const weekdayOf = (dayOffset: number) => {
-    const d = addDays(today.year, today.month, today.day, dayOffset);
-    const js = new Date(Date.UTC(d.year, d.month - 1, d.day)).getUTCDay();
-    return js === 0 ? 7 : js;
-  };
+  const { at, weekdayOf } = siteDays(new Date(), tz);
   const bring = 'Closed shoes; a small offcut of 3 mm plywood or acrylic. Tie back long hair.';
 
   await knex('induction_sessions').insert({

@@ -327,7 +327,8 @@ export function logDir(cfg: Pick<StackConfig, 'dataDir'>): string {
   return dir;
 }
 
-function alive(pid: number): boolean {
+/** Whether a process with this PID is still running. */
+export function alive(pid: number): boolean {
   try {
     process.kill(pid, 0);
     return true;

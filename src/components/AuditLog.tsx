@@ -4,6 +4,7 @@ import { siteFormat } from '@lib/format';
 import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useMemo, useRef, useState } from 'react';
 import { api, ApiError } from './ui/api';
+import { useSettledText } from './ui/useSettledText';
 import type { AuditRow as AuditRecord } from '@lib/audit-filter';
 import type { Json } from '@lib/json';
 
@@ -44,13 +45,10 @@ export default function AuditLog({ timeZone, locale }: { timeZone: string; local
     [timeZone, locale],
   );
 
-  useEffect(() => {
-    const t = setTimeout(() => {
-      setQuery(q.trim());
-      setPage(1);
-    }, 250);
-    return () => clearTimeout(t);
-  }, [q]);
+  useSettledText(q, (text) => {
+    setQuery(text);
+    setPage(1);
+  });
 
   useEffect(() => {
     api<Facets>('/api/audit/facets').then(setFacets, () => undefined);

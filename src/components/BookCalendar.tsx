@@ -20,48 +20,18 @@ import type { DateSelectArg, EventClickArg, EventInput } from '@fullcalendar/cor
 import { addDays, isLateCancel, localToInstant, wallClock, zoneOffsetMinutes } from '@lib/availability';
 import { formatMinutes, siteFormat, type SiteFormat } from '@lib/format';
 import { api, ApiError } from './ui/api';
+import type { CancelTerms, Feed as ServerFeed, FeedEvent } from '@lib/booking-feed';
+import type { Json } from '@lib/json';
 
 interface MachineInfo {
   id: string;
   name: string;
   status: string;
 }
-interface CancelTerms {
-  lateFeeMinor: number | null;
-  heldMinor: number | null;
-  currency: string | null;
-}
-interface FeedBooking {
-  id: string;
-  machineId: string;
-  startsAt: string;
-  endsAt: string;
-  occupiedUntil: string;
-  state: string;
-  kind: 'personal' | 'class' | 'hold';
-  mine: boolean;
-  personName: string | null;
-  courseName: string | null;
-  notes: string | null;
-  lateCancel: boolean;
-  cancelTerms?: CancelTerms;
-  pending?: boolean;
-}
-interface FeedMachine extends MachineInfo {
-  open: { start: string; end: string }[];
-  slotMinutes: number;
-  minMinutes: number;
-  maxMinutes: number;
-  bufferMinutes: number;
-  cancelCutoffMinutes: number;
-  week?: { weekStart: string; usedMinutes: number; limitMinutes: number | null };
-}
-interface Feed {
-  timeZone: string;
-  bookings: FeedBooking[];
-  closures: { id: string; machineId: string | null; startsAt: string; endsAt: string; reason: string }[];
-  machines: FeedMachine[];
-}
+/** A booking in the feed as the island holds it; `pending` marks one shown before the server has answered. */
+type FeedBooking = Json<FeedEvent> & { pending?: boolean };
+type FeedMachine = Json<ServerFeed>['machines'][number];
+type Feed = Omit<Json<ServerFeed>, 'bookings'> & { bookings: FeedBooking[] };
 
 export interface BookProps {
   machines: MachineInfo[];

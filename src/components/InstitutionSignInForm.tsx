@@ -2,9 +2,10 @@
  * Admin › Site › Institution sign-in: what the server's environment sets (shown, not editable; never the secret)
  * and what an admin decides (button name, claim → tier mapping, password sign-in off). Each save is audited.
  */
-import { useId, useRef, useState, type FormEvent } from 'react';
+import { useState, type FormEvent } from 'react';
 import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
 import { api, ApiError } from './ui/api';
+import { useFieldErrors, useFormAnswer } from './ui/form-state';
 
 export interface InstitutionView {
   configured: boolean;
@@ -40,16 +41,9 @@ export default function InstitutionSignInForm({ initial, clientId, siteName }: P
   const [tierClaim, setTierClaim] = useState(initial.tierClaim ?? '');
   const [rows, setRows] = useState<MapRow[]>(() => rowsOf(initial.tierMap));
   const [passwordOff, setPasswordOff] = useState(initial.passwordSignInOff);
-  const [errors, setErrors] = useState<Partial<Record<Field, string>>>({});
-  const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
+  const { id, errors, setErrors, describe, fieldError } = useFieldErrors<Field>();
+  const { message, setMessage, show, answer } = useFormAnswer();
   const [saving, setSaving] = useState(false);
-  const answer = useRef<HTMLParagraphElement>(null);
-  const id = useId();
-
-  function show(m: { tone: 'ok' | 'stop'; text: string }) {
-    setMessage(m);
-    requestAnimationFrame(() => answer.current?.focus());
-  }
 
   async function save(e: FormEvent) {
     e.preventDefault();
@@ -94,8 +88,6 @@ export default function InstitutionSignInForm({ initial, clientId, siteName }: P
     }
   }
 
-  const describe = (f: Field, hint?: string) => [errors[f] ? `${id}-${f}-error` : '', hint ?? ''].filter(Boolean).join(' ') || undefined;
-  const fieldError = (f: Field) => errors[f] && <span id={`${id}-${f}-error`} className="text-sm font-normal text-stop">{errors[f]}</span>;
 
   return (
     <section className="mt-8" aria-labelledby={`${id}-h`}>

@@ -1,8 +1,9 @@
 /** Admin › People: invite a person. The server makes the account without a password and e-mails a link to choose one. */
-import { useId, useRef, useState, type FormEvent } from 'react';
+import { useState, type FormEvent } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '@lib/roles';
 import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
 import { api, ApiError } from './ui/api';
+import { useFieldErrors, useFormAnswer } from './ui/form-state';
 
 type Field = 'name' | 'email' | 'roles' | 'tier';
 
@@ -11,17 +12,9 @@ export default function InvitePersonForm({ onInvited }: { onInvited?: () => void
   const [email, setEmail] = useState('');
   const [roles, setRoles] = useState<Role[]>(['member']);
   const [tier, setTier] = useState<Tier>('community');
-  const [errors, setErrors] = useState<Partial<Record<Field, string>>>({});
-  const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
+  const { id, errors, setErrors, describe, fieldError } = useFieldErrors<Field>();
+  const { message, setMessage, show, answer } = useFormAnswer();
   const [sending, setSending] = useState(false);
-  const answer = useRef<HTMLParagraphElement>(null);
-  const id = useId();
-
-  function show(m: { tone: 'ok' | 'stop'; text: string }) {
-    setMessage(m);
-    // the answer sits beside the button; move focus there so keyboard and screen-reader users hear it
-    requestAnimationFrame(() => answer.current?.focus());
-  }
 
   async function submit(e: FormEvent) {
     e.preventDefault();
@@ -57,8 +50,6 @@ export default function InvitePersonForm({ onInvited }: { onInvited?: () => void
     }
   }
 
-  const describe = (f: Field) => (errors[f] ? `${id}-${f}-error` : undefined);
-  const fieldError = (f: Field) => errors[f] && <span id={`${id}-${f}-error`} className="text-sm font-normal text-stop">{errors[f]}</span>;
 
   return (
     <section className="card p-5" aria-labelledby={`${id}-h`}>

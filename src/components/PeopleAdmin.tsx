@@ -4,6 +4,7 @@ import { Pager } from './ui/Pager';
 import { useCallback, useEffect, useId, useState } from 'react';
 import { ROLES, ROLE_LABELS, type Role } from '@lib/roles';
 import { api, ApiError } from './ui/api';
+import { useSettledText } from './ui/useSettledText';
 import { TIERS, TIER_LABELS, type Tier } from '@lib/vocabulary';
 import InvitePersonForm from './InvitePersonForm';
 
@@ -41,13 +42,10 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC', locale }: { self
   const searchId = useId();
   const pageSize = 20;
 
-  useEffect(() => {
-    const t = setTimeout(() => {
-      setQuery(q.trim());
-      setPage(1);
-    }, 250);
-    return () => clearTimeout(t);
-  }, [q]);
+  useSettledText(q, (text) => {
+    setQuery(text);
+    setPage(1);
+  });
 
   const load = useCallback(async () => {
     setLoading(true);

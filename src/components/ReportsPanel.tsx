@@ -52,9 +52,19 @@ function useReport<R, T>(name: ReportName, params: string, enabled: boolean) {
   return { data, problem, loading };
 }
 
-function Section(props: { id: string; title: string; intro: string; csvHref: string; loading: boolean; problem: string | null; children: ReactNode }) {
+/** One report: heading, CSV link and intro; once loaded, whatever `before` shows (totals, a chart), then its table. */
+function ReportSection<R, T>(props: {
+  id: string;
+  title: string;
+  intro: string;
+  csvHref: string;
+  report: { data: Answer<R, T> | null; problem: string | null; loading: boolean };
+  table: { label: string; columns: Column<R>[]; rowKey: (r: R) => string; empty?: string };
+  before?: (data: Answer<R, T>) => ReactNode;
+}) {
+  const { report } = props;
   return (
-    <section className="card mb-6 p-4 sm:p-5" aria-labelledby={props.id} aria-busy={props.loading}>
+    <section className="card mb-6 p-4 sm:p-5" aria-labelledby={props.id} aria-busy={report.loading}>
       <div className="mb-2 flex flex-wrap items-baseline justify-between gap-2">
         <h2 id={props.id} className="text-xl">{props.title}</h2>
         <a className="btn" href={props.csvHref} download>
@@ -62,9 +72,44 @@ function Section(props: { id: string; title: string; intro: string; csvHref: str
         </a>
       </div>
       <p className="hint mb-3">{props.intro}</p>
-      {props.problem && <p className="notice notice-stop mb-3" role="alert">{props.problem}</p>}
-      {props.children}
+      {report.problem && <p className="notice notice-stop mb-3" role="alert">{report.problem}</p>}
+      {report.data && (
+        <>
+          {props.before?.(report.data)}
+          <ReportTable rows={report.data.rows} {...props.table} />
+        </>
+      )}
     </section>
+  );
+}
+
+/** A bar chart of a report, one bar (or stacked part, with `stack`) per key of `bars`, in the report colours. */
+function BarFigure(props: {
+  label: string;
+  data: Record<string, number | string>[];
+  x: string;
+  bars: string[];
+  stack?: string;
+  marginLeft: number;
+  yWidth?: number;
+  yTick: (v: number) => string;
+  tip: (v: unknown) => string;
+}) {
+  return (
+    <figure className="mb-4 h-64" aria-label={props.label}>
+      <ResponsiveContainer width="100%" height="100%">
+        <BarChart data={props.data} margin={{ top: 8, right: 8, bottom: 0, left: props.marginLeft }}>
+          <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
+          <XAxis dataKey={props.x} fontSize={12} />
+          <YAxis fontSize={12} {...(props.yWidth === undefined ? {} : { width: props.yWidth })} tickFormatter={props.yTick} />
+          <Tooltip formatter={(v) => props.tip(v)} />
+          <Legend itemSorter={null} />
+          {props.bars.map((b, i) => (
+            <Bar key={b} dataKey={b} {...(props.stack ? { stackId: props.stack } : {})} fill={COLORS[i % COLORS.length]} isAnimationActive={false} />
+          ))}
+        </BarChart>
+      </ResponsiveContainer>
+    </figure>
   );
 }
 
@@ -255,105 +300,70 @@ export default function ReportsPanel(props: Props) {
       </form>
 
       {has('utilisation') && (
-        <Section id="r-util" title="Utilisation" csvHref={csv('utilisation')} loading={util.loading} problem={util.problem}
-          intro="Booked time (reservations, check-ins, completed bookings and no-shows) and measured beam time, as a share of the open hours (weekly hours minus closures), per machine and week.">
-          {util.data && (
+        <ReportSection id="r-util" title="Utilisation" csvHref={csv('utilisation')} report={util}
+          intro="Booked time (reservations, check-ins, completed bookings and no-shows) and measured beam time, as a share of the open hours (weekly hours minus closures), per machine and week."
+          table={{ label: 'Utilisation table (scrolls sideways)', columns: UTILISATION_COLUMNS, empty: 'machines', rowKey: (r) => `${r.machine_id}-${r.week_start}` }}
+          before={(d) => (
             <>
               <p className="mb-3" data-testid="util-totals">
-                Open {hours(util.data.totals.openMinutes)} · booked {hours(util.data.totals.bookedMinutes)} ({pct(util.data.totals.bookedShare)}) · beam time{' '}
-                {hours(util.data.totals.beamMinutes)} ({pct(util.data.totals.beamShare)})
+                Open {hours(d.totals.openMinutes)} · booked {hours(d.totals.bookedMinutes)} ({pct(d.totals.bookedShare)}) · beam time{' '}
+                {hours(d.totals.beamMinutes)} ({pct(d.totals.beamShare)})
               </p>
               <p className="hint mb-3">
                 Beam time can be more than booked time: walk-up sessions (used at the machine without a booking) count as beam time but not as booked time.
               </p>
               {utilChart.length > 0 && (
-                <figure className="mb-4 h-64" aria-label="Utilisation by week, percent of open hours">
-                  <ResponsiveContainer width="100%" height="100%">
-                    <BarChart data={utilChart} margin={{ top: 8, right: 8, bottom: 0, left: -16 }}>
-                      <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
-                      <XAxis dataKey="week" fontSize={12} />
-                      <YAxis fontSize={12} tickFormatter={(v: number) => f.percent(v / 100, 0)} />
-                      <Tooltip formatter={(v) => f.percent(Number(v) / 100)} />
-                      <Legend itemSorter={null} />
-                      <Bar dataKey="Booked" fill={COLORS[0]} isAnimationActive={false} />
-                      <Bar dataKey="Beam time" fill={COLORS[1]} isAnimationActive={false} />
-                    </BarChart>
-                  </ResponsiveContainer>
-                </figure>
+                <BarFigure label="Utilisation by week, percent of open hours" data={utilChart} x="week" bars={['Booked', 'Beam time']} marginLeft={-16}
+                  yTick={(v) => f.percent(v / 100, 0)} tip={(v) => f.percent(Number(v) / 100)} />
               )}
-              <ReportTable label="Utilisation table (scrolls sideways)" rows={util.data.rows} columns={UTILISATION_COLUMNS} empty="machines"
-                rowKey={(r) => `${r.machine_id}-${r.week_start}`} />
             </>
-          )}
-        </Section>
+          )} />
       )}
 
       {has('revenue') && (
-        <Section id="r-revenue" title="Revenue and recharge" csvHref={csv('revenue')} loading={revenue.loading} problem={revenue.problem}
-          intro="Charges taken by card (captured, refunded, settled) and billed to cost centres (recharged), by the month they were made, machine, tier and method. Net is after refunds; tax is included in the amounts. Holds, failed payments and small carried amounts are not revenue until paid.">
-          {revenue.data && (
+        <ReportSection id="r-revenue" title="Revenue and recharge" csvHref={csv('revenue')} report={revenue}
+          intro="Charges taken by card (captured, refunded, settled) and billed to cost centres (recharged), by the month they were made, machine, tier and method. Net is after refunds; tax is included in the amounts. Holds, failed payments and small carried amounts are not revenue until paid."
+          table={{ label: 'Revenue table (scrolls sideways)', columns: REVENUE_COLUMNS, empty: 'charges', rowKey: (r) => `${r.month}-${r.machine_id}-${r.tier}-${r.method}-${r.currency}` }}
+          before={(d) => (
             <>
               <dl className="mb-3 grid grid-cols-2 gap-2 sm:grid-cols-4" data-testid="revenue-totals">
-                <div><dt className="hint">Net</dt><dd className="text-lg font-semibold" data-testid="revenue-net">{money(revenue.data.totals.netMinor)}</dd></div>
-                <div><dt className="hint">Card</dt><dd>{money(revenue.data.totals.cardNetMinor)}</dd></div>
-                <div><dt className="hint">Recharge</dt><dd>{money(revenue.data.totals.rechargeNetMinor)}</dd></div>
-                <div><dt className="hint">Refunded</dt><dd>{money(revenue.data.totals.refundedMinor)}</dd></div>
+                <div><dt className="hint">Net</dt><dd className="text-lg font-semibold" data-testid="revenue-net">{money(d.totals.netMinor)}</dd></div>
+                <div><dt className="hint">Card</dt><dd>{money(d.totals.cardNetMinor)}</dd></div>
+                <div><dt className="hint">Recharge</dt><dd>{money(d.totals.rechargeNetMinor)}</dd></div>
+                <div><dt className="hint">Refunded</dt><dd>{money(d.totals.refundedMinor)}</dd></div>
               </dl>
               {revenueChart.length > 0 && (
-                <figure className="mb-4 h-64" aria-label={`Net revenue by month and machine, ${props.currency}`}>
-                  <ResponsiveContainer width="100%" height="100%">
-                    <BarChart data={revenueChart} margin={{ top: 8, right: 8, bottom: 0, left: 0 }}>
-                      <CartesianGrid strokeDasharray="3 3" stroke="#d6ccb9" />
-                      <XAxis dataKey="month" fontSize={12} />
-                      <YAxis fontSize={12} width={64} tickFormatter={(v: number) => f.moneyShort(Math.round(v * 10 ** currencyExponent(props.currency)), props.currency)} />
-                      <Tooltip formatter={(v) => f.money(Math.round(Number(v) * 10 ** currencyExponent(props.currency)), props.currency)} />
-                      <Legend itemSorter={null} />
-                      {revenueMachines.map((m, i) => (
-                        <Bar key={m} dataKey={m} stackId="net" fill={COLORS[i % COLORS.length]} isAnimationActive={false} />
-                      ))}
-                    </BarChart>
-                  </ResponsiveContainer>
-                </figure>
+                <BarFigure label={`Net revenue by month and machine, ${props.currency}`} data={revenueChart} x="month" bars={revenueMachines} stack="net" marginLeft={0} yWidth={64}
+                  yTick={(v) => f.moneyShort(Math.round(v * 10 ** currencyExponent(props.currency)), props.currency)}
+                  tip={(v) => f.money(Math.round(Number(v) * 10 ** currencyExponent(props.currency)), props.currency)} />
               )}
-              <ReportTable label="Revenue table (scrolls sideways)" rows={revenue.data.rows} columns={REVENUE_COLUMNS} empty="charges"
-                rowKey={(r) => `${r.month}-${r.machine_id}-${r.tier}-${r.method}-${r.currency}`} />
             </>
-          )}
-        </Section>
+          )} />
       )}
 
       {has('clearances') && (
-        <Section id="r-clear" title="Clearance funnel" csvHref={csv('clearances')} loading={clear.loading} problem={clear.problem}
-          intro="People per machine group who, in this period, started a quiz, passed it, booked a seat at an induction session starting in the period, attended it, were signed off, and whose clearance lapsed without renewal.">
-          {clear.data && (
-            <ReportTable label="Clearance funnel table (scrolls sideways)" rows={clear.data.rows} columns={CLEARANCE_COLUMNS} empty="machine groups" rowKey={(r) => r.group_id} />
-          )}
-        </Section>
+        <ReportSection id="r-clear" title="Clearance funnel" csvHref={csv('clearances')} report={clear}
+          intro="People per machine group who, in this period, started a quiz, passed it, booked a seat at an induction session starting in the period, attended it, were signed off, and whose clearance lapsed without renewal."
+          table={{ label: 'Clearance funnel table (scrolls sideways)', columns: CLEARANCE_COLUMNS, empty: 'machine groups', rowKey: (r) => r.group_id }} />
       )}
 
       {has('faults') && (
-        <Section id="r-faults" title="Faults and time out of service" csvHref={csv('faults')} loading={faults.loading} problem={faults.problem}
-          intro="Faults reported in this period by severity, faults still open, time each machine was out of service, and the mean time from going out of service to running again.">
-          {faults.data && (
-            <>
-              <p className="mb-3" data-testid="fault-totals">
-                {faults.data.totals.stop} stop · {faults.data.totals.degraded} degraded · {faults.data.totals.note} note · out of service{' '}
-                {hours(faults.data.totals.outOfServiceMinutes)} · mean time to return{' '}
-                {faults.data.totals.meanMinutesToReturn === null ? '—' : hours(faults.data.totals.meanMinutesToReturn)}
-              </p>
-              <ReportTable label="Faults table (scrolls sideways)" rows={faults.data.rows} columns={FAULT_COLUMNS} rowKey={(r) => r.machine_id} />
-            </>
-          )}
-        </Section>
+        <ReportSection id="r-faults" title="Faults and time out of service" csvHref={csv('faults')} report={faults}
+          intro="Faults reported in this period by severity, faults still open, time each machine was out of service, and the mean time from going out of service to running again."
+          table={{ label: 'Faults table (scrolls sideways)', columns: FAULT_COLUMNS, rowKey: (r) => r.machine_id }}
+          before={(d) => (
+            <p className="mb-3" data-testid="fault-totals">
+              {d.totals.stop} stop · {d.totals.degraded} degraded · {d.totals.note} note · out of service{' '}
+              {hours(d.totals.outOfServiceMinutes)} · mean time to return{' '}
+              {d.totals.meanMinutesToReturn === null ? '—' : hours(d.totals.meanMinutesToReturn)}
+            </p>
+          )} />
       )}
 
       {has('no-shows') && (
-        <Section id="r-noshow" title="No-shows and late cancellations" csvHref={csv('no-shows')} loading={noShows.loading} problem={noShows.problem}
-          intro="People with a no-show or a late cancellation among their personal bookings that started in this period: a starting point for a fair-use conversation, not a verdict.">
-          {noShows.data && (
-            <ReportTable label="No-shows table (scrolls sideways)" rows={noShows.data.rows} columns={NO_SHOW_COLUMNS} empty="no-shows or late cancellations" rowKey={(r) => r.person_id} />
-          )}
-        </Section>
+        <ReportSection id="r-noshow" title="No-shows and late cancellations" csvHref={csv('no-shows')} report={noShows}
+          intro="People with a no-show or a late cancellation among their personal bookings that started in this period: a starting point for a fair-use conversation, not a verdict."
+          table={{ label: 'No-shows table (scrolls sideways)', columns: NO_SHOW_COLUMNS, empty: 'no-shows or late cancellations', rowKey: (r) => r.person_id }} />
       )}
     </div>
   );

@@ -1,6 +1,7 @@
 /** Admin › Site: the site's name, time zone, site locale, currency, tax and public address. Each save is audited. */
-import { useEffect, useId, useState, type FormEvent } from 'react';
+import { useEffect, useState, type FormEvent } from 'react';
 import { api, ApiError } from './ui/api';
+import { useFieldErrors, type Answer } from './ui/form-state';
 import { isLocale, siteFormat } from '@lib/format';
 import type { SiteValues } from '@lib/site-settings';
 
@@ -24,10 +25,9 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
   const [tax, setTax] = useState(String(initial.taxRatePercent));
   const [inclusive, setInclusive] = useState(initial.pricesIncludeTax);
   const [baseUrl, setBaseUrl] = useState(initial.publicBaseUrl ?? '');
-  const [errors, setErrors] = useState<Partial<Record<Field, string>>>({});
-  const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
+  const { id, errors, setErrors, describe, fieldError } = useFieldErrors<Field>();
+  const [message, setMessage] = useState<Answer | null>(null);
   const [saving, setSaving] = useState(false);
-  const id = useId();
   const [now, setNow] = useState<string | null>(null);
   // the clock in the chosen zone and locale is shown only in the browser (the server's render has none, so both agree)
   useEffect(() => {
@@ -82,8 +82,6 @@ export default function SiteSettingsForm({ initial, environmentBaseUrl, zones, c
     }
   }
 
-  const describe = (f: Field) => (errors[f] ? `${id}-${f}-error` : undefined);
-  const fieldError = (f: Field) => errors[f] && <span id={`${id}-${f}-error`} className="text-sm font-normal text-stop">{errors[f]}</span>;
 
   return (
     <form className="card space-y-5 p-5" onSubmit={save} noValidate>

@@ -4,6 +4,7 @@
  * them. Pure: no I/O.
  */
 import type { Breakdown } from './pricing';
+import type { Json } from './json';
 import type { ChargeKind, ChargeState, Tier } from './vocabulary';
 
 export interface SavedCard {
@@ -21,11 +22,11 @@ export interface AccountSummary {
   failed: number;
 }
 
-/** A charge in API answers (no provider ids, no internal fields); times are ISO strings. */
-export interface ChargeJson {
+/** What a charge shows the person it is for; the server's charge record (server/payments/charge-records.ts) extends it. */
+export interface ChargeShown {
   id: string;
-  createdAt: string;
-  startedAt: string | null;
+  createdAt: Date;
+  startedAt: Date | null;
   machineName: string | null;
   kind: ChargeKind;
   method: 'card' | 'recharge';
@@ -37,9 +38,11 @@ export interface ChargeJson {
   capturedMinor: number;
   refundedMinor: number;
   minutes: number | null;
-  lines: Breakdown['lines'];
   failureMessage: string | null;
 }
+
+/** A charge in API answers (no provider ids, no internal fields); times are ISO strings. */
+export type ChargeJson = Json<ChargeShown> & { lines: Breakdown['lines'] };
 
 export const CHARGE_SORTS = ['date', 'amount', 'state', 'machine'] as const;
 export type ChargeSort = (typeof CHARGE_SORTS)[number];

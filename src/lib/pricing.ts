@@ -184,15 +184,8 @@ export function beamTimeMinor(q: Quote): number {
 }
 
 /** What a charge records of its quote (stored as `charges.breakdown`, shown on receipts). */
-export interface Breakdown {
-  lines: Line[];
-  subtotalMinor: number;
-  taxMinor: number;
-  taxMode: TaxMode;
-  taxRateBp: number;
-  amountMinor: number;
+export interface Breakdown extends Omit<Quote, 'currency'> {
   beamTimeMinor: number;
-  billedMinutes: number;
   /** small sums carried in from earlier charges and paid with this one */
   carriedInMinor?: number;
   estimate?: boolean;

@@ -1,7 +1,8 @@
 /**
  * The words of the domain that screens, schemas and server modules share, each declared once here: price tiers and
- * the states a charge goes through. Pure: no I/O. (Machine statuses are in machines-shared.ts, fault words in
- * faults-shared.ts, clearance states in clearance-rules.ts, booking states with the bookings workflow.)
+ * the states a charge and a booking go through. Pure: no I/O. (Machine statuses are in machines-shared.ts, fault words
+ * in faults-shared.ts, clearance states in clearance-rules.ts; which booking states are active is the bookings
+ * workflow's.)
  */
 
 /** Price tiers: who pays what per minute (PRODUCT.md). */
@@ -18,3 +19,7 @@ export type ChargeState = (typeof CHARGE_STATES)[number];
 /** What a charge is for. */
 export const CHARGE_KINDS = ['beam_time', 'late_cancellation', 'no_show'] as const;
 export type ChargeKind = (typeof CHARGE_KINDS)[number];
+
+/** The states of a booking, and what kind of booking it is. */
+export type BookingState = 'reserved' | 'checked in' | 'completed' | 'cancelled' | 'no-show' | 'bumped';
+export type BookingKind = 'personal' | 'class' | 'hold';

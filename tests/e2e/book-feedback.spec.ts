@@ -13,7 +13,7 @@ import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
-import { wallClock } from '../../src/lib/availability';
+import { zonedDate } from '../../src/lib/time';
 
 const DAY = 26; // Laser B, a day no other file books on it (integration 15–22 and 29, booking journeys 23–24 and 31 on Laser A)
 
@@ -35,10 +35,7 @@ afterAll(async () => {
   await closeTestDb();
 });
 
-function dateOf(d: Date): string {
-  const w = wallClock(d, SITE_TZ);
-  return `${w.year}-${String(w.month).padStart(2, '0')}-${String(w.day).padStart(2, '0')}`;
-}
+const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
 
 /** The element is inside the viewport (wholly, or filling it) and holds the keyboard focus. */
 async function seenAndFocused(page: Page, el: Locator): Promise<void> {

@@ -9,7 +9,8 @@ import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { clearedNew } from '../support/people';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
-import { wallClock } from '../../src/lib/availability';
+import { zonedDate } from '../../src/lib/time';
+import { dragSelect, goToDay } from '../support/calendar';
 
 let browser: Browser;
 let laserA: MachineRef;
@@ -30,33 +31,12 @@ afterAll(async () => {
   await closeTestDb();
 });
 
-function dateOf(d: Date): string {
-  const w = wallClock(d, SITE_TZ);
-  return `${w.year}-${String(w.month).padStart(2, '0')}-${String(w.day).padStart(2, '0')}`;
-}
+const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
 
 async function openBook(page: Page, day: string) {
   await page.goto(`/book?machine=${laserA.id}`);
   await hydrated(page);
-  await page.locator('.fc-timegrid-slot-lane').first().waitFor();
-  await page.getByLabel('Go to date').fill(day);
-  await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).waitFor();
-  await settled(page);
-}
-
-/** Drags down one day column from `from` to the slot that starts at `lastSlot` (HH:MM:SS). */
-async function dragSelect(page: Page, day: string, from: string, lastSlot: string) {
-  // the range in the middle of the viewport: a drag near its edge would make the calendar scroll on its own
-  await page.locator(`td.fc-timegrid-slot-lane[data-time="${from}"]`).evaluate((el) => el.scrollIntoView({ block: 'center' }));
-  const col = (await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).boundingBox())!;
-  const top = (await page.locator(`td.fc-timegrid-slot-lane[data-time="${from}"]`).boundingBox())!;
-  const bottom = (await page.locator(`td.fc-timegrid-slot-lane[data-time="${lastSlot}"]`).boundingBox())!;
-  const x = col.x + col.width / 2;
-  await page.mouse.move(x, top.y + top.height / 2);
-  await page.mouse.down();
-  await page.mouse.move(x, (top.y + bottom.y) / 2 + 4, { steps: 5 });
-  await page.mouse.move(x, bottom.y + bottom.height / 2, { steps: 5 });
-  await page.mouse.up();
+  await goToDay(page, day);
 }
 
 describe('booking on the calendar', () => {

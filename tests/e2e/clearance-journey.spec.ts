@@ -10,6 +10,7 @@ import { closeTestDb, testDb } from '../support/db';
 import { confirmByDatabase } from '../support/people';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 import { to, waitForMail } from '../support/mail';
+import { signUpThroughForm } from '../support/signup';
 
 let browser: Browser;
 beforeAll(async () => {
@@ -84,11 +85,7 @@ describe('clearance journey', () => {
     const mpage = await mctx.newPage();
     mpage.setDefaultTimeout(15_000);
     const merrors = watchErrors(mpage);
-    await mpage.goto('/signup');
-    await mpage.getByLabel('Your name').fill(member.name);
-    await mpage.getByLabel('E-mail').fill(member.email);
-    await mpage.getByLabel('Password').fill(member.password);
-    await Promise.all([mpage.waitForURL(/\/signup\?sent=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    await signUpThroughForm(mpage, member);
     await confirmByDatabase(member.email);
     await signIn(mpage, member.email);
     await mpage.goto('/clearances');

@@ -13,9 +13,11 @@ import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, s
 import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
-import { wallClock } from '../../src/lib/availability';
+import { zonedDate } from '../../src/lib/time';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 import { to, waitForMail } from '../support/mail';
+import { dragSelect, goToDay } from '../support/calendar';
+import { signUpThroughForm } from '../support/signup';
 
 const DAY = 32;
 let browser: Browser;
@@ -35,10 +37,7 @@ afterAll(async () => {
   await closeTestDb();
 });
 
-function dateOf(d: Date): string {
-  const w = wallClock(d, SITE_TZ);
-  return `${w.year}-${String(w.month).padStart(2, '0')}-${String(w.day).padStart(2, '0')}`;
-}
+const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
 
 async function glassBank(): Promise<QuizQuestion[]> {
   const row = await testDb()('quiz_versions as v').join('quizzes as z', 'z.id', 'v.quiz_id').join('machine_groups as g', 'g.id', 'z.group_id')
@@ -99,11 +98,7 @@ describe('from quiz to first cut', () => {
     const mpage = await mctx.newPage();
     mpage.setDefaultTimeout(20_000);
     const merrors = watchErrors(mpage);
-    await mpage.goto('/signup');
-    await mpage.getByLabel('Your name').fill(member.name);
-    await mpage.getByLabel('E-mail').fill(member.email);
-    await mpage.getByLabel('Password').fill(member.password);
-    await Promise.all([mpage.waitForURL(/\/signup\?sent=1/), mpage.getByRole('button', { name: 'Create account' }).click()]);
+    await signUpThroughForm(mpage, member);
     // the address is confirmed from the e-mailed link before the first sign-in
     const confirmation = await waitForMail((m) => to(member.email)(m) && /confirm/i.test(m.subject));
     const link = /\/confirm-email\?token=[A-Za-z0-9_-]+/.exec(`${confirmation.text ?? ''} ${confirmation.html ?? ''}`)?.[0];
@@ -198,20 +193,8 @@ describe('from quiz to first cut', () => {
     await expect(mpage.locator('[data-not-cleared]').innerText()).resolves.toMatch(/You cannot book these machines yet/);
     expect(await mpage.locator('[data-not-cleared] li[data-machine="laser-a"]').count()).toBe(0);
     expect(await mpage.locator('[data-not-cleared] li[data-machine="laser-b"]').count()).toBe(1);
-    await mpage.locator('.fc-timegrid-slot-lane').first().waitFor();
-    await mpage.getByLabel('Go to date').fill(day);
-    await mpage.locator(`td.fc-timegrid-col[data-date="${day}"]`).waitFor();
-    await settled(mpage);
-    await mpage.locator('td.fc-timegrid-slot-lane[data-time="10:00:00"]').evaluate((el) => el.scrollIntoView({ block: 'center' }));
-    const col = (await mpage.locator(`td.fc-timegrid-col[data-date="${day}"]`).boundingBox())!;
-    const top = (await mpage.locator('td.fc-timegrid-slot-lane[data-time="10:00:00"]').boundingBox())!;
-    const bottom = (await mpage.locator('td.fc-timegrid-slot-lane[data-time="10:45:00"]').boundingBox())!;
-    const x = col.x + col.width / 2;
-    await mpage.mouse.move(x, top.y + top.height / 2);
-    await mpage.mouse.down();
-    await mpage.mouse.move(x, (top.y + bottom.y) / 2 + 4, { steps: 5 });
-    await mpage.mouse.move(x, bottom.y + bottom.height / 2, { steps: 5 });
-    await mpage.mouse.up();
+    await goToDay(mpage, day);
+    await dragSelect(mpage, day, '10:00:00', '10:45:00');
     const confirm = mpage.getByRole('form', { name: 'Confirm your booking' });
     await confirm.waitFor();
     await confirm.getByRole('button', { name: 'Book', exact: true }).click();

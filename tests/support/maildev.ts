@@ -5,7 +5,7 @@
 import { spawn } from 'node:child_process';
 import fs from 'node:fs';
 import path from 'node:path';
-import { maildevArgs, portOpen } from '../../scripts/lib/stack';
+import { alive, maildevArgs, portOpen } from '../../scripts/lib/stack';
 
 function need(name: string): string {
   const v = process.env[name];
@@ -15,15 +15,6 @@ function need(name: string): string {
 
 const pidFile = () => path.join(need('TEST_DATA_DIR'), 'run', 'maildev.pid');
 const ports = () => ({ smtpPort: Number(need('TEST_SMTP_PORT')), mailWebPort: Number(need('TEST_MAIL_WEB_PORT')) });
-
-function alive(pid: number): boolean {
-  try {
-    process.kill(pid, 0);
-    return true;
-  } catch {
-    return false;
-  }
-}
 
 /** Stops maildev by the PID the stack recorded, and waits until its SMTP port is closed. */
 export async function stopMaildev(): Promise<void> {

@@ -142,17 +142,10 @@ export function halogenViolations(materials: Material[], overrides: MaterialOver
   return out;
 }
 
-export interface MaterialInput {
-  name: string;
+/** What an admin sends to add or change a material: the rule fields of RuleMaterial, its category and the sheet. */
+export interface MaterialInput extends Omit<RuleMaterial, 'id' | 'composition'> {
   category: MaterialCategory;
   composition: string[];
-  rule: MaterialRule;
-  reason: string;
-  modes: MaterialMode[];
-  maxCutMm: number | null;
-  densityGPerCm3: number | null;
-  heatOfGasificationJPerG: number | null;
-  cutEfficiency: number | null;
   soldBySpace: boolean;
   sheetSku?: string | null;
   /** Accepted for older callers only when null or equal to the price in force: sheet prices are set on Pricing. */

@@ -8,6 +8,7 @@ import type { Knex } from 'knex';
 import { db } from '@lib/server/db';
 import type { Actor, Role } from '@lib/roles';
 import type { Conn } from '@lib/server/db';
+import type { BookingKind, BookingState } from '@lib/vocabulary';
 
 export type { Actor, Conn };
 
@@ -18,8 +19,7 @@ export const ACTIVE_STATES = ['reserved', 'checked in'] as const;
 export const QUOTA_STATES = ['reserved', 'checked in', 'completed', 'no-show'];
 export const HOLD_MINUTES = 15;
 
-export type BookingState = 'reserved' | 'checked in' | 'completed' | 'cancelled' | 'no-show' | 'bumped';
-export type BookingKind = 'personal' | 'class' | 'hold';
+export type { BookingKind, BookingState };
 
 export interface Booking {
   id: string;

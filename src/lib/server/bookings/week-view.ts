@@ -8,49 +8,12 @@ import { getSettings } from '@lib/server/settings';
 import { heldOnBookings } from '@lib/server/payment-intents';
 import { quoteFor } from '@lib/server/prices';
 import { hasAnyRole } from '@lib/roles';
-import { freeRanges, localWeek, openIntervals, type Interval } from '@lib/availability';
-import { ACTIVE_STATES, toBooking, type Actor, type Booking, type BookingKind, type BookingState, type Row } from './records';
+import { freeRanges, localWeek, openIntervals } from '@lib/availability';
+import { ACTIVE_STATES, toBooking, type Actor, type Booking, type BookingKind, type Row } from './records';
 import { ruleContext, tierAndWeeklyMinutes } from './gate';
+import type { CancelTerms, Feed } from '@lib/booking-feed';
 
-export interface FeedEvent {
-  id: string;
-  machineId: string;
-  startsAt: Date;
-  endsAt: Date;
-  occupiedUntil: Date;
-  state: BookingState;
-  kind: BookingKind;
-  mine: boolean;
-  /** Whose booking: only shown to instructors, stewards and admins (and to the owner). */
-  personName: string | null;
-  courseName: string | null;
-  notes: string | null;
-  lateCancel: boolean;
-  /** The viewer's own reserved bookings: what cancelling costs (fee if late, the card hold released). */
-  cancelTerms?: CancelTerms;
-}
-
-export interface CancelTerms {
-  /** The late-cancellation fee with tax, or null when the price version has none (or no price applies). */
-  lateFeeMinor: number | null;
-  /** The amount held on the card for this booking, released on cancelling; null when nothing is held. */
-  heldMinor: number | null;
-  currency: string | null;
-}
-
-/** The viewer's booked minutes on a machine in the site week holding the feed's first day, and the tier's limit. */
-export interface WeekUse {
-  weekStart: Date;
-  usedMinutes: number;
-  limitMinutes: number | null;
-}
-
-export interface Feed {
-  timeZone: string;
-  bookings: FeedEvent[];
-  closures: { id: string; machineId: string | null; startsAt: Date; endsAt: Date; reason: string }[];
-  machines: { id: string; name: string; status: string; open: Interval[]; slotMinutes: number; minMinutes: number; maxMinutes: number; bufferMinutes: number; cancelCutoffMinutes: number; week: WeekUse }[];
-}
+export type { CancelTerms, Feed, FeedEvent, WeekUse } from '@lib/booking-feed';
 
 /** The calendar feed: active bookings in [from, to) (and the viewer's own, in any state but cancelled), closures, open hours. */
 export async function calendarFeed(viewer: Actor, filter: { machineId?: string; from: Date; to: Date }): Promise<Feed> {

@@ -15,6 +15,7 @@
  *   settled          — a failed or carried charge paid later as part of another charge (settled_by)
  */
 import type { Knex } from 'knex';
+import type { ChargeShown } from '@lib/account-views';
 import type { Breakdown } from '@lib/pricing';
 import type { ChargeKind, ChargeState, Tier } from '@lib/vocabulary';
 import { db, type Conn } from '@lib/server/db';
@@ -22,36 +23,21 @@ import { DomainError } from '@lib/server/errors';
 
 export type { ChargeKind, ChargeState } from '@lib/vocabulary';
 
-export interface Charge {
-  id: string;
+export interface Charge extends ChargeShown {
   personId: string;
   personName?: string;
   personEmail?: string;
   machineId: string | null;
-  machineName: string | null;
   bookingId: string | null;
   sessionId: string | null;
-  kind: ChargeKind;
-  method: 'card' | 'recharge';
-  costCentre: string | null;
-  state: ChargeState;
-  currency: string;
-  amountMinor: number;
-  taxMinor: number;
   cardAmountMinor: number;
   heldMinor: number;
-  capturedMinor: number;
-  refundedMinor: number;
-  minutes: number | null;
-  startedAt: Date | null;
   priceVersionId: string | null;
   breakdown: Breakdown;
   providerChargeId: string | null;
-  failureMessage: string | null;
   /** when the money was taken (or recharged): the receipt's date */
   chargedAt: Date | null;
   receiptNumber: string | null;
-  createdAt: Date;
   updatedAt: Date;
 }
 

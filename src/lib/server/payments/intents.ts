@@ -32,6 +32,16 @@ export async function chargeBookingFee(input: { personId: string; machineId: str
   return billQuote(person, q, { kind: input.fee, machineId: input.machineId, bookingId: input.bookingId, sessionId: null, startedAt: input.startsAt, minutes: 0 }, mode);
 }
 
+/** Lets a card hold go at the provider (the same key on every try); an unreachable provider is the `provider_unreachable` error. */
+async function letHoldGo(chargeId: string, providerChargeId: string): Promise<void> {
+  try {
+    await provider().refunds.create({ charge: providerChargeId }, { idempotencyKey: key(chargeId, 'release') });
+  } catch (err) {
+    if (classify(err) === 'unreachable') throw unreachable();
+    throw err;
+  }
+}
+
 /**
  * A booking the space could not give (bumped by a `stop` fault, or cancelled in time): its holds are
  * released and anything already taken is refunded in full, with an e-mail to the member.
@@ -42,12 +52,7 @@ export async function releaseHoldsForBooking(bookingId: string, reason: string, 
   for (const { id } of rows) {
     const c = (await getCharge(id))!;
     if (c.state === 'held' && c.providerChargeId) {
-      try {
-        await provider().refunds.create({ charge: c.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
-      } catch (err) {
-        if (classify(err) === 'unreachable') throw unreachable();
-        throw err;
-      }
+      await letHoldGo(c.id, c.providerChargeId);
       await updateCharge(db(), c.id, { state: 'released', held_minor: 0, pending_op: null });
     } else if (c.state === 'queued' && parseOp((await db()('charges').where({ id: c.id }).first('pending_op'))?.pending_op ?? '')?.op === 'hold') {
       // an earlier try may have reached the provider before the answer was lost: finish it with the same key,
@@ -57,12 +62,7 @@ export async function releaseHoldsForBooking(bookingId: string, reason: string, 
         throw err;
       });
       if (now?.state === 'held' && now.providerChargeId) {
-        try {
-          await provider().refunds.create({ charge: now.providerChargeId }, { idempotencyKey: key(c.id, 'release') });
-        } catch (err) {
-          if (classify(err) === 'unreachable') throw unreachable();
-          throw err;
-        }
+        await letHoldGo(c.id, now.providerChargeId);
       }
       await updateCharge(db(), c.id, { state: 'released', held_minor: 0, pending_op: null });
     } else if (c.state === 'pending' || c.state === 'queued') {
