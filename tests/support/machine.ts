@@ -1,5 +1,6 @@
 /** A machine of the test's own (stop faults on it bump nobody else's bookings); retire it afterwards. */
 import { expect } from 'vitest';
+import { makeGroup } from '../../seeds/lib/factories';
 import { Client, body } from './client';
 import { testDb } from './db';
 
@@ -9,10 +10,17 @@ export interface TestMachine {
   name: string;
 }
 
-export async function createTestMachine(admin: Client, label: string): Promise<TestMachine> {
-  const groupId = ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
-  const stamp = Date.now().toString(36);
-  const code = `t-${label}-${stamp}`.slice(0, 32);
+/**
+ * Added through the admin API (which gives it default rules and opening hours), in the first demo group, or in a
+ * group of its own (`ownGroup`, made by the seeds' factory) when the file clears people for it: clearances for that
+ * group reach no demo machine and no other file's.
+ */
+export async function createTestMachine(admin: Client, label: string, opts: { ownGroup?: boolean } = {}): Promise<TestMachine & { groupId: string }> {
+  const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}`;
+  const groupId = opts.ownGroup
+    ? await makeGroup(testDb(), { code: `t-${label.toLowerCase().replace(/[^a-z0-9-]/g, '-').slice(0, 29 - stamp.length)}-${stamp}`, name: `Test group ${label} ${stamp}` })
+    : ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
+  const code = `t-${label.slice(0, 29 - stamp.length)}-${stamp}`;
   const name = `Test laser ${label} ${stamp}`;
   const res = await admin.send('POST', '/api/machines', {
     code, name, groupId, requiredLevel: 'basic', powerW: 40, tubeType: 'dc_glass', wavelengthUm: 10.6,
@@ -20,7 +28,7 @@ export async function createTestMachine(admin: Client, label: string): Promise<T
   });
   const m = await body(res);
   expect(res.status, JSON.stringify(m)).toBe(201);
-  return { id: m.id, code, name };
+  return { id: m.id, code, name, groupId };
 }
 
 export async function retireTestMachine(admin: Client, m: TestMachine | undefined): Promise<void> {
