@@ -25,6 +25,7 @@ export const PARALLEL_INTEGRATION = [
   'configured-services',
   'controllers',
   'csv-exports',
+  'faults',
   'induction-sessions',
   'machines-admin',
   'migrations',

@@ -105,7 +105,8 @@ async function runTestSets(args: string[], testEnv: NodeJS.ProcessEnv): Promise<
   const codes: number[] = [];
   for (const set of sets) {
     if (!selected[set]) continue;
-    say(set === 'parallel' ? `Files that share nothing, two at a time (${selected[set]})` : `Files that change shared state, one at a time (${selected[set]})`);
+    const width = process.env.TEST_PARALLEL_FILES ?? '2';
+    say(set === 'parallel' ? `${selected[set]} file(s) that share nothing, ${width} at a time` : `${selected[set]} file(s) that change shared state, one at a time`);
     codes.push(await vitest(['run', ...(out ? out.argsFor(set) : args)], set));
   }
   if (out) mergeJsonReports(out.file, sets.filter((s) => selected[s]).map((s) => out.fileFor(s)));

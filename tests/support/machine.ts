@@ -13,11 +13,13 @@ export interface TestMachine {
 /**
  * Added through the admin API (which gives it default rules and opening hours), in the first demo group, or in a
  * group of its own (`ownGroup`, made by the seeds' factory) when the file clears people for it: clearances for that
- * group reach no demo machine and no other file's.
+ * group reach no demo machine and no other file's. `groupId` puts a second machine in the same group.
  */
-export async function createTestMachine(admin: Client, label: string, opts: { ownGroup?: boolean } = {}): Promise<TestMachine & { groupId: string }> {
+export async function createTestMachine(admin: Client, label: string, opts: { ownGroup?: boolean; groupId?: string } = {}): Promise<TestMachine & { groupId: string }> {
   const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}`;
-  const groupId = opts.ownGroup
+  const groupId = opts.groupId
+    ? opts.groupId
+    : opts.ownGroup
     ? await makeGroup(testDb(), { code: `t-${label.toLowerCase().replace(/[^a-z0-9-]/g, '-').slice(0, 29 - stamp.length)}-${stamp}`, name: `Test group ${label} ${stamp}` })
     : ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
   const code = `t-${label.slice(0, 29 - stamp.length)}-${stamp}`;
@@ -33,4 +35,17 @@ export async function createTestMachine(admin: Client, label: string, opts: { ow
 
 export async function retireTestMachine(admin: Client, m: TestMachine | undefined): Promise<void> {
   if (m) await admin.send('POST', `/api/machines/${m.id}/retire`, { reason: 'Test machine, no longer needed.' });
+}
+
+/**
+ * Rates for a test machine in every price version there is, written directly: publishing a version through the API
+ * would reprice every machine for every other file. A machine without a rate is "not priced" (no card hold, no charge).
+ */
+export async function priceTestMachine(machineId: string, perMinuteMinor: number): Promise<void> {
+  const versions = (await testDb()('price_versions').select('id')) as { id: string }[];
+  for (const v of versions) {
+    await testDb()('price_rates')
+      .insert(['student', 'staff', 'community', 'commercial'].map((tier) => ({ version_id: v.id, machine_id: machineId, tier, per_minute_minor: perMinuteMinor })))
+      .onConflict(['version_id', 'machine_id', 'tier']).ignore();
+  }
 }
