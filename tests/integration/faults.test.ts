@@ -2,7 +2,7 @@
  * Faults through the API on the real PostgreSQL, S3 fake, payment fake and mail fake: the stop-fault cascade
  * (out of service, bookings bumped, card holds released, e-mails), photo checks (content type, size, count,
  * metadata removed), access to photos, the steward's queue, triage, resolve and back into service.
- * On three machines of this file's own (one group of its own, priced in every price version) with its own member,
+ * On three machines of this file's own (in a demo group, priced in every price version) with its own member,
  * steward and uncleared person, so a stop fault here bumps no other file's bookings and touches no demo row.
  */
 import sharp from 'sharp';
@@ -28,15 +28,14 @@ let newbie: Client;
 /** this file's own people: a member cleared for its machines, a steward (who also books, with a card), one not cleared */
 let memberP: TestPerson;
 let stewardP: TestPerson;
-/** this file's own three machines in a group of its own: a stop fault here bumps no other file's bookings */
+/** this file's own three machines (in the first demo group): a stop fault here bumps no other file's bookings */
 let lasers: Record<'a' | 'b' | 'c', TestMachine>;
 // bookings of this file are 24+ days ahead
 const D = 24;
 
 beforeAll(async () => {
   admin = await Client.as('admin');
-  const b = await createTestMachine(admin, 'faults-b', { ownGroup: true });
-  lasers = { a: await createTestMachine(admin, 'faults-a', { groupId: b.groupId }), b, c: await createTestMachine(admin, 'faults-c', { groupId: b.groupId }) };
+  lasers = { a: await createTestMachine(admin, 'faults-a'), b: await createTestMachine(admin, 'faults-b'), c: await createTestMachine(admin, 'faults-c') };
   for (const m of Object.values(lasers)) {
     await setTestRules(admin, m.id);
     await priceTestMachine(m.id, 150);

@@ -1,6 +1,5 @@
 /** A machine of the test's own (stop faults on it bump nobody else's bookings); retire it afterwards. */
 import { expect } from 'vitest';
-import { makeGroup } from '../../seeds/lib/factories';
 import { Client, body } from './client';
 import { testDb } from './db';
 
@@ -11,17 +10,12 @@ export interface TestMachine {
 }
 
 /**
- * Added through the admin API (which gives it default rules and opening hours), in the first demo group, or in a
- * group of its own (`ownGroup`, made by the seeds' factory) when the file clears people for it: clearances for that
- * group reach no demo machine and no other file's. `groupId` puts a second machine in the same group.
+ * Added through the admin API (which gives it default rules and opening hours), in the first demo group (the
+ * clearance tests read the seeded groups: a file adds no group it leaves behind).
  */
-export async function createTestMachine(admin: Client, label: string, opts: { ownGroup?: boolean; groupId?: string } = {}): Promise<TestMachine & { groupId: string }> {
+export async function createTestMachine(admin: Client, label: string): Promise<TestMachine & { groupId: string }> {
   const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}`;
-  const groupId = opts.groupId
-    ? opts.groupId
-    : opts.ownGroup
-    ? await makeGroup(testDb(), { code: `t-${label.toLowerCase().replace(/[^a-z0-9-]/g, '-').slice(0, 29 - stamp.length)}-${stamp}`, name: `Test group ${label} ${stamp}` })
-    : ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
+  const groupId = ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
   const code = `t-${label.slice(0, 29 - stamp.length)}-${stamp}`;
   const name = `Test laser ${label} ${stamp}`;
   const res = await admin.send('POST', '/api/machines', {
