@@ -1,29 +1,67 @@
 /**
- * Three projects: unit (pure modules, fast, parallel), integration (the running app and the real
- * PostgreSQL started by scripts/test.ts) and e2e (headless Chromium through playwright-core).
- * Files run one at a time: integration and e2e files share one database and one app (unit files are
- * quick, so serialising them costs little). Each file makes its own data, so any order works
- * (`npm test -- --sequence.shuffle`).
+ * Three projects: unit (pure modules), integration (the running app and the real PostgreSQL started by
+ * scripts/test.ts) and e2e (headless Chromium through playwright-core). All files share one database and one app.
+ *
+ * `npm test` runs vitest twice (scripts/test.ts sets TEST_FILE_SET): first the `parallel` set — the unit files and the
+ * integration files in PARALLEL_INTEGRATION, which make all their own data and change nothing another file reads —
+ * two files at a time; then the `serial` set — every other integration file and the e2e files — one at a time.
+ * Without TEST_FILE_SET (vitest run directly) every file runs one at a time, as before. Any order works
+ * (`npm test -- --sequence.shuffle.files`). Decision record 0415.
  */
 import path from 'node:path';
-import { defineConfig } from 'vitest/config';
+import { configDefaults, defineConfig } from 'vitest/config';
+
+/**
+ * Integration files that may run beside each other: each makes its own people, machines, groups and bookings (or only
+ * reads demo rows nobody in this list changes), changes no site-wide setting, price, material rule or sign-in
+ * counter another file in the list relies on, stops no service, runs no sweep over every row, and counts no table as a
+ * whole. A file that does any of these stays out of the list (decision record 0415 says why for each).
+ */
+export const PARALLEL_INTEGRATION = [
+  'access-matrix',
+  'accounts',
+  'booking-calendar',
+  'booking-materials-and-billing',
+  'configured-services',
+  'controllers',
+  'csv-exports',
+  'faults',
+  'induction-sessions',
+  'machines-admin',
+  'migrations',
+  'reconcile-command',
+  'return-to-service',
+  'roles-and-api',
+  'upkeep-reminders',
+].map((name) => `tests/integration/${name}.test.ts`);
+
+const fileSet = process.env.TEST_FILE_SET as 'parallel' | 'serial' | undefined;
+/** The files of a project in this pass: all of them (no set), only the parallel ones, or the rest. */
+const inSet = (include: string[], parallel: string[] | 'all'): { include: string[]; exclude?: string[] } => {
+  if (!fileSet) return { include };
+  if (fileSet === 'parallel') return { include: parallel === 'all' ? include : parallel };
+  return parallel === 'all' ? { include: [] } : { include, exclude: [...configDefaults.exclude, ...parallel] };
+};
 
 /** The `@lib/…` alias of tsconfig.json (Astro and esbuild read tsconfig paths themselves; vite's test runner does not). */
 const resolve = { alias: { '@lib': path.resolve(import.meta.dirname, 'src/lib') } };
 
 export default defineConfig({
   test: {
-    fileParallelism: false,
+    // two files at a time in the parallel pass (a 2-core machine also runs the app, the worker and PostgreSQL);
+    // TEST_PARALLEL_FILES=1 runs that pass one at a time too (to compare), 3 or more on a bigger machine
+    fileParallelism: fileSet === 'parallel',
+    ...(fileSet === 'parallel' ? { maxWorkers: Math.max(1, Number(process.env.TEST_PARALLEL_FILES ?? 2) || 2), minWorkers: 1 } : {}),
     projects: [
       {
         resolve,
-        test: { name: 'unit', include: ['tests/unit/**/*.test.ts'], environment: 'node' },
+        test: { name: 'unit', ...inSet(['tests/unit/**/*.test.ts'], 'all'), environment: 'node' },
       },
       {
         resolve,
         test: {
           name: 'integration',
-          include: ['tests/integration/**/*.test.ts'],
+          ...inSet(['tests/integration/**/*.test.ts'], PARALLEL_INTEGRATION),
           environment: 'node',
           testTimeout: 90_000,
           hookTimeout: 60_000,
@@ -33,7 +71,7 @@ export default defineConfig({
         resolve,
         test: {
           name: 'e2e',
-          include: ['tests/e2e/**/*.spec.ts'],
+          ...inSet(['tests/e2e/**/*.spec.ts'], []),
           environment: 'node',
           // one Chromium for the whole run; each file connects to it and closes its own contexts
           globalSetup: ['tests/support/browser-server.ts'],

@@ -6,6 +6,7 @@
 import path from 'node:path';
 import fs from 'node:fs';
 import { spawn } from 'node:child_process';
+import { mergeJsonReports, outputFileFor } from './lib/test-sets';
 import {
   ROOT, HOST, appEnv, paymentsStateFile, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
   recreateDatabase, runNode, say, spawnService, startFakes, startIdentityProviderFake, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
@@ -71,12 +72,44 @@ await waitForPort(cfg.appPort, 'the test app', app.child);
 if (worker.child.exitCode !== null) console.error('✖ The worker exited early; see .data/test/logs/worker.log');
 
 say(`Running the tests against http://${HOST}:${cfg.appPort} (logs in ${path.relative(ROOT, cfg.dataDir)}/logs)`);
-const args = [path.join(ROOT, 'node_modules/vitest/vitest.mjs'), 'run', ...process.argv.slice(2)];
-const code: number = await new Promise((resolve) => {
-  const child = spawn(process.execPath, args, { cwd: ROOT, env: { ...process.env, ...env, NODE_ENV: 'test' }, stdio: 'inherit' });
-  child.once('exit', (c, signal) => resolve(c ?? (signal ? 1 : 0)));
-});
+const code = await runTestSets(process.argv.slice(2), { ...process.env, ...env, NODE_ENV: 'test' });
 
 await cleanup();
 say(code === 0 ? 'All tests passed' : `Tests failed (exit code ${code})`);
 process.exit(code);
+
+/**
+ * The files the arguments select, in two passes (vitest.config.ts, decision record 0415): the `parallel` set (unit
+ * files and the integration files that share nothing) two at a time, then the `serial` set one at a time. A pass
+ * with no selected file is skipped; with none at all vitest runs once so it reports that as it always does. The
+ * exit code is the first failing pass's; a JSON report (`--outputFile=x.json`) holds both passes.
+ */
+async function runTestSets(args: string[], testEnv: NodeJS.ProcessEnv): Promise<number> {
+  const vitest = (extra: string[], set: string | undefined, quiet = false): Promise<number> =>
+    new Promise((resolve) => {
+      const child = spawn(process.execPath, [path.join(ROOT, 'node_modules/vitest/vitest.mjs'), ...extra], {
+        cwd: ROOT, env: { ...testEnv, ...(set ? { TEST_FILE_SET: set } : {}) }, stdio: quiet ? 'ignore' : 'inherit',
+      });
+      child.once('exit', (c, signal) => resolve(c ?? (signal ? 1 : 0)));
+    });
+  const sets = ['parallel', 'serial'] as const;
+  const selected: Record<string, number> = {};
+  for (const set of sets) {
+    const listFile = path.join(cfg.dataDir, `files-${set}.json`);
+    fs.rmSync(listFile, { force: true });
+    await vitest(['list', '--filesOnly', `--json=${listFile}`, ...args], set, true);
+    selected[set] = fs.existsSync(listFile) ? (JSON.parse(fs.readFileSync(listFile, 'utf8')) as unknown[]).length : 0;
+  }
+  if (!selected.parallel && !selected.serial) return vitest(['run', ...args], undefined);
+  const out = outputFileFor(args);
+  const codes: number[] = [];
+  for (const set of sets) {
+    if (!selected[set]) continue;
+    const width = process.env.TEST_PARALLEL_FILES ?? '2';
+    say(set === 'parallel' ? `${selected[set]} file(s) that share nothing, ${width} at a time` : `${selected[set]} file(s) that change shared state, one at a time`);
+    codes.push(await vitest(['run', ...(out ? out.argsFor(set) : args)], set));
+  }
+  if (out) mergeJsonReports(out.file, sets.filter((s) => selected[s]).map((s) => out.fileFor(s)));
+  return codes.find((c) => c !== 0) ?? 0;
+}
+

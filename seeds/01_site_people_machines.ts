@@ -4,6 +4,7 @@
  */
 import type { Knex } from 'knex';
 import { hashPassword } from '../src/lib/server/passwords';
+import { machineRow, makePerson } from './lib/factories';
 
 export const DEMO_PASSWORD = 'beamwarden-demo';
 
@@ -23,26 +24,20 @@ export async function seed(knex: Knex): Promise<void> {
     .merge();
 
   const hash = await hashPassword(DEMO_PASSWORD);
-  for (const p of DEMO_PEOPLE) {
-    const [row] = await knex('people').insert({ email: p.email, name: p.name, password_hash: hash }).returning('id');
-    await knex('role_grants').insert(p.roles.map((role) => ({ person_id: row.id, role })));
-  }
+  for (const p of DEMO_PEOPLE) await makePerson(knex, { email: p.email, name: p.name, passwordHash: hash, roles: p.roles });
 
   await knex('machines').insert([
-    {
-      code: 'laser-a', name: 'Laser A', power_w: 60, tube_type: 'dc_glass', wavelength_um: 10.6,
-      bed_width_mm: 900, bed_depth_mm: 600, beam_diameter_mm: 6, divergence_mrad: 3, lens_focal_mm: 50.8,
-      coolant_type: 'water', status: 'in service',
-    },
-    {
-      code: 'laser-b', name: 'Laser B', power_w: 40, tube_type: 'rf_metal', wavelength_um: 10.6,
-      bed_width_mm: 600, bed_depth_mm: 400, beam_diameter_mm: 3.5, divergence_mrad: 4, lens_focal_mm: 50.8,
-      coolant_type: 'air', status: 'in service',
-    },
-    {
-      code: 'laser-c', name: 'Laser C', power_w: 40, tube_type: 'dc_glass', wavelength_um: 10.6,
-      bed_width_mm: 700, bed_depth_mm: 500, beam_diameter_mm: 6, divergence_mrad: 3, lens_focal_mm: 63.5,
-      coolant_type: 'water', status: 'in service',
-    },
+    machineRow({
+      code: 'laser-a', name: 'Laser A', powerW: 60, tubeType: 'dc_glass', bedWidthMm: 900, bedDepthMm: 600, beamDiameterMm: 6,
+      divergenceMrad: 3, lensFocalMm: 50.8, coolantType: 'water',
+    }),
+    machineRow({
+      code: 'laser-b', name: 'Laser B', powerW: 40, tubeType: 'rf_metal', bedWidthMm: 600, bedDepthMm: 400, beamDiameterMm: 3.5,
+      divergenceMrad: 4, lensFocalMm: 50.8, coolantType: 'air',
+    }),
+    machineRow({
+      code: 'laser-c', name: 'Laser C', powerW: 40, tubeType: 'dc_glass', bedWidthMm: 700, bedDepthMm: 500, beamDiameterMm: 6,
+      divergenceMrad: 3, lensFocalMm: 63.5, coolantType: 'water',
+    }),
   ]);
 }

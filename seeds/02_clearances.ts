@@ -9,6 +9,7 @@ import { z } from 'zod';
 import { hashPassword } from '../src/lib/server/passwords';
 import { expiryFor } from '../src/lib/clearance-rules';
 import { quizQuestionSchema, type QuizQuestion } from '../src/lib/quiz-rules';
+import { clearanceRow, makeGroup, makePerson } from './lib/factories';
 
 export const LAPSED_PERSON = { email: 'lapsed@tidewater.example', name: 'Tama Reid', roles: ['member'] } as const;
 
@@ -52,18 +53,13 @@ export async function seed(knex: Knex): Promise<void> {
   const now = new Date();
   const daysAgo = (n: number) => new Date(now.getTime() - n * 86_400_000);
 
-  const [glass] = await knex('machine_groups')
-    .insert({ code: 'glass-tube', name: 'Glass-tube lasers', validity_days: 365, refresher: 'quiz', checklist: JSON.stringify(GLASS_CHECKLIST) })
-    .returning('id');
-  const [rf] = await knex('machine_groups')
-    .insert({ code: 'rf-laser', name: 'RF laser', validity_days: 365, refresher: 'quiz_and_signoff', checklist: JSON.stringify(RF_CHECKLIST) })
-    .returning('id');
+  const glass = { id: await makeGroup(knex, { code: 'glass-tube', name: 'Glass-tube lasers', validityDays: 365, refresher: 'quiz', checklist: GLASS_CHECKLIST }) };
+  const rf = { id: await makeGroup(knex, { code: 'rf-laser', name: 'RF laser', validityDays: 365, refresher: 'quiz_and_signoff', checklist: RF_CHECKLIST }) };
   await knex('machines').whereIn('code', ['laser-a', 'laser-c']).update({ group_id: glass.id });
   await knex('machines').where({ code: 'laser-b' }).update({ group_id: rf.id });
 
   const hash = await hashPassword('beamwarden-demo');
-  const [lapsedPerson] = await knex('people').insert({ email: LAPSED_PERSON.email, name: LAPSED_PERSON.name, password_hash: hash }).returning('id');
-  await knex('role_grants').insert(LAPSED_PERSON.roles.map((role) => ({ person_id: lapsedPerson.id, role })));
+  const lapsedPerson = { id: await makePerson(knex, { email: LAPSED_PERSON.email, name: LAPSED_PERSON.name, passwordHash: hash, roles: LAPSED_PERSON.roles }) };
 
   const people = await knex('people').select('id', 'email');
   const id = (email: string) => {
@@ -78,10 +74,8 @@ export async function seed(knex: Knex): Promise<void> {
   await publishQuiz(knex, rf.id, 'RF laser: safe operation', [...common('r'), ...RF_EXTRA], instructor, daysAgo(120));
 
   const clearedAt = daysAgo(30);
-  const cleared = (personId: string, groupId: string, signer: string) => ({
-    person_id: personId, group_id: groupId, state: 'cleared', level: 'basic', quiz_passed_at: daysAgo(32), cleared_at: clearedAt,
-    expires_at: expiryFor(clearedAt, 365, zone), signed_off_by: signer,
-  });
+  const cleared = (personId: string, groupId: string, signer: string) =>
+    clearanceRow({ personId, groupId, state: 'cleared', quizPassedAt: daysAgo(32), clearedAt, expiresAt: expiryFor(clearedAt, 365, zone), signedOffBy: signer });
   const rows = [
     cleared(id('member@tidewater.example'), glass.id, instructor),
     cleared(id('member@tidewater.example'), rf.id, instructor),
@@ -90,11 +84,11 @@ export async function seed(knex: Knex): Promise<void> {
     cleared(instructor, rf.id, admin),
     cleared(id('steward@tidewater.example'), glass.id, instructor),
     cleared(id('steward@tidewater.example'), rf.id, instructor),
-    { person_id: id('student@tidewater.example'), group_id: glass.id, state: 'awaiting sign-off', level: 'basic', quiz_passed_at: daysAgo(2) },
-    {
-      person_id: lapsedPerson.id, group_id: glass.id, state: 'lapsed', level: 'basic', quiz_passed_at: daysAgo(400), cleared_at: daysAgo(398),
-      expires_at: expiryFor(daysAgo(398), 365, zone), signed_off_by: instructor,
-    },
+    clearanceRow({ personId: id('student@tidewater.example'), groupId: glass.id, state: 'awaiting sign-off', quizPassedAt: daysAgo(2) }),
+    clearanceRow({
+      personId: lapsedPerson.id, groupId: glass.id, state: 'lapsed', quizPassedAt: daysAgo(400), clearedAt: daysAgo(398),
+      expiresAt: expiryFor(daysAgo(398), 365, zone), signedOffBy: instructor,
+    }),
   ];
   const inserted = await knex('clearances').insert(rows).returning(['id', 'person_id', 'group_id', 'signed_off_by', 'cleared_at']);
   const checklistFor = (g: string) => (g === glass.id ? GLASS_CHECKLIST : RF_CHECKLIST);

@@ -4,6 +4,7 @@
  */
 import type { Knex } from 'knex';
 import { occupiedUntil } from '../src/lib/availability';
+import { bookingRow } from './lib/factories';
 import { seedLookups } from './lib/lookups';
 import { siteDays } from './lib/site-days';
 
@@ -83,17 +84,12 @@ export async function seed(knex: Knex): Promise<void> {
       const endsAt = new Date(startsAt.getTime() + b.len * 60_000);
       const past = day < 0;
       const noShow = past && (day + i) % 5 === 0;
-      rows.push({
-        machine_id: m(b.code),
-        person_id: p(b.who),
-        kind: 'personal',
-        state: past ? (noShow ? 'no-show' : 'completed') : 'reserved',
-        starts_at: startsAt,
-        ends_at: endsAt,
-        occupied_until: occupiedUntil(endsAt, buffer[b.code]!),
-        checked_in_at: past && !noShow ? startsAt : null,
-        notes: '',
-      });
+      rows.push(
+        bookingRow({
+          machineId: m(b.code), personId: p(b.who), startsAt, endsAt, bufferMinutes: buffer[b.code]!,
+          state: past ? (noShow ? 'no-show' : 'completed') : 'reserved', checkedInAt: past && !noShow ? startsAt : null,
+        }),
+      );
     });
   }
   await knex('bookings').insert(rows);

@@ -285,9 +285,12 @@ const ID_SOURCES: Record<string, string | (() => Promise<string | undefined>)> =
 };
 const MISSING_ID = '00000000-0000-4000-8000-00000000dead';
 
-/** A machine in use (other files add and retire machines; a retired one answers 404 on most routes). */
+/**
+ * A machine in use: the demo's Laser A, which no file retires (other files add machines of their own and retire them,
+ * at the same time as this file runs; a retired one answers 404 on most routes), else the first one in use.
+ */
 async function machineInUse(): Promise<string | undefined> {
-  const row = (await testDb()('machines').whereNull('retired_at').select('id').orderBy('id').first()) as { id: string } | undefined;
+  const row = (await testDb()('machines').whereNull('retired_at').select('id').orderByRaw("code = 'laser-a' DESC, id").first()) as { id: string } | undefined;
   return row?.id;
 }
 

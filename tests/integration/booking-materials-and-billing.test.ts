@@ -12,15 +12,16 @@ import { saveCard } from '../../src/lib/server/payments/cards';
 import { createPerson } from '../../src/lib/server/people';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
-import { DEMO } from '../support/env';
+import { newPerson, type TestPerson } from '../support/people';
 import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { expectError } from '../support/api-error';
 import { waitUntil } from '../support/wait';
 
 let admin: Client;
 let member: Client;
-let steward: Client;
-let instructor: Client;
+/** this file's own people (no other file's quota, card or failed payment): a member, a staff person without a card, one with a card */
+let staff: TestPerson;
+let carded: TestPerson;
 let lasers: Record<'laser-a' | 'laser-b' | 'laser-c', MachineRef>;
 let mat: Record<string, string>;
 // 33 days ahead (inside the 35-day test horizon): a week no other file books in, so the weekly quota is untouched
@@ -28,9 +29,9 @@ const D = 33;
 
 beforeAll(async () => {
   admin = await Client.as('admin');
-  member = await Client.as('member');
-  steward = await Client.as('steward');
-  instructor = await Client.as('instructor');
+  member = (await newPerson('mb-member', { clearedFor: ['laser-a', 'laser-b', 'laser-c'] })).client;
+  staff = await newPerson('mb-staff', { tier: 'staff', clearedFor: ['laser-a', 'laser-b', 'laser-c'] });
+  carded = await newPerson('mb-card', { tier: 'staff', clearedFor: ['laser-a', 'laser-b', 'laser-c'] });
   lasers = await machines(admin);
   for (const m of Object.values(lasers)) await setTestRules(admin, m.id);
   const rows = await testDb()('materials').select('id', 'name');
@@ -76,29 +77,28 @@ describe('declared materials', () => {
 
 describe('billing at booking', () => {
   it('402 payment_required while a payment has failed; booking works again once it is settled', async () => {
-    const who = await testDb()('people').where({ email: DEMO.instructor }).first('id');
+    const who = staff;
     // a late-cancellation fee with no card on file fails: that is a failed payment
     const fee = await chargeBookingFee({ personId: who.id, machineId: lasers['laser-c'].id, bookingId: randomUUID(), startsAt: new Date(), fee: 'late_cancellation' });
     expect(fee.state).toBe('payment failed');
-    await expectError(await book(instructor, lasers['laser-c'].id, siteTime(D, 10), siteTime(D, 11)), 402, 'payment_required');
+    await expectError(await book(staff.client, lasers['laser-c'].id, siteTime(D, 10), siteTime(D, 11)), 402, 'payment_required');
     await testDb()('charges').where({ id: fee.id }).update({ state: 'waived' });
-    const res = await book(instructor, lasers['laser-c'].id, siteTime(D, 10), siteTime(D, 11));
+    const res = await book(staff.client, lasers['laser-c'].id, siteTime(D, 10), siteTime(D, 11));
     const b = await body(res);
     expect(res.status, JSON.stringify(b)).toBe(201);
-    // instructor@ has no saved card: the booking stands, beam time is charged at check-out, and the answer says so
+    // this person has no saved card: the booking stands, beam time is charged at check-out, and the answer says so
     expect(b.paymentNotice).toMatch(/check-out/);
     expect(await testDb()('charges').where({ booking_id: b.id }).first()).toBeUndefined();
   });
 
   it('with a saved card the estimate is held; an in-time cancel releases the hold and charges no fee', async () => {
-    const who = await testDb()('people').where({ email: DEMO.steward }).first('id');
-    await saveCard(who.id, 'tok_visa');
-    const b = await body(await book(steward, lasers['laser-b'].id, siteTime(D, 16), siteTime(D, 17)));
+    await saveCard(carded.id, 'tok_visa');
+    const b = await body(await book(carded.client, lasers['laser-b'].id, siteTime(D, 16), siteTime(D, 17)));
     expect(b.paymentNotice, JSON.stringify(b)).toBeNull();
     const hold = await testDb()('charges').where({ booking_id: b.id, kind: 'beam_time' }).first();
     expect(hold.state).toBe('held');
     expect(hold.held_minor).toBeGreaterThan(0);
-    expect((await steward.send('POST', `/api/bookings/${b.id}/cancel`)).status).toBe(200);
+    expect((await carded.client.send('POST', `/api/bookings/${b.id}/cancel`)).status).toBe(200);
     expect((await testDb()('charges').where({ id: hold.id }).first()).state).toBe('released');
     expect(await testDb()('charges').where({ booking_id: b.id, kind: 'late_cancellation' }).first()).toBeUndefined();
   });

@@ -16,6 +16,7 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 import { createPerson } from '../../src/lib/server/people';
+import { makeBooking, makeClearance } from '../../seeds/lib/factories';
 import { sweepControllers } from '../../src/lib/server/controllers/offline-alert';
 import { CONTROLLER_PATHS } from '../../src/lib/controller-openapi';
 import { DENY_REASONS } from '../../src/lib/controller-rules';
@@ -51,10 +52,7 @@ async function person(label: string, opts: { cleared?: boolean; card?: boolean }
   const password = 'a long test password for the controller';
   const p = await createPerson({ email, name: `Gate ${label}`, password, roles: ['member'] });
   if (opts.cleared !== false) {
-    await testDb()('clearances').insert({
-      person_id: p.id, group_id: groupId, state: 'cleared', level: 'advanced', quiz_passed_at: new Date(), cleared_at: new Date(),
-      expires_at: new Date(Date.now() + 365 * 86_400_000),
-    });
+    await makeClearance(testDb(), { personId: p.id, groupId, state: 'cleared', level: 'advanced' });
   }
   const badge = `04:${randomUUID().replace(/-/g, '').slice(0, 12).toUpperCase().match(/../g)!.join(':')}`;
   const enrol = await steward.send('POST', `/api/people/${p.id}/badges`, { badge });
@@ -69,10 +67,8 @@ async function person(label: string, opts: { cleared?: boolean; card?: boolean }
 async function booking(personId: string, startOffsetMin: number, lengthMin: number): Promise<{ id: string; ends_at: Date }> {
   const startsAt = new Date(Math.floor(Date.now() / MIN) * MIN + startOffsetMin * MIN);
   const endsAt = new Date(startsAt.getTime() + lengthMin * MIN);
-  const [b] = await testDb()('bookings')
-    .insert({ machine_id: machine.id, person_id: personId, starts_at: startsAt, ends_at: endsAt, occupied_until: endsAt, state: 'reserved' })
-    .returning(['id', 'ends_at']);
-  return b;
+  const id = await makeBooking(testDb(), { machineId: machine.id, personId, startsAt, endsAt, bufferMinutes: 0 });
+  return { id, ends_at: endsAt };
 }
 
 function device(method: string, path: string, json?: unknown, t = token): Promise<Response> {

@@ -2,6 +2,8 @@
  * Faults through the API on the real PostgreSQL, S3 fake, payment fake and mail fake: the stop-fault cascade
  * (out of service, bookings bumped, card holds released, e-mails), photo checks (content type, size, count,
  * metadata removed), access to photos, the steward's queue, triage, resolve and back into service.
+ * On three machines of this file's own (in a demo group, priced in every price version) with its own member,
+ * steward and uncleared person, so a stop fault here bumps no other file's bookings and touches no demo row.
  */
 import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -10,9 +12,10 @@ import { stopJobs } from '../../src/lib/server/jobs';
 import { saveCard } from '../../src/lib/server/payments/cards';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
-import { DEMO } from '../support/env';
+import { createTestMachine, priceTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
+import { newPerson, type TestPerson } from '../support/people';
 import ICAL from 'ical.js';
-import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { iso, setTestRules, siteTime } from '../support/booking';
 import { attachment, inbox, to, type Mail, waitForMail } from '../support/mail';
 import { expectError } from '../support/api-error';
 import { makeDue } from '../support/queue';
@@ -22,21 +25,31 @@ let admin: Client;
 let member: Client;
 let steward: Client;
 let newbie: Client;
-let lasers: Record<'laser-a' | 'laser-b' | 'laser-c', MachineRef>;
-// bookings of this file are 24+ days ahead, clear of the seed and the other booking tests
+/** this file's own people: a member cleared for its machines, a steward (who also books, with a card), one not cleared */
+let memberP: TestPerson;
+let stewardP: TestPerson;
+/** this file's own three machines (in the first demo group): a stop fault here bumps no other file's bookings */
+let lasers: Record<'a' | 'b' | 'c', TestMachine>;
+// bookings of this file are 24+ days ahead
 const D = 24;
 
 beforeAll(async () => {
   admin = await Client.as('admin');
-  member = await Client.as('member');
-  steward = await Client.as('steward');
-  newbie = await Client.as('newbie');
-  lasers = await machines(admin);
-  for (const m of Object.values(lasers)) await setTestRules(admin, m.id);
+  lasers = { a: await createTestMachine(admin, 'faults-a'), b: await createTestMachine(admin, 'faults-b'), c: await createTestMachine(admin, 'faults-c') };
+  for (const m of Object.values(lasers)) {
+    await setTestRules(admin, m.id);
+    await priceTestMachine(m.id, 150);
+  }
+  const codes = Object.values(lasers).map((m) => m.code);
+  memberP = await newPerson('faults-member', { clearedFor: codes });
+  stewardP = await newPerson('faults-keeper', { roles: ['steward'], clearedFor: codes });
+  member = memberP.client;
+  steward = stewardP.client;
+  newbie = (await newPerson('faults-newbie')).client;
 });
 
 afterAll(async () => {
-  await testDb()('machines').update({ status: 'in service' });
+  for (const m of Object.values(lasers ?? {})) await retireTestMachine(admin, m);
   await stopJobs();
   await closeDb();
   await closeTestDb();
@@ -65,9 +78,8 @@ function report(c: Client, code: string, fields: Record<string, string>, files: 
 
 describe('a stop fault', () => {
   it('takes the machine out of service at once, bumps its bookings, releases holds, e-mails; then back into service', async () => {
-    const b = lasers['laser-b'];
-    const stewardRow = await testDb()('people').where({ email: DEMO.steward }).first('id');
-    await saveCard(stewardRow.id, 'tok_visa');
+    const b = lasers.b;
+    await saveCard(stewardP.id, 'tok_visa');
 
     const mine = await body(await book(member, b.id, siteTime(D, 10), siteTime(D, 11)));
     expect(mine.state, JSON.stringify(mine)).toBe('reserved');
@@ -77,7 +89,7 @@ describe('a stop fault', () => {
     const hold = await testDb()('charges').where({ booking_id: theirs.id, kind: 'beam_time' }).first();
     expect(hold.state).toBe('held');
     // a booking on another machine is not touched
-    const other = await body(await book(steward, lasers['laser-c'].id, siteTime(D, 10), siteTime(D, 11)));
+    const other = await body(await book(steward, lasers.c.id, siteTime(D, 10), siteTime(D, 11)));
 
     const photo = await photoWithGps();
     const before = await sharp(photo).metadata();
@@ -85,13 +97,13 @@ describe('a stop fault', () => {
     // the GPS IFD pointer (tag 0x8825, little- or big-endian) is in the original's EXIF
     expect(before.exif!.indexOf(Buffer.from([0x25, 0x88])) >= 0 || before.exif!.indexOf(Buffer.from([0x88, 0x25])) >= 0).toBe(true);
 
-    const res = await report(member, 'laser-b', { summary: 'Coolant alarm and a crack in the tube', details: 'Alarm beeping, hairline crack near the anode.', severity: 'stop' }, [
+    const res = await report(member, b.code, { summary: 'Coolant alarm and a crack in the tube', details: 'Alarm beeping, hairline crack near the anode.', severity: 'stop' }, [
       { bytes: photo, name: 'tube.jpg', type: 'image/jpeg' },
     ]);
     const r = await body(res);
     expect(res.status, JSON.stringify(r)).toBe(201);
-    expect(r).toMatchObject({ machineStatus: 'out of service', fault: { severity: 'stop', status: 'open', machineCode: 'laser-b' } });
-    // every reserved booking on the machine that has not ended (the demo seed's too), at least these two
+    expect(r).toMatchObject({ machineStatus: 'out of service', fault: { severity: 'stop', status: 'open', machineCode: b.code } });
+    // every reserved booking on the machine that has not ended, at least these two
     expect(r.bumpedBookings).toBeGreaterThanOrEqual(2);
     expect(r.fault.photos).toHaveLength(1);
 
@@ -114,7 +126,7 @@ describe('a stop fault', () => {
     const ics = (m: Mail) => m.attachments?.find((x) => x.filename === 'booking-cancelled.ics');
     const cal = await waitUntil('the bump e-mail with a cancellation .ics for the booking', async () => {
       await makeDue('mail.send');
-      const mails = (await inbox()).filter((m) => to(DEMO.member)(m) && m.subject.startsWith('Your booking on Laser B is cancelled') && ics(m));
+      const mails = (await inbox()).filter((m) => to(memberP.email)(m) && m.subject.startsWith(`Your booking on ${b.name} is cancelled`) && ics(m));
       for (const m of mails) {
         const c = new ICAL.Component(ICAL.parse(await attachment(m.id, ics(m)!.generatedFileName ?? ics(m)!.filename)));
         if (new ICAL.Event(c.getFirstSubcomponent('vevent')!).uid === `${mine.id}@beamwarden`) return c;
@@ -123,7 +135,7 @@ describe('a stop fault', () => {
     }, 60_000);
     expect(cal.getFirstPropertyValue('method')).toBe('CANCEL');
     expect((await testDb()('bookings').where({ id: mine.id }).first()).calendar_sequence).toBe(1);
-    await waitForMail((m) => to(DEMO.steward)(m) && m.subject.startsWith('STOP: Laser B'));
+    await waitForMail((m) => to(stewardP.email)(m) && m.subject.startsWith(`STOP: ${b.name}`));
 
     // no new bookings while out of service
     await expectError(await book(member, b.id, siteTime(D + 1, 10), siteTime(D + 1, 11)), 409, 'machine_out_of_service');
@@ -168,15 +180,14 @@ describe('a stop fault', () => {
     const last = await testDb()('machine_status_changes').where({ machine_id: b.id }).orderBy('id', 'desc').first();
     expect(last).toMatchObject({ from_status: 'out of service', to_status: 'in service' });
     expect(last.reason).toContain('Tube replaced and test-fired');
-    await waitForMail((m) => to(DEMO.member)(m) && m.subject === 'Laser B is back in service');
+    await waitForMail((m) => to(memberP.email)(m) && m.subject === `${b.name} is back in service`);
     expect((await book(member, b.id, siteTime(D + 1, 10), siteTime(D + 1, 11))).status).toBe(201);
   });
 
   it('a degraded fault marks the machine degraded and keeps its bookings', async () => {
-    const c = lasers['laser-c'];
-    // (bookings on Laser C by the steward: member@'s weekly quota there belongs to the booking tests)
+    const c = lasers.c;
     const kept = await body(await book(steward, c.id, siteTime(D + 2, 10), siteTime(D + 2, 11)));
-    const res = await report(member, 'laser-c', { summary: 'Air assist weak', severity: 'degraded' });
+    const res = await report(member, c.code, { summary: 'Air assist weak', severity: 'degraded' });
     const r = await body(res);
     expect(res.status, JSON.stringify(r)).toBe(201);
     expect(r).toMatchObject({ machineStatus: 'degraded', bumpedBookings: 0 });
@@ -188,11 +199,11 @@ describe('a stop fault', () => {
   });
 
   it('a note changes nothing about the machine; signed out is 401; an unknown machine is 404', async () => {
-    const r = await body(await report(member, 'laser-a', { summary: 'Honeycomb bed is worn', severity: 'note' }));
+    const r = await body(await report(member, lasers.a.code, { summary: 'Honeycomb bed is worn', severity: 'note' }));
     expect(r).toMatchObject({ machineStatus: 'in service', fault: { severity: 'note' } });
-    expect((await report(new Client(), 'laser-a', { summary: 'x y z', severity: 'note' })).status).toBe(401);
+    expect((await report(new Client(), lasers.a.code, { summary: 'x y z', severity: 'note' })).status).toBe(401);
     await expectError(await report(member, 'no-such-laser', { summary: 'Something', severity: 'note' }), 404, 'not_found');
-    await expectError(await report(member, 'laser-a', { summary: 'Something', severity: 'panic' }), 422, 'invalid');
+    await expectError(await report(member, lasers.a.code, { summary: 'Something', severity: 'panic' }), 422, 'invalid');
   });
 });
 
@@ -201,28 +212,30 @@ describe('photo checks', () => {
 
   it('refuses an SVG with a script and a renamed program (415)', async () => {
     const svg = Buffer.from('<svg xmlns="http://www.w3.org/2000/svg"><script>alert(1)</script><rect width="5" height="5"/></svg>');
-    await expectError(await report(member, 'laser-a', fields, [{ bytes: svg, name: 'lens.svg', type: 'image/svg+xml' }]), 415, 'file_type_refused');
+    await expectError(await report(member, lasers.a.code, fields, [{ bytes: svg, name: 'lens.svg', type: 'image/svg+xml' }]), 415, 'file_type_refused');
     const elf = Buffer.concat([Buffer.from([0x7f, 0x45, 0x4c, 0x46, 2, 1, 1, 0]), Buffer.alloc(2048, 1)]);
-    await expectError(await report(member, 'laser-a', fields, [{ bytes: elf, name: 'photo.jpg', type: 'image/jpeg' }]), 415, 'file_type_refused');
+    await expectError(await report(member, lasers.a.code, fields, [{ bytes: elf, name: 'photo.jpg', type: 'image/jpeg' }]), 415, 'file_type_refused');
   });
 
   it('refuses more than three photos (422) and a 20 MB image (413); nothing is filed', async () => {
-    const before = Number((await testDb()('faults').count({ n: '*' }).first())?.n);
+    // counted on this file's machine, the one the refused reports name (other files file faults meanwhile)
+    const filed = async () => Number((await testDb()('faults').where({ machine_id: lasers.a.id }).count({ n: '*' }).first())?.n);
+    const before = await filed();
     const p = await photoWithGps();
     const four = [1, 2, 3, 4].map((i) => ({ bytes: p, name: `p${i}.jpg`, type: 'image/jpeg' }));
-    await expectError(await report(member, 'laser-a', fields, four), 422, 'too_many_photos');
+    await expectError(await report(member, lasers.a.code, fields, four), 422, 'too_many_photos');
     const big = Buffer.concat([p, Buffer.alloc(20 * 1024 * 1024, 0)]);
     // refused by the request-size limit before the body is read (body_too_large), or by the photo check (file_too_large)
-    const tooBig = await report(member, 'laser-a', fields, [{ bytes: big, name: 'big.jpg', type: 'image/jpeg' }]);
+    const tooBig = await report(member, lasers.a.code, fields, [{ bytes: big, name: 'big.jpg', type: 'image/jpeg' }]);
     expect(tooBig.status).toBe(413);
     expect(['body_too_large', 'file_too_large']).toContain((await body(tooBig)).error.code);
-    expect(Number((await testDb()('faults').count({ n: '*' }).first())?.n)).toBe(before);
+    expect(await filed()).toBe(before);
   });
 
   it('keeps three photos, each re-encoded', async () => {
     const p = await photoWithGps();
     const png = await sharp({ create: { width: 50, height: 50, channels: 4, background: '#336699' } }).png().toBuffer();
-    const res = await report(member, 'laser-a', fields, [
+    const res = await report(member, lasers.a.code, fields, [
       { bytes: p, name: 'a.jpg', type: 'image/jpeg' }, { bytes: png, name: 'b.png', type: 'image/png' }, { bytes: p, name: 'c.jpg', type: 'image/jpeg' },
     ]);
     const r = await body(res);

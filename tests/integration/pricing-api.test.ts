@@ -2,6 +2,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
+import { newPerson } from '../support/people';
 
 let laserA: string;
 let laserB: string;
@@ -119,14 +120,15 @@ describe('the site\'s tax and currency', () => {
 
 describe('tiers', () => {
   it('an admin sets a person\'s tier and cost centre (audited); a member may not; the account shows it', async () => {
-    const newbie = await testDb()('people').where({ email: 'newbie@tidewater.example' }).first('id');
+    // a person of this file's own (the demo newbie's tier is the demo's)
+    const newbie = await newPerson('tier');
     const res = await admin.send('PUT', `/api/people/${newbie.id}/tier`, { tier: 'staff', costCentre: 'ENG-200' });
     expect(res.status).toBe(200);
     expect(await body(res)).toMatchObject({ tier: 'staff', costCentre: 'ENG-200' });
     expect(await testDb()('audit_log').where({ kind: 'person.tier_changed', subject_id: newbie.id }).first()).toBeTruthy();
     expect((await member.send('PUT', `/api/people/${newbie.id}/tier`, { tier: 'student' })).status).toBe(403);
     expect((await admin.send('PUT', `/api/people/${newbie.id}/tier`, { tier: 'gold' })).status).toBe(422);
-    const n = await Client.as('newbie');
+    const n = newbie.client;
     expect(await body(await n.get('/api/account'))).toMatchObject({ tier: 'staff', costCentre: 'ENG-200', recharge: true, card: null, balanceOwedMinor: 0 });
     await admin.send('PUT', `/api/people/${newbie.id}/tier`, { tier: 'community', costCentre: null });
     const people = await body(await admin.get('/api/people?q=student@'));

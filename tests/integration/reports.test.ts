@@ -12,6 +12,8 @@ import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { localToInstant } from '../../src/lib/availability';
 import { REVENUE_STATES } from '../../src/lib/reports';
+import { hashPassword } from '../../src/lib/server/passwords';
+import { makePerson } from '../../seeds/lib/factories';
 
 const suffix = randomUUID().slice(0, 8);
 const machineId = randomUUID();
@@ -30,8 +32,11 @@ const feb = (day: number, hour: number) => localToInstant(2026, 2, day, hour * 6
 beforeAll(async () => {
   const k = testDb();
   tz = (await k('site_settings').where({ id: 1 }).first('time_zone')).time_zone;
-  for (const who of ['admin', 'member', 'student', 'newbie', 'steward', 'instructor']) {
-    ids[who] = (await k('people').where({ email: `${who}@tidewater.example` }).first('id')).id;
+  // people of this file's own in the roles the data set needs (no row here belongs to a demo person)
+  const passwordHash = await hashPassword('a long test passphrase for reports');
+  for (const who of ['admin', 'member', 'student', 'newbie', 'steward', 'instructor'] as const) {
+    const roles = who === 'admin' || who === 'steward' || who === 'instructor' ? [who] : (['member'] as const);
+    ids[who] = await makePerson(k, { email: `rpt-${who}-${suffix}@test.example`, name: `Report ${who} ${suffix}`, passwordHash, roles });
   }
   await k('machine_groups').insert({ id: groupId, code: `rpt-${suffix}`, name: `Report test group ${suffix}` });
   await k('machines').insert({
@@ -123,6 +128,8 @@ afterAll(async () => {
   await k('opening_hours').where({ machine_id: machineId }).delete();
   await k('machines').where({ id: machineId }).delete();
   await k('machine_groups').where({ id: groupId }).delete();
+  await k('role_grants').whereIn('person_id', Object.values(ids)).delete();
+  await k('people').whereIn('id', Object.values(ids)).delete();
   await clearSignInLimits();
   await closeTestDb();
 });

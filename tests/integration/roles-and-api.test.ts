@@ -3,6 +3,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { DEMO } from '../support/env';
+import { newPerson } from '../support/people';
 
 afterAll(closeTestDb);
 
@@ -85,42 +86,49 @@ describe('admins and the People screen', () => {
   });
 
   it('grants and removes a role; each change is in the audit log with before and after', async () => {
-    const c = await Client.as('admin');
-    const student = (await body(await c.get('/api/people?q=student@'))).rows[0];
-    const res = await c.send('PUT', `/api/people/${student.id}/roles`, { roles: ['member', 'steward'] });
+    // an admin and a member of this file's own: no other file's session or role check sees these changes
+    const own = await newPerson('roles-admin', { roles: ['admin'] });
+    const c = own.client;
+    const made = await newPerson('roles-member');
+    const person = (await body(await c.get(`/api/people?q=${encodeURIComponent(made.email)}`))).rows[0];
+    expect(person.email).toBe(made.email);
+    const res = await c.send('PUT', `/api/people/${person.id}/roles`, { roles: ['member', 'steward'] });
     expect(res.status).toBe(200);
     expect((await body(res)).roles).toEqual(['member', 'steward']);
 
-    const row = await testDb()('audit_log').where({ subject_id: student.id, kind: 'role.changed' }).orderBy('id', 'desc').first();
+    const row = await testDb()('audit_log').where({ subject_id: person.id, kind: 'role.changed' }).orderBy('id', 'desc').first();
     expect(row.before).toEqual({ roles: ['member'] });
     expect(row.after).toEqual({ roles: ['member', 'steward'] });
-    const admin = await testDb()('people').whereRaw('lower(email) = ?', [DEMO.admin]).first();
-    expect(row.actor_id).toBe(admin.id);
+    expect(row.actor_id).toBe(own.id);
 
     // the new role takes effect at once, without signing in again
-    const s = await Client.as('student');
+    const s = made.client;
     expect((await body(await s.get('/api/me'))).roles).toEqual(['member', 'steward']);
 
-    expect((await c.send('PUT', `/api/people/${student.id}/roles`, { roles: ['member'] })).status).toBe(200);
+    expect((await c.send('PUT', `/api/people/${person.id}/roles`, { roles: ['member'] })).status).toBe(200);
     expect((await body(await s.get('/api/me'))).roles).toEqual(['member']);
   });
 
   it('answers bad role bodies with 4xx and changes nothing', async () => {
-    const c = await Client.as('admin');
-    const student = (await body(await c.get('/api/people?q=student@'))).rows[0];
-    const before = await testDb()('audit_log').count({ n: '*' }).first();
+    const own = await newPerson('roles-admin', { roles: ['admin'] });
+    const c = own.client;
+    const made = await newPerson('roles-member');
+    // every audit row these requests could write names this file's admin as the actor (other files write rows meanwhile)
+    const rowsOf = () => testDb()('audit_log').where({ actor_id: own.id }).orWhere({ subject_id: made.id }).count({ n: '*' }).first();
+    const before = await rowsOf();
     for (const bad of [{ roles: ['overlord'] }, { roles: 'admin' }, {}, { roles: ['member'], extra: 1 }]) {
-      const res = await c.send('PUT', `/api/people/${student.id}/roles`, bad);
+      const res = await c.send('PUT', `/api/people/${made.id}/roles`, bad);
       expect(res.status).toBe(422);
     }
-    const notJson = await c.fetch(`/api/people/${student.id}/roles`, { method: 'PUT', body: 'roles=admin', headers: { 'content-type': 'text/plain' } });
+    const notJson = await c.fetch(`/api/people/${made.id}/roles`, { method: 'PUT', body: 'roles=admin', headers: { 'content-type': 'text/plain' } });
     expect(notJson.status).toBe(415);
-    const broken = await c.fetch(`/api/people/${student.id}/roles`, { method: 'PUT', body: '{"roles": [', headers: { 'content-type': 'application/json' } });
+    const broken = await c.fetch(`/api/people/${made.id}/roles`, { method: 'PUT', body: '{"roles": [', headers: { 'content-type': 'application/json' } });
     expect(broken.status).toBe(400);
     expect((await c.send('PUT', '/api/people/not-a-uuid/roles', { roles: ['member'] })).status).toBe(404);
     expect((await c.send('PUT', '/api/people/00000000-0000-4000-8000-000000000000/roles', { roles: ['member'] })).status).toBe(404);
-    const after = await testDb()('audit_log').count({ n: '*' }).first();
+    const after = await rowsOf();
     expect(after).toEqual(before);
+    expect((await testDb()('role_grants').where({ person_id: made.id }).pluck('role')).sort()).toEqual(['member']);
   });
 
   it('an admin cannot remove their own admin role', async () => {

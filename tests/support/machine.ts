@@ -9,10 +9,14 @@ export interface TestMachine {
   name: string;
 }
 
-export async function createTestMachine(admin: Client, label: string): Promise<TestMachine> {
+/**
+ * Added through the admin API (which gives it default rules and opening hours), in the first demo group (the
+ * clearance tests read the seeded groups: a file adds no group it leaves behind).
+ */
+export async function createTestMachine(admin: Client, label: string): Promise<TestMachine & { groupId: string }> {
+  const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}`;
   const groupId = ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
-  const stamp = Date.now().toString(36);
-  const code = `t-${label}-${stamp}`.slice(0, 32);
+  const code = `t-${label.slice(0, 29 - stamp.length)}-${stamp}`;
   const name = `Test laser ${label} ${stamp}`;
   const res = await admin.send('POST', '/api/machines', {
     code, name, groupId, requiredLevel: 'basic', powerW: 40, tubeType: 'dc_glass', wavelengthUm: 10.6,
@@ -20,9 +24,22 @@ export async function createTestMachine(admin: Client, label: string): Promise<T
   });
   const m = await body(res);
   expect(res.status, JSON.stringify(m)).toBe(201);
-  return { id: m.id, code, name };
+  return { id: m.id, code, name, groupId };
 }
 
 export async function retireTestMachine(admin: Client, m: TestMachine | undefined): Promise<void> {
   if (m) await admin.send('POST', `/api/machines/${m.id}/retire`, { reason: 'Test machine, no longer needed.' });
+}
+
+/**
+ * Rates for a test machine in every price version there is, written directly: publishing a version through the API
+ * would reprice every machine for every other file. A machine without a rate is "not priced" (no card hold, no charge).
+ */
+export async function priceTestMachine(machineId: string, perMinuteMinor: number): Promise<void> {
+  const versions = (await testDb()('price_versions').select('id')) as { id: string }[];
+  for (const v of versions) {
+    await testDb()('price_rates')
+      .insert(['student', 'staff', 'community', 'commercial'].map((tier) => ({ version_id: v.id, machine_id: machineId, tier, per_minute_minor: perMinuteMinor })))
+      .onConflict(['version_id', 'machine_id', 'tier']).ignore();
+  }
 }

@@ -4,6 +4,10 @@
  * the database (the link itself is tested in tests/integration/accounts.test.ts), and the person's session is
  * written as a cookie (support/session.ts) rather than signed in through the form.
  */
+import { makeClearance, makePerson } from '../../seeds/lib/factories';
+import type { Role } from '../../src/lib/roles';
+import { hashPassword } from '../../src/lib/server/passwords';
+import type { Tier } from '../../src/lib/vocabulary';
 import { Client, freshLoopbackAddress } from './client';
 import { testDb } from './db';
 
@@ -11,7 +15,7 @@ let n = 0;
 
 export async function signUpNew(label: string): Promise<{ client: Client; email: string; name: string; password: string }> {
   n += 1;
-  const stamp = `${Date.now().toString(36)}${n}`;
+  const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}${n}`;
   const email = `${label}-${stamp}@tidewater.example`;
   const name = `Test ${label} ${stamp}`;
   const password = 'a long test passphrase for lasers';
@@ -38,21 +42,43 @@ export async function clearedNew(label: string, machineCodes: string[]): Promise
   const db = testDb();
   const person = await db('people').where({ email: made.email }).first('id');
   if (!person) throw new Error(`no person row for ${made.email}`);
-  const groups = (await db('machines').whereIn('code', machineCodes).distinct('group_id')) as { group_id: string | null }[];
-  const now = new Date();
-  for (const { group_id } of groups) {
-    if (!group_id) continue;
-    await db('clearances').insert({
-      person_id: person.id,
-      group_id,
-      state: 'cleared',
-      level: 'advanced',
-      quiz_passed_at: now,
-      cleared_at: now,
-      expires_at: new Date(now.getTime() + 365 * 86_400_000),
-    });
-  }
+  await clearFor(person.id, machineCodes);
   return { ...made, id: person.id };
+}
+
+/** Current (advanced) clearances for the groups of the given machines, written straight into the test database. */
+export async function clearFor(personId: string, machineCodes: string[]): Promise<void> {
+  const groups = (await testDb()('machines').whereIn('code', machineCodes).distinct('group_id')) as { group_id: string | null }[];
+  for (const { group_id } of groups) if (group_id) await makeClearance(testDb(), { personId, groupId: group_id, state: 'cleared', level: 'advanced' });
+}
+
+export interface TestPerson {
+  client: Client;
+  id: string;
+  email: string;
+  name: string;
+  password: string;
+}
+
+const TEST_PASSWORD = 'a long test passphrase for lasers';
+let hash: Promise<string> | undefined;
+let made = 0;
+
+/**
+ * A person of the test file's own, with the roles (and tier) asked for, made by the factory the seeds use and signed
+ * in with a written session: a steward, instructor or admin whose queue, quota or mail no other file touches. Faster
+ * than signUpNew (no form, one argon2 hash per file); use signUpNew where signing up is part of the story.
+ */
+export async function newPerson(label: string, opts: { roles?: Role[]; tier?: Tier; clearedFor?: string[] } = {}): Promise<TestPerson> {
+  made += 1;
+  const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}${made}`;
+  const email = `${label}-${stamp}@tidewater.example`;
+  const name = `Test ${label} ${stamp}`;
+  hash ??= hashPassword(TEST_PASSWORD);
+  const id = await makePerson(testDb(), { email, name, passwordHash: await hash, roles: opts.roles ?? ['member'], ...(opts.tier ? { tier: opts.tier } : {}) });
+  if (opts.clearedFor?.length) await clearFor(id, opts.clearedFor);
+  const client = await new Client(undefined, freshLoopbackAddress()).useSessionOf(email);
+  return { client, id, email, name, password: TEST_PASSWORD };
 }
 
 /** Marks a signed-up address as confirmed, as opening the confirmation link would. */
