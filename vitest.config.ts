@@ -4,7 +4,7 @@
  *
  * `npm test` runs vitest twice (scripts/test.ts sets TEST_FILE_SET): first the `parallel` set — the unit files and the
  * integration files in PARALLEL_INTEGRATION, which make all their own data and change nothing another file reads —
- * two files at a time; then the `serial` set — every other integration file and the e2e files — one at a time.
+ * and the e2e files in PARALLEL_E2E — two files at a time; then the `serial` set — every other file — one at a time.
  * Without TEST_FILE_SET (vitest run directly) every file runs one at a time, as before. Any order works
  * (`npm test -- --sequence.shuffle.files`). Decision record 0415.
  */
@@ -34,6 +34,14 @@ export const PARALLEL_INTEGRATION = [
   'roles-and-api',
   'upkeep-reminders',
 ].map((name) => `tests/integration/${name}.test.ts`);
+
+/**
+ * Browser files that may run beside the parallel set: each works on a machine of its own or only reads screens, and
+ * asserts nothing that a concurrent file's rows could change (the Floor's or a list's length, a report's total, the
+ * sign-in page, which accounts.test.ts turns institution-only for a moment). The journeys that change rules, prices,
+ * the site, a demo laser, or book the demo people stay serial.
+ */
+export const PARALLEL_E2E = ['accessibility', 'machine-page', 'phone-width', 'qr-offline', 'safety-gate'].map((name) => `tests/e2e/${name}.spec.ts`);
 
 const fileSet = process.env.TEST_FILE_SET as 'parallel' | 'serial' | undefined;
 /** The files of a project in this pass: all of them (no set), only the parallel ones, or the rest. */
@@ -71,7 +79,7 @@ export default defineConfig({
         resolve,
         test: {
           name: 'e2e',
-          ...inSet(['tests/e2e/**/*.spec.ts'], []),
+          ...inSet(['tests/e2e/**/*.spec.ts'], PARALLEL_E2E),
           environment: 'node',
           // one Chromium for the whole run; each file connects to it and closes its own contexts
           globalSetup: ['tests/support/browser-server.ts'],
