@@ -38,7 +38,8 @@ export const PARALLEL_INTEGRATION = [
 /**
  * Browser files that may run beside the parallel set: each works on a machine of its own or only reads screens, and
  * asserts nothing that a concurrent file's rows could change (the Floor's or a list's length, a report's total, the
- * sign-in page, which accounts.test.ts turns institution-only for a moment). The journeys that change rules, prices,
+ * sign-in page, which accounts.test.ts turns institution-only for a moment), and none clears the request counters
+ * (clearSignInLimits), which accounts.test.ts counts up to a 429. The journeys that change rules, prices,
  * the site, a demo laser, or book the demo people stay serial.
  */
 export const PARALLEL_E2E = ['accessibility', 'machine-page', 'phone-width', 'qr-offline', 'safety-gate'].map((name) => `tests/e2e/${name}.spec.ts`);

@@ -7,7 +7,7 @@ import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
 import { axe } from '../support/axe';
-import { clearSignInLimits, closeTestDb } from '../support/db';
+import { closeTestDb } from '../support/db';
 import type { DemoPerson } from '../support/env';
 
 
@@ -35,7 +35,6 @@ beforeAll(async () => {
 });
 afterAll(async () => {
   await browser?.close();
-  await clearSignInLimits();
   await closeTestDb();
 });
 

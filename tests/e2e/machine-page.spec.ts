@@ -11,7 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
 import { checkBothWidths } from '../support/axe';
 import { Client, body } from '../support/client';
-import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { closeTestDb, testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 
 
@@ -27,7 +27,6 @@ beforeAll(async () => {
 afterAll(async () => {
   await retireTestMachine(admin, machine);
   await browser?.close();
-  await clearSignInLimits();
   await closeTestDb();
 });
 

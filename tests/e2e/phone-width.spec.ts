@@ -9,7 +9,7 @@ import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
 import { Client, body } from '../support/client';
-import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { closeTestDb, testDb } from '../support/db';
 import { navFor } from '../../src/lib/nav';
 import type { Role } from '../../src/lib/roles';
 
@@ -39,7 +39,6 @@ beforeAll(async () => {
 afterAll(async () => {
   if (longMachine) await admin.send('POST', `/api/machines/${longMachine.id}/retire`, { reason: 'Test machine for the phone-width check, no longer needed.' });
   await browser?.close();
-  await clearSignInLimits();
   await closeTestDb();
 });
 

@@ -12,7 +12,7 @@ import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { PHONE, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
 import { Client } from '../support/client';
-import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { closeTestDb, testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { APP_URL } from '../support/env';
 
@@ -28,7 +28,6 @@ beforeAll(async () => {
 afterAll(async () => {
   await retireTestMachine(admin, machine);
   await browser?.close();
-  await clearSignInLimits();
   await closeTestDb();
 });
 

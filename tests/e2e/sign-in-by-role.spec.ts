@@ -81,7 +81,7 @@ describe('signing in as each role', () => {
       await shot(page, `floor-${label}`);
       await page.goto('/admin/people');
       await hydrated(page);
-      await page.getByRole('searchbox').fill('newbie');
+      await page.getByRole('searchbox').fill('newbie@tidewater');
       const row = page.getByRole('row').filter({ hasText: 'newbie@tidewater.example' });
       await row.waitFor();
       // the search is applied as the admin types (debounced): the table narrows to the one match

@@ -45,7 +45,7 @@ beforeAll(async () => {
   stewardP = await newPerson('faults-keeper', { roles: ['steward'], clearedFor: codes });
   member = memberP.client;
   steward = stewardP.client;
-  newbie = (await newPerson('faults-newbie')).client;
+  newbie = (await newPerson('faults-uncleared')).client;
 });
 
 afterAll(async () => {

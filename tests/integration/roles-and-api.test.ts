@@ -72,7 +72,7 @@ describe('admins and the People screen', () => {
     const all = await body(await c.get('/api/people?pageSize=2&page=1'));
     expect(all.total).toBeGreaterThanOrEqual(6);
     expect(all.rows).toHaveLength(2);
-    const found = await body(await c.get('/api/people?q=steward'));
+    const found = await body(await c.get('/api/people?q=steward%40tidewater'));
     expect(found.rows.map((r: any) => r.email)).toEqual([DEMO.steward]);
   });
 
