@@ -177,10 +177,14 @@ export interface LockedMachine {
 /**
  * The one machine lock, in the caller's transaction. FOR UPDATE to change the machine (its status, retiring it): a
  * booking being made holds the row FOR SHARE, so it either commits first (and is bumped or cancelled by the change)
- * or waits and then sees the change. FOR SHARE to book or check in on it. Null when no machine has the id.
+ * or waits and then sees the change. FOR SHARE to book or check in on it (bookings/gate.ts lockForBooking). Null when
+ * no machine has the id. `alsoInStatement` is a select expression run by the same statement, after the row lock.
  */
-export async function lockMachine(trx: Knex.Transaction, id: string, mode: 'update' | 'share' = 'update'): Promise<LockedMachine | null> {
+export async function lockMachine(trx: Knex.Transaction, id: string, mode: 'update' | 'share' = 'update', alsoInStatement?: Knex.Raw): Promise<LockedMachine | null> {
   const q = trx('machines').where({ id });
-  const row = await (mode === 'share' ? q.forShare() : q.forUpdate()).first('id', 'code', 'name', 'status', 'retired_at');
+  const columns: (string | Knex.Raw)[] = ['id', 'code', 'name', 'status', 'retired_at'];
+  // e.g. the booking gate's per-person advisory lock, taken in the same round trip
+  if (alsoInStatement) columns.push(alsoInStatement);
+  const row = await (mode === 'share' ? q.forShare() : q.forUpdate()).first(...columns);
   return row ? { id: row.id, code: row.code, name: row.name, status: row.status, retiredAt: row.retired_at } : null;
 }

@@ -6,7 +6,7 @@ import { DomainError } from '@lib/server/errors';
 import { canOperate } from '@lib/server/clearances/state';
 import { checkRequest, occupiedUntil } from '@lib/availability';
 import type { Actor, Booking, MachineRow, Row } from './records';
-import { assertFree, insertBooking, lockMachine, outOfService, ruleContext } from './gate';
+import { assertFree, insertBooking, lockForBooking, outOfService, ruleContext } from './gate';
 import { raiseSequence, sendConfirmation } from './messages';
 import { offerFreedTime } from './waitlist';
 
@@ -27,7 +27,7 @@ type ClassTime = { machineId: string; startsAt: Date; endsAt: Date; courseName: 
  * (the caller's own checks, in this order), the rules (opening hours, the grid, closures), free time and the insert.
  */
 async function placeClassTime(trx: Knex.Transaction, actorId: string, input: ClassTime, now: Date, beforeRules?: (machine: MachineRow) => Promise<void>) {
-  const machine = await lockMachine(trx, input.machineId);
+  const machine = await lockForBooking(trx, input.machineId);
   if (machine.status === 'out of service') throw outOfService(machine);
   if (beforeRules) await beforeRules(machine);
   const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);

@@ -7,7 +7,7 @@ import { checkDeclaredMaterials } from '@lib/server/materials';
 import { recordPaymentIntent } from '@lib/server/payment-intents';
 import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '@lib/availability';
 import type { Actor, Booking, BookingInput } from './records';
-import { clashAndUse, insertBooking, lockMachine, outOfService, ruleContext, slotTaken } from './gate';
+import { clashAndUse, insertBooking, lockForBooking, outOfService, ruleContext, slotTaken } from './gate';
 import { sendConfirmation } from './messages';
 
 /**
@@ -24,7 +24,7 @@ export async function createBooking(actor: Actor, input: BookingInput, now = new
 async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<Booking> {
   return transaction(async (trx) => {
     // the machine's row lock and the person's lock in one statement (the quota reads below come after it)
-    const machine = await lockMachine(trx, input.machineId, actor.id);
+    const machine = await lockForBooking(trx, input.machineId, actor.id);
     if (machine.status === 'out of service') throw outOfService(machine);
     const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
     if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);

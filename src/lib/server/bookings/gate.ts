@@ -8,20 +8,20 @@ import { db, pgCode, PG } from '@lib/server/db';
 import { DomainError } from '@lib/server/errors';
 import { getRules, listClosures } from '@lib/server/booking-rules';
 import { getSettings } from '@lib/server/settings';
+import { lockMachine } from '@lib/server/machines';
 import type { Tier } from '@lib/vocabulary';
 import { localWeek } from '@lib/availability';
 import { ACTIVE_STATES, QUOTA_STATES, toBooking, type Booking, type Conn, type MachineRow, type Row } from './records';
 
 /**
- * Locks the machine row FOR SHARE: a concurrent status change (out of service) waits for this booking, or this
- * booking sees it. With `personId`, the same statement also takes that person's advisory lock (lockPerson), so the
- * statements after it see every booking the person's other requests committed.
+ * The machine lock of machines.ts, FOR SHARE, for a new booking: a concurrent status change (out of service) or
+ * retirement waits for this booking, or this booking sees it. With `personId`, the same statement also takes that
+ * person's advisory lock (lockPerson), so the statements after it see every booking the person's other requests
+ * committed. A retired machine is not found.
  */
-export async function lockMachine(trx: Knex.Transaction, machineId: string, personId?: string): Promise<MachineRow> {
-  const columns: (string | Knex.Raw)[] = ['id', 'name', 'code', 'status'];
-  if (personId) columns.push(trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock`, [personId]));
-  const m = (await trx('machines').where({ id: machineId }).whereNull('retired_at').forShare().first(...columns)) as MachineRow | undefined;
-  if (!m) throw new DomainError('not_found', 'not_found', 'No such machine.');
+export async function lockForBooking(trx: Knex.Transaction, machineId: string, personId?: string): Promise<MachineRow> {
+  const m = await lockMachine(trx, machineId, 'share', personId ? trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock`, [personId]) : undefined);
+  if (!m || m.retiredAt) throw new DomainError('not_found', 'not_found', 'No such machine.');
   return { id: m.id, name: m.name, code: m.code, status: m.status };
 }
 

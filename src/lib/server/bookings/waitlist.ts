@@ -10,12 +10,12 @@ import { queueMail } from '@lib/server/mail';
 import { env } from '@lib/server/env';
 import { checkQuota, checkRequest, minutesBetween, occupiedUntil, type Interval } from '@lib/availability';
 import { hashToken, HOLD_MINUTES, toBooking, type Actor, type Booking, type Row } from './records';
-import { assertFree, insertBooking, lockMachine, lockPerson, outOfService, ruleContext, siteSettings, weeklyMinutes } from './gate';
+import { assertFree, insertBooking, lockForBooking, lockPerson, outOfService, ruleContext, siteSettings, weeklyMinutes } from './gate';
 import { formatRange, sendConfirmation } from './messages';
 
 export async function joinWaitlist(actor: Actor, input: { machineId: string; startsAt: Date; endsAt: Date }, now = new Date()) {
   return transaction(async (trx) => {
-    const machine = await lockMachine(trx, input.machineId);
+    const machine = await lockForBooking(trx, input.machineId);
     const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
     if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
     const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
@@ -96,7 +96,7 @@ export async function claimWaitlist(actor: Actor, token: string, now = new Date(
     if (!hold || hold.state !== 'reserved' || hold.kind !== 'hold' || (hold.hold_expires_at && hold.hold_expires_at < now)) {
       throw new DomainError('conflict', 'claim_expired', 'The 15 minutes to claim this time have passed.');
     }
-    const machine = await lockMachine(trx, e.machine_id);
+    const machine = await lockForBooking(trx, e.machine_id);
     if (machine.status === 'out of service') throw outOfService(machine);
     const verdict = await canOperate(actor.id, machine.id, hold.starts_at, trx);
     if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
