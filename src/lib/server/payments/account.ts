@@ -75,9 +75,22 @@ export async function rechargeCsv(month: string, costCentre?: string): Promise<{
 /** What the person sees of a booking's card hold just after booking. */
 export async function bookingHoldNotice(bookingId: string, personId: string, refusal: DomainError | null): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
   if (refusal?.code === 'not_priced') return { state: 'none', notice: 'This machine has no price for your tier yet, so nothing is held now; your booking stands.' };
-  const c = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at', 'desc').first('state', 'failure_message');
+  // in one statement: the booking's newest beam-time charge, and what accountSummary would say of a saved card and
+  // of recharge (a cost centre and a tier recharged by the price version in force now)
+  const { rows } = await db().raw(
+    `SELECT c.state, c.failure_message,
+            EXISTS (SELECT 1 FROM payment_customers pc WHERE pc.person_id = p.id AND pc.card_source_id IS NOT NULL) AS card,
+            (coalesce(p.cost_centre, '') <> '' AND p.tier = ANY(coalesce((SELECT v.recharge_tiers FROM price_versions v WHERE v.effective_from <= now()
+                                                                           ORDER BY v.effective_from DESC LIMIT 1), '{}'))) AS recharge
+     FROM people p
+     LEFT JOIN LATERAL (SELECT state, failure_message FROM charges WHERE booking_id = ? AND kind = 'beam_time' ORDER BY created_at DESC LIMIT 1) c ON true
+     WHERE p.id = ?`,
+    [bookingId, personId],
+  );
+  const r = rows[0] as { state: string | null; failure_message: string | null; card: boolean; recharge: boolean } | undefined;
+  const c = r?.state ? { state: r.state, failure_message: r.failure_message } : undefined;
   if (!c) {
-    const summary = await accountSummary(personId);
+    const summary = r ?? (await accountSummary(personId)); // (no such person: accountSummary answers not_found, as before)
     if (!summary.card && !summary.recharge) {
       return { state: 'none', notice: 'No card is saved on your account, so nothing is held now: beam time is charged at check-out. Save a card on the Account screen to pay by card.' };
     }
