@@ -45,13 +45,14 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
   // its last week from that week's start, and whole weeks between. The sums are exact (interval and numeric
   // arithmetic), so the minutes equal clipping every booking to every week it overlaps.
   // Bookings are found as those starting in the period plus those running into its start (the range index).
+  // `w` NOT MATERIALIZED: its arrays become plain parameters, so the plan may scan and sum in parallel workers.
   const starts = weeks.map((w) => w.start);
   const ends = weeks.map((w) => w.end);
   const lastEnd = ends[ends.length - 1]!;
   const from = scope.period.start;
   const states = [...BOOKED_STATES];
   const measured = await db().raw(
-    `WITH w AS (SELECT ?::timestamptz[] AS starts, ?::timestamptz[] AS ends),
+    `WITH w AS NOT MATERIALIZED (SELECT ?::timestamptz[] AS starts, ?::timestamptz[] AS ends),
      picked AS (
        SELECT b.machine_id, b.starts_at, b.ends_at FROM bookings b
        WHERE b.machine_id = ANY(?::uuid[]) AND b.state = ANY(?::text[]) AND b.kind <> 'hold' AND b.starts_at >= ? AND b.starts_at < ?
@@ -125,6 +126,8 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
     }
     return open;
   };
+  const weekStarts = new Map(weeks.map((w) => [w.start.getTime(), zonedDate(w.start, scope.timeZone)]));
+  const weekStartOf = (d: Date) => weekStarts.get(d.getTime()) ?? zonedDate(d, scope.timeZone);
   const rows: UtilisationRow[] = cells.map((c) => {
     const open = openMinutesOf(c);
     const m = byCell.get(`${c.machineId} ${weekIndex.get(c.start.getTime())}`) ?? { booked: 0, beam: 0 };
@@ -134,7 +137,7 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
     return {
       machine_id: c.machineId,
       machine: name.get(c.machineId) ?? '',
-      week_start: zonedDate(c.start, scope.timeZone),
+      week_start: weekStartOf(c.start),
       open_minutes: openMinutes,
       booked_minutes: booked,
       beam_minutes: beam,
