@@ -84,6 +84,12 @@ export interface HoldFacts {
   /** a failed payment on the account (what assertCanBook refuses) */
   failed: boolean;
   tier: Tier;
+  /** the price version in force at the booking's start (null: none), its currency, the site's (null: no settings row) */
+  version_id: string | null;
+  version_currency: string | null;
+  site_currency: string | null;
+  /** that version has a rate for the booking's machine and the person's tier */
+  has_rate: boolean;
 }
 
 /** HoldFacts in one statement; undefined when there is no such person. */
@@ -93,11 +99,15 @@ export async function holdFacts(bookingId: string, personId: string): Promise<Ho
             EXISTS (SELECT 1 FROM payment_customers pc WHERE pc.person_id = p.id AND pc.card_source_id IS NOT NULL) AS card,
             (coalesce(p.cost_centre, '') <> '' AND p.tier = ANY(coalesce((SELECT v.recharge_tiers FROM price_versions v WHERE v.effective_from <= now()
                                                                            ORDER BY v.effective_from DESC LIMIT 1), '{}'))) AS recharge,
-            EXISTS (SELECT 1 FROM charges f WHERE f.person_id = p.id AND f.state = 'payment failed') AS failed
+            EXISTS (SELECT 1 FROM charges f WHERE f.person_id = p.id AND f.state = 'payment failed') AS failed,
+            v.id AS version_id, v.currency AS version_currency, (SELECT s.currency FROM site_settings s WHERE s.id = 1) AS site_currency,
+            EXISTS (SELECT 1 FROM price_rates r WHERE r.version_id = v.id AND r.machine_id = b.machine_id AND r.tier = p.tier) AS has_rate
      FROM people p
      LEFT JOIN LATERAL (SELECT state, failure_message FROM charges WHERE booking_id = ? AND kind = 'beam_time' ORDER BY created_at DESC LIMIT 1) c ON true
+     LEFT JOIN bookings b ON b.id = ?
+     LEFT JOIN LATERAL (SELECT id, currency FROM price_versions WHERE effective_from <= b.starts_at ORDER BY effective_from DESC LIMIT 1) v ON true
      WHERE p.id = ?`,
-    [bookingId, personId],
+    [bookingId, bookingId, personId],
   );
   return rows[0] as HoldFacts | undefined;
 }

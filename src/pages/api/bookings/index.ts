@@ -41,6 +41,6 @@ export const POST = route(async ({ locals, request }) => {
   const input = await readJson(request, createBody);
   await assertCanBook(person.id);
   const booking = await createBooking(person, input);
-  const hold = await holdAtBooking({ id: booking.id, personId: person.id, machineId: booking.machineId, startsAt: booking.startsAt, endsAt: booking.endsAt });
+  const hold = await holdAtBooking({ id: booking.id, personId: person.id });
   return json({ ...booking, payment: { state: hold.state }, paymentNotice: hold.notice }, 201);
 });
