@@ -90,7 +90,7 @@ async function schedules(boss: PgBoss): Promise<void> {
  * steward) would queue for minutes. Mail gets several loops (jobs are fetched with SKIP LOCKED, so none is sent twice);
  * each loop takes one job at a time, so a failed send retries that message alone.
  */
-const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4, 'booking.confirm': 4, 'payments.intent': 2 };
+const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4, 'booking.confirm': 2, 'payments.intent': 2 };
 
 export async function startWorker(): Promise<PgBoss> {
   const boss = await installQueues(env().DATABASE_URL);
