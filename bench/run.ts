@@ -127,8 +127,10 @@ const slot = (base: number, k: number) => {
   const startsAt = new Date(base + Math.floor(k / 3) * 30 * 60_000);
   return { machineId: machines[k % 3]!, startsAt, endsAt: new Date(startsAt.getTime() + 15 * 60_000) };
 };
-// past the demo seed's bookings (up to 7 days ahead), so no request meets a seeded slot
-const baseApi = Math.ceil(Date.now() / HOUR) * HOUR + 8 * 24 * HOUR;
+// past the demo seed's bookings (most up to 7 days ahead; the induction class block on Laser C 8–10 days ahead took
+// four of the bench's slots, answered 409 slot_taken), so no request meets a seeded slot
+const seededUntil = (await q(`SELECT max(occupied_until) AS t FROM bookings WHERE occupied_until > now() AND person_id NOT IN (SELECT id FROM people WHERE email LIKE 'bench%')`)).rows[0]?.t as Date | null;
+const baseApi = Math.max(Math.ceil(Date.now() / HOUR) * HOUR + 8 * 24 * HOUR, seededUntil ? Math.ceil(seededUntil.getTime() / HOUR) * HOUR : 0);
 const baseSql = baseApi + 120 * 24 * HOUR;
 
 // --- 1. booking creation: API under autocannon -------------------------------------------------------------

@@ -16,6 +16,8 @@ import { newPerson, type TestPerson } from '../support/people';
 import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { expectError } from '../support/api-error';
 import { waitUntil } from '../support/wait';
+import { createTestMachine, retireTestMachine } from '../support/machine';
+import { clearedNew } from '../support/people';
 
 let admin: Client;
 let member: Client;
@@ -89,6 +91,22 @@ describe('billing at booking', () => {
     // this person has no saved card: the booking stands, beam time is charged at check-out, and the answer says so
     expect(b.paymentNotice).toMatch(/check-out/);
     expect(await testDb()('charges').where({ booking_id: b.id }).first()).toBeUndefined();
+  });
+
+  it('on a machine with no price for the tier (and no saved card) the booking stands and the answer says nothing is held', async () => {
+    const m = await createTestMachine(admin, 'noprice'); // a new machine: no rate in the price version in force
+    try {
+      await setTestRules(admin, m.id);
+      const who = await clearedNew('noprice', [m.code]);
+      const res = await book(who.client, m.id, siteTime(D, 12), siteTime(D, 13));
+      const b = await body(res);
+      expect(res.status, JSON.stringify(b)).toBe(201);
+      expect(b.payment).toEqual({ state: 'none' });
+      expect(b.paymentNotice).toMatch(/no price for your tier/);
+      expect(await testDb()('charges').where({ booking_id: b.id }).first()).toBeUndefined();
+    } finally {
+      await retireTestMachine(admin, m);
+    }
   });
 
   it('with a saved card the estimate is held; an in-time cancel releases the hold and charges no fee', async () => {

@@ -163,6 +163,30 @@ describe('utilisation', () => {
     expect(r.rows.map((x: any) => x.open_minutes)).toEqual([1200, 960]);
     expect(r.rows[0].booked_minutes).toBe(60); // only Friday's booking falls from Wednesday on
   });
+
+  it('splits bookings that cross a week boundary or the period\'s edges into the weeks they overlap', async () => {
+    // April 2026, after the daylight-saving change: Wed 8 to Tue 21 April → weeks from 04-08 (Wed–Sun), 04-13, 04-20 (Mon–Tue)
+    const apr = (day: number, hour: number, minute = 0) => localToInstant(2026, 4, day, hour * 60 + minute, tz);
+    const row = (start: Date, end: Date, state = 'completed') => ({
+      machine_id: machineId, person_id: ids.member, kind: 'personal', state, starts_at: start, ends_at: end, occupied_until: end,
+      cancelled_at: state === 'cancelled' ? start : null,
+    });
+    await testDb()('bookings').insert([
+      row(apr(7, 22), apr(8, 2)), // runs into the period's start: 120 in the first week
+      row(apr(12, 23), apr(13, 1, 30)), // Sunday into Monday: 60 + 90
+      row(apr(12, 22), apr(13, 0, 30)), // the same weeks: 120 + 30
+      row(apr(11, 12), apr(20, 6)), // Saturday noon to a week Monday 06:00: 36 h + 7 days + 6 h
+      row(apr(15, 10), apr(15, 11)), // inside the middle week: 60
+      row(apr(21, 23), apr(22, 1)), // runs past the period's end: 60 in the last week
+      row(apr(7, 10), apr(7, 11)), // before the period: not counted
+      row(apr(16, 10), apr(16, 11), 'cancelled'), // cancelled: not counted
+    ]);
+    const r = await report('utilisation', `from=2026-04-08&to=2026-04-21&machineId=${machineId}`);
+    expect(r.rows.map((x: any) => x.week_start)).toEqual(['2026-04-08', '2026-04-13', '2026-04-20']);
+    // by hand: 120 + 60 + 120 + 2160 (Sat 12:00 → Mon 00:00); 90 + 30 + 10 080 (a whole week) + 60; 360 + 60
+    expect(r.rows.map((x: any) => x.booked_minutes)).toEqual([2460, 10_260, 420]);
+    expect(r.totals.bookedMinutes).toBe(2460 + 10_260 + 420);
+  });
 });
 
 describe('revenue and recharge', () => {

@@ -17,17 +17,40 @@ type RulesRow = { n: number; hours: WeeklyHours[] | null; quotas: { tier: Tier; 
 
 /** The rules of each of these machines (defaults where a machine has none), in one statement. */
 export async function getRulesOf(machineIds: readonly string[], trx: Conn = db()): Promise<Map<string, MachineRules>> {
+  return (await rulesAndClosuresOf(machineIds, trx)).rules;
+}
+
+/**
+ * A machine's rules and its closures (and the whole site's) overlapping [from, to), in one statement: what a new
+ * booking is checked against (getRules and listClosures answer the same).
+ */
+export async function getRulesAndClosures(machineId: string, from: Date, to: Date, trx: Conn = db()): Promise<{ rules: MachineRules; closures: ClosureRow[] }> {
+  const r = await rulesAndClosuresOf([machineId], trx, { from, to });
+  return { rules: r.rules.get(machineId)!, closures: r.closures.get(machineId) ?? [] };
+}
+
+async function rulesAndClosuresOf(machineIds: readonly string[], trx: Conn, window?: { from: Date; to: Date }) {
   const out = new Map<string, MachineRules>();
-  if (!machineIds.length) return out;
+  const closuresOf = new Map<string, ClosureRow[]>();
+  if (!machineIds.length) return { rules: out, closures: closuresOf };
+  // closures in listClosures' order (by start); their times come as ISO text from json and are turned into Dates below
+  const closureColumn = window
+    ? `, (SELECT json_agg(json_build_object('id', c.id, 'machineId', c.machine_id, 'startsAt', c.starts_at, 'endsAt', c.ends_at, 'reason', c.reason) ORDER BY c.starts_at)
+          FROM closures c WHERE c.starts_at < ? AND c.ends_at > ? AND (c.machine_id = m.id OR c.machine_id IS NULL)) AS closures`
+    : '';
   const { rows } = await trx.raw(
     `SELECT m.n, r.slot_minutes, r.min_minutes, r.max_minutes, r.buffer_minutes, r.lead_minutes, r.horizon_days, r.cancel_cutoff_minutes,
        (SELECT json_agg(json_build_object('weekday', h.weekday, 'opensMinute', h.opens_minute, 'closesMinute', h.closes_minute) ORDER BY h.weekday, h.opens_minute)
           FROM opening_hours h WHERE h.machine_id = m.id) AS hours,
        (SELECT json_agg(json_build_object('tier', q.tier, 'minutes', q.weekly_minutes)) FROM machine_tier_quotas q WHERE q.machine_id = m.id) AS quotas
+       ${closureColumn}
      FROM unnest(?::uuid[]) WITH ORDINALITY AS m(id, n) LEFT JOIN machine_booking_rules r ON r.machine_id = m.id`,
-    [[...machineIds]],
+    window ? [window.to, window.from, [...machineIds]] : [[...machineIds]],
   );
-  for (const row of rows as RulesRow[]) {
+  for (const row of rows as (RulesRow & { closures?: { id: string; machineId: string | null; startsAt: string; endsAt: string; reason: string }[] | null })[]) {
+    if (window) {
+      closuresOf.set(machineIds[Number(row.n) - 1]!, (row.closures ?? []).map((c) => ({ id: c.id, machineId: c.machineId, startsAt: new Date(c.startsAt), endsAt: new Date(c.endsAt), reason: c.reason })));
+    }
     const quotas = Object.fromEntries(TIERS.map((t) => [t, null])) as Record<Tier, number | null>;
     for (const q of row.quotas ?? []) quotas[q.tier] = q.minutes;
     // keyed by the id as the caller wrote it
@@ -45,7 +68,7 @@ export async function getRulesOf(machineIds: readonly string[], trx: Conn = db()
       hours: row.hours ?? [],
     });
   }
-  return out;
+  return { rules: out, closures: closuresOf };
 }
 
 export interface RulesInput extends BookingRules {

@@ -11,6 +11,8 @@ import { log, onShutdown } from './log';
 /** Every queue, with its retry policy. Add a queue here, then its handler in src/lib/server/worker.ts. */
 export const QUEUES = {
   'mail.send': { retryLimit: 30, retryDelay: 10, retryBackoff: true, expireInSeconds: 300 },
+  // a new booking's confirmation, built and sent by the worker (a mail server that refuses it hands it to mail.send)
+  'booking.confirm': { retryLimit: 30, retryDelay: 10, retryBackoff: true, expireInSeconds: 300 },
   // a charge the payment provider could not take yet: retried every 5 s for an hour with the same idempotency key
   'payments.retry': { retryLimit: 720, retryDelay: 5, retryBackoff: false, expireInSeconds: 120 },
   // every provider call (hold, release, capture, fee, refund), recorded with the change that asked for it

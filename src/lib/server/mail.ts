@@ -26,9 +26,13 @@ export interface MailMessage {
 
 /** Queue a message built from the shared layout (HTML and plain text). */
 export async function queueMail(trx: Knex.Transaction | null, to: string, subject: string, content: EmailContent, attachments?: MailAttachment[]): Promise<void> {
+  await enqueue(trx, 'mail.send', renderedMail(to, subject, content, attachments));
+}
+
+/** The message queueMail queues: the house layout rendered to HTML and text. */
+export function renderedMail(to: string, subject: string, content: EmailContent, attachments?: MailAttachment[]): MailMessage {
   const { html, text } = renderEmail(subject, content);
-  const message: MailMessage = { to, subject, html, text, ...(attachments ? { attachments } : {}) };
-  await enqueue(trx, 'mail.send', message);
+  return { to, subject, html, text, ...(attachments ? { attachments } : {}) };
 }
 
 let transport: Transporter | undefined;

@@ -9,7 +9,7 @@ import { db, pgCode, PG, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
 import { startOfZonedDay, zonedDayBounds } from '@lib/time';
-import { getSettings } from './settings';
+import { getSettings, type SiteSettings } from './settings';
 import { PricingError, percentToBp, quote, type Material, type MinimumRule, type PriceTable, type PriceVersion, type Quote, type QuoteInput, type TaxMode, type VersionTerms } from '@lib/pricing';
 
 export type { PriceVersion } from '@lib/pricing';
@@ -58,14 +58,14 @@ export interface SiteTax {
   currency: string;
 }
 
-export async function siteTax(trx: Conn = db()): Promise<SiteTax> {
-  const s = await getSettings(trx);
+export async function siteTax(trx: Conn = db(), known?: SiteSettings): Promise<SiteTax> {
+  const s = known ?? (await getSettings(trx));
   return { taxMode: s.pricesIncludeTax ? 'inclusive' : 'exclusive', taxRateBp: percentToBp(s.taxRatePercent), currency: s.currency };
 }
 
 /** The site's tax for pricing `v`; refused (409) when the version's amounts are in another currency than the site's. */
-async function taxFor(v: PriceVersion, trx: Conn): Promise<SiteTax> {
-  const tax = await siteTax(trx);
+async function taxFor(v: PriceVersion, trx: Conn, known?: SiteSettings): Promise<SiteTax> {
+  const tax = await siteTax(trx, known);
   if (v.currency !== tax.currency) {
     throw new DomainError('conflict', 'no_prices', `The price version in force is in ${v.currency} but the site's currency is ${tax.currency}; an admin makes a new price version on the Pricing screen.`);
   }
@@ -127,8 +127,8 @@ export async function priceFor(machineId: string, tier: Tier, startedAt: Date, t
 }
 
 /** Beam time already charged to a person on the site-local day of `at` (counts toward the daily cap). */
-export async function beamTimeChargedOnDay(personId: string, at: Date, trx: Conn = db()): Promise<number> {
-  const { timeZone } = await getSettings();
+export async function beamTimeChargedOnDay(personId: string, at: Date, trx: Conn = db(), known?: SiteSettings): Promise<number> {
+  const { timeZone } = known ?? (await getSettings());
   const { from, to } = zonedDayBounds(at, timeZone);
   const row = await trx('charges')
     .where({ person_id: personId, kind: 'beam_time' })
@@ -165,6 +165,7 @@ export async function quoteFor(req: QuoteRequest, trx: Conn = db()): Promise<Pri
   const v = await requireVersionAt(at, trx);
   const machine = await trx('machines').where({ id: req.machineId }).first('name');
   if (!machine) throw new DomainError('not_found', 'not_found', 'No machine has that id.');
+  const settings = await getSettings(trx); // read once: the day of the daily cap and the tax
   const input: QuoteInput = {
     machineId: req.machineId,
     machineName: machine.name,
@@ -174,10 +175,10 @@ export async function quoteFor(req: QuoteRequest, trx: Conn = db()): Promise<Pri
     lateCancellation: req.lateCancellation,
     noShow: req.noShow,
     checkedIn: req.checkedIn,
-    alreadyChargedTodayMinor: req.personId ? await beamTimeChargedOnDay(req.personId, at, trx) : 0,
+    alreadyChargedTodayMinor: req.personId ? await beamTimeChargedOnDay(req.personId, at, trx, settings) : 0,
   };
   try {
-    const q = quote(toTable(v, await taxFor(v, trx)), input);
+    const q = quote(toTable(v, await taxFor(v, trx, settings)), input);
     return { ...q, priceVersionId: v.id, effectiveFrom: v.effectiveFrom, minimumRule: v.minimumRule, rechargeTiers: v.rechargeTiers };
   } catch (err) {
     if (err instanceof PricingError) throw new DomainError('invalid', err.code, err.message);

@@ -45,13 +45,36 @@ export function sessionTokenOf(request: Request): { token: string; salt: string 
   return { token: chunks.map((c) => c[1]).join(''), salt };
 }
 
+type Payload = { sub?: unknown; epoch?: unknown; exp?: unknown } | null;
+
+/**
+ * Decoded tokens, by salt and token, for a minute (never past the token's own expiry): a browser sends the same
+ * cookie with every request, and each decode derives the key again (HKDF) and decrypts. The payload is a pure
+ * function of the token and the secret; the person, their roles and the session epoch are read fresh every time.
+ */
+const decoded = new Map<string, { payload: Payload; until: number }>();
+const DECODED_MS = 60_000;
+const DECODED_MAX = 2000;
+
+async function decodeToken(token: string, salt: string): Promise<Payload> {
+  const key = `${salt} ${token}`;
+  const now = Date.now();
+  const hit = decoded.get(key);
+  if (hit && hit.until > now) return hit.payload;
+  // checks the token's expiry too (Auth.js's 15 s clock tolerance); throws for a broken or expired token
+  const payload = (await decode({ token, secret: env().AUTH_SECRET, salt })) as Payload;
+  const exp = typeof payload?.exp === 'number' ? payload.exp * 1000 : now;
+  if (decoded.size >= DECODED_MAX) decoded.clear();
+  decoded.set(key, { payload, until: Math.min(now + DECODED_MS, exp) });
+  return payload;
+}
+
 export async function resolvePerson(request: Request): Promise<SignedInPerson | null> {
   const found = sessionTokenOf(request);
   if (!found) return null;
-  let payload: { sub?: unknown; epoch?: unknown } | null;
+  let payload: Payload;
   try {
-    // checks the token's expiry too (Auth.js's 15 s clock tolerance)
-    payload = await decode({ token: found.token, secret: env().AUTH_SECRET, salt: found.salt });
+    payload = await decodeToken(found.token, found.salt);
   } catch {
     return null;
   }

@@ -37,24 +37,48 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
   ]);
   const cells: { machineId: string; start: Date; end: Date }[] = [];
   for (const m of machines) for (const w of weeks) cells.push({ machineId: m.id, start: w.start, end: w.end });
-  // One pass over the period's bookings and sessions (not one probe per machine and week): each booking is split
-  // into the weeks it overlaps — width_bucket finds the week of its (clipped) start and end among the week starts,
-  // which are contiguous from the period's start to its end — and its minutes in each are summed per machine and week.
+  // One pass over the period's bookings and sessions (not one probe per machine and week). Each booking is clipped to
+  // the period and placed by width_bucket among the week starts (contiguous from the period's start to its end): k1
+  // the week of its start, k2 the week of its end. Bookings are first summed per machine, k1 and k2 (count, and their
+  // clipped starts and ends as offsets from the period's start), and only those few groups are spread over their
+  // weeks: a group within one week has (ends − starts); one crossing weeks has its first week up to that week's end,
+  // its last week from that week's start, and whole weeks between. The sums are exact (interval and numeric
+  // arithmetic), so the minutes equal clipping every booking to every week it overlaps.
+  // Bookings are found as those starting in the period plus those running into its start (the range index).
+  // `w` NOT MATERIALIZED: its arrays become plain parameters, so the plan may scan and sum in parallel workers.
   const starts = weeks.map((w) => w.start);
   const ends = weeks.map((w) => w.end);
   const lastEnd = ends[ends.length - 1]!;
+  const from = scope.period.start;
+  const states = [...BOOKED_STATES];
   const measured = await db().raw(
-    `WITH w AS (SELECT ?::timestamptz[] AS starts, ?::timestamptz[] AS ends),
+    `WITH w AS NOT MATERIALIZED (SELECT ?::timestamptz[] AS starts, ?::timestamptz[] AS ends),
+     picked AS (
+       SELECT b.machine_id, b.starts_at, b.ends_at FROM bookings b
+       WHERE b.machine_id = ANY(?::uuid[]) AND b.state = ANY(?::text[]) AND b.kind <> 'hold' AND b.starts_at >= ? AND b.starts_at < ?
+       UNION ALL
+       SELECT b.machine_id, b.starts_at, b.ends_at FROM bookings b
+       WHERE b.machine_id = ANY(?::uuid[]) AND b.state = ANY(?::text[]) AND b.kind <> 'hold' AND b.starts_at < ? AND b.ends_at > ?
+         AND tstzrange(b.starts_at, b.occupied_until, '[)') @> ?::timestamptz
+     ),
+     clipped AS (
+       SELECT p.machine_id, greatest(p.starts_at, w.starts[1]) AS s, least(p.ends_at, w.ends[cardinality(w.ends)]) AS e
+       FROM picked p CROSS JOIN w
+     ),
+     grouped AS (
+       SELECT c.machine_id, width_bucket(c.s, w.starts) AS k1, width_bucket(c.e - interval '1 microsecond', w.starts) AS k2,
+              count(*) AS n, extract(epoch FROM sum(c.s - w.starts[1])) AS s, extract(epoch FROM sum(c.e - w.starts[1])) AS e
+       FROM clipped c CROSS JOIN w
+       GROUP BY 1, 2, 3
+     ),
      booked AS (
-       SELECT b.machine_id, k.k, sum(extract(epoch FROM least(b.ends_at, w.ends[k.k]) - greatest(b.starts_at, w.starts[k.k]))) / 60 AS minutes
-       FROM bookings b
-       CROSS JOIN w
-       CROSS JOIN LATERAL generate_series(width_bucket(greatest(b.starts_at, w.starts[1]), w.starts),
-                                          width_bucket(least(b.ends_at, w.ends[cardinality(w.ends)]) - interval '1 microsecond', w.starts)) AS k(k)
-       WHERE b.machine_id = ANY(?::uuid[]) AND b.state = ANY(?::text[]) AND b.kind <> 'hold'
-         AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)')
-         AND b.starts_at < ? AND b.ends_at > ?
-       GROUP BY b.machine_id, k.k
+       SELECT g.machine_id, k.k,
+              sum(CASE WHEN g.k1 = g.k2 THEN g.e - g.s
+                       WHEN k.k = g.k1 THEN g.n * extract(epoch FROM w.ends[k.k] - w.starts[1]) - g.s
+                       WHEN k.k = g.k2 THEN g.e - g.n * extract(epoch FROM w.starts[k.k] - w.starts[1])
+                       ELSE g.n * extract(epoch FROM w.ends[k.k] - w.starts[k.k]) END) / 60 AS minutes
+       FROM grouped g CROSS JOIN w CROSS JOIN LATERAL generate_series(g.k1, g.k2) AS k(k)
+       GROUP BY 1, 2
      ),
      beam AS (
        SELECT s.machine_id, width_bucket(s.checked_in_at, w.starts) AS k, sum(s.beam_minutes) AS minutes
@@ -65,7 +89,7 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
      SELECT coalesce(booked.machine_id, beam.machine_id) AS machine_id, coalesce(booked.k, beam.k) AS k,
             coalesce(booked.minutes, 0) AS booked, coalesce(beam.minutes, 0) AS beam
      FROM booked FULL JOIN beam ON beam.machine_id = booked.machine_id AND beam.k = booked.k`,
-    [starts, ends, ids, [...BOOKED_STATES], scope.period.start, lastEnd, lastEnd, scope.period.start, ids, scope.period.start, lastEnd],
+    [starts, ends, ids, states, from, lastEnd, ids, states, from, from, from, ids, from, lastEnd],
   );
   const byCell = new Map<string, { booked: number; beam: number }>();
   for (const r of measured.rows as { machine_id: string; k: number; booked: string; beam: string }[]) {
@@ -87,10 +111,14 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
   const name = new Map(machines.map((m) => [m.id, m.name]));
   // machines with the same hours and closures have the same open minutes in a week: worked out once per week
   const openOf = new Map<string, number>();
+  const shapeOf = new Map(machines.map((m) => {
+    const hours = hoursOf.get(m.id) ?? [];
+    const closures = closuresOf(m.id);
+    return [m.id, { hours, closures, key: JSON.stringify([hours, closures]) }];
+  }));
   const openMinutesOf = (c: { machineId: string; start: Date; end: Date }): number => {
-    const hours = hoursOf.get(c.machineId) ?? [];
-    const closures = closuresOf(c.machineId);
-    const key = JSON.stringify([c.start, c.end, hours, closures]);
+    const { hours, closures, key: shape } = shapeOf.get(c.machineId)!;
+    const key = `${c.start.getTime()} ${c.end.getTime()} ${shape}`;
     let open = openOf.get(key);
     if (open === undefined) {
       open = openIntervals(c.start, c.end, scope.timeZone, hours, closures).reduce((sum, iv) => sum + minutesBetween(iv.start, iv.end), 0);
@@ -98,6 +126,8 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
     }
     return open;
   };
+  const weekStarts = new Map(weeks.map((w) => [w.start.getTime(), zonedDate(w.start, scope.timeZone)]));
+  const weekStartOf = (d: Date) => weekStarts.get(d.getTime()) ?? zonedDate(d, scope.timeZone);
   const rows: UtilisationRow[] = cells.map((c) => {
     const open = openMinutesOf(c);
     const m = byCell.get(`${c.machineId} ${weekIndex.get(c.start.getTime())}`) ?? { booked: 0, beam: 0 };
@@ -107,7 +137,7 @@ export async function utilisationReport(scope: ReportScope): Promise<Utilisation
     return {
       machine_id: c.machineId,
       machine: name.get(c.machineId) ?? '',
-      week_start: zonedDate(c.start, scope.timeZone),
+      week_start: weekStartOf(c.start),
       open_minutes: openMinutes,
       booked_minutes: booked,
       beam_minutes: beam,

@@ -11,6 +11,7 @@ import { runIntent } from './payments/intents';
 import { reconcileDaily } from './reconciliation';
 import type { PaymentIntent } from './payment-intents';
 import { sweepBookings } from './bookings/sweep';
+import { sendBookingConfirmation } from './bookings/messages';
 import { sweepClearances } from './clearances/sweep';
 import { sweepOpenSessions } from './machine-sessions';
 import { remindUpkeep } from './upkeep';
@@ -23,6 +24,7 @@ type Handler = (data: unknown, job: { retryCount: number; retryLimit: number }) 
 
 const handlers: Record<QueueName, Handler> = {
   'mail.send': async (data) => sendMailNow(data as MailMessage),
+  'booking.confirm': async (data) => sendBookingConfirmation((data as { bookingId: string }).bookingId),
   'payments.retry': async (data) => retryQueuedCharge((data as { chargeId: string }).chargeId),
   // holds, releases, captures, fees and refunds; the last attempt gives up in the open (payment failed, e-mails)
   'payments.intent': async (data, job) => runIntent(data as PaymentIntent, { final: job.retryCount >= job.retryLimit }),
@@ -88,7 +90,7 @@ async function schedules(boss: PgBoss): Promise<void> {
  * steward) would queue for minutes. Mail gets several loops (jobs are fetched with SKIP LOCKED, so none is sent twice);
  * each loop takes one job at a time, so a failed send retries that message alone.
  */
-const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4, 'payments.intent': 2 };
+const LOOPS: Partial<Record<QueueName, number>> = { 'mail.send': 4, 'booking.confirm': 2, 'payments.intent': 2 };
 
 export async function startWorker(): Promise<PgBoss> {
   const boss = await installQueues(env().DATABASE_URL);

@@ -1,4 +1,4 @@
-/** Creating a personal booking: the gate, the rules, the quota, the declared materials, the insert, the e-mail. */
+/** Creating a personal booking: the gate, the rules, the quota, the declared materials, the insert, the e-mail's job. */
 import { retryOnConflict, transaction } from '@lib/server/db';
 import { recordAudit } from '@lib/server/audit';
 import { DomainError } from '@lib/server/errors';
@@ -8,7 +8,7 @@ import { recordPaymentIntent } from '@lib/server/payment-intents';
 import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '@lib/availability';
 import type { Actor, Booking, BookingInput } from './records';
 import { clashAndUse, insertBooking, lockForBooking, outOfService, ruleContext, slotTaken } from './gate';
-import { sendConfirmation } from './messages';
+import { queueConfirmation } from './messages';
 
 /**
  * Creates a booking for `actor` (the gate, the rules, the quota, the declared materials, the insert). The card
@@ -66,7 +66,8 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
       summary: `Booked ${machine.name}`,
       after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt, materials: input.materials },
     });
-    await sendConfirmation(trx, actor.id, booking, machine, ctx.timeZone, ctx.siteName, use.person);
+    // the e-mail and its .ics are built by the worker, after the commit
+    await queueConfirmation(trx, booking.id);
     await recordPaymentIntent(trx, { kind: 'booking.hold', bookingId: booking.id });
     return booking;
   });

@@ -6,7 +6,7 @@
 import type { Knex } from 'knex';
 import { db, pgCode, PG } from '@lib/server/db';
 import { DomainError } from '@lib/server/errors';
-import { getRules, listClosures } from '@lib/server/booking-rules';
+import { getRulesAndClosures } from '@lib/server/booking-rules';
 import { getSettings } from '@lib/server/settings';
 import { lockMachine } from '@lib/server/machines';
 import type { Tier } from '@lib/vocabulary';
@@ -113,7 +113,8 @@ export async function tierAndWeeklyMinutes(personId: string, machineIds: readonl
 export const siteSettings = (trx: Conn) => getSettings(trx);
 
 export async function ruleContext(machineId: string, from: Date, to: Date, trx: Conn) {
-  const [rules, settings, closures] = await Promise.all([getRules(machineId, trx), siteSettings(trx), listClosures(machineId, from, to, trx)]);
+  // rules and closures in one statement, then the settings (on the same connection: one after the other anyway)
+  const [{ rules, closures }, settings] = await Promise.all([getRulesAndClosures(machineId, from, to, trx), siteSettings(trx)]);
   return { rules, hours: rules.hours, timeZone: settings.timeZone, siteName: settings.name, closures };
 }
 

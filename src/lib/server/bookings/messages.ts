@@ -1,11 +1,13 @@
 /** What a booking's owner is sent: the confirmation and cancellation e-mails and their calendar (.ics) files. */
 import type { Knex } from 'knex';
-import { queueMail, type MailAttachment } from '@lib/server/mail';
+import { queueMail, renderedMail, sendMailNow, type MailAttachment } from '@lib/server/mail';
+import { db } from '@lib/server/db';
+import { enqueue } from '@lib/server/jobs';
 import { env } from '@lib/server/env';
 import { buildIcs } from '@lib/ics';
-import type { Booking, Conn, MachineRow, Row } from './records';
+import { toBooking, type Booking, type Conn, type MachineRow, type Row } from './records';
 import { siteSettings } from './gate';
-import { siteLocale } from '@lib/server/settings';
+import { getSettings, siteLocale } from '@lib/server/settings';
 import { siteFormat } from '@lib/format';
 
 export async function formatRange(q: Conn, b: { startsAt: Date; endsAt: Date }, tz: string): Promise<string> {
@@ -84,21 +86,54 @@ export async function sendCancellation(trx: Knex.Transaction, r: Row, why: strin
 export async function sendConfirmation(trx: Knex.Transaction, personId: string, b: Booking, machine: MachineRow, tz: string, siteName: string, known?: { email: string; name: string } | null): Promise<void> {
   const person = known ?? (await trx('people').where({ id: personId }).first('email', 'name'));
   if (!person) return;
-  const ics = bookingIcs(b, machine, siteName);
-  await queueMail(
-    trx,
-    person.email,
-    `Booking confirmed: ${machine.name}, ${await formatRange(trx, b, tz)}`,
-    {
+  const m = confirmationMail(b, machine, person, { timeZone: tz, name: siteName, locale: await siteLocale(trx) });
+  await queueMail(trx, m.to, m.subject, m.content, m.attachments);
+}
+
+/** The confirmation e-mail of a booking: subject, text and its .ics (PUBLISH). Pure. */
+function confirmationMail(b: Booking, machine: { name: string }, person: { email: string; name: string }, site: { timeZone: string; name: string; locale: string }) {
+  const range = siteFormat(site.locale, site.timeZone).longRange(b.startsAt, b.endsAt);
+  const ics = bookingIcs(b, machine, site.name);
+  return {
+    to: person.email,
+    subject: `Booking confirmed: ${machine.name}, ${range}`,
+    content: {
       greeting: `Hello ${person.name},`,
       paragraphs: [
-        `${machine.name} is booked for you on ${await formatRange(trx, b, tz)} (${tz}).`,
+        `${machine.name} is booked for you on ${range} (${site.timeZone}).`,
         'Check in at the machine within 15 minutes of the start, or the booking becomes a no-show and the time is released.',
         'The attached calendar file adds the booking to your calendar.',
       ],
       action: { label: 'See your bookings', url: `${env().PUBLIC_BASE_URL}/book` },
       footnote: 'Class 4 laser: keep the extractor and air assist on and never leave a running job unattended.',
     },
-    [{ filename: 'booking.ics', contentType: 'text/calendar; charset=utf-8; method=PUBLISH', content: Buffer.from(ics, 'utf8').toString('base64') }],
-  );
+    attachments: [{ filename: 'booking.ics', contentType: 'text/calendar; charset=utf-8; method=PUBLISH', content: Buffer.from(ics, 'utf8').toString('base64') }],
+  };
+}
+
+/**
+ * Records, in the booking's transaction, that its confirmation is to be sent: the worker builds the e-mail and its
+ * .ics (sendBookingConfirmation), so the request and its locks do not wait for that work.
+ */
+export async function queueConfirmation(trx: Knex.Transaction, bookingId: string): Promise<void> {
+  await enqueue(trx, 'booking.confirm', { bookingId });
+}
+
+/**
+ * Worker: builds and sends a booking's confirmation (the same e-mail as sendConfirmation). The message is tried at
+ * once; when the mail server does not take it, it is queued as an ordinary `mail.send` job with that queue's
+ * retries. A booking gone by then (deleted) gets no message.
+ */
+export async function sendBookingConfirmation(bookingId: string): Promise<void> {
+  const row = (await db()('bookings as b').join('machines as m', 'm.id', 'b.machine_id').join('people as p', 'p.id', 'b.person_id')
+    .where('b.id', bookingId).first('b.*', 'm.name as machine_name', 'p.email as person_email', 'p.name as person_name')) as (Row & { machine_name: string; person_email: string; person_name: string }) | undefined;
+  if (!row) return;
+  const settings = await getSettings();
+  const m = confirmationMail(toBooking(row), { name: row.machine_name }, { email: row.person_email, name: row.person_name }, settings);
+  const message = renderedMail(m.to, m.subject, m.content, m.attachments);
+  try {
+    await sendMailNow(message);
+  } catch {
+    await enqueue(null, 'mail.send', message);
+  }
 }

@@ -3,13 +3,13 @@ import { db, pgCode, PG, transaction } from '@lib/server/db';
 import { recordAudit } from '@lib/server/audit';
 import { DomainError } from '@lib/server/errors';
 import { canOperate } from '@lib/server/clearances/state';
-import { checkIn, machineCoolant } from '@lib/server/machine-sessions';
+import { checkIn } from '@lib/server/machine-sessions';
 import { assertCanBook } from '@lib/server/payments/charge-runs';
 import { getRules, listClosures } from '@lib/server/booking-rules';
 import { getSettings } from '@lib/server/settings';
 import { badgeHash } from '@lib/server/badges';
 import { openIntervals } from '@lib/availability';
-import { PRE_USE_ITEMS } from '@lib/checklist';
+import { PRE_USE_ITEMS, coolantPolicy } from '@lib/checklist';
 import { DENY_MESSAGES, WALK_UP_MAX_MINUTES, badgeHint, normaliseBadge, type DenyReason } from '@lib/controller-rules';
 import { type Controller, walkUpsAllowed } from './registry';
 
@@ -31,8 +31,16 @@ const ALL_CONFIRMED = () => Object.fromEntries(PRE_USE_ITEMS.map((i) => [i.key, 
 export async function authorize(ctrl: Controller, rawBadge: string, now = new Date()): Promise<AuthorizeAnswer> {
   const badge = normaliseBadge(rawBadge);
   const hash = badgeHash(badge);
-  const person = (await db()('badges as b').join('people as p', 'p.id', 'b.person_id').where('b.badge_hash', hash)
-    .first('p.id', 'p.name', 'p.active')) as { id: string; name: string; active: boolean } | undefined;
+  // the badge's person and the controller's machine (with its coolant) in one statement
+  const { rows: [found] } = await db().raw(
+    `SELECT p.id AS person_id, p.name AS person_name, p.active AS person_active,
+            m.id, m.name, m.status, m.retired_at, m.coolant_type, m.coolant_min_c, m.coolant_max_c
+     FROM (SELECT 1) one
+     LEFT JOIN badges b ON b.badge_hash = ? LEFT JOIN people p ON p.id = b.person_id
+     LEFT JOIN machines m ON m.id = ?`,
+    [hash, ctrl.machineId],
+  );
+  const person = found?.person_id ? { id: found.person_id as string, name: found.person_name as string, active: found.person_active as boolean } : undefined;
 
   const deny = async (reason: DenyReason, message = DENY_MESSAGES[reason]): Promise<AuthorizeAnswer> => {
     await recordAudit(db(), {
@@ -49,7 +57,7 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
     return deny('unknown_badge');
   }
   if (!person.active) return deny('inactive');
-  const machine = await db()('machines').where({ id: ctrl.machineId }).first('id', 'name', 'status', 'retired_at');
+  const machine = found.id ? { id: found.id as string, name: found.name as string, status: found.status as string, retired_at: found.retired_at as Date | null } : undefined;
   if (!machine || machine.retired_at || machine.status === 'out of service') return deny('machine_out_of_service');
   const verdict = await canOperate(person.id, machine.id, now);
   if (!verdict.ok) return deny(verdict.state === 'suspended' ? 'suspended' : 'not_cleared');
@@ -66,24 +74,33 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
     return { allow: true, sessionId: session.id, personName: person.name, until: until.toISOString(), walkUp };
   };
 
+  // in one statement: a session already open on the machine, and the person's booking whose check-in window is open
+  const { rows: [here] } = await db().raw(
+    `SELECT (SELECT row_to_json(o) FROM (SELECT s.id, s.person_id, s.walk_up, s.checked_in_at, b.ends_at FROM machine_sessions s
+              LEFT JOIN bookings b ON b.id = s.booking_id WHERE s.machine_id = ? AND s.checked_out_at IS NULL LIMIT 1) o) AS open,
+            (SELECT row_to_json(k) FROM (SELECT id, ends_at FROM bookings WHERE person_id = ? AND machine_id = ? AND state = 'reserved'
+              AND kind <> 'hold' AND ends_at > ? AND starts_at <= ? ORDER BY starts_at LIMIT 1) k) AS booking`,
+    [machine.id, person.id, machine.id, now, new Date(now.getTime() + 10 * 60_000)],
+  );
+  const dated = <T extends Record<string, unknown>>(r: T | null, ...keys: (keyof T)[]): T | null => {
+    if (!r) return null;
+    for (const k of keys) if (r[k] !== null && r[k] !== undefined) (r as Record<string, unknown>)[k as string] = new Date(r[k] as string);
+    return r;
+  };
   // a session already open on the machine: the same person badging again keeps it
-  const open = await db()('machine_sessions as s').leftJoin('bookings as b', 'b.id', 's.booking_id')
-    .where('s.machine_id', machine.id).whereNull('s.checked_out_at')
-    .first('s.id', 's.person_id', 's.walk_up', 's.checked_in_at', 'b.ends_at');
+  const open = dated(here.open as { id: string; person_id: string; walk_up: boolean; checked_in_at: Date; ends_at: Date | null } | null, 'checked_in_at', 'ends_at');
   if (open) {
     if (open.person_id !== person.id) return deny('no_booking', 'In use by someone else.');
     return allow(open, open.ends_at ?? new Date(open.checked_in_at.getTime() + 4 * 3600_000), open.walk_up, false);
   }
 
   const actor = { id: person.id, roles: [] };
-  const booking = await db()('bookings')
-    .where({ person_id: person.id, machine_id: machine.id, state: 'reserved' })
-    .whereNot('kind', 'hold')
-    .where('ends_at', '>', now)
-    .where('starts_at', '<=', new Date(now.getTime() + 10 * 60_000))
-    .orderBy('starts_at')
-    .first('id', 'ends_at');
-  const coolant = await machineCoolant(machine.id);
+  const booking = dated(here.booking as { id: string; ends_at: Date } | null, 'ends_at');
+  const coolant = coolantPolicy({
+    coolantType: found.coolant_type,
+    coolantMinC: found.coolant_min_c === null ? null : Number(found.coolant_min_c),
+    coolantMaxC: found.coolant_max_c === null ? null : Number(found.coolant_max_c),
+  });
   if (booking) {
     if (coolant.needsReading) return deny('no_booking', 'Check in on the phone first.');
     try {

@@ -7,6 +7,7 @@ import { getSettings } from '@lib/server/settings';
 import { chargeQuery, personFor, toCharge, type Charge } from './charge-records';
 import { savedCard } from './cards';
 import type { AccountSummary, ChargeSort } from '@lib/account-views';
+import type { Tier } from '@lib/vocabulary';
 
 
 
@@ -72,12 +73,52 @@ export async function rechargeCsv(month: string, costCentre?: string): Promise<{
   return { csv, totalMinor: total, lines: records.length };
 }
 
-/** What the person sees of a booking's card hold just after booking. */
-export async function bookingHoldNotice(bookingId: string, personId: string, refusal: DomainError | null): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
+/** What the notice of a booking's hold depends on: its newest beam-time charge, and the person's card, recharge and debts. */
+export interface HoldFacts {
+  state: string | null;
+  failure_message: string | null;
+  /** a saved card (what accountSummary calls `card`) */
+  card: boolean;
+  /** a cost centre and a tier the price version in force now recharges (accountSummary's `recharge`) */
+  recharge: boolean;
+  /** a failed payment on the account (what assertCanBook refuses) */
+  failed: boolean;
+  tier: Tier;
+  /** the price version in force at the booking's start (null: none), its currency, the site's (null: no settings row) */
+  version_id: string | null;
+  version_currency: string | null;
+  site_currency: string | null;
+  /** that version has a rate for the booking's machine and the person's tier */
+  has_rate: boolean;
+}
+
+/** HoldFacts in one statement; undefined when there is no such person. */
+export async function holdFacts(bookingId: string, personId: string): Promise<HoldFacts | undefined> {
+  const { rows } = await db().raw(
+    `SELECT c.state, c.failure_message, p.tier,
+            EXISTS (SELECT 1 FROM payment_customers pc WHERE pc.person_id = p.id AND pc.card_source_id IS NOT NULL) AS card,
+            (coalesce(p.cost_centre, '') <> '' AND p.tier = ANY(coalesce((SELECT v.recharge_tiers FROM price_versions v WHERE v.effective_from <= now()
+                                                                           ORDER BY v.effective_from DESC LIMIT 1), '{}'))) AS recharge,
+            EXISTS (SELECT 1 FROM charges f WHERE f.person_id = p.id AND f.state = 'payment failed') AS failed,
+            v.id AS version_id, v.currency AS version_currency, (SELECT s.currency FROM site_settings s WHERE s.id = 1) AS site_currency,
+            EXISTS (SELECT 1 FROM price_rates r WHERE r.version_id = v.id AND r.machine_id = b.machine_id AND r.tier = p.tier) AS has_rate
+     FROM people p
+     LEFT JOIN LATERAL (SELECT state, failure_message FROM charges WHERE booking_id = ? AND kind = 'beam_time' ORDER BY created_at DESC LIMIT 1) c ON true
+     LEFT JOIN bookings b ON b.id = ?
+     LEFT JOIN LATERAL (SELECT id, currency FROM price_versions WHERE effective_from <= b.starts_at ORDER BY effective_from DESC LIMIT 1) v ON true
+     WHERE p.id = ?`,
+    [bookingId, bookingId, personId],
+  );
+  return rows[0] as HoldFacts | undefined;
+}
+
+/** What the person sees of a booking's card hold just after booking (`known`: facts read since the last try of the hold). */
+export async function bookingHoldNotice(bookingId: string, personId: string, refusal: DomainError | null, known?: HoldFacts): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
   if (refusal?.code === 'not_priced') return { state: 'none', notice: 'This machine has no price for your tier yet, so nothing is held now; your booking stands.' };
-  const c = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at', 'desc').first('state', 'failure_message');
+  const r = known ?? (await holdFacts(bookingId, personId));
+  const c = r?.state ? { state: r.state, failure_message: r.failure_message } : undefined;
   if (!c) {
-    const summary = await accountSummary(personId);
+    const summary = r ?? (await accountSummary(personId)); // (no such person: accountSummary answers not_found, as before)
     if (!summary.card && !summary.recharge) {
       return { state: 'none', notice: 'No card is saved on your account, so nothing is held now: beam time is charged at check-out. Save a card on the Account screen to pay by card.' };
     }

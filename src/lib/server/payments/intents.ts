@@ -113,8 +113,8 @@ function lockKey(i: PaymentIntent): string {
 /** The worker waits up to 30 s for another process's run of the same intent; a request's one try waits up to 4 s. */
 async function withIntentLock<T>(i: PaymentIntent, waitSeconds: number, work: () => Promise<T>): Promise<T> {
   return transaction(async (trx) => {
-    await trx.raw(`SET LOCAL lock_timeout = '${Math.round(waitSeconds)}s'`);
-    await trx.raw('SELECT pg_advisory_xact_lock(hashtextextended(?, 0))', [lockKey(i)]);
+    // SET LOCAL lock_timeout and the lock in one round trip: the FROM subquery (volatile, so never flattened) runs first
+    await trx.raw(`SELECT pg_advisory_xact_lock(hashtextextended(?, 0)) FROM (SELECT set_config('lock_timeout', ?, true)) t`, [lockKey(i), `${Math.round(waitSeconds)}s`]);
     return work();
   });
 }
@@ -125,11 +125,13 @@ async function bookingRow(id: string): Promise<{ id: string; person_id: string; 
 
 /** The hold of a booking: made once (the charge row first, its operation written down), then placed or resumed. */
 async function holdBooking(bookingId: string): Promise<void> {
-  const b = await bookingRow(bookingId);
+  // the booking and its first beam-time charge (made by an earlier try) in one statement
+  const b = (await db()('bookings as b').where('b.id', bookingId).first('b.id', 'b.person_id', 'b.machine_id', 'b.kind', 'b.state', 'b.starts_at', 'b.ends_at',
+    db().raw("(SELECT c.id FROM charges c WHERE c.booking_id = b.id AND c.kind = 'beam_time' ORDER BY c.created_at LIMIT 1) AS made_id"))) as
+    (NonNullable<Awaited<ReturnType<typeof bookingRow>>> & { made_id: string | null }) | undefined;
   if (!b || b.kind !== 'personal' || !['reserved', 'checked in'].includes(b.state)) return; // cancelled before the hold: nothing to hold
-  const made = await db()('charges').where({ booking_id: bookingId, kind: 'beam_time' }).orderBy('created_at').first('id');
-  if (made) {
-    await drive(made.id);
+  if (b.made_id) {
+    await drive(b.made_id);
     return;
   }
   try {

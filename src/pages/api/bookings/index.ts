@@ -3,8 +3,7 @@ import { json, jsonWithEtag, readJson, readQuery, requireSignedIn, route } from 
 import { calendarFeed } from '@lib/server/bookings/week-view';
 import { createBooking } from '@lib/server/bookings/create';
 import { assertCanBook } from '@lib/server/payments/charge-runs';
-import { bookingHoldNotice } from '@lib/server/payments/account';
-import { tryIntentNow } from '@lib/server/payments/intents';
+import { holdAtBooking } from '@lib/server/payments/hold-at-booking';
 import { bookingNotes, endsAfterStart, endsAfterStartMessage, isoInstant, materialDeclaration, uuid } from '@lib/schemas';
 
 const feedQuery = z
@@ -35,14 +34,13 @@ const createBody = z.object({
 /**
  * POST /api/bookings → 201 with the booking, `payment` ({state: held | hold pending | none}) and `paymentNotice`.
  * A failed payment on the account refuses first (402). The card hold is recorded with the booking and placed by
- * the worker; this request tries it once at once, so a member usually sees "held" straight away.
+ * the worker; this request tries it once at once when a card is saved, so a member usually sees "held" straight away.
  */
 export const POST = route(async ({ locals, request }) => {
   const person = requireSignedIn(locals);
   const input = await readJson(request, createBody);
   await assertCanBook(person.id);
   const booking = await createBooking(person, input);
-  const refusal = await tryIntentNow({ kind: 'booking.hold', bookingId: booking.id });
-  const hold = await bookingHoldNotice(booking.id, person.id, refusal);
+  const hold = await holdAtBooking({ id: booking.id, personId: person.id });
   return json({ ...booking, payment: { state: hold.state }, paymentNotice: hold.notice }, 201);
 });
