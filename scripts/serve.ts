@@ -58,6 +58,8 @@ function settleForwarded(req: http.IncomingMessage): boolean {
 const compress = compression({ threshold: 1024 });
 let stopping = false;
 let inFlight = 0;
+/** Responses not yet finished: told to close their connection when a shutdown starts (see stop). */
+const open = new Set<http.ServerResponse>();
 
 const server = http.createServer((req, res) => {
   const started = process.hrtime.bigint();
@@ -69,11 +71,13 @@ const server = http.createServer((req, res) => {
   if (stopping) res.setHeader('connection', 'close');
   const context: RequestContext = { requestId };
   inFlight++;
+  open.add(res);
   let logged = false;
   const done = () => {
     if (logged) return;
     logged = true;
     inFlight--;
+    open.delete(res);
     const pathname = (req.url ?? '/').split('?')[0]!;
     const status = res.writableFinished || res.headersSent ? res.statusCode : 499;
     const line = {
@@ -88,7 +92,7 @@ const server = http.createServer((req, res) => {
     };
     if (status >= 500) log.error(line, 'request');
     else log.info(line, 'request');
-    if (stopping) server.closeIdleConnections();
+    if (stopping) setImmediate(() => server.closeIdleConnections());
   };
   res.once('finish', done);
   res.once('close', done);
@@ -118,7 +122,12 @@ async function stop(signal: string): Promise<void> {
   stopping = true;
   log.info({ event: 'shutdown', signal, inFlight, timeoutMs: config.SHUTDOWN_TIMEOUT_MS }, 'stopping: no new connections, finishing requests in flight');
   const closed = new Promise<void>((resolve) => server.close(() => resolve()));
+  // requests in flight answer with `Connection: close`, so their connections end with their answer
+  for (const res of open) if (!res.headersSent) res.setHeader('connection', 'close');
   server.closeIdleConnections();
+  // a keep-alive connection turns idle only once Node is done with its request (an answer sent before the whole
+  // body arrived waits for the rest): close each as it does, not at the shutdown limit
+  const sweep = setInterval(() => server.closeIdleConnections(), 200);
   let timedOut = false;
   const timer = setTimeout(() => {
     timedOut = true;
@@ -127,6 +136,7 @@ async function stop(signal: string): Promise<void> {
   }, config.SHUTDOWN_TIMEOUT_MS);
   await closed;
   clearTimeout(timer);
+  clearInterval(sweep);
   await runShutdownHooks();
   log.info({ event: 'shutdown', timedOut }, 'stopped');
   process.exit(0);

@@ -147,13 +147,15 @@ describe('graceful stop', () => {
     socket.on('data', (d) => (answer += d.toString()));
     const ended = new Promise<void>((r) => socket.once('close', () => r()));
     socket.write(
-      `POST /api/auth/callback/credentials HTTP/1.1\r\nHost: 127.0.0.1:${port}\r\nContent-Type: application/x-www-form-urlencoded\r\n` +
+      // with its Origin, so the route reads the whole body (without it the origin check answers 403 at once)
+      `POST /api/auth/callback/credentials HTTP/1.1\r\nHost: 127.0.0.1:${port}\r\nOrigin: http://127.0.0.1:${port}\r\nContent-Type: application/x-www-form-urlencoded\r\n` +
         `Content-Length: ${body.length}\r\nConnection: keep-alive\r\n\r\n${body.slice(0, 10)}`,
     );
     await new Promise((r) => setTimeout(r, 400));
     process.kill(app.child.pid!, 'SIGTERM');
     await waitUntil('the app refusing new connections', async () => !(await portOpen(port)), 5000);
     expect(app.child.exitCode, 'still running while the request is in flight').toBeNull();
+    expect(answer, 'not answered before its body arrived').toBe('');
     await new Promise((r) => setTimeout(r, 600));
     socket.write(body.slice(10));
     await ended; // the server answers, then closes the now idle connection (it is stopping)
@@ -162,5 +164,8 @@ describe('graceful stop', () => {
     const log = fs.readFileSync(path.join(dataDir, 'logs', 'app-graceful.log'), 'utf8');
     expect(log).toContain('"event":"shutdown"');
     expect(log).toContain('"closed":"database pool"');
+    // stopped when the request was answered, not at the 15 s shutdown limit (the keep-alive connection is closed)
+    const stopped = log.split('\n').filter((l) => l.includes('"msg":"stopped"')).pop() ?? '';
+    expect(stopped).toContain('"timedOut":false');
   }, 60_000);
 });
