@@ -7,7 +7,11 @@ import { useFieldErrors, useFormAnswer } from './ui/form-state';
 
 type Field = 'name' | 'email' | 'roles' | 'tier';
 
-export default function InvitePersonForm({ onInvited }: { onInvited?: () => void }) {
+/**
+ * `onTaken` hears the address when it already has an account, so the list below can show that person (and their
+ * "Send a new invitation" when they have not chosen a password yet).
+ */
+export default function InvitePersonForm({ onInvited, onTaken }: { onInvited?: () => void; onTaken?: (email: string) => void }) {
   const [name, setName] = useState('');
   const [email, setEmail] = useState('');
   const [roles, setRoles] = useState<Role[]>(['member']);
@@ -38,8 +42,14 @@ export default function InvitePersonForm({ onInvited }: { onInvited?: () => void
       show({ tone: 'ok', text: `Invitation sent to ${p.name} <${p.email}>. The link to choose a password works for a few days; until then the account cannot sign in.` });
       onInvited?.();
     } catch (err) {
-      if (err instanceof ApiError && err.code === 'email_taken') setErrors({ email: err.message });
-      else if (err instanceof ApiError && err.fields) {
+      if (err instanceof ApiError && err.code === 'email_taken') {
+        setErrors({ email: err.message });
+        if (onTaken) {
+          onTaken(email.trim());
+          show({ tone: 'stop', text: `${err.message} They are shown in the list below.` });
+          return;
+        }
+      } else if (err instanceof ApiError && err.fields) {
         const byField: Partial<Record<Field, string>> = {};
         for (const [k, v] of Object.entries(err.fields)) byField[(k.split('.')[0] as Field) ?? 'name'] ??= v;
         setErrors(byField);

@@ -39,6 +39,7 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC', locale }: { self
   const [loading, setLoading] = useState(true);
   const [message, setMessage] = useState<{ tone: 'ok' | 'stop'; text: string } | null>(null);
   const [busy, setBusy] = useState<string | null>(null);
+  const [inviteKey, setInviteKey] = useState(0);
   const searchId = useId();
   const pageSize = 20;
 
@@ -104,6 +105,7 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC', locale }: { self
     try {
       const r = await api<{ email: string; name: string; expiresInDays: number }>(`/api/people/${person.id}/invitation`, { method: 'POST' });
       setMessage({ tone: 'ok', text: `A new invitation went to ${r.name} <${r.email}>. Its link works for ${r.expiresInDays} days; the link in any earlier invitation no longer works.` });
+      setInviteKey((k) => k + 1);
     } catch (e) {
       setMessage({ tone: 'stop', text: e instanceof ApiError ? e.message : 'The invitation was not sent.' });
       if (e instanceof ApiError && e.status === 409) void load();
@@ -141,7 +143,8 @@ export default function PeopleAdmin({ selfId, timeZone = 'UTC', locale }: { self
 
   return (
     <div className="space-y-4">
-      <InvitePersonForm onInvited={() => void load()} />
+      {/* a new key after a resend from a row: the form starts clean instead of keeping its old refusal */}
+      <InvitePersonForm key={inviteKey} onInvited={() => void load()} onTaken={setQ} />
       <h2 className="sr-only">Everyone</h2>
       <div className="flex flex-wrap items-end gap-3">
         <label className="field min-w-64 flex-1" htmlFor={searchId}>

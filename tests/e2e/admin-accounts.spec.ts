@@ -88,13 +88,18 @@ describe('admin: accounts', () => {
     await expect.poll(() => answer.textContent()).toMatch(/already has an account/);
     expect(await form.getByLabel('E-mail', { exact: true }).getAttribute('aria-invalid')).toBe('true');
 
-    // until they choose a password the list says so, and a new invitation can be sent from their row
-    await page.getByLabel('Search by name or e-mail').fill(email);
+    // the list below shows that person at once (the search holds the address): until they choose a password it
+    // says so, and a new invitation can be sent from their row
+    await expect.poll(() => page.getByLabel('Search by name or e-mail').inputValue()).toBe(email);
+    await expect.poll(() => answer.textContent()).toMatch(/shown in the list below/);
     const row = page.locator(`tr[data-person="${email}"]`);
     await row.getByTestId('awaiting-invitation').waitFor();
     expect(await row.getByTestId('awaiting-invitation').innerText()).toContain('Invited, no password yet');
     await row.getByRole('button', { name: `Send a new invitation to ${name}` }).click();
     await page.getByText(`A new invitation went to ${name} <${email}>`).waitFor();
+    // the invite form starts clean again: its earlier refusal is not left beside the new answer
+    await expect.poll(() => form.getByLabel('E-mail', { exact: true }).inputValue()).toBe('');
+    expect(await page.getByText(/already has an account/).count()).toBe(0);
     const again = await waitForMail((m) => to(email)(m) && /new invitation/i.test(m.subject));
     expect(again.text).toContain('no longer works');
     await shot(page, 'admin-people-reinvited-desk');
