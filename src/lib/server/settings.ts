@@ -61,9 +61,22 @@ let stopped = false;
 /** Transactions that wrote the settings themselves: they read the row, never a copy. */
 const changedIn = new WeakSet<object>();
 
+let noticeWaiters: (() => void)[] = [];
+
 function forget(): void {
   cached = null;
   generation++;
+}
+
+/**
+ * Resolves on the listener's next notice (at most `ms` later; at once when not listening). Made before a save's
+ * commit and awaited after it: the save answers once its notice has gone round, so another process, signalled by
+ * PostgreSQL at the same moment, has in practice dropped its copy before the admin's next request reaches it.
+ */
+function nextNotice(ms: number): () => Promise<void> {
+  if (!listening) return () => Promise.resolve();
+  const seen = new Promise<void>((resolve) => noticeWaiters.push(resolve));
+  return () => Promise.race([seen, new Promise<void>((resolve) => setTimeout(resolve, ms).unref())]);
 }
 
 function scheduleReconnect(): void {
@@ -100,7 +113,11 @@ async function listen(): Promise<void> {
     if (listener === client) listenerDown();
   });
   client.on('notification', (n) => {
-    if (n.channel === 'site_settings') forget();
+    if (n.channel !== 'site_settings') return;
+    forget();
+    const waiters = noticeWaiters;
+    noticeWaiters = [];
+    for (const w of waiters) w();
   });
   try {
     await client.connect();
@@ -196,14 +213,17 @@ export async function publicBaseUrl(): Promise<string> {
  * before and after; a save that changes nothing writes nothing.
  */
 export async function updateSettings(actorId: string, input: SiteSettingsValues): Promise<SiteSettings> {
+  const noticed = nextNotice(1_000);
   try {
-    return await transaction(async (trx) => saveSettings(trx, actorId, input));
+    const saved = await transaction(async (trx) => saveSettings(trx, actorId, input));
+    if (saved.wrote) await noticed(); // a save that changed nothing wrote nothing and sends no notice
+    return saved.settings;
   } finally {
     forget(); // this process sees its own save at once, without waiting for its notice
   }
 }
 
-async function saveSettings(trx: Knex.Transaction, actorId: string, input: SiteSettingsValues): Promise<SiteSettings> {
+async function saveSettings(trx: Knex.Transaction, actorId: string, input: SiteSettingsValues): Promise<{ settings: SiteSettings; wrote: boolean }> {
   {
     changedIn.add(trx);
     const row = (await trx('site_settings').where({ id: 1 }).forUpdate().first(...COLUMNS)) as Row | undefined;
@@ -211,7 +231,7 @@ async function saveSettings(trx: Knex.Transaction, actorId: string, input: SiteS
     // left out of the input: the site keeps its locale
     const after: SiteValues = siteValues({ ...input, locale: input.locale ?? before?.locale ?? DEFAULT_LOCALE });
     const changed = SITE_FIELDS.filter((k) => !before || before[k] !== after[k]);
-    if (changed.length === 0 && row) return toSettings(row);
+    if (changed.length === 0 && row) return { settings: toSettings(row), wrote: false };
     // amounts are integers of the currency's minor unit: once money has been charged, the currency stays
     if (before && changed.includes('currency') && (await trx('charges').whereNot('currency', after.currency).first('id'))) {
       throw new DomainError('conflict', 'currency_in_use', `Charges have been made in ${before.currency}; the site's currency cannot change any more (amounts are not converted).`, { currency: `Charges exist in ${before.currency}.` });
@@ -240,6 +260,6 @@ async function saveSettings(trx: Knex.Transaction, actorId: string, input: SiteS
       before: before && Object.fromEntries(changed.map((k) => [k, before[k]])),
       after: Object.fromEntries(changed.map((k) => [k, after[k]])),
     });
-    return toSettings(saved!);
+    return { settings: toSettings(saved!), wrote: true };
   }
 }
