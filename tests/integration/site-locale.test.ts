@@ -15,6 +15,7 @@ import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { iso, setTestRules, siteTime } from '../support/booking';
 import { to, waitForMail, type Mail } from '../support/mail';
+import { waitUntil } from '../support/wait';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { clearedNew } from '../support/people';
 import { localToInstant } from '../../src/lib/availability';
@@ -134,6 +135,8 @@ describe('money and dates in a second locale', () => {
     try {
       for (const [currency, net] of [['JPY', '123456'], ['BHD', '1234.567']] as const) {
         await testDb()('site_settings').where({ id: 1 }).update({ currency });
+        // written outside the app: the app drops its copy of the settings when the change's notice reaches it
+        await waitUntil(`the app seeing currency ${currency}`, async () => (await body<{ currency: string }>(await admin.get('/api/site'))).currency === currency, { timeoutMs: 2_000, intervalMs: 20 });
         const res = await admin.get(`/api/reports/revenue.csv?from=${DAY}&to=${DAY}&machineId=${machine.id}`);
         expect(res.status).toBe(200);
         const text = await res.text();

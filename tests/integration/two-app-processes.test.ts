@@ -2,7 +2,10 @@
  * Two app processes on one PostgreSQL, as a site behind a proxy runs them: a second app is started here on
  * another port (startApp from tests/support/processes.ts: the same built entry and environment as the first).
  * Sessions, the sign-in throttle and the no-double-booking rule hold across both, since none of them lives
- * in process memory.
+ * in process memory. The site settings do live in each process's memory: a change saved through one process, or
+ * written straight into the table, is seen by both at once (NOTIFY site_settings; decision record 0420).
+ * CHANGES SITE-WIDE SETTINGS for a moment (the site name; put back in a finally block): keep this file in the
+ * serial set.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { stopServices } from '../../scripts/lib/stack';
@@ -11,6 +14,7 @@ import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { APP_URL, DEMO, DEMO_PASSWORD } from '../support/env';
 import { startApp } from '../support/processes';
+import { waitUntil } from '../support/wait';
 
 let secondUrl: string;
 
@@ -74,5 +78,36 @@ describe('two app processes on one database', () => {
       .whereIn('state', ['reserved', 'checked in'])
       .whereRaw('tstzrange(starts_at, occupied_until) && tstzrange(?, ?)', [startsAt, endsAt]);
     expect(rows).toHaveLength(1);
+  });
+
+  it('a change to the site settings made through either process, or in the table, is seen by both at once', async () => {
+    const admins = [await Client.as('admin'), await Client.as('admin', secondUrl)] as const;
+    const nameOn = async (c: Client) => {
+      const res = await c.get('/api/site');
+      expect(res.status).toBe(200);
+      return ((await res.json()) as { name: string }).name;
+    };
+    const original = (await admins[0].get('/api/site').then((r) => r.json())) as Record<string, unknown> & { name: string };
+    const { updatedAt: _u, ...values } = original;
+    try {
+      // both processes have read (and keep) the settings before each change
+      for (const [i, writer] of admins.entries()) {
+        for (const c of admins) expect(await nameOn(c)).toBe(original.name);
+        const name = `Two-process lab ${i}`;
+        const res = await writer.send('PUT', '/api/site', { ...values, name });
+        expect(res.status, await res.clone().text()).toBe(200);
+        for (const c of admins) expect(await nameOn(c), `after a save through process ${i + 1}`).toBe(name);
+        const back = await writer.send('PUT', '/api/site', values);
+        expect(back.status).toBe(200);
+        for (const c of admins) expect(await nameOn(c)).toBe(original.name);
+      }
+      // a write made outside the app (a script, psql) reaches both processes the same way, as soon as its notice
+      // arrives (milliseconds; nobody waits for it here, unlike a save through the app)
+      await testDb()('site_settings').where({ id: 1 }).update({ name: 'Two-process lab (table)' });
+      for (const c of admins) await waitUntil('both processes seeing the new name', async () => (await nameOn(c)) === 'Two-process lab (table)', { timeoutMs: 2_000, intervalMs: 20 });
+    } finally {
+      await testDb()('site_settings').where({ id: 1 }).update({ name: original.name });
+    }
+    for (const c of admins) await waitUntil('both processes seeing the name put back', async () => (await nameOn(c)) === original.name, { timeoutMs: 2_000, intervalMs: 20 });
   });
 });

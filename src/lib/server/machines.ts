@@ -172,6 +172,8 @@ export interface LockedMachine {
   name: string;
   status: MachineStatus;
   retiredAt: Date | null;
+  /** the row's other columns, named by `alsoInStatement` (e.g. `payment_failed`) */
+  also?: Record<string, unknown>;
 }
 
 /**
@@ -186,5 +188,5 @@ export async function lockMachine(trx: Knex.Transaction, id: string, mode: 'upda
   // e.g. the booking gate's per-person advisory lock, taken in the same round trip
   if (alsoInStatement) columns.push(alsoInStatement);
   const row = await (mode === 'share' ? q.forShare() : q.forUpdate()).first(...columns);
-  return row ? { id: row.id, code: row.code, name: row.name, status: row.status, retiredAt: row.retired_at } : null;
+  return row ? { id: row.id, code: row.code, name: row.name, status: row.status, retiredAt: row.retired_at, ...(alsoInStatement ? { also: row } : {}) } : null;
 }

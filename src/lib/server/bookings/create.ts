@@ -13,8 +13,8 @@ import { queueConfirmation } from './messages';
 /**
  * Creates a booking for `actor` (the gate, the rules, the quota, the declared materials, the insert). The card
  * hold is an intent recorded in the same transaction (payment-intents.ts): the worker places it even if this
- * process dies right after the commit. The caller (the API route) checks for a failed payment first and may try
- * the hold once at once.
+ * process dies right after the commit. A failed payment on the account refuses it (402), asked in the lock
+ * statement. The caller (the API route) may try the hold once at once.
  */
 export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<Booking> {
   // concurrent requests for one slot can deadlock inside the exclusion constraint: the transaction is run again
@@ -23,8 +23,9 @@ export async function createBooking(actor: Actor, input: BookingInput, now = new
 
 async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<Booking> {
   return transaction(async (trx) => {
-    // the machine's row lock and the person's lock in one statement (the quota reads below come after it)
-    const machine = await lockForBooking(trx, input.machineId, actor.id);
+    // the machine's row lock, the person's lock and the failed-payment check in one statement (the quota reads
+    // below come after it)
+    const machine = await lockForBooking(trx, input.machineId, actor.id, true);
     if (machine.status === 'out of service') throw outOfService(machine);
     const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
     if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);

@@ -9,6 +9,7 @@ import { DomainError } from '@lib/server/errors';
 import { getRulesAndClosures } from '@lib/server/booking-rules';
 import { getSettings } from '@lib/server/settings';
 import { lockMachine } from '@lib/server/machines';
+import { PAYMENT_FAILED_SQL, paymentRequired } from '@lib/server/payments/charge-runs';
 import type { Tier } from '@lib/vocabulary';
 import { localWeek } from '@lib/availability';
 import { ACTIVE_STATES, QUOTA_STATES, toBooking, type Booking, type Conn, type MachineRow, type Row } from './records';
@@ -17,11 +18,18 @@ import { ACTIVE_STATES, QUOTA_STATES, toBooking, type Booking, type Conn, type M
  * The machine lock of machines.ts, FOR SHARE, for a new booking: a concurrent status change (out of service) or
  * retirement waits for this booking, or this booking sees it. With `personId`, the same statement also takes that
  * person's advisory lock (lockPerson), so the statements after it see every booking the person's other requests
- * committed. A retired machine is not found.
+ * committed. A retired machine is not found. With `refuseFailedPayment` too, it asks assertCanBook's question in
+ * the same statement and refuses (402) while the person has a failed payment.
  */
-export async function lockForBooking(trx: Knex.Transaction, machineId: string, personId?: string): Promise<MachineRow> {
-  const m = await lockMachine(trx, machineId, 'share', personId ? trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock`, [personId]) : undefined);
+export async function lockForBooking(trx: Knex.Transaction, machineId: string, personId?: string, refuseFailedPayment = false): Promise<MachineRow> {
+  const also = !personId
+    ? undefined
+    : refuseFailedPayment
+      ? trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock, ${PAYMENT_FAILED_SQL} AS payment_failed`, [personId, personId])
+      : trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock`, [personId]);
+  const m = await lockMachine(trx, machineId, 'share', also);
   if (!m || m.retiredAt) throw new DomainError('not_found', 'not_found', 'No such machine.');
+  if (m.also?.payment_failed) throw paymentRequired();
   return { id: m.id, name: m.name, code: m.code, status: m.status };
 }
 

@@ -196,5 +196,12 @@ export async function settleOwed(personId: string): Promise<number> {
 /** Throws 402 payment_required while the person has a failed payment. Booking calls this first. */
 export async function assertCanBook(personId: string): Promise<void> {
   const failed = await db()('charges').where({ person_id: personId, state: 'payment failed' }).first('id');
-  if (failed) throw new DomainError('payment_required', 'payment_required', 'A payment failed on this account. Save a working card on the Account screen to settle it, then book again.');
+  if (failed) throw paymentRequired();
+}
+
+/** assertCanBook's question as a select expression (one binding: the person's id), for a statement already made. */
+export const PAYMENT_FAILED_SQL = "EXISTS (SELECT 1 FROM charges WHERE person_id = ? AND state = 'payment failed')";
+
+export function paymentRequired(): DomainError {
+  return new DomainError('payment_required', 'payment_required', 'A payment failed on this account. Save a working card on the Account screen to settle it, then book again.');
 }
