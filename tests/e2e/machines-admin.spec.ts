@@ -5,7 +5,7 @@
  */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, hydrated, launch, newContext, settled, shot, signIn, watchErrors } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 
 let browser: Browser;
@@ -102,6 +102,30 @@ describe('the Machines screen', () => {
       .filter((el) => el.getBoundingClientRect().right > w + 1 && !el.closest('.overflow-x-auto'))
       .slice(0, 5).map((el) => `${el.tagName.toLowerCase()}.${String(el.className).slice(0, 50)} (${Math.round(el.getBoundingClientRect().right)} px)`), PHONE.width);
     expect(await page.evaluate(() => Math.max(document.documentElement.scrollWidth, document.body.scrollWidth)), wide.join('; ')).toBeLessThanOrEqual(PHONE.width);
+    expect(errors).toEqual([]);
+    await ctx.close();
+  });
+});
+
+// From the booking journey (which now runs beside other files): "all machines" shows one calendar per machine in
+// service, three on the demo site — a count only a file running alone can make, as others add test machines.
+describe('the Floor and the Book screen for all machines', () => {
+  it('the admin sees the Machines screen and the Floor shows now and next', async () => {
+    const ctx = await newContext(browser, DESK);
+    const page = await ctx.newPage();
+    const errors = watchErrors(page);
+    await signIn(page, 'admin');
+    expect(await page.locator('[data-machine="laser-a"] [data-next]').innerText()).not.toBe('');
+    await page.goto('/admin/machines');
+    await hydrated(page);
+    await page.getByRole('button', { name: 'Save rules' }).waitFor();
+    await shot(page, 'machines-desk');
+    await page.goto('/book');
+    await hydrated(page);
+    await page.getByLabel('Machine', { exact: true }).first().selectOption('all');
+    await expect.poll(() => page.locator('[data-machine-calendar]').count()).toBe(3);
+    await settled(page);
+    await shot(page, 'book-all-machines-desk');
     expect(errors).toEqual([]);
     await ctx.close();
   });
