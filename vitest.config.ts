@@ -43,7 +43,7 @@ export const PARALLEL_INTEGRATION = [
  * (clearSignInLimits), which accounts.test.ts counts up to a 429. The journeys that change rules, prices, quizzes,
  * the site, a demo laser, or book the demo people stay serial.
  */
-export const PARALLEL_E2E = ['accessibility', 'book-feedback', 'booking-journey', 'fault-journey', 'machine-page', 'phone-width', 'qr-offline', 'reports-journey', 'safety-gate'].map((name) => `tests/e2e/${name}.spec.ts`);
+export const PARALLEL_E2E = ['accessibility', 'book-feedback', 'booking-journey', 'fault-journey', 'machine-journey', 'machine-page', 'phone-width', 'qr-offline', 'reports-journey', 'safety-gate'].map((name) => `tests/e2e/${name}.spec.ts`);
 
 const fileSet = process.env.TEST_FILE_SET as 'parallel' | 'serial' | undefined;
 /** The files of a project in this pass: all of them (no set), only the parallel ones, or the rest. */
