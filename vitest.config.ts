@@ -36,13 +36,14 @@ export const PARALLEL_INTEGRATION = [
 ].map((name) => `tests/integration/${name}.test.ts`);
 
 /**
- * Browser files that may run beside the parallel set: each works on a machine of its own or only reads screens, and
- * asserts nothing that a concurrent file's rows could change (the Floor's or a list's length, a report's total, the
+ * Browser files that may run beside the parallel set: each works on a machine of its own (`createTestMachine`) or only
+ * reads screens, and asserts nothing that a concurrent file's rows could change (the Floor's or a list's length, a
+ * report's total read at two moments — reports-journey compares screen and CSV only while the total holds still — the
  * sign-in page, which accounts.test.ts turns institution-only for a moment), and none clears the request counters
- * (clearSignInLimits), which accounts.test.ts counts up to a 429. The journeys that change rules, prices,
+ * (clearSignInLimits), which accounts.test.ts counts up to a 429. The journeys that change rules, prices, quizzes,
  * the site, a demo laser, or book the demo people stay serial.
  */
-export const PARALLEL_E2E = ['accessibility', 'machine-page', 'phone-width', 'qr-offline', 'safety-gate'].map((name) => `tests/e2e/${name}.spec.ts`);
+export const PARALLEL_E2E = ['accessibility', 'book-feedback', 'booking-journey', 'fault-journey', 'machine-journey', 'machine-page', 'phone-width', 'qr-offline', 'reports-journey', 'safety-gate'].map((name) => `tests/e2e/${name}.spec.ts`);
 
 const fileSet = process.env.TEST_FILE_SET as 'parallel' | 'serial' | undefined;
 /** The files of a project in this pass: all of them (no set), only the parallel ones, or the rest. */

@@ -10,28 +10,32 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled, SCREENSHOTS } from '../support/browser';
 import { axe } from '../support/axe';
 import { Client } from '../support/client';
-import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
-import { clearedNew } from '../support/people';
-import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { closeTestDb, testDb } from '../support/db';
+import { clearedNew, newPerson } from '../support/people';
+import { createTestMachine, priceTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
+import { SITE_TZ, setTestRules, siteTime } from '../support/booking';
 import { zonedDate } from '../../src/lib/time';
 
-const DAY = 26; // Laser B, a day no other file books on it (integration 15–22 and 29, booking journeys 23–24 and 31 on Laser A)
+const DAY = 26; // on a machine of this file's own: no other file books it, so any day works
 
 let browser: Browser;
-let laserB: MachineRef;
+let admin: Client;
+let laser: TestMachine; // its own (priced) machine: runs beside other files, whose bookings and rules it never meets
 let who: { email: string; password: string };
+/** The machine's name inside a RegExp. */
+const named = () => laser.name.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
 
 beforeAll(async () => {
   browser = await launch();
-  const admin = await Client.as('admin');
-  const all = await machines(admin);
-  laserB = all['laser-b'];
-  await setTestRules(admin, laserB.id); // open 08:00–22:00 every day, 15-min grid, community limit 4 h a week
-  who = await clearedNew('bookfeedback', ['laser-b']); // no saved card: beam time is charged at check-out
+  admin = await Client.as('admin');
+  laser = await createTestMachine(admin, 'bookfeedback');
+  await priceTestMachine(laser.id, 150);
+  await setTestRules(admin, laser.id); // open 08:00–22:00 every day, 15-min grid, community limit 4 h a week
+  who = await clearedNew('bookfeedback', [laser.code]); // no saved card: beam time is charged at check-out
 });
 afterAll(async () => {
   await browser?.close();
-  await clearSignInLimits();
+  await retireTestMachine(admin, laser);
   await closeTestDb();
 });
 
@@ -54,7 +58,7 @@ async function view(page: Page, name: string): Promise<void> {
 }
 
 async function openBook(page: Page) {
-  await page.goto(`/book?machine=${laserB.id}`);
+  await page.goto(`/book?machine=${laser.id}`);
   await hydrated(page);
   await page.locator('.fc-timegrid-slot-lane').first().waitFor();
   await settled(page);
@@ -62,8 +66,8 @@ async function openBook(page: Page) {
 
 describe('the Book screen as a first-week member meets it', () => {
   it('desk: the form follows the machine, week and open hours; refused and accepted answers are seen and focused; cancel asks first', async () => {
-    const steward = await Client.as('steward');
-    const taken = await steward.send('POST', '/api/bookings', { machineId: laserB.id, startsAt: siteTime(DAY, 14).toISOString(), endsAt: siteTime(DAY, 15).toISOString(), materials: [], notes: '' });
+    const steward = (await newPerson('bf-keeper', { roles: ['steward'], clearedFor: [laser.code] })).client;
+    const taken = await steward.send('POST', '/api/bookings', { machineId: laser.id, startsAt: siteTime(DAY, 14).toISOString(), endsAt: siteTime(DAY, 15).toISOString(), materials: [], notes: '' });
     expect(taken.status).toBe(201);
 
     const ctx = await newContext(browser, DESK);
@@ -73,7 +77,7 @@ describe('the Book screen as a first-week member meets it', () => {
     await openBook(page);
     const form = page.getByRole('form', { name: 'Book by date and time' });
     // /book?machine=<id> chooses the machine in the form too
-    expect(await form.getByLabel('Machine').inputValue()).toBe(laserB.id);
+    expect(await form.getByLabel('Machine').inputValue()).toBe(laser.id);
 
     // moving the calendar moves the form's date into the week shown
     const day = dateOf(siteTime(DAY, 12));
@@ -94,7 +98,7 @@ describe('the Book screen as a first-week member meets it', () => {
     expect((await form.getByLabel('Until').locator('option').allInnerTexts()).at(-1)).toBe('22:00');
 
     // this week's minutes on the chosen machine, before submitting
-    await expect.poll(() => form.locator('[data-week-use]').innerText()).toMatch(/This week on Laser B: 0 min booked, 4 h left of your 4 h weekly limit/);
+    await expect.poll(() => form.locator('[data-week-use]').innerText()).toMatch(new RegExp(`This week on ${named()}: 0 min booked, 4 h left of your 4 h weekly limit`));
 
     // refused (the steward has 14:00–15:00): the answer sits by the Book button, in view, with the focus
     await form.getByLabel('From').selectOption('14:30');
@@ -110,7 +114,7 @@ describe('the Book screen as a first-week member meets it', () => {
     await form.getByLabel('From').selectOption('10:00');
     await form.getByLabel('Until').selectOption('11:00');
     await page.getByRole('button', { name: 'Book', exact: true }).click();
-    await page.locator('[data-answer="form"]', { hasText: 'Booked: Laser B' }).waitFor();
+    await page.locator('[data-answer="form"]', { hasText: `Booked: ${laser.name}` }).waitFor();
     await seenAndFocused(page, answer);
     expect(await answer.innerText()).toMatch(/charged at check-out/);
     expect(await answer.getAttribute('class')).toContain('notice-info');
@@ -124,7 +128,7 @@ describe('the Book screen as a first-week member meets it', () => {
     // the booking opens in a dialog where the person is looking; Cancel asks first and says what it costs
     const mine = page.locator('.fc-event.bw-mine').filter({ hasText: 'Your booking' }).first();
     await mine.click();
-    await page.getByRole('dialog', { name: /Your booking · Laser B/ }).waitFor();
+    await page.getByRole('dialog', { name: new RegExp(`Your booking · ${named()}`) }).waitFor();
     const dialog = page.getByRole('dialog'); // its name changes to the question below
     const box = (await dialog.boundingBox())!;
     expect(box.y).toBeGreaterThanOrEqual(0);
@@ -182,7 +186,7 @@ describe('the Book screen as a first-week member meets it', () => {
 
     await form.getByLabel('Until').selectOption('10:00');
     await page.getByRole('button', { name: 'Book', exact: true }).click();
-    await page.locator('[data-answer="form"]', { hasText: 'Booked: Laser B' }).waitFor();
+    await page.locator('[data-answer="form"]', { hasText: `Booked: ${laser.name}` }).waitFor();
     await seenAndFocused(page, answer);
     await view(page, 'book-accepted-phone');
 

@@ -1,5 +1,5 @@
 /**
- * Journey: on a phone, a member reports a `stop` fault on Laser C with a photo and sees the machine out of
+ * Journey: on a phone, a member reports a `stop` fault on a laser (one of its own) with a photo and sees the machine out of
  * service; at a desk the steward finds it first on the Faults screen, resolves it and puts the machine back
  * into service with the checks confirmed. Screenshots: the fault form (phone) and the Faults queue (desk).
  */
@@ -7,17 +7,23 @@ import sharp from 'sharp';
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
-import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { Client } from '../support/client';
+import { closeTestDb, testDb } from '../support/db';
+import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 
 let browser: Browser;
+let admin: Client;
+// a machine of this file's own: its stop fault bumps nobody else's bookings, so the file runs beside others
+let laser: TestMachine;
 
 beforeAll(async () => {
   browser = await launch();
+  admin = await Client.as('admin');
+  laser = await createTestMachine(admin, 'faultjourney');
 });
 afterAll(async () => {
-  await testDb()('machines').where({ code: 'laser-c' }).update({ status: 'in service' });
+  await retireTestMachine(admin, laser);
   await browser?.close();
-  await clearSignInLimits();
   await closeTestDb();
 });
 
@@ -29,11 +35,11 @@ describe('a stop fault from the phone to the steward', () => {
     const page = await phone.newPage();
     const errors = watchErrors(page);
     // signed out: sign in first, then back to the same page
-    await page.goto('/m/laser-c/fault');
+    await page.goto(`/m/${laser.code}/fault`);
     await hydrated(page);
     expect(page.url()).toContain('/signin');
     await signIn(page, 'member');
-    expect(new URL(page.url()).pathname).toBe('/m/laser-c/fault');
+    expect(new URL(page.url()).pathname).toBe(`/m/${laser.code}/fault`);
     await page.getByRole('heading', { name: 'Report a fault' }).waitFor();
 
     await page.getByRole('radio', { name: /Stop/ }).check();
@@ -43,9 +49,9 @@ describe('a stop fault from the phone to the steward', () => {
     await page.getByText('tube.jpg').waitFor();
     await shot(page, 'fault-form-phone');
     await page.getByRole('button', { name: 'Send the report' }).click();
-    await page.getByText(/Laser C is now out of service for everyone/).waitFor();
-    expect((await testDb()('machines').where({ code: 'laser-c' }).first()).status).toBe('out of service');
-    const fault = await testDb()('faults').where({ summary: 'Smoke from the tube end, coolant alarm' }).first();
+    await page.getByText(`${laser.name} is now out of service for everyone`).waitFor();
+    expect((await testDb()('machines').where({ id: laser.id }).first()).status).toBe('out of service');
+    const fault = await testDb()('faults').where({ machine_id: laser.id, summary: 'Smoke from the tube end, coolant alarm' }).first();
     expect(fault.photos).toHaveLength(1);
     expect(errors).toEqual([]);
     await phone.close();
@@ -70,15 +76,15 @@ describe('a stop fault from the phone to the steward', () => {
     await card.getByRole('button', { name: 'Resolve', exact: true }).click();
     await sp.getByText('Resolved; the reporter is told.').waitFor();
 
-    const panel = sp.locator('[data-machine="laser-c"]');
+    const panel = sp.locator(`[data-machine="${laser.code}"]`);
     const back = panel.getByRole('button', { name: 'Back into service' });
     await panel.getByLabel(/Note/).fill('Hose reseated; test job ran clean.');
     expect(await back.isDisabled()).toBe(true); // the checks are not confirmed yet
     for (const box of await panel.getByRole('checkbox').all()) await box.check();
     await back.click();
-    await sp.getByText('Laser C is back in service.').waitFor();
-    expect((await testDb()('machines').where({ code: 'laser-c' }).first()).status).toBe('in service');
-    expect(await testDb()('audit_log').where({ kind: 'machine.status_changed' }).orderBy('at', 'desc').first()).toMatchObject({ after: { status: 'in service' } });
+    await sp.getByText(`${laser.name} is back in service.`).waitFor();
+    expect((await testDb()('machines').where({ id: laser.id }).first()).status).toBe('in service');
+    expect(await testDb()('audit_log').where({ kind: 'machine.status_changed', subject_id: laser.id }).orderBy('at', 'desc').first()).toMatchObject({ after: { status: 'in service' } });
     expect(deskErrors).toEqual([]);
     await desk.close();
   });

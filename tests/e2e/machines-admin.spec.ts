@@ -5,7 +5,7 @@
  */
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, hydrated, launch, newContext, settled, shot, signIn, watchErrors } from '../support/browser';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 
 let browser: Browser;
@@ -104,5 +104,62 @@ describe('the Machines screen', () => {
     expect(await page.evaluate(() => Math.max(document.documentElement.scrollWidth, document.body.scrollWidth)), wide.join('; ')).toBeLessThanOrEqual(PHONE.width);
     expect(errors).toEqual([]);
     await ctx.close();
+  });
+});
+
+// From the booking journey (which now runs beside other files): "all machines" shows one calendar per machine in
+// service, three on the demo site — a count only a file running alone can make, as others add test machines.
+describe('the Floor and the Book screen for all machines', () => {
+  it('the admin sees the Machines screen and the Floor shows now and next', async () => {
+    const ctx = await newContext(browser, DESK);
+    const page = await ctx.newPage();
+    const errors = watchErrors(page);
+    await signIn(page, 'admin');
+    expect(await page.locator('[data-machine="laser-a"] [data-next]').innerText()).not.toBe('');
+    await page.goto('/admin/machines');
+    await hydrated(page);
+    await page.getByRole('button', { name: 'Save rules' }).waitFor();
+    await shot(page, 'machines-desk');
+    await page.goto('/book');
+    await hydrated(page);
+    await page.getByLabel('Machine', { exact: true }).first().selectOption('all');
+    await expect.poll(() => page.locator('[data-machine-calendar]').count()).toBe(3);
+    await settled(page);
+    await shot(page, 'book-all-machines-desk');
+    expect(errors).toEqual([]);
+    await ctx.close();
+  });
+});
+
+// From the machine journey (which now runs beside other files): one label per machine in service, three on the demo
+// site — a count only a file running alone can make, as others add test machines.
+describe('labels and upkeep', () => {
+  it('the admin prints the label sheet; the steward reads the upkeep forecast', async () => {
+    const ctx = await newContext(browser, DESK);
+    const page = await ctx.newPage();
+    const errors = watchErrors(page);
+    await signIn(page, 'admin');
+    await page.goto('/admin/labels');
+    await hydrated(page);
+    expect(await page.locator('li.label').count()).toBe(3);
+    expect(await page.locator('li.label .label-art > svg').count()).toBe(3);
+    await shot(page, 'labels-desk');
+    await page.emulateMedia({ media: 'print' });
+    await shot(page, 'labels-print');
+    await ctx.close();
+
+    const phone = await newContext(browser, PHONE);
+    const p2 = await phone.newPage();
+    const errors2 = watchErrors(p2);
+    await signIn(p2, 'steward');
+    await p2.goto('/upkeep');
+    // the demo lens clean on Laser C is 11 days old: overdue on a 7-day interval
+    expect(await p2.locator('[data-machine="laser-c"] tr[data-kind="lens_clean"]').getAttribute('data-state')).toBe('overdue');
+    await shot(p2, 'upkeep-phone');
+    await p2.goto('/m/laser-c');
+    expect(await p2.locator('[data-upkeep-overdue]').innerText()).toMatch(/lens clean/);
+    await shot(p2, 'machine-page-steward-phone');
+    expect([...errors, ...errors2]).toEqual([]);
+    await phone.close();
   });
 });
