@@ -225,7 +225,15 @@ export async function upkeepStatus(machineId: string, now = new Date(), trx: Con
 export async function upkeepOverview(now = new Date()): Promise<UpkeepStatus[]> {
   const ids = (await db()('machines').whereNull('retired_at').orderBy('name').pluck('id')) as string[];
   const out: UpkeepStatus[] = [];
-  for (const id of ids) out.push(await upkeepStatus(id, now));
+  for (const id of ids) {
+    try {
+      out.push(await upkeepStatus(id, now));
+    } catch (err) {
+      // retired while the list was being built (an admin at the same moment): it leaves the list, not a 500
+      if (err instanceof DomainError && err.kind === 'not_found') continue;
+      throw err;
+    }
+  }
   return out;
 }
 
