@@ -57,6 +57,10 @@ const env = appEnv(cfg, secrets, {
   CHROMIUM_PATH: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
   // the worker runs queued jobs but no clock-driven sweeps: tests run those themselves (tests/support/queue.ts)
   WORKER_SCHEDULES: 'off',
+  // a provider call the payment fake does not answer (paused by a test) gives up after 3 s (worker) / 2 s (request)
+  // instead of 10 s / 3 s, so the tests of a silent provider wait less; every other call is answered long before
+  PAYMENTS_WORKER_TIMEOUT_MS: process.env.PAYMENTS_WORKER_TIMEOUT_MS ?? '3000',
+  PAYMENTS_REQUEST_TIMEOUT_MS: process.env.PAYMENTS_REQUEST_TIMEOUT_MS ?? '2000',
 });
 
 runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the test database');

@@ -207,7 +207,7 @@ describe('a provider call that fails for good', () => {
     const sent = new Date();
     pauseFake();
     try {
-      // the worker's last attempt (retryCount = retryLimit): the provider does not answer within its 10 s timeout
+      // the worker's last attempt (retryCount = retryLimit): the provider does not answer within its timeout (PAYMENTS_WORKER_TIMEOUT_MS: 3 s under npm test)
       await runIntent({ kind: 'charge', chargeId: row.id }, { final: true });
     } finally {
       resumeFake();

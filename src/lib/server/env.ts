@@ -34,6 +34,9 @@ const schema = z.object({
   STRIPE_API_PORT: port.default(12111),
   STRIPE_API_PROTOCOL: z.enum(['http', 'https']).default('http'),
   STRIPE_WEBHOOK_SECRET: z.string().min(8).default('whsec_beamwarden_local_development'),
+  /** how long a provider call waits for its answer: in the worker (which retries), and in a request's one try */
+  PAYMENTS_WORKER_TIMEOUT_MS: z.coerce.number().int().min(500).max(120_000).default(10_000),
+  PAYMENTS_REQUEST_TIMEOUT_MS: z.coerce.number().int().min(500).max(60_000).default(3_000),
   S3_ENDPOINT: z.url().default('http://127.0.0.1:4569'),
   S3_REGION: z.string().default('us-east-1'),
   S3_BUCKET: z.string().default('beamwarden-uploads'),
@@ -105,6 +108,8 @@ export const ENV_DOCS: readonly EnvDoc[] = [
     ['STRIPE_API_HOST', '127.0.0.1', 'Local payment fake host (used when STRIPE_API_BASE is not set).'],
     ['STRIPE_API_PORT', '12111', 'Local payment fake port.'],
     ['STRIPE_API_PROTOCOL', 'http', 'Local payment fake protocol.'],
+    ['PAYMENTS_WORKER_TIMEOUT_MS', '10000', 'How long the worker waits for the payment provider\'s answer before it retries the call later.'],
+    ['PAYMENTS_REQUEST_TIMEOUT_MS', '3000', 'How long a request waits for the provider on its one try before the worker takes over ("hold pending").'],
   ]),
   ...envGroup('Build', 'scripts', [
     ['PUBLIC_HOSTNAMES', 'lasers.example.org', 'Host names the built app answers to, comma separated (read by npm run build).'],

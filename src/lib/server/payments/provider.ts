@@ -14,9 +14,8 @@ let client: Stripe | undefined;
 let quickClient: Stripe | undefined;
 /** Set while a request makes its one try at once: provider calls give up sooner, the job does the rest. */
 const quick = new AsyncLocalStorage<boolean>();
-/** How long the worker, and a request's one try, wait for the provider's answer. */
-export const PROVIDER_TIMEOUT_MS = { worker: 10_000, request: 3_000 } as const;
 
+/** The provider client: the worker's waits PAYMENTS_WORKER_TIMEOUT_MS (10 s) for an answer, a request's one try PAYMENTS_REQUEST_TIMEOUT_MS (3 s). */
 export function provider(): Stripe {
   const make = (timeout: number) => {
     const c = new Stripe(env().STRIPE_SECRET_KEY, {
@@ -31,8 +30,8 @@ export function provider(): Stripe {
     });
     return c;
   };
-  if (quick.getStore()) return (quickClient ??= make(PROVIDER_TIMEOUT_MS.request));
-  return (client ??= make(PROVIDER_TIMEOUT_MS.worker));
+  if (quick.getStore()) return (quickClient ??= make(env().PAYMENTS_REQUEST_TIMEOUT_MS));
+  return (client ??= make(env().PAYMENTS_WORKER_TIMEOUT_MS));
 }
 
 /** STRIPE_API_BASE (a URL) when set, else the host, port and protocol of the local fake. */
