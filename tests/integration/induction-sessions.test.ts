@@ -10,7 +10,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Client, body } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
-import { signUpNew } from '../support/people';
+import { newPerson } from '../support/people';
 import { iso, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { startAttempt } from '../../src/lib/server/quizzes';
 import { remindSeats } from '../../src/lib/server/induction-sessions/reminders';
@@ -56,9 +56,9 @@ async function bank(attemptId: string): Promise<QuizQuestion[]> {
   return row.questions;
 }
 
-/** A new person who passes the glass-tube quiz through the API (clearance: awaiting sign-off). */
+/** A new person (the seeds' factory: signing up is not the subject) who passes the glass-tube quiz through the API (clearance: awaiting sign-off). */
 async function quizPassed(label: string) {
-  const p = await signUpNew(label);
+  const p = await newPerson(label);
   const quizId = glass().publishedQuizId!;
   const start = await p.client.send('POST', `/api/quizzes/${quizId}/attempt`);
   expect(start.status).toBe(201);
@@ -76,7 +76,7 @@ async function publish(c: Client, over: Record<string, unknown>) {
 
 describe('the quiz resumes instead of counting again', () => {
   it('a reload returns the open attempt (200, same id, same questions, saved answers); one attempt is counted', async () => {
-    const p = await signUpNew('resume');
+    const p = await newPerson('resume');
     const quizId = glass().publishedQuizId!;
     const first = await p.client.send('POST', `/api/quizzes/${quizId}/attempt`);
     expect(first.status).toBe(201);
@@ -99,12 +99,12 @@ describe('the quiz resumes instead of counting again', () => {
     expect(rows).toHaveLength(1);
     // answers to questions not drawn are refused, someone else cannot save into it
     expect((await p.client.send('PATCH', `/api/quizzes/${quizId}/attempts/${a.attemptId}`, { answers: { nope: ['a'] } })).status).toBe(422);
-    const other = await signUpNew('resume-other');
+    const other = await newPerson('resume-other');
     expect((await other.client.send('PATCH', `/api/quizzes/${quizId}/attempts/${a.attemptId}`, { answers: {} })).status).toBe(404);
   });
 
   it('an attempt left open past the time limit expires: it counts, and the next start is a new attempt', async () => {
-    const p = await signUpNew('expired');
+    const p = await newPerson('expired');
     const id = await personId(p.email);
     const quizId = rf().publishedQuizId!;
     const old = await startAttempt(id, quizId, new Date(Date.now() - 40 * 60_000));
@@ -118,7 +118,7 @@ describe('the quiz resumes instead of counting again', () => {
   });
 
   it('three attempts that ran out in 24 hours use up the day: 429 daily_limit', async () => {
-    const p = await signUpNew('daylimit');
+    const p = await newPerson('daylimit');
     const id = await personId(p.email);
     const quizId = rf().publishedQuizId!;
     for (const h of [3, 2, 1]) await startAttempt(id, quizId, new Date(Date.now() - h * 3_600_000));
@@ -167,7 +167,7 @@ describe('induction sessions and seats', () => {
   });
 
   it('people who may not take a seat get 403 not_eligible with the reason', async () => {
-    const fresh = await signUpNew('noquiz');
+    const fresh = await newPerson('noquiz');
     const r1 = await fresh.client.send('POST', `/api/induction-sessions/${session.id}/seats`, {});
     expect(r1.status).toBe(403);
     const b1 = await body(r1);

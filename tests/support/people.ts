@@ -33,17 +33,13 @@ export async function signUpNew(label: string): Promise<{ client: Client; email:
 }
 
 /**
- * A new person (through sign-up) who holds a current clearance for the groups of the given machines, written
- * straight into the test database: for tests whose subject is booking, not the clearance path. Each test file
- * that books takes its own person, so no file eats another's weekly quota, whatever weekday the suite runs on.
+ * A new member (made by the seeds' factory, as newPerson: signing up is not the subject) who holds a current
+ * clearance for the groups of the given machines, written straight into the test database: for tests whose subject
+ * is booking, not the clearance path. Each test file that books takes its own person, so no file eats another's
+ * weekly quota, whatever weekday the suite runs on.
  */
 export async function clearedNew(label: string, machineCodes: string[]): Promise<{ client: Client; email: string; name: string; password: string; id: string }> {
-  const made = await signUpNew(label);
-  const db = testDb();
-  const person = await db('people').where({ email: made.email }).first('id');
-  if (!person) throw new Error(`no person row for ${made.email}`);
-  await clearFor(person.id, machineCodes);
-  return { ...made, id: person.id };
+  return newPerson(label, { clearedFor: machineCodes });
 }
 
 /** Current (advanced) clearances for the groups of the given machines, written straight into the test database. */

@@ -11,13 +11,17 @@ export type { QueueName };
 
 const WAITING = ['created', 'retry'];
 
-/** Jobs of these queues held back by a retry delay (back-off) or a later start become due now; returns how many. */
-export async function makeDue(names: QueueName | QueueName[]): Promise<number> {
+/**
+ * Jobs of these queues held back by a retry delay (back-off) or a later start become due now (only the jobs with
+ * these ids, when given); returns how many.
+ */
+export async function makeDue(names: QueueName | QueueName[], ids?: string[]): Promise<number> {
   const list = Array.isArray(names) ? names : [names];
   return testDb()
     .withSchema('pgboss')
     .table('job')
     .whereIn('name', list)
+    .modify((q) => (ids ? q.whereIn('id', ids) : q))
     .whereIn('state', WAITING)
     .where('start_after', '>', testDb().fn.now())
     .update({ start_after: testDb().fn.now() });

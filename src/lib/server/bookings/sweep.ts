@@ -1,4 +1,5 @@
 /** The sweep (run every minute by the worker): no-shows and expired waitlist holds. */
+import type { Knex } from 'knex';
 import { transaction } from '@lib/server/db';
 import { recordAudit } from '@lib/server/audit';
 import { recordPaymentIntent } from '@lib/server/payment-intents';
@@ -6,15 +7,18 @@ import { NO_SHOW_AFTER_MINUTES } from '@lib/availability';
 import type { Row } from './records';
 import { offerFreedTime } from './waitlist';
 
-export async function sweepBookings(now = new Date()): Promise<{ noShows: number; expiredHolds: number }> {
+export async function sweepBookings(now = new Date(), only?: { machineIds: string[] }): Promise<{ noShows: number; expiredHolds: number }> {
   // each personal no-show is charged the no-show fee (which releases its hold first): an intent recorded with it
-  const r = await sweepRows(now);
+  const r = await sweepRows(now, only);
   return { noShows: r.noShows, expiredHolds: r.expiredHolds };
 }
 
-async function sweepRows(now: Date): Promise<{ noShows: number; expiredHolds: number; noShowBookings: Row[] }> {
+/** `only`: the bookings of these machines (a test sweeps its own machines); the worker sweeps every machine. */
+async function sweepRows(now: Date, only?: { machineIds: string[] }): Promise<{ noShows: number; expiredHolds: number; noShowBookings: Row[] }> {
+  const scoped = (q: Knex.QueryBuilder) => (only ? q.whereIn('machine_id', only.machineIds) : q);
   return transaction(async (trx) => {
     const late = (await trx('bookings')
+      .modify(scoped)
       .where({ state: 'reserved' })
       .whereIn('kind', ['personal', 'class'])
       .whereNull('checked_in_at')
@@ -39,6 +43,7 @@ async function sweepRows(now: Date): Promise<{ noShows: number; expiredHolds: nu
       if (r.kind === 'personal') await recordPaymentIntent(trx, { kind: 'booking.fee', bookingId: r.id, fee: 'no_show' });
     }
     const holds = (await trx('bookings')
+      .modify(scoped)
       .where({ state: 'reserved', kind: 'hold' })
       .where('hold_expires_at', '<=', now)
       .forUpdate()
