@@ -15,7 +15,8 @@ import { configDefaults, defineConfig } from 'vitest/config';
  * Integration files that may run beside each other: each makes its own people, machines, groups and bookings (or only
  * reads demo rows nobody in this list changes), changes no site-wide setting, price, material rule or sign-in
  * counter another file in the list relies on, stops no service, runs no sweep over every row, and counts no table as a
- * whole. A file that does any of these stays out of the list (decision record 0415 says why for each).
+ * whole (a sweep a file runs itself is limited to its own machines). A file that does any of these stays out of
+ * the list (decision record 0415 says why for each).
  */
 export const PARALLEL_INTEGRATION = [
   'access-matrix',
