@@ -519,9 +519,13 @@ function stopReplacement(s: Service): void {
   }
 }
 
-/** Stops every child this process started, newest first, by PID; then waits for them to exit. */
-export async function stopServices(): Promise<void> {
-  const list = running.splice(0).reverse();
+/**
+ * Stops every child this process started (or only the given ones: a test file stops its own, as the files of one
+ * test process run one after another), newest first, by PID; then waits for them to exit.
+ */
+export async function stopServices(only?: readonly Service[]): Promise<void> {
+  const list = (only ? running.filter((s) => only.includes(s)) : [...running]).reverse();
+  for (const s of list) running.splice(running.indexOf(s), 1);
   await Promise.all(
     list.map(
       (s) =>

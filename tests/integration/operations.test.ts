@@ -7,15 +7,18 @@ import fs from 'node:fs';
 import net from 'node:net';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { portOpen, startPostgresAgain, stopPostgresFast, stopServices } from '../../scripts/lib/stack';
+import { portOpen, startPostgresAgain, stopPostgresFast, stopServices, type Service } from '../../scripts/lib/stack';
 import { Client } from '../support/client';
 import { closeTestDb } from '../support/db';
 import { APP_URL } from '../support/env';
 import { waitUntil } from '../support/wait';
 import { startApp } from '../support/processes';
 
+/** The app processes this file started (the serial files share one test process: other files' services are theirs). */
+const mine: Service[] = [];
+
 afterAll(async () => {
-  await stopServices();
+  await stopServices(mine);
   await closeTestDb();
 });
 
@@ -136,6 +139,7 @@ describe('graceful stop', () => {
   it('SIGTERM during a slow request: no new connections, the request finishes, the process exits 0', async () => {
     const dataDir = process.env.TEST_DATA_DIR!;
     const { service: app, port } = await startApp('app-graceful', { env: { SHUTDOWN_TIMEOUT_MS: '15000' } });
+    mine.push(app);
     const exited = new Promise<number | null>((resolve) => app.child.once('exit', (code) => resolve(code)));
     expect((await fetch(`http://127.0.0.1:${port}/readyz`)).status).toBe(200); // opens its database pool
 

@@ -8,7 +8,7 @@
  * serial set.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { stopServices } from '../../scripts/lib/stack';
+import { stopServices, type Service } from '../../scripts/lib/stack';
 import { iso, machines, setTestRules, siteTime } from '../support/booking';
 import { Client } from '../support/client';
 import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
@@ -17,13 +17,17 @@ import { startApp } from '../support/processes';
 import { waitUntil } from '../support/wait';
 
 let secondUrl: string;
+let second: Service | undefined;
 
 beforeAll(async () => {
-  secondUrl = (await startApp('app-2', { entry: 'server' })).url;
+  const started = await startApp('app-2', { entry: 'server' });
+  second = started.service;
+  secondUrl = started.url;
 }, 60_000);
 
 afterAll(async () => {
-  await stopServices();
+  // only this file's app: the serial files share one test process
+  await stopServices(second ? [second] : []);
   await clearSignInLimits();
   await closeTestDb();
 });
