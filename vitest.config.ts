@@ -43,10 +43,12 @@ export const PARALLEL_INTEGRATION = [
  * (clearSignInLimits), which accounts.test.ts counts up to a 429. fault-journey reports and resolves its fault with
  * people of its own; sign-in-by-role signs people of its own in through the form, on a domain that accounts.test.ts's
  * institution-only moment does not cover, and forgets only their counters. The journeys that change rules, prices,
- * quizzes, the site, a demo laser, or book the demo people stay serial.
+ * quizzes, the site, a demo laser, or book the demo people stay serial; account-journey charges a member of its own
+ * (scheduling a price version is the serial pricing-journey).
  */
 export const PARALLEL_E2E = [
   'accessibility',
+  'account-journey',
   'book-feedback',
   'booking-journey',
   'fault-journey',
