@@ -44,13 +44,15 @@ export const PARALLEL_INTEGRATION = [
  * people of its own; sign-in-by-role signs people of its own in through the form, on a domain that accounts.test.ts's
  * institution-only moment does not cover, and forgets only their counters. The journeys that change rules, prices,
  * quizzes, the site, a demo laser, or book the demo people stay serial; account-journey charges a member of its own
- * (scheduling a price version is the serial pricing-journey).
+ * (scheduling a price version is the serial pricing-journey); booking-materials blocks plywood on a test machine of its
+ * own (an override of that machine only).
  */
 export const PARALLEL_E2E = [
   'accessibility',
   'account-journey',
   'book-feedback',
   'booking-journey',
+  'booking-materials',
   'fault-journey',
   'machine-journey',
   'machine-page',
