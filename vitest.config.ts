@@ -45,7 +45,7 @@ export const PARALLEL_INTEGRATION = [
  * institution-only moment does not cover, and forgets only their counters. The journeys that change rules, prices,
  * quizzes, the site, a demo laser, or book the demo people stay serial; account-journey charges a member of its own
  * (scheduling a price version is the serial pricing-journey); booking-materials blocks plywood on a test machine of its
- * own (an override of that machine only).
+ * own (an override of that machine only); materials-screens only reads the rules (changing one is materials-journey).
  */
 export const PARALLEL_E2E = [
   'accessibility',
@@ -56,6 +56,7 @@ export const PARALLEL_E2E = [
   'fault-journey',
   'machine-journey',
   'machine-page',
+  'materials-screens',
   'phone-width',
   'qr-offline',
   'reports-journey',
