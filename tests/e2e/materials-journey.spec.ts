@@ -3,16 +3,13 @@
  * the whole site's. (Screening a formula and the hazard sheet, which only read, are materials-screens.spec.ts; the
  * booking form's materials, booking-materials.spec.ts.)
  */
-import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { shot, signIn, hydrated, withBrowser } from '../support/browser';
 import { Client, body } from '../support/client';
-import { closeTestDb } from '../support/db';
 
-let browser: Browser;
+const web = withBrowser();
 let corkBefore: any;
 beforeAll(async () => {
-  browser = await launch();
   const admin = await Client.as('admin');
   corkBefore = (await body(await admin.get('/api/material-rules'))).materials.find((m: any) => m.name === 'Cork');
 });
@@ -21,16 +18,11 @@ afterAll(async () => {
   const admin = await Client.as('admin');
   const { id, updatedAt: _u, ...input } = corkBefore;
   await admin.send('PUT', `/api/material-rules/${id}`, input);
-  await browser?.close();
-  await closeTestDb();
 });
 
 describe('materials journey', () => {
   it('the admin blocks cork on Material rules, and the member sees it blocked with the reason', async () => {
-    const ctx = await newContext(browser);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    const { ctx, page, errors } = await web.openAs('admin');
     await page.goto('/admin/materials');
     await hydrated(page);
     await page.getByRole('row').filter({ hasText: 'PVC and vinyl' }).waitFor();
@@ -47,8 +39,7 @@ describe('materials journey', () => {
     expect(errors).toEqual([]);
     await ctx.close();
 
-    const mctx = await newContext(browser);
-    const m = await mctx.newPage();
+    const { ctx: mctx, page: m } = await web.openAs(null);
     await signIn(m, 'member');
     await m.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Materials', exact: true }).click();
     await m.waitForURL('**/materials');
