@@ -18,7 +18,8 @@ beforeAll(async () => {
   people.grantee = await newPerson('signin-grantee', { domain: DOMAIN });
 });
 afterAll(async () => {
-  // the counters of this file's people only (a wrong password counts against the person and the pair)
+  // the counters of this file's people only; the one point the wrong password put on the browser's address stays
+  // (30 failures in 15 minutes close an address; nothing counts up to that from the browser's address)
   for (const { email } of Object.values(people)) {
     await testDb()('sign_in_limits').whereIn('key', [`email:${email}`, `email-wait:${email}`]).orWhere('key', 'like', `pair:${email}|%`).delete();
   }
