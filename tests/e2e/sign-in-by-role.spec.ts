@@ -3,7 +3,7 @@
  * the file's own, on a domain other than the institution's (which accounts.test.ts turns password sign-in off for,
  * for a moment), so the file runs beside others; it forgets only its own people's sign-in counters.
  */
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, it } from 'vitest';
 import { DESK, PHONE, shot, signIn, signInThroughForm, hydrated, withBrowser } from '../support/browser';
 import { testDb } from '../support/db';
 import { newPerson, type TestPerson } from '../support/people';
@@ -11,11 +11,12 @@ import type { Role } from '../../src/lib/roles';
 
 const web = withBrowser();
 const DOMAIN = 'signin-e2e.example';
-const people = {} as Record<'member' | 'instructor' | 'steward' | 'admin' | 'grantee', TestPerson>;
+const people = {} as Record<'member' | 'instructor' | 'steward' | 'admin' | 'grantee' | 'mistyped', TestPerson>;
 
 beforeAll(async () => {
   for (const role of ['member', 'instructor', 'steward', 'admin'] as const satisfies readonly Role[]) people[role] = await newPerson(`signin-${role}`, { roles: [role], domain: DOMAIN });
   people.grantee = await newPerson('signin-grantee', { domain: DOMAIN });
+  people.mistyped = await newPerson('signin-mistyped', { domain: DOMAIN }); // a wrong password of its own
 });
 afterAll(async () => {
   // the counters of this file's people only; the one point the wrong password put on the browser's address stays
@@ -32,9 +33,10 @@ const cases = [
   { who: 'admin', sees: ['Floor', 'People'], notSees: [] },
 ] as const;
 
-describe('signing in as each role', () => {
+// the checks share nothing (each its own context and person): they run side by side
+describe.concurrent('signing in as each role', () => {
   for (const c of cases) {
-    it(`${c.who}: the Floor lists the lasers and the navigation shows the screens of the role`, async () => {
+    it(`${c.who}: the Floor lists the lasers and the navigation shows the screens of the role`, async ({ expect }) => {
       const { ctx, page, errors } = await web.openAs(null);
       await signInThroughForm(page, people[c.who].email, people[c.who].password);
       expect(new URL(page.url()).pathname).toBe('/');
@@ -50,7 +52,7 @@ describe('signing in as each role', () => {
     });
   }
 
-  it('a member opening the People screen gets the 403 page', async () => {
+  it('a member opening the People screen gets the 403 page', async ({ expect }) => {
     const { ctx, page } = await web.openAs(people.member.email);
     const res = await page.goto('/admin/people');
     expect(res?.status()).toBe(403);
@@ -58,15 +60,15 @@ describe('signing in as each role', () => {
     await ctx.close();
   });
 
-  it('a wrong password shows a clear message and stays on the sign-in page', async () => {
+  it('a wrong password shows a clear message and stays on the sign-in page', async ({ expect }) => {
     const { ctx, page } = await web.openAs(null);
-    await signInThroughForm(page, people.member.email, 'not the password');
+    await signInThroughForm(page, people.mistyped.email, 'not the password');
     expect(new URL(page.url()).pathname).toBe('/signin');
     await expect(page.getByRole('alert').innerText()).resolves.toContain('do not match an active account');
     await ctx.close();
   });
 
-  it('signed out, a deep link leads to sign-in and back to the same page afterwards', async () => {
+  it('signed out, a deep link leads to sign-in and back to the same page afterwards', async ({ expect }) => {
     const { ctx, page } = await web.openAs(null);
     await page.goto('/admin/people?q=ste');
     await hydrated(page);
@@ -77,7 +79,7 @@ describe('signing in as each role', () => {
     await ctx.close();
   });
 
-  it('the admin finds a person on the People screen and grants a role, at desk and phone widths', async () => {
+  it('the admin finds a person on the People screen and grants a role, at desk and phone widths', async ({ expect }) => {
     const { email, name } = people.grantee;
     for (const [label, viewport] of [['desk', DESK], ['phone', PHONE]] as const) {
       const { ctx, page, errors } = await web.openAs(null, viewport);
