@@ -42,11 +42,29 @@ export const PARALLEL_INTEGRATION = [
  * reads screens, and asserts nothing that a concurrent file's rows could change (the Floor's or a list's length, a
  * report's total read at two moments — reports-journey compares screen and CSV only while the total holds still — the
  * sign-in page, which accounts.test.ts turns institution-only for a moment), and none clears the request counters
- * (clearSignInLimits), which accounts.test.ts counts up to a 429. The journeys that change rules, prices, quizzes,
- * the site, a demo laser, or book the demo people stay serial; so does fault-journey, whose fault is reported by the
- * demo member while accounts.test.ts counts that member's faults in an export.
+ * (clearSignInLimits), which accounts.test.ts counts up to a 429. fault-journey reports and resolves its fault with
+ * people of its own; sign-in-by-role signs people of its own in through the form, on a domain that accounts.test.ts's
+ * institution-only moment does not cover, and forgets only their counters. The journeys that change rules, prices,
+ * quizzes, the site, a demo laser, or book the demo people stay serial; account-journey charges a member of its own
+ * (scheduling a price version is the serial pricing-journey); booking-materials blocks plywood on a test machine of its
+ * own (an override of that machine only); materials-screens only reads the rules (changing one is materials-journey).
  */
-export const PARALLEL_E2E = ['accessibility', 'book-feedback', 'booking-journey', 'machine-journey', 'machine-page', 'phone-width', 'qr-offline', 'reports-journey', 'safety-gate'].map((name) => `tests/e2e/${name}.spec.ts`);
+export const PARALLEL_E2E = [
+  'accessibility',
+  'account-journey',
+  'book-feedback',
+  'booking-journey',
+  'booking-materials',
+  'fault-journey',
+  'machine-journey',
+  'machine-page',
+  'materials-screens',
+  'phone-width',
+  'qr-offline',
+  'reports-journey',
+  'safety-gate',
+  'sign-in-by-role',
+].map((name) => `tests/e2e/${name}.spec.ts`);
 
 const fileSet = process.env.TEST_FILE_SET as 'parallel' | 'serial' | undefined;
 /** The files of a project in this pass: all of them (no set), only the parallel ones, or the rest. */

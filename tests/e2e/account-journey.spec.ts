@@ -1,34 +1,31 @@
 /**
- * Journey: a member saves the test card on Account and sees it (brand, last four), then a receipt with its
- * breakdown; an admin schedules a price version with a future effective date, and a quote for now keeps the
- * old rate. Screenshots of Account and Pricing at phone and desk width.
+ * Journey: a member (of the file's own, on the Community tier like the demo member) saves the test card on Account
+ * and sees it (brand, last four), then a receipt with its breakdown. Screenshots of Account at phone and desk width.
+ * Scheduling a price version is pricing-journey.spec.ts (it changes what every file's quotes read later on).
  */
 import { randomUUID } from 'node:crypto';
-import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
-import { closeTestDb, testDb } from '../support/db';
+import { PHONE, shot, signIn, settled, withBrowser } from '../support/browser';
+import { testDb } from '../support/db';
+import { newPerson, type TestPerson } from '../support/people';
 import { chargeBeamTime } from '../../src/lib/server/payments/billing';
 import { closeDb } from '../../src/lib/server/db';
 import { stopJobs } from '../../src/lib/server/jobs';
 
-let browser: Browser;
+const web = withBrowser();
+let member: TestPerson;
 beforeAll(async () => {
-  browser = await launch();
+  member = await newPerson('account', { tier: 'community' });
 });
 afterAll(async () => {
-  await browser?.close();
   await stopJobs();
   await closeDb();
-  await closeTestDb();
 });
 
-describe('account and pricing', () => {
+describe('account', () => {
   it('the member saves the always-approved practice card, sees Visa •••• 4242, and reads a receipt with the breakdown', async () => {
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
-    await signIn(page, 'member');
+    const { ctx, page, errors } = await web.openAs(null);
+    await signIn(page, member.email);
     await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Account', exact: true }).click();
     await settled(page);
     expect(await page.getByRole('heading', { level: 1 }).innerText()).toBe('Account');
@@ -43,13 +40,12 @@ describe('account and pricing', () => {
     expect(await page.getByTestId('tier').innerText()).toBe('Community');
 
     // a check-out (issue 6 will call this) charges the saved card
-    const member = await testDb()('people').where({ email: 'member@tidewater.example' }).first('id');
     const laserB = await testDb()('machines').where({ code: 'laser-b' }).first('id');
     const charge = await chargeBeamTime({ personId: member.id, machineId: laserB.id, sessionId: randomUUID(), startedAt: new Date(), minutes: 18, materials: [{ sku: 'mdf-3', quantity: 1 }] });
     expect(charge.state).toBe('captured');
     await page.reload();
     await settled(page);
-    // newest first: the charge this journey just made (other files may have charged member@ on Laser B too)
+    // newest first: the charge this journey just made
     const row = page.locator('tbody tr', { hasText: 'Laser B' }).first();
     // 18 → 20 min × NZD 0.75 + one MDF sheet 4.00 = 19.00 (seeded prices)
     expect(await row.innerText()).toContain('$19.00'); // NZD written the en-NZ way
@@ -66,51 +62,13 @@ describe('account and pricing', () => {
     expect(errors).toEqual([]);
     await ctx.close();
 
-    const phone = await newContext(browser, PHONE);
-    const p2 = await phone.newPage();
-    await signIn(p2, 'member');
+    const { ctx: phone, page: p2 } = await web.openAs(member.email, PHONE);
     await p2.goto('/account');
     await settled(p2);
     expect(await p2.getByTestId('card').innerText()).toBe('Visa •••• 4242');
     const overflow = await p2.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
     expect(overflow).toBeLessThanOrEqual(0);
     await shot(p2, 'account-phone');
-    await phone.close();
-  });
-
-  it('the admin schedules a new price version; a quote for now keeps the old rate', async () => {
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
-    await signIn(page, 'admin');
-    await page.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Pricing', exact: true }).click();
-    await settled(page);
-    const future = new Date(Date.now() + 90 * 86_400_000).toISOString().slice(0, 10);
-    await page.getByLabel(/Effective from/).fill(future);
-    await page.getByLabel('Laser A, Community rate per minute').fill('2.00');
-    await page.getByLabel(/Note for the history/).fill('New tube on Laser A');
-    await page.getByRole('button', { name: 'Save as new version' }).click();
-    await page.getByText(/Saved: the new prices apply from/).waitFor();
-    const scheduled = page.locator('li', { hasText: 'New tube on Laser A' });
-    expect(await scheduled.innerText()).toContain('Scheduled');
-
-    const laserA = await testDb()('machines').where({ code: 'laser-a' }).first('id');
-    const now = await page.request.post('/api/tools/quote', { data: { machineId: laserA.id, tier: 'community', minutes: 10 } });
-    expect(now.status()).toBe(200);
-    expect((await now.json()).amountMinor).toBe(900); // the seeded rate NZD 0.90/min still in force
-    const at = new Date(Date.parse(`${future}T12:00:00Z`)).toISOString();
-    const later = await page.request.post('/api/tools/quote', { data: { machineId: laserA.id, tier: 'community', minutes: 10, at } });
-    expect((await later.json()).amountMinor).toBe(2000);
-    await shot(page, 'pricing-desk');
-    expect(errors).toEqual([]);
-    await ctx.close();
-
-    const phone = await newContext(browser, PHONE);
-    const p2 = await phone.newPage();
-    await signIn(p2, 'admin');
-    await p2.goto('/admin/pricing');
-    await settled(p2);
-    await shot(p2, 'pricing-phone');
     await phone.close();
   });
 });

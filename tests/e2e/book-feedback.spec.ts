@@ -5,12 +5,12 @@
  * where the person clicked, and "Cancel booking" asks first, saying what cancelling costs. At desk and phone
  * widths, with axe-core on the screen and on the open dialog.
  */
-import type { Browser, Locator, Page } from 'playwright-core';
+import type { Locator, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled, SCREENSHOTS } from '../support/browser';
+import { DESK, PHONE, shot, signIn, hydrated, settled, SCREENSHOTS, withBrowser } from '../support/browser';
 import { axe } from '../support/axe';
 import { Client } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 import { clearedNew, newPerson } from '../support/people';
 import { createTestMachine, priceTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { SITE_TZ, setTestRules, siteTime } from '../support/booking';
@@ -18,7 +18,7 @@ import { zonedDate } from '../../src/lib/time';
 
 const DAY = 26; // on a machine of this file's own: no other file books it, so any day works
 
-let browser: Browser;
+const web = withBrowser();
 let admin: Client;
 let laser: TestMachine; // its own (priced) machine: runs beside other files, whose bookings and rules it never meets
 let who: { email: string; password: string };
@@ -26,7 +26,6 @@ let who: { email: string; password: string };
 const named = () => laser.name.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
 
 beforeAll(async () => {
-  browser = await launch();
   admin = await Client.as('admin');
   laser = await createTestMachine(admin, 'bookfeedback');
   await priceTestMachine(laser.id, 150);
@@ -34,9 +33,7 @@ beforeAll(async () => {
   who = await clearedNew('bookfeedback', [laser.code]); // no saved card: beam time is charged at check-out
 });
 afterAll(async () => {
-  await browser?.close();
   await retireTestMachine(admin, laser);
-  await closeTestDb();
 });
 
 const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
@@ -70,9 +67,7 @@ describe('the Book screen as a first-week member meets it', () => {
     const taken = await steward.send('POST', '/api/bookings', { machineId: laser.id, startsAt: siteTime(DAY, 14).toISOString(), endsAt: siteTime(DAY, 15).toISOString(), materials: [], notes: '' });
     expect(taken.status).toBe(201);
 
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null);
     await signIn(page, who.email);
     await openBook(page);
     const form = page.getByRole('form', { name: 'Book by date and time' });
@@ -159,9 +154,7 @@ describe('the Book screen as a first-week member meets it', () => {
   }, 120_000);
 
   it('phone: the refused and the accepted answer are in view and focused; the dialog fits the screen', async () => {
-    const ctx = await newContext(browser, PHONE);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null, PHONE);
     await signIn(page, who.email);
     await openBook(page);
     await expect.poll(() => page.getByRole('button', { name: 'Day', exact: true }).getAttribute('aria-pressed'), { timeout: 20_000 }).toBe('true');

@@ -2,18 +2,18 @@
  * Journey: a cleared member books a free slot by dragging on the calendar, sees it, and cancels it; the
  * newbie is told why not (with the next step) before any form; the week view at desk width and the day view on a phone.
  */
-import type { Browser, Page } from 'playwright-core';
+import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
+import { PHONE, shot, signIn, hydrated, settled, withBrowser } from '../support/browser';
 import { Client } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 import { clearedNew, newPerson } from '../support/people';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { zonedDate } from '../../src/lib/time';
 import { dragSelect, goToDay } from '../support/calendar';
 
-let browser: Browser;
+const web = withBrowser();
 let admin: Client;
 let laserA: MachineRef; // the demo laser: only read here (the newbie's notice, the phone's day view, the Floor)
 let laser: TestMachine; // the bookings go on a machine of this file's own, so the file runs beside others
@@ -21,7 +21,6 @@ let who: { email: string; password: string };
 const DAY = 23; // clear of the demo seed (≤ 7 days ahead); the machine is this file's own
 
 beforeAll(async () => {
-  browser = await launch();
   admin = await Client.as('admin');
   laserA = (await machines(admin))['laser-a'];
   laser = await createTestMachine(admin, 'calendar');
@@ -29,9 +28,7 @@ beforeAll(async () => {
   who = await clearedNew('calendar', [laser.code]); // its own person: no other file's bookings count against its quota
 });
 afterAll(async () => {
-  await browser?.close();
   await retireTestMachine(admin, laser);
-  await closeTestDb();
 });
 
 const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
@@ -44,9 +41,7 @@ async function openBook(page: Page, day: string, machineId = laser.id) {
 
 describe('booking on the calendar', () => {
   it('the member books a free slot by dragging, sees it as theirs, and cancels it', async () => {
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null);
     await signIn(page, who.email);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
@@ -89,8 +84,7 @@ describe('booking on the calendar', () => {
     const other = (await newPerson('calendar-other', { clearedFor: [laser.code] })).client;
     const res = await other.send('POST', '/api/bookings', { machineId: laser.id, startsAt: siteTime(DAY, 14).toISOString(), endsAt: siteTime(DAY, 15).toISOString(), materials: [], notes: '' });
     expect(res.status).toBe(201);
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
+    const { ctx, page } = await web.openAs(null);
     await signIn(page, who.email);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
@@ -108,9 +102,7 @@ describe('booking on the calendar', () => {
   });
 
   it('the newbie is told before booking why not, with the link to the next step, and gets no booking form', async () => {
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null);
     await signIn(page, 'newbie');
     const day = dateOf(siteTime(DAY + 1, 12));
     await openBook(page, day, laserA.id);
@@ -126,10 +118,7 @@ describe('booking on the calendar', () => {
   });
 
   it('on a phone the calendar opens in the day view and stays readable', async () => {
-    const ctx = await newContext(browser, PHONE);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
-    await signIn(page, 'member');
+    const { ctx, page, errors } = await web.openAs('member', PHONE);
     await page.goto(`/book?machine=${laserA.id}`);
     await hydrated(page);
     await page.locator('.fc-timegrid-slot-lane').first().waitFor();

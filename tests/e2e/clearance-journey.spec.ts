@@ -3,23 +3,16 @@
  * passes → the instructor signs off the practical induction → the member's Clearances screen shows
  * `cleared` → the e-mails (quiz passed, cleared) arrive in maildev, read through its REST API.
  */
-import type { Browser, Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
-import { closeTestDb, testDb } from '../support/db';
+import type { Page } from 'playwright-core';
+import { describe, expect, it } from 'vitest';
+import { DESK, PHONE, hydrated, shot, signIn, watchErrors, withBrowser } from '../support/browser';
+import { testDb } from '../support/db';
 import { confirmByDatabase } from '../support/people';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 import { to, waitForMail } from '../support/mail';
 import { signUpThroughForm } from '../support/signup';
 
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(async () => {
-  await browser?.close();
-  await closeTestDb();
-});
+const web = withBrowser();
 
 const stamp = Date.now().toString(36);
 const member = { name: `Kiri Journey ${stamp}`, email: `journey-${stamp}@tidewater.example`, password: 'a long passphrase for the laser room' };
@@ -51,8 +44,7 @@ async function answerAll(page: Page, bank: QuizQuestion[], right: boolean): Prom
 describe('clearance journey', () => {
   it('instructor publishes, member fails then passes, instructor signs off, member is cleared, mail arrives', { timeout: 150_000 }, async () => {
     // 1. the instructor adds a question to the RF laser quiz, previews it and publishes version 2
-    const ictx = await newContext(browser);
-    const ipage = await ictx.newPage();
+    const { ctx: ictx, page: ipage } = await web.openAs(null);
     ipage.setDefaultTimeout(15_000);
     const ierrors = watchErrors(ipage);
     await signIn(ipage, 'instructor');
@@ -81,8 +73,7 @@ describe('clearance journey', () => {
     expect(bank.some((q) => q.prompt === NEW_PROMPT)).toBe(true);
 
     // 2. a new member signs up, fails the quiz once, then passes it
-    const mctx = await newContext(browser, PHONE);
-    const mpage = await mctx.newPage();
+    const { ctx: mctx, page: mpage } = await web.openAs(null, PHONE);
     mpage.setDefaultTimeout(15_000);
     const merrors = watchErrors(mpage);
     await signUpThroughForm(mpage, member);
@@ -151,9 +142,7 @@ describe('clearance journey', () => {
   });
 
   it('an admin sees the machine groups with their settings; a member is refused the instructor screens', async () => {
-    const actx = await newContext(browser);
-    const apage = await actx.newPage();
-    const errors = watchErrors(apage);
+    const { ctx: actx, page: apage, errors } = await web.openAs(null);
     await signIn(apage, 'admin');
     await apage.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Machine groups', exact: true }).click();
     const glassForm = apage.getByRole('form', { name: 'Glass-tube lasers' });
@@ -164,8 +153,7 @@ describe('clearance journey', () => {
     expect(errors).toEqual([]);
     await actx.close();
 
-    const mctx = await newContext(browser, PHONE);
-    const mpage = await mctx.newPage();
+    const { ctx: mctx, page: mpage } = await web.openAs(null, PHONE);
     await signIn(mpage, 'member');
     for (const path of ['/quizzes', '/signoffs', '/admin/machine-groups']) expect((await mpage.goto(path))?.status()).toBe(403);
     await mctx.close();

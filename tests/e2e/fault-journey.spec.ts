@@ -2,43 +2,44 @@
  * Journey: on a phone, a member reports a `stop` fault on a laser (one of its own) with a photo and sees the machine out of
  * service; at a desk the steward finds it first on the Faults screen, resolves it and puts the machine back
  * into service with the checks confirmed. Screenshots: the fault form (phone) and the Faults queue (desk).
+ * The laser, the member and the steward are the file's own, so it runs beside other files (no demo person's faults
+ * or mail change).
  */
 import sharp from 'sharp';
-import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated, settled } from '../support/browser';
+import { DESK, PHONE, shot, signIn, hydrated, settled, withBrowser } from '../support/browser';
 import { Client } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
+import { newPerson, type TestPerson } from '../support/people';
 
-let browser: Browser;
+const web = withBrowser();
 let admin: Client;
 // a machine of this file's own: its stop fault bumps nobody else's bookings, so the file runs beside others
 let laser: TestMachine;
+let member: TestPerson;
+let steward: TestPerson;
 
 beforeAll(async () => {
-  browser = await launch();
   admin = await Client.as('admin');
   laser = await createTestMachine(admin, 'faultjourney');
+  member = await newPerson('faultreporter');
+  steward = await newPerson('faultsteward', { roles: ['steward'] });
 });
 afterAll(async () => {
   await retireTestMachine(admin, laser);
-  await browser?.close();
-  await closeTestDb();
 });
 
 describe('a stop fault from the phone to the steward', () => {
   it('the member reports, the machine stops; the steward sees it and returns the machine to service', async () => {
     const photo = await sharp({ create: { width: 640, height: 480, channels: 3, background: { r: 90, g: 110, b: 130 } } }).jpeg().toBuffer();
 
-    const phone = await newContext(browser, PHONE);
-    const page = await phone.newPage();
-    const errors = watchErrors(page);
+    const { ctx: phone, page, errors } = await web.openAs(null, PHONE);
     // signed out: sign in first, then back to the same page
     await page.goto(`/m/${laser.code}/fault`);
     await hydrated(page);
     expect(page.url()).toContain('/signin');
-    await signIn(page, 'member');
+    await signIn(page, member.email);
     expect(new URL(page.url()).pathname).toBe(`/m/${laser.code}/fault`);
     await page.getByRole('heading', { name: 'Report a fault' }).waitFor();
 
@@ -52,14 +53,12 @@ describe('a stop fault from the phone to the steward', () => {
     await page.getByText(`${laser.name} is now out of service for everyone`).waitFor();
     expect((await testDb()('machines').where({ id: laser.id }).first()).status).toBe('out of service');
     const fault = await testDb()('faults').where({ machine_id: laser.id, summary: 'Smoke from the tube end, coolant alarm' }).first();
+    expect(fault.reported_by).toBe(member.id);
     expect(fault.photos).toHaveLength(1);
     expect(errors).toEqual([]);
     await phone.close();
 
-    const desk = await newContext(browser, DESK);
-    const sp = await desk.newPage();
-    const deskErrors = watchErrors(sp);
-    await signIn(sp, 'steward');
+    const { ctx: desk, page: sp, errors: deskErrors } = await web.openAs(steward.email, DESK);
     await sp.goto('/faults');
     const card = sp.locator(`[data-fault="${fault.id}"]`);
     await card.waitFor();

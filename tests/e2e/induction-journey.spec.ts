@@ -7,11 +7,11 @@
  * Calendar days used: 32 days ahead on Laser A (no other file books then); the session is tomorrow evening in the
  * room (no machine time), so it is among the next three sessions listed.
  */
-import type { Browser, Page } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, settled, SCREENSHOTS } from '../support/browser';
+import type { Page } from 'playwright-core';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { DESK, PHONE, hydrated, shot, signIn, watchErrors, SCREENSHOTS, withBrowser } from '../support/browser';
 import { Client } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
 import { zonedDate } from '../../src/lib/time';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
@@ -20,21 +20,16 @@ import { dragSelect, goToDay } from '../support/calendar';
 import { signUpThroughForm } from '../support/signup';
 
 const DAY = 32;
-let browser: Browser;
+const web = withBrowser();
 let laserA: MachineRef;
 const stamp = Date.now().toString(36);
 const member = { name: `Aroha Induction ${stamp}`, email: `induction-${stamp}@tidewater.example`, password: 'a long passphrase for the laser room' };
 const PLACE = `Laser room bench ${stamp}`;
 
 beforeAll(async () => {
-  browser = await launch();
   const admin = await Client.as('admin');
   laserA = (await machines(admin))['laser-a'];
   await setTestRules(admin, laserA.id);
-});
-afterAll(async () => {
-  await browser?.close();
-  await closeTestDb();
 });
 
 const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
@@ -70,8 +65,7 @@ async function both(page: Page, name: string, first: 'desk' | 'phone' = 'phone')
 describe('from quiz to first cut', () => {
   it('quiz (resumed after a reload) → seat → roster sign-off → Laser A booked', { timeout: 240_000 }, async () => {
     // 1. the instructor publishes a session in the laser room
-    const ictx = await newContext(browser, DESK);
-    const ipage = await ictx.newPage();
+    const { ctx: ictx, page: ipage } = await web.openAs(null);
     ipage.setDefaultTimeout(20_000);
     const ierrors = watchErrors(ipage);
     await signIn(ipage, 'instructor');
@@ -94,8 +88,7 @@ describe('from quiz to first cut', () => {
     expect(new Date(session.starts_at).toISOString()).toBe(siteTime(1, 19).toISOString());
 
     // 2. a new member signs up and takes the quiz on a phone; a reload half-way keeps the attempt and the answers
-    const mctx = await newContext(browser, PHONE);
-    const mpage = await mctx.newPage();
+    const { ctx: mctx, page: mpage } = await web.openAs(null, PHONE);
     mpage.setDefaultTimeout(20_000);
     const merrors = watchErrors(mpage);
     await signUpThroughForm(mpage, member);

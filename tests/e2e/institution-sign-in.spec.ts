@@ -3,24 +3,17 @@
  * provider (the fake started by npm test) signs in a demo person, and Beamwarden lands signed in as that person.
  * Also screenshots of the password-reset e-mail and of the account's data export, to be looked at.
  */
-import type { Browser } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, watchErrors, settled } from '../support/browser';
+import { describe, expect, it } from 'vitest';
+import { DESK, PHONE, newContext, shot, watchErrors, settled, withBrowser } from '../support/browser';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { DEMO } from '../support/env';
 import { to, waitForMail } from '../support/mail';
 
-let browser: Browser;
-beforeAll(async () => {
-  browser = await launch();
-});
-afterAll(async () => {
-  await browser?.close();
-});
+const web = withBrowser();
 
 describe('institution sign-in', () => {
   it('signs in through the local identity provider and lands signed in as the matching demo person', async () => {
-    const ctx = await newContext(browser, DESK);
+    const ctx = await newContext(web.browser, DESK);
     // the provider's development pages @import a web font from the internet: refuse it at once (no network here)
     await ctx.route(/fonts\.(googleapis|gstatic)\.com/, (r) => r.abort());
     const page = await ctx.newPage();
@@ -46,8 +39,7 @@ describe('institution sign-in', () => {
     expect(errors.filter((e) => !/fonts\.googleapis|ERR_NAME|ERR_INTERNET|ERR_CONNECTION|ERR_FAILED/.test(e))).toEqual([]);
     await ctx.close();
 
-    const phone = await newContext(browser, PHONE);
-    const p2 = await phone.newPage();
+    const { ctx: phone, page: p2 } = await web.openAs(null, PHONE);
     await p2.goto('/signin');
     await shot(p2, 'signin-both-ways-phone');
     await phone.close();
@@ -58,8 +50,7 @@ describe('institution sign-in', () => {
     const c = new Client(undefined, freshLoopbackAddress());
     expect((await c.send('POST', '/api/account/password-reset', { email })).status).toBe(202);
     const mail = await waitForMail((m) => to(email)(m) && /reset your password/.test(m.subject));
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
+    const { ctx, page } = await web.openAs(null);
     await page.setContent(mail.html ?? '');
     await shot(page, 'reset-email');
     expect(await page.getByRole('link', { name: 'Choose a new password' }).getAttribute('href')).toMatch(/\/reset-password\?token=/);

@@ -6,35 +6,30 @@
  * stop fault open is refused and the panel says why, and "Resolve and return to service" does both; axe finds
  * no serious or critical issue on these screens at desk and phone widths.
  */
-import type { Browser, Page } from 'playwright-core';
+import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, watchErrors, hydrated } from '../support/browser';
+import { DESK, PHONE, shot, signIn, hydrated, withBrowser } from '../support/browser';
 import { checkBothWidths } from '../support/axe';
 import { Client, body } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 
 
-let browser: Browser;
+const web = withBrowser();
 let admin: Client;
 let machine: TestMachine;
 
 beforeAll(async () => {
-  browser = await launch();
   admin = await Client.as('admin');
   machine = await createTestMachine(admin, 'qrpage');
 });
 afterAll(async () => {
   await retireTestMachine(admin, machine);
-  await browser?.close();
-  await closeTestDb();
 });
 
 describe('the QR page signed out', () => {
   it('shows the machine, its status, today and the hazards; signing in from it comes back to it', async () => {
-    const ctx = await newContext(browser, PHONE);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null, PHONE);
     await page.goto(`/m/${machine.code}`);
     expect(new URL(page.url()).pathname).toBe(`/m/${machine.code}`);
     expect(await page.getByRole('heading', { level: 1 }).innerText()).toBe(machine.name);
@@ -65,8 +60,7 @@ describe('the QR page signed out', () => {
 
 describe('the navigation on a phone', () => {
   it('folds into a menu that opens and closes by keyboard', async () => {
-    const ctx = await newContext(browser, PHONE);
-    const page = await ctx.newPage();
+    const { ctx, page } = await web.openAs(null, PHONE);
     await page.goto('/signin');
     await signIn(page, 'member');
     await page.goto(`/m/${machine.code}`);
@@ -108,9 +102,7 @@ describe('back into service while a stop fault is open', () => {
     expect(filed.status, await filed.clone().text()).toBe(201);
     const faultId = (await body(filed)).fault.id as string;
 
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null);
     await page.goto('/signin');
     await signIn(page, 'steward');
     await page.goto('/faults');

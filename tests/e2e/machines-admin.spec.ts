@@ -3,29 +3,20 @@
  * raises the clearance level it needs, and later retires it with a reason; it is then gone from the Floor.
  * Screenshots: the add form, the list after adding, the retire form (desk), and the screen on a phone.
  */
-import type { Browser } from 'playwright-core';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, settled, shot, signIn, watchErrors } from '../support/browser';
-import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
+import { afterAll, describe, expect, it } from 'vitest';
+import { PHONE, hydrated, settled, shot, signIn, withBrowser } from '../support/browser';
+import { clearSignInLimits, testDb } from '../support/db';
 
-let browser: Browser;
+const web = withBrowser();
 const code = `laser-e2e-${Date.now().toString(36)}`;
 
-beforeAll(async () => {
-  browser = await launch();
-});
 afterAll(async () => {
-  await browser?.close();
   await clearSignInLimits();
-  await closeTestDb();
 });
 
 describe('the Machines screen', () => {
   it('the admin adds a laser, raises its clearance level, and retires it', async () => {
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    const { ctx, page, errors } = await web.openAs('admin');
     await page.goto('/admin/machines');
     await hydrated(page);
 
@@ -88,10 +79,7 @@ describe('the Machines screen', () => {
   });
 
   it('on a phone the list stays inside the screen', async () => {
-    const ctx = await newContext(browser, PHONE);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    const { ctx, page, errors } = await web.openAs('admin', PHONE);
     await page.goto('/admin/machines');
     await hydrated(page);
     await page.locator('[data-machine-row="laser-a"]').waitFor();
@@ -111,9 +99,7 @@ describe('the Machines screen', () => {
 // service, three on the demo site — a count only a file running alone can make, as others add test machines.
 describe('the Floor and the Book screen for all machines', () => {
   it('the admin sees the Machines screen and the Floor shows now and next', async () => {
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null);
     await signIn(page, 'admin');
     expect(await page.locator('[data-machine="laser-a"] [data-next]').innerText()).not.toBe('');
     await page.goto('/admin/machines');
@@ -135,10 +121,7 @@ describe('the Floor and the Book screen for all machines', () => {
 // site — a count only a file running alone can make, as others add test machines.
 describe('labels and upkeep', () => {
   it('the admin prints the label sheet; the steward reads the upkeep forecast', async () => {
-    const ctx = await newContext(browser, DESK);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    const { ctx, page, errors } = await web.openAs('admin');
     await page.goto('/admin/labels');
     await hydrated(page);
     expect(await page.locator('li.label').count()).toBe(3);
@@ -148,10 +131,7 @@ describe('labels and upkeep', () => {
     await shot(page, 'labels-print');
     await ctx.close();
 
-    const phone = await newContext(browser, PHONE);
-    const p2 = await phone.newPage();
-    const errors2 = watchErrors(p2);
-    await signIn(p2, 'steward');
+    const { ctx: phone, page: p2, errors: errors2 } = await web.openAs('steward', PHONE);
     await p2.goto('/upkeep');
     // the demo lens clean on Laser C is 11 days old: overdue on a 7-day interval
     expect(await p2.locator('[data-machine="laser-c"] tr[data-kind="lens_clean"]').getAttribute('data-state')).toBe('overdue');

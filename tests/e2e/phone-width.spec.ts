@@ -5,15 +5,15 @@
  * wider than the phone: a failure names each element that sticks out past 390 px, screen by screen.
  * Screenshots: phone-<role>-<screen>.png.
  */
-import type { Browser, Page } from 'playwright-core';
+import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
+import { PHONE, eachAtOnce, hydrated, shot, watchErrors, settled, withBrowser } from '../support/browser';
 import { Client, body } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 import { navFor } from '../../src/lib/nav';
 import type { Role } from '../../src/lib/roles';
 
-let browser: Browser;
+const web = withBrowser();
 let admin: Client;
 let longMachine: { id: string; code: string; name: string } | undefined;
 const stamp = Date.now().toString(36);
@@ -21,7 +21,6 @@ const stamp = Date.now().toString(36);
 const LONG_NAME = `Studio laser with rotary attachment and honeycomb bed in the north bay ${stamp}`.slice(0, 80);
 
 beforeAll(async () => {
-  browser = await launch();
   admin = await Client.as('admin');
   const groupId = ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
   const code = `phone-${stamp}`;
@@ -38,8 +37,6 @@ beforeAll(async () => {
 
 afterAll(async () => {
   if (longMachine) await admin.send('POST', `/api/machines/${longMachine.id}/retire`, { reason: 'Test machine for the phone-width check, no longer needed.' });
-  await browser?.close();
-  await closeTestDb();
 });
 
 /**
@@ -84,9 +81,12 @@ const ROLES: { who: 'member' | 'instructor' | 'steward' | 'admin'; role: Role }[
   { who: 'admin', role: 'admin' },
 ];
 
-describe('every screen fits a 390 px phone', () => {
+/** Pages of one role open at a time (the four roles run side by side too): the screens only read. */
+const PAGES_AT_ONCE = 2;
+
+describe.concurrent('every screen fits a 390 px phone', () => {
   for (const { who, role } of ROLES) {
-    it(`${who}: the screens of the role and the ones reached from them`, async () => {
+    it(`${who}: the screens of the role and the ones reached from them`, async ({ expect }) => {
       const db = testDb();
       const laserA = (await db('machines').where({ code: 'laser-a' }).first('id')) as { id: string };
       const email = `${who}@tidewater.example`;
@@ -99,12 +99,15 @@ describe('every screen fits a 390 px phone', () => {
         ...(charge ? [`/account/receipts/${charge.id}`] : []),
         ...(role === 'admin' ? [`/m/${longMachine!.code}`, `/hazard/${longMachine!.id}`, `/book?machine=${longMachine!.id}`] : []),
       ];
-      const ctx = await newContext(browser, PHONE);
-      const page = await ctx.newPage();
-      const errors = watchErrors(page);
-      await signIn(page, who);
+      const { ctx } = await web.openAs(who, PHONE);
+      const pages: { page: Page; errors: string[] }[] = [];
       const wide: string[] = [];
-      for (const path of paths) {
+      await eachAtOnce(paths, PAGES_AT_ONCE, async (path, slot) => {
+        if (!pages[slot]) {
+          const page = await ctx.newPage();
+          pages[slot] = { page, errors: watchErrors(page) };
+        }
+        const { page } = pages[slot];
         const res = await page.goto(path);
         expect(res?.status(), path).toBeLessThan(400);
         await hydrated(page);
@@ -117,10 +120,10 @@ describe('every screen fits a 390 px phone', () => {
         const { scrollWidth, named } = await overflow(page, PHONE.width);
         await shot(page, `phone-${who}${path.replace(/[^a-z0-9]+/gi, '-').replace(/-$/, '')}`);
         if (scrollWidth > PHONE.width) wide.push(`${path} is ${scrollWidth} px wide: ${named.join('; ') || '(nothing named)'}`);
-      }
+      });
       expect(wide, wide.join('\n')).toEqual([]);
-      expect(errors).toEqual([]);
+      expect(pages.flatMap((p) => p.errors)).toEqual([]);
       await ctx.close();
-    }, 300_000); // up to 25 screens one after another, each waiting for its network to settle
+    }, 300_000); // up to 25 screens, two at a time, each waiting for its network to settle
   }
 });

@@ -8,27 +8,24 @@
  */
 import zlib from 'node:zlib';
 import sharp from 'sharp';
-import type { Browser, Page } from 'playwright-core';
+import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { PHONE, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
+import { PHONE, newContext, shot, signIn, settled, withBrowser } from '../support/browser';
 import { Client } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { APP_URL } from '../support/env';
 
-let browser: Browser;
+const web = withBrowser();
 let admin: Client;
 let machine: TestMachine;
 
 beforeAll(async () => {
-  browser = await launch();
   admin = await Client.as('admin');
   machine = await createTestMachine(admin, 'offline');
 });
 afterAll(async () => {
   await retireTestMachine(admin, machine);
-  await browser?.close();
-  await closeTestDb();
 });
 
 const saved = (page: Page, path: string) => page.evaluate(async (p) => !!(await caches.match(p)), path);
@@ -50,9 +47,7 @@ async function jsWeight(page: Page, path: string): Promise<{ files: number; inli
 
 describe('a machine page opened once works with no signal', () => {
   it('shows the saved page offline, queues a stop fault, sends it once when back online', async () => {
-    const ctx = await newContext(browser, PHONE);
-    const page = await ctx.newPage();
-    const errors = watchErrors(page);
+    const { ctx, page, errors } = await web.openAs(null, PHONE);
     await page.goto(`/m/${machine.code}`);
     await signIn(page, 'member');
     await page.goto(`/m/${machine.code}`);
@@ -121,14 +116,13 @@ describe('a machine page opened once works with no signal', () => {
 
 describe('the fault form without JavaScript', () => {
   it('refuses a report without severity keeping the answers, then files it with a photo', async () => {
-    const withJs = await newContext(browser, PHONE);
-    const p0 = await withJs.newPage();
+    const { ctx: withJs, page: p0 } = await web.openAs(null, PHONE);
     await p0.goto('/signin');
     await signIn(p0, 'member');
     const state = await withJs.storageState();
     await withJs.close();
 
-    const ctx = await browser.newContext({ baseURL: APP_URL(), viewport: PHONE, locale: 'en-NZ', javaScriptEnabled: false, storageState: state });
+    const ctx = await web.browser.newContext({ baseURL: APP_URL(), viewport: PHONE, locale: 'en-NZ', javaScriptEnabled: false, storageState: state });
     const page = await ctx.newPage();
     await page.goto(`/m/${machine.code}/fault`);
     const summary = `Honeycomb bent ${Date.now().toString(36)}`;
@@ -154,12 +148,10 @@ describe('the fault form without JavaScript', () => {
 describe('JavaScript weight of the /m/ pages', () => {
   it('each page loads at most 15 kB of gzipped JavaScript', async () => {
     const out: Record<string, number> = {};
-    const anon = await newContext(browser, PHONE);
-    const a = await anon.newPage();
+    const { ctx: anon, page: a } = await web.openAs(null, PHONE);
     out['machine page, signed out'] = (await jsWeight(a, `/m/${machine.code}`)).gzipBytes;
     await anon.close();
-    const ctx = await newContext(browser, PHONE);
-    const page = await ctx.newPage();
+    const { ctx, page } = await web.openAs(null, PHONE);
     await page.goto('/signin');
     await signIn(page, 'member');
     out['machine page, signed in'] = (await jsWeight(page, `/m/${machine.code}`)).gzipBytes;

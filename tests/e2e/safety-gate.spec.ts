@@ -4,17 +4,15 @@
  * laser safety officer reads the hazard sheet of a 100 W machine: OD 5, governed by the beam after the lens
  * (ANSI Z136.1, from memory; by hand log10(100/(π·0.35²/4)/0.1) = 4.017 → 5), on a desk and on a phone.
  */
-import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, hydrated } from '../support/browser';
+import { DESK, PHONE, shot, hydrated, withBrowser } from '../support/browser';
 import { Client, body } from '../support/client';
-import { closeTestDb, testDb } from '../support/db';
+import { testDb } from '../support/db';
 
-let browser: Browser;
+const web = withBrowser();
 let admin: Client;
 let bigLaser: { id: string; name: string };
 beforeAll(async () => {
-  browser = await launch();
   admin = await Client.as('admin');
   const groupId = ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
   const res = await admin.send('POST', '/api/machines', {
@@ -27,15 +25,11 @@ beforeAll(async () => {
 });
 afterAll(async () => {
   await admin?.send('POST', `/api/machines/${bigLaser?.id}/retire`, { reason: 'Test machine for the safety-gate journey.' });
-  await browser?.close();
-  await closeTestDb();
 });
 
 describe('safety gate journey', () => {
   it('the Material rules editor refuses PVC as allowed, and refuses an override that would allow it on Laser A', async () => {
-    const ctx = await newContext(browser);
-    const page = await ctx.newPage();
-    await signIn(page, 'admin');
+    const { ctx, page } = await web.openAs('admin');
     await page.goto('/admin/materials');
     await hydrated(page);
     await page.getByRole('row').filter({ hasText: 'PVC and vinyl' }).waitFor();
@@ -64,9 +58,7 @@ describe('safety gate journey', () => {
     await ctx.close();
 
     // and on a phone
-    const pctx = await newContext(browser, PHONE);
-    const p = await pctx.newPage();
-    await signIn(p, 'admin');
+    const { ctx: pctx, page: p } = await web.openAs('admin', PHONE);
     await p.goto('/admin/materials');
     await hydrated(p);
     await p.getByRole('button', { name: 'Edit PVC and vinyl' }).click();
@@ -81,9 +73,7 @@ describe('safety gate journey', () => {
 
   it('the hazard sheet of a 100 W machine shows OD 5 and says the beam after the lens governs (desk and phone)', async () => {
     for (const [viewport, name] of [[DESK, 'desk'], [PHONE, 'phone']] as const) {
-      const ctx = await newContext(browser, viewport);
-      const page = await ctx.newPage();
-      await signIn(page, 'member');
+      const { ctx, page } = await web.openAs('member', viewport);
       await page.goto(`/hazard/${bigLaser.id}`);
       const eyewear = page.getByTestId('eyewear');
       expect(await eyewear.getByRole('heading').innerText()).toBe('Eyewear: at least OD 5 at 10.6 µm');

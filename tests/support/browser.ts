@@ -1,7 +1,8 @@
 /** Headless Chromium from Debian's package, driven by playwright-core (no browser download). */
 import { chromium, type Browser, type BrowserContext, type BrowserContextOptions, type Download, type Page, type Request } from 'playwright-core';
-import { inject } from 'vitest';
+import { afterAll, beforeAll, inject } from 'vitest';
 import { CHROMIUM_ARGS } from './browser-args';
+import { closeTestDb } from './db';
 import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
 import { SESSION_COOKIE, sessionCookieFor } from './session';
 
@@ -22,6 +23,71 @@ export async function newContext(browser: Browser, viewport = DESK, options: Bro
   const ctx = await browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-NZ', ...options });
   ctx.on('page', track);
   return ctx;
+}
+
+/** Who a page is opened for: a demo person, a person of the file's own (by e-mail), or nobody (signed out). */
+export type Who = DemoPerson | string | null;
+
+/** Puts the session cookie of `who` into the context (support/session.ts): every page opened in it is signed in. */
+export async function signInContext(ctx: BrowserContext, who: DemoPerson | string): Promise<void> {
+  const email = who in DEMO ? DEMO[who as DemoPerson] : who;
+  await ctx.addCookies([{ name: SESSION_COOKIE, value: await sessionCookieFor(email), url: APP_URL(), httpOnly: true, sameSite: 'Lax' }]);
+}
+
+/** A page of the test's own: its context (already signed in as `who`, without a page load) and the page's errors. */
+export interface OpenPage {
+  ctx: BrowserContext;
+  page: Page;
+  errors: string[];
+}
+
+/**
+ * The browser of a spec file: `beforeAll` connects (launch), `afterAll` closes it and the file's database connection
+ * (register the file's own `afterAll` after this call: it runs first). `openAs(who, viewport)` gives a new context
+ * signed in with the session cookie and a page in it, watched for errors; `browser` is there for anything else.
+ */
+export function withBrowser(): { readonly browser: Browser; openAs: (who: Who, viewport?: { width: number; height: number }, options?: BrowserContextOptions) => Promise<OpenPage> } {
+  let browser: Browser | undefined;
+  beforeAll(async () => {
+    browser = await launch();
+  });
+  afterAll(async () => {
+    await browser?.close();
+    await closeTestDb();
+  });
+  const web = {
+    get browser(): Browser {
+      if (!browser) throw new Error('withBrowser(): the browser is there from beforeAll on');
+      return browser;
+    },
+    async openAs(who: Who, viewport = DESK, options: BrowserContextOptions = {}): Promise<OpenPage> {
+      const ctx = await newContext(web.browser, viewport, options);
+      if (who) await signInContext(ctx, who);
+      const page = await ctx.newPage();
+      return { ctx, page, errors: watchErrors(page) };
+    },
+  };
+  return web;
+}
+
+/**
+ * Runs `fn` on every item, at most `width` at a time (each slot number 0…width-1 is busy with one item at a time, so
+ * a slot can keep a page of its own): screens that only read are checked side by side, in the waits of each other.
+ */
+export async function eachAtOnce<T>(items: readonly T[], width: number, fn: (item: T, slot: number) => Promise<void>): Promise<void> {
+  let next = 0;
+  await Promise.all(
+    Array.from({ length: Math.min(width, items.length) }, async (_, slot) => {
+      while (next < items.length) {
+        try {
+          await fn(items[next++]!, slot);
+        } catch (e) {
+          next = items.length; // the other slots finish their item and stop
+          throw e;
+        }
+      }
+    }),
+  );
 }
 
 /** The requests each page has in flight, counted from when the page opened (see `settled`). */
@@ -68,8 +134,7 @@ export async function settled(page: Page, quietMs = 120, timeoutMs = 20_000): Pr
  * The sign-in form itself is tested through signInThroughForm (tests/e2e/sign-in-by-role.spec.ts).
  */
 export async function signIn(page: Page, who: DemoPerson | string): Promise<void> {
-  const email = who in DEMO ? DEMO[who as DemoPerson] : who;
-  await page.context().addCookies([{ name: SESSION_COOKIE, value: await sessionCookieFor(email), url: APP_URL(), httpOnly: true, sameSite: 'Lax' }]);
+  await signInContext(page.context(), who);
   // the sign-in page sends a signed-in person on to its callbackUrl
   const here = page.url();
   await page.goto(here.includes('/signin') ? here : '/signin');

@@ -65,10 +65,11 @@ let made = 0;
  * in with a written session: a steward, instructor or admin whose queue, quota or mail no other file touches. Faster
  * than signUpNew (no form, one argon2 hash per file); use signUpNew where signing up is part of the story.
  */
-export async function newPerson(label: string, opts: { roles?: Role[]; tier?: Tier; clearedFor?: string[] } = {}): Promise<TestPerson> {
+export async function newPerson(label: string, opts: { roles?: Role[]; tier?: Tier; clearedFor?: string[]; domain?: string } = {}): Promise<TestPerson> {
   made += 1;
   const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}${made}`;
-  const email = `${label}-${stamp}@tidewater.example`;
+  // another domain than the institution's (tidewater.example) keeps password sign-in open while a file turns it off there
+  const email = `${label}-${stamp}@${opts.domain ?? 'tidewater.example'}`;
   const name = `Test ${label} ${stamp}`;
   hash ??= hashPassword(TEST_PASSWORD);
   const id = await makePerson(testDb(), { email, name, passwordHash: await hash, roles: opts.roles ?? ['member'], ...(opts.tier ? { tier: opts.tier } : {}) });
