@@ -10,8 +10,8 @@
  * always shows the site's hours whatever the browser's zone; conversions use the pure availability module.
  * Dates, times and amounts are written in the site locale (a prop from the server), never the browser's.
  */
-import { useEffect, useId, useMemo, useRef, useState } from 'react';
-import BookingMaterials, { declared, newRow, type MaterialRow } from './BookingMaterials';
+import { lazy, Suspense, useEffect, useId, useMemo, useRef, useState } from 'react';
+import { declared, MATERIALS_HINT, newRow, type MaterialRow } from './booking-material-rows';
 import { QueryClient, QueryClientProvider, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import FullCalendar from '@fullcalendar/react';
 import timeGridPlugin from '@fullcalendar/timegrid';
@@ -22,6 +22,19 @@ import { formatMinutes, siteFormat, type SiteFormat } from '@lib/format';
 import { api, ApiError } from './ui/api';
 import type { CancelTerms, Feed as ServerFeed, FeedEvent } from '@lib/booking-feed';
 import type { Json } from '@lib/json';
+
+/** The materials picker and the material rules come in their own file, fetched as soon as the form first shows. */
+const BookingMaterials = lazy(() => import('./BookingMaterials'));
+
+/** What the materials picker shows while its code loads: its frame and first words, without the rows. */
+function MaterialsLoading() {
+  return (
+    <fieldset className="min-w-0 space-y-3 rounded-lg border border-line p-3" aria-label="Materials" aria-busy="true">
+      <legend className="px-1 font-semibold">Materials</legend>
+      <p className="hint">{MATERIALS_HINT}</p>
+    </fieldset>
+  );
+}
 
 interface MachineInfo {
   id: string;
@@ -799,7 +812,11 @@ function BookingForm(p: {
         <span>Notes for the steward (optional)</span>
         <textarea className="input min-h-20" value={notes} maxLength={2000} onChange={(e) => setNotes(e.target.value)} placeholder="What you will cut or engrave" />
       </label>
-      {!isClass && <BookingMaterials machineId={machineId} rows={materials} onChange={setMaterials} onVerdicts={setMaterialRefused} />}
+      {!isClass && (
+        <Suspense fallback={<MaterialsLoading />}>
+          <BookingMaterials machineId={machineId} rows={materials} onChange={setMaterials} onVerdicts={setMaterialRefused} />
+        </Suspense>
+      )}
       {p.isInstructor && (
         <fieldset className="space-y-3 rounded-lg border border-line p-3">
           <legend className="px-1 font-semibold">Class block</legend>

@@ -6,13 +6,7 @@ import { useEffect, useState } from 'react';
 import { useQuery } from '@tanstack/react-query';
 import { MATERIAL_MODES, RULE_TEXT, type MaterialMode, type MaterialRule } from '@lib/material-rules';
 import { api, ApiError } from './ui/api';
-
-export interface MaterialRow {
-  key: number;
-  materialId: string;
-  thicknessMm: string;
-  mode: MaterialMode;
-}
+import { MATERIALS_HINT, newRow, type MaterialRow } from './booking-material-rows';
 
 interface Catalogue {
   id: string;
@@ -23,14 +17,6 @@ interface Catalogue {
 }
 
 export type RowVerdict = { state: 'checking' } | { state: 'ok'; warnings: string[] } | { state: 'refused'; code: string; message: string } | { state: 'unknown' };
-
-let nextKey = 1;
-export const newRow = (): MaterialRow => ({ key: nextKey++, materialId: '', thicknessMm: '3', mode: 'cut' });
-
-/** Rows with a material chosen, as the API takes them. */
-export function declared(rows: MaterialRow[]) {
-  return rows.filter((r) => r.materialId).map((r) => ({ materialId: r.materialId, thicknessMm: Number(r.thicknessMm), mode: r.mode }));
-}
 
 export default function BookingMaterials(p: {
   machineId: string;
@@ -79,7 +65,7 @@ export default function BookingMaterials(p: {
   return (
     <fieldset className="min-w-0 space-y-3 rounded-lg border border-line p-3" aria-label="Materials">
       <legend className="px-1 font-semibold">Materials</legend>
-      <p className="hint">Declare what goes in the machine. PVC, vinyl and other chlorine-bearing plastics never go in a laser.</p>
+      <p className="hint">{MATERIALS_HINT}</p>
       {catalogue.isError && <p className="notice notice-warn text-sm">The material list could not be loaded; the booking still checks your materials.</p>}
       {p.rows.map((r, i) => {
         const m = list.find((x) => x.id === r.materialId);
