@@ -1,8 +1,7 @@
 /** Creating a personal booking: the gate, the rules, the quota, the declared materials, the insert, the e-mail's job. */
 import { retryOnConflict, transaction } from '@lib/server/db';
-import { recordAudit } from '@lib/server/audit';
 import { DomainError } from '@lib/server/errors';
-import { canOperate } from '@lib/server/clearances/state';
+import { operateVerdict } from '@lib/server/clearances/state';
 import { checkDeclaredMaterials } from '@lib/server/materials';
 import { recordPaymentIntent } from '@lib/server/payment-intents';
 import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '@lib/availability';
@@ -27,10 +26,11 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
     // below come after it)
     const machine = await lockForBooking(trx, input.machineId, actor.id, true);
     if (machine.status === 'out of service') throw outOfService(machine);
-    const verdict = await canOperate(actor.id, machine.id, input.startsAt, trx);
+    // the clearance facts and the rules' stamp came with the lock statement
+    const verdict = operateVerdict(machine.operate ?? null, input.startsAt);
     if (!verdict.ok) throw new DomainError('forbidden', 'clearance_required', verdict.message);
 
-    const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx);
+    const ctx = await ruleContext(machine.id, input.startsAt, input.endsAt, trx, machine.rulesStamp);
     const broken = checkRequest({ startsAt: input.startsAt, endsAt: input.endsAt, kind: 'personal' }, { now, ...ctx });
     if (broken) throw new DomainError('invalid', broken.code, broken.message);
 
@@ -43,7 +43,7 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
     // materials check: every declared material must be allowed on this machine, mode and thickness
     if (input.materials.length) await checkDeclaredMaterials(machine.id, input.materials, trx);
 
-    // no savepoint: a refused insert ends this transaction anyway (409 slot_taken)
+    // no savepoint: a refused insert ends this transaction anyway (409 slot_taken); the audit row goes in with it
     const booking = await insertBooking(trx, {
       machine_id: machine.id,
       person_id: actor.id,
@@ -52,21 +52,22 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
       ends_at: input.endsAt,
       occupied_until: until,
       notes: input.notes,
-    }, { savepoint: false });
+    }, {
+      savepoint: false,
+      audit: {
+        actorId: actor.id,
+        kind: 'booking.created',
+        subjectType: 'booking',
+        summary: `Booked ${machine.name}`,
+        after: { machineId: machine.id, startsAt: input.startsAt, endsAt: input.endsAt, materials: input.materials },
+      },
+    });
     if (input.materials.length) {
       await trx('booking_materials').insert(
         input.materials.map((m) => ({ booking_id: booking.id, material_id: m.materialId, mode: m.mode, thickness_mm: m.thicknessMm })),
       );
     }
 
-    await recordAudit(trx, {
-      actorId: actor.id,
-      kind: 'booking.created',
-      subjectType: 'booking',
-      subjectId: booking.id,
-      summary: `Booked ${machine.name}`,
-      after: { machineId: machine.id, startsAt: booking.startsAt, endsAt: booking.endsAt, materials: input.materials },
-    });
     // the e-mail and its .ics are built by the worker, after the commit
     await queueConfirmation(trx, booking.id);
     await recordPaymentIntent(trx, { kind: 'booking.hold', bookingId: booking.id });
