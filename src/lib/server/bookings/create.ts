@@ -3,24 +3,28 @@ import { retryOnConflict, transaction } from '@lib/server/db';
 import { DomainError } from '@lib/server/errors';
 import { operateVerdict } from '@lib/server/clearances/state';
 import { checkDeclaredMaterials } from '@lib/server/materials';
-import { recordPaymentIntent } from '@lib/server/payment-intents';
+import { paymentIntentJob } from '@lib/server/payment-intents';
+import { enqueueAll } from '@lib/server/jobs';
+import { newBookingHoldFactsSql, type HoldFacts } from '@lib/server/payments/account';
 import { checkQuota, checkRequest, minutesBetween, occupiedUntil } from '@lib/availability';
 import type { Actor, Booking, BookingInput } from './records';
 import { clashAndUse, insertBooking, lockForBooking, outOfService, ruleContext, slotTaken } from './gate';
-import { queueConfirmation } from './messages';
+import { confirmationJob } from './messages';
 
 /**
  * Creates a booking for `actor` (the gate, the rules, the quota, the declared materials, the insert). The card
  * hold is an intent recorded in the same transaction (payment-intents.ts): the worker places it even if this
  * process dies right after the commit. A failed payment on the account refuses it (402), asked in the lock
- * statement. The caller (the API route) may try the hold once at once.
+ * statement. The caller (the API route) may try the hold once at once: with the booking come what its notice
+ * depends on (payments/account.ts HoldFacts, null when the person is gone), read by a statement the booking runs
+ * anyway, for holdAtBooking.
  */
-export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<Booking> {
+export async function createBooking(actor: Actor, input: BookingInput, now = new Date()): Promise<{ booking: Booking; holdFacts: HoldFacts | null }> {
   // concurrent requests for one slot can deadlock inside the exclusion constraint: the transaction is run again
   return retryOnConflict(() => createBookingRow(actor, input, now));
 }
 
-async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<Booking> {
+async function createBookingRow(actor: Actor, input: BookingInput, now: Date): Promise<{ booking: Booking; holdFacts: HoldFacts | null }> {
   return transaction(async (trx) => {
     // the machine's row lock, the person's lock and the failed-payment check in one statement (the quota reads
     // below come after it)
@@ -35,7 +39,8 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
     if (broken) throw new DomainError('invalid', broken.code, broken.message);
 
     const until = occupiedUntil(input.endsAt, ctx.rules.bufferMinutes);
-    const use = await clashAndUse(trx, actor.id, machine.id, input.startsAt, until, ctx.timeZone);
+    const facts = newBookingHoldFactsSql();
+    const use = await clashAndUse(trx, actor.id, machine.id, input.startsAt, until, ctx.timeZone, { sql: facts.sql, bindings: facts.bindings(actor.id, machine.id, input.startsAt) });
     if (use.clash) throw slotTaken();
     const over = checkQuota(use.usedMinutes, minutesBetween(input.startsAt, input.endsAt), ctx.rules.quotas[use.tier]);
     if (over) throw new DomainError('invalid', over.code, over.message);
@@ -69,8 +74,8 @@ async function createBookingRow(actor: Actor, input: BookingInput, now: Date): P
     }
 
     // the e-mail and its .ics are built by the worker, after the commit
-    await queueConfirmation(trx, booking.id);
-    await recordPaymentIntent(trx, { kind: 'booking.hold', bookingId: booking.id });
-    return booking;
+    // (both jobs in one statement)
+    await enqueueAll(trx, [confirmationJob(booking.id), paymentIntentJob({ kind: 'booking.hold', bookingId: booking.id })]);
+    return { booking, holdFacts: (use.also ?? null) as HoldFacts | null };
   });
 }

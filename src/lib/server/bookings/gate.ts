@@ -91,9 +91,9 @@ export async function weeklyMinutes(trx: Conn, personId: string, machineId: stri
 /**
  * For a new personal booking, in one statement (run after the person's lock): the first active booking clashing
  * with [startsAt, until) (what assertFree looks for), the person's minutes on the machine in the site week of
- * `startsAt` (weeklyMinutes), and the person's tier, e-mail and name.
+ * `startsAt` (weeklyMinutes), and the person's tier, e-mail and name; with `also`, that select expression's value too.
  */
-export async function clashAndUse(trx: Conn, personId: string, machineId: string, startsAt: Date, until: Date, tz: string) {
+export async function clashAndUse(trx: Conn, personId: string, machineId: string, startsAt: Date, until: Date, tz: string, also?: { sql: string; bindings: unknown[] }) {
   const week = localWeek(startsAt, tz);
   const { rows } = await trx.raw(
     `SELECT (SELECT b.id FROM bookings b WHERE b.machine_id = ? AND b.state = ANY(?::text[])
@@ -101,16 +101,18 @@ export async function clashAndUse(trx: Conn, personId: string, machineId: string
             (SELECT coalesce(sum(extract(epoch from (b.ends_at - b.starts_at)) / 60), 0)::float8 FROM bookings b
               WHERE b.person_id = ? AND b.machine_id = ? AND b.kind IN ('personal', 'hold') AND b.state = ANY(?::text[])
                 AND b.starts_at >= ? AND b.starts_at < ?) AS minutes,
-            p.tier, p.email, p.name
+            p.tier, p.email, p.name${also ? `, ${also.sql} AS also` : ''}
      FROM (SELECT 1) one LEFT JOIN people p ON p.id = ?`,
-    [machineId, [...ACTIVE_STATES], startsAt, until, personId, machineId, QUOTA_STATES, week.start, week.end, personId],
+    [machineId, [...ACTIVE_STATES], startsAt, until, personId, machineId, QUOTA_STATES, week.start, week.end, ...((also?.bindings ?? []) as Knex.RawBinding[]), personId],
   );
-  const r = rows[0] as { clash: string | null; minutes: number | null; tier: Tier | null; email: string | null; name: string | null };
+  const r = rows[0] as { clash: string | null; minutes: number | null; tier: Tier | null; email: string | null; name: string | null; also?: unknown };
   return {
     clash: r.clash,
     usedMinutes: Number(r.minutes ?? 0),
     tier: (r.tier ?? 'community') as Tier,
     person: r.email !== null ? { email: r.email, name: r.name ?? '' } : null,
+    /** the value of `also`, a select expression run by the same statement (after the person's lock) */
+    also: r.also,
   };
 }
 
