@@ -84,16 +84,16 @@ export interface OperateFacts {
 
 /**
  * canOperate's facts as one select expression (a json object, null when no machine has the id): for a statement the
- * caller runs anyway, e.g. the booking gate's lock (bookings/gate.ts). `machineIdSql` is an SQL expression for the
- * machine's id; the expression's one binding, before any of `machineIdSql`'s, is the person's id. Decide with
- * operateVerdict.
+ * caller runs anyway, e.g. the booking gate's lock (bookings/gate.ts). `machineIdSql` and `personIdSql` are SQL
+ * expressions for the machine's and the person's id; with the default `personIdSql`, the expression's first binding
+ * (before any of `machineIdSql`'s) is the person's id. Decide with operateVerdict.
  */
-export function operateFactsSql(machineIdSql: string): string {
+export function operateFactsSql(machineIdSql: string, personIdSql = '?'): string {
   return `(SELECT json_build_object('machine_name', om.name, 'required_level', om.required_level, 'group_id', om.group_id,
             'group_name', og.name, 'refresher', og.refresher, 'clearance_id', oc.id, 'state', oc.state, 'level', oc.level, 'expires_at', oc.expires_at,
             'has_quiz', EXISTS (SELECT 1 FROM quizzes z JOIN quiz_versions v ON v.quiz_id = z.id WHERE z.group_id = om.group_id AND v.status = 'published'))
           FROM machines om LEFT JOIN machine_groups og ON og.id = om.group_id
-          LEFT JOIN clearances oc ON oc.group_id = om.group_id AND oc.person_id = ?
+          LEFT JOIN clearances oc ON oc.group_id = om.group_id AND oc.person_id = ${personIdSql}
           WHERE om.id = ${machineIdSql})`;
 }
 
