@@ -41,7 +41,11 @@ function cpuOf(pid: number | undefined): number | null {
 function postgresCpu(): number | null {
   try {
     const postmaster = Number(fs.readFileSync(path.resolve(ROOT, cfg.dataDir, 'pg', 'postmaster.pid'), 'utf8').split('\n')[0]);
-    let sum = cpuOf(postmaster) ?? 0;
+    // the postmaster's own CPU, with that of its children already ended (cutime + cstime), then the live children's
+    let sum = 0;
+    const own = fs.readFileSync(`/proc/${postmaster}/stat`, 'utf8');
+    const f = own.slice(own.lastIndexOf(')') + 2).split(' ');
+    sum += (Number(f[11]) + Number(f[12]) + Number(f[13]) + Number(f[14])) / CLK_TCK;
     for (const d of fs.readdirSync('/proc')) {
       if (!/^\d+$/.test(d)) continue;
       try {
