@@ -26,6 +26,53 @@ const CONNECTIONS = Number(process.env.BENCH_CONNECTIONS ?? 32);
 const PEOPLE = 32;
 const APP = `http://${HOST}:${cfg.appPort}`;
 
+// CPU seconds (user + system) of a process, and of PostgreSQL's processes (the children of the bench's postmaster),
+// from /proc: unlike req/s these hardly move with what else runs on the machine. Linux only; null elsewhere.
+const CLK_TCK = 100; // getconf CLK_TCK on Linux
+function cpuOf(pid: number | undefined): number | null {
+  try {
+    const stat = fs.readFileSync(`/proc/${pid}/stat`, 'utf8');
+    const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+    return (Number(f[11]) + Number(f[12])) / CLK_TCK;
+  } catch {
+    return null;
+  }
+}
+function postgresCpu(): number | null {
+  try {
+    const postmaster = Number(fs.readFileSync(path.resolve(ROOT, cfg.dataDir, 'pg', 'postmaster.pid'), 'utf8').split('\n')[0]);
+    // the postmaster's own CPU, with that of its children already ended (cutime + cstime), then the live children's
+    let sum = 0;
+    const own = fs.readFileSync(`/proc/${postmaster}/stat`, 'utf8');
+    const f = own.slice(own.lastIndexOf(')') + 2).split(' ');
+    sum += (Number(f[11]) + Number(f[12]) + Number(f[13]) + Number(f[14])) / CLK_TCK;
+    for (const d of fs.readdirSync('/proc')) {
+      if (!/^\d+$/.test(d)) continue;
+      try {
+        const stat = fs.readFileSync(`/proc/${d}/stat`, 'utf8');
+        if (Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[1]) === postmaster) sum += cpuOf(Number(d)) ?? 0;
+      } catch {
+        // gone meanwhile
+      }
+    }
+    return sum;
+  } catch {
+    return null;
+  }
+}
+/** CPU used by the app process and by PostgreSQL while `work` runs. */
+async function cpuDuring<T>(appPid: number | undefined, work: () => Promise<T>): Promise<{ result: T; app: number | null; pg: number | null }> {
+  const a0 = cpuOf(appPid);
+  const p0 = postgresCpu();
+  const result = await work();
+  const a1 = cpuOf(appPid);
+  const p1 = postgresCpu();
+  return { result, app: a0 === null || a1 === null ? null : a1 - a0, pg: p0 === null || p1 === null ? null : p1 - p0 };
+}
+/** What this bench reads of an autocannon result. */
+type Cannon = { requests: { total: number; average: number }; duration: number; latency: { p50: number; p99: number }; '2xx': number; statusCodeStats?: Record<string, { count: number }> };
+const perRequest = (seconds: number | null, n: number) => (seconds === null || !n ? 'n/a' : `${((seconds * 1000) / n).toFixed(2)} ms`);
+
 const { secrets, cleanup } = await benchStack(cfg, 'BENCH_PORT');
 const REUSE = process.env.BENCH_REUSE === '1';
 /** An earlier run's database with the same history (its bench people and HISTORY completed bookings), when BENCH_REUSE=1. */
@@ -136,7 +183,7 @@ const baseSql = baseApi + 120 * 24 * HOUR;
 // --- 1. booking creation: API under autocannon -------------------------------------------------------------
 say(`Booking creation through the API: ${REQUESTS} requests, ${CONNECTIONS} connections`);
 let k = 0;
-const apiCreate = await autocannon({
+const apiCreateRun = await cpuDuring(app.child.pid, (): Promise<Cannon> => autocannon({
   url: APP,
   connections: CONNECTIONS,
   amount: REQUESTS,
@@ -155,7 +202,8 @@ const apiCreate = await autocannon({
       },
     },
   ],
-});
+}));
+const apiCreate = apiCreateRun.result;
 const created = Number((await q(`SELECT count(*)::int AS n FROM bookings WHERE state = 'reserved' AND starts_at >= $1 AND starts_at < $2`, [new Date(baseApi), new Date(baseSql)])).rows[0].n);
 
 // --- 1'. the same work in raw SQL through pg: lock, rule reads, overlap, quota, insert, audit ---------------
@@ -185,9 +233,9 @@ async function sqlBooking(n: number): Promise<void> {
 }
 let next = 0;
 const tSql = Date.now();
-await Promise.all(Array.from({ length: CONNECTIONS }, async () => {
+const sqlCreateRun = await cpuDuring(undefined, () => Promise.all(Array.from({ length: CONNECTIONS }, async () => {
   for (let n = next++; n < REQUESTS; n = next++) await sqlBooking(n);
-}));
+})));
 const sqlCreateSeconds = (Date.now() - tSql) / 1000;
 
 // --- 2. the week-view feed of one machine (Laser A), a week deep in the history -----------------------------
@@ -196,12 +244,13 @@ const weekTo = new Date(weekFrom.getTime() + 7 * 24 * HOUR);
 const feedPath = `/api/bookings?machineId=${machines[0]}&from=${weekFrom.toISOString()}&to=${weekTo.toISOString()}`;
 const sample = await (await fetch(`${APP}${feedPath}`, { headers: { cookie: cookies[0]! } })).json() as { bookings: unknown[] };
 say(`Week-view feed through the API for ${SECONDS} s (${sample.bookings.length} bookings in the week)`);
-const apiFeed = await autocannon({ url: `${APP}${feedPath}`, connections: CONNECTIONS, duration: SECONDS, headers: { cookie: cookies[0]! } });
+const apiFeedRun = await cpuDuring(app.child.pid, (): Promise<Cannon> => autocannon({ url: `${APP}${feedPath}`, connections: CONNECTIONS, duration: SECONDS, headers: { cookie: cookies[0]! } }));
+const apiFeed = apiFeedRun.result;
 
 say(`Week-view feed in raw SQL for ${SECONDS} s`);
 let feedCount = 0;
 const until = Date.now() + SECONDS * 1000;
-await Promise.all(Array.from({ length: CONNECTIONS }, async () => {
+const sqlFeedRun = await cpuDuring(undefined, () => Promise.all(Array.from({ length: CONNECTIONS }, async () => {
   while (Date.now() < until) {
     await q(`SELECT b.*, p.name AS person_name FROM bookings b JOIN people p ON p.id = b.person_id
              WHERE b.machine_id = $1 AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange($2, $3, '[)')
@@ -209,7 +258,7 @@ await Promise.all(Array.from({ length: CONNECTIONS }, async () => {
              ORDER BY b.starts_at`, [machines[0], weekFrom, weekTo, people[0]]);
     feedCount++;
   }
-}));
+})));
 const sqlFeedRps = feedCount / SECONDS;
 
 // --- 3. the reports (admin) over the same history: each answered alone, one after another ------------------
@@ -279,6 +328,8 @@ const lines = [
   '| --- | --- | --- | --- |',
   `| booking creation (${REQUESTS} bookings) | ${apiCreateRps.toFixed(0)} req/s, p50 ${apiCreate.latency.p50} ms, p99 ${apiCreate.latency.p99} ms; ${apiCreate['2xx']} × 2xx, other: ${others(apiCreate)}, ${created} rows | ${sqlCreateTps.toFixed(0)} tx/s | ${(apiCreateRps / sqlCreateTps).toFixed(2)} |`,
   `| week-view feed (Laser A, ${sample.bookings.length} bookings in the week) | ${apiFeedRps.toFixed(0)} req/s, p50 ${apiFeed.latency.p50} ms, p99 ${apiFeed.latency.p99} ms; non-2xx: ${others(apiFeed)} | ${sqlFeedRps.toFixed(0)} queries/s | ${(apiFeedRps / sqlFeedRps).toFixed(2)} |`,
+  '',
+  `CPU per request (from /proc; moves far less with the machine's other load than req/s): booking creation — app ${perRequest(apiCreateRun.app, apiCreate.requests.total)}, PostgreSQL ${perRequest(apiCreateRun.pg, apiCreate.requests.total)} per API request; PostgreSQL ${perRequest(sqlCreateRun.pg, REQUESTS)} per raw-SQL transaction. Week feed — app ${perRequest(apiFeedRun.app, apiFeed.requests.total)}, PostgreSQL ${perRequest(apiFeedRun.pg, apiFeed.requests.total)} per API request; PostgreSQL ${perRequest(sqlFeedRun.pg, feedCount)} per raw-SQL query.`,
   '',
   `Reports on the same ${HISTORY.toLocaleString('en')}-booking history, all machines, ${RUNS} requests each (goal: under 300 ms):`,
   '',

@@ -24,6 +24,23 @@ export async function recordAudit(trx: Conn, e: AuditEntry): Promise<void> {
   });
 }
 
+/**
+ * recordAudit's row as the body of a data-modifying WITH item, for a statement that writes the subject too: the
+ * subject's id is `subjectIdSql`, an SQL expression over the one row of `fromSql` (e.g. `b.id` from a sibling
+ * `INSERT … RETURNING` named b). The row goes in with that statement, without a round trip of its own.
+ */
+export function auditInsertSql(e: Omit<AuditEntry, 'subjectId'>, subjectIdSql: string, fromSql: string): { sql: string; bindings: unknown[] } {
+  return {
+    sql: `INSERT INTO audit_log (actor_id, kind, subject_type, subject_id, summary, before, after)
+          SELECT ?::uuid, ?, ?, (${subjectIdSql})::text, ?, ?::jsonb, ?::jsonb FROM ${fromSql}`,
+    bindings: [
+      e.actorId, e.kind, e.subjectType, e.summary,
+      e.before === undefined ? null : JSON.stringify(e.before),
+      e.after === undefined ? null : JSON.stringify(e.after),
+    ],
+  };
+}
+
 
 export type AuditSort = 'at' | 'kind' | 'actor';
 

@@ -21,35 +21,87 @@ export async function getRulesOf(machineIds: readonly string[], trx: Conn = db()
 }
 
 /**
- * A machine's rules and its closures (and the whole site's) overlapping [from, to), in one statement: what a new
- * booking is checked against (getRules and listClosures answer the same).
+ * A select expression for the booking rules' stamp (migration 20261207300100): it changes with every committed write
+ * to the rules, opening hours, tier quotas or closures. Put it in a statement the caller runs anyway and pass its
+ * value to getRulesAndClosures: while it is unchanged, the rules come from this process's memory.
  */
-export async function getRulesAndClosures(machineId: string, from: Date, to: Date, trx: Conn = db()): Promise<{ rules: MachineRules; closures: ClosureRow[] }> {
-  const r = await rulesAndClosuresOf([machineId], trx, { from, to });
-  return { rules: r.rules.get(machineId)!, closures: r.closures.get(machineId) ?? [] };
+export const RULES_STAMP_SQL = '(SELECT stamp FROM booking_rules_stamp WHERE id = 1)';
+
+/**
+ * Rules, and closures, kept per machine under the stamp they were read with (in the same statement, so each is one
+ * snapshot). Closures are kept from a day before the read on (bookings and checks look ahead); an older window is
+ * read from the table. A machine with very many closures ahead has only its rules kept.
+ */
+const keptRules = new Map<string, { stamp: string; rules: MachineRules }>();
+const keptClosures = new Map<string, { stamp: string; closures: ClosureRow[]; from: Date }>();
+const KEPT_CLOSURES_MAX = 200;
+const KEPT_MACHINES_MAX = 1000;
+const DAY_MS = 86_400_000;
+
+function keep<T>(map: Map<string, T>, id: string, value: T): void {
+  if (map.size >= KEPT_MACHINES_MAX && !map.has(id)) map.clear();
+  map.set(id, value);
 }
 
-async function rulesAndClosuresOf(machineIds: readonly string[], trx: Conn, window?: { from: Date; to: Date }) {
+const overlapping = (closures: readonly ClosureRow[], from: Date, to: Date) => closures.filter((c) => c.startsAt < to && c.endsAt > from);
+
+/**
+ * The rules of each of these machines, as getRulesOf, from this process's memory when all were kept under `stamp`
+ * (RULES_STAMP_SQL read by the caller in a statement of its own); else in one statement, kept for the next caller.
+ */
+export async function getRulesOfStamped(machineIds: readonly string[], stamp: string | null, trx: Conn = db()): Promise<Map<string, MachineRules>> {
+  if (stamp && machineIds.every((id) => keptRules.get(id)?.stamp === stamp)) return new Map(machineIds.map((id) => [id, keptRules.get(id)!.rules]));
+  const r = await rulesAndClosuresOf(machineIds, trx);
+  if (r.stamp) for (const [id, rules] of r.rules) keep(keptRules, id, { stamp: r.stamp, rules });
+  return r.rules;
+}
+
+/**
+ * A machine's rules and its closures (and the whole site's) overlapping [from, to), in one statement: what a new
+ * booking is checked against (getRules and listClosures answer the same). With `stamp` (RULES_STAMP_SQL read by the
+ * caller) and this machine's rules and closures kept under that stamp, no statement at all.
+ */
+export async function getRulesAndClosures(machineId: string, from: Date, to: Date, trx: Conn = db(), stamp?: string | null): Promise<{ rules: MachineRules; closures: ClosureRow[] }> {
+  const rulesHit = stamp ? keptRules.get(machineId) : undefined;
+  const closuresHit = stamp ? keptClosures.get(machineId) : undefined;
+  if (stamp && rulesHit && closuresHit && rulesHit.stamp === stamp && closuresHit.stamp === stamp && from >= closuresHit.from) {
+    return { rules: rulesHit.rules, closures: overlapping(closuresHit.closures, from, to) };
+  }
+  const closuresFrom = new Date(Math.min(from.getTime(), Date.now() - DAY_MS));
+  const r = await rulesAndClosuresOf([machineId], trx, { from: closuresFrom, to: null });
+  const rules = r.rules.get(machineId)!;
+  const closures = r.closures.get(machineId) ?? [];
+  if (r.stamp) {
+    keep(keptRules, machineId, { stamp: r.stamp, rules });
+    if (closures.length <= KEPT_CLOSURES_MAX) keep(keptClosures, machineId, { stamp: r.stamp, closures, from: closuresFrom });
+  }
+  return { rules, closures: overlapping(closures, from, to) };
+}
+
+async function rulesAndClosuresOf(machineIds: readonly string[], trx: Conn, window?: { from: Date; to: Date | null }) {
   const out = new Map<string, MachineRules>();
   const closuresOf = new Map<string, ClosureRow[]>();
-  if (!machineIds.length) return { rules: out, closures: closuresOf };
+  if (!machineIds.length) return { rules: out, closures: closuresOf, stamp: null };
   // closures in listClosures' order (by start); their times come as ISO text from json and are turned into Dates below
   const closureColumn = window
     ? `, (SELECT json_agg(json_build_object('id', c.id, 'machineId', c.machine_id, 'startsAt', c.starts_at, 'endsAt', c.ends_at, 'reason', c.reason) ORDER BY c.starts_at)
-          FROM closures c WHERE c.starts_at < ? AND c.ends_at > ? AND (c.machine_id = m.id OR c.machine_id IS NULL)) AS closures`
+          FROM closures c WHERE ${window.to ? 'c.starts_at < ? AND ' : ''}c.ends_at > ? AND (c.machine_id = m.id OR c.machine_id IS NULL)) AS closures`
     : '';
   const { rows } = await trx.raw(
     `SELECT m.n, r.slot_minutes, r.min_minutes, r.max_minutes, r.buffer_minutes, r.lead_minutes, r.horizon_days, r.cancel_cutoff_minutes,
        (SELECT json_agg(json_build_object('weekday', h.weekday, 'opensMinute', h.opens_minute, 'closesMinute', h.closes_minute) ORDER BY h.weekday, h.opens_minute)
           FROM opening_hours h WHERE h.machine_id = m.id) AS hours,
-       (SELECT json_agg(json_build_object('tier', q.tier, 'minutes', q.weekly_minutes)) FROM machine_tier_quotas q WHERE q.machine_id = m.id) AS quotas
+       (SELECT json_agg(json_build_object('tier', q.tier, 'minutes', q.weekly_minutes)) FROM machine_tier_quotas q WHERE q.machine_id = m.id) AS quotas,
+       ${RULES_STAMP_SQL} AS stamp
        ${closureColumn}
      FROM unnest(?::uuid[]) WITH ORDINALITY AS m(id, n) LEFT JOIN machine_booking_rules r ON r.machine_id = m.id`,
-    window ? [window.to, window.from, [...machineIds]] : [[...machineIds]],
+    window ? [...(window.to ? [window.to] : []), window.from, [...machineIds]] : [[...machineIds]],
   );
-  for (const row of rows as (RulesRow & { closures?: { id: string; machineId: string | null; startsAt: string; endsAt: string; reason: string }[] | null })[]) {
+  let stamp: string | null = null;
+  for (const row of rows as (RulesRow & { stamp: string | null; closures?: { id: string; machineId: string | null; startsAt: string; endsAt: string; reason: string }[] | null })[]) {
+    stamp = row.stamp;
     if (window) {
-      closuresOf.set(machineIds[Number(row.n) - 1]!, (row.closures ?? []).map((c) => ({ id: c.id, machineId: c.machineId, startsAt: new Date(c.startsAt), endsAt: new Date(c.endsAt), reason: c.reason })));
+      closuresOf.set(machineIds[Number(row.n) - 1]!, closuresFromJson(row.closures));
     }
     const quotas = Object.fromEntries(TIERS.map((t) => [t, null])) as Record<Tier, number | null>;
     for (const q of row.quotas ?? []) quotas[q.tier] = q.minutes;
@@ -68,7 +120,7 @@ async function rulesAndClosuresOf(machineIds: readonly string[], trx: Conn, wind
       hours: row.hours ?? [],
     });
   }
-  return { rules: out, closures: closuresOf };
+  return { rules: out, closures: closuresOf, stamp };
 }
 
 export interface RulesInput extends BookingRules {
@@ -115,6 +167,25 @@ export async function saveRules(actorId: string, machineId: string, input: Rules
     });
     return after;
   });
+}
+
+/**
+ * listClosures as one json select expression, for a statement the caller runs anyway: the closures overlapping a
+ * period of the machines `machineIdsSql` lists (a subquery) and of the whole site, or every closure in it when
+ * null. Its bindings: `bindings(from, to)`; read the value with closuresFromJson.
+ */
+export function closuresJsonSql(machineIdsSql: string | null) {
+  return {
+    sql: `(SELECT json_agg(json_build_object('id', c.id, 'machineId', c.machine_id, 'startsAt', c.starts_at, 'endsAt', c.ends_at, 'reason', c.reason) ORDER BY c.starts_at)
+             FROM closures c WHERE c.starts_at < ? AND c.ends_at > ?${machineIdsSql ? ` AND (c.machine_id IN (${machineIdsSql}) OR c.machine_id IS NULL)` : ''})`,
+    bindings: (from: Date, to: Date) => [to, from],
+  };
+}
+
+/** The closures in closuresJsonSql's value (times as Dates). */
+export function closuresFromJson(value: unknown): ClosureRow[] {
+  return ((value ?? []) as { id: string; machineId: string | null; startsAt: string; endsAt: string; reason: string }[])
+    .map((c) => ({ id: c.id, machineId: c.machineId, startsAt: new Date(c.startsAt), endsAt: new Date(c.endsAt), reason: c.reason }));
 }
 
 /** Closures of a machine (and of the whole site) that overlap [from, to). */

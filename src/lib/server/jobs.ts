@@ -85,6 +85,22 @@ function onTransaction(trx: Knex.Transaction): PgBoss.Db {
   };
 }
 
+/** A job for enqueueAll: its queue and its data. */
+export interface QueuedJob {
+  name: QueueName;
+  data: object;
+}
+
+/**
+ * Several jobs (of any queues) in one statement on the caller's transaction: pg-boss's insert, where each queue's own
+ * retry policy applies as with enqueue. For a request that records more than one job in its transaction.
+ */
+export async function enqueueAll(trx: Knex.Transaction, list: readonly QueuedJob[]): Promise<void> {
+  if (!list.length) return;
+  const b = await jobs();
+  await b.insert(list.map((j) => ({ name: j.name, data: j.data })), { db: onTransaction(trx) });
+}
+
 export async function enqueue<T extends object>(trx: Knex.Transaction | null, name: QueueName, data: T, options: PgBoss.SendOptions = {}): Promise<string | null> {
   const b = await jobs();
   return b.send(name, data, trx ? { ...options, db: onTransaction(trx) } : options);

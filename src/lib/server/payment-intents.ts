@@ -10,7 +10,7 @@
  */
 import type { Knex } from 'knex';
 import { db } from './db';
-import { enqueue } from './jobs';
+import { enqueue, type QueuedJob } from './jobs';
 
 export type PaymentIntent =
   /** a booking was made: hold its estimate on the card (paid tiers with a saved card) */
@@ -28,6 +28,11 @@ export type PaymentIntent =
 
 export async function recordPaymentIntent(trx: Knex.Transaction, intent: PaymentIntent): Promise<void> {
   await enqueue(trx, 'payments.intent', intent);
+}
+
+/** recordPaymentIntent's job, for enqueueAll with the other jobs of a transaction. */
+export function paymentIntentJob(intent: PaymentIntent): QueuedJob {
+  return { name: 'payments.intent', data: intent };
 }
 
 /** The intent a cancellation records: a late cancellation of a personal booking is charged the fee; else the hold is released. */

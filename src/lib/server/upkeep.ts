@@ -169,72 +169,91 @@ export interface UpkeepStatus {
   due: DueItem[];
 }
 
-async function beamMinutesBetween(trx: Conn, machineId: string, from: Date | null, to: Date): Promise<number> {
-  const q = trx('machine_sessions').where({ machine_id: machineId }).whereNotNull('checked_out_at').where('checked_in_at', '<', to);
-  if (from) q.where('checked_in_at', '>=', from);
-  const r = await q.first(trx.raw('coalesce(sum(beam_minutes), 0)::int as minutes'));
-  return Number((r as { minutes?: number } | undefined)?.minutes ?? 0);
-}
+type StatusRow = MachineRow & {
+  intervals: { kind: UpkeepKind; beam_hours: number | string | null; days: number | null }[] | null;
+  last: { kind: UpkeepKind; performed_at: string; tube_rated_hours: number | null; beam_minutes_since: number }[] | null;
+  beam_minutes_ever: number;
+  recent_minutes: number;
+  tube_minutes: number;
+  timer_sessions: number;
+  clock_sessions: number;
+};
 
 /**
- * Minutes the tube fired: the job-timer reading where the member gave one at check-out (the laser's own count), else
- * the beam time from check-in to check-out; with how many sessions each way.
+ * What the due lists of these machines (every machine in use when `machineId` is null) are worked out from, in one
+ * statement, by name: the machine, its intervals, the last time each kind was done (up to `now`) with the beam
+ * minutes since, the beam minutes ever and in the last RECENT_WINDOW_DAYS, and the tube's minutes since it was
+ * fitted — the job-timer reading where the member gave one at check-out (the laser's own count), else the beam time
+ * from check-in to check-out — with how many sessions each way. Only sessions checked out and checked in before
+ * `now` count.
  */
-async function tubeMinutesBetween(trx: Conn, machineId: string, from: Date | null, to: Date): Promise<{ minutes: number; timerSessions: number; clockSessions: number }> {
-  const q = trx('machine_sessions').where({ machine_id: machineId }).whereNotNull('checked_out_at').where('checked_in_at', '<', to);
-  if (from) q.where('checked_in_at', '>=', from);
-  const r = (await q.first(
-    trx.raw('coalesce(sum(coalesce(job_timer_minutes, beam_minutes)), 0)::int as minutes'),
-    trx.raw('count(job_timer_minutes)::int as timer_sessions'),
-    trx.raw('(count(*) - count(job_timer_minutes))::int as clock_sessions'),
-  )) as { minutes?: number; timer_sessions?: number; clock_sessions?: number } | undefined;
-  return { minutes: Number(r?.minutes ?? 0), timerSessions: Number(r?.timer_sessions ?? 0), clockSessions: Number(r?.clock_sessions ?? 0) };
+async function statusRows(machineId: string | null, now: Date, trx: Conn): Promise<StatusRow[]> {
+  const recentFrom = new Date(now.getTime() - RECENT_WINDOW_DAYS * 86_400_000);
+  const { rows } = await trx.raw(
+    `WITH m AS MATERIALIZED (SELECT id, name, code, tube_type, coolant_type, created_at FROM machines WHERE retired_at IS NULL ${machineId ? 'AND id = ?' : ''}),
+          s AS MATERIALIZED (SELECT machine_id, checked_in_at, beam_minutes, job_timer_minutes FROM machine_sessions
+                              WHERE machine_id IN (SELECT id FROM m) AND checked_out_at IS NOT NULL AND checked_in_at < ?),
+          last AS (SELECT DISTINCT ON (u.machine_id, u.kind) u.machine_id, u.kind, u.performed_at, u.tube_rated_hours FROM upkeep_entries u
+                    WHERE u.machine_id IN (SELECT id FROM m) AND u.performed_at <= ? ORDER BY u.machine_id, u.kind, u.performed_at DESC)
+     SELECT m.*,
+       (SELECT json_agg(json_build_object('kind', i.kind, 'beam_hours', i.beam_hours, 'days', i.days)) FROM upkeep_intervals i WHERE i.machine_id = m.id) AS intervals,
+       (SELECT json_agg(json_build_object('kind', l.kind, 'performed_at', l.performed_at, 'tube_rated_hours', l.tube_rated_hours,
+                 'beam_minutes_since', (SELECT coalesce(sum(s.beam_minutes), 0)::int FROM s WHERE s.machine_id = m.id AND s.checked_in_at >= l.performed_at)))
+          FROM last l WHERE l.machine_id = m.id) AS last,
+       (SELECT coalesce(sum(s.beam_minutes), 0)::int FROM s WHERE s.machine_id = m.id) AS beam_minutes_ever,
+       (SELECT coalesce(sum(s.beam_minutes), 0)::int FROM s WHERE s.machine_id = m.id AND s.checked_in_at >= ?) AS recent_minutes,
+       t.minutes AS tube_minutes, t.timer_sessions, t.clock_sessions
+     FROM m
+     CROSS JOIN LATERAL (
+       SELECT coalesce(sum(coalesce(s.job_timer_minutes, s.beam_minutes)), 0)::int AS minutes, count(s.job_timer_minutes)::int AS timer_sessions,
+              (count(*) - count(s.job_timer_minutes))::int AS clock_sessions
+       FROM s WHERE s.machine_id = m.id
+         AND s.checked_in_at >= coalesce((SELECT l.performed_at FROM last l WHERE l.machine_id = m.id AND l.kind = 'tube_replacement'), '-infinity')) t
+     ORDER BY m.name`,
+    [...(machineId ? [machineId] : []), now, now, recentFrom],
+  );
+  return rows as StatusRow[];
 }
 
-/** Tube hours, the rate of use and the due list of one machine at `now`. */
-export async function upkeepStatus(machineId: string, now = new Date(), trx: Conn = db()): Promise<UpkeepStatus> {
-  const m = await machineRow(machineId, trx);
-  const intervals = await intervalsFor(machineId, trx);
-  const last = (await trx('upkeep_entries')
-    .where({ machine_id: machineId })
-    .where('performed_at', '<=', now)
-    .distinctOn('kind')
-    .orderBy([{ column: 'kind' }, { column: 'performed_at', order: 'desc' }])
-    .select('kind', 'performed_at', 'tube_rated_hours')) as { kind: UpkeepKind; performed_at: Date; tube_rated_hours: number | null }[];
-  const recent = await beamMinutesBetween(trx, machineId, new Date(now.getTime() - RECENT_WINDOW_DAYS * 86_400_000), now);
+/** Tube hours, the rate of use and the due list of one machine, from its statusRows row. */
+function statusOf(r: StatusRow, now: Date): UpkeepStatus {
+  const defaults = defaultIntervals(r.tube_type, r.coolant_type);
+  const intervals = {} as Record<UpkeepKind, UpkeepInterval & { custom: boolean }>;
+  for (const k of UPKEEP_KINDS) {
+    const i = (r.intervals ?? []).find((x) => x.kind === k);
+    intervals[k] = i ? { beamHours: i.beam_hours === null ? null : Number(i.beam_hours), days: i.days, custom: true } : { ...defaults[k], custom: false };
+  }
+  const last = (r.last ?? []).map((l) => ({ ...l, performed_at: new Date(l.performed_at) }));
+  const recent = Number(r.recent_minutes);
   const tube = last.find((l) => l.kind === 'tube_replacement');
-  const tubeCount = await tubeMinutesBetween(trx, machineId, tube?.performed_at ?? null, now);
-  const tubeMinutes = tubeCount.minutes;
-  const rated = tube?.tube_rated_hours ?? intervals.tube_replacement.beamHours ?? defaultIntervals(m.tube_type, m.coolant_type).tube_replacement.beamHours!;
+  const tubeMinutes = Number(r.tube_minutes);
+  const rated = tube?.tube_rated_hours ?? intervals.tube_replacement.beamHours ?? defaults.tube_replacement.beamHours!;
   const due: DueItem[] = [];
   for (const kind of UPKEEP_KINDS) {
     const done = last.find((l) => l.kind === kind);
-    const since = kind === 'tube_replacement' ? tubeMinutes : await beamMinutesBetween(trx, machineId, done?.performed_at ?? null, now);
+    const since = kind === 'tube_replacement' ? tubeMinutes : Number(done ? done.beam_minutes_since : r.beam_minutes_ever);
     const interval = kind === 'tube_replacement' && tube?.tube_rated_hours ? { ...intervals[kind], beamHours: tube.tube_rated_hours } : intervals[kind];
-    const f = forecast({ interval, lastDoneAt: done?.performed_at ?? null, since: m.created_at, beamMinutesSince: since, recentBeamMinutes: recent, windowDays: RECENT_WINDOW_DAYS, now });
+    const f = forecast({ interval, lastDoneAt: done?.performed_at ?? null, since: r.created_at, beamMinutesSince: since, recentBeamMinutes: recent, windowDays: RECENT_WINDOW_DAYS, now });
     due.push({ kind, label: UPKEEP_LABELS[kind], interval, lastDoneAt: done?.performed_at ?? null, beamHoursSince: Math.round((since / 60) * 10) / 10, forecast: f });
   }
   return {
-    machineId: m.id, machineName: m.name, machineCode: m.code, tubeHours: tubeHours(tubeMinutes),
-    tubeHoursBasis: { timerSessions: tubeCount.timerSessions, clockSessions: tubeCount.clockSessions }, tubeRatedHours: rated,
+    machineId: r.id, machineName: r.name, machineCode: r.code, tubeHours: tubeHours(tubeMinutes),
+    tubeHoursBasis: { timerSessions: Number(r.timer_sessions), clockSessions: Number(r.clock_sessions) }, tubeRatedHours: rated,
     tubeFittedAt: tube?.performed_at ?? null, hoursPerDay: Math.round((recent / 60 / RECENT_WINDOW_DAYS) * 100) / 100, due: byUrgency(due),
   };
 }
 
-/** Upkeep status of every machine in use. */
+/** Tube hours, the rate of use and the due list of one machine at `now`. */
+export async function upkeepStatus(machineId: string, now = new Date(), trx: Conn = db()): Promise<UpkeepStatus> {
+  const [row] = await statusRows(machineId, now, trx);
+  if (!row) throw new DomainError('not_found', 'not_found', 'No such machine.');
+  return statusOf(row, now);
+}
+
+/** Upkeep status of every machine in use (by name), in one statement whatever the number of machines. */
 export async function upkeepOverview(now = new Date()): Promise<UpkeepStatus[]> {
-  const ids = (await db()('machines').whereNull('retired_at').orderBy('name').pluck('id')) as string[];
-  const out: UpkeepStatus[] = [];
-  for (const id of ids) {
-    try {
-      out.push(await upkeepStatus(id, now));
-    } catch (err) {
-      // retired while the list was being built (an admin at the same moment): it leaves the list, not a 500
-      if (err instanceof DomainError && err.kind === 'not_found') continue;
-      throw err;
-    }
-  }
-  return out;
+  // a machine retired while the list is being built is in it or not, never a 500: one statement, one snapshot
+  return (await statusRows(null, now, db())).map((r) => statusOf(r, now));
 }
 
 /** Overdue upkeep labels per machine id (for the Floor and the machine page). */

@@ -2,7 +2,7 @@
 import type { Knex } from 'knex';
 import { queueMail, renderedMail, sendMailNow, type MailAttachment } from '@lib/server/mail';
 import { db } from '@lib/server/db';
-import { enqueue } from '@lib/server/jobs';
+import { enqueue, type QueuedJob } from '@lib/server/jobs';
 import { env } from '@lib/server/env';
 import { buildIcs } from '@lib/ics';
 import { toBooking, type Booking, type Conn, type MachineRow, type Row } from './records';
@@ -117,6 +117,11 @@ function confirmationMail(b: Booking, machine: { name: string }, person: { email
  */
 export async function queueConfirmation(trx: Knex.Transaction, bookingId: string): Promise<void> {
   await enqueue(trx, 'booking.confirm', { bookingId });
+}
+
+/** queueConfirmation's job, for enqueueAll with the other jobs of a transaction. */
+export function confirmationJob(bookingId: string): QueuedJob {
+  return { name: 'booking.confirm', data: { bookingId } };
 }
 
 /**

@@ -1,7 +1,7 @@
 /** The Book screen's reads: the week feed of bookings, closures and open hours, free ranges, my bookings, now and next. */
 import { db } from '@lib/server/db';
 import { DomainError } from '@lib/server/errors';
-import { getRulesOf, listClosures } from '@lib/server/booking-rules';
+import { closuresFromJson, closuresJsonSql, getRulesOfStamped, RULES_STAMP_SQL, type ClosureRow } from '@lib/server/booking-rules';
 import { type MachineRules } from '@lib/availability';
 import type { Tier } from '@lib/vocabulary';
 import { getSettings } from '@lib/server/settings';
@@ -10,42 +10,69 @@ import { quoteFor } from '@lib/server/prices';
 import { hasAnyRole } from '@lib/roles';
 import { freeRanges, localWeek, openIntervals } from '@lib/availability';
 import { ACTIVE_STATES, toBooking, type Actor, type Booking, type BookingKind, type Row } from './records';
-import { ruleContext, tierAndWeeklyMinutes } from './gate';
+import { ruleContext, weekUseFromJson, weekUseJsonSql } from './gate';
 import type { CancelTerms, Feed } from '@lib/booking-feed';
 
 export type { CancelTerms, Feed, FeedEvent, WeekUse } from '@lib/booking-feed';
 
-/** The calendar feed: active bookings in [from, to) (and the viewer's own, in any state but cancelled), closures, open hours. */
+type FeedBookingJson = {
+  id: string; machine_id: string; person_id: string; starts_at: string; ends_at: string; occupied_until: string;
+  state: Row['state']; kind: BookingKind; course_name: string | null; notes: string; late_cancel: boolean; person_name: string;
+};
+
+/** The machines' open ranges of a feed, by rules stamp, machine, period and zone: the same week is shaded again and again. */
+const openKept = new Map<string, ReturnType<typeof openIntervals>>();
+const OPEN_KEPT_MAX = 500;
+
+/**
+ * The calendar feed: active bookings in [from, to) (and the viewer's own, in any state but cancelled), closures, open
+ * hours. One statement reads the machines, the bookings, the closures, the viewer's tier and week use and the booking
+ * rules' stamp; the rules (and each machine's open ranges for the period) come from memory while the stamp is unchanged.
+ */
 export async function calendarFeed(viewer: Actor, filter: { machineId?: string; from: Date; to: Date }): Promise<Feed> {
   const seesNames = hasAnyRole(viewer.roles, ['instructor', 'steward', 'admin']);
   const settings = await getSettings();
-  const mq = db()('machines').whereNull('retired_at').orderBy('name');
-  if (filter.machineId) mq.where({ id: filter.machineId });
-  const machines = (await mq.select('id', 'name', 'status')) as { id: string; name: string; status: string }[];
+  const week = localWeek(filter.from, settings.timeZone);
+  const one = filter.machineId ?? null;
+  const machinesSql = one ? 'SELECT id, name, status FROM machines WHERE retired_at IS NULL AND id = ?' : 'SELECT id, name, status FROM machines WHERE retired_at IS NULL';
+  const closures = closuresJsonSql(one ? 'SELECT id FROM ms' : null);
+  const use = weekUseJsonSql('SELECT id FROM ms');
+  const { rows } = await db().raw(
+    `WITH ms AS MATERIALIZED (${machinesSql})
+     SELECT (SELECT json_agg(json_build_object('id', ms.id, 'name', ms.name, 'status', ms.status) ORDER BY ms.name) FROM ms) AS machines,
+            ${RULES_STAMP_SQL} AS rules_stamp,
+            ${closures.sql} AS closures,
+            ${use.sql} AS week_use,
+            (SELECT json_agg(json_build_object('id', b.id, 'machine_id', b.machine_id, 'person_id', b.person_id, 'starts_at', b.starts_at, 'ends_at', b.ends_at,
+                       'occupied_until', b.occupied_until, 'state', b.state, 'kind', b.kind, 'course_name', b.course_name, 'notes', b.notes,
+                       'late_cancel', b.late_cancel, 'person_name', p.name) ORDER BY b.starts_at)
+               FROM bookings b JOIN people p ON p.id = b.person_id
+              WHERE b.machine_id ${one ? '= ?' : 'IN (SELECT id FROM ms)'}
+                AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)')
+                AND (b.state IN ('reserved', 'checked in', 'completed') OR (b.person_id = ? AND b.state = 'no-show'))) AS bookings`,
+    [
+      ...(one ? [one] : []),
+      ...closures.bindings(filter.from, filter.to),
+      ...use.bindings(viewer.id, week),
+      ...(one ? [one] : []), filter.from, filter.to, viewer.id,
+    ],
+  );
+  const r = rows[0] as { machines: { id: string; name: string; status: string }[] | null; rules_stamp: string | null; closures: unknown; week_use: unknown; bookings: FeedBookingJson[] | null };
+  const machines = r.machines ?? [];
   if (filter.machineId && !machines.length) throw new DomainError('not_found', 'not_found', 'No such machine.');
   const ids = machines.map((m) => m.id);
-  const rows = await db()('bookings as b')
-    .join('people as p', 'p.id', 'b.person_id')
-    .whereIn('b.machine_id', ids)
-    .whereRaw("tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)')", [filter.from, filter.to])
-    .where((w) => w.whereIn('b.state', ['reserved', 'checked in', 'completed']).orWhere((m) => m.where('b.person_id', viewer.id).whereIn('b.state', ['no-show'])))
-    .orderBy('b.starts_at')
-    .select('b.*', 'p.name as person_name');
-  const closures = await listClosures(filter.machineId ?? null, filter.from, filter.to);
-  const week = localWeek(filter.from, settings.timeZone);
-  // the viewer's tier and booked minutes, and every machine's rules: one statement each, whatever the number of machines
-  const { tier, usedOf } = await tierAndWeeklyMinutes(viewer.id, ids, week);
-  const rulesOf = await getRulesOf(ids);
+  const closureRows = closuresFromJson(r.closures);
+  const { tier, usedOf } = weekUseFromJson(r.week_use);
+  const rulesOf = await getRulesOfStamped(ids, r.rules_stamp);
   const machinesOut = [];
   for (const m of machines) {
     const rules = rulesOf.get(m.id)!;
-    const mc = closures.filter((c) => c.machineId === null || c.machineId === m.id);
     const used = usedOf.get(m.id) ?? 0;
     machinesOut.push({
       id: m.id,
       name: m.name,
       status: m.status,
-      open: openIntervals(filter.from, filter.to, settings.timeZone, rules.hours, mc),
+      open: openOf(m.id, r.rules_stamp, filter.from, filter.to, settings.timeZone, rules, closureRows),
       slotMinutes: rules.slotMinutes,
       minMinutes: rules.minMinutes,
       maxMinutes: rules.maxMinutes,
@@ -54,35 +81,49 @@ export async function calendarFeed(viewer: Actor, filter: { machineId?: string; 
       week: { weekStart: week.start, usedMinutes: Math.round(used), limitMinutes: rules.quotas[tier] ?? null },
     });
   }
-  const typed = rows as (Row & { person_name: string })[];
-  const terms = await cancelTermsOf(typed.filter((r) => r.person_id === viewer.id && r.state === 'reserved' && r.kind === 'personal'), tier);
+  const typed = (r.bookings ?? []).map((b) => ({ ...b, starts_at: new Date(b.starts_at), ends_at: new Date(b.ends_at), occupied_until: new Date(b.occupied_until) }));
+  const terms = await cancelTermsOf(typed.filter((b) => b.person_id === viewer.id && b.state === 'reserved' && b.kind === 'personal'), tier);
   return {
     timeZone: settings.timeZone,
     machines: machinesOut,
-    closures: closures.filter((c) => c.machineId === null || ids.includes(c.machineId)),
-    bookings: typed.map((r) => {
-      const mine = r.person_id === viewer.id;
+    closures: closureRows.filter((c) => c.machineId === null || ids.includes(c.machineId)),
+    bookings: typed.map((b) => {
+      const mine = b.person_id === viewer.id;
       return {
-        id: r.id,
-        machineId: r.machine_id,
-        startsAt: r.starts_at,
-        endsAt: r.ends_at,
-        occupiedUntil: r.occupied_until,
-        state: r.state,
-        kind: r.kind,
+        id: b.id,
+        machineId: b.machine_id,
+        startsAt: b.starts_at,
+        endsAt: b.ends_at,
+        occupiedUntil: b.occupied_until,
+        state: b.state,
+        kind: b.kind,
         mine,
-        personName: mine || seesNames ? r.person_name : null,
-        courseName: r.course_name,
-        notes: mine ? r.notes : null,
-        lateCancel: r.late_cancel,
-        ...(terms.has(r.id) ? { cancelTerms: terms.get(r.id)! } : {}),
+        personName: mine || seesNames ? b.person_name : null,
+        courseName: b.course_name,
+        notes: mine ? b.notes : null,
+        lateCancel: b.late_cancel,
+        ...(terms.has(b.id) ? { cancelTerms: terms.get(b.id)! } : {}),
       };
     }),
   };
 }
 
+/** A machine's open ranges in [from, to): worked out once per rules stamp (which covers hours and closures), period and zone. */
+function openOf(machineId: string, stamp: string | null, from: Date, to: Date, tz: string, rules: MachineRules, closures: readonly ClosureRow[]) {
+  const mc = closures.filter((c) => c.machineId === null || c.machineId === machineId);
+  if (!stamp) return openIntervals(from, to, tz, rules.hours, mc);
+  const key = `${stamp} ${machineId} ${from.getTime()} ${to.getTime()} ${tz}`;
+  let open = openKept.get(key);
+  if (!open) {
+    open = openIntervals(from, to, tz, rules.hours, mc);
+    if (openKept.size >= OPEN_KEPT_MAX) openKept.clear();
+    openKept.set(key, open);
+  }
+  return open;
+}
+
 /** What cancelling each of these (the viewer's own, reserved) bookings would cost: the late fee and the hold released. */
-async function cancelTermsOf(rows: Row[], tier: Tier): Promise<Map<string, CancelTerms>> {
+async function cancelTermsOf(rows: { id: string; machine_id: string; starts_at: Date }[], tier: Tier): Promise<Map<string, CancelTerms>> {
   const out = new Map<string, CancelTerms>();
   if (!rows.length) return out;
   const held = await heldOnBookings(rows.map((r) => r.id));

@@ -63,23 +63,49 @@ export function formatLocalDateTime(at: Date, site: SiteZone): string {
  */
 export async function canOperate(personId: string, machineId: string, at: Date, trx?: Conn): Promise<OperateVerdict> {
   const q = trx ?? db();
-  // one statement (it runs on every booking): the machine's group, the person's clearance on it, a published quiz
-  const machine = await q('machines as m')
-    .leftJoin('machine_groups as g', 'g.id', 'm.group_id')
-    .leftJoin('clearances as c', (j) => j.on('c.group_id', 'm.group_id').andOn('c.person_id', q.raw('?', [personId])))
-    .where('m.id', machineId)
-    .first(
-      'm.name as machine_name', 'm.required_level', 'm.group_id', 'g.name as group_name', 'g.refresher',
-      'c.id as clearance_id', 'c.state', 'c.level', 'c.expires_at',
-      q.raw("EXISTS (SELECT 1 FROM quizzes z JOIN quiz_versions v ON v.quiz_id = z.id WHERE z.group_id = m.group_id AND v.status = 'published') AS has_quiz"),
-    );
+  // one statement (it runs on every check-in and badge): the machine's group, the person's clearance on it, a published quiz
+  const { rows } = await q.raw(`SELECT ${operateFactsSql('?::uuid')} AS operate`, [personId, machineId]);
+  return operateVerdict((rows[0] as { operate: OperateFacts | null } | undefined)?.operate ?? null, at);
+}
+
+/** What canOperate decides from, as operateFactsSql reads it (json: the expiry comes as ISO text). */
+export interface OperateFacts {
+  machine_name: string;
+  required_level: ClearanceLevel;
+  group_id: string | null;
+  group_name: string | null;
+  refresher: RefresherRule | null;
+  clearance_id: string | null;
+  state: ClearanceState | null;
+  level: ClearanceLevel | null;
+  expires_at: string | null;
+  has_quiz: boolean;
+}
+
+/**
+ * canOperate's facts as one select expression (a json object, null when no machine has the id): for a statement the
+ * caller runs anyway, e.g. the booking gate's lock (bookings/gate.ts). `machineIdSql` and `personIdSql` are SQL
+ * expressions for the machine's and the person's id; with the default `personIdSql`, the expression's first binding
+ * (before any of `machineIdSql`'s) is the person's id. Decide with operateVerdict.
+ */
+export function operateFactsSql(machineIdSql: string, personIdSql = '?'): string {
+  return `(SELECT json_build_object('machine_name', om.name, 'required_level', om.required_level, 'group_id', om.group_id,
+            'group_name', og.name, 'refresher', og.refresher, 'clearance_id', oc.id, 'state', oc.state, 'level', oc.level, 'expires_at', oc.expires_at,
+            'has_quiz', EXISTS (SELECT 1 FROM quizzes z JOIN quiz_versions v ON v.quiz_id = z.id WHERE z.group_id = om.group_id AND v.status = 'published'))
+          FROM machines om LEFT JOIN machine_groups og ON og.id = om.group_id
+          LEFT JOIN clearances oc ON oc.group_id = om.group_id AND oc.person_id = ${personIdSql}
+          WHERE om.id = ${machineIdSql})`;
+}
+
+/** canOperate's verdict from operateFactsSql's facts at `at`. */
+export function operateVerdict(machine: OperateFacts | null, at: Date): OperateVerdict {
   if (!machine) return { ok: false, state: 'none', message: 'This machine does not exist or has been retired.' };
   if (!machine.group_id) {
     return { ok: false, state: 'none', message: `${machine.machine_name} is not in a clearance group yet; an admin must assign one before anyone can run it.` };
   }
   return decideOperate(
-    machine.clearance_id ? { state: machine.state, level: machine.level, expiresAt: machine.expires_at } : null,
-    { requiredLevel: machine.required_level, groupName: machine.group_name, refresher: machine.refresher, hasQuiz: Boolean(machine.has_quiz) },
+    machine.clearance_id ? { state: machine.state!, level: machine.level!, expiresAt: machine.expires_at === null ? null : new Date(machine.expires_at) } : null,
+    { requiredLevel: machine.required_level, groupName: machine.group_name!, refresher: machine.refresher!, hasQuiz: Boolean(machine.has_quiz) },
     at,
   );
 }

@@ -2,10 +2,10 @@
 import { db, pgCode, PG, transaction } from '@lib/server/db';
 import { recordAudit } from '@lib/server/audit';
 import { DomainError } from '@lib/server/errors';
-import { canOperate } from '@lib/server/clearances/state';
+import { operateFactsSql, operateVerdict, type OperateFacts } from '@lib/server/clearances/state';
 import { checkIn } from '@lib/server/machine-sessions';
 import { assertCanBook } from '@lib/server/payments/charge-runs';
-import { getRules, listClosures } from '@lib/server/booking-rules';
+import { getRulesAndClosures, RULES_STAMP_SQL } from '@lib/server/booking-rules';
 import { getSettings } from '@lib/server/settings';
 import { badgeHash } from '@lib/server/badges';
 import { openIntervals } from '@lib/availability';
@@ -31,10 +31,13 @@ const ALL_CONFIRMED = () => Object.fromEntries(PRE_USE_ITEMS.map((i) => [i.key, 
 export async function authorize(ctrl: Controller, rawBadge: string, now = new Date()): Promise<AuthorizeAnswer> {
   const badge = normaliseBadge(rawBadge);
   const hash = badgeHash(badge);
-  // the badge's person and the controller's machine (with its coolant) in one statement
+  // the badge's person and the controller's machine (with its coolant), what canOperate decides from and the booking
+  // rules' stamp, in one statement
   const { rows: [found] } = await db().raw(
     `SELECT p.id AS person_id, p.name AS person_name, p.active AS person_active,
-            m.id, m.name, m.status, m.retired_at, m.coolant_type, m.coolant_min_c, m.coolant_max_c
+            m.id, m.name, m.status, m.retired_at, m.coolant_type, m.coolant_min_c, m.coolant_max_c,
+            CASE WHEN p.id IS NULL OR m.id IS NULL THEN NULL ELSE ${operateFactsSql('m.id', 'p.id')} END AS operate,
+            ${RULES_STAMP_SQL} AS rules_stamp
      FROM (SELECT 1) one
      LEFT JOIN badges b ON b.badge_hash = ? LEFT JOIN people p ON p.id = b.person_id
      LEFT JOIN machines m ON m.id = ?`,
@@ -59,7 +62,7 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
   if (!person.active) return deny('inactive');
   const machine = found.id ? { id: found.id as string, name: found.name as string, status: found.status as string, retired_at: found.retired_at as Date | null } : undefined;
   if (!machine || machine.retired_at || machine.status === 'out of service') return deny('machine_out_of_service');
-  const verdict = await canOperate(person.id, machine.id, now);
+  const verdict = operateVerdict((found.operate ?? null) as OperateFacts | null, now);
   if (!verdict.ok) return deny(verdict.state === 'suspended' ? 'suspended' : 'not_cleared');
 
   const allow = async (session: { id: string }, until: Date, walkUp: boolean, checkedIn: boolean): Promise<AuthorizeAnswer> => {
@@ -112,8 +115,11 @@ export async function authorize(ctrl: Controller, rawBadge: string, now = new Da
   }
 
   // no booking: a walk-up on a free machine during opening hours, where the site allows it
-  const [settings, rules] = await Promise.all([getSettings(), getRules(machine.id)]);
-  const closures = await listClosures(machine.id, new Date(now.getTime() - 86_400_000), new Date(now.getTime() + 86_400_000));
+  // the rules and closures from memory while the stamp read above is unchanged
+  const [settings, { rules, closures }] = await Promise.all([
+    getSettings(),
+    getRulesAndClosures(machine.id, new Date(now.getTime() - 86_400_000), new Date(now.getTime() + 86_400_000), db(), found.rules_stamp as string | null),
+  ]);
   const interval = openIntervals(new Date(now.getTime() - 86_400_000), new Date(now.getTime() + 86_400_000), settings.timeZone, rules.hours, closures)
     .find((i) => i.start.getTime() <= now.getTime() && now.getTime() < i.end.getTime());
   if (!interval) return deny('outside_hours');

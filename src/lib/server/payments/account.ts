@@ -92,16 +92,19 @@ export interface HoldFacts {
   has_rate: boolean;
 }
 
-/** HoldFacts in one statement; undefined when there is no such person. */
-export async function holdFacts(bookingId: string, personId: string): Promise<HoldFacts | undefined> {
-  const { rows } = await db().raw(
-    `SELECT c.state, c.failure_message, p.tier,
+/** HoldFacts' columns other than the charge's, over people p and the price version v at the start; the machine's id is `machineIdSql`. */
+const holdFactColumns = (machineIdSql: string) => `p.tier,
             EXISTS (SELECT 1 FROM payment_customers pc WHERE pc.person_id = p.id AND pc.card_source_id IS NOT NULL) AS card,
             (coalesce(p.cost_centre, '') <> '' AND p.tier = ANY(coalesce((SELECT v.recharge_tiers FROM price_versions v WHERE v.effective_from <= now()
                                                                            ORDER BY v.effective_from DESC LIMIT 1), '{}'))) AS recharge,
             EXISTS (SELECT 1 FROM charges f WHERE f.person_id = p.id AND f.state = 'payment failed') AS failed,
             v.id AS version_id, v.currency AS version_currency, (SELECT s.currency FROM site_settings s WHERE s.id = 1) AS site_currency,
-            EXISTS (SELECT 1 FROM price_rates r WHERE r.version_id = v.id AND r.machine_id = b.machine_id AND r.tier = p.tier) AS has_rate
+            EXISTS (SELECT 1 FROM price_rates r WHERE r.version_id = v.id AND r.machine_id = ${machineIdSql} AND r.tier = p.tier) AS has_rate`;
+
+/** HoldFacts in one statement; undefined when there is no such person. */
+export async function holdFacts(bookingId: string, personId: string): Promise<HoldFacts | undefined> {
+  const { rows } = await db().raw(
+    `SELECT c.state, c.failure_message, ${holdFactColumns('b.machine_id')}
      FROM people p
      LEFT JOIN LATERAL (SELECT state, failure_message FROM charges WHERE booking_id = ? AND kind = 'beam_time' ORDER BY created_at DESC LIMIT 1) c ON true
      LEFT JOIN bookings b ON b.id = ?
@@ -110,6 +113,22 @@ export async function holdFacts(bookingId: string, personId: string): Promise<Ho
     [bookingId, bookingId, personId],
   );
   return rows[0] as HoldFacts | undefined;
+}
+
+/**
+ * HoldFacts of a booking being made (no charge on it yet: state and failure_message null) as one json select
+ * expression, for a statement the booking's transaction runs anyway; null when there is no such person. Its
+ * bindings: `bindings(personId, machineId, startsAt)`.
+ */
+export function newBookingHoldFactsSql() {
+  return {
+    sql: `(SELECT row_to_json(x) FROM (
+             SELECT NULL::text AS state, NULL::text AS failure_message, ${holdFactColumns('?::uuid')}
+             FROM people p
+             LEFT JOIN LATERAL (SELECT id, currency FROM price_versions WHERE effective_from <= ?::timestamptz ORDER BY effective_from DESC LIMIT 1) v ON true
+             WHERE p.id = ?::uuid) x)`,
+    bindings: (personId: string, machineId: string, startsAt: Date) => [machineId, startsAt, personId],
+  };
 }
 
 /** What the person sees of a booking's card hold just after booking (`known`: facts read since the last try of the hold). */

@@ -4,11 +4,15 @@
  */
 import { DomainError } from '@lib/server/errors';
 import { getSettings } from '@lib/server/settings';
-import { bookingHoldNotice, holdFacts } from './account';
+import { bookingHoldNotice, holdFacts, type HoldFacts } from './account';
 import { tryIntentNow } from './intents';
 
-export async function holdAtBooking(b: { id: string; personId: string }): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
-  const facts = await holdFacts(b.id, b.personId);
+/**
+ * `known`: the facts as the booking's own transaction read them (bookings/create.ts createBooking; no
+ * charge can be on a booking before its commit, and without a saved card the hold writes none), else read here.
+ */
+export async function holdAtBooking(b: { id: string; personId: string }, known?: HoldFacts | null): Promise<{ state: 'held' | 'hold pending' | 'none'; notice: string | null }> {
+  const facts = known ?? (await holdFacts(b.id, b.personId));
   if (!facts || facts.card) {
     const refusal = await tryIntentNow({ kind: 'booking.hold', bookingId: b.id });
     return bookingHoldNotice(b.id, b.personId, refusal);

@@ -38,7 +38,7 @@ const createBody = z.object({
 export const POST = route(async ({ locals, request }) => {
   const person = requireSignedIn(locals);
   const input = await readJson(request, createBody);
-  const booking = await createBooking(person, input);
-  const hold = await holdAtBooking({ id: booking.id, personId: person.id });
+  const { booking, holdFacts } = await createBooking(person, input);
+  const hold = await holdAtBooking({ id: booking.id, personId: person.id }, holdFacts);
   return json({ ...booking, payment: { state: hold.state }, paymentNotice: hold.notice }, 201);
 });
