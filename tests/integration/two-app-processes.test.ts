@@ -15,6 +15,9 @@ import { clearSignInLimits, closeTestDb, testDb } from '../support/db';
 import { APP_URL, DEMO, DEMO_PASSWORD } from '../support/env';
 import { startApp } from '../support/processes';
 import { waitUntil } from '../support/wait';
+import { expectError } from '../support/api-error';
+import { createTestMachine, retireTestMachine } from '../support/machine';
+import { newPerson } from '../support/people';
 
 let secondUrl: string;
 let second: Service | undefined;
@@ -82,6 +85,41 @@ describe('two app processes on one database', () => {
       .whereIn('state', ['reserved', 'checked in'])
       .whereRaw('tstzrange(starts_at, occupied_until) && tstzrange(?, ?)', [startsAt, endsAt]);
     expect(rows).toHaveLength(1);
+  });
+
+  it('a change to a machine\'s opening hours or closures, through either process or in the table, holds for the next booking on both at once', async () => {
+    // booking rules live in each process's memory under a stamp that every booking reads with its lock (decision
+    // record 0440): unlike the settings, nothing waits for a notice, so the very next request on either process obeys
+    const admins = [await Client.as('admin'), await Client.as('admin', secondUrl)] as const;
+    const machine = await createTestMachine(admins[0], 'two-proc-rules');
+    try {
+      // a week's quota that the six bookings below stay within
+      const quotas = { student: 900, staff: 900, community: 900, commercial: 900 };
+      await setTestRules(admins[0], machine.id, { quotas });
+      const person = await newPerson('two-proc-rules', { clearedFor: [machine.code] });
+      const members = [person.client, await new Client(secondUrl).useSessionOf(person.email)] as const;
+      const book = (c: Client, day: number, hour: number) =>
+        c.send('POST', '/api/bookings', { machineId: machine.id, startsAt: iso(siteTime(day, hour)), endsAt: iso(siteTime(day, hour + 1)), materials: [], notes: '' });
+      // both processes have read (and keep) the 08:00–22:00 hours
+      for (const [i, c] of members.entries()) expect((await book(c, 23 + i, 8)).status, `process ${i + 1} before the change`).toBe(201);
+
+      // opening at noon from now on, saved through process 1: both refuse 09:00 at once
+      await setTestRules(admins[0], machine.id, { quotas, hours: [1, 2, 3, 4, 5, 6, 7].map((weekday) => ({ weekday, opensMinute: 12 * 60, closesMinute: 22 * 60 })) });
+      for (const [i, c] of members.entries()) await expectError(await book(c, 23 + i, 9), 422, 'outside_opening_hours');
+      for (const [i, c] of members.entries()) expect((await book(c, 23 + i, 12)).status, `process ${i + 1} after the change`).toBe(201);
+
+      // a closure added through process 2 holds on process 1 at once
+      const closure = await admins[1].send('POST', `/api/machines/${machine.id}/closures`, { startsAt: iso(siteTime(25, 12)), endsAt: iso(siteTime(25, 18)), reason: 'Lens replacement' });
+      expect(closure.status, await closure.clone().text()).toBe(201);
+      for (const c of members) await expectError(await book(c, 25, 14), 422, 'outside_opening_hours');
+
+      // a closure written straight into the table (a script, psql) holds as well
+      await testDb()('closures').insert({ machine_id: machine.id, starts_at: siteTime(26, 12), ends_at: siteTime(26, 18), reason: 'Extraction service' });
+      for (const c of members) await expectError(await book(c, 26, 15), 422, 'outside_opening_hours');
+      expect((await book(members[1], 26, 19)).status).toBe(201);
+    } finally {
+      await retireTestMachine(admins[0], machine);
+    }
   });
 
   it('a change to the site settings made through either process, or in the table, is seen by the writer at once and by the other process within its notice (2 s at most)', async () => {
