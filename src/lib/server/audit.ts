@@ -12,6 +12,9 @@ export interface AuditEntry {
   after?: unknown;
 }
 
+/** before/after as jsonb text (null when not given). */
+const asJson = (v: unknown) => (v === undefined ? null : JSON.stringify(v));
+
 export async function recordAudit(trx: Conn, e: AuditEntry): Promise<void> {
   await trx('audit_log').insert({
     actor_id: e.actorId,
@@ -19,8 +22,8 @@ export async function recordAudit(trx: Conn, e: AuditEntry): Promise<void> {
     subject_type: e.subjectType,
     subject_id: e.subjectId ?? null,
     summary: e.summary,
-    before: e.before === undefined ? null : JSON.stringify(e.before),
-    after: e.after === undefined ? null : JSON.stringify(e.after),
+    before: asJson(e.before),
+    after: asJson(e.after),
   });
 }
 
@@ -33,11 +36,7 @@ export function auditInsertSql(e: Omit<AuditEntry, 'subjectId'>, subjectIdSql: s
   return {
     sql: `INSERT INTO audit_log (actor_id, kind, subject_type, subject_id, summary, before, after)
           SELECT ?::uuid, ?, ?, (${subjectIdSql})::text, ?, ?::jsonb, ?::jsonb FROM ${fromSql}`,
-    bindings: [
-      e.actorId, e.kind, e.subjectType, e.summary,
-      e.before === undefined ? null : JSON.stringify(e.before),
-      e.after === undefined ? null : JSON.stringify(e.after),
-    ],
+    bindings: [e.actorId, e.kind, e.subjectType, e.summary, asJson(e.before), asJson(e.after)],
   };
 }
 

@@ -25,6 +25,9 @@ export async function getRulesOf(machineIds: readonly string[], trx: Conn = db()
  * to the rules, opening hours, tier quotas or closures. Put it in a statement the caller runs anyway and pass its
  * value to getRulesAndClosures: while it is unchanged, the rules come from this process's memory.
  */
+/** A closure as json (times as ISO text), over closures c: closuresFromJson reads an array of them. */
+const CLOSURE_JSON = `json_build_object('id', c.id, 'machineId', c.machine_id, 'startsAt', c.starts_at, 'endsAt', c.ends_at, 'reason', c.reason)`;
+
 export const RULES_STAMP_SQL = '(SELECT stamp FROM booking_rules_stamp WHERE id = 1)';
 
 /**
@@ -84,7 +87,7 @@ async function rulesAndClosuresOf(machineIds: readonly string[], trx: Conn, wind
   if (!machineIds.length) return { rules: out, closures: closuresOf, stamp: null };
   // closures in listClosures' order (by start); their times come as ISO text from json and are turned into Dates below
   const closureColumn = window
-    ? `, (SELECT json_agg(json_build_object('id', c.id, 'machineId', c.machine_id, 'startsAt', c.starts_at, 'endsAt', c.ends_at, 'reason', c.reason) ORDER BY c.starts_at)
+    ? `, (SELECT json_agg(${CLOSURE_JSON} ORDER BY c.starts_at)
           FROM closures c WHERE ${window.to ? 'c.starts_at < ? AND ' : ''}c.ends_at > ? AND (c.machine_id = m.id OR c.machine_id IS NULL)) AS closures`
     : '';
   const { rows } = await trx.raw(
@@ -176,7 +179,7 @@ export async function saveRules(actorId: string, machineId: string, input: Rules
  */
 export function closuresJsonSql(machineIdsSql: string | null) {
   return {
-    sql: `(SELECT json_agg(json_build_object('id', c.id, 'machineId', c.machine_id, 'startsAt', c.starts_at, 'endsAt', c.ends_at, 'reason', c.reason) ORDER BY c.starts_at)
+    sql: `(SELECT json_agg(${CLOSURE_JSON} ORDER BY c.starts_at)
              FROM closures c WHERE c.starts_at < ? AND c.ends_at > ?${machineIdsSql ? ` AND (c.machine_id IN (${machineIdsSql}) OR c.machine_id IS NULL)` : ''})`,
     bindings: (from: Date, to: Date) => [to, from],
   };

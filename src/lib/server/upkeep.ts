@@ -115,8 +115,15 @@ export async function logUpkeep(actorId: string, machineId: string, input: Upkee
 /** A machine's intervals: the admin's where set, else the common-practice defaults. */
 export async function intervalsFor(machineId: string, trx: Conn = db()): Promise<Record<UpkeepKind, UpkeepInterval & { custom: boolean }>> {
   const m = await machineRow(machineId, trx);
-  const defaults = defaultIntervals(m.tube_type, m.coolant_type);
-  const rows = (await trx('upkeep_intervals').where({ machine_id: machineId })) as { kind: UpkeepKind; beam_hours: string | null; days: number | null }[];
+  const rows = (await trx('upkeep_intervals').where({ machine_id: machineId })) as IntervalRow[];
+  return withDefaults(rows, m.tube_type, m.coolant_type);
+}
+
+type IntervalRow = { kind: UpkeepKind; beam_hours: number | string | null; days: number | null };
+
+/** A machine's intervals: its own rows where it has them (custom), else the defaults for its tube and coolant. */
+function withDefaults(rows: readonly IntervalRow[], tubeType: MachineRow['tube_type'], coolantType: MachineRow['coolant_type']): Record<UpkeepKind, UpkeepInterval & { custom: boolean }> {
+  const defaults = defaultIntervals(tubeType, coolantType);
   const out = {} as Record<UpkeepKind, UpkeepInterval & { custom: boolean }>;
   for (const k of UPKEEP_KINDS) {
     const r = rows.find((x) => x.kind === k);
@@ -170,7 +177,7 @@ export interface UpkeepStatus {
 }
 
 type StatusRow = MachineRow & {
-  intervals: { kind: UpkeepKind; beam_hours: number | string | null; days: number | null }[] | null;
+  intervals: IntervalRow[] | null;
   last: { kind: UpkeepKind; performed_at: string; tube_rated_hours: number | null; beam_minutes_since: number }[] | null;
   beam_minutes_ever: number;
   recent_minutes: number;
@@ -217,17 +224,12 @@ async function statusRows(machineId: string | null, now: Date, trx: Conn): Promi
 
 /** Tube hours, the rate of use and the due list of one machine, from its statusRows row. */
 function statusOf(r: StatusRow, now: Date): UpkeepStatus {
-  const defaults = defaultIntervals(r.tube_type, r.coolant_type);
-  const intervals = {} as Record<UpkeepKind, UpkeepInterval & { custom: boolean }>;
-  for (const k of UPKEEP_KINDS) {
-    const i = (r.intervals ?? []).find((x) => x.kind === k);
-    intervals[k] = i ? { beamHours: i.beam_hours === null ? null : Number(i.beam_hours), days: i.days, custom: true } : { ...defaults[k], custom: false };
-  }
+  const intervals = withDefaults(r.intervals ?? [], r.tube_type, r.coolant_type);
   const last = (r.last ?? []).map((l) => ({ ...l, performed_at: new Date(l.performed_at) }));
   const recent = Number(r.recent_minutes);
   const tube = last.find((l) => l.kind === 'tube_replacement');
   const tubeMinutes = Number(r.tube_minutes);
-  const rated = tube?.tube_rated_hours ?? intervals.tube_replacement.beamHours ?? defaults.tube_replacement.beamHours!;
+  const rated = tube?.tube_rated_hours ?? intervals.tube_replacement.beamHours ?? defaultIntervals(r.tube_type, r.coolant_type).tube_replacement.beamHours!;
   const due: DueItem[] = [];
   for (const kind of UPKEEP_KINDS) {
     const done = last.find((l) => l.kind === kind);
