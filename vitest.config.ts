@@ -83,10 +83,13 @@ export default defineConfig({
     // TEST_PARALLEL_FILES=1 runs that pass one at a time too (to compare), 3 or more on a bigger machine
     fileParallelism: fileSet === 'parallel',
     ...(fileSet === 'parallel' ? { maxWorkers: Math.max(1, Number(process.env.TEST_PARALLEL_FILES ?? 2) || 2), minWorkers: 1 } : {}),
+    poolOptions: { threads: { isolate: false } },
     projects: [
       {
         resolve,
-        test: { name: 'unit', ...inSet(['tests/unit/**/*.test.ts'], 'all'), environment: 'node' },
+        // pure modules, no mocks: the unit files share worker threads and their module graph (no process and no
+        // new import of vitest per file) — the threads pool is the unit project's alone (root poolOptions below)
+        test: { name: 'unit', ...inSet(['tests/unit/**/*.test.ts'], 'all'), environment: 'node', pool: 'threads' },
       },
       {
         resolve,
@@ -110,6 +113,8 @@ export default defineConfig({
           environment: 'node',
           // one Chromium for the whole run; each file connects to it and closes its own contexts
           globalSetup: ['tests/support/browser-server.ts'],
+          // the serial pass runs its browser files in one process too, as the integration files (decision record 0430)
+          ...(fileSet === 'serial' && process.env.TEST_ISOLATE !== '1' ? { isolate: false, poolOptions: { forks: { isolate: false, singleFork: true } } } : {}),
           // a screen's answer can take a few seconds on a busy machine: poll for it longer than vitest's 1 s default
           expect: { poll: { timeout: 15_000 } },
           testTimeout: 90_000,

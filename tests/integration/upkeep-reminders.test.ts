@@ -81,4 +81,24 @@ describe('upkeep reminders', () => {
     expect((await after(24)).reminders.map((r) => r.state)).toEqual(['due soon']);
     expect((await after(24.5)).reminders).toEqual([]);
   });
+
+  it('the Upkeep screen shows the admin each machine\'s own intervals and marks the rest as defaults; the steward sees no interval forms', async () => {
+    const page = await (await admin.get('/upkeep')).text();
+    const start = page.indexOf(`Intervals on ${machine.name}`);
+    expect(start, 'the admin sees the interval forms of the test machine').toBeGreaterThan(-1);
+    const block = page.slice(start, page.indexOf('</details>', start));
+    // one form per upkeep kind, each this machine's own setting (none reads "(default)"): the lens every 30 days,
+    // the others switched off (both fields empty)
+    const forms = block.split('<form').slice(1);
+    expect(forms).toHaveLength(6);
+    expect(block).not.toContain('(default)');
+    const lens = forms.find((f) => f.includes('value="lens_clean"'))!;
+    expect(lens).toMatch(/name="days"[^>]*value="30"/);
+    const mirror = forms.find((f) => f.includes('value="mirror_clean"'))!;
+    expect(mirror).toContain('name="days"');
+    expect(mirror).not.toMatch(/name="(days|beamHours)"[^>]*value="\d/);
+    // a demo machine has no intervals of its own: its forms say "(default)"
+    expect(page.match(/\(default\)/g)?.length ?? 0).toBeGreaterThan(0);
+    expect(await (await steward.get('/upkeep')).text()).not.toContain('Intervals on ');
+  });
 });

@@ -121,6 +121,18 @@ export async function intervalsFor(machineId: string, trx: Conn = db()): Promise
 
 type IntervalRow = { kind: UpkeepKind; beam_hours: number | string | null; days: number | null };
 
+/** The intervals of several machines (the Upkeep screen's admin forms): two statements whatever their number. */
+export async function intervalsForMachines(machineIds: readonly string[], trx: Conn = db()): Promise<Map<string, Record<UpkeepKind, UpkeepInterval & { custom: boolean }>>> {
+  const out = new Map<string, Record<UpkeepKind, UpkeepInterval & { custom: boolean }>>();
+  if (!machineIds.length) return out;
+  const [machines, rows] = await Promise.all([
+    trx('machines').whereIn('id', machineIds).select('id', 'tube_type', 'coolant_type') as Promise<Pick<MachineRow, 'id' | 'tube_type' | 'coolant_type'>[]>,
+    trx('upkeep_intervals').whereIn('machine_id', machineIds).select('machine_id', 'kind', 'beam_hours', 'days') as Promise<(IntervalRow & { machine_id: string })[]>,
+  ]);
+  for (const m of machines) out.set(m.id, withDefaults(rows.filter((r) => r.machine_id === m.id), m.tube_type, m.coolant_type));
+  return out;
+}
+
 /** A machine's intervals: its own rows where it has them (custom), else the defaults for its tube and coolant. */
 function withDefaults(rows: readonly IntervalRow[], tubeType: MachineRow['tube_type'], coolantType: MachineRow['coolant_type']): Record<UpkeepKind, UpkeepInterval & { custom: boolean }> {
   const defaults = defaultIntervals(tubeType, coolantType);
