@@ -10,6 +10,7 @@
  */
 import path from 'node:path';
 import { configDefaults, defineConfig } from 'vitest/config';
+import LongestFirst from './tests/support/sequencer';
 
 /**
  * Integration files that may run beside each other: each makes its own people, machines, groups and bookings (or only
@@ -77,13 +78,17 @@ const inSet = (include: string[], parallel: string[] | 'all'): { include: string
 /** The `@lib/…` alias of tsconfig.json (Astro and esbuild read tsconfig paths themselves; vite's test runner does not). */
 const resolve = { alias: { '@lib': path.resolve(import.meta.dirname, 'src/lib') } };
 
+/** `--sequence.shuffle…` on the command line: vitest's random order; otherwise longest first (support/sequencer.ts). */
+const shuffled = process.argv.some((a) => a.startsWith('--sequence.shuffle'));
+
 export default defineConfig({
   test: {
+    ...(shuffled ? {} : { sequence: { sequencer: LongestFirst } }),
     // two files at a time in the parallel pass (a 2-core machine also runs the app, the worker and PostgreSQL);
     // TEST_PARALLEL_FILES=1 runs that pass one at a time too (to compare), 3 or more on a bigger machine
     fileParallelism: fileSet === 'parallel',
     ...(fileSet === 'parallel' ? { maxWorkers: Math.max(1, Number(process.env.TEST_PARALLEL_FILES ?? 2) || 2), minWorkers: 1 } : {}),
-    poolOptions: { threads: { isolate: false } },
+    poolOptions: { threads: { isolate: false }, ...(fileSet === 'parallel' && process.env.TEST_ISOLATE !== '1' ? { forks: { isolate: false } } : {}) },
     projects: [
       {
         resolve,

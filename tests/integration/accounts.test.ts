@@ -315,7 +315,7 @@ describe('sending a new invitation', () => {
     const limited = await admin.send('POST', `/api/people/${made.id}/invitation`);
     expect(limited.status).toBe(429);
     expect(Number(limited.headers.get('retry-after'))).toBeGreaterThan(0);
-    expect(await testDb()('audit_log').where({ kind: 'person.invitation_resent', subject_id: made.id }).count({ n: '*' }).first()).toEqual({ n: '3' });
+    expect(await testDb()('audit_log').where({ kind: 'person.invitation_resent', subject_id: made.id }).count({ n: '*' }).first()).toEqual({ n: 3 });
     await clearSignInLimits();
 
     // the newest link sets the password; from then on there is nothing to resend

@@ -74,7 +74,7 @@ describe('adding a machine', () => {
     await expectError(await admin.send('POST', '/api/machines', machineBody('Not A Code')), 422, 'invalid');
     await expectError(await admin.send('POST', '/api/machines', machineBody(`t-grp-${stamp}`, { groupId: '00000000-0000-4000-8000-00000000beef' })), 422, 'group_not_found');
     await expectError(await admin.send('POST', '/api/machines', machineBody(`t-cool-${stamp}`, { coolantMinC: 25, coolantMaxC: 15 })), 422, 'invalid');
-    expect(await testDb()('machines').where('code', 'like', `t-%-${stamp}`).whereNot('code', `t-add-${stamp}`).count('* as n').first()).toMatchObject({ n: '0' });
+    expect(await testDb()('machines').where('code', 'like', `t-%-${stamp}`).whereNot('code', `t-add-${stamp}`).count('* as n').first()).toMatchObject({ n: 0 });
   });
 
   it('only an admin may add, edit or retire (403 for a member and a steward)', async () => {

@@ -5,6 +5,8 @@
  */
 import knexFactory, { type Knex } from 'knex';
 import { DATABASE_URL } from './env';
+// counts and numerics come back as numbers here too, as in the app (one set of parsers per process)
+import '../../src/lib/server/pg-types';
 
 let k: Knex | undefined;
 export function testDb(): Knex {

@@ -18,7 +18,7 @@ const SRC = path.join(ROOT, 'src');
 
 // Order matters: each layer may import itself and those before it.
 const LAYERS: Array<[string, string[]]> = [
-  ['infrastructure', ['db', 'env', 'errors', 'log', 'audit', 'jobs', 'mail', 'storage', 'passwords', 'file-types', 'images', 'client-address', 'security-headers', 'request-limits', 'payment-intents']],
+  ['infrastructure', ['db', 'pg-types', 'env', 'errors', 'log', 'audit', 'jobs', 'mail', 'storage', 'passwords', 'file-types', 'images', 'client-address', 'security-headers', 'request-limits', 'payment-intents']],
   ['entities', ['settings', 'people', 'machines', 'prices', 'materials', 'clearances/*', 'booking-rules', 'quizzes', 'hazard', 'labels', 'institution', 'badges']],
   ['workflows', ['bookings/*', 'payments/*', 'machine-sessions', 'faults/*', 'material-requests', 'upkeep', 'reports', 'utilisation-report', 'induction-sessions/*', 'controllers/*', 'reconciliation', 'sign-in', 'account-export']],
   ['cascades', ['cascades/*', 'accounts', 'sign-up']],

@@ -4,16 +4,9 @@
  */
 import knexFactory, { type Knex } from 'knex';
 import pg from 'pg';
+import './pg-types';
 import { env } from './env';
 import { currentRequest, onShutdown } from './log';
-
-// timestamptz → JS Date (the default); bigint counts (COUNT(*)) → number when they fit.
-pg.types.setTypeParser(pg.types.builtins.INT8, (v: string) => {
-  const n = Number(v);
-  return Number.isSafeInteger(n) ? n : v;
-});
-// numeric → number (rates and measurements here stay well inside double precision; money is integer minor units)
-pg.types.setTypeParser(pg.types.builtins.NUMERIC, (v: string) => Number(v));
 
 /** A connection or a transaction: every query helper that may run inside the caller's transaction takes one. */
 export type Conn = Knex | Knex.Transaction;
