@@ -132,7 +132,7 @@ export const ENV_DOCS: readonly EnvDoc[] = [
   ]),
   ...envGroup('Accounts', 'app', [
     ['RESET_LINK_MINUTES', '30', 'How long a password-reset link stays valid, in minutes.'],
-    ['SIGN_IN_PAIR_LIMIT', '5', 'Failed sign-ins for one e-mail address from one client address in 15 minutes, after which that pair is refused for 15 minutes (the person elsewhere is not).'],
+    ['SIGN_IN_PAIR_LIMIT', '5', 'Failed sign-ins for one e-mail address from one client address in 15 minutes, after which that pair is refused for 15 minutes (the person elsewhere is not). Keep it below SIGN_IN_FREE_FAILURES.'],
     ['SIGN_IN_FREE_FAILURES', '10', 'Failed sign-ins for one e-mail address (from anywhere) in an hour before each further try must wait: 2 s, doubling, at most 5 minutes.'],
     ['SIGN_UP_LIMIT_PER_ADDRESS', '20', 'Sign-ups from one client address in an hour.'],
     ['OIDC_ISSUER', 'https://login.example.edu', "Institution sign-in (OpenID Connect): the provider's issuer URL; unset = off (npm start then runs a local provider)."],
