@@ -61,11 +61,20 @@ const env = appEnv(cfg, secrets, {
   // instead of 10 s / 3 s, so the tests of a silent provider wait less; every other call is answered long before
   PAYMENTS_WORKER_TIMEOUT_MS: process.env.PAYMENTS_WORKER_TIMEOUT_MS ?? '3000',
   PAYMENTS_REQUEST_TIMEOUT_MS: process.env.PAYMENTS_REQUEST_TIMEOUT_MS ?? '2000',
+  // the tests of these limits count up to them through real sign-ins and sign-ups (argon2 each) and read the value
+  // they run under. The pair's limit stays below the e-mail's free failures, as by default (5 < 10): a person whose
+  // address is throttled from one place still signs in from another. 8 sign-ups per address leave room for the few
+  // made from 127.0.0.1 in a run (browser journeys, web-security)
+  SIGN_IN_PAIR_LIMIT: process.env.SIGN_IN_PAIR_LIMIT ?? '3',
+  SIGN_IN_FREE_FAILURES: process.env.SIGN_IN_FREE_FAILURES ?? '4',
+  SIGN_UP_LIMIT_PER_ADDRESS: process.env.SIGN_UP_LIMIT_PER_ADDRESS ?? '8',
 });
 
 runNode(['--import', 'tsx', 'scripts/migrate.ts', '--seed-if-empty'], env, 'Migrating and seeding the test database');
-// a new test database: the payment fake starts empty too (it keeps its state across restarts within the run)
+// a new test database: the payment fake starts empty too (it keeps its state across restarts within the run), and so
+// does the mail fake's inbox (a test process's first look at it read every earlier run's mail: thousands of messages)
 fs.rmSync(paymentsStateFile(cfg), { force: true });
+fs.rmSync(path.join(cfg.dataDir, 'mail'), { recursive: true, force: true });
 await startFakes(cfg);
 Object.assign(env, await startIdentityProviderFake(cfg, 'TEST_OIDC_PORT', 9410));
 buildApp(path.join(ROOT, 'dist-test'), env);

@@ -1,7 +1,9 @@
 /**
  * npm run backup and npm run restore, round trip: the test database is dumped, restored into a new
  * database, and every table has the same number of rows in both. Runs the real scripts against the
- * test cluster (DATA_DIR, PG_PORT and PG_DATABASE pointed at what npm test started).
+ * test cluster (DATA_DIR, PG_PORT and PG_DATABASE pointed at what npm test started): the round trip as
+ * `npm run backup` / `npm run restore` run them (tsx), the other cases as a production install does (the bundles
+ * in dist-test/scripts that npm test built, under plain node: the same code without compiling it again per run).
  */
 import { spawnSync } from 'node:child_process';
 import fs from 'node:fs';
@@ -17,8 +19,9 @@ const source = new URL(process.env.DATABASE_URL!);
 const sourceDb = source.pathname.slice(1);
 const restoredDb = `${sourceDb}_restored`;
 
-function run(script: 'backup' | 'restore', args: string[] = [], extra: Record<string, string> = {}): { status: number | null; out: string } {
-  const r = spawnSync(process.execPath, ['--import', 'tsx', `scripts/${script}.ts`, ...args], {
+function run(script: 'backup' | 'restore', args: string[] = [], extra: Record<string, string> = {}, how: 'npm run' | 'bundle' = 'bundle'): { status: number | null; out: string } {
+  const command = how === 'npm run' ? ['--import', 'tsx', `scripts/${script}.ts`] : [`dist-test/scripts/${script}.mjs`];
+  const r = spawnSync(process.execPath, [...command, ...args], {
     env: {
       ...process.env,
       DATA_DIR: process.env.TEST_DATA_DIR!,
@@ -51,9 +54,10 @@ async function rowCounts(db: string): Promise<Record<string, number>> {
     const tables = await c.query<{ name: string }>(`
       SELECT format('%I.%I', n.nspname, c.relname) AS name FROM pg_class c JOIN pg_namespace n ON n.oid = c.relnamespace
        WHERE c.relkind IN ('r', 'p') AND n.nspname NOT IN ('pg_catalog', 'information_schema') AND n.nspname NOT LIKE 'pg\\_toast%' ORDER BY 1`);
-    const counts: Record<string, number> = {};
-    for (const { name } of tables.rows) counts[name] = Number((await c.query(`SELECT count(*) AS n FROM ${name}`)).rows[0].n);
-    return counts;
+    if (tables.rows.length === 0) return {};
+    // one statement for every table (one round trip, one snapshot)
+    const counts = await c.query(`SELECT ${tables.rows.map(({ name }, i) => `(SELECT count(*) FROM ${name}) AS c${i}`).join(', ')}`);
+    return Object.fromEntries(tables.rows.map(({ name }, i) => [name, Number(counts.rows[0][`c${i}`])]));
   });
 }
 
@@ -75,7 +79,7 @@ afterAll(async () => {
 describe('backup and restore', () => {
   it('round trip: every table has the same row count after restoring into a new database', async () => {
     const before = await rowCounts(sourceDb);
-    const backup = run('backup');
+    const backup = run('backup', [], {}, 'npm run');
     expect(backup.status, backup.out).toBe(0);
     const after = await rowCounts(sourceDb);
     const m = /Wrote (\S+beamwarden-\d{8}T\d{6}Z\.dump)/.exec(backup.out);
@@ -85,7 +89,7 @@ describe('backup and restore', () => {
     expect(fs.statSync(dumpFile).mode & 0o077).toBe(0); // readable by its owner only: it holds password hashes
     expect(fs.readFileSync(dumpFile).subarray(0, 5).toString()).toBe('PGDMP'); // pg_dump's custom format
 
-    const restore = run('restore', [dumpFile, '--database', restoredDb]);
+    const restore = run('restore', [dumpFile, '--database', restoredDb], {}, 'npm run');
     expect(restore.status, restore.out).toBe(0);
     expect(restore.out).toContain(`Created the empty database ${restoredDb}`);
 

@@ -36,25 +36,43 @@ async function getJson<T>(pathAndQuery: string): Promise<T> {
 }
 
 /**
- * The messages read so far, in maildev's arrival order. maildev keeps its inbox in arrival order and appends new
- * mail, so only the messages from the last one read on are fetched (`?skip=`); when that one is not where it was (a
- * restarted maildev reloads its folder in another order), the whole inbox is read again.
+ * The messages read so far, in maildev's arrival order, from position `base` of the inbox on. maildev keeps its inbox
+ * in arrival order and appends new mail, so only the messages from the last one read on are fetched (`?skip=`); when
+ * that one is not where it was (a restarted maildev reloads its folder in another order), the whole inbox is read
+ * again. The first look of a process starts at the mail that arrived since the process started: every message a test
+ * waits for is one its own process caused (the inbox holds the mail of every file of the run before it).
  */
 let seen: Mail[] = [];
+let base = 0;
+/** when this process started, less a margin: older mail is never what one of its tests waits for */
+const STARTED_MS = performance.timeOrigin - 5_000;
 
 async function readInbox(): Promise<Mail[]> {
   if (seen.length) {
-    const tail = await getJson<Mail[]>(`/api/email?skip=${seen.length - 1}`);
+    const tail = await getJson<Mail[]>(`/api/email?skip=${base + seen.length - 1}`);
     if (tail[0]?.id === seen[seen.length - 1]!.id) {
       seen = [...seen, ...tail.slice(1)];
       return seen;
     }
+    base = 0;
+    seen = await getJson<Mail[]>('/api/email');
+    return seen;
   }
-  seen = await getJson<Mail[]>('/api/email');
-  return seen;
+  // the first look: back from the newest, a page at a time, until a message from before this process started
+  const { total } = await getJson<{ total: number }>('/api/email/summary?limit=1');
+  let from = Math.max(0, total - 50);
+  for (;;) {
+    const page = await getJson<Mail[]>(`/api/email?skip=${from}`);
+    if (from === 0 || (page[0] && new Date(page[0].time).getTime() < STARTED_MS)) {
+      base = from;
+      seen = page;
+      return seen;
+    }
+    from = Math.max(0, from - 200);
+  }
 }
 
-/** Every message in the inbox (the fake keeps earlier runs' and files' mail: match on something of your own). */
+/** The messages in the inbox since this process started (the run's other files' mail too: match on something of your own). */
 export async function inbox(): Promise<Mail[]> {
   return [...(await readInbox())];
 }

@@ -44,6 +44,10 @@ const schema = z.object({
   S3_SECRET_ACCESS_KEY: z.string().default('S3RVER'),
   /** minutes a password-reset link stays valid */
   RESET_LINK_MINUTES: z.coerce.number().int().min(5).max(24 * 60).default(30),
+  /** the sign-in throttle (sign-in.ts) and the sign-up limit per client address (request-limits.ts) */
+  SIGN_IN_PAIR_LIMIT: z.coerce.number().int().min(2).max(100).default(5),
+  SIGN_IN_FREE_FAILURES: z.coerce.number().int().min(2).max(1000).default(10),
+  SIGN_UP_LIMIT_PER_ADDRESS: z.coerce.number().int().min(2).max(10_000).default(20),
   /** institution sign-in (OpenID Connect); unset issuer = off */
   OIDC_ISSUER: z.url().optional(),
   OIDC_CLIENT_ID: z.string().min(1).optional(),
@@ -128,6 +132,9 @@ export const ENV_DOCS: readonly EnvDoc[] = [
   ]),
   ...envGroup('Accounts', 'app', [
     ['RESET_LINK_MINUTES', '30', 'How long a password-reset link stays valid, in minutes.'],
+    ['SIGN_IN_PAIR_LIMIT', '5', 'Failed sign-ins for one e-mail address from one client address in 15 minutes, after which that pair is refused for 15 minutes (the person elsewhere is not). Keep it below SIGN_IN_FREE_FAILURES.'],
+    ['SIGN_IN_FREE_FAILURES', '10', 'Failed sign-ins for one e-mail address (from anywhere) in an hour before each further try must wait: 2 s, doubling, at most 5 minutes.'],
+    ['SIGN_UP_LIMIT_PER_ADDRESS', '20', 'Sign-ups from one client address in an hour.'],
     ['OIDC_ISSUER', 'https://login.example.edu', "Institution sign-in (OpenID Connect): the provider's issuer URL; unset = off (npm start then runs a local provider)."],
     ['OIDC_CLIENT_ID', 'beamwarden', 'The client id the identity provider gave this site.'],
     ['OIDC_CLIENT_SECRET', 'change-me', 'The client secret the identity provider gave this site.', SECRET],

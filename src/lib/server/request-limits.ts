@@ -5,17 +5,21 @@
  */
 import { RateLimiterPostgres, RateLimiterRes } from 'rate-limiter-flexible';
 import { db } from './db';
+import { env } from './env';
 import { DomainError } from './errors';
 
 export type LimitedAction = 'signup' | 'reset' | 'resend' | 'invite';
 
-export const REQUEST_LIMITS: Record<LimitedAction, { perEmail: number; perAddress: number; durationS: number }> = {
-  signup: { perEmail: 3, perAddress: 20, durationS: 60 * 60 },
-  reset: { perEmail: 5, perAddress: 20, durationS: 60 * 60 },
-  resend: { perEmail: 5, perAddress: 20, durationS: 60 * 60 },
-  // an admin sending someone a new invitation: 3 an hour to one address, 30 an hour from one admin
-  invite: { perEmail: 3, perAddress: 30, durationS: 60 * 60 },
-};
+/** The limits; sign-ups per client address are a setting (SIGN_UP_LIMIT_PER_ADDRESS, 20 by default). */
+export function requestLimits(): Record<LimitedAction, { perEmail: number; perAddress: number; durationS: number }> {
+  return {
+    signup: { perEmail: 3, perAddress: env().SIGN_UP_LIMIT_PER_ADDRESS, durationS: 60 * 60 },
+    reset: { perEmail: 5, perAddress: 20, durationS: 60 * 60 },
+    resend: { perEmail: 5, perAddress: 20, durationS: 60 * 60 },
+    // an admin sending someone a new invitation: 3 an hour to one address, 30 an hour from one admin
+    invite: { perEmail: 3, perAddress: 30, durationS: 60 * 60 },
+  };
+}
 
 const cache = new Map<string, RateLimiterPostgres>();
 
@@ -23,7 +27,7 @@ function limiter(action: LimitedAction, by: 'email' | 'addr'): RateLimiterPostgr
   const key = `${action}-${by}`;
   let l = cache.get(key);
   if (!l) {
-    const c = REQUEST_LIMITS[action];
+    const c = requestLimits()[action];
     l = new RateLimiterPostgres({
       storeClient: db(), storeType: 'knex', tableName: 'sign_in_limits', tableCreated: true,
       keyPrefix: key, points: by === 'email' ? c.perEmail : c.perAddress, duration: c.durationS,

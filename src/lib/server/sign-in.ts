@@ -1,28 +1,33 @@
 /**
  * Checking a password at sign-in, with throttling that slows guessing without letting a stranger lock a
  * person out. Counters live in PostgreSQL (rate-limiter-flexible), so every app process shares them:
- * - the strict limit is on the pair (e-mail, client address): 5 failures in 15 minutes close that pair for
- *   15 minutes — the person signing in from anywhere else is not affected;
- * - a looser per-e-mail count (from any address) adds a growing wait after 10 failures in an hour
- *   (2 s, 4 s, 8 s … at most 5 minutes between tries), never a hard block;
+ * - the strict limit is on the pair (e-mail, client address): 5 failures (SIGN_IN_PAIR_LIMIT) in 15 minutes close
+ *   that pair for 15 minutes — the person signing in from anywhere else is not affected;
+ * - a looser per-e-mail count (from any address) adds a growing wait after 10 failures (SIGN_IN_FREE_FAILURES) in
+ *   an hour (2 s, 4 s, 8 s … at most 5 minutes between tries), never a hard block;
  * - a client address with 30 failures in 15 minutes (any e-mails) is refused for 15 minutes;
  * - a successful sign-in or a password reset (which proves control of the address) clears the e-mail's counters.
  */
 import { RateLimiterPostgres, type RateLimiterRes } from 'rate-limiter-flexible';
 import { db } from './db';
+import { env } from './env';
 import { findForSignIn } from './people';
 import { decoyHash, verifyPassword } from './passwords';
 import { passwordSignInRefusedFor } from './institution';
 
-export const SIGN_IN_LIMITS = {
-  perPair: { points: 5, durationS: 15 * 60, blockS: 15 * 60 },
-  perAddress: { points: 30, durationS: 15 * 60, blockS: 15 * 60 },
-  perEmail: { freeFailures: 10, durationS: 60 * 60, firstWaitS: 2, maxWaitS: 5 * 60 },
-};
+/** The limits; the pair's count and the e-mail's free failures are settings (env.ts), the rest fixed. */
+export function signInLimits() {
+  const e = env();
+  return {
+    perPair: { points: e.SIGN_IN_PAIR_LIMIT, durationS: 15 * 60, blockS: 15 * 60 },
+    perAddress: { points: 30, durationS: 15 * 60, blockS: 15 * 60 },
+    perEmail: { freeFailures: e.SIGN_IN_FREE_FAILURES, durationS: 60 * 60, firstWaitS: 2, maxWaitS: 5 * 60 },
+  };
+}
 
 /** The wait before the next try after `failures` failures for one e-mail (0 while under the free count). */
 export function emailWaitS(failures: number): number {
-  const { freeFailures, firstWaitS, maxWaitS } = SIGN_IN_LIMITS.perEmail;
+  const { freeFailures, firstWaitS, maxWaitS } = signInLimits().perEmail;
   if (failures < freeFailures) return 0;
   return Math.min(maxWaitS, firstWaitS * 2 ** Math.min(20, failures - freeFailures));
 }
@@ -34,7 +39,7 @@ function limiter(keyPrefix: string, points: number, duration: number, blockDurat
 let limiters: { pair: RateLimiterPostgres; address: RateLimiterPostgres; email: RateLimiterPostgres; emailWait: RateLimiterPostgres } | undefined;
 
 function limit() {
-  const l = SIGN_IN_LIMITS;
+  const l = signInLimits();
   limiters ??= {
     pair: limiter('pair', l.perPair.points, l.perPair.durationS, l.perPair.blockS),
     address: limiter('addr', l.perAddress.points, l.perAddress.durationS, l.perAddress.blockS),
@@ -71,7 +76,8 @@ export async function checkSignIn(emailRaw: string, password: string, address: s
   const email = emailRaw.trim().toLowerCase().slice(0, 254);
   const l = limit();
   const [p, a, w] = await Promise.all([l.pair.get(pairKey(email, address)), l.address.get(address), l.emailWait.get(email)]);
-  const wait = Math.max(blockedFor(p, SIGN_IN_LIMITS.perPair.points), blockedFor(a, SIGN_IN_LIMITS.perAddress.points), blockedFor(w, 1));
+  const { perPair, perAddress } = signInLimits();
+  const wait = Math.max(blockedFor(p, perPair.points), blockedFor(a, perAddress.points), blockedFor(w, 1));
   if (wait > 0) return { ok: false, reason: 'throttled', retryAfterS: wait };
   // people of an institution that signs in through its own identity provider: no password sign-in (a domain rule, not a secret)
   if (email && (await passwordSignInRefusedFor(email))) return { ok: false, reason: 'institution' };
