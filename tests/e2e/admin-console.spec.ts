@@ -5,7 +5,7 @@
 import Papa from 'papaparse';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, launch, newContext, shot, signIn, signInThroughForm, watchErrors, hydrated, downloadedText } from '../support/browser';
+import { DESK, PHONE, launch, newContext, shot, signIn, signInThroughForm, watchErrors, hydrated, downloadedText, signInContext } from '../support/browser';
 import { Client, body, freshLoopbackAddress } from '../support/client';
 import { confirmByDatabase } from '../support/people';
 import { clearSignInLimits, closeTestDb } from '../support/db';
@@ -59,7 +59,7 @@ describe('the admin console', () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    await signInContext(ctx, 'admin');
 
     // the dashboard leads to every admin screen
     await page.goto('/admin');
@@ -115,7 +115,7 @@ describe('the admin console', () => {
 
     const phone = await newContext(browser, PHONE);
     const p2 = await phone.newPage();
-    await signIn(p2, 'admin');
+    await signInContext(p2.context(), 'admin');
     await p2.goto('/admin/audit');
     await p2.getByRole('row').nth(1).waitFor();
     await shot(p2, 'audit-phone');
@@ -154,7 +154,7 @@ describe('the admin console', () => {
 
     const phone = await newContext(browser, PHONE);
     const p2 = await phone.newPage();
-    await signIn(p2, 'admin');
+    await signInContext(p2.context(), 'admin');
     await p2.goto('/admin/site');
     await p2.getByLabel('Site name').waitFor();
     await shot(p2, 'site-phone');
@@ -168,7 +168,7 @@ describe('the admin console', () => {
     const ctx = await newContext(browser, DESK);
     const page = await ctx.newPage();
     const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    await signInContext(ctx, 'admin');
     const row = await findPerson(page, name);
     page.once('dialog', (d) => void d.accept());
     await row.getByRole('button', { name: `Deactivate ${name}` }).click();
