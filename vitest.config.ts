@@ -49,16 +49,29 @@ export const PARALLEL_INTEGRATION = [
  * quizzes, the site, a demo laser, or book the demo people stay serial; account-journey charges a member of its own
  * (scheduling a price version is the serial pricing-journey); booking-materials blocks plywood on a test machine of its
  * own (an override of that machine only); materials-screens only reads the rules (changing one is materials-journey).
+ * clearance-journey and induction-journey work on a machine group of their own (support/group.ts: a copy of a demo
+ * group with its quiz and a test laser, removed in afterAll, as the clearance tests read the seeded groups only);
+ * machines-screen adds, edits and retires a laser of its own; admin-people grants a role to and deactivates people
+ * of its own (signed up from addresses of their own), reads the audit filtered to its own change and forgets only
+ * its own person's sign-in counters. Serial, and why: admin-console (renames the site) and site-locale change
+ * the site settings; admin-accounts the institution sign-in settings; institution-sign-in presses the sign-in page's
+ * "Sign in with <site name>" button, which accounts.test.ts and admin-accounts rename for a moment;
+ * pricing-journey schedules a price version; materials-journey changes a material rule of the whole site;
+ * machines-admin counts the machines in service (calendars, labels).
  */
 export const PARALLEL_E2E = [
   'accessibility',
   'account-journey',
+  'admin-people',
   'book-feedback',
   'booking-journey',
   'booking-materials',
+  'clearance-journey',
   'fault-journey',
+  'induction-journey',
   'machine-journey',
   'machine-page',
+  'machines-screen',
   'materials-screens',
   'phone-width',
   'qr-offline',

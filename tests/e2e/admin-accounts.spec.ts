@@ -5,7 +5,7 @@
  */
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors } from '../support/browser';
+import { DESK, PHONE, hydrated, launch, newContext, shot, watchErrors, signInContext } from '../support/browser';
 import { checkBothWidths } from '../support/axe';
 import { Client, body } from '../support/client';
 import { clearSignInLimits, closeTestDb } from '../support/db';
@@ -42,7 +42,7 @@ describe('admin: accounts', () => {
     const page = await ctx.newPage();
     page.setDefaultTimeout(20_000);
     const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    await signInContext(page.context(), 'admin');
     await page.goto('/admin/people');
     await hydrated(page);
     await page.locator('table').waitFor();
@@ -116,7 +116,7 @@ describe('admin: accounts', () => {
     const page = await ctx.newPage();
     page.setDefaultTimeout(20_000);
     const errors = watchErrors(page);
-    await signIn(page, 'admin');
+    await signInContext(page.context(), 'admin');
     await page.goto('/admin/site');
     await hydrated(page);
     const env = page.getByTestId('institution-environment');

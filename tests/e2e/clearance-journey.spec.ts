@@ -1,29 +1,45 @@
 /**
- * Journey: an instructor publishes a new version of the RF laser quiz → a new member fails once, then
+ * Journey: an instructor publishes a new version of a quiz → a new member fails once, then
  * passes → the instructor signs off the practical induction → the member's Clearances screen shows
  * `cleared` → the e-mails (quiz passed, cleared) arrive in maildev, read through its REST API.
+ * The quiz is that of a machine group of the file's own (a copy of the RF laser group and its quiz, with one test
+ * laser; removed afterwards: support/group.ts), so the demo quizzes other files read stay as seeded and the file runs
+ * beside others.
  */
 import type { Page } from 'playwright-core';
-import { describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, shot, signIn, watchErrors, withBrowser } from '../support/browser';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DESK, PHONE, hydrated, shot, signIn, watchErrors, withBrowser, signInContext } from '../support/browser';
+import { Client } from '../support/client';
 import { testDb } from '../support/db';
+import { createTestGroup, removeTestGroup, type TestGroup } from '../support/group';
+import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { confirmByDatabase } from '../support/people';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 import { to, waitForMail } from '../support/mail';
 import { signUpThroughForm } from '../support/signup';
 
 const web = withBrowser();
+let admin: Client;
+let group: TestGroup;
+let laser: TestMachine;
+
+beforeAll(async () => {
+  admin = await Client.as('admin');
+  group = await createTestGroup('clearance', 'rf-laser');
+  laser = await createTestMachine(admin, 'clearance', group.id);
+});
+
+afterAll(async () => {
+  await retireTestMachine(admin, laser);
+  await removeTestGroup(group);
+});
 
 const stamp = Date.now().toString(36);
 const member = { name: `Kiri Journey ${stamp}`, email: `journey-${stamp}@tidewater.example`, password: 'a long passphrase for the laser room' };
 const NEW_PROMPT = `Before you leave the laser room after a job (${stamp}), what do you check?`;
 
-async function publishedRfBank(): Promise<QuizQuestion[]> {
-  const row = await testDb()('quiz_versions as v')
-    .join('quizzes as z', 'z.id', 'v.quiz_id')
-    .join('machine_groups as g', 'g.id', 'z.group_id')
-    .where({ 'g.code': 'rf-laser', 'v.status': 'published' })
-    .first('v.questions', 'v.version');
+async function publishedBank(): Promise<QuizQuestion[]> {
+  const row = await testDb()('quiz_versions').where({ quiz_id: group.quizId, status: 'published' }).first('questions');
   return row.questions;
 }
 
@@ -43,16 +59,16 @@ async function answerAll(page: Page, bank: QuizQuestion[], right: boolean): Prom
 
 describe('clearance journey', () => {
   it('instructor publishes, member fails then passes, instructor signs off, member is cleared, mail arrives', { timeout: 150_000 }, async () => {
-    // 1. the instructor adds a question to the RF laser quiz, previews it and publishes version 2
+    // 1. the instructor adds a question to the group's quiz (a copy of the RF laser quiz), previews it and publishes version 2
     const { ctx: ictx, page: ipage } = await web.openAs(null);
     ipage.setDefaultTimeout(15_000);
     const ierrors = watchErrors(ipage);
     await signIn(ipage, 'instructor');
     await ipage.getByRole('navigation', { name: 'Main' }).getByRole('link', { name: 'Quizzes', exact: true }).click();
-    await ipage.getByRole('link', { name: 'Edit RF laser: safe operation' }).click();
+    await ipage.getByRole('link', { name: `Edit ${group.quizTitle}` }).click();
     await ipage.waitForURL(/\/quizzes\?quiz=/);
-    await expect.poll(() => ipage.getByLabel('Title', { exact: true }).inputValue()).toBe('RF laser: safe operation');
-    const before = (await publishedRfBank()).length;
+    await expect.poll(() => ipage.getByLabel('Title', { exact: true }).inputValue()).toBe(group.quizTitle);
+    const before = (await publishedBank()).length;
     await ipage.getByLabel('Wait after a missed attempt (minutes)').fill('0');
     await ipage.getByRole('button', { name: 'Add a question' }).click();
     const n = before + 1;
@@ -68,7 +84,7 @@ describe('clearance journey', () => {
     await ipage.getByRole('button', { name: 'Save and publish' }).click();
     await expect.poll(() => ipage.getByRole('status').first().innerText().catch(() => '')).toMatch(/Published version 2/);
     await shot(ipage, 'quizzes-list-desk');
-    const bank = await publishedRfBank();
+    const bank = await publishedBank();
     expect(bank).toHaveLength(n);
     expect(bank.some((q) => q.prompt === NEW_PROMPT)).toBe(true);
 
@@ -78,9 +94,9 @@ describe('clearance journey', () => {
     const merrors = watchErrors(mpage);
     await signUpThroughForm(mpage, member);
     await confirmByDatabase(member.email);
-    await signIn(mpage, member.email);
+    await signInContext(mpage.context(), member.email);
     await mpage.goto('/clearances');
-    const rfCard = mpage.locator('li[data-group="RF laser"]');
+    const rfCard = mpage.locator(`li[data-group="${group.name}"]`);
     await expect(rfCard.locator('[data-state]').getAttribute('data-state')).resolves.toBe('quiz due');
     await shot(mpage, 'clearances-quiz-due-phone');
     await Promise.all([mpage.waitForURL(/\/clearances\/quiz\//), rfCard.getByRole('link', { name: 'Take the quiz' }).click()]);
@@ -119,24 +135,24 @@ describe('clearance journey', () => {
     await entry.getByLabel('Notes').fill('Showed every step calmly; knew the fire routine.');
     await shot(ipage, 'signoff-form-desk');
     await entry.getByRole('button', { name: `Sign off ${member.name} as cleared` }).click();
-    await ipage.getByText(/is cleared \(basic\) on RF laser until the end of/).waitFor();
+    await ipage.getByText(new RegExp(`is cleared \\(basic\\) on ${group.name} until the end of`)).waitFor();
     expect(ierrors).toEqual([]);
 
     // 4. the member's Clearances screen shows cleared
     await mpage.goto('/clearances');
-    await expect(mpage.locator('li[data-group="RF laser"] [data-state]').getAttribute('data-state')).resolves.toBe('cleared');
-    await expect(mpage.locator('li[data-group="RF laser"]').innerText()).resolves.toMatch(/Cleared until/);
+    await expect(rfCard.locator('[data-state]').getAttribute('data-state')).resolves.toBe('cleared');
+    await expect(rfCard.innerText()).resolves.toMatch(/Cleared until/);
     await shot(mpage, 'clearances-cleared-phone');
     await mpage.setViewportSize(DESK);
     await shot(mpage, 'clearances-cleared-desk');
     expect(merrors).toEqual([]);
 
     // 5. the e-mails arrived, with HTML and plain-text parts
-    const passed = await waitForMail((m) => to(member.email)(m) && m.subject === 'Quiz passed — book your practical sign-off: RF laser');
+    const passed = await waitForMail((m) => to(member.email)(m) && m.subject === `Quiz passed — book your practical sign-off: ${group.name}`);
     expect(passed.text).toMatch(/practical sign-off/);
     expect(passed.html).toMatch(/<html/);
-    const cleared = await waitForMail((m) => to(member.email)(m) && m.subject === 'You are cleared: RF laser');
-    expect(cleared.text).toMatch(/cleared \(basic\) on RF laser until/);
+    const cleared = await waitForMail((m) => to(member.email)(m) && m.subject === `You are cleared: ${group.name}`);
+    expect(cleared.text).toMatch(new RegExp(`cleared \\(basic\\) on ${group.name} until`));
     await ictx.close();
     await mctx.close();
   });
@@ -154,7 +170,7 @@ describe('clearance journey', () => {
     await actx.close();
 
     const { ctx: mctx, page: mpage } = await web.openAs(null, PHONE);
-    await signIn(mpage, 'member');
+    await signInContext(mctx, 'member');
     for (const path of ['/quizzes', '/signoffs', '/admin/machine-groups']) expect((await mpage.goto(path))?.status()).toBe(403);
     await mctx.close();
   });

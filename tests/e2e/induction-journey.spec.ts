@@ -3,16 +3,19 @@
  * account, made through sign-up) takes the glass-tube quiz, reloads half-way and finds the same attempt with
  * the answers kept, passes → books a seat from the Clearances card; Floor and Book say why they cannot book yet
  * and link to the next step → the instructor opens the roster, marks them present, ticks the checklist and
- * signs them off → the member books Laser A on the calendar. Screenshots of each step, desk and phone.
- * Calendar days used: 32 days ahead on Laser A (no other file books then); the session is tomorrow evening in the
- * room (no machine time), so it is among the next three sessions listed.
+ * signs them off → the member books the group's laser on the calendar. Screenshots of each step, desk and phone.
+ * The machine group (a copy of the glass-tube group and its quiz: support/group.ts) and its one laser are the file's
+ * own, removed and retired afterwards: the session is among the group's next three sessions whatever other files
+ * publish for the demo groups, and the file runs beside others. The session is tomorrow evening in the room.
  */
 import type { Page } from 'playwright-core';
-import { beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, shot, signIn, watchErrors, SCREENSHOTS, withBrowser } from '../support/browser';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { DESK, PHONE, hydrated, shot, signIn, watchErrors, SCREENSHOTS, withBrowser, signInContext } from '../support/browser';
 import { Client } from '../support/client';
 import { testDb } from '../support/db';
-import { SITE_TZ, machines, setTestRules, siteTime, type MachineRef } from '../support/booking';
+import { SITE_TZ, setTestRules, siteTime } from '../support/booking';
+import { createTestGroup, removeTestGroup, type TestGroup } from '../support/group';
+import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
 import { zonedDate } from '../../src/lib/time';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 import { to, waitForMail } from '../support/mail';
@@ -21,22 +24,29 @@ import { signUpThroughForm } from '../support/signup';
 
 const DAY = 32;
 const web = withBrowser();
-let laserA: MachineRef;
+let admin: Client;
+let group: TestGroup;
+let laser: TestMachine;
 const stamp = Date.now().toString(36);
 const member = { name: `Aroha Induction ${stamp}`, email: `induction-${stamp}@tidewater.example`, password: 'a long passphrase for the laser room' };
 const PLACE = `Laser room bench ${stamp}`;
 
 beforeAll(async () => {
-  const admin = await Client.as('admin');
-  laserA = (await machines(admin))['laser-a'];
-  await setTestRules(admin, laserA.id);
+  admin = await Client.as('admin');
+  group = await createTestGroup('induction', 'glass-tube');
+  laser = await createTestMachine(admin, 'induction', group.id);
+  await setTestRules(admin, laser.id);
+});
+
+afterAll(async () => {
+  await retireTestMachine(admin, laser);
+  await removeTestGroup(group);
 });
 
 const dateOf = (d: Date) => zonedDate(d, SITE_TZ);
 
 async function glassBank(): Promise<QuizQuestion[]> {
-  const row = await testDb()('quiz_versions as v').join('quizzes as z', 'z.id', 'v.quiz_id').join('machine_groups as g', 'g.id', 'z.group_id')
-    .where({ 'g.code': 'glass-tube', 'v.status': 'published' }).first('v.questions');
+  const row = await testDb()('quiz_versions').where({ quiz_id: group.quizId, status: 'published' }).first('questions');
   return row.questions;
 }
 
@@ -63,7 +73,7 @@ async function both(page: Page, name: string, first: 'desk' | 'phone' = 'phone')
 }
 
 describe('from quiz to first cut', () => {
-  it('quiz (resumed after a reload) → seat → roster sign-off → Laser A booked', { timeout: 240_000 }, async () => {
+  it('quiz (resumed after a reload) → seat → roster sign-off → the group\'s laser booked', { timeout: 240_000 }, async () => {
     // 1. the instructor publishes a session in the laser room
     const { ctx: ictx, page: ipage } = await web.openAs(null);
     ipage.setDefaultTimeout(20_000);
@@ -73,7 +83,7 @@ describe('from quiz to first cut', () => {
     await hydrated(ipage);
     await ipage.getByRole('button', { name: 'Publish a session…' }).click();
     const form = ipage.getByRole('form', { name: 'Publish a session' });
-    await form.getByLabel('Machine group').selectOption({ label: 'Glass-tube lasers' });
+    await form.getByLabel('Machine group').selectOption({ label: group.name });
     // tomorrow evening, so it is among the next three sessions the member's card lists
     await form.getByLabel('Date').fill(dateOf(siteTime(1, 12)));
     await form.getByLabel('From').fill('19:00');
@@ -99,15 +109,15 @@ describe('from quiz to first cut', () => {
     await mpage.goto(link!);
     await Promise.all([mpage.waitForURL(/\/signin\?confirmed=1/), mpage.getByRole('button', { name: 'Confirm my address' }).click()]);
     expect(await testDb()('people').where({ email: member.email.toLowerCase() }).whereNotNull('email_confirmed_at').first('id')).toBeTruthy();
-    await signIn(mpage, member.email);
+    await signInContext(mpage.context(), member.email);
     await mpage.goto('/clearances');
-    const card = mpage.locator('li[data-group="Glass-tube lasers"]');
+    const card = mpage.locator(`li[data-group="${group.name}"]`);
     await expect(card.innerText()).resolves.toMatch(/3 of 3 attempts left today/);
     await both(mpage, 'clearances-quiz-due');
     await card.getByRole('link', { name: 'Take the quiz' }).click();
     await hydrated(mpage);
     const facts = mpage.getByRole('definition');
-    await expect(mpage.getByLabel('About this quiz').innerText()).resolves.toMatch(/Glass-tube lasers[\s\S]*10[\s\S]*80 %[\s\S]*30 minutes[\s\S]*3 of 3/);
+    await expect(mpage.getByLabel('About this quiz').innerText()).resolves.toMatch(new RegExp(`${group.name}[\\s\\S]*10[\\s\\S]*80 %[\\s\\S]*30 minutes[\\s\\S]*3 of 3`));
     expect(await facts.count()).toBeGreaterThan(4);
     await both(mpage, 'quiz-intro');
     await mpage.getByRole('button', { name: 'Start the quiz' }).click();
@@ -137,16 +147,16 @@ describe('from quiz to first cut', () => {
     await card.locator('[data-my-seat]').waitFor();
     await expect(card.locator('[data-next-step]').innerText()).resolves.toMatch(/Come to your induction session/);
     await both(mpage, 'clearances-seat-booked');
-    const mail = await waitForMail((m) => to(member.email)(m) && m.subject.startsWith('Seat booked: Glass-tube lasers'));
+    const mail = await waitForMail((m) => to(member.email)(m) && m.subject.startsWith(`Seat booked: ${group.name}`));
     expect((mail as unknown as { attachments?: { filename: string }[] }).attachments?.some((a) => a.filename === 'induction.ics')).toBe(true);
 
     // 4. Floor and Book say why the member cannot book yet, with the link to the next step
     await mpage.goto('/');
-    const floorA = mpage.locator('li[data-machine="laser-a"]');
+    const floorA = mpage.locator(`li[data-machine="${laser.code}"]`);
     await expect(floorA.locator('[data-not-cleared]').innerText()).resolves.toMatch(/Not cleared yet \(awaiting sign-off\)/);
-    expect(await floorA.getByRole('link', { name: /Book Laser A/ }).count()).toBe(0);
+    expect(await floorA.getByRole('link', { name: `Book ${laser.name}` }).count()).toBe(0);
     await both(mpage, 'floor-not-cleared');
-    await mpage.goto(`/book?machine=${laserA.id}`);
+    await mpage.goto(`/book?machine=${laser.id}`);
     await hydrated(mpage);
     await expect(mpage.locator('[data-not-cleared]').innerText()).resolves.toMatch(/not cleared on any laser yet/);
     expect(await mpage.getByRole('form', { name: 'Confirm your booking' }).count()).toBe(0);
@@ -174,34 +184,33 @@ describe('from quiz to first cut', () => {
     await person.getByText('Signed off (basic)').waitFor();
     await both(ipage, 'roster-signed-off', 'desk');
     const clearance = await testDb()('clearances as c').join('people as p', 'p.id', 'c.person_id').join('machine_groups as g', 'g.id', 'c.group_id')
-      .where({ 'p.email': member.email, 'g.code': 'glass-tube' }).first('c.state');
+      .where({ 'p.email': member.email, 'g.id': group.id }).first('c.state');
     expect(clearance.state).toBe('cleared');
 
-    // 6. the member books Laser A on the calendar
+    // 6. the member books the group's laser on the calendar
     await mpage.setViewportSize(DESK);
     const day = dateOf(siteTime(DAY, 12));
-    await mpage.goto(`/book?machine=${laserA.id}`);
+    await mpage.goto(`/book?machine=${laser.id}`);
     await hydrated(mpage);
-    // cleared on the glass-tube lasers now: only Laser B (the RF group) is still explained, and the form is there
+    // cleared on the group now: the demo lasers (other groups) are still explained, and the form is there
     await expect(mpage.locator('[data-not-cleared]').innerText()).resolves.toMatch(/You cannot book these machines yet/);
-    expect(await mpage.locator('[data-not-cleared] li[data-machine="laser-a"]').count()).toBe(0);
+    expect(await mpage.locator(`[data-not-cleared] li[data-machine="${laser.code}"]`).count()).toBe(0);
     expect(await mpage.locator('[data-not-cleared] li[data-machine="laser-b"]').count()).toBe(1);
     await goToDay(mpage, day);
     await dragSelect(mpage, day, '10:00:00', '10:45:00');
     const confirm = mpage.getByRole('form', { name: 'Confirm your booking' });
     await confirm.waitFor();
     await confirm.getByRole('button', { name: 'Book', exact: true }).click();
-    await mpage.getByText(/^Booked: Laser A/).waitFor();
+    await mpage.getByText(new RegExp(`^Booked: ${laser.name}`)).waitFor();
     await both(mpage, 'first-booking', 'desk');
     const booking = await testDb()('bookings as b').join('people as p', 'p.id', 'b.person_id')
-      .where({ 'p.email': member.email, 'b.machine_id': laserA.id, 'b.state': 'reserved' }).first('b.starts_at');
+      .where({ 'p.email': member.email, 'b.machine_id': laser.id, 'b.state': 'reserved' }).first('b.starts_at');
     expect(new Date(booking.starts_at).toISOString()).toBe(siteTime(DAY, 10).toISOString());
 
     // 7. the quiz editor has its own address and asks nothing back for a removed question: Undo puts it back
-    const quiz = await testDb()('quizzes as z').join('machine_groups as g', 'g.id', 'z.group_id').where('g.code', 'glass-tube').first('z.id');
-    await ipage.goto(`/quizzes?quiz=${quiz.id}`);
+    await ipage.goto(`/quizzes?quiz=${group.quizId}`);
     await hydrated(ipage);
-    await expect.poll(() => ipage.getByLabel('Title', { exact: true }).inputValue()).toMatch(/Glass-tube/);
+    await expect.poll(() => ipage.getByLabel('Title', { exact: true }).inputValue()).toBe(group.quizTitle);
     const legends = ipage.locator('fieldset legend').filter({ hasText: /^Question \d+$/ });
     const count = await legends.count();
     const first = await ipage.getByLabel('Question 1 text', { exact: true }).inputValue();

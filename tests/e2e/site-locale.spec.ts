@@ -9,7 +9,7 @@
  */
 import type { Browser, BrowserContext } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { DESK, PHONE, hydrated, launch, newContext, shot, signIn, watchErrors, settled } from '../support/browser';
+import { DESK, PHONE, hydrated, launch, newContext, shot, watchErrors, settled, signInContext } from '../support/browser';
 import { Client, body } from '../support/client';
 import { closeTestDb } from '../support/db';
 
@@ -50,7 +50,7 @@ describe('the main screens in a second site locale (de-DE)', () => {
       const ctx = await elsewhere(viewport);
       const page = await ctx.newPage();
       const errors = watchErrors(page);
-      await signIn(page, 'member');
+      await signInContext(page.context(), 'member');
 
       await page.goto('/book');
       await page.locator('.fc-timegrid-slot-label').first().waitFor();
@@ -77,7 +77,7 @@ describe('the main screens in a second site locale (de-DE)', () => {
       const actx = await elsewhere(viewport);
       const apage = await actx.newPage();
       const aerrors = watchErrors(apage);
-      await signIn(apage, 'admin');
+      await signInContext(apage.context(), 'admin');
       await apage.goto('/reports');
       await apage.getByTestId('revenue-net').waitFor();
       const reports = nbsp(await apage.locator('main').innerText());

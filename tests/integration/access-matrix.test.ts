@@ -260,19 +260,19 @@ const ID_SOURCES: Record<string, string | (() => Promise<string | undefined>)> =
   'bookings/[id]': () => firstId('bookings'),
   'charges/[id]': () => firstId('charges'),
   'receipts/[id]': () => firstId('charges'),
-  'clearances/[id]': () => firstId('clearances'),
+  'clearances/[id]': () => inDemoGroups('clearances'),
   'closures/[id]': () => firstId('closures'),
   'hazard/[id]': () => machineInUse(),
-  'machine-groups/[id]': () => firstId('machine_groups'),
+  'machine-groups/[id]': () => inDemoGroups('machine_groups'),
   'machines/[id]': () => machineInUse(),
   'overrides/[machineId]': () => machineInUse(),
   'material-requests/[id]': () => firstId('material_requests'),
   'material-rules/[id]': () => firstId('materials'),
   'people/[id]': () => firstId('people'),
-  'quizzes/[id]': () => firstId('quizzes'),
-  'quiz/[id]': () => firstId('quizzes'),
-  'attempts/[attemptId]': () => firstId('quiz_attempts'),
-  'induction-sessions/[id]': () => firstId('induction_sessions'),
+  'quizzes/[id]': () => inDemoGroups('quizzes'),
+  'quiz/[id]': () => inDemoGroups('quizzes'),
+  'attempts/[attemptId]': () => inDemoGroups('quiz_attempts'),
+  'induction-sessions/[id]': () => inDemoGroups('induction_sessions'),
   'm/[code]': 'laser-a',
   'faults/[id]': () => firstId('faults'),
   'photos/[n]': '0',
@@ -296,6 +296,17 @@ async function machineInUse(): Promise<string | undefined> {
 
 async function firstId(table: string): Promise<string | undefined> {
   const row = (await testDb()(table).select('id').orderBy('id').first()) as { id: string } | undefined;
+  return row?.id;
+}
+
+/**
+ * The first row of a demo machine group (or of its quiz, clearances, attempts, sessions): browser journeys that run
+ * beside this file make a group of their own with such rows and remove it when they end.
+ */
+async function inDemoGroups(table: 'machine_groups' | 'clearances' | 'quizzes' | 'quiz_attempts' | 'induction_sessions'): Promise<string | undefined> {
+  const demo = testDb()('machine_groups').whereIn('code', ['glass-tube', 'rf-laser']);
+  const q = table === 'machine_groups' ? demo.clone() : testDb()(table).whereIn('group_id', demo.clone().select('id'));
+  const row = (await q.select(`${table}.id`).orderBy(`${table}.id`).first()) as { id: string } | undefined;
   return row?.id;
 }
 

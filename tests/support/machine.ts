@@ -11,11 +11,12 @@ export interface TestMachine {
 
 /**
  * Added through the admin API (which gives it default rules and opening hours), in the first demo group (the
- * clearance tests read the seeded groups: a file adds no group it leaves behind).
+ * clearance tests read the seeded groups: a file adds no group it leaves behind), or in `inGroup`, a group of the
+ * file's own (support/group.ts).
  */
-export async function createTestMachine(admin: Client, label: string): Promise<TestMachine & { groupId: string }> {
+export async function createTestMachine(admin: Client, label: string, inGroup?: string): Promise<TestMachine & { groupId: string }> {
   const stamp = `${Date.now().toString(36)}${process.pid.toString(36)}`;
-  const groupId = ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
+  const groupId = inGroup ?? ((await testDb()('machine_groups').orderBy('name').first('id')) as { id: string }).id;
   const code = `t-${label.slice(0, 29 - stamp.length)}-${stamp}`;
   const name = `Test laser ${label} ${stamp}`;
   const res = await admin.send('POST', '/api/machines', {
