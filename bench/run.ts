@@ -17,6 +17,7 @@ import {
   ROOT, HOST, appEnv, buildApp, databaseUrl, recreateDatabase, logDir, runNode, say, spawnService, waitForPort,
 } from '../scripts/lib/stack';
 import { addClearedPeople, benchConfig, benchStack } from './setup';
+import { readStatements, resetStatements, statementStats, statementTable } from './statements';
 
 const cfg = benchConfig('BENCH', { dataDir: '.data/bench', appPort: 4341, pgPort: 54349, smtpPort: 1135, mailWebPort: 1190, stripePort: 12131, s3Port: 4589, dbName: 'beamwarden_bench' });
 const HISTORY = Number(process.env.BENCH_HISTORY ?? 1_000_000);
@@ -61,11 +62,13 @@ function postgresCpu(): number | null {
   }
 }
 /** CPU used by the app process and by PostgreSQL while `work` runs. */
-async function cpuDuring<T>(appPid: number | undefined, work: () => Promise<T>): Promise<{ result: T; app: number | null; pg: number | null }> {
-  const a0 = cpuOf(appPid);
+async function cpuDuring<T>(appPid: number | undefined | (number | undefined)[], work: () => Promise<T>): Promise<{ result: T; app: number | null; pg: number | null }> {
+  const pids = Array.isArray(appPid) ? appPid : [appPid];
+  const appCpu = () => pids.reduce<number | null>((sum, pid) => (sum === null ? null : ((c) => (c === null ? null : sum + c))(cpuOf(pid))), 0);
+  const a0 = appCpu();
   const p0 = postgresCpu();
   const result = await work();
-  const a1 = cpuOf(appPid);
+  const a1 = appCpu();
   const p1 = postgresCpu();
   return { result, app: a0 === null || a1 === null ? null : a1 - a0, pg: p0 === null || p1 === null ? null : p1 - p0 };
 }
@@ -73,7 +76,9 @@ async function cpuDuring<T>(appPid: number | undefined, work: () => Promise<T>):
 type Cannon = { requests: { total: number; average: number }; duration: number; latency: { p50: number; p99: number }; '2xx': number; statusCodeStats?: Record<string, { count: number }> };
 const perRequest = (seconds: number | null, n: number) => (seconds === null || !n ? 'n/a' : `${((seconds * 1000) / n).toFixed(2)} ms`);
 
-const { secrets, cleanup } = await benchStack(cfg, 'BENCH_PORT');
+const { secrets, cleanup, pgData } = await benchStack(cfg, 'BENCH_PORT');
+const STATEMENTS = process.env.BENCH_STATEMENTS === '1';
+await statementStats(cfg, secrets, pgData, STATEMENTS);
 const REUSE = process.env.BENCH_REUSE === '1';
 /** An earlier run's database with the same history (its bench people and HISTORY completed bookings), when BENCH_REUSE=1. */
 async function earlierHistory(): Promise<boolean> {
@@ -92,7 +97,9 @@ async function earlierHistory(): Promise<boolean> {
 }
 const reuse = await earlierHistory();
 if (!reuse) await recreateDatabase(cfg, secrets, cfg.dbName);
-const env = appEnv(cfg, secrets, { DATABASE_POOL_MAX: '20' });
+const POOL = process.env.BENCH_POOL ?? '20';
+const ONLY_BOOKING = process.env.BENCH_ONLY === 'booking';
+const env = appEnv(cfg, secrets, { DATABASE_POOL_MAX: POOL });
 runNode(['--import', 'tsx', 'scripts/migrate.ts', ...(reuse ? [] : ['--seed-if-empty'])], env, 'Migrating and seeding the bench database');
 
 const pool = new pg.Pool({ connectionString: databaseUrl(cfg, secrets), max: CONNECTIONS });
@@ -102,6 +109,8 @@ let historySeconds = 0;
 if (reuse) {
   say('Reusing the history of an earlier run (BENCH_REUSE=1): deleting its bench bookings in the future');
   await q(`DELETE FROM bookings WHERE starts_at > now() AND person_id IN (SELECT id FROM people WHERE email LIKE 'bench%')`);
+  // and the jobs both sides queued (no worker runs here), so each run inserts into job tables of the same size
+  await q(`DELETE FROM pgboss.job WHERE name IN ('booking.confirm', 'payments.intent')`);
   await q('VACUUM ANALYZE bookings');
 } else {
   // --- the data: bench people, open-all-day rules without quotas, then the history ------------------------
@@ -138,6 +147,15 @@ const appLogFrom = fs.existsSync(appLog) ? fs.statSync(appLog).size : 0;
 const nodeArgs = (process.env.BENCH_APP_NODE_ARGS ?? '').split(' ').filter(Boolean);
 const app = spawnService(cfg, 'app', [...nodeArgs, path.join(ROOT, 'dist-bench/scripts/serve.mjs')], { ...env, LOG_FORMAT: 'json' });
 await waitForPort(cfg.appPort, 'the bench app', app.child);
+// BENCH_APP_PROCESSES=2: more app processes on the next ports, for the booking part (its clients split between them)
+const PROCESSES = Math.max(1, Number(process.env.BENCH_APP_PROCESSES ?? 1));
+const moreApps = [];
+for (let i = 1; i < PROCESSES; i++) {
+  const more = spawnService(cfg, `app${i + 1}`, [...nodeArgs, path.join(ROOT, 'dist-bench/scripts/serve.mjs')], { ...env, PORT: String(cfg.appPort + i), LOG_FORMAT: 'json' });
+  await waitForPort(cfg.appPort + i, `bench app ${i + 1}`, more.child);
+  moreApps.push(more);
+}
+const appPids = [app.child.pid, ...moreApps.map((a) => a.child.pid)];
 
 // --- sign in the bench people (Auth.js credentials flow) ------------------------------------------------
 async function signIn(email: string): Promise<string> {
@@ -183,10 +201,12 @@ const baseSql = baseApi + 120 * 24 * HOUR;
 // --- 1. booking creation: API under autocannon -------------------------------------------------------------
 say(`Booking creation through the API: ${REQUESTS} requests, ${CONNECTIONS} connections`);
 let k = 0;
-const apiCreateRun = await cpuDuring(app.child.pid, (): Promise<Cannon> => autocannon({
-  url: APP,
-  connections: CONNECTIONS,
-  amount: REQUESTS,
+const statementRows: string[] = [];
+if (STATEMENTS) await resetStatements(cfg, secrets);
+const createOn = (i: number): Promise<Cannon> => autocannon({
+  url: `http://${HOST}:${cfg.appPort + i}`,
+  connections: Math.ceil(CONNECTIONS / PROCESSES),
+  amount: Math.ceil(REQUESTS / PROCESSES),
   requests: [
     {
       method: 'POST',
@@ -196,17 +216,34 @@ const apiCreateRun = await cpuDuring(app.child.pid, (): Promise<Cannon> => autoc
         const s = slot(baseApi, n);
         return {
           ...req,
-          headers: { 'content-type': 'application/json', origin: APP, cookie: cookies[n % PEOPLE]! },
+          headers: { 'content-type': 'application/json', origin: `http://${HOST}:${cfg.appPort + i}`, cookie: cookies[n % PEOPLE]! },
           body: JSON.stringify({ machineId: s.machineId, startsAt: s.startsAt.toISOString(), endsAt: s.endsAt.toISOString(), materials: [], notes: '' }),
         };
       },
     },
   ],
-}));
+});
+/** The processes' autocannon results as one: counts added, the longest duration, the mean p50 and the worst p99. */
+const mergeCannons = (parts: Cannon[]): Cannon => parts.length === 1 ? parts[0]! : {
+  requests: { total: parts.reduce((a, p) => a + p.requests.total, 0), average: parts.reduce((a, p) => a + p.requests.average, 0) },
+  duration: Math.max(...parts.map((p) => p.duration)),
+  latency: { p50: Math.round(parts.reduce((a, p) => a + p.latency.p50, 0) / parts.length), p99: Math.max(...parts.map((p) => p.latency.p99)) },
+  '2xx': parts.reduce((a, p) => a + p['2xx'], 0),
+  statusCodeStats: parts.reduce<Record<string, { count: number }>>((all, p) => {
+    for (const [code, v] of Object.entries(p.statusCodeStats ?? {})) all[code] = { count: (all[code]?.count ?? 0) + v.count };
+    return all;
+  }, {}),
+};
+const apiCreateRun = await cpuDuring(appPids, async () => mergeCannons(await Promise.all(Array.from({ length: PROCESSES }, (_, i) => createOn(i)))));
 const apiCreate = apiCreateRun.result;
+if (STATEMENTS) statementRows.push('', `PostgreSQL per API booking (pg_stat_statements, ${apiCreate['2xx']} bookings; times are wall clock inside PostgreSQL):`, '', ...statementTable(await readStatements(cfg, secrets), apiCreate['2xx'] || 1));
 const created = Number((await q(`SELECT count(*)::int AS n FROM bookings WHERE state = 'reserved' AND starts_at >= $1 AND starts_at < $2`, [new Date(baseApi), new Date(baseSql)])).rows[0].n);
 
-// --- 1'. the same work in raw SQL through pg: lock, rule reads, overlap, quota, insert, audit ---------------
+// --- 1'. the same work in raw SQL through pg: lock, clearance, failed payment, rule reads, overlap, quota, insert,
+// audit, and the two jobs the API queues with every booking (its confirmation e-mail and its card hold), as plain
+// inserts with the queues' retry policies. The API reads the rules from memory (under a stamp) and also reads the
+// person and their roles for the session, and what the hold notice needs; the raw side reads the rules every time.
+
 say(`Booking creation in raw SQL: ${REQUESTS} transactions, ${CONNECTIONS} clients`);
 async function sqlBooking(n: number): Promise<void> {
   const s = slot(baseSql, n);
@@ -215,6 +252,8 @@ async function sqlBooking(n: number): Promise<void> {
   try {
     await c.query('BEGIN');
     await c.query(`SELECT id, status FROM machines WHERE id = $1 FOR SHARE`, [s.machineId]);
+    await c.query(`SELECT EXISTS (SELECT 1 FROM charges WHERE person_id = $1 AND state = 'payment failed')`, [person]);
+    await c.query(`SELECT c.state, c.level, c.expires_at FROM machines m JOIN clearances c ON c.group_id = m.group_id AND c.person_id = $2 WHERE m.id = $1`, [s.machineId, person]);
     await c.query(`SELECT * FROM machine_booking_rules WHERE machine_id = $1`, [s.machineId]);
     await c.query(`SELECT * FROM opening_hours WHERE machine_id = $1`, [s.machineId]);
     await c.query(`SELECT * FROM closures WHERE (machine_id = $1 OR machine_id IS NULL) AND starts_at < $3 AND ends_at > $2`, [s.machineId, s.startsAt, s.endsAt]);
@@ -223,6 +262,9 @@ async function sqlBooking(n: number): Promise<void> {
     await c.query(`SELECT coalesce(sum(extract(epoch FROM ends_at - starts_at) / 60), 0) FROM bookings WHERE person_id = $1 AND machine_id = $2 AND kind IN ('personal','hold') AND state IN ('reserved','checked in','completed','no-show') AND starts_at >= $3 AND starts_at < $4`, [person, s.machineId, new Date(s.startsAt.getTime() - 7 * 24 * HOUR), s.startsAt]);
     const r = await c.query(`INSERT INTO bookings (machine_id, person_id, starts_at, ends_at, occupied_until) VALUES ($1, $2, $3, $4, $5) RETURNING id`, [s.machineId, person, s.startsAt, s.endsAt, new Date(s.endsAt.getTime() + 600_000)]);
     await c.query(`INSERT INTO audit_log (actor_id, kind, subject_type, subject_id, summary) VALUES ($1, 'booking.created', 'booking', $2, 'bench')`, [person, r.rows[0].id]);
+    await c.query(`INSERT INTO pgboss.job (name, data, retry_limit, retry_delay, retry_backoff, expire_in, policy)
+                   VALUES ('booking.confirm', json_build_object('bookingId', $1::uuid), 30, 10, true, interval '300 seconds', 'standard'),
+                          ('payments.intent', json_build_object('kind', 'booking.hold', 'bookingId', $1::uuid), 14, 2, true, interval '120 seconds', 'standard')`, [r.rows[0].id]);
     await c.query('COMMIT');
   } catch (e) {
     await c.query('ROLLBACK');
@@ -232,11 +274,26 @@ async function sqlBooking(n: number): Promise<void> {
   }
 }
 let next = 0;
+if (STATEMENTS) await resetStatements(cfg, secrets);
 const tSql = Date.now();
 const sqlCreateRun = await cpuDuring(undefined, () => Promise.all(Array.from({ length: CONNECTIONS }, async () => {
   for (let n = next++; n < REQUESTS; n = next++) await sqlBooking(n);
 })));
 const sqlCreateSeconds = (Date.now() - tSql) / 1000;
+if (STATEMENTS) statementRows.push('', `PostgreSQL per raw-SQL booking transaction (pg_stat_statements, ${REQUESTS} transactions):`, '', ...statementTable(await readStatements(cfg, secrets), REQUESTS));
+
+if (ONLY_BOOKING) {
+  // BENCH_ONLY=booking: the booking part alone (for comparing runs of it); nothing is written to bench/RESULTS.md
+  const rps = apiCreate.requests.total / (apiCreate.duration || 1);
+  const tps = REQUESTS / sqlCreateSeconds;
+  console.log(['', `Run ${new Date().toISOString()} · booking creation only · pool ${POOL} · ${CONNECTIONS} clients · ${PROCESSES} app process${PROCESSES > 1 ? 'es' : ''}`,
+    `API ${rps.toFixed(0)} req/s (p50 ${apiCreate.latency.p50} ms, p99 ${apiCreate.latency.p99} ms, ${apiCreate['2xx']} × 2xx, ${created} rows) ÷ raw SQL ${tps.toFixed(0)} tx/s = ${(rps / tps).toFixed(2)}`,
+    `CPU per booking: app ${perRequest(apiCreateRun.app, apiCreate.requests.total)}, PostgreSQL ${perRequest(apiCreateRun.pg, apiCreate.requests.total)} per API request; PostgreSQL ${perRequest(sqlCreateRun.pg, REQUESTS)} per raw-SQL transaction`,
+    ...statementRows, ''].join('\n'));
+  await pool.end();
+  await cleanup();
+  process.exit(0);
+}
 
 // --- 2. the week-view feed of one machine (Laser A), a week deep in the history -----------------------------
 const weekFrom = new Date(Date.now() - 400 * 24 * HOUR);
@@ -342,6 +399,7 @@ const lines = [
   '| request | count | statements (mean) | time in the app (mean) |',
   '| --- | --- | --- | --- |',
   ...routeRows,
+  ...statementRows,
 ];
 console.log('\n' + lines.join('\n') + '\n');
 fs.writeFileSync(path.join(ROOT, 'bench/RESULTS.md'), `# Latest bench run\n\n${lines.join('\n')}\n`);

@@ -32,7 +32,7 @@ export async function benchStack(cfg: StackConfig, portVar: string) {
   const info = await ensurePostgres(cfg, secrets);
   pgData = info.pgData;
   pgStartedHere = info.startedHere;
-  return { secrets, cleanup };
+  return { secrets, cleanup, pgData: info.pgData };
 }
 
 /**

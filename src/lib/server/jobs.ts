@@ -7,6 +7,7 @@ import PgBoss from 'pg-boss';
 import type { Knex } from 'knex';
 import { env } from './env';
 import { log, onShutdown } from './log';
+import { statementName } from './db';
 
 /** Every queue, with its retry policy. Add a queue here, then its handler in src/lib/server/worker.ts. */
 export const QUEUES = {
@@ -78,8 +79,9 @@ export async function installQueues(connectionString: string): Promise<PgBoss> {
 function onTransaction(trx: Knex.Transaction): PgBoss.Db {
   return {
     async executeSql(text: string, values: unknown[]) {
-      const conn = (await trx.client.acquireConnection()) as { query: (t: string, v: unknown[]) => Promise<{ rows: unknown[] }> };
-      const result = await conn.query(text, values);
+      const conn = (await trx.client.acquireConnection()) as { query: (q: { name: string; text: string; values: unknown[] }) => Promise<{ rows: unknown[] }> };
+      // pg-boss's insert statements have a fixed text: parsed and planned once per connection
+      const result = await conn.query({ name: statementName(text), text, values });
       return { rows: result.rows as never[] };
     },
   };

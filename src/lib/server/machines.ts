@@ -1,6 +1,6 @@
 /** Machines: all SQL for this area — the list, one machine, adding and editing (admin, audited). Retiring is a cascade: cascades/retire-machine.ts. */
 import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction, type Conn } from './db';
+import { db, pgCode, PG, prepared, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { DomainError } from './errors';
 import type { MachineFields, MachineRecord, MachineStatus, TubeType } from '@lib/machines-shared';
@@ -187,6 +187,7 @@ export async function lockMachine(trx: Knex.Transaction, id: string, mode: 'upda
   const columns: (string | Knex.Raw)[] = ['id', 'code', 'name', 'status', 'retired_at'];
   // e.g. the booking gate's per-person advisory lock, taken in the same round trip
   if (alsoInStatement) columns.push(alsoInStatement);
-  const row = await (mode === 'share' ? q.forShare() : q.forUpdate()).first(...columns);
+  // every booking takes it (with the booking gate's facts): parsed and planned once per connection
+  const row = await prepared((mode === 'share' ? q.forShare() : q.forUpdate()).first(...columns));
   return row ? { id: row.id, code: row.code, name: row.name, status: row.status, retiredAt: row.retired_at, ...(alsoInStatement ? { also: row } : {}) } : null;
 }

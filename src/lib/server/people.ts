@@ -1,6 +1,6 @@
 /** People and their roles: all SQL for this area. */
 import type { Knex } from 'knex';
-import { db, pgCode, PG, transaction, type Conn } from './db';
+import { db, pgCode, PG, prepared, transaction, type Conn } from './db';
 import { recordAudit } from './audit';
 import { hashPassword } from './passwords';
 import { normaliseRoles, type Role } from '@lib/roles';
@@ -38,7 +38,8 @@ function withRoles(q: Conn) {
 }
 
 export async function getPerson(id: string, trx: Conn = db()): Promise<Person | null> {
-  const row = (await withRoles(trx).where('p.id', id).first()) as Row | undefined;
+  // every signed-in request runs it (session.ts): parsed and planned once per connection
+  const row = (await prepared(withRoles(trx).where('p.id', id).first())) as Row | undefined;
   return row ? toPerson(row) : null;
 }
 

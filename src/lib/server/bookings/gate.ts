@@ -4,7 +4,7 @@
  * The weekly quota is checked under a per-person advisory lock held to the end of the transaction.
  */
 import type { Knex } from 'knex';
-import { db, pgCode, PG } from '@lib/server/db';
+import { db, pgCode, PG, prepared } from '@lib/server/db';
 import { DomainError } from '@lib/server/errors';
 import { auditInsertSql, type AuditEntry } from '@lib/server/audit';
 import { getRulesAndClosures, RULES_STAMP_SQL } from '@lib/server/booking-rules';
@@ -30,7 +30,7 @@ export async function lockForBooking(trx: Knex.Transaction, machineId: string, p
   const also = !personId
     ? undefined
     : refuseFailedPayment
-      ? trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock, ${PAYMENT_FAILED_SQL} AS payment_failed, ${facts}`, [personId, personId, personId])
+      ? trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock, ${PAYMENT_FAILED_SQL} AS payment_failed, ${facts}, ${GENERIC_PLANS} AS plans`, [personId, personId, personId])
       : trx.raw(`pg_advisory_xact_lock(${PERSON_LOCK}) AS person_lock, ${facts}`, [personId, personId]);
   const m = await lockMachine(trx, machineId, 'share', also);
   if (!m || m.retiredAt) throw new DomainError('not_found', 'not_found', 'No such machine.');
@@ -50,6 +50,15 @@ export interface LockedForBooking extends MachineRow {
 }
 
 const PERSON_LOCK = "hashtextextended('bookings.person:' || ?, 0)";
+
+/**
+ * For the rest of a new booking's transaction (set_config local: it ends with the transaction), the prepared
+ * statements after the lock (clashAndUse, pg-boss's insert) run on their plan cached per connection instead of
+ * being planned again with each booking's values. PostgreSQL would never choose that itself: without the values it
+ * estimates hundreds of rows where there are a handful. The plan is the same one (the machine-and-time GiST index,
+ * the person-and-start index), and planning the clash statement cost more than running it (decision 0466).
+ */
+const GENERIC_PLANS = "set_config('plan_cache_mode', 'force_generic_plan', true)";
 
 export function outOfService(m: MachineRow): DomainError {
   return new DomainError('conflict', 'machine_out_of_service', `${m.name} is out of service and takes no bookings until a steward puts it back in service.`);
@@ -88,6 +97,9 @@ export async function weeklyMinutes(trx: Conn, personId: string, machineId: stri
   return Number((r as { minutes?: number } | undefined)?.minutes ?? 0);
 }
 
+/** The active states written into the statement: its plan, made once for every booking, can then use the exclusion constraint's partial index (active bookings only). */
+const ACTIVE_STATES_SQL = ACTIVE_STATES.map((s) => `'${s}'`).join(', ');
+
 /**
  * For a new personal booking, in one statement (run after the person's lock): the first active booking clashing
  * with [startsAt, until) (what assertFree looks for), the person's minutes on the machine in the site week of
@@ -95,16 +107,17 @@ export async function weeklyMinutes(trx: Conn, personId: string, machineId: stri
  */
 export async function clashAndUse(trx: Conn, personId: string, machineId: string, startsAt: Date, until: Date, tz: string, also?: { sql: string; bindings: unknown[] }) {
   const week = localWeek(startsAt, tz);
-  const { rows } = await trx.raw(
-    `SELECT (SELECT b.id FROM bookings b WHERE b.machine_id = ? AND b.state = ANY(?::text[])
+  // planning it took PostgreSQL longer than running it: parsed and planned once per connection
+  const { rows } = await prepared(trx.raw(
+    `SELECT (SELECT b.id FROM bookings b WHERE b.machine_id = ? AND b.state IN (${ACTIVE_STATES_SQL})
                AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange(?, ?, '[)') LIMIT 1) AS clash,
             (SELECT coalesce(sum(extract(epoch from (b.ends_at - b.starts_at)) / 60), 0)::float8 FROM bookings b
               WHERE b.person_id = ? AND b.machine_id = ? AND b.kind IN ('personal', 'hold') AND b.state = ANY(?::text[])
                 AND b.starts_at >= ? AND b.starts_at < ?) AS minutes,
             p.tier, p.email, p.name${also ? `, ${also.sql} AS also` : ''}
      FROM (SELECT 1) one LEFT JOIN people p ON p.id = ?`,
-    [machineId, [...ACTIVE_STATES], startsAt, until, personId, machineId, QUOTA_STATES, week.start, week.end, ...((also?.bindings ?? []) as Knex.RawBinding[]), personId],
-  );
+    [machineId, startsAt, until, personId, machineId, QUOTA_STATES, week.start, week.end, ...((also?.bindings ?? []) as Knex.RawBinding[]), personId],
+  ));
   const r = rows[0] as { clash: string | null; minutes: number | null; tier: Tier | null; email: string | null; name: string | null; also?: unknown };
   return {
     clash: r.clash,
