@@ -58,7 +58,7 @@ describe('the Machines screen', () => {
     await page.getByText('Laser D saved.').waitFor();
     await row.getByText('Advanced level').waitFor();
     const saved = await testDb()('machines').where({ code }).first('id', 'required_level', 'coolant_min_c');
-    expect(saved).toMatchObject({ required_level: 'advanced', coolant_min_c: '16.0' });
+    expect(saved).toMatchObject({ required_level: 'advanced', coolant_min_c: 16 });
 
     await row.getByRole('button', { name: 'Retire Laser D' }).click();
     const retire = page.getByRole('form', { name: 'Retire Laser D' });
