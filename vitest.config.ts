@@ -50,7 +50,6 @@ export const PARALLEL_INTEGRATION = [
  * own (an override of that machine only); materials-screens only reads the rules (changing one is materials-journey).
  */
 export const PARALLEL_E2E = [
-  'accessibility',
   'account-journey',
   'book-feedback',
   'booking-journey',
@@ -59,7 +58,7 @@ export const PARALLEL_E2E = [
   'machine-journey',
   'machine-page',
   'materials-screens',
-  'phone-width',
+  'phone-width-and-accessibility',
   'qr-offline',
   'reports-journey',
   'safety-gate',
