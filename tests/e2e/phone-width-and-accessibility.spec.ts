@@ -148,8 +148,7 @@ describe.concurrent('every screen fits a 390 px phone with no page error; the ma
       const label = who ?? 'out';
       await eachAtOnce(paths, PAGES_AT_ONCE, async (path, slot) => {
         if (!pages[slot]) {
-          const page = await ctx.newPage();
-          page.setDefaultTimeout(20_000);
+          const page = await ctx.newPage(); // Playwright's 30 s for a page load: the first ones meet a cold app
           pages[slot] = { page, errors: watchErrors(page) };
         }
         const { page } = pages[slot];
