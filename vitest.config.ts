@@ -60,7 +60,6 @@ export const PARALLEL_INTEGRATION = [
  * machines-admin counts the machines in service (calendars, labels).
  */
 export const PARALLEL_E2E = [
-  'accessibility',
   'account-journey',
   'admin-people',
   'book-feedback',
@@ -73,7 +72,7 @@ export const PARALLEL_E2E = [
   'machine-page',
   'machines-screen',
   'materials-screens',
-  'phone-width',
+  'phone-width-and-accessibility',
   'qr-offline',
   'reports-journey',
   'safety-gate',

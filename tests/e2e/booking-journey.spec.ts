@@ -4,7 +4,7 @@
  */
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { PHONE, shot, signIn, hydrated, settled, withBrowser } from '../support/browser';
+import { PHONE, shot, hydrated, settled, withBrowser } from '../support/browser';
 import { Client } from '../support/client';
 import { testDb } from '../support/db';
 import { clearedNew, newPerson } from '../support/people';
@@ -41,8 +41,7 @@ async function openBook(page: Page, day: string, machineId = laser.id) {
 
 describe('booking on the calendar', () => {
   it('the member books a free slot by dragging, sees it as theirs, and cancels it', async () => {
-    const { ctx, page, errors } = await web.openAs(null);
-    await signIn(page, who.email);
+    const { ctx, page, errors } = await web.openAs(who.email);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
 
@@ -84,8 +83,7 @@ describe('booking on the calendar', () => {
     const other = (await newPerson('calendar-other', { clearedFor: [laser.code] })).client;
     const res = await other.send('POST', '/api/bookings', { machineId: laser.id, startsAt: siteTime(DAY, 14).toISOString(), endsAt: siteTime(DAY, 15).toISOString(), materials: [], notes: '' });
     expect(res.status).toBe(201);
-    const { ctx, page } = await web.openAs(null);
-    await signIn(page, who.email);
+    const { ctx, page } = await web.openAs(who.email);
     const day = dateOf(siteTime(DAY, 12));
     await openBook(page, day);
     // the keyboard path: the form below the calendar
@@ -102,8 +100,7 @@ describe('booking on the calendar', () => {
   });
 
   it('the newbie is told before booking why not, with the link to the next step, and gets no booking form', async () => {
-    const { ctx, page, errors } = await web.openAs(null);
-    await signIn(page, 'newbie');
+    const { ctx, page, errors } = await web.openAs('newbie');
     const day = dateOf(siteTime(DAY + 1, 12));
     await openBook(page, day, laserA.id);
     const notice = page.locator('[data-not-cleared]');

@@ -60,9 +60,7 @@ describe('the QR page signed out', () => {
 
 describe('the navigation on a phone', () => {
   it('folds into a menu that opens and closes by keyboard', async () => {
-    const { ctx, page } = await web.openAs(null, PHONE);
-    await page.goto('/signin');
-    await signIn(page, 'member');
+    const { ctx, page } = await web.openAs('member', PHONE);
     await page.goto(`/m/${machine.code}`);
     const button = page.getByRole('button', { name: 'Menu' });
     const nav = page.getByRole('navigation', { name: 'Main' });
@@ -102,9 +100,7 @@ describe('back into service while a stop fault is open', () => {
     expect(filed.status, await filed.clone().text()).toBe(201);
     const faultId = (await body(filed)).fault.id as string;
 
-    const { ctx, page, errors } = await web.openAs(null);
-    await page.goto('/signin');
-    await signIn(page, 'steward');
+    const { ctx, page, errors } = await web.openAs('steward');
     await page.goto('/faults');
     await hydrated(page);
     const panel = page.locator(`[data-machine="${machine.code}"]`);

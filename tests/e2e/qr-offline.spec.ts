@@ -10,11 +10,10 @@ import zlib from 'node:zlib';
 import sharp from 'sharp';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { PHONE, newContext, shot, signIn, settled, withBrowser } from '../support/browser';
+import { PHONE, newContext, shot, signIn, signInContext, settled, withBrowser } from '../support/browser';
 import { Client } from '../support/client';
 import { testDb } from '../support/db';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
-import { APP_URL } from '../support/env';
 
 const web = withBrowser();
 let admin: Client;
@@ -121,13 +120,8 @@ describe('a machine page opened once works with no signal', () => {
 
 describe('the fault form without JavaScript', () => {
   it('refuses a report without severity keeping the answers, then files it with a photo', async () => {
-    const { ctx: withJs, page: p0 } = await web.openAs(null, PHONE);
-    await p0.goto('/signin');
-    await signIn(p0, 'member');
-    const state = await withJs.storageState();
-    await withJs.close();
-
-    const ctx = await web.browser.newContext({ baseURL: APP_URL(), viewport: PHONE, locale: 'en-NZ', javaScriptEnabled: false, storageState: state });
+    const ctx = await newContext(web.browser, PHONE, { javaScriptEnabled: false });
+    await signInContext(ctx, 'member');
     const page = await ctx.newPage();
     await page.goto(`/m/${machine.code}/fault`);
     const summary = `Honeycomb bent ${Date.now().toString(36)}`;
@@ -156,9 +150,7 @@ describe('JavaScript weight of the /m/ pages', () => {
     const { ctx: anon, page: a } = await web.openAs(null, PHONE);
     out['machine page, signed out'] = (await jsWeight(a, `/m/${machine.code}`)).gzipBytes;
     await anon.close();
-    const { ctx, page } = await web.openAs(null, PHONE);
-    await page.goto('/signin');
-    await signIn(page, 'member');
+    const { ctx, page } = await web.openAs('member', PHONE);
     out['machine page, signed in'] = (await jsWeight(page, `/m/${machine.code}`)).gzipBytes;
     out['fault form'] = (await jsWeight(page, `/m/${machine.code}/fault`)).gzipBytes;
     await ctx.close();
