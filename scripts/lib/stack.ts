@@ -203,6 +203,14 @@ function clusterRunning(pgData: string): boolean {
   return runPg('pg_ctl', ['status', '-D', pgData], { allowFail: true }).code === 0;
 }
 
+/**
+ * The test cluster's settings: no disk flush at each commit or checkpoint (PostgreSQL's "non-durable settings" for
+ * throwaway data; a crash of the whole machine may lose the last transactions, and the test database is recreated on
+ * every run anyway). Commits no longer wait for the disk, and the kernel's block-device work stops competing with the
+ * tests for the two cores. Never used for the demo or the bench, whose data outlives a run.
+ */
+const NON_DURABLE = ' -c fsync=off -c synchronous_commit=off -c full_page_writes=off';
+
 /** Starts (creating if needed) the cluster and makes sure the app role and database exist. */
 export async function ensurePostgres(cfg: StackConfig, secrets: Secrets): Promise<{ pgData: string; startedHere: boolean }> {
   ensurePostgresInstalled();
@@ -235,7 +243,7 @@ export async function ensurePostgres(cfg: StackConfig, secrets: Secrets): Promis
       'start', '-w', '-t', '60',
       '-D', pgData,
       '-l', logFile,
-      '-o', `-p ${cfg.pgPort} -c listen_addresses=${HOST} -c unix_socket_directories='' -c max_connections=200`,
+      '-o', `-p ${cfg.pgPort} -c listen_addresses=${HOST} -c unix_socket_directories='' -c max_connections=200${cfg.label === 'test' ? NON_DURABLE : ''}`,
     ]);
     startedHere = true;
   } else {
