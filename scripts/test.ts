@@ -54,7 +54,6 @@ const env = appEnv(cfg, secrets, {
   TEST_S3_PORT: String(cfg.s3Port),
   TEST_SMTP_PORT: String(cfg.smtpPort),
   TEST_MAIL_WEB_PORT: String(cfg.mailWebPort),
-  CHROMIUM_PATH: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
   // the worker runs queued jobs but no clock-driven sweeps: tests run those themselves (tests/support/queue.ts)
   WORKER_SCHEDULES: 'off',
   // a provider call the payment fake does not answer (paused by a test) gives up after 3 s (worker) / 2 s (request)

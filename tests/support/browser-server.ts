@@ -4,7 +4,7 @@
  */
 import { chromium } from 'playwright-core';
 import type { TestProject } from 'vitest/node';
-import { CHROMIUM_ARGS, CHROMIUM_IGNORED_DEFAULTS } from './browser-args';
+import { CHROMIUM_ARGS, CHROMIUM_EXECUTABLE, CHROMIUM_IGNORED_DEFAULTS } from './browser-args';
 
 declare module 'vitest' {
   export interface ProvidedContext {
@@ -13,7 +13,7 @@ declare module 'vitest' {
 }
 
 export default async function setup(project: TestProject): Promise<() => Promise<void>> {
-  const server = await chromium.launchServer({ executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium', headless: true, args: CHROMIUM_ARGS, ignoreDefaultArgs: CHROMIUM_IGNORED_DEFAULTS });
+  const server = await chromium.launchServer({ executablePath: CHROMIUM_EXECUTABLE, headless: true, args: CHROMIUM_ARGS, ignoreDefaultArgs: CHROMIUM_IGNORED_DEFAULTS });
   project.provide('chromiumWsEndpoint', server.wsEndpoint());
   return async () => {
     await server.close();

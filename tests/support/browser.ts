@@ -1,7 +1,7 @@
 /** Headless Chromium from Debian's package, driven by playwright-core (no browser download). */
 import { chromium, type Browser, type BrowserContext, type BrowserContextOptions, type Download, type Page, type Request } from 'playwright-core';
 import { afterAll, beforeAll, inject } from 'vitest';
-import { CHROMIUM_ARGS, CHROMIUM_IGNORED_DEFAULTS } from './browser-args';
+import { CHROMIUM_ARGS, CHROMIUM_EXECUTABLE, CHROMIUM_IGNORED_DEFAULTS } from './browser-args';
 import { closeTestDb } from './db';
 import { APP_URL, DEMO, DEMO_PASSWORD, type DemoPerson } from './env';
 import { SESSION_COOKIE, sessionCookieFor } from './session';
@@ -13,7 +13,7 @@ import { SESSION_COOKIE, sessionCookieFor } from './session';
 export async function launch(): Promise<Browser> {
   const shared = inject('chromiumWsEndpoint');
   if (shared) return chromium.connect(shared);
-  return chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium', headless: true, args: CHROMIUM_ARGS, ignoreDefaultArgs: CHROMIUM_IGNORED_DEFAULTS });
+  return chromium.launch({ executablePath: CHROMIUM_EXECUTABLE, headless: true, args: CHROMIUM_ARGS, ignoreDefaultArgs: CHROMIUM_IGNORED_DEFAULTS });
 }
 
 export const PHONE = { width: 390, height: 844 };
