@@ -22,6 +22,8 @@ export default function QuizTaker({ quizId, intro, timeZone, locale }: { quizId:
   const pending = useRef<ReturnType<typeof setTimeout> | null>(null);
   // a save already on its way: the submission waits for it, so the save never arrives after the attempt is scored
   const inflight = useRef<Promise<unknown> | null>(null);
+  // which change a save belongs to: only the latest change's save may show "saved"
+  const saveCount = useRef(0);
 
   // an attempt left open (a reload, a second tab, a phone that slept) is picked up where it was left
   useEffect(() => {
@@ -73,12 +75,22 @@ export default function QuizTaker({ quizId, intro, timeZone, locale }: { quizId:
   function save(next: Record<string, string[]>) {
     if (!attempt) return;
     if (pending.current) clearTimeout(pending.current);
+    // "saved" only once the latest answers are stored: an earlier save answering after a newer change must not say
+    // so (a reload or a closed tab would lose the newer one), and saves go one after another, so an older set of
+    // answers never arrives after a newer one
+    const mine = ++saveCount.current;
     setSaved('saving');
     pending.current = setTimeout(() => {
       pending.current = null;
-      const sent = api(`/api/quizzes/${quizId}/attempts/${attempt.attemptId}`, { method: 'PATCH', json: { answers: next } })
-        .then(() => setSaved('saved'))
-        .catch(() => setSaved('failed'));
+      const sent = (inflight.current ?? Promise.resolve())
+        .catch(() => undefined)
+        .then(() => api(`/api/quizzes/${quizId}/attempts/${attempt.attemptId}`, { method: 'PATCH', json: { answers: next } }))
+        .then(() => {
+          if (saveCount.current === mine) setSaved('saved');
+        })
+        .catch(() => {
+          if (saveCount.current === mine) setSaved('failed');
+        });
       inflight.current = sent;
       void sent.finally(() => {
         if (inflight.current === sent) inflight.current = null;

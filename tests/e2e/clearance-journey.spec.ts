@@ -13,7 +13,7 @@ import { Client } from '../support/client';
 import { testDb } from '../support/db';
 import { createTestGroup, removeTestGroup, type TestGroup } from '../support/group';
 import { createTestMachine, retireTestMachine, type TestMachine } from '../support/machine';
-import { confirmByDatabase } from '../support/people';
+import { confirmByDatabase, newPerson } from '../support/people';
 import type { QuizQuestion } from '../../src/lib/quiz-rules';
 import { to, waitForMail } from '../support/mail';
 import { signUpThroughForm } from '../support/signup';
@@ -155,6 +155,49 @@ describe('clearance journey', () => {
     expect(cleared.text).toMatch(new RegExp(`cleared \\(basic\\) on ${group.name} until`));
     await ictx.close();
     await mctx.close();
+  });
+
+  it('the quiz says "saved" only once the latest answers are stored; an earlier save never lands after a later one', async () => {
+    const taker = await newPerson('quiz-save');
+    const { ctx, page, errors } = await web.openAs(taker.email, DESK);
+    // the first save is held on its way to the server; the order in which saves reach the server is kept
+    let release!: () => void;
+    const held = new Promise<void>((r) => (release = r));
+    const arrived: number[] = [];
+    let sent = 0;
+    await page.route('**/api/quizzes/*/attempts/*', async (route) => {
+      if (route.request().method() !== 'PATCH') return route.continue();
+      const n = ++sent;
+      if (n === 1) await held;
+      arrived.push(n);
+      await route.continue();
+    });
+    await page.goto('/clearances');
+    await Promise.all([page.waitForURL(/\/clearances\/quiz\//), page.locator(`li[data-group="${group.name}"]`).getByRole('link', { name: 'Take the quiz' }).click()]);
+    await hydrated(page);
+    await page.getByRole('button', { name: 'Start the quiz' }).click();
+    const sets = page.locator('fieldset[data-question]');
+    await sets.first().waitFor();
+    const bank = await publishedBank();
+    const pick = async (i: number) => {
+      const id = await sets.nth(i).getAttribute('data-question');
+      const q = bank.find((b) => b.id === id)!;
+      await sets.nth(i).getByLabel(q.options.find((o) => o.id === q.correct[0])!.text, { exact: true }).check();
+      return q.id;
+    };
+    const first = await pick(0);
+    await expect.poll(() => sent).toBe(1); // the first save is on its way (and held)
+    const second = await pick(1);
+    // the window in which a second save would be sent beside the held one (the page waits 250 ms after a change)
+    await new Promise((r) => setTimeout(r, 800));
+    await expect(page.getByRole('status').filter({ hasText: 'answered' }).innerText()).resolves.toMatch(/2 of 10 answered · saving/);
+    release();
+    await page.getByText('2 of 10 answered · saved').waitFor();
+    expect(arrived).toEqual([1, 2]);
+    const row = await testDb()('quiz_attempts as a').join('people as p', 'p.id', 'a.person_id').where('p.email', taker.email).first('a.answers');
+    expect(Object.keys(row.answers as Record<string, string[]>).sort()).toEqual([first, second].sort());
+    expect(errors).toEqual([]);
+    await ctx.close();
   });
 
   it('an admin sees the machine groups with their settings; a member is refused the instructor screens', async () => {
