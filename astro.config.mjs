@@ -17,7 +17,8 @@ const extraHosts = (process.env.PUBLIC_HOSTNAMES ?? '')
 
 export default defineConfig({
   output: 'server',
-  adapter: node({ mode: 'standalone' }),
+  // middleware: scripts/serve.ts is the server and serves the build's static files itself (decision record 0476)
+  adapter: node({ mode: 'middleware' }),
   outDir: process.env.ASTRO_OUT_DIR ?? './dist',
   server: { host: '127.0.0.1', port: 4321 },
   integrations: [react(), auth({ injectEndpoints: false })],

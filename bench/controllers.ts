@@ -51,7 +51,7 @@ for (let i = 0; i < N; i++) {
 }
 
 buildApp(path.join(ROOT, 'dist-bench'), env);
-const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-bench/server/entry.mjs')], env);
+const app = spawnService(cfg, 'app', [path.join(ROOT, 'dist-bench/scripts/serve.mjs')], env);
 await waitForPort(cfg.appPort, 'the bench app', app.child);
 
 async function call(token: string, method: string, p: string, body?: unknown): Promise<{ ms: number; status: number; data: any }> {

@@ -5,14 +5,18 @@
  *   - one JSON log line per request (method, route, status, duration, person, request id);
  *   - X-Forwarded-* honoured only from the addresses in TRUST_PROXY (the sign-in throttle counts by client);
  *   - gzip or brotli for HTML, JSON, JS and CSS; hashed assets under /_astro/ cached for a year (immutable);
+ *   - the build's static files (client/) served from a list made at start: any other request goes to Astro without
+ *     looking on disk first (the adapter's own server did two file-system look-ups per API request);
  *   - on SIGTERM/SIGINT: stop accepting, let requests in flight finish (SHUTDOWN_TIMEOUT_MS), close the pool.
  * Bundled by scripts/bundle.mjs into <outDir>/scripts/serve.mjs; run `node dist/scripts/serve.mjs`.
  */
+import fs from 'node:fs';
 import http from 'node:http';
 import path from 'node:path';
 import { randomUUID } from 'node:crypto';
 import { pathToFileURL } from 'node:url';
 import compression from 'compression';
+import send from 'send';
 import { env, type Env } from '../src/lib/server/env';
 import { log, requestContext, runShutdownHooks, type RequestContext } from '../src/lib/server/log';
 
@@ -31,6 +35,33 @@ const outDir = process.env.BEAMWARDEN_DIST ?? path.resolve(import.meta.dirname, 
 const entry = (await import(pathToFileURL(path.join(outDir, 'server', 'entry.mjs')).href)) as {
   handler: (req: http.IncomingMessage, res: http.ServerResponse) => unknown;
 };
+
+/** The build's static files (Astro's client/ folder: hashed assets under /_astro/ and public/), by URL path. */
+const clientDir = path.join(outDir, 'client');
+const staticPaths = new Set(
+  (fs.existsSync(clientDir) ? (fs.readdirSync(clientDir, { recursive: true }) as string[]) : [])
+    .filter((f) => fs.statSync(path.join(clientDir, f)).isFile())
+    .map((f) => `/${f.split(path.sep).join('/')}`),
+);
+
+/**
+ * Serves `req` from the static files when its path names one (GET and HEAD), as the adapter's standalone server did:
+ * `send` answers with the type, ETag, Last-Modified and ranges; hashed assets are cached for a year. Returns false
+ * for everything else, which Astro answers.
+ */
+function servedStatic(req: http.IncomingMessage, res: http.ServerResponse, pathname: string): boolean {
+  if ((req.method !== 'GET' && req.method !== 'HEAD') || !staticPaths.has(pathname)) return false;
+  send(req, pathname, { root: clientDir, dotfiles: 'deny' })
+    .on('headers', (r: http.ServerResponse) => {
+      if (pathname.startsWith('/_astro/')) r.setHeader('Cache-Control', 'public, max-age=31536000, immutable');
+    })
+    .on('error', (err: { status?: number }) => {
+      res.statusCode = err.status ?? 500;
+      res.end();
+    })
+    .pipe(res);
+  return true;
+}
 
 const trusted = new Set(config.TRUST_PROXY.split(',').map((a) => a.trim()).filter(Boolean));
 const plain = (address: string | undefined) => (address ?? '').replace(/^::ffff:/, '');
@@ -96,8 +127,17 @@ const server = http.createServer((req, res) => {
   };
   res.once('finish', done);
   res.once('close', done);
+  const rawPath = (req.url ?? '/').split(/[?#]/)[0]!;
+  try {
+    decodeURI(req.url ?? '/');
+  } catch {
+    res.writeHead(400, { 'content-type': 'text/plain; charset=utf-8' });
+    res.end('Bad request.');
+    return;
+  }
   requestContext.run(context, () => {
     compress(req as never, res as never, () => {
+      if (servedStatic(req, res, rawPath)) return;
       Promise.resolve(entry.handler(req, res)).catch((err: unknown) => {
         log.error({ event: 'error', requestId, err }, 'unhandled request error');
         if (!res.headersSent) {

@@ -52,7 +52,7 @@ const spawned: Service[] = [];
 
 /** A second app process of our own (the shared one is never killed), listening on a free port. */
 async function startOwnApp(port: number): Promise<Service> {
-  const { service } = await startApp('app-crash', { port, entry: 'server' });
+  const { service } = await startApp('app-crash', { port });
   spawned.push(service);
   return service;
 }

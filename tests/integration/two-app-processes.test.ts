@@ -24,7 +24,7 @@ let secondUrl: string;
 let second: Service | undefined;
 
 beforeAll(async () => {
-  const started = await startApp('app-2', { entry: 'server' });
+  const started = await startApp('app-2');
   second = started.service;
   secondUrl = started.url;
 }, 60_000);

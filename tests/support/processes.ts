@@ -26,18 +26,17 @@ export interface AppProcess {
 }
 
 /**
- * Starts another app process and waits until it listens. `entry`: 'serve' is the production wrapper
- * (dist-test/scripts/serve.mjs: graceful stop, request log), 'server' the bare Astro entry. Its log is
- * <dataDir>/logs/<name>.log. Fails at once if it exits, or if one of `alsoWatch` (services it needs) does.
+ * Starts another app process (the production server, dist-test/scripts/serve.mjs: graceful stop, request log) and
+ * waits until it listens. Its log is <dataDir>/logs/<name>.log. Fails at once if it exits, or if one of `alsoWatch`
+ * (services it needs) does.
  */
 export async function startApp(
   name: string,
-  options: { port?: number; entry?: 'serve' | 'server'; env?: Record<string, string>; dataDir?: string; timeoutMs?: number; alsoWatch?: Service[] } = {},
+  options: { port?: number; env?: Record<string, string>; dataDir?: string; timeoutMs?: number; alsoWatch?: Service[] } = {},
 ): Promise<AppProcess> {
   const port = options.port ?? (await freePort());
   const dataDir = options.dataDir ?? process.env.TEST_DATA_DIR!;
-  const entry = options.entry === 'server' ? 'dist-test/server/entry.mjs' : 'dist-test/scripts/serve.mjs';
-  const service = spawnService({ dataDir }, name, [path.join(ROOT, entry)], { NODE_ENV: 'production', PORT: String(port), ...options.env });
+  const service = spawnService({ dataDir }, name, [path.join(ROOT, 'dist-test/scripts/serve.mjs')], { NODE_ENV: 'production', PORT: String(port), ...options.env });
   const until = Date.now() + (options.timeoutMs ?? 30_000);
   while (!(await portOpen(port))) {
     for (const s of [service, ...(options.alsoWatch ?? [])]) {
