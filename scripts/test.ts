@@ -56,7 +56,7 @@ process.on('SIGTERM', () => void cleanup().then(() => process.exit(143)));
 async function prepareStack(c: StackConfig, oidcPortVar: string, oidcDefault: number): Promise<Stack> {
   await assertPortFree(c.appPort, `the test app (${c === cfg ? 'TEST_PORT' : 'TEST_SERIAL_PORT'})`);
   const secrets = loadSecrets(c);
-  const pgInfo = await ensurePostgres(c, secrets);
+  const pgInfo = await ensurePostgres(c, secrets, { durable: false });
   if (pgInfo.startedHere) pgClusters.push(pgInfo.pgData);
 
   say(`Recreating the test database ${c.dbName} on port ${c.pgPort}`);

@@ -204,15 +204,17 @@ function clusterRunning(pgData: string): boolean {
 }
 
 /**
- * The test cluster's settings: no disk flush at each commit or checkpoint (PostgreSQL's "non-durable settings" for
- * throwaway data; a crash of the whole machine may lose the last transactions, and the test database is recreated on
- * every run anyway). Commits no longer wait for the disk, and the kernel's block-device work stops competing with the
- * tests for the two cores. Never used for the demo or the bench, whose data outlives a run.
+ * PostgreSQL's "non-durable settings" for throwaway data: no disk flush at each commit or checkpoint (a crash of the
+ * whole machine may lose the last transactions). Commits no longer wait for the disk, and the kernel's block-device
+ * work stops competing with the tests for the two cores.
  */
 const NON_DURABLE = ' -c fsync=off -c synchronous_commit=off -c full_page_writes=off';
 
-/** Starts (creating if needed) the cluster and makes sure the app role and database exist. */
-export async function ensurePostgres(cfg: StackConfig, secrets: Secrets): Promise<{ pgData: string; startedHere: boolean }> {
+/**
+ * Starts (creating if needed) the cluster and makes sure the app role and database exist. `durable: false` (the test
+ * stacks only, whose database is recreated on every run; never the demo or the bench) starts it with NON_DURABLE.
+ */
+export async function ensurePostgres(cfg: StackConfig, secrets: Secrets, options: { durable?: boolean } = {}): Promise<{ pgData: string; startedHere: boolean }> {
   ensurePostgresInstalled();
   const pgData = ensureClusterFolder(cfg);
   if (!fs.existsSync(path.join(pgData, 'PG_VERSION'))) {
@@ -243,7 +245,7 @@ export async function ensurePostgres(cfg: StackConfig, secrets: Secrets): Promis
       'start', '-w', '-t', '60',
       '-D', pgData,
       '-l', logFile,
-      '-o', `-p ${cfg.pgPort} -c listen_addresses=${HOST} -c unix_socket_directories='' -c max_connections=200${cfg.label === 'test' ? NON_DURABLE : ''}`,
+      '-o', `-p ${cfg.pgPort} -c listen_addresses=${HOST} -c unix_socket_directories='' -c max_connections=200${options.durable === false ? NON_DURABLE : ''}`,
     ]);
     startedHere = true;
   } else {
