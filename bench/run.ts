@@ -99,6 +99,7 @@ const reuse = await earlierHistory();
 if (!reuse) await recreateDatabase(cfg, secrets, cfg.dbName);
 const POOL = process.env.BENCH_POOL ?? '20';
 const ONLY_BOOKING = process.env.BENCH_ONLY === 'booking';
+const ONLY_FEED = process.env.BENCH_ONLY === 'feed';
 const env = appEnv(cfg, secrets, { DATABASE_POOL_MAX: POOL });
 runNode(['--import', 'tsx', 'scripts/migrate.ts', ...(reuse ? [] : ['--seed-if-empty'])], env, 'Migrating and seeding the bench database');
 
@@ -198,6 +199,20 @@ const seededUntil = (await q(`SELECT max(occupied_until) AS t FROM bookings WHER
 const baseApi = Math.max(Math.ceil(Date.now() / HOUR) * HOUR + 8 * 24 * HOUR, seededUntil ? Math.ceil(seededUntil.getTime() / HOUR) * HOUR : 0);
 const baseSql = baseApi + 120 * 24 * HOUR;
 
+if (ONLY_FEED) {
+  // BENCH_ONLY=feed: the week feed alone (for comparing runs of it); nothing is written to bench/RESULTS.md
+  if (STATEMENTS) await resetStatements(cfg, secrets);
+  const f = await feedPart();
+  const feedStatements = STATEMENTS ? ['', `PostgreSQL for both sides of the feed (pg_stat_statements; a unit is one API request: ${f.apiFeed.requests.total} API requests, ${f.feedCount} raw queries):`, '', ...statementTable(await readStatements(cfg, secrets), f.apiFeed.requests.total)] : [];
+  console.log(['', `Run ${new Date().toISOString()} · week feed only · pool ${POOL} · ${CONNECTIONS} clients · ${f.sample.bookings.length} bookings in the week`,
+    `API ${f.apiFeed.requests.average.toFixed(0)} req/s (p50 ${f.apiFeed.latency.p50} ms, p99 ${f.apiFeed.latency.p99} ms) ÷ raw SQL ${f.sqlFeedRps.toFixed(0)} queries/s = ${(f.apiFeed.requests.average / f.sqlFeedRps).toFixed(2)}`,
+    `CPU per feed: app ${perRequest(f.apiFeedRun.app, f.apiFeed.requests.total)}, PostgreSQL ${perRequest(f.apiFeedRun.pg, f.apiFeed.requests.total)} per API request; PostgreSQL ${perRequest(f.sqlFeedRun.pg, f.feedCount)} per raw-SQL query`,
+    ...feedStatements, ''].join('\n'));
+  await pool.end();
+  await cleanup();
+  process.exit(0);
+}
+
 // --- 1. booking creation: API under autocannon -------------------------------------------------------------
 say(`Booking creation through the API: ${REQUESTS} requests, ${CONNECTIONS} connections`);
 let k = 0;
@@ -296,27 +311,32 @@ if (ONLY_BOOKING) {
 }
 
 // --- 2. the week-view feed of one machine (Laser A), a week deep in the history -----------------------------
-const weekFrom = new Date(Date.now() - 400 * 24 * HOUR);
-const weekTo = new Date(weekFrom.getTime() + 7 * 24 * HOUR);
-const feedPath = `/api/bookings?machineId=${machines[0]}&from=${weekFrom.toISOString()}&to=${weekTo.toISOString()}`;
-const sample = await (await fetch(`${APP}${feedPath}`, { headers: { cookie: cookies[0]! } })).json() as { bookings: unknown[] };
-say(`Week-view feed through the API for ${SECONDS} s (${sample.bookings.length} bookings in the week)`);
-const apiFeedRun = await cpuDuring(app.child.pid, (): Promise<Cannon> => autocannon({ url: `${APP}${feedPath}`, connections: CONNECTIONS, duration: SECONDS, headers: { cookie: cookies[0]! } }));
-const apiFeed = apiFeedRun.result;
+/** The week feed through the API under autocannon, then the same rows in raw SQL, each for SECONDS. */
+async function feedPart() {
+  const weekFrom = new Date(Date.now() - 400 * 24 * HOUR);
+  const weekTo = new Date(weekFrom.getTime() + 7 * 24 * HOUR);
+  const feedPath = `/api/bookings?machineId=${machines[0]}&from=${weekFrom.toISOString()}&to=${weekTo.toISOString()}`;
+  const sample = await (await fetch(`${APP}${feedPath}`, { headers: { cookie: cookies[0]! } })).json() as { bookings: unknown[] };
+  say(`Week-view feed through the API for ${SECONDS} s (${sample.bookings.length} bookings in the week)`);
+  const apiFeedRun = await cpuDuring(app.child.pid, (): Promise<Cannon> => autocannon({ url: `${APP}${feedPath}`, connections: CONNECTIONS, duration: SECONDS, headers: { cookie: cookies[0]! } }));
+  const apiFeed = apiFeedRun.result;
 
-say(`Week-view feed in raw SQL for ${SECONDS} s`);
-let feedCount = 0;
-const until = Date.now() + SECONDS * 1000;
-const sqlFeedRun = await cpuDuring(undefined, () => Promise.all(Array.from({ length: CONNECTIONS }, async () => {
-  while (Date.now() < until) {
-    await q(`SELECT b.*, p.name AS person_name FROM bookings b JOIN people p ON p.id = b.person_id
-             WHERE b.machine_id = $1 AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange($2, $3, '[)')
-               AND (b.state IN ('reserved','checked in','completed') OR (b.person_id = $4 AND b.state = 'no-show'))
-             ORDER BY b.starts_at`, [machines[0], weekFrom, weekTo, people[0]]);
-    feedCount++;
-  }
-})));
-const sqlFeedRps = feedCount / SECONDS;
+  say(`Week-view feed in raw SQL for ${SECONDS} s`);
+  let feedCount = 0;
+  const until = Date.now() + SECONDS * 1000;
+  const sqlFeedRun = await cpuDuring(undefined, () => Promise.all(Array.from({ length: CONNECTIONS }, async () => {
+    while (Date.now() < until) {
+      await q(`SELECT b.*, p.name AS person_name FROM bookings b JOIN people p ON p.id = b.person_id
+               WHERE b.machine_id = $1 AND tstzrange(b.starts_at, b.occupied_until, '[)') && tstzrange($2, $3, '[)')
+                 AND (b.state IN ('reserved','checked in','completed') OR (b.person_id = $4 AND b.state = 'no-show'))
+               ORDER BY b.starts_at`, [machines[0], weekFrom, weekTo, people[0]]);
+      feedCount++;
+    }
+  })));
+  const sqlFeedRps = feedCount / SECONDS;
+  return { sample, apiFeedRun, apiFeed, sqlFeedRun, feedCount, sqlFeedRps };
+}
+const { sample, apiFeedRun, apiFeed, sqlFeedRun, feedCount, sqlFeedRps } = await feedPart();
 
 // --- 3. the reports (admin) over the same history: each answered alone, one after another ------------------
 // periods in site dates (the app's zone): the default four weeks, and a whole year of the history

@@ -120,10 +120,22 @@ describe('the week feed answers 304 while nothing in it changed', () => {
     const res = await viewer.client.send('POST', '/api/bookings', {
       machineId: laserC.id, startsAt: iso(siteTime(D, 17)), endsAt: iso(siteTime(D, 17, 30)), materials: [], notes: '',
     });
-    expect(res.status, JSON.stringify(await body(res))).toBe(201);
+    const created = await body<{ id: string }>(res);
+    expect(res.status, JSON.stringify(created)).toBe(201);
     const changed = await viewer.client.fetch(feedPath, { headers: { 'if-none-match': etag! } });
     expect(changed.status).toBe(200);
     expect(changed.headers.get('etag')).not.toBe(etag);
-    expect(((await changed.json()) as { bookings: unknown[] }).bookings.length).toBeGreaterThan(0);
+    const feed = (await changed.json()) as {
+      bookings: { id: string; startsAt: string; endsAt: string; occupiedUntil: string; mine: boolean }[];
+      machines: { open: { start: string; end: string }[]; week: { weekStart: string } }[];
+    };
+    // every time in the feed is written as Date#toISOString writes it (the feed passes PostgreSQL's text through)
+    const booked = feed.bookings.find((b) => b.id === created.id);
+    expect(booked).toMatchObject({ startsAt: iso(siteTime(D, 17)), endsAt: iso(siteTime(D, 17, 30)), mine: true });
+    const isoForm = /^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}:\d{2}\.\d{3}Z$/;
+    for (const t of [booked!.occupiedUntil, feed.machines[0]!.week.weekStart, ...feed.machines[0]!.open.flatMap((o) => [o.start, o.end])]) {
+      expect(t).toMatch(isoForm);
+    }
+    expect(new Date(booked!.occupiedUntil).getTime()).toBeGreaterThanOrEqual(new Date(booked!.endsAt).getTime());
   });
 });

@@ -13,33 +13,56 @@ import { currentRequest, onShutdown } from './log';
 export type Conn = Knex | Knex.Transaction;
 
 let instance: Knex | undefined;
+let genericInstance: Knex | undefined;
+
+/** A pool of `max` connections, each in UTC and without JIT, plus `settings` (more SET statements) of its own. */
+function pool(max: number, settings = ''): Knex {
+  const k = knexFactory({
+    client: 'pg',
+    connection: env().DATABASE_URL,
+    pool: {
+      min: 0,
+      max,
+      // a connection broken by a database restart is dropped instead of handed out again
+      afterCreate: (conn: pg.Client, done: (err: Error | null, conn: pg.Client) => void) => {
+        conn.on('error', () => undefined);
+        // jit off: the planner's JIT compiles for 0.6–1.2 s whenever a report's estimate is large (a year's
+        // utilisation), more than such a statement takes to run; the app's statements gain nothing from it
+        conn.query(`SET TIME ZONE 'UTC'; SET jit = off${settings}`, (err) => done(err ?? null, conn));
+      },
+    },
+    acquireConnectionTimeout: 10_000,
+  });
+  // each request's log line says how many statements it ran (scripts/serve.ts)
+  k.on('query', () => {
+    const request = currentRequest();
+    if (request) request.queries = (request.queries ?? 0) + 1;
+  });
+  return k;
+}
 
 export function db(): Knex {
   if (!instance) {
-    instance = knexFactory({
-      client: 'pg',
-      connection: env().DATABASE_URL,
-      pool: {
-        min: 0,
-        max: env().DATABASE_POOL_MAX,
-        // a connection broken by a database restart is dropped instead of handed out again
-        afterCreate: (conn: pg.Client, done: (err: Error | null, conn: pg.Client) => void) => {
-          conn.on('error', () => undefined);
-          // jit off: the planner's JIT compiles for 0.6–1.2 s whenever a report's estimate is large (a year's
-          // utilisation), more than such a statement takes to run; the app's statements gain nothing from it
-          conn.query("SET TIME ZONE 'UTC'; SET jit = off", (err) => done(err ?? null, conn));
-        },
-      },
-      acquireConnectionTimeout: 10_000,
-    });
-    // each request's log line says how many statements it ran (scripts/serve.ts)
-    instance.on('query', () => {
-      const request = currentRequest();
-      if (request) request.queries = (request.queries ?? 0) + 1;
-    });
+    instance = pool(env().DATABASE_POOL_MAX);
     onShutdown('database pool', closeDb);
   }
   return instance;
+}
+
+/**
+ * A second, smaller pool (a quarter of DATABASE_POOL_MAX, at least one) whose connections run every statement on
+ * its generic plan (`plan_cache_mode = force_generic_plan`), for a hot read sent as a named statement with
+ * `prepared()`: each connection plans it once. PostgreSQL would plan such a statement again for every call when its
+ * estimate without the values looks dearer than with them, and planning the week feed's statement cost about as much
+ * as running it (decision 0477). Only for statements whose plan does not depend on their values — not the reports,
+ * whose periods run from a day to years — and never for a transaction (it is another connection).
+ */
+export function genericPlanDb(): Knex {
+  if (!genericInstance) {
+    genericInstance = pool(Math.max(1, Math.ceil(env().DATABASE_POOL_MAX / 4)), '; SET plan_cache_mode = force_generic_plan');
+    onShutdown('database pool', closeDb);
+  }
+  return genericInstance;
 }
 
 /** The name a prepared statement of this text gets: the same text, the same name, in every process. */
@@ -72,11 +95,10 @@ export function transaction<T>(work: (trx: Knex.Transaction) => Promise<T>, conf
 }
 
 export async function closeDb(): Promise<void> {
-  if (instance) {
-    const i = instance;
-    instance = undefined;
-    await i.destroy();
-  }
+  const pools = [instance, genericInstance].filter((p): p is Knex => p !== undefined);
+  instance = undefined;
+  genericInstance = undefined;
+  await Promise.all(pools.map((p) => p.destroy()));
 }
 
 let nestedRunning = 0;
