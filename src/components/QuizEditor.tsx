@@ -6,7 +6,7 @@
 import { useCallback, useEffect, useState } from 'react';
 import { useFieldArray, useForm, useWatch, type Control, type UseFormRegister, type UseFormSetValue, type FieldErrors } from 'react-hook-form';
 import { zodResolver } from '@hookform/resolvers/zod';
-import type { z } from 'zod';
+import type { z } from '@lib/zod';
 import { quizDraftSchema, type QuizDraft } from '@lib/quiz-rules';
 import { api, ApiError } from './ui/api';
 import { siteFormat } from '@lib/format';

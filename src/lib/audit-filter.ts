@@ -1,5 +1,5 @@
 /** The filter of the Audit screen and its CSV export, as a query string. Pure (no I/O). */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { calendarDate, page, pageSize, searchText, uuid } from './schemas';
 import { zonedDayRange } from './time';
 

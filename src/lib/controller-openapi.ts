@@ -3,7 +3,7 @@
  * zod schemas the routes validate with (@asteasolutions/zod-to-openapi). Pure: builds the document, no I/O.
  */
 import { OpenAPIRegistry, OpenApiGeneratorV31 } from '@asteasolutions/zod-to-openapi';
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import {
   apiError,
   assignUnknownBody,

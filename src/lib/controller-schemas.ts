@@ -2,7 +2,7 @@
  * Request and answer bodies of the controller API and of controller/badge administration. The routes validate with
  * these, and the OpenAPI document (src/lib/server/openapi.ts) is generated from the same schemas.
  */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { CUT_REASONS, DENY_REASONS, MAX_WAIT_SECONDS } from './controller-rules';
 
 const badge = z.string().trim().min(4, 'A badge UID has at least 4 characters.').max(64, 'A badge UID has at most 64 characters.')

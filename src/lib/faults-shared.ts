@@ -1,5 +1,5 @@
 /** Fault vocabulary and input schemas shared by server routes and islands; no I/O. */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { MACHINE_STATUSES } from './machines-shared';
 
 export type { MachineStatus } from './machines-shared';

@@ -2,7 +2,7 @@
  * Induction sessions: the vocabulary, the input schemas shared by the API and the islands, and who may
  * book a seat (with the reason when not). Pure (no I/O); the SQL is in src/lib/server/induction-sessions/.
  */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import type { ClearanceState } from './clearance-rules';
 import { LEVELS } from './clearance-rules';
 

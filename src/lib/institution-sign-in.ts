@@ -1,5 +1,5 @@
 /** Institution sign-in (OpenID Connect): the admin's settings and the pure rules of matching a person. No I/O. */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { TIERS, type Tier } from './vocabulary';
 
 export const institutionSettingsInput = z

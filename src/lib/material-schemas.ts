@@ -1,5 +1,5 @@
 /** Field schemas of the material screens and routes (shared by server routes and islands; no I/O). */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { MATERIAL_CATEGORIES, MATERIAL_MODES, MATERIAL_RULES } from './material-rules';
 
 export const materialRule = z.enum(MATERIAL_RULES, { error: `A rule is one of ${MATERIAL_RULES.join(', ')}.` });

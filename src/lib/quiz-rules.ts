@@ -2,7 +2,7 @@
  * Quizzes: the shape of a question bank (shared by the editor island and the server), drawing and
  * shuffling an attempt, scoring on the server, and attempt limits. Pure (no I/O).
  */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import type { ClearanceState } from './clearance-rules';
 
 // no probe for eval (zod's JIT): the pages' Content-Security-Policy forbids it, and the probe reports a violation

@@ -3,7 +3,7 @@
  * some machines), the site weeks a period spans, and the columns of each report's table (the JSON rows
  * and the CSV export share them). Pure: no I/O, no clock (the caller passes `today`).
  */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { isCalendarDate, nextDate, startOfZonedDay } from './time';
 import { localWeek, type Interval } from './availability';
 

@@ -1,5 +1,5 @@
 /** Field schemas shared by several routes and forms. Route-specific schemas sit next to their route. */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { PASSWORD_MAX, PASSWORD_MIN } from './password-rules';
 import { ROLES } from './roles';
 import { isCalendarDate } from './time';

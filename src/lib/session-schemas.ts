@@ -1,5 +1,5 @@
 /** Field schemas of check-in, check-out and upkeep (routes and the machine page's forms). */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { PRE_USE_ITEMS } from './checklist';
 import { UPKEEP_KINDS } from './upkeep-forecast';
 

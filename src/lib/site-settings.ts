@@ -2,7 +2,7 @@
  * Site settings: the shape an admin edits on the Site screen, validated the same way in the browser
  * and on the server. Pure (no I/O).
  */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { isLocale } from './format';
 
 /** IANA time zones this runtime knows, plus UTC (which Intl lists only under its Etc/ aliases). */

@@ -142,6 +142,12 @@ describe('the import graph of src/', () => {
     expect(bad).toEqual([]);
   });
 
+  it('takes zod through src/lib/zod.ts, which keeps its eval probe out of the browser', () => {
+    const bad = edges.filter((e) => /^zod(\/|$)/.test(e.spec) && rel(e.from) !== 'lib/zod.ts').map((e) => `${rel(e.from)} → ${e.spec}`);
+    expect(bad).toEqual([]);
+    expect(edges.filter((e) => e.to && rel(e.to) === 'lib/zod.ts').length).toBeGreaterThan(20);
+  });
+
   it('can see a cycle and an upward import when there is one (the checks are not vacuous)', () => {
     expect(edges.length).toBeGreaterThan(200);
     expect(layerOf('db')).toBeLessThan(layerOf('bookings/create'));

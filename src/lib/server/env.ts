@@ -2,7 +2,7 @@
  * Run-time configuration, read from the process environment and validated once.
  * Development defaults are safe for loopback use only; production must set every secret.
  */
-import { z } from 'zod';
+import { z } from '@lib/zod';
 
 const port = z.coerce.number().int().min(1).max(65535);
 const flag = z.enum(['true', 'false', '1', '0']).transform((v) => v === 'true' || v === '1');

@@ -4,7 +4,7 @@
  */
 import { createHash } from 'node:crypto';
 import type { APIContext, APIRoute } from 'astro';
-import { z, type ZodType } from 'zod';
+import { z, type ZodType } from '@lib/zod';
 import { hasAnyRole, type Role } from '@lib/roles';
 import type { SignedInPerson } from '@lib/signed-in-person';
 import { DomainError, type ErrorKind } from './errors';

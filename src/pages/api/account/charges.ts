@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readQuery, requireSignedIn, route } from '@lib/server/http';
 import { listCharges } from '@lib/server/payments/account';
 import { page, pageSize } from '@lib/schemas';

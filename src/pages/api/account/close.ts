@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireSignedIn, route } from '@lib/server/http';
 import { closeAccount } from '@lib/server/accounts';
 import { endSession } from '@lib/server/auth-forms';

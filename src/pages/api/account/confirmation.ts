@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, route } from '@lib/server/http';
 import { clientAddressOf } from '@lib/server/client-address';
 import { countRequest } from '@lib/server/request-limits';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readQuery, requireRole, route } from '@lib/server/http';
 import { findPeople } from '@lib/server/badges';
 

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, jsonWithEtag, readJson, readQuery, requireSignedIn, route } from '@lib/server/http';
 import { calendarFeed } from '@lib/server/bookings/week-view';
 import { createBooking } from '@lib/server/bookings/create';

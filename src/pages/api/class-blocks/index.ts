@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, route } from '@lib/server/http';
 import { createClassBlock } from '@lib/server/bookings/class-blocks';
 import { bookingNotes, email, endsAfterStart, endsAfterStartMessage, isoInstant, uuid } from '@lib/schemas';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readQuery, requireRole, route } from '@lib/server/http';
 import { listFaults } from '@lib/server/faults/records';
 import { faultJson } from '@lib/server/fault-json';

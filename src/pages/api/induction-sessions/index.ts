@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, readQuery, requireRole, requireSignedIn, route } from '@lib/server/http';
 import { createSession } from '@lib/server/induction-sessions/publishing';
 import { listSessions } from '@lib/server/induction-sessions/records';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { DomainError, idParam, json, readJson, requireRole, route } from '@lib/server/http';
 import { updateGroup } from '@lib/server/clearances/groups';
 import { REFRESHER_RULES } from '@lib/clearance-rules';

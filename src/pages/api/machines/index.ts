@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, requireSignedIn, route } from '@lib/server/http';
 import { createMachine, listMachines, machineSummary } from '@lib/server/machines';
 import { machineCode, machineFields } from '@lib/schemas';

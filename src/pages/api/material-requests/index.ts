@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { DomainError, json, parseWith, readMultipart, requireSignedIn, route } from '@lib/server/http';
 import { createRequest, listRequests, SDS_MAX_BYTES, type MaterialRequest } from '@lib/server/material-requests';
 import { hasAnyRole } from '@lib/roles';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, readQuery, requireRole, route } from '@lib/server/http';
 import { awaitingInvitation, invitePerson } from '@lib/server/accounts';
 import { listPeople } from '@lib/server/people';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { DomainError, json, readJson, requireRole, route } from '@lib/server/http';
 import { createVersion, listVersions } from '@lib/server/prices';
 import { type PriceVersion } from '@lib/pricing';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, route } from '@lib/server/http';
 import { createQuiz, listQuizzes } from '@lib/server/quizzes';
 import { quizDraftSchema } from '@lib/quiz-rules';

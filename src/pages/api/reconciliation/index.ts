@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, route } from '@lib/server/http';
 import { listRuns, periodOfDays, runReconciliation } from '@lib/server/reconciliation';
 

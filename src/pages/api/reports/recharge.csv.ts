@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { readQuery, requireRole, route } from '@lib/server/http';
 import { rechargeCsv } from '@lib/server/payments/account';
 import { costCentre } from '@lib/schemas';

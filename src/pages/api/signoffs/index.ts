@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, readQuery, requireRole, route } from '@lib/server/http';
 import { signOff } from '@lib/server/clearances/transitions';
 import { signoffQueue } from '@lib/server/clearances/lists';

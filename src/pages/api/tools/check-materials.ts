@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireSignedIn, route } from '@lib/server/http';
 import { checkDeclaredMaterials } from '@lib/server/materials';
 import { declaredMaterial } from '@lib/material-schemas';

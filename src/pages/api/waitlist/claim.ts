@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireSignedIn, route } from '@lib/server/http';
 import { claimWaitlist } from '@lib/server/bookings/waitlist';
 

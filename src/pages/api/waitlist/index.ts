@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireSignedIn, route } from '@lib/server/http';
 import { joinWaitlist } from '@lib/server/bookings/waitlist';
 import { endsAfterStart, endsAfterStartMessage, isoInstant, uuid } from '@lib/schemas';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, route } from '@lib/server/http';
 import { completePasswordLink } from '@lib/server/accounts';
 import { startSession } from '@lib/server/auth-forms';

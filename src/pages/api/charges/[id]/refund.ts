@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { DomainError, json, readJson, requireRole, route, idParam } from '@lib/server/http';
 import { getCharge } from '@lib/server/payments/charge-records';
 import { refund } from '@lib/server/payments/intents';

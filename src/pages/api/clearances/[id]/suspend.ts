@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
 import { suspend } from '@lib/server/clearances/transitions';
 

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
 import { addFaultNote } from '@lib/server/faults/triage';
 import { faultJson } from '@lib/server/fault-json';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { idParam, json, readJson, requireRole, route } from '@lib/server/http';
 import { cancelSession } from '@lib/server/induction-sessions/publishing';
 

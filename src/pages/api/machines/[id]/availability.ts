@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readQuery, requireSignedIn, route, idParam } from '@lib/server/http';
 import { machineAvailability } from '@lib/server/bookings/week-view';
 import { isoInstant } from '@lib/schemas';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, readQuery, requireRole, requireSignedIn, route, DomainError } from '@lib/server/http';
 import { addClosure, listClosures } from '@lib/server/booking-rules';
 import { isoInstant, uuid } from '@lib/schemas';

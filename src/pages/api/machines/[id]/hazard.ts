@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readQuery, requireSignedIn, route } from '@lib/server/http';
 import { hazardResponse, machineHazard } from '@lib/server/hazard';
 

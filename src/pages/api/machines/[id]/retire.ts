@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
 import { retireMachine } from '@lib/server/cascades/retire-machine';
 

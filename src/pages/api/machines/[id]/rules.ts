@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { idParam, json, readJson, requireRole, requireSignedIn, route } from '@lib/server/http';
 import { getRules, saveRules } from '@lib/server/booking-rules';
 import { publicRules } from '@lib/server/bookings/week-view';

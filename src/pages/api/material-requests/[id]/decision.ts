@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
 import { decideRequest } from '@lib/server/material-requests';
 import { materialCategory, materialMode, materialRule } from '@lib/material-schemas';

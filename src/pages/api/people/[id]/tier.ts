@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { json, readJson, requireRole, route, idParam } from '@lib/server/http';
 import { setTier } from '@lib/server/people';
 import { costCentre, tier } from '@lib/schemas';

@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import { z } from '@lib/zod';
 import { idParam, json, readJson, requireSignedIn, route } from '@lib/server/http';
 import { bookSeat } from '@lib/server/induction-sessions/seats';
 
