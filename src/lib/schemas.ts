@@ -62,7 +62,9 @@ export const endsAfterStartMessage = { path: ['endsAt'], message: 'The end must 
  * A machine's fields as an admin sets them (POST /api/machines, PATCH /api/machines/:id and the Machines form).
  * The ranges match the database's checks; the code is the one in the QR label and is set once.
  */
-export const machineCode = z.string().trim().toLowerCase().regex(/^[a-z0-9][a-z0-9-]{1,31}$/, 'A code is 2–32 lower-case letters, digits or dashes, starting with a letter or digit, e.g. laser-d.');
+/** A machine's code as its QR label and `/m/<code>` carry it. */
+export const MACHINE_CODE_RE = /^[a-z0-9][a-z0-9-]{1,31}$/;
+export const machineCode = z.string().trim().toLowerCase().regex(MACHINE_CODE_RE, 'A code is 2–32 lower-case letters, digits or dashes, starting with a letter or digit, e.g. laser-d.');
 const decimal = (min: number, max: number, unit: string, places: number) =>
   z.number({ error: `A number of ${unit}.` }).gt(min, `More than ${min} ${unit}.`).max(max, `At most ${max} ${unit}.`)
     .refine((v) => Math.abs(Math.round(v * 10 ** places) - v * 10 ** places) < 1e-6, `At most ${places} decimal place(s).`);

@@ -13,6 +13,7 @@ import { Client } from '../support/client';
 import { closeTestDb, testDb } from '../support/db';
 import { APP_URL } from '../support/env';
 import { newPerson } from '../support/people';
+import { createTestMachine, retireTestMachine } from '../support/machine';
 import { PAGES_DIR, fillPattern, listRoutes, paramsOf, type Method } from '../support/routes';
 
 const MISSING_ID = '00000000-0000-4000-8000-00000000beef';
@@ -31,11 +32,14 @@ async function eachConcurrently<T>(items: readonly T[], width: number, work: (it
 }
 
 let fuzzer: Client;
+let fuzzerEmail: string;
 let machineId: string;
 
 beforeAll(async () => {
   // one person holding every role, so each route's input is reached past its role check
-  fuzzer = (await newPerson('fuzz', { roles: ['member', 'instructor', 'steward', 'admin'] })).client;
+  const person = await newPerson('fuzz', { roles: ['member', 'instructor', 'steward', 'admin'] });
+  fuzzer = person.client;
+  fuzzerEmail = person.email;
   machineId = ((await testDb()('machines').whereNull('retired_at').orderBy('code').first('id')) as { id: string }).id;
 });
 afterAll(closeTestDb);
@@ -183,6 +187,19 @@ describe('hostile input to every JSON API route', () => {
       const problem = checkAnswer(`${t.key} ${t.kind === 'query' ? url.slice(0, 200) : JSON.stringify(body)?.slice(0, 200)}`, res.status, await res.text());
       if (problem && problems.length < 50) problems.push(problem);
     });
+    // every route once with U+0000 in each of its own fields (PostgreSQL's text cannot hold it): refused, never a 500
+    await eachConcurrently(list, WIDTH, async (t) => {
+      cases += 1;
+      const fields = [...new Set((fieldsOf.get(t.key + t.kind) ?? []).filter((f) => f !== '_').map((f) => f.split('.')[0]!)), 'q'];
+      const withNul = Object.fromEntries(fields.map((f) => [f, 'a\u0000b']));
+      const res = t.kind === 'body'
+        ? await fuzzer.send(t.method, t.url, withNul)
+        : await fuzzer.get(`${t.url}?${new URLSearchParams(withNul).toString()}`);
+      const text = await res.text();
+      const problem = checkAnswer(`${t.key} with NUL in ${fields.join(', ')}`, res.status, text);
+      if (problem) problems.push(problem);
+      else if (res.status < 400) problems.push(`${t.key} with NUL in ${fields.join(', ')}: ${res.status}, not refused`);
+    });
     // bodies that are not JSON at all, WIDTH at a time too
     const raws = [['application/json', '{"a":'], ['application/json', '\u0000'], ['text/plain', 'hello'], ['application/json', '[' .repeat(5000)]] as const;
     const rawCases = list.filter((x) => x.kind === 'body').flatMap((t) => raws.map(([type, raw]) => ({ t, type, raw })));
@@ -270,5 +287,51 @@ describe('hostile uploads and bodies', () => {
     } as RequestInit);
     expect(chunked.status).toBe(411);
     expect(checkAnswer('chunked', chunked.status, await chunked.text())).toBeNull();
+  });
+});
+
+describe('U+0000 wherever a page reads text (PostgreSQL\'s text cannot hold it)', () => {
+  const NUL = 'a\u0000b';
+
+  it('every page, with it in each path part and in every query value pages read: never a 500', async () => {
+    // the query keys pages read, from their own source (Astro.url.searchParams.get('…'))
+    const keys = new Set<string>();
+    for (const r of listRoutes().filter((x) => x.kind === 'page')) {
+      for (const m of fs.readFileSync(path.join(PAGES_DIR, r.file), 'utf8').matchAll(/searchParams\.get\('([^']+)'\)/g)) keys.add(m[1]!);
+    }
+    expect(keys.size).toBeGreaterThan(10);
+    const query = new URLSearchParams([...keys].map((k) => [k, NUL])).toString();
+    const problems: string[] = [];
+    const pages = listRoutes().filter((r) => r.kind === 'page' && r.pattern !== '/500'); // the error page answers 500 by design
+    await eachConcurrently(pages, WIDTH, async (r) => {
+      const url = `${fillPattern(r.pattern, Object.fromEntries(paramsOf(r.pattern).map((p) => [p.name, NUL])))}?${query}`;
+      const res = await fuzzer.fetch(url, { redirect: 'manual' });
+      const text = await res.text();
+      if (res.status >= 500) problems.push(`${url}: ${res.status} ${text.slice(0, 200)}`);
+    });
+    expect(problems, problems.join('\n')).toEqual([]);
+  });
+
+  it('signing in with it in the e-mail or the password: refused as a wrong password, not a failure', async () => {
+    const stranger = new Client();
+    for (const [email, password] of [[`fuzz${NUL}@example.org`, 'whatever-password'], [fuzzerEmail, `pass${NUL}word`]] as [string, string][]) {
+      const r = await stranger.signInAs(email, password);
+      expect(r.status, `${JSON.stringify(email)}: ${r.location}`).toBeLessThan(500);
+      expect(r.location).toContain('error=CredentialsSignin');
+    }
+  });
+
+  it('a fault reported through the page\'s form with it in the text: filed, the character left out', async () => {
+    const admin = await Client.as('admin');
+    const machine = await createTestMachine(admin, 'nul-fault');
+    try {
+      const form = new URLSearchParams({ clientId: crypto.randomUUID(), severity: 'note', summary: `Lid ${NUL} squeaks`, details: `Since ${NUL} Monday` });
+      const res = await fuzzer.fetch(`/m/${machine.code}/fault`, { method: 'POST', body: form.toString(), headers: { 'content-type': 'application/x-www-form-urlencoded' }, redirect: 'manual' });
+      expect(res.status, (await res.text()).slice(0, 300)).toBeLessThan(400);
+      const row = (await testDb()('faults').where({ machine_id: machine.id }).first('summary', 'details')) as { summary: string; details: string } | undefined;
+      expect(row).toEqual({ summary: 'Lid ab squeaks', details: 'Since ab Monday' });
+    } finally {
+      await retireTestMachine(admin, machine);
+    }
   });
 });

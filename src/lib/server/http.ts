@@ -139,19 +139,22 @@ export interface PostedForm {
   entries(): [string, string][];
 }
 
+/** A form's text without U+0000, which PostgreSQL's text cannot store and no one types: a page re-shows what was kept. */
+const withoutNul = (v: string) => (v.includes('\u0000') ? v.replaceAll('\u0000', '') : v);
+
 function postedForm(form: FormData | null): PostedForm {
   return {
     ok: form !== null,
     text: (name) => {
       const v = form?.get(name);
-      return typeof v === 'string' ? v : '';
+      return typeof v === 'string' ? withoutNul(v) : '';
     },
     value: (name) => {
       const v = form?.get(name);
-      return typeof v === 'string' ? v : undefined;
+      return typeof v === 'string' ? withoutNul(v) : undefined;
     },
     files: (...names) => names.flatMap((n) => form?.getAll(n) ?? []).filter((f): f is File => f instanceof File && f.size > 0),
-    entries: () => [...(form?.entries() ?? [])].flatMap(([k, v]) => (typeof v === 'string' ? [[k, v] as [string, string]] : [])),
+    entries: () => [...(form?.entries() ?? [])].flatMap(([k, v]) => (typeof v === 'string' ? [[withoutNul(k), withoutNul(v)] as [string, string]] : [])),
   };
 }
 
@@ -177,9 +180,35 @@ export async function readMultipart(request: Request, opts: { maxBytes: number; 
 }
 
 export function parseWith<T>(schema: ZodType<T>, data: unknown): T {
+  const nul = nulAt(data);
+  if (nul !== null) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', { [nul]: 'Text cannot hold the NUL character (U+0000).' });
   const parsed = schema.safeParse(data);
   if (!parsed.success) throw new DomainError('invalid', 'invalid', 'Some fields are not valid; see fields.', fieldMessages(parsed.error));
   return parsed.data;
+}
+
+/**
+ * The dotted path (as fieldMessages writes it; `_` for the whole value) of the first string, key or value, that holds
+ * U+0000, or null. PostgreSQL's text cannot store that character: such input is refused here, for every route, rather
+ * than failing in the database.
+ */
+export function nulAt(value: unknown, path: readonly string[] = [], depth = 0): string | null {
+  const here = () => (path.length ? path.join('.') : '_');
+  if (typeof value === 'string') return value.includes('\u0000') ? here() : null;
+  if (typeof value !== 'object' || value === null || depth > 64) return null;
+  if (Array.isArray(value)) {
+    for (let i = 0; i < value.length; i++) {
+      const found = nulAt(value[i], [...path, String(i)], depth + 1);
+      if (found !== null) return found;
+    }
+    return null;
+  }
+  for (const [k, v] of Object.entries(value)) {
+    if (k.includes('\u0000')) return here();
+    const found = nulAt(v, [...path, k], depth + 1);
+    if (found !== null) return found;
+  }
+  return null;
 }
 
 /** Validates the query string (every value a string; repeated keys keep the last). */

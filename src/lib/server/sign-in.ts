@@ -73,7 +73,8 @@ export async function clearSignInCounters(emailRaw: string): Promise<void> {
 
 /** Same answer and about the same time whether the e-mail is unknown, inactive or the password wrong. */
 export async function checkSignIn(emailRaw: string, password: string, address: string): Promise<SignInOutcome> {
-  const email = emailRaw.trim().toLowerCase().slice(0, 254);
+  // an address with U+0000 in it is no one's (and PostgreSQL's text cannot hold it): checked as an empty one
+  const email = emailRaw.includes('\u0000') ? '' : emailRaw.trim().toLowerCase().slice(0, 254);
   const l = limit();
   const [p, a, w] = await Promise.all([l.pair.get(pairKey(email, address)), l.address.get(address), l.emailWait.get(email)]);
   const { perPair, perAddress } = signInLimits();

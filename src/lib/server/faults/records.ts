@@ -9,6 +9,7 @@ import { getObject } from '@lib/server/storage';
 import { lockMachine } from '@lib/server/machines';
 import { hasAnyRole, type Actor } from '@lib/roles';
 import type { FaultSeverity, FaultStatus, MachineStatus } from '@lib/faults-shared';
+import { MACHINE_CODE_RE } from '@lib/schemas';
 
 export type { FaultSeverity, FaultStatus, MachineStatus } from '@lib/faults-shared';
 
@@ -53,7 +54,8 @@ export const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{1
 export async function findMachine(idOrCode: string, trx: Conn = db()): Promise<MachineRow | null> {
   const q = trx('machines').whereNull('retired_at');
   if (UUID.test(idOrCode)) q.where({ id: idOrCode });
-  else q.where({ code: idOrCode });
+  else if (MACHINE_CODE_RE.test(idOrCode)) q.where({ code: idOrCode });
+  else return null; // not a code at all (a stray character, U+0000): no look-up
   return ((await q.first('id', 'code', 'name', 'status')) as MachineRow | undefined) ?? null;
 }
 
