@@ -46,7 +46,7 @@ async function jsWeight(page: Page, path: string): Promise<{ files: number; inli
 
 describe('a machine page opened once works with no signal', () => {
   it('shows the saved page offline, queues a stop fault, sends it once when back online', async () => {
-    const { ctx, page, errors } = await web.openAs(null, PHONE);
+    const { ctx, page, errors } = await web.openAs(null, PHONE, { serviceWorkers: 'allow' }); // the worker is the subject
     await page.goto(`/m/${machine.code}`);
     await signIn(page, 'member');
     await page.goto(`/m/${machine.code}`);

@@ -19,8 +19,13 @@ export async function launch(): Promise<Browser> {
 export const PHONE = { width: 390, height: 844 };
 export const DESK = { width: 1280, height: 800 };
 
+/**
+ * A context of its own. Service workers are blocked unless `options` allows them (`serviceWorkers: 'allow'`): the QR
+ * pages' worker fetches every built file a page names into its cache, in every new context, and only the offline
+ * file (qr-offline.spec.ts) is about what it does.
+ */
 export async function newContext(browser: Browser, viewport = DESK, options: BrowserContextOptions = {}): Promise<BrowserContext> {
-  const ctx = await browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-NZ', ...options });
+  const ctx = await browser.newContext({ baseURL: APP_URL(), viewport, locale: 'en-NZ', serviceWorkers: 'block', ...options });
   ctx.on('page', track);
   return ctx;
 }
