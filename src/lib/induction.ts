@@ -6,8 +6,6 @@ import { z } from '@lib/zod';
 import type { ClearanceState } from './clearance-rules';
 import { LEVELS } from './clearance-rules';
 
-z.config({ jitless: true });
-
 export const SESSION_KINDS = ['first', 'refresher'] as const;
 export type SessionKind = (typeof SESSION_KINDS)[number];
 export const SESSION_KIND_LABELS: Record<SessionKind, string> = { first: 'First induction', refresher: 'Refresher' };

@@ -5,9 +5,6 @@
 import { z } from '@lib/zod';
 import type { ClearanceState } from './clearance-rules';
 
-// no probe for eval (zod's JIT): the pages' Content-Security-Policy forbids it, and the probe reports a violation
-z.config({ jitless: true });
-
 const optionId = z.string().trim().min(1).max(40);
 
 /** The time limit of an attempt unless the instructor sets another. */

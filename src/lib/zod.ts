@@ -1,12 +1,13 @@
 /**
- * zod, as every module of ours imports it. In the browser its compiled fast path is off (`jitless`): zod would
- * otherwise probe for it with `new Function("")` when the first object schema is built, which the site's
- * Content-Security-Policy blocks — harmless, zod falls back — but the browser files a policy violation for it on every
- * screen whose islands validate. On the server nothing changes. Pure: no I/O.
+ * zod, as every module of ours imports it, set once: without its compiled fast path (`jitless`). zod would otherwise
+ * probe for it with `new Function("")` when the first object schema is built, which the site's Content-Security-Policy
+ * blocks in the browser — harmless, zod falls back — but the browser files a policy violation for it on every screen
+ * whose islands validate. (Two schema modules used to set this themselves, so screens that loaded neither reported
+ * the probe; the server ran without the fast path already.) Pure: no I/O.
  */
 import { z } from 'zod';
 
-if (typeof window !== 'undefined') z.config({ jitless: true });
+z.config({ jitless: true });
 
 export { z };
 export type { ZodType } from 'zod';

@@ -192,7 +192,7 @@ export function parseWith<T>(schema: ZodType<T>, data: unknown): T {
  * U+0000, or null. PostgreSQL's text cannot store that character: such input is refused here, for every route, rather
  * than failing in the database.
  */
-export function nulAt(value: unknown, path: readonly string[] = [], depth = 0): string | null {
+function nulAt(value: unknown, path: readonly string[] = [], depth = 0): string | null {
   const here = () => (path.length ? path.join('.') : '_');
   if (typeof value === 'string') return value.includes('\u0000') ? here() : null;
   if (typeof value !== 'object' || value === null || depth > 64) return null;
