@@ -9,7 +9,7 @@ import { spawn } from 'node:child_process';
 import { mergeJsonReports, outputFileFor } from './lib/test-sets';
 import {
   type StackConfig, ROOT, HOST, appEnv, paymentsStateFile, assertPortFree, buildApp, databaseUrl, ensurePostgres, loadSecrets, readConfig,
-  recreateDatabase, runNode, say, spawnService, startFakes, startIdentityProviderFake, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
+  recreateDatabase, runNode, say, startNode, spawnService, startFakes, startIdentityProviderFake, stopLeftover, stopPostgres, stopServices, superuserUrl, waitForPort,
 } from './lib/stack';
 
 const cfg = readConfig(
@@ -107,11 +107,17 @@ async function startApp(stack: Stack): Promise<void> {
   if (worker.child.exitCode !== null) console.error(`✖ The worker exited early; see ${path.relative(ROOT, stack.cfg.dataDir)}/logs/worker.log`);
 }
 
-if (!process.env.TEST_SKIP_TYPECHECK) runNode(['--import', 'tsx', 'scripts/check.ts'], {}, 'The TypeScript check');
+// the type check (single-threaded, ~30 CPU-s) runs beside starting the stacks and the build, which leave a core
+// partly idle; the tests start only once it has passed
+const typeCheck = process.env.TEST_SKIP_TYPECHECK ? Promise.resolve(true) : startNode(['--import', 'tsx', 'scripts/check.ts'], {}, 'The TypeScript check');
 const main = await prepareStack(cfg, 'TEST_OIDC_PORT', 9410);
 const sets = await selectedSets(process.argv.slice(2), { ...process.env, ...main.env, NODE_ENV: 'test' });
 const serial = twoStacks && sets.parallel > 0 && sets.serial > 0 ? await prepareStack(serialCfg, 'TEST_SERIAL_OIDC_PORT', 9420) : main;
 buildApp(path.join(ROOT, 'dist-test'), main.env);
+if (!(await typeCheck)) {
+  await cleanup();
+  process.exit(1);
+}
 await startApp(main);
 if (serial !== main) await startApp(serial);
 

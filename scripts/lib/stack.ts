@@ -9,6 +9,7 @@ import { randomBytes } from 'node:crypto';
 import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import net from 'node:net';
+import os from 'node:os';
 import path from 'node:path';
 import pg from 'pg';
 import { z } from 'zod';
@@ -596,6 +597,28 @@ export function buildApp(outDir: string, env: Record<string, string>): void {
   });
   if (r.status !== 0) fail('astro build failed (see above).');
   runNode([path.join(ROOT, 'scripts/bundle.mjs'), outDir], {}, 'Bundling the server, worker and migrations');
+}
+
+/**
+ * Starts a Node script beside whatever runs next; its output goes to a file and is printed when it ends, so it does
+ * not interleave with the other steps' output. The promise resolves with whether it succeeded (after printing).
+ */
+export function startNode(args: string[], env: Record<string, string>, what: string): Promise<boolean> {
+  const logFile = path.join(fs.mkdtempSync(path.join(os.tmpdir(), 'beamwarden-')), 'output.log');
+  const out = fs.openSync(logFile, 'w');
+  say(`${what}: started beside the next steps`);
+  const child = spawn(process.execPath, args, { cwd: ROOT, env: { ...process.env, ...env }, stdio: ['ignore', out, out] });
+  fs.closeSync(out);
+  return new Promise((resolve) => {
+    child.once('exit', (code) => {
+      const text = fs.readFileSync(logFile, 'utf8');
+      fs.rmSync(path.dirname(logFile), { recursive: true, force: true });
+      say(`${what}:`);
+      process.stdout.write(text.endsWith('\n') || !text ? text : `${text}\n`);
+      if (code !== 0) console.error(`\n✖ ${what} failed (see above).\n`);
+      resolve(code === 0);
+    });
+  });
 }
 
 export function runNode(args: string[], env: Record<string, string>, what: string): void {
