@@ -114,6 +114,7 @@ export default defineConfig({
           name: 'integration',
           ...inSet(['tests/integration/**/*.test.ts'], PARALLEL_INTEGRATION),
           environment: 'node',
+          setupFiles: ['tests/support/quiet-log.ts'],
           // the serial pass runs its integration files one after another in one process (no new process and module
           // graph per file: ~1 s each); they share no module state but lazily reopened pools and caches
           // (decision record 0430). TEST_ISOLATE=1 gives each file its own process again.
@@ -128,6 +129,7 @@ export default defineConfig({
           name: 'e2e',
           ...inSet(['tests/e2e/**/*.spec.ts'], PARALLEL_E2E),
           environment: 'node',
+          setupFiles: ['tests/support/quiet-log.ts'],
           // one Chromium for the whole run; each file connects to it and closes its own contexts
           globalSetup: ['tests/support/browser-server.ts'],
           // the serial pass runs its browser files in one process too, as the integration files (decision record 0430)
