@@ -601,7 +601,8 @@ export function buildApp(outDir: string, env: Record<string, string>): void {
 
 /**
  * Starts a Node script beside whatever runs next; its output goes to a file and is printed when it ends, so it does
- * not interleave with the other steps' output. The promise resolves with whether it succeeded (after printing).
+ * not interleave with the other steps' output (a pipe would also fill while this process waits in a spawnSync). The
+ * promise resolves with whether it succeeded (after printing).
  */
 export function startNode(args: string[], env: Record<string, string>, what: string): Promise<boolean> {
   const logFile = path.join(fs.mkdtempSync(path.join(os.tmpdir(), 'beamwarden-')), 'output.log');
@@ -609,8 +610,12 @@ export function startNode(args: string[], env: Record<string, string>, what: str
   say(`${what}: started beside the next steps`);
   const child = spawn(process.execPath, args, { cwd: ROOT, env: { ...process.env, ...env }, stdio: ['ignore', out, out] });
   fs.closeSync(out);
+  // a step after it that fails exits this process (fail()): the script then ends with it instead of running on alone
+  const stop = () => child.kill();
+  process.once('exit', stop);
   return new Promise((resolve) => {
     child.once('exit', (code) => {
+      process.off('exit', stop);
       const text = fs.readFileSync(logFile, 'utf8');
       fs.rmSync(path.dirname(logFile), { recursive: true, force: true });
       say(`${what}:`);
